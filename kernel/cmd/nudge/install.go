@@ -1,0 +1,58 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+
+	"github.com/nudge-dev/nudge/kernel"
+)
+
+func installCmd(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("install", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	user := fs.Bool("user", false, "install for the current user (the default)")
+	sysPrefix := fs.Bool("sys-prefix", false, "install into the active Python environment's prefix")
+	prefix := fs.String("prefix", "", "install under `DIR`/share/jupyter/kernels")
+	if err := fs.Parse(args); err != nil {
+		return 2
+	}
+	n := 0
+	for _, b := range []bool{*user, *sysPrefix, *prefix != ""} {
+		if b {
+			n++
+		}
+	}
+	if n > 1 || fs.NArg() > 0 {
+		fmt.Fprintln(stderr, "usage: nudge install [--user | --sys-prefix | --prefix DIR]")
+		return 2
+	}
+	scope := "user"
+	switch {
+	case *sysPrefix:
+		scope = "sys-prefix"
+	case *prefix != "":
+		scope = "prefix"
+	}
+	dir, err := kernel.KernelSpecDir(scope, *prefix)
+	if err != nil {
+		fmt.Fprintln(stderr, "nudge install:", err)
+		return 1
+	}
+	exe, err := os.Executable()
+	if err == nil {
+		exe, err = filepath.EvalSymlinks(exe)
+	}
+	if err != nil {
+		fmt.Fprintln(stderr, "nudge install: cannot find this program's path:", err)
+		return 1
+	}
+	if err := kernel.InstallKernelSpec(dir, exe); err != nil {
+		fmt.Fprintln(stderr, "nudge install:", err)
+		return 1
+	}
+	fmt.Fprintf(stdout, "installed the nudge kernelspec in %s\n", dir)
+	return 0
+}

@@ -1,0 +1,163 @@
+// Package kernel is the cell interpreter of nudge: it turns cell text into
+// results and each result into a MIME bundle. The same interpreter serves the
+// Jupyter kernel (kernel/jupyter), the headless notebook runner and the command
+// line (kernel/cmd/nudge), so every front gives the same numbers and the same
+// JSON.
+package kernel
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"runtime/debug"
+	"strings"
+
+	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/syntax"
+)
+
+// Caution is the one-line caution shown with analysis results.
+const Caution = "Caution: results describe the model, not the world: they hold only within the stated ranges and distributions, one-at-a-time charts miss interactions, and a cost model is not a quote."
+
+// Sink receives what a cell produces, in order.
+type Sink interface {
+	// Stream writes text to "stdout" or "stderr".
+	Stream(name, text string)
+	// Result shows a result. last is true for the value of a bare expression
+	// that ends the cell (Jupyter's execute_result).
+	Result(r *Result, last bool)
+	// Progress reports the progress of a long analysis: id names it, done of
+	// total units of work are finished; done == total closes it.
+	Progress(id, label string, done, total int)
+}
+
+// Options change how results are drawn.
+type Options struct {
+	// PNG adds image/png beside image/svg+xml.
+	PNG bool
+	// Charts can be turned off (for the command line and JSON output).
+	NoCharts bool
+	// Width is the width of text charts in columns.
+	Width int
+}
+
+// Interp is the state of one session: the model and the counters. It is not
+// safe for concurrent use.
+type Interp struct {
+	Model *sens.Model
+	Opts  Options
+
+	cells int
+}
+
+// New returns an interpreter with an empty model.
+func New() *Interp {
+	return &Interp{Model: sens.NewModel(), Opts: Options{Width: 60}}
+}
+
+// CellError is the failure of a cell: positioned errors with their source lines.
+type CellError struct {
+	Errors []*syntax.Error
+}
+
+func (e *CellError) Error() string {
+	msgs := make([]string, len(e.Errors))
+	for i, x := range e.Errors {
+		msgs[i] = x.Error()
+	}
+	return strings.Join(msgs, "\n")
+}
+
+// Detail returns every error with its caret display.
+func (e *CellError) Detail() string {
+	var b strings.Builder
+	for i, x := range e.Errors {
+		if i > 0 {
+			b.WriteByte('\n')
+		}
+		b.WriteString(x.Detail())
+	}
+	return b.String()
+}
+
+// First returns the first error.
+func (e *CellError) First() *syntax.Error { return e.Errors[0] }
+
+// asCellError converts the errors of parsing, compiling and evaluating into a
+// CellError.
+func asCellError(err error) *CellError {
+	var ce *CellError
+	var el syntax.ErrorList
+	var se *syntax.Error
+	var ee *sens.EvalError
+	switch {
+	case errors.As(err, &ce):
+		return ce
+	case errors.As(err, &el):
+		return &CellError{Errors: el}
+	case errors.As(err, &se):
+		return &CellError{Errors: []*syntax.Error{se}}
+	case errors.As(err, &ee):
+		return &CellError{Errors: []*syntax.Error{ee.SyntaxError()}}
+	}
+	return &CellError{Errors: []*syntax.Error{{Msg: err.Error()}}}
+}
+
+// Execute runs one cell named name ("cell 3", a file name). It stops at the
+// first failing statement and returns its error as a *CellError; a panic inside
+// the engine is turned into an error too, so a session survives it.
+func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err error) {
+	in.cells++
+	if name == "" {
+		name = fmt.Sprintf("cell %d", in.cells)
+	}
+	defer func() {
+		if r := recover(); r != nil {
+			err = &CellError{Errors: []*syntax.Error{{Msg: fmt.Sprintf("internal error: %v (please report this with the cell that caused it)\n%s", r, debug.Stack())}}}
+		}
+	}()
+	f, stmts, perr := syntax.Parse(name, []byte(src))
+	if perr != nil {
+		return asCellError(perr)
+	}
+	for i, s := range stmts {
+		if err := ctx.Err(); err != nil {
+			return &CellError{Errors: []*syntax.Error{{Pos: f.Position(s.Pos()), Msg: "interrupted"}}}
+		}
+		if err := in.stmt(ctx, f, s, i == len(stmts)-1, sink); err != nil {
+			return asCellError(err)
+		}
+	}
+	return nil
+}
+
+func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last bool, sink Sink) error {
+	switch s := s.(type) {
+	case *syntax.InputStmt, *syntax.FormulaStmt:
+		in.Model.Define(f, s)
+		return nil
+	case *syntax.ExprStmt:
+		r, err := in.value(f, s)
+		if err != nil {
+			return err
+		}
+		sink.Result(r, last)
+		return nil
+	case *syntax.CommandStmt:
+		return in.command(ctx, f, s, sink)
+	}
+	return fmt.Errorf("unknown statement %T", s)
+}
+
+// compile compiles the model and sends its warnings to stderr once per change.
+func (in *Interp) compile(sink Sink) (*sens.Program, error) {
+	p, err := in.Model.Compile()
+	if err != nil {
+		return nil, err
+	}
+	return p, nil
+}
+
+func warn(sink Sink, format string, args ...any) {
+	sink.Stream("stderr", "warning: "+fmt.Sprintf(format, args...)+"\n")
+}

@@ -1,0 +1,117 @@
+package zsock
+
+import (
+	"context"
+	"encoding/binary"
+	"sync"
+
+	"github.com/go-zeromq/zmq4"
+)
+
+// Router is a ZeroMQ ROUTER socket: every received message starts with the
+// routing identity of the peer that sent it, and Send routes a message by
+// its first frame. Send never blocks: each peer has its own bounded queue
+// and writer, so a peer that stops reading loses its own replies (counted
+// in Stats.Dropped and logged) and delays nobody else.
+type Router struct {
+	*base
+	mu   sync.RWMutex
+	byID map[string]*peer
+	seq  uint32
+	in   chan [][]byte
+}
+
+// ListenRouter binds a ROUTER socket to endpoint (tcp://host:port or
+// ipc://path). id is the identity announced in the handshake.
+func ListenRouter(ctx context.Context, endpoint, id string, opts *Options) (*Router, error) {
+	r := &Router{byID: make(map[string]*peer), in: make(chan [][]byte, 64)}
+	b, err := listen(ctx, zmq4.Router, endpoint, id, opts, r)
+	if err != nil {
+		return nil, err
+	}
+	r.base = b
+	b.start()
+	return r, nil
+}
+
+func (r *Router) attach(p *peer) bool {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	p.mu.Lock()
+	closed := p.closed
+	p.mu.Unlock()
+	if closed {
+		return false
+	}
+	id := string(p.identity)
+	if id == "" || id[0] == 0 {
+		// No identity of its own: make one up as libzmq does, a zero
+		// byte and a counter, which no peer may choose.
+		r.seq++
+		var b [5]byte
+		binary.BigEndian.PutUint32(b[1:], r.seq)
+		id = string(b[:])
+	} else if old := r.byID[id]; old != nil {
+		// A client that reconnects with the same identity takes over
+		// the route; the old connection is closed.
+		r.log.Printf("zsock ROUTER: identity %q reconnected; closing the old connection", id)
+		delete(r.byID, id)
+		go old.close(ErrClosed)
+	}
+	p.route = id
+	r.byID[id] = p
+	return true
+}
+
+func (r *Router) detach(p *peer) {
+	r.mu.Lock()
+	if r.byID[p.route] == p {
+		delete(r.byID, p.route)
+	}
+	r.mu.Unlock()
+}
+
+func (r *Router) message(p *peer, frames [][]byte, isCmd bool) {
+	if isCmd {
+		return // PING and the like are ZMTP 3.1; a 3.0 peer sends none.
+	}
+	msg := make([][]byte, 0, len(frames)+1)
+	msg = append(msg, []byte(p.route))
+	msg = append(msg, frames...)
+	select {
+	case r.in <- msg:
+	case <-p.done:
+	case <-r.ctx.Done():
+	}
+}
+
+// Recv returns the next message, its first frame the sender's identity.
+// One goroutine should own Recv.
+func (r *Router) Recv(ctx context.Context) ([][]byte, error) {
+	select {
+	case m := <-r.in:
+		return m, nil
+	case <-ctx.Done():
+		return nil, ctx.Err()
+	case <-r.ctx.Done():
+		return nil, ErrClosed
+	}
+}
+
+// Send queues frames[1:] for the peer whose identity is frames[0]. It
+// returns ErrUnknownPeer when no such peer is connected (ZeroMQ drops such
+// a message silently; the caller should log it) and ErrQueueFull when the
+// peer's queue is full. The frames must not be modified afterwards.
+func (r *Router) Send(frames [][]byte) error {
+	if len(frames) < 2 {
+		return ErrUnknownPeer
+	}
+	r.mu.RLock()
+	p := r.byID[string(frames[0])]
+	r.mu.RUnlock()
+	if p == nil {
+		return ErrUnknownPeer
+	}
+	segs, size := Encode(frames[1:])
+	return p.enqueue(segs, size)
+}

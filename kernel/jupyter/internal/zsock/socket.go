@@ -1,0 +1,535 @@
+package zsock
+
+import (
+	"bufio"
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"log"
+	"net"
+	"os"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"github.com/go-zeromq/zmq4"
+	"github.com/go-zeromq/zmq4/security/null"
+)
+
+// Options bound what one peer can cost the socket. A zero field takes the
+// default shown.
+type Options struct {
+	// Logger receives connection events and drops; nil discards them.
+	Logger *log.Logger
+	// HandshakeTimeout bounds the ZMTP greeting and handshake of a new
+	// connection (default 5s). A connection that stays silent longer is
+	// closed; it never delays other connections.
+	HandshakeTimeout time.Duration
+	// StallTimeout is how long a write to one peer may make no progress
+	// before that peer is disconnected (default 30s).
+	StallTimeout time.Duration
+	// QueueMsgs and QueueBytes bound the messages waiting for one peer
+	// (defaults 1000 messages and 64 MiB). A message that does not fit is
+	// dropped for that peer only, as a ZeroMQ high-water mark does.
+	QueueMsgs  int
+	QueueBytes int
+	// MaxMsgBytes bounds one incoming message (default 256 MiB); a peer
+	// that sends more is disconnected.
+	MaxMsgBytes int64
+}
+
+func (o *Options) withDefaults() Options {
+	var d Options
+	if o != nil {
+		d = *o
+	}
+	if d.Logger == nil {
+		d.Logger = log.New(io.Discard, "", 0)
+	}
+	if d.HandshakeTimeout <= 0 {
+		d.HandshakeTimeout = 5 * time.Second
+	}
+	if d.StallTimeout <= 0 {
+		d.StallTimeout = 30 * time.Second
+	}
+	if d.QueueMsgs <= 0 {
+		d.QueueMsgs = 1000
+	}
+	if d.QueueBytes <= 0 {
+		d.QueueBytes = 64 << 20
+	}
+	if d.MaxMsgBytes <= 0 {
+		d.MaxMsgBytes = 256 << 20
+	}
+	return d
+}
+
+// Errors returned by Send.
+var (
+	ErrClosed      = errors.New("zsock: socket closed")
+	ErrUnknownPeer = errors.New("zsock: no connected peer with that identity")
+	ErrQueueFull   = errors.New("zsock: peer queue full, message dropped")
+)
+
+// Stats counts what a socket has done; all fields are totals since Listen.
+type Stats struct {
+	Accepted      uint64 // connections that completed the handshake
+	Rejected      uint64 // connections closed during the handshake
+	Dropped       uint64 // messages dropped for a full peer queue
+	Disconnected  uint64 // peers dropped for a stalled write or bad input
+	Peers         int    // peers connected now
+	Pending       int64  // messages queued or being written now
+	PendingBytes  int64  // bytes queued or being written now
+	MaxQueueBytes int64  // largest PendingBytes seen for one peer
+}
+
+// kindHooks is what a socket type adds to the shared connection handling.
+type kindHooks interface {
+	attach(p *peer) bool                          // a peer finished its handshake
+	message(p *peer, frames [][]byte, isCmd bool) // a peer sent a message
+	detach(p *peer)                               // a peer is gone
+}
+
+// base owns a listener and its peers. Every peer has one reader and one
+// writer goroutine; nothing a peer does blocks another peer.
+type base struct {
+	typ   zmq4.SocketType
+	id    string
+	opts  Options
+	log   *log.Logger
+	ln    net.Listener
+	ep    string
+	hooks kindHooks
+
+	ctx    context.Context
+	cancel context.CancelFunc
+	wg     sync.WaitGroup
+
+	mu    sync.Mutex
+	peers map[*peer]struct{}
+
+	pending      atomic.Int64
+	pendingBytes atomic.Int64
+	accepted     atomic.Uint64
+	rejected     atomic.Uint64
+	dropped      atomic.Uint64
+	disconnected atomic.Uint64
+	maxQueue     atomic.Int64
+
+	closeOnce sync.Once
+}
+
+func listen(ctx context.Context, typ zmq4.SocketType, endpoint, id string, opts *Options, hooks kindHooks) (*base, error) {
+	network, addr, err := splitEndpoint(endpoint)
+	if err != nil {
+		return nil, err
+	}
+	if network == "unix" {
+		removeStaleSocket(addr)
+	}
+	ln, err := net.Listen(network, addr)
+	if err != nil {
+		return nil, fmt.Errorf("zsock: listen on %s: %w", endpoint, err)
+	}
+	o := opts.withDefaults()
+	b := &base{
+		typ:   typ,
+		id:    id,
+		opts:  o,
+		log:   o.Logger,
+		ln:    ln,
+		ep:    endpoint,
+		hooks: hooks,
+		peers: make(map[*peer]struct{}),
+	}
+	b.ctx, b.cancel = context.WithCancel(ctx)
+	return b, nil
+}
+
+// start begins accepting connections; the socket type's hooks must be
+// ready by then.
+func (b *base) start() {
+	b.wg.Add(1)
+	go b.acceptLoop()
+	context.AfterFunc(b.ctx, func() { b.ln.Close() })
+}
+
+// splitEndpoint maps a ZeroMQ endpoint (tcp://host:port, ipc://path) to a
+// Go network and address.
+func splitEndpoint(ep string) (network, addr string, err error) {
+	scheme, rest, ok := strings.Cut(ep, "://")
+	if !ok {
+		return "", "", fmt.Errorf("zsock: bad endpoint %q", ep)
+	}
+	switch scheme {
+	case "tcp":
+		host, port, err := net.SplitHostPort(rest)
+		if err != nil {
+			return "", "", fmt.Errorf("zsock: bad endpoint %q: %w", ep, err)
+		}
+		if host == "*" {
+			host = ""
+		}
+		return "tcp", net.JoinHostPort(host, port), nil
+	case "ipc":
+		return "unix", rest, nil
+	}
+	return "", "", fmt.Errorf("zsock: unsupported transport %q", scheme)
+}
+
+// removeStaleSocket removes a Unix socket left behind by a dead process;
+// it leaves any other kind of file alone, so Listen then fails loudly.
+func removeStaleSocket(path string) {
+	fi, err := os.Lstat(path)
+	if err == nil && fi.Mode()&os.ModeSocket != 0 {
+		os.Remove(path)
+	}
+}
+
+// Addr is the address the socket listens on (with the real port when the
+// endpoint asked for port 0).
+func (b *base) Addr() net.Addr { return b.ln.Addr() }
+
+func (b *base) acceptLoop() {
+	defer b.wg.Done()
+	delay := 5 * time.Millisecond
+	for {
+		conn, err := b.ln.Accept()
+		if err != nil {
+			if b.ctx.Err() != nil || errors.Is(err, net.ErrClosed) {
+				return
+			}
+			// Out of descriptors or similar: back off, never spin.
+			b.log.Printf("zsock %s: accept: %v", b.typ, err)
+			select {
+			case <-time.After(delay):
+			case <-b.ctx.Done():
+				return
+			}
+			delay = min(2*delay, time.Second)
+			continue
+		}
+		delay = 5 * time.Millisecond
+		// The handshake runs on its own goroutine under a deadline, so a
+		// connection that never speaks cannot hold up the next Accept.
+		b.wg.Add(1)
+		go b.handshake(conn)
+	}
+}
+
+func (b *base) handshake(conn net.Conn) {
+	defer b.wg.Done()
+	stop := context.AfterFunc(b.ctx, func() { conn.SetDeadline(time.Now()) })
+	defer stop()
+	conn.SetDeadline(time.Now().Add(b.opts.HandshakeTimeout))
+	zc, err := openZMTP(conn, b.typ, b.id)
+	if err != nil {
+		b.rejected.Add(1)
+		b.log.Printf("zsock %s: handshake with %s failed: %v", b.typ, conn.RemoteAddr(), err)
+		conn.Close()
+		return
+	}
+	conn.SetDeadline(time.Time{})
+	if !stop() { // socket closing
+		conn.Close()
+		return
+	}
+	p := &peer{
+		b:        b,
+		conn:     conn,
+		r:        bufio.NewReaderSize(conn, 64<<10),
+		identity: []byte(zc.Peer.Meta["Identity"]),
+		peerType: zc.Peer.Meta["Socket-Type"],
+		wake:     make(chan struct{}, 1),
+		done:     make(chan struct{}),
+	}
+	b.mu.Lock()
+	if b.ctx.Err() != nil {
+		b.mu.Unlock()
+		conn.Close()
+		return
+	}
+	b.peers[p] = struct{}{}
+	b.mu.Unlock()
+	if !b.hooks.attach(p) {
+		p.close(errors.New("refused"))
+		return
+	}
+	b.accepted.Add(1)
+	b.wg.Add(2)
+	go p.readLoop()
+	go p.writeLoop()
+}
+
+// openZMTP runs zmq4's greeting and NULL-security handshake. zmq4 panics
+// on some malformed handshakes (an unknown Socket-Type, a truncated
+// metadata property); a bad peer must not take the process down, so the
+// panic becomes an error here.
+func openZMTP(conn net.Conn, typ zmq4.SocketType, id string) (zc *zmq4.Conn, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			zc, err = nil, fmt.Errorf("malformed handshake: %v", r)
+		}
+	}()
+	return zmq4.Open(conn, null.Security(), typ, zmq4.SocketIdentity(id), true, nil)
+}
+
+// Stats reports the socket's counters.
+func (b *base) Stats() Stats {
+	b.mu.Lock()
+	n := len(b.peers)
+	b.mu.Unlock()
+	return Stats{
+		Accepted:      b.accepted.Load(),
+		Rejected:      b.rejected.Load(),
+		Dropped:       b.dropped.Load(),
+		Disconnected:  b.disconnected.Load(),
+		Peers:         n,
+		Pending:       b.pending.Load(),
+		PendingBytes:  b.pendingBytes.Load(),
+		MaxQueueBytes: b.maxQueue.Load(),
+	}
+}
+
+// Flush waits until every queued message has been handed to the operating
+// system or the timeout passes; it reports whether the queues emptied.
+func (b *base) Flush(timeout time.Duration) bool {
+	deadline := time.Now().Add(timeout)
+	for b.pending.Load() > 0 {
+		if time.Now().After(deadline) {
+			return false
+		}
+		time.Sleep(2 * time.Millisecond)
+	}
+	return true
+}
+
+// Close flushes for at most linger, half-closes every connection so the
+// peers read everything up to the end of the stream, waits up to linger
+// again for them to hang up, then closes everything and waits for the
+// socket's goroutines. Unread data would turn the close into a reset that
+// can destroy the last messages (measured: the final idle went missing),
+// which is why the socket does not simply close at once.
+func (b *base) Close(linger time.Duration) error {
+	b.closeOnce.Do(func() {
+		b.ln.Close()
+		if linger > 0 {
+			b.Flush(linger)
+			b.mu.Lock()
+			peers := make([]*peer, 0, len(b.peers))
+			for p := range b.peers {
+				peers = append(peers, p)
+			}
+			b.mu.Unlock()
+			for _, p := range peers {
+				if cw, ok := p.conn.(interface{ CloseWrite() error }); ok {
+					cw.CloseWrite()
+				}
+			}
+			deadline := time.After(linger)
+		wait:
+			for _, p := range peers {
+				select {
+				case <-p.done:
+				case <-deadline:
+					break wait
+				}
+			}
+		}
+		b.cancel()
+		b.mu.Lock()
+		peers := make([]*peer, 0, len(b.peers))
+		for p := range b.peers {
+			peers = append(peers, p)
+		}
+		b.mu.Unlock()
+		for _, p := range peers {
+			p.close(ErrClosed)
+		}
+		b.wg.Wait()
+		if strings.HasPrefix(b.ep, "ipc://") {
+			os.Remove(strings.TrimPrefix(b.ep, "ipc://"))
+		}
+	})
+	return nil
+}
+
+// peer is one accepted connection.
+type peer struct {
+	b        *base
+	conn     net.Conn
+	r        *bufio.Reader
+	identity []byte // from the peer's handshake; may be empty
+	peerType string
+	route    string // routing identity (ROUTER)
+
+	mu       sync.Mutex
+	queue    []item
+	qbytes   int
+	closed   bool
+	dropping uint64 // messages dropped in the current overflow episode
+	topics   map[string]int
+
+	wake chan struct{}
+	done chan struct{}
+}
+
+type item struct {
+	segs net.Buffers
+	size int
+}
+
+// enqueue hands a message to the peer's writer; it never blocks.
+func (p *peer) enqueue(segs net.Buffers, size int) error {
+	p.mu.Lock()
+	if p.closed {
+		p.mu.Unlock()
+		return ErrClosed
+	}
+	o := &p.b.opts
+	if len(p.queue) >= o.QueueMsgs || (p.qbytes > 0 && p.qbytes+size > o.QueueBytes) {
+		p.dropping++
+		first := p.dropping == 1
+		p.mu.Unlock()
+		p.b.dropped.Add(1)
+		if first {
+			p.b.log.Printf("zsock %s: peer %s is not reading; dropping its messages (queue %d msgs)",
+				p.b.typ, p.conn.RemoteAddr(), o.QueueMsgs)
+		}
+		return ErrQueueFull
+	}
+	if p.dropping > 0 {
+		p.b.log.Printf("zsock %s: peer %s reading again after %d dropped messages",
+			p.b.typ, p.conn.RemoteAddr(), p.dropping)
+		p.dropping = 0
+	}
+	p.queue = append(p.queue, item{segs, size})
+	p.qbytes += size
+	for q := int64(p.qbytes); ; {
+		m := p.b.maxQueue.Load()
+		if q <= m || p.b.maxQueue.CompareAndSwap(m, q) {
+			break
+		}
+	}
+	p.b.pending.Add(1)
+	p.b.pendingBytes.Add(int64(size))
+	p.mu.Unlock()
+	select {
+	case p.wake <- struct{}{}:
+	default:
+	}
+	return nil
+}
+
+func (p *peer) next() (item, bool) {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if len(p.queue) == 0 || p.closed {
+		return item{}, false
+	}
+	it := p.queue[0]
+	p.queue[0] = item{}
+	p.queue = p.queue[1:]
+	return it, true
+}
+
+func (p *peer) sent(size int) {
+	p.mu.Lock()
+	p.qbytes -= size
+	p.mu.Unlock()
+	p.b.pending.Add(-1)
+	p.b.pendingBytes.Add(-int64(size))
+}
+
+func (p *peer) writeLoop() {
+	defer p.b.wg.Done()
+	for {
+		select {
+		case <-p.wake:
+		case <-p.done:
+			return
+		}
+		for {
+			it, ok := p.next()
+			if !ok {
+				break
+			}
+			err := p.write(it.segs)
+			p.sent(it.size)
+			if err != nil {
+				p.b.disconnected.Add(1)
+				p.close(err)
+				return
+			}
+		}
+	}
+}
+
+// write sends one message. Each write gets StallTimeout to make progress;
+// a slow peer that keeps reading is never cut off, a peer that stops
+// reading is dropped after StallTimeout without delaying anyone else.
+func (p *peer) write(segs net.Buffers) error {
+	segs = append(net.Buffers(nil), segs...) // WriteTo consumes its receiver
+	for len(segs) > 0 {
+		p.conn.SetWriteDeadline(time.Now().Add(p.b.opts.StallTimeout))
+		n, err := segs.WriteTo(p.conn)
+		if err == nil {
+			return nil
+		}
+		var ne net.Error
+		if n > 0 && errors.As(err, &ne) && ne.Timeout() {
+			continue
+		}
+		if errors.As(err, &ne) && ne.Timeout() {
+			return fmt.Errorf("peer stalled for %v", p.b.opts.StallTimeout)
+		}
+		return err
+	}
+	return nil
+}
+
+func (p *peer) readLoop() {
+	defer p.b.wg.Done()
+	for {
+		frames, isCmd, err := ReadMsg(p.r, p.b.opts.MaxMsgBytes)
+		if err != nil {
+			if err != io.EOF && !errors.Is(err, net.ErrClosed) {
+				p.b.disconnected.Add(1)
+			}
+			p.close(err)
+			return
+		}
+		p.b.hooks.message(p, frames, isCmd)
+	}
+}
+
+// close drops the peer: its queue is discarded and its connection closed.
+func (p *peer) close(why error) {
+	p.mu.Lock()
+	if p.closed {
+		p.mu.Unlock()
+		return
+	}
+	p.closed = true
+	n := len(p.queue)
+	var bytes int
+	for _, it := range p.queue {
+		bytes += it.size
+	}
+	p.queue = nil
+	p.qbytes -= bytes
+	p.mu.Unlock()
+	p.b.pending.Add(-int64(n))
+	p.b.pendingBytes.Add(-int64(bytes))
+	close(p.done)
+	p.conn.Close()
+	p.b.mu.Lock()
+	delete(p.b.peers, p)
+	p.b.mu.Unlock()
+	p.b.hooks.detach(p)
+	if why != io.EOF && !errors.Is(why, ErrClosed) && !errors.Is(why, net.ErrClosed) {
+		p.b.log.Printf("zsock %s: dropped peer %s: %v", p.b.typ, p.conn.RemoteAddr(), why)
+	}
+}

@@ -1,0 +1,316 @@
+package kernel
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"html"
+	"io"
+	"log"
+	"os/signal"
+	"sort"
+	"strings"
+	"sync/atomic"
+	"syscall"
+	"time"
+
+	"github.com/nudge-dev/nudge/kernel/jupyter"
+	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/unit"
+)
+
+// Serve runs the Jupyter kernel on the connection file until the client shuts
+// it down. Log lines go to logw.
+func Serve(connFile string, logw io.Writer) error {
+	ctx, stop := signal.NotifyContext(context.Background(), syscall.SIGTERM)
+	defer stop()
+	logger := log.New(logw, "nudge: ", log.LstdFlags)
+	return jupyter.Run(ctx, connFile, NewHandler(New()), logger)
+}
+
+// Handler adapts an Interp to the Jupyter protocol layer.
+type Handler struct {
+	in       *Interp
+	progress atomic.Int64
+}
+
+// NewHandler returns a jupyter.Handler running cells in in.
+func NewHandler(in *Interp) *Handler { return &Handler{in: in} }
+
+var _ jupyter.Handler = (*Handler)(nil)
+
+// Info describes nudge to Jupyter front ends.
+func (h *Handler) Info() jupyter.KernelInfo {
+	return jupyter.KernelInfo{
+		Implementation:        "nudge",
+		ImplementationVersion: Version,
+		Banner:                "nudge " + Version + ": sensitivity analysis of cost models\nType a model (input x = 1 [kg] (±10%), y = 2 * x) and commands (drivers y, tornado y).",
+		HelpLinks:             []jupyter.HelpLink{{Text: "nudge language reference", URL: "https://github.com/nudge-dev/nudge#language-reference"}},
+		Language: jupyter.LanguageInfo{
+			Name:          KernelName,
+			Version:       Version,
+			MIMEType:      "text/x-nudge",
+			FileExtension: ".nudge",
+		},
+	}
+}
+
+// jupyterSink turns interpreter output into Jupyter messages.
+type jupyterSink struct {
+	h       *Handler
+	out     jupyter.Output
+	opts    Options
+	last    *jupyter.Bundle
+	shown   map[string]bool
+	updated map[string]time.Time
+}
+
+func (s *jupyterSink) Stream(name, text string) { s.out.Stream(name, text) }
+
+func (s *jupyterSink) Result(r *Result, last bool) {
+	b := &jupyter.Bundle{Data: r.Bundle(), Metadata: map[string]any{}}
+	if last {
+		s.last = b
+		return
+	}
+	s.out.Display(b, "")
+}
+
+// Progress shows a progress line that updates in place, at most ten times a
+// second.
+func (s *jupyterSink) Progress(id, label string, done, total int) {
+	if s.shown == nil {
+		s.shown, s.updated = map[string]bool{}, map[string]time.Time{}
+	}
+	frac := 0.0
+	if total > 0 {
+		frac = float64(done) / float64(total)
+	}
+	text := fmt.Sprintf("%s %s %3.0f%% (%d of %d)", label, bar(frac, 24)+strings.Repeat(" ", 24-len([]rune(bar(frac, 24)))), 100*frac, done, total)
+	b := &jupyter.Bundle{Data: map[string]any{"text/plain": text}, Metadata: map[string]any{}}
+	switch {
+	case !s.shown[id]:
+		s.shown[id] = true
+		s.updated[id] = time.Now()
+		s.out.Display(b, id)
+	case done >= total || time.Since(s.updated[id]) > 100*time.Millisecond:
+		s.updated[id] = time.Now()
+		s.out.UpdateDisplay(b, id)
+	}
+}
+
+// Execute runs a cell.
+func (h *Handler) Execute(ctx context.Context, code string, out jupyter.Output, opts jupyter.ExecOptions) (*jupyter.Bundle, error) {
+	sink := &jupyterSink{h: h, out: out, opts: h.in.Opts}
+	name := fmt.Sprintf("cell[%d]", opts.ExecutionCount)
+	err := h.in.Execute(ctx, name, code, &progressIDs{Sink: sink, h: h})
+	if err != nil {
+		var ce *CellError
+		if !errors.As(err, &ce) {
+			ce = asCellError(err)
+		}
+		ename := "ModelError"
+		if ctx.Err() != nil {
+			ename = "Interrupted"
+		}
+		first := ce.First()
+		value := first.Msg
+		if first.Pos.Line > 0 {
+			value = fmt.Sprintf("line %d, column %d: %s", first.Pos.Line, first.Pos.Column, first.Msg)
+		}
+		return sink.last, &jupyter.ExecError{Name: ename, Value: value, Traceback: strings.Split(ce.Detail(), "\n")}
+	}
+	return sink.last, nil
+}
+
+// progressIDs gives each analysis of a session its own display id.
+type progressIDs struct {
+	Sink
+	h   *Handler
+	ids map[string]string
+}
+
+func (p *progressIDs) Progress(id, label string, done, total int) {
+	if p.ids == nil {
+		p.ids = map[string]string{}
+	}
+	uid, ok := p.ids[id]
+	if !ok {
+		uid = fmt.Sprintf("nudge-progress-%d", p.h.progress.Add(1))
+		p.ids[id] = uid
+	}
+	p.Sink.Progress(uid, label, done, total)
+}
+
+// IsComplete tells a console whether the text is ready to run.
+func (h *Handler) IsComplete(code string) (string, string) {
+	if strings.TrimSpace(code) == "" {
+		return "complete", ""
+	}
+	if syntax.Incomplete(code) {
+		return "incomplete", "    "
+	}
+	if _, _, err := syntax.Parse("", []byte(code)); err != nil {
+		return "invalid", ""
+	}
+	return "complete", ""
+}
+
+func isWordByte(c byte) bool {
+	return c == '_' || c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c >= 0x80
+}
+
+// wordAt returns the word around byte offset cursor: its start and end.
+func wordAt(code string, cursor int) (start, end int) {
+	if cursor > len(code) {
+		cursor = len(code)
+	}
+	start, end = cursor, cursor
+	for start > 0 && isWordByte(code[start-1]) {
+		start--
+	}
+	for end < len(code) && isWordByte(code[end]) {
+		end++
+	}
+	return start, end
+}
+
+// Complete proposes names, functions, commands, units and distributions.
+func (h *Handler) Complete(code string, cursor int) jupyter.Completion {
+	if cursor > len(code) {
+		cursor = len(code)
+	}
+	start, _ := wordAt(code, cursor)
+	prefix := code[start:cursor]
+	lineStart := strings.LastIndexByte(code[:cursor], '\n') + 1
+	line := code[lineStart:cursor]
+	var cands []string
+	switch {
+	case strings.Count(line, "[") > strings.Count(line, "]"):
+		// Inside a unit: the unit symbols, completed after the last operator.
+		ustart := cursor
+		for ustart > lineStart && !strings.ContainsRune("[*/(· ", rune(code[ustart-1])) {
+			ustart--
+		}
+		start, prefix = ustart, code[ustart:cursor]
+		cands = unit.Symbols()
+	case strings.HasSuffix(strings.TrimRight(code[lineStart:start], " "), "~"):
+		for _, d := range sens.Distributions {
+			cands = append(cands, d.Name)
+		}
+	default:
+		cands = append(cands, h.in.Model.Names()...)
+		cands = append(cands, h.in.Model.ScenarioNames()...)
+		for _, f := range sens.Functions {
+			cands = append(cands, f.Name)
+		}
+		cands = append(cands, "pi")
+		if strings.TrimSpace(code[lineStart:start]) == "" {
+			cands = append(cands, syntax.Verbs...)
+			cands = append(cands, "input")
+		} else {
+			cands = append(cands, "over", "across", "and", "or", "not")
+		}
+	}
+	seen := map[string]bool{}
+	var matches []string
+	for _, c := range cands {
+		if strings.HasPrefix(c, prefix) && !seen[c] {
+			seen[c] = true
+			matches = append(matches, c)
+		}
+	}
+	sort.Strings(matches)
+	return jupyter.Completion{Matches: matches, Start: start, End: cursor, Metadata: map[string]any{}}
+}
+
+// Inspect describes the name under the cursor: an input's value, unit, range
+// and distribution; a formula's text, value, unit and top drivers; a function,
+// distribution or command's documentation.
+func (h *Handler) Inspect(code string, cursor int, detail int) (*jupyter.Bundle, bool) {
+	start, end := wordAt(code, cursor)
+	if start == end && cursor > 0 {
+		start, end = wordAt(code, cursor-1)
+	}
+	word := code[start:end]
+	if word == "" {
+		return nil, false
+	}
+	text := h.describe(word, detail)
+	if text == "" {
+		return nil, false
+	}
+	return &jupyter.Bundle{Data: map[string]any{
+		"text/plain": text,
+		"text/html":  "<pre>" + html.EscapeString(text) + "</pre>",
+	}, Metadata: map[string]any{}}, true
+}
+
+func (h *Handler) describe(word string, detail int) string {
+	if prog, err := h.in.Model.Compile(); err == nil {
+		if in, f := prog.Lookup(word); in != nil {
+			s := fmt.Sprintf("input %s = %s\nrange: %s .. %s (%s)", in.Name, withUnit(in.Value, in.Unit), num(in.Low), num(in.High), in.Source)
+			if in.Dist != nil {
+				ps := make([]string, len(in.Dist.Params()))
+				for i, v := range in.Dist.Params() {
+					ps[i] = num(v)
+				}
+				s += fmt.Sprintf("\ndistribution: %s(%s), mean %s, sd %s", in.Dist.Name(), strings.Join(ps, ", "), num(in.Dist.Mean()), num(in.Dist.StdDev()))
+			}
+			return s + fmt.Sprintf("\ndeclared at %s", in.Pos)
+		} else if f != nil {
+			s := fmt.Sprintf("%s = %s", f.Name, f.Text)
+			if f.Declared {
+				s += "  [" + f.Unit + "]"
+			}
+			if pr, err := prog.Problem(f.Name); err == nil {
+				if d, err := sens.ComputeDrivers(pr); err == nil {
+					s += "\nvalue: " + withUnit(d.Value, d.Unit)
+					n := 3
+					if detail > 0 {
+						n = len(d.Inputs)
+					}
+					var top []string
+					for i, x := range d.Inputs {
+						if i >= n || x.Elasticity == 0 {
+							break
+						}
+						top = append(top, fmt.Sprintf("%s (elasticity %+.3f)", x.Name, x.Elasticity))
+					}
+					if len(top) > 0 {
+						s += "\ntop drivers: " + strings.Join(top, ", ")
+					}
+				} else {
+					s += "\nvalue: " + err.Error()
+				}
+			}
+			return s + fmt.Sprintf("\ndefined at %s", f.Pos)
+		}
+	}
+	for _, fn := range sens.Functions {
+		if fn.Name == word {
+			return fmt.Sprintf("function %s: %s", fn.Name, fn.Doc)
+		}
+	}
+	if d := sens.LookupDist(word); d != nil {
+		return fmt.Sprintf("distribution %s(%s): %s\nexample: %s", d.Name, strings.Join(d.Params, ", "), d.Doc, d.Example)
+	}
+	if doc, ok := CommandDocs[word]; ok {
+		return "command " + word + ": " + doc
+	}
+	return ""
+}
+
+// CommandDocs is a one-line description of each command with an example.
+var CommandDocs = map[string]string{
+	"drivers":   "value, partial derivatives and elasticities of an output, ranked. Example: drivers total",
+	"tornado":   "the output at the low and high end of each input's range, sorted by swing. Example: tornado total top=8",
+	"spider":    "the output against the percentage change of each input. Example: spider total (±30%)",
+	"sweep":     "the output over a span of one or two inputs. Example: sweep total over rate 40..80 and hours 1..2",
+	"breakeven": "the input value where the output reaches a target. Example: breakeven total = 160000 over steel",
+	"scenario":  "a named set of input values. Example: scenario lean: hours = 1.2, rate = 55",
+	"compare":   "the output across scenarios, against the baseline. Example: compare total across base, lean",
+	"print":     "writes a line of text. Example: print \"Plant A\"",
+	"reset":     "forgets every input, formula and scenario. Example: reset",
+}

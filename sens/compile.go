@@ -1,0 +1,841 @@
+package sens
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/unit"
+)
+
+// Program is a compiled model: every input and formula, and one tape that
+// evaluates all formulas at once. A Program is read-only; the functions made
+// from it (Program.Fn) own their buffers, one per goroutine.
+type Program struct {
+	Inputs   []*Input
+	Formulas []*Formula // in dependency order: a formula follows every formula it uses
+	Warnings []*syntax.Error
+
+	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
+	tape  *Tape
+	pos   []posEntry // tape position table: SetPos value -> source
+}
+
+type posEntry struct {
+	file    *syntax.File
+	pos     syntax.Pos
+	formula string
+}
+
+// RangeSource says where an input's range came from.
+type RangeSource string
+
+// The sources of a range, as reported in results.
+const (
+	RangeExplicit     RangeSource = "range"        // (low..high)
+	RangePercent      RangeSource = "percent"      // (-5%..+8%) or (±20%)
+	RangeDistribution RangeSource = "distribution" // 10th and 90th percentiles
+	RangeDefault      RangeSource = "default"      // ±10% of the value, flagged in outputs
+)
+
+// DefaultSpan is the relative half-width of the range given to an input that has
+// neither a range nor a distribution.
+const DefaultSpan = 0.10
+
+// Input is a compiled input. Value, Low, High and the distribution are in the
+// input's own unit.
+type Input struct {
+	Name      string
+	Value     float64
+	Unit      string // as written; "" when dimensionless
+	Low, High float64
+	Source    RangeSource
+	Dist      Dist // nil when none was given
+	Pos       syntax.Position
+
+	u     unit.Unit
+	index int
+}
+
+// Formula is a compiled formula. Its value is shown in Unit.
+type Formula struct {
+	Name     string
+	Unit     string // display unit: the declared one, else a unit inferred from the formula
+	Declared bool   // the unit was declared
+	Text     string // the formula as written
+	Pos      syntax.Position
+	Deps     []int // indices of the inputs it depends on, ascending
+
+	u     unit.Unit
+	out   int // tape output index
+	steps []int32
+}
+
+// Lookup returns the input or formula called name.
+func (p *Program) Lookup(name string) (in *Input, f *Formula) {
+	i, ok := p.index[name]
+	switch {
+	case !ok:
+		return nil, nil
+	case i >= 0:
+		return p.Inputs[i], nil
+	}
+	return nil, p.Formulas[-1-i]
+}
+
+// Names returns the names of every input and formula, sorted.
+func (p *Program) Names() []string {
+	out := make([]string, 0, len(p.index))
+	for n := range p.index {
+		out = append(out, n)
+	}
+	sort.Strings(out)
+	return out
+}
+
+// Baseline returns the inputs' baseline values, in their own units.
+func (p *Program) Baseline() []float64 {
+	x := make([]float64, len(p.Inputs))
+	for i, in := range p.Inputs {
+		x[i] = in.Value
+	}
+	return x
+}
+
+// TapeLen returns the number of nodes on the program's tape.
+func (p *Program) TapeLen() int { return p.tape.Len() }
+
+// InputUnit returns the parsed unit of an input.
+func (in *Input) unitOf() unit.Unit { return in.u }
+
+// Index returns the input's position in Program.Inputs.
+func (in *Input) Index() int { return in.index }
+
+// ---- compilation
+
+type extraFormula struct {
+	name string
+	file *syntax.File
+	stmt *syntax.FormulaStmt
+}
+
+// val is a compiled expression.
+type val struct {
+	slot    Slot
+	dim     unit.Dim
+	hint    *unit.Unit // a unit the user would expect the value in, or nil
+	boolean bool
+	konst   bool    // the value is a known constant
+	c       float64 // the constant, in base units
+	bad     bool    // an error was already reported
+}
+
+type state int
+
+const (
+	unvisited state = iota
+	visiting
+	done
+)
+
+type compiler struct {
+	m     *Model
+	extra *extraFormula
+	b     *Builder
+	errs  syntax.ErrorList
+	warns syntax.ErrorList
+	prog  *Program
+
+	decls   map[string]*Decl
+	state   map[string]state
+	vals    map[string]val
+	stack   []string
+	deps    map[string]map[int]bool // formula -> inputs used
+	curFile *syntax.File
+	cur     string // formula being compiled
+}
+
+func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
+	c := &compiler{
+		m: m, extra: extra, b: NewBuilder(),
+		decls: m.decls, state: map[string]state{}, vals: map[string]val{},
+		deps: map[string]map[int]bool{},
+		prog: &Program{index: map[string]int{}},
+	}
+	return c.run()
+}
+
+func (c *compiler) errorf(f *syntax.File, pos syntax.Pos, format string, args ...any) {
+	c.errs.Add(f, pos, fmt.Sprintf(format, args...))
+}
+
+func (c *compiler) warnf(f *syntax.File, pos syntax.Pos, format string, args ...any) {
+	c.warns.Add(f, pos, fmt.Sprintf(format, args...))
+}
+
+func (c *compiler) setPos(f *syntax.File, pos syntax.Pos) {
+	c.prog.pos = append(c.prog.pos, posEntry{file: f, pos: pos, formula: c.cur})
+	c.b.SetPos(int32(len(c.prog.pos) - 1))
+}
+
+func (c *compiler) run() (*Program, error) {
+	p := c.prog
+	// Names that clash with built-ins.
+	for _, name := range c.m.order {
+		d := c.decls[name]
+		if isBuiltinName(name) {
+			id := d.Name
+			pos := d.Pos()
+			c.errs = append(c.errs, &syntax.Error{Pos: pos, Msg: fmt.Sprintf("%s is a built-in name: choose another name", id), Source: d.File.Line(pos.Line)})
+		}
+	}
+	// Inputs first, in declaration order, so input indices are stable.
+	for _, name := range c.m.order {
+		if d := c.decls[name]; d.Input != nil {
+			c.compileInput(d)
+		}
+	}
+	// Formulas in dependency order.
+	for _, name := range c.m.order {
+		if d := c.decls[name]; d.Formula != nil {
+			c.formula(name, d.File, d.Formula, nil)
+		}
+	}
+	if c.extra != nil {
+		c.formula(c.extra.name, c.extra.file, c.extra.stmt, nil)
+	}
+	if len(c.errs) > 0 {
+		c.errs.Sort()
+		if len(c.errs) > 10 {
+			c.errs = c.errs[:10]
+		}
+		return nil, c.errs
+	}
+	outs := make([]Slot, len(p.Formulas))
+	for i, f := range p.Formulas {
+		outs[i] = c.vals[f.Name].slot
+	}
+	p.tape = c.b.Tape(outs...)
+	for _, f := range p.Formulas {
+		d := c.deps[f.Name]
+		for i := range d {
+			f.Deps = append(f.Deps, i)
+		}
+		sort.Ints(f.Deps)
+		f.steps = p.tape.StepOps(f.out)
+	}
+	c.warns.Sort()
+	p.Warnings = c.warns
+	return p, nil
+}
+
+func isBuiltinName(name string) bool {
+	if name == "pi" {
+		return true
+	}
+	return lookupFunc(name) != nil
+}
+
+// compileInput checks an input declaration and adds its slot to the tape.
+func (c *compiler) compileInput(d *Decl) {
+	s, f := d.Input, d.File
+	c.cur = d.Name
+	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: unit.One()}
+	c.prog.index[d.Name] = in.index
+	c.prog.Inputs = append(c.prog.Inputs, in)
+	c.state[d.Name] = done
+	if s.Unit != nil {
+		u, ok := c.parseUnit(f, s.Unit)
+		if ok {
+			in.u = u
+			in.Unit = s.Unit.Text
+		}
+	}
+	// The value: a constant, read in the input's unit when written without one.
+	v, ok := c.constant(f, s.Value, in.u, "the value of input "+d.Name)
+	in.Value = v
+	c.setPos(f, s.Name.Pos())
+	slot := c.b.Input()
+	if in.u.Factor != 1 {
+		slot = c.b.Binary(OpMul, slot, c.b.Const(in.u.Factor))
+	}
+	u := in.u
+	c.vals[d.Name] = val{slot: slot, dim: in.u.Dim, hint: &u, bad: !ok}
+	// Range and distribution.
+	if s.Dist != nil {
+		c.compileDist(f, in, s.Dist)
+	}
+	switch {
+	case s.Range != nil:
+		r := s.Range
+		if r.Low.Percent {
+			in.Source = RangePercent
+			a, b := in.Value*(1+r.Low.Value/100), in.Value*(1+r.High.Value/100)
+			in.Low, in.High = math.Min(a, b), math.Max(a, b)
+			if r.Low.Value < -100 {
+				c.errorf(f, r.Low.ValuePos, "range %s would change the sign of %s: a percentage below -100%% is not a plausible range", r.Low.Lit, d.Name)
+			}
+			if in.Value == 0 {
+				c.errorf(f, r.Lparen, "a percentage range of a zero value is empty: give %s a range of values instead, such as (-1..1)", d.Name)
+			}
+		} else {
+			in.Source = RangeExplicit
+			in.Low, in.High = r.Low.Value, r.High.Value
+			if ok && (in.Value < in.Low || in.Value > in.High) {
+				c.errorf(f, r.Lparen, "range %s..%s does not contain the value %s of %s", r.Low.Lit, r.High.Lit, fmtG(in.Value), d.Name)
+			}
+		}
+		if in.Low == in.High && in.Value != 0 {
+			c.errorf(f, r.Lparen, "range of %s is empty: its low and high ends are equal", d.Name)
+		}
+	case in.Dist != nil:
+		in.Source = RangeDistribution
+		in.Low, in.High = in.Dist.Quantile(0.10), in.Dist.Quantile(0.90)
+	default:
+		in.Source = RangeDefault
+		a, b := in.Value*(1-DefaultSpan), in.Value*(1+DefaultSpan)
+		in.Low, in.High = math.Min(a, b), math.Max(a, b)
+	}
+	if in.Dist != nil {
+		lo, hi := in.Dist.Support()
+		if ok && (in.Value < lo || in.Value > hi) {
+			c.errorf(f, s.Dist.Pos(), "the value %s of %s lies outside its distribution's support [%s, %s]", fmtG(in.Value), d.Name, fmtG(lo), fmtG(hi))
+		}
+	}
+}
+
+func (c *compiler) compileDist(f *syntax.File, in *Input, ds *syntax.DistSpec) {
+	info := LookupDist(ds.Name.Name)
+	if info == nil {
+		names := make([]string, len(Distributions))
+		for i, d := range Distributions {
+			names[i] = d.Name
+		}
+		msg := "unknown distribution " + ds.Name.Name
+		if s := syntax.Suggest(ds.Name.Name, names); s != "" {
+			msg += " (did you mean " + s + "?)"
+		} else {
+			msg += " (known: " + strings.Join(names, ", ") + ")"
+		}
+		c.errorf(f, ds.Name.Pos(), "%s", msg)
+		return
+	}
+	if len(ds.Args) != len(info.Params) {
+		c.errorf(f, ds.Lparen, "%s takes %d parameters (%s), got %d", info.Name, len(info.Params), strings.Join(info.Params, ", "), len(ds.Args))
+		return
+	}
+	params := make([]float64, len(ds.Args))
+	for i, a := range ds.Args {
+		v, ok := c.constant(f, a, in.u, info.Name+" parameter "+info.Params[i])
+		if !ok {
+			return
+		}
+		params[i] = v
+	}
+	d, err := NewDist(info.Name, params)
+	if err != nil {
+		c.errorf(f, ds.Name.Pos(), "%v", err)
+		return
+	}
+	in.Dist = d
+}
+
+// constant evaluates x, which must be constant, and returns it in unit u. A
+// dimensionless number is read as a value in u.
+func (c *compiler) constant(f *syntax.File, x syntax.Expr, u unit.Unit, what string) (float64, bool) {
+	v := c.expr(f, x, true)
+	if v.bad {
+		return 0, false
+	}
+	if !v.konst || v.boolean {
+		c.errorf(f, x.Pos(), "%s must be a constant number", what)
+		return 0, false
+	}
+	switch {
+	case v.dim.IsDimensionless() && !hasUnit(x):
+		return v.c, true
+	case v.dim.Equal(u.Dim):
+		return v.c / u.Factor, true
+	}
+	c.errorf(f, x.Pos(), "%s is in %s but the input is in %s", what, unitText(unit.Simplest(v.dim)), unitText(u))
+	return 0, false
+}
+
+// hasUnit reports whether a unit appears anywhere in x.
+func hasUnit(x syntax.Expr) bool {
+	found := false
+	syntax.Walk(x, func(e syntax.Expr) bool {
+		if n, ok := e.(*syntax.NumberLit); ok && n.Unit != nil {
+			found = true
+		}
+		return !found
+	})
+	return found
+}
+
+func (c *compiler) parseUnit(f *syntax.File, ul *syntax.UnitLit) (unit.Unit, bool) {
+	u, err := unit.Parse(ul.Text)
+	if err != nil {
+		pos := ul.Lbrack + 1
+		msg := err.Error()
+		if ue, ok := err.(*unit.Error); ok {
+			// Skip leading blanks the parser trimmed from Text.
+			raw := f.Src[f.Offset(ul.Lbrack)+1:]
+			lead := len(raw) - len(strings.TrimLeft(string(raw), " \t"))
+			pos += syntax.Pos(lead + ue.Offset)
+			msg = ue.Msg
+		}
+		c.errorf(f, pos, "%s", msg)
+		return unit.One(), false
+	}
+	return u, true
+}
+
+// formula compiles the formula name (and, first, everything it uses). ref is the
+// reference that led here, for cycle messages.
+func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, ref *syntax.Ident) val {
+	switch c.state[name] {
+	case done:
+		return c.vals[name]
+	case visiting:
+		i := len(c.stack) - 1
+		for i > 0 && c.stack[i] != name {
+			i--
+		}
+		path := append(append([]string{}, c.stack[i:]...), name)
+		c.errorf(c.curFile, ref.Pos(), "cycle: %s", strings.Join(path, " -> "))
+		return val{bad: true}
+	}
+	c.state[name] = visiting
+	c.stack = append(c.stack, name)
+	saveFile, saveCur := c.curFile, c.cur
+	c.curFile, c.cur = f, name
+	c.deps[name] = map[int]bool{}
+
+	v := c.expr(f, s.Value, false)
+	fm := &Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos())}
+	switch {
+	case v.bad:
+	case v.boolean:
+		c.errorf(f, s.Value.Pos(), "%s is a condition (true or false), not a number: use it inside if(...)", name)
+		v.bad = true
+	case s.Unit != nil:
+		u, ok := c.parseUnit(f, s.Unit)
+		if ok && !u.Dim.Equal(v.dim) {
+			c.errorf(f, s.Unit.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)", name, s.Unit.Text, dimName(u.Dim), unitText(c.display(v)), dimName(v.dim))
+			v.bad = true
+		}
+		fm.u, fm.Unit, fm.Declared = u, s.Unit.Text, true
+	default:
+		fm.u = c.display(v)
+		fm.Unit = unitText(fm.u)
+	}
+	if !v.bad {
+		if v.konst {
+			// Keep a slot of its own so the formula has a position on the tape.
+			c.setPos(f, s.Name.Pos())
+		}
+		fm.out = len(c.prog.Formulas)
+		c.prog.index[name] = -1 - fm.out
+		c.prog.Formulas = append(c.prog.Formulas, fm)
+		u := fm.u
+		v.hint = &u
+	}
+	c.vals[name] = v
+	c.state[name] = done
+	c.stack = c.stack[:len(c.stack)-1]
+	c.curFile, c.cur = saveFile, saveCur
+	return v
+}
+
+// display returns the unit a value is best shown in.
+func (c *compiler) display(v val) unit.Unit {
+	if v.hint != nil && v.hint.Dim.Equal(v.dim) {
+		return *v.hint
+	}
+	return unit.Simplest(v.dim)
+}
+
+func unitText(u unit.Unit) string {
+	if u.Dim.IsDimensionless() && u.Factor == 1 {
+		return ""
+	}
+	return u.String()
+}
+
+func dimName(d unit.Dim) string {
+	if d.IsDimensionless() {
+		return "dimensionless"
+	}
+	return d.Name()
+}
+
+// expr compiles x. In a constant context (input values and distribution
+// parameters) names other than pi are errors.
+func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
+	switch x := x.(type) {
+	case *syntax.NumberLit:
+		v := x.Value
+		d := unit.Dim{}
+		var hint *unit.Unit
+		if x.Unit != nil {
+			u, ok := c.parseUnit(f, x.Unit)
+			if !ok {
+				return val{bad: true}
+			}
+			v *= u.Factor
+			d = u.Dim
+			hint = &u
+		}
+		return val{slot: c.b.Const(v), dim: d, konst: true, c: v, hint: hint}
+	case *syntax.ParenExpr:
+		return c.expr(f, x.X, constCtx)
+	case *syntax.Ident:
+		return c.ident(f, x, constCtx)
+	case *syntax.UnaryExpr:
+		v := c.expr(f, x.X, constCtx)
+		if v.bad {
+			return v
+		}
+		c.setPos(f, x.OpPos)
+		switch x.Op {
+		case syntax.NOT:
+			if !v.boolean {
+				c.errorf(f, x.X.Pos(), "'not' needs a condition such as a < b, found a number")
+				return val{bad: true}
+			}
+			return val{slot: c.b.Unary(OpNot, v.slot), boolean: true}
+		case syntax.SUB:
+			if v.boolean {
+				c.errorf(f, x.OpPos, "cannot negate a condition: use not")
+				return val{bad: true}
+			}
+			return val{slot: c.b.Unary(OpNeg, v.slot), dim: v.dim, hint: v.hint, konst: v.konst, c: -v.c}
+		}
+		return v
+	case *syntax.BinaryExpr:
+		return c.binary(f, x, constCtx)
+	case *syntax.CallExpr:
+		return c.call(f, x, constCtx)
+	}
+	c.errorf(f, x.Pos(), "unexpected expression")
+	return val{bad: true}
+}
+
+func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
+	if x.Name == "pi" {
+		return val{slot: c.b.Const(math.Pi), konst: true, c: math.Pi}
+	}
+	if constCtx {
+		if c.decls[x.Name] != nil {
+			c.errorf(f, x.Pos(), "an input's value must be a number, not %s: compute it in a formula instead", x.Name)
+		} else {
+			c.undefined(f, x)
+		}
+		return val{bad: true}
+	}
+	d := c.decls[x.Name]
+	if d == nil {
+		if lookupFunc(x.Name) != nil {
+			c.errorf(f, x.Pos(), "%s is a function: call it as %s(...)", x.Name, x.Name)
+		} else {
+			c.undefined(f, x)
+		}
+		return val{bad: true}
+	}
+	if d.Input != nil {
+		c.deps[c.cur][c.prog.index[x.Name]] = true
+		return c.vals[x.Name]
+	}
+	v := c.formula(x.Name, d.File, d.Formula, x)
+	for i := range c.deps[x.Name] {
+		c.deps[c.cur][i] = true
+	}
+	if v.bad {
+		return val{bad: true}
+	}
+	return v
+}
+
+func (c *compiler) undefined(f *syntax.File, x *syntax.Ident) {
+	cands := append(c.m.Names(), "pi")
+	for _, fn := range Functions {
+		cands = append(cands, fn.Name)
+	}
+	msg := "undefined: " + x.Name
+	if s := syntax.Suggest(x.Name, cands); s != "" {
+		msg += " (did you mean " + s + "?)"
+	}
+	c.errorf(f, x.Pos(), "%s", msg)
+}
+
+func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) val {
+	a := c.expr(f, x.X, constCtx)
+	b := c.expr(f, x.Y, constCtx)
+	if a.bad || b.bad {
+		return val{bad: true}
+	}
+	c.setPos(f, x.OpPos)
+	op := x.Op
+	switch op {
+	case syntax.AND, syntax.OR:
+		if !a.boolean || !b.boolean {
+			pos := x.X.Pos()
+			if a.boolean {
+				pos = x.Y.Pos()
+			}
+			c.errorf(f, pos, "'%s' joins conditions such as a < b, found a number", op)
+			return val{bad: true}
+		}
+		o := OpAnd
+		if op == syntax.OR {
+			o = OpOr
+		}
+		return val{slot: c.b.Binary(o, a.slot, b.slot), boolean: true}
+	}
+	if a.boolean || b.boolean {
+		pos := x.X.Pos()
+		if !a.boolean {
+			pos = x.Y.Pos()
+		}
+		c.errorf(f, pos, "a condition (true or false) cannot be used as a number here: use if(condition, a, b)")
+		return val{bad: true}
+	}
+	switch op {
+	case syntax.ADD, syntax.SUB, syntax.EQL, syntax.NEQ, syntax.LSS, syntax.LEQ, syntax.GTR, syntax.GEQ:
+		if !a.dim.Equal(b.dim) {
+			verb := map[syntax.Token]string{syntax.ADD: "add", syntax.SUB: "subtract"}[op]
+			if verb == "" {
+				verb = "compare"
+			}
+			c.errorf(f, x.OpPos, "cannot %s %s and %s: units %s and %s do not match (%s vs %s)",
+				verb, syntax.String(x.X), syntax.String(x.Y), orOne(unitText(c.display(a))), orOne(unitText(c.display(b))), dimName(a.dim), dimName(b.dim))
+			return val{bad: true}
+		}
+	}
+	hint := a.hint
+	if hint == nil {
+		hint = b.hint
+	}
+	switch op {
+	case syntax.ADD:
+		return val{slot: c.b.Binary(OpAdd, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c + b.c}
+	case syntax.SUB:
+		return val{slot: c.b.Binary(OpSub, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c - b.c}
+	case syntax.MUL, syntax.QUO:
+		d := a.dim.Mul(b.dim)
+		o, cv := OpMul, a.c*b.c
+		if op == syntax.QUO {
+			d, o, cv = a.dim.Div(b.dim), OpDiv, a.c/b.c
+			if b.konst && b.c == 0 {
+				c.errorf(f, x.Y.Pos(), "division by zero")
+				return val{bad: true}
+			}
+		}
+		// Scaling by a plain number keeps the other side's unit.
+		var h *unit.Unit
+		switch {
+		case b.dim.IsDimensionless() && b.hint == nil:
+			h = a.hint
+		case a.dim.IsDimensionless() && a.hint == nil && op == syntax.MUL:
+			h = b.hint
+		}
+		return val{slot: c.b.Binary(o, a.slot, b.slot), dim: d, hint: h, konst: a.konst && b.konst, c: cv}
+	case syntax.POW:
+		if !b.dim.IsDimensionless() {
+			c.errorf(f, x.Y.Pos(), "an exponent must be dimensionless, found %s", unitText(c.display(b)))
+			return val{bad: true}
+		}
+		d := unit.Dim{}
+		if !a.dim.IsDimensionless() {
+			if !b.konst {
+				c.errorf(f, x.Y.Pos(), "the exponent of a quantity with a unit (%s) must be a constant", unitText(c.display(a)))
+				return val{bad: true}
+			}
+			num, den, ok := rational(b.c)
+			if !ok {
+				c.errorf(f, x.Y.Pos(), "cannot raise %s to the power %s: use a whole number or a simple fraction", unitText(c.display(a)), fmtG(b.c))
+				return val{bad: true}
+			}
+			var err error
+			if d, err = a.dim.Pow(num, den); err != nil {
+				c.errorf(f, x.OpPos, "%v", err)
+				return val{bad: true}
+			}
+		}
+		return val{slot: c.b.Binary(OpPow, a.slot, b.slot), dim: d, konst: a.konst && b.konst, c: math.Pow(a.c, b.c)}
+	}
+	cmp := map[syntax.Token]Op{syntax.EQL: OpEq, syntax.NEQ: OpNe, syntax.LSS: OpLt, syntax.LEQ: OpLe, syntax.GTR: OpGt, syntax.GEQ: OpGe}
+	return val{slot: c.b.Binary(cmp[op], a.slot, b.slot), boolean: true}
+}
+
+func orOne(s string) string {
+	if s == "" {
+		return "1"
+	}
+	return s
+}
+
+// rational returns num/den = v for small denominators.
+func rational(v float64) (num, den int, ok bool) {
+	for den = 1; den <= 12; den++ {
+		n := v * float64(den)
+		if r := math.Round(n); math.Abs(n-r) < 1e-9 && math.Abs(r) < 1e6 {
+			return int(r), den, true
+		}
+	}
+	return 0, 0, false
+}
+
+// unit rules of the built-in functions
+const (
+	unitsDimless = iota // every argument dimensionless; dimensionless result
+	unitsSame           // every argument of one unit; result in it
+	unitsSqrt           // result is the square root of the argument's unit
+	unitsFirst          // result in the first argument's unit; the rest dimensionless
+	unitsIf             // (condition, a, b) with a and b alike
+)
+
+func unitRule(name string) int {
+	switch name {
+	case "abs", "min", "max":
+		return unitsSame
+	case "sqrt":
+		return unitsSqrt
+	case "learn", "learn_total":
+		return unitsFirst
+	case "if":
+		return unitsIf
+	}
+	return unitsDimless
+}
+
+func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
+	name := x.Fun.Name
+	info := lookupFunc(name)
+	if info == nil {
+		if c.decls[name] != nil {
+			c.errorf(f, x.Fun.Pos(), "%s is not a function: write %s * (...) to multiply", name, name)
+			return val{bad: true}
+		}
+		var cands []string
+		for _, fn := range Functions {
+			cands = append(cands, fn.Name)
+		}
+		msg := "unknown function " + name
+		if s := syntax.Suggest(name, cands); s != "" {
+			msg += " (did you mean " + s + "?)"
+		}
+		c.errorf(f, x.Fun.Pos(), "%s", msg)
+		return val{bad: true}
+	}
+	variadic := name == "min" || name == "max"
+	if (variadic && len(x.Args) < 2) || (!variadic && len(x.Args) != info.Args) {
+		want := fmt.Sprintf("%d", info.Args)
+		if variadic {
+			want = "at least 2"
+		}
+		c.errorf(f, x.Lparen, "%s takes %s arguments, got %d", name, want, len(x.Args))
+		return val{bad: true}
+	}
+	args := make([]val, len(x.Args))
+	for i, a := range x.Args {
+		args[i] = c.expr(f, a, constCtx)
+		if args[i].bad {
+			return val{bad: true}
+		}
+	}
+	rule := unitRule(name)
+	for i, a := range args {
+		wantBool := rule == unitsIf && i == 0
+		if a.boolean != wantBool {
+			if wantBool {
+				c.errorf(f, x.Args[i].Pos(), "the first argument of if must be a condition such as a < b")
+			} else {
+				c.errorf(f, x.Args[i].Pos(), "a condition cannot be an argument of %s here", name)
+			}
+			return val{bad: true}
+		}
+	}
+	c.setPos(f, x.Fun.Pos())
+	res := val{}
+	switch rule {
+	case unitsDimless:
+		for i, a := range args {
+			if !a.dim.IsDimensionless() {
+				c.errorf(f, x.Args[i].Pos(), "%s needs a dimensionless argument, found %s: divide by a reference value, e.g. %s / 1 [%s]",
+					name, unitText(c.display(a)), syntax.String(x.Args[i]), unitText(c.display(a)))
+				return val{bad: true}
+			}
+		}
+	case unitsSame, unitsIf:
+		first := 0
+		if rule == unitsIf {
+			first = 1
+		}
+		for i := first + 1; i < len(args); i++ {
+			if !args[i].dim.Equal(args[first].dim) {
+				c.errorf(f, x.Args[i].Pos(), "arguments of %s must share a unit: %s vs %s", name, orOne(unitText(c.display(args[first]))), orOne(unitText(c.display(args[i]))))
+				return val{bad: true}
+			}
+		}
+		res.dim, res.hint = args[first].dim, args[first].hint
+		if res.hint == nil && len(args) > first+1 {
+			res.hint = args[first+1].hint
+		}
+	case unitsSqrt:
+		d, err := args[0].dim.Pow(1, 2)
+		if err != nil {
+			c.errorf(f, x.Args[0].Pos(), "sqrt of %s: %v", unitText(c.display(args[0])), err)
+			return val{bad: true}
+		}
+		res.dim = d
+	case unitsFirst:
+		for i := 1; i < len(args); i++ {
+			if !args[i].dim.IsDimensionless() {
+				c.errorf(f, x.Args[i].Pos(), "argument %d of %s must be dimensionless, found %s", i+1, name, unitText(c.display(args[i])))
+				return val{bad: true}
+			}
+		}
+		res.dim, res.hint = args[0].dim, args[0].hint
+	}
+	switch {
+	case variadic:
+		op := OpMin
+		if name == "max" {
+			op = OpMax
+		}
+		s := args[0].slot
+		for _, a := range args[1:] {
+			s = c.b.Binary(op, s, a.slot)
+		}
+		res.slot = s
+	case len(args) == 1:
+		res.slot = c.b.Unary(info.Op, args[0].slot)
+	case len(args) == 2:
+		res.slot = c.b.Binary(info.Op, args[0].slot, args[1].slot)
+	default:
+		slots := make([]Slot, len(args))
+		for i, a := range args {
+			slots[i] = a.slot
+		}
+		res.slot = c.b.Call(info.Op, slots...)
+	}
+	if v, ok := c.b.IsConst(res.slot); ok {
+		res.konst, res.c = true, v
+	}
+	return res
+}
+
+func lookupFunc(name string) *FuncInfo {
+	for i := range Functions {
+		if Functions[i].Name == name {
+			return &Functions[i]
+		}
+	}
+	return nil
+}
+
+func fmtG(v float64) string { return fmt.Sprintf("%.6g", v) }

@@ -1,0 +1,131 @@
+package sens
+
+import (
+	"math"
+	"sort"
+
+	"github.com/nudge-dev/nudge/sens/unit"
+)
+
+// DriverInput is one input's local effect on an output at the baseline.
+type DriverInput struct {
+	Name        string  `json:"name"`
+	Value       float64 `json:"value"`
+	Unit        string  `json:"unit"`
+	Partial     float64 `json:"partial"`
+	PartialUnit string  `json:"partial_unit"`
+	Elasticity  float64 `json:"elasticity"`
+	// Share is this input's part of the sum of |elasticity| (0..1), for bars.
+	Share float64 `json:"share"`
+}
+
+// Drivers is the result of the drivers analysis.
+type Drivers struct {
+	Kind   string        `json:"kind"` // "drivers"
+	Output string        `json:"output"`
+	Value  float64       `json:"value"`
+	Unit   string        `json:"unit"`
+	Inputs []DriverInput `json:"inputs"`
+	// Steps lists step-shaped operations on the output's path, whose
+	// derivative is zero ("file:line:col").
+	Steps []string `json:"steps,omitempty"`
+}
+
+// ComputeDrivers returns the value of the output at the baseline, its partial
+// derivative with respect to every input (one reverse sweep), and the
+// elasticities
+//
+//	e_i = ∂y/∂x_i · x_i / y
+//
+// ranked by |e_i| descending, ties by name. An elasticity is the percentage
+// change of the output per percent change of the input; when y = 0 it is
+// undefined and reported as 0, and the ranking falls back to |∂y/∂x_i · x_i|.
+func ComputeDrivers(p *Problem) (*Drivers, error) {
+	x := p.Baseline()
+	g := make([]float64, len(x))
+	y, err := p.F.Gradient(g, x)
+	if err != nil {
+		return nil, err
+	}
+	d := &Drivers{Kind: "drivers", Output: p.Output, Value: y, Unit: p.Unit}
+	var sum float64
+	for i, in := range p.Inputs {
+		di := DriverInput{Name: in.Name, Value: in.Value, Unit: in.Unit, Partial: g[i], PartialUnit: PartialUnit(p.Unit, in.Unit, in)}
+		if y != 0 {
+			di.Elasticity = g[i] * in.Value / y
+		}
+		d.Inputs = append(d.Inputs, di)
+		sum += math.Abs(g[i] * in.Value)
+	}
+	for i := range d.Inputs {
+		if sum > 0 {
+			d.Inputs[i].Share = math.Abs(d.Inputs[i].Partial*d.Inputs[i].Value) / sum
+		}
+	}
+	sort.SliceStable(d.Inputs, func(i, j int) bool {
+		a, b := d.Inputs[i], d.Inputs[j]
+		ka, kb := math.Abs(a.Elasticity), math.Abs(b.Elasticity)
+		if y == 0 {
+			ka, kb = math.Abs(a.Partial*a.Value), math.Abs(b.Partial*b.Value)
+		}
+		if ka != kb {
+			return ka > kb
+		}
+		return a.Name < b.Name
+	})
+	for _, s := range p.Steps {
+		d.Steps = append(d.Steps, s.String())
+	}
+	return d, nil
+}
+
+// PartialUnit returns the unit of ∂out/∂in, in the output's display unit per
+// the input's own unit, simplified when that changes nothing ("kg" for $ per
+// $/kg; "$/h" for $ per h).
+func PartialUnit(out, inUnit string, in *Input) string {
+	if in != nil && in.u.Factor != 0 && !in.u.Dim.IsDimensionless() {
+		if s, ok := simplifyPartial(out, in); ok {
+			return s
+		}
+	}
+	switch {
+	case inUnit == "":
+		return out
+	case out == "":
+		return "1/" + wrapUnit(inUnit)
+	}
+	return out + "/" + wrapUnit(inUnit)
+}
+
+func wrapUnit(u string) string {
+	for _, r := range u {
+		if r == '/' || r == '*' || r == '·' || r == ' ' {
+			return "(" + u + ")"
+		}
+	}
+	return u
+}
+
+// simplifyPartial names the unit of ∂out/∂in by the simplest unit of its
+// dimension when that unit has the same scale (so the number is unchanged).
+func simplifyPartial(out string, in *Input) (string, bool) {
+	ou := unit.One()
+	if out != "" {
+		u, err := unit.Parse(out)
+		if err != nil {
+			return "", false
+		}
+		ou = u
+	}
+	q := ou.Div(in.u)
+	s := unit.Simplest(q.Dim)
+	if math.Abs(s.Factor-q.Factor) > 1e-12*math.Abs(q.Factor) {
+		return "", false
+	}
+	composed := out + "/" + wrapUnit(in.Unit)
+	text := unitText(s)
+	if len(text) > len(composed) {
+		return "", false
+	}
+	return text, true
+}

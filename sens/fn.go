@@ -1,0 +1,279 @@
+package sens
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
+)
+
+// Function is a scalar function of the inputs, in the user's units: what every
+// analysis works on. The compiled model provides one per output (Program.Fn);
+// tests and other programs can wrap plain Go functions with FuncOf.
+type Function interface {
+	// Eval returns f(x).
+	Eval(x []float64) (float64, error)
+	// Gradient writes ∂f/∂x into dst and returns f(x).
+	Gradient(dst, x []float64) (float64, error)
+	// EvalBatch evaluates f at n points stored row by row in xs (n × dim) into
+	// dst[:n].
+	EvalBatch(dst, xs []float64, n int) error
+	// Clone returns an independent copy for use on another goroutine.
+	Clone() Function
+}
+
+// Problem is one output to analyse: the function, its name and unit, and the
+// inputs with their baselines, ranges and distributions.
+type Problem struct {
+	Output string
+	Unit   string
+	F      Function
+	Inputs []*Input
+	// Steps lists where step-shaped operations (floor, ceil, round, if,
+	// comparisons) lie on the output's path; their derivative is zero.
+	Steps []syntax.Position
+}
+
+// Baseline returns the inputs' baseline values.
+func (p *Problem) Baseline() []float64 {
+	x := make([]float64, len(p.Inputs))
+	for i, in := range p.Inputs {
+		x[i] = in.Value
+	}
+	return x
+}
+
+// Settings are the common settings of analyses. A nil *Settings means the
+// defaults.
+type Settings struct {
+	// Ctx stops a long analysis early; nil means context.Background().
+	Ctx context.Context
+	// Progress, when set, is called from time to time with the work done and the
+	// work in all (in evaluations).
+	Progress func(done, total int)
+}
+
+func (s *Settings) ctx() context.Context {
+	if s == nil || s.Ctx == nil {
+		return context.Background()
+	}
+	return s.Ctx
+}
+
+func (s *Settings) progress(done, total int) {
+	if s != nil && s.Progress != nil {
+		s.Progress(done, total)
+	}
+}
+
+// ---- the compiled function of one output
+
+// Fn is one formula of a compiled program as a Function of every input, in the
+// inputs' own units, returning the formula in its display unit.
+type Fn struct {
+	prog  *Program
+	tape  *Tape
+	f     *Formula
+	scale float64 // 1 / display factor
+}
+
+// Fn returns the formula name as a Function.
+func (p *Program) Fn(name string) (*Fn, error) {
+	_, f := p.Lookup(name)
+	if f == nil {
+		if in, _ := p.Lookup(name); in != nil {
+			return nil, fmt.Errorf("%s is an input: analyse a formula that uses it", name)
+		}
+		return nil, fmt.Errorf("undefined: %s", name)
+	}
+	return &Fn{prog: p, tape: p.tape.Clone(), f: f, scale: 1 / f.u.Factor}, nil
+}
+
+// Problem returns the analysis problem for the formula name.
+func (p *Program) Problem(name string) (*Problem, error) {
+	fn, err := p.Fn(name)
+	if err != nil {
+		return nil, err
+	}
+	pr := &Problem{Output: name, Unit: fn.f.Unit, F: fn, Inputs: p.Inputs}
+	for _, s := range fn.f.steps {
+		e := p.pos[s]
+		pr.Steps = append(pr.Steps, e.file.Position(e.pos))
+	}
+	return pr, nil
+}
+
+// Formula returns the formula the function evaluates.
+func (fn *Fn) Formula() *Formula { return fn.f }
+
+// Clone returns an independent copy.
+func (fn *Fn) Clone() Function {
+	c := *fn
+	c.tape = fn.tape.Clone()
+	return &c
+}
+
+// Eval returns the formula's value at x.
+func (fn *Fn) Eval(x []float64) (float64, error) {
+	if err := fn.tape.Forward(x); err != nil {
+		return math.NaN(), fn.prog.evalError(err, x)
+	}
+	return fn.tape.Output(fn.f.out) * fn.scale, nil
+}
+
+// Gradient writes the partial derivatives into dst and returns the value.
+func (fn *Fn) Gradient(dst, x []float64) (float64, error) {
+	y, err := fn.tape.Gradient(dst, x, fn.f.out)
+	if err != nil {
+		return math.NaN(), fn.prog.evalError(err, x)
+	}
+	for i := range dst {
+		dst[i] *= fn.scale
+	}
+	return y * fn.scale, nil
+}
+
+// EvalBatch evaluates n points.
+func (fn *Fn) EvalBatch(dst, xs []float64, n int) error {
+	if err := fn.tape.ForwardBatch(dst, xs, n, fn.f.out); err != nil {
+		var x []float64
+		if de, ok := err.(*DomainError); ok && de.Sample >= 0 && de.Sample < n {
+			k := len(fn.prog.Inputs)
+			x = xs[de.Sample*k : (de.Sample+1)*k]
+		}
+		return fn.prog.evalError(err, x)
+	}
+	for i := range dst[:n] {
+		dst[i] *= fn.scale
+	}
+	return nil
+}
+
+// EvalError is a failure during evaluation (a domain error such as the log of a
+// negative number), placed at the formula and column that caused it, with the
+// input values that led there.
+type EvalError struct {
+	Pos     syntax.Position
+	Formula string
+	Msg     string
+	Source  string
+	Inputs  []string // "rate = -0.5", the inputs the formula depends on
+}
+
+func (e *EvalError) Error() string {
+	var b strings.Builder
+	if e.Pos.Line > 0 {
+		b.WriteString(e.Pos.String() + ": ")
+	}
+	b.WriteString(e.Msg)
+	if e.Formula != "" {
+		b.WriteString(" in " + e.Formula)
+	}
+	if len(e.Inputs) > 0 {
+		b.WriteString(" (with " + strings.Join(e.Inputs, ", ") + ")")
+	}
+	return b.String()
+}
+
+// SyntaxError returns e as a positioned error with its source line, for caret
+// display.
+func (e *EvalError) SyntaxError() *syntax.Error {
+	msg := e.Msg
+	if e.Formula != "" {
+		msg += " in " + e.Formula
+	}
+	if len(e.Inputs) > 0 {
+		msg += " (with " + strings.Join(e.Inputs, ", ") + ")"
+	}
+	return &syntax.Error{Pos: e.Pos, Msg: msg, Source: e.Source}
+}
+
+func (p *Program) evalError(err error, x []float64) error {
+	de, ok := err.(*DomainError)
+	if !ok {
+		return err
+	}
+	e := &EvalError{Msg: de.Msg}
+	if int(de.Pos) >= 0 && int(de.Pos) < len(p.pos) {
+		pe := p.pos[de.Pos]
+		e.Pos = pe.file.Position(pe.pos)
+		e.Source = pe.file.Line(e.Pos.Line)
+		e.Formula = pe.formula
+		if _, f := p.Lookup(pe.formula); f != nil && x != nil {
+			for _, i := range f.Deps {
+				in := p.Inputs[i]
+				s := in.Name + " = " + fmtG(x[i])
+				if in.Unit != "" {
+					s += " [" + in.Unit + "]"
+				}
+				e.Inputs = append(e.Inputs, s)
+			}
+		}
+	}
+	return e
+}
+
+// ---- plain Go functions
+
+// FuncOf wraps a Go function and its gradient as a Function. grad may be nil,
+// in which case Gradient uses central differences (for tests and examples).
+func FuncOf(dim int, f func(x []float64) float64, grad func(dst, x []float64)) Function {
+	return &goFunc{dim: dim, f: f, grad: grad}
+}
+
+type goFunc struct {
+	dim  int
+	f    func([]float64) float64
+	grad func(dst, x []float64)
+}
+
+func (g *goFunc) Clone() Function { c := *g; return &c }
+
+func (g *goFunc) Eval(x []float64) (float64, error) {
+	y := g.f(x)
+	if math.IsNaN(y) || math.IsInf(y, 0) {
+		return y, fmt.Errorf("function value is %g", y)
+	}
+	return y, nil
+}
+
+func (g *goFunc) Gradient(dst, x []float64) (float64, error) {
+	if g.grad != nil {
+		g.grad(dst, x)
+	} else {
+		xx := append([]float64(nil), x...)
+		for i := range x {
+			h := 1e-6 * math.Max(1, math.Abs(x[i]))
+			xx[i] = x[i] + h
+			fp := g.f(xx)
+			xx[i] = x[i] - h
+			fm := g.f(xx)
+			xx[i] = x[i]
+			dst[i] = (fp - fm) / (2 * h)
+		}
+	}
+	return g.Eval(x)
+}
+
+func (g *goFunc) EvalBatch(dst, xs []float64, n int) error {
+	for i := 0; i < n; i++ {
+		y, err := g.Eval(xs[i*g.dim : (i+1)*g.dim])
+		if err != nil {
+			return err
+		}
+		dst[i] = y
+	}
+	return nil
+}
+
+// NewInput returns an input for problems built by hand (tests, examples, other
+// programs): a baseline, a range and optionally a distribution.
+func NewInput(name string, value, low, high float64, dist Dist) *Input {
+	src := RangeExplicit
+	if low == high && dist != nil {
+		low, high, src = dist.Quantile(0.1), dist.Quantile(0.9), RangeDistribution
+	}
+	return &Input{Name: name, Value: value, Low: low, High: high, Source: src, Dist: dist}
+}

@@ -1,0 +1,800 @@
+package syntax
+
+import (
+	"math"
+	"strings"
+)
+
+// The grammar, in EBNF. Newlines end statements except inside parentheses, where
+// they are ignored; a backslash at the end of a line continues it.
+//
+//	file      = { [ stmt ] NEWLINE } EOF .
+//	stmt      = input | formula | command | expr [ UNIT ] .
+//	input     = "input" name "=" expr [ UNIT ] { range | dist } .
+//	range     = "(" bound ".." bound ")" | "(" "±" bound ")" .
+//	bound     = [ "+" | "-" ] NUMBER [ "%" ] .
+//	dist      = "~" name "(" [ expr { "," expr } ] ")" .
+//	formula   = name "=" expr [ UNIT ] .
+//	command   = verb ... (see CommandStmt) .
+//	expr      = or .
+//	or        = and { "or" and } .
+//	and       = not { "and" not } .
+//	not       = "not" not | compare .
+//	compare   = sum [ ( "==" | "!=" | "<" | "<=" | ">" | ">=" ) sum ] .
+//	sum       = product { ( "+" | "-" ) product } .
+//	product   = unary { ( "*" | "/" ) unary } .
+//	unary     = ( "-" | "+" ) unary | power .
+//	power     = primary [ "^" unary ] .
+//	primary   = NUMBER [ UNIT ] | name | name "(" [ expr { "," expr } ] ")" | "(" expr ")" .
+//
+// A unit in brackets right after a number belongs to that number (90 [min] * rate),
+// except the last bracket of an input or formula line, which is the line's declared
+// unit (total = units * price [$]). When a formula's whole value is one number, the
+// declared unit is that number's unit as well (lead_time = 6 [wk]).
+
+// MaxDepth is the deepest nesting of expressions the parser accepts.
+const MaxDepth = 200
+
+// Parse parses src as a model file or notebook cell named name. It returns every
+// statement it could parse and the errors it found (an ErrorList, or nil).
+func Parse(name string, src []byte) (*File, []Stmt, error) {
+	f := NewFile(name, src)
+	var p parser
+	p.init(f)
+	stmts := p.parseFile()
+	p.errs.Sort()
+	if len(p.errs) > maxErrors {
+		p.errs = p.errs[:maxErrors]
+	}
+	return f, stmts, p.errs.Err()
+}
+
+// ParseExpr parses a single expression, for tools such as completion and tests.
+func ParseExpr(src string) (Expr, error) {
+	f := NewFile("", []byte(src))
+	var p parser
+	p.init(f)
+	x := p.parseExpr()
+	if p.tok != EOF && p.tok != NEWLINE {
+		p.errorExpected("end of expression")
+	}
+	p.errs.Sort()
+	return x, p.errs.Err()
+}
+
+type token struct {
+	tok Token
+	pos Pos
+	lit string
+}
+
+type parser struct {
+	file *File
+	errs ErrorList
+	toks []token
+	i    int
+
+	// current token
+	tok Token
+	pos Pos
+	lit string
+
+	depth    int  // expression nesting
+	stmtUnit bool // a trailing unit at the end of the line belongs to the statement
+	nested   int  // inside parentheses or call arguments
+}
+
+type bailout struct{}
+
+func (p *parser) init(f *File) {
+	p.file = f
+	var s Scanner
+	s.Init(f, &p.errs)
+	var open []Pos // positions of unclosed '('
+	lineStart := true
+	var lastNL Pos
+	for {
+		tok, pos, lit := s.Scan()
+		if tok == COMMENT {
+			continue
+		}
+		if tok == NEWLINE && len(open) > 0 {
+			lineStart, lastNL = true, pos
+			continue
+		}
+		// Inside parentheses, a line that looks like a new statement means a
+		// parenthesis was left open: report it there and start afresh.
+		if lineStart && len(open) > 0 && p.looksLikeStatementStart(&s, tok, lit) {
+			p.errs.Add(f, open[len(open)-1], "'(' not closed: expected ')' before the end of the line")
+			p.toks = append(p.toks, token{NEWLINE, lastNL, "\n"})
+			open = open[:0]
+		}
+		lineStart = tok == NEWLINE
+		switch tok {
+		case LPAREN:
+			open = append(open, pos)
+		case RPAREN:
+			if len(open) > 0 {
+				open = open[:len(open)-1]
+			}
+		}
+		p.toks = append(p.toks, token{tok, pos, lit})
+		if tok == EOF {
+			if len(open) > 0 {
+				p.errs.Add(f, open[len(open)-1], "'(' not closed: expected ')'")
+			}
+			break
+		}
+	}
+	p.i = 0
+	p.load()
+}
+
+// looksLikeStatementStart reports whether a line inside open parentheses starts
+// with "input" or "name =", which cannot continue an expression.
+func (p *parser) looksLikeStatementStart(s *Scanner, tok Token, lit string) bool {
+	if tok == INPUT {
+		return true
+	}
+	if tok != IDENT {
+		return false
+	}
+	save, n := s.off, len(p.errs)
+	next, _, _ := s.Scan()
+	s.off = save
+	p.errs = p.errs[:n]
+	return next == ASSIGN
+}
+
+func (p *parser) load() {
+	t := p.toks[p.i]
+	p.tok, p.pos, p.lit = t.tok, t.pos, t.lit
+}
+
+func (p *parser) next() {
+	if p.i < len(p.toks)-1 {
+		p.i++
+	}
+	p.load()
+}
+
+func (p *parser) peek(k int) Token {
+	if p.i+k < len(p.toks) {
+		return p.toks[p.i+k].tok
+	}
+	return EOF
+}
+
+func (p *parser) error(pos Pos, msg string) {
+	p.errs.Add(p.file, pos, msg)
+	panic(bailout{})
+}
+
+func (p *parser) describe() string {
+	switch p.tok {
+	case IDENT:
+		return "name " + p.lit
+	case NUMBER:
+		return "number " + p.lit
+	case STRING:
+		return "string"
+	case UNIT:
+		return "unit [" + p.lit + "]"
+	case NEWLINE:
+		return "end of line"
+	case EOF:
+		return "end of input"
+	case ILLEGAL:
+		return p.lit
+	}
+	return "'" + p.tok.String() + "'"
+}
+
+func (p *parser) errorExpected(what string) {
+	p.error(p.pos, "expected "+what+", found "+p.describe())
+}
+
+func (p *parser) expect(tok Token) Pos {
+	pos := p.pos
+	if p.tok != tok {
+		p.errorExpected("'" + tok.String() + "'")
+	}
+	p.next()
+	return pos
+}
+
+func (p *parser) atEnd() bool { return p.tok == NEWLINE || p.tok == EOF }
+
+// ---- Statements
+
+func (p *parser) parseFile() []Stmt {
+	var stmts []Stmt
+	for p.tok != EOF {
+		if p.tok == NEWLINE {
+			p.next()
+			continue
+		}
+		if s := p.parseStmtSafe(); s != nil {
+			stmts = append(stmts, s)
+		}
+		if len(p.errs) > maxErrors {
+			break
+		}
+	}
+	return stmts
+}
+
+// parseStmtSafe parses one statement; on an error it skips to the next line.
+func (p *parser) parseStmtSafe() (s Stmt) {
+	defer func() {
+		if r := recover(); r != nil {
+			if _, ok := r.(bailout); !ok {
+				panic(r)
+			}
+			s = nil
+			p.depth, p.nested, p.stmtUnit = 0, 0, false
+			for !p.atEnd() {
+				p.next()
+			}
+		}
+	}()
+	s = p.parseStmt()
+	if !p.atEnd() {
+		p.errorExpected("end of line")
+	}
+	return s
+}
+
+func (p *parser) parseStmt() Stmt {
+	switch {
+	case p.tok == INPUT:
+		return p.parseInput()
+	case p.tok == IDENT && p.peek(1) == ASSIGN:
+		return p.parseFormula()
+	case p.tok == IDENT && IsVerb(p.lit):
+		return p.parseCommand()
+	case p.tok == ILLEGAL:
+		p.error(p.pos, "unexpected "+p.lit)
+	}
+	p.stmtUnit = true
+	x := p.parseExpr()
+	p.stmtUnit = false
+	s := &ExprStmt{X: x}
+	if p.tok == UNIT {
+		s.Unit = p.parseUnit()
+	}
+	if p.tok == ASSIGN {
+		p.error(p.pos, "cannot assign to an expression: the left of '=' must be a name")
+	}
+	return s
+}
+
+func (p *parser) parseIdent() *Ident {
+	if p.tok != IDENT {
+		if p.tok >= keywordBeg && p.tok <= keywordEnd {
+			p.error(p.pos, "expected name, found keyword "+p.tok.String())
+		}
+		p.errorExpected("name")
+	}
+	id := &Ident{NamePos: p.pos, Name: p.lit}
+	p.next()
+	return id
+}
+
+func (p *parser) parseUnit() *UnitLit {
+	u := &UnitLit{Lbrack: p.pos, Text: strings.TrimSpace(p.lit)}
+	u.Rbrack = p.pos + Pos(len(p.lit)) + 1
+	p.next()
+	return u
+}
+
+func (p *parser) parseInput() *InputStmt {
+	s := &InputStmt{Input: p.pos}
+	p.next()
+	s.Name = p.parseIdent()
+	if p.tok != ASSIGN {
+		p.error(p.pos, "expected '=' and a value after input "+s.Name.Name+", found "+p.describe())
+	}
+	p.next()
+	p.stmtUnit = true
+	s.Value = p.parseExpr()
+	p.stmtUnit = false
+	if p.tok == UNIT {
+		s.Unit = p.parseUnit()
+	}
+	if lit, ok := s.Value.(*NumberLit); ok && s.Unit == nil && lit.Unit != nil {
+		s.Unit = lit.Unit
+	}
+	for !p.atEnd() {
+		switch p.tok {
+		case LPAREN:
+			if s.Range != nil {
+				p.error(p.pos, "input "+s.Name.Name+" already has a range")
+			}
+			s.Range = p.parseRange()
+		case TILDE:
+			if s.Dist != nil {
+				p.error(p.pos, "input "+s.Name.Name+" already has a distribution")
+			}
+			s.Dist = p.parseDist()
+		case UNIT:
+			p.error(p.pos, "the unit goes right after the value: input "+s.Name.Name+" = VALUE [UNIT] (RANGE)")
+		default:
+			p.errorExpected("a range in parentheses, '~' and a distribution, or end of line")
+		}
+	}
+	s.EndAt = p.pos
+	return s
+}
+
+// parseRange parses (low..high), (-5%..+8%) or (±20%).
+func (p *parser) parseRange() *RangeSpec {
+	r := &RangeSpec{Lparen: p.pos}
+	p.next()
+	if p.tok == PM {
+		p.next()
+		b := p.parseBound(true)
+		if b.Value < 0 {
+			p.error(b.ValuePos, "a ± span must be positive")
+		}
+		r.Symmetric = true
+		r.High = b
+		r.Low = Bound{ValuePos: b.ValuePos, Value: -b.Value, Percent: b.Percent, Lit: "-" + strings.TrimPrefix(b.Lit, "+")}
+	} else {
+		r.Low = p.parseBound(false)
+		if p.tok != DOTDOT {
+			p.errorExpected("'..' between the low and high ends of the range")
+		}
+		p.next()
+		r.High = p.parseBound(false)
+		if r.Low.Percent != r.High.Percent {
+			p.error(r.Lparen, "range mixes a percentage and a value: write both ends as percentages or both as values")
+		}
+	}
+	if p.tok != RPAREN {
+		p.errorExpected("')' to close the range")
+	}
+	r.Rparen = p.pos
+	p.next()
+	if r.Low.Value > r.High.Value {
+		p.error(r.Low.ValuePos, errorf("range is reversed: low end %s is above high end %s", r.Low.Lit, r.High.Lit))
+	}
+	return r
+}
+
+func (p *parser) parseBound(unsigned bool) Bound {
+	b := Bound{ValuePos: p.pos}
+	sign := 1.0
+	lit := ""
+	if !unsigned && (p.tok == SUB || p.tok == ADD) {
+		if p.tok == SUB {
+			sign, lit = -1, "-"
+		} else {
+			lit = "+"
+		}
+		p.next()
+	}
+	if p.tok != NUMBER {
+		p.errorExpected("a number")
+	}
+	v, err := ParseNumber(p.lit)
+	if err != nil {
+		p.error(p.pos, "malformed number "+p.lit)
+	}
+	b.Value = sign * v
+	b.Lit = lit + p.lit
+	p.next()
+	if p.tok == PERCENT {
+		b.Percent = true
+		b.Lit += "%"
+		p.next()
+	} else if p.tok == UNIT {
+		p.error(p.pos, "a range is written in the input's own unit: drop the unit here")
+	}
+	return b
+}
+
+func (p *parser) parseDist() *DistSpec {
+	d := &DistSpec{Tilde: p.pos}
+	p.next()
+	if p.tok != IDENT {
+		p.errorExpected("a distribution such as normal(mean, sd)")
+	}
+	d.Name = p.parseIdent()
+	if p.tok != LPAREN {
+		p.errorExpected("'(' and the parameters of " + d.Name.Name)
+	}
+	d.Lparen, d.Args, d.Rparen = p.parseArgs()
+	return d
+}
+
+func (p *parser) parseFormula() *FormulaStmt {
+	s := &FormulaStmt{Name: p.parseIdent()}
+	s.Assign = p.pos
+	p.next()
+	if p.atEnd() {
+		p.error(p.pos, "expected a formula after '=', found "+p.describe())
+	}
+	p.stmtUnit = true
+	s.Value = p.parseExpr()
+	p.stmtUnit = false
+	if p.tok == UNIT {
+		s.Unit = p.parseUnit()
+		if lit, ok := s.Value.(*NumberLit); ok && lit.Unit == nil {
+			lit.Unit = s.Unit
+		}
+	}
+	s.EndAt = p.pos
+	return s
+}
+
+func (p *parser) parseCommand() *CommandStmt {
+	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
+	p.next()
+	switch c.Verb {
+	case "reset":
+	case "print":
+		if p.tok != STRING {
+			p.errorExpected(`text in double quotes: print "text"`)
+		}
+		c.Text = p.lit
+		p.next()
+	case "scenario":
+		c.Name = p.parseIdent()
+		if p.tok != COLON {
+			p.errorExpected("':' and settings: scenario " + c.Name.Name + ": x = 1, y = 2")
+		}
+		p.next()
+		for {
+			a := &Assign{Name: p.parseIdent()}
+			if p.tok != ASSIGN {
+				p.errorExpected("'=' after " + a.Name.Name)
+			}
+			p.next()
+			a.Value = p.parseArith()
+			c.Assigns = append(c.Assigns, a)
+			if p.tok != COMMA {
+				break
+			}
+			p.next()
+		}
+	case "compare":
+		c.Output = p.parseArith()
+		p.expectWord("across", "compare "+exprString(c.Output)+" across base, NAME")
+		for {
+			c.Names = append(c.Names, p.parseIdent())
+			if p.tok != COMMA {
+				break
+			}
+			p.next()
+		}
+	case "spider":
+		c.Output = p.parseIdent()
+		if p.tok == LPAREN {
+			c.Percent = p.parseRange()
+			if !c.Percent.Low.Percent {
+				p.error(c.Percent.Lparen, "spider takes a percentage span such as (±30%)")
+			}
+		}
+	case "sweep":
+		c.Output = p.parseArith()
+		p.expectWord("over", "sweep "+exprString(c.Output)+" over INPUT LOW..HIGH")
+		c.Axes = append(c.Axes, p.parseAxis(true))
+		if p.tok == AND {
+			p.next()
+			c.Axes = append(c.Axes, p.parseAxis(true))
+		}
+	case "breakeven":
+		c.Output = p.parseArith()
+		if p.tok != ASSIGN {
+			p.errorExpected("'=' and a target: breakeven " + exprString(c.Output) + " = TARGET over INPUT")
+		}
+		p.next()
+		c.Target = p.parseArith()
+		p.expectWord("over", "breakeven "+exprString(c.Output)+" = TARGET over INPUT")
+		c.Axes = append(c.Axes, p.parseAxis(false))
+	default: // drivers, tornado, simulate, sobol, morris, screen
+		if p.atEnd() {
+			p.error(p.pos, c.Verb+" needs an output: "+c.Verb+" NAME")
+		}
+		c.Output = p.parseArith()
+	}
+	for p.tok == IDENT && p.peek(1) == ASSIGN {
+		o := &Option{Key: p.parseIdent()}
+		p.next()
+		o.Value = p.parseArith()
+		c.Options = append(c.Options, o)
+	}
+	if !p.atEnd() {
+		if p.tok == IDENT {
+			p.error(p.pos, "unexpected "+p.describe()+" after "+c.Verb+" (options are written key=value)")
+		}
+		p.errorExpected("end of line")
+	}
+	c.EndAt = p.pos
+	return c
+}
+
+func (p *parser) expectWord(word, form string) {
+	if p.tok != IDENT || p.lit != word {
+		p.error(p.pos, "expected '"+word+"', found "+p.describe()+" (write: "+form+")")
+	}
+	p.next()
+}
+
+// parseAxis parses NAME [LOW..HIGH]; the span is required when need is set.
+func (p *parser) parseAxis(need bool) *Axis {
+	a := &Axis{Name: p.parseIdent()}
+	if !need && (p.atEnd() || p.tok == IDENT && p.peek(1) == ASSIGN) {
+		return a
+	}
+	a.Low = p.parseArith()
+	if p.tok != DOTDOT {
+		p.errorExpected("'..' between the ends of the span (" + a.Name.Name + " LOW..HIGH)")
+	}
+	p.next()
+	a.High = p.parseArith()
+	return a
+}
+
+// ---- Expressions
+
+func (p *parser) parseExpr() Expr { return p.parseBinary(1) }
+
+// parseArith parses an expression without comparisons or logic, so that words
+// such as "and" and "over" end it inside commands.
+func (p *parser) parseArith() Expr {
+	save := p.stmtUnit
+	p.stmtUnit = false
+	defer func() { p.stmtUnit = save }()
+	return p.parseBinary(4)
+}
+
+func (p *parser) enter() {
+	p.depth++
+	if p.depth > MaxDepth {
+		p.error(p.pos, errorf("expression nested too deeply (more than %d levels)", MaxDepth))
+	}
+}
+
+func (p *parser) leave() { p.depth-- }
+
+func (p *parser) parseBinary(prec1 int) Expr {
+	p.enter()
+	defer p.leave()
+	var x Expr
+	if p.tok == NOT && prec1 <= 3 {
+		pos := p.pos
+		p.next()
+		x = &UnaryExpr{OpPos: pos, Op: NOT, X: p.parseBinary(3)}
+	} else {
+		x = p.parseUnary()
+	}
+	for {
+		op, oprec := p.tok, p.tok.Precedence()
+		if oprec < prec1 || op == POW {
+			return x
+		}
+		pos := p.pos
+		p.next()
+		if p.atEnd() {
+			p.error(p.pos, "expected an operand after '"+op.String()+"', found "+p.describe())
+		}
+		y := p.parseBinary(oprec + 1)
+		if op.IsComparison() {
+			if b, ok := x.(*BinaryExpr); ok && b.Op.IsComparison() {
+				p.error(pos, "comparisons do not chain: write a < b and b < c")
+			}
+		}
+		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: y}
+	}
+}
+
+func (p *parser) parseUnary() Expr {
+	switch p.tok {
+	case SUB, ADD:
+		pos, op := p.pos, p.tok
+		p.next()
+		p.enter()
+		defer p.leave()
+		return &UnaryExpr{OpPos: pos, Op: op, X: p.parseUnary()}
+	case NOT:
+		p.error(p.pos, "'not' applies to a condition: use it inside if(...)")
+	}
+	return p.parsePower()
+}
+
+func (p *parser) parsePower() Expr {
+	x := p.parsePrimary()
+	if p.tok == POW {
+		pos := p.pos
+		p.next()
+		p.enter()
+		defer p.leave()
+		y := p.parseUnary() // right-associative: 2^3^2 = 2^(3^2); 2^-1 allowed
+		return &BinaryExpr{X: x, OpPos: pos, Op: POW, Y: y}
+	}
+	return x
+}
+
+func (p *parser) parsePrimary() Expr {
+	switch p.tok {
+	case NUMBER:
+		v, err := ParseNumber(p.lit)
+		if err != nil && !math.IsInf(v, 0) {
+			p.error(p.pos, "malformed number "+p.lit)
+		}
+		if math.IsInf(v, 0) {
+			p.error(p.pos, "number "+p.lit+" is too large")
+		}
+		x := &NumberLit{ValuePos: p.pos, Lit: p.lit, Value: v}
+		p.next()
+		if p.tok == UNIT && !p.unitEndsStatement() {
+			x.Unit = p.parseUnit()
+		}
+		return x
+	case IDENT:
+		id := p.parseIdent()
+		if p.tok == LPAREN {
+			lp, args, rp := p.parseArgs()
+			return &CallExpr{Fun: id, Lparen: lp, Args: args, Rparen: rp}
+		}
+		return id
+	case LPAREN:
+		lp := p.pos
+		p.next()
+		p.nested++
+		x := p.parseExpr()
+		p.nested--
+		if p.tok != RPAREN {
+			p.errorExpected("')'")
+		}
+		rp := p.pos
+		p.next()
+		return &ParenExpr{Lparen: lp, X: x, Rparen: rp}
+	case UNIT:
+		p.error(p.pos, "a unit must follow a number or end the line: write 5 ["+p.lit+"]")
+	case STRING:
+		p.error(p.pos, "text in quotes is only for print \"...\"")
+	case ASSIGN:
+		p.error(p.pos, "unexpected '=': use == to compare")
+	}
+	if p.tok >= keywordBeg && p.tok <= keywordEnd {
+		p.error(p.pos, "expected an operand, found keyword "+p.tok.String())
+	}
+	p.errorExpected("an operand (a number, a name or '(')")
+	return nil
+}
+
+// unitEndsStatement reports whether the UNIT at hand is the declared unit of the
+// statement rather than the unit of the number before it.
+func (p *parser) unitEndsStatement() bool {
+	if !p.stmtUnit || p.nested > 0 {
+		return false
+	}
+	switch p.peek(1) {
+	case NEWLINE, EOF, LPAREN, TILDE:
+		return true
+	}
+	return false
+}
+
+func (p *parser) parseArgs() (lp Pos, args []Expr, rp Pos) {
+	lp = p.pos
+	p.next()
+	p.nested++
+	saveUnit := p.stmtUnit
+	p.stmtUnit = false
+	for p.tok != RPAREN {
+		args = append(args, p.parseExpr())
+		if p.tok == COMMA {
+			p.next()
+			if p.tok == RPAREN {
+				p.error(p.pos, "expected an argument after ','")
+			}
+			continue
+		}
+		if p.tok != RPAREN {
+			p.errorExpected("',' or ')'")
+		}
+	}
+	p.stmtUnit = saveUnit
+	p.nested--
+	rp = p.pos
+	p.next()
+	return lp, args, rp
+}
+
+// exprString renders x compactly, for messages.
+func exprString(x Expr) string {
+	var b strings.Builder
+	writeExpr(&b, x)
+	return b.String()
+}
+
+// String returns x as source text with canonical spacing.
+func String(x Expr) string { return exprString(x) }
+
+func writeExpr(b *strings.Builder, x Expr) {
+	switch x := x.(type) {
+	case nil:
+		b.WriteString("?")
+	case *Ident:
+		b.WriteString(x.Name)
+	case *NumberLit:
+		b.WriteString(x.Lit)
+		if x.Unit != nil {
+			b.WriteString(" [" + x.Unit.Text + "]")
+		}
+	case *ParenExpr:
+		b.WriteByte('(')
+		writeExpr(b, x.X)
+		b.WriteByte(')')
+	case *UnaryExpr:
+		b.WriteString(x.Op.String())
+		if x.Op == NOT {
+			b.WriteByte(' ')
+		}
+		writeExpr(b, x.X)
+	case *BinaryExpr:
+		writeExpr(b, x.X)
+		if x.Op == POW {
+			b.WriteString("^")
+		} else {
+			b.WriteString(" " + x.Op.String() + " ")
+		}
+		writeExpr(b, x.Y)
+	case *CallExpr:
+		b.WriteString(x.Fun.Name + "(")
+		for i, a := range x.Args {
+			if i > 0 {
+				b.WriteString(", ")
+			}
+			writeExpr(b, a)
+		}
+		b.WriteByte(')')
+	case *UnitLit:
+		b.WriteString("[" + x.Text + "]")
+	}
+}
+
+// Incomplete reports whether src ends inside open parentheses, an unterminated
+// string, a trailing operator or a line continuation, so that a front end can ask
+// for more lines.
+func Incomplete(src string) bool {
+	t := strings.TrimRight(src, " \t\r\n")
+	if strings.HasSuffix(t, "\\") {
+		return true
+	}
+	f := NewFile("", []byte(src))
+	var errs ErrorList
+	var s Scanner
+	s.Init(f, &errs)
+	depth := 0
+	last := NEWLINE
+	for {
+		tok, _, _ := s.Scan()
+		switch tok {
+		case EOF:
+			if depth > 0 {
+				return true
+			}
+			switch last {
+			case ADD, SUB, MUL, QUO, POW, ASSIGN, COMMA, AND, OR, NOT, LSS, LEQ, GTR, GEQ, EQL, NEQ, TILDE, DOTDOT, PM:
+				return true
+			}
+			return false
+		case LPAREN:
+			depth++
+		case RPAREN:
+			depth--
+		case COMMENT:
+			continue
+		case NEWLINE:
+			if depth > 0 {
+				continue
+			}
+		}
+		last = tok
+	}
+}

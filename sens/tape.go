@@ -1,0 +1,449 @@
+package sens
+
+import (
+	"fmt"
+	"math"
+	"slices"
+)
+
+// Slot names a value under construction in a Builder: an input, a
+// constant or the result of an operation.
+type Slot int32
+
+// bnode is one node of a Builder.
+type bnode struct {
+	op   Op
+	args [3]Slot
+	pos  int32
+	val  float64 // OpConst: the value; OpInput: the input number
+}
+
+type cseKey struct {
+	op      Op
+	a, b, c Slot
+}
+
+// Builder records a computation as a directed acyclic graph of
+// operations and freezes it into a Tape.
+//
+// It simplifies as nodes are added: an operation whose operands are all
+// constants is folded to a constant (unless the result is NaN or ±Inf,
+// which is kept as a node so that evaluation reports it with its
+// position); constants are shared; an operation repeated on the same
+// operands is shared (the first one's position is kept); and
+//
+//	x + 0, 0 + x, x - 0, x * 1, 1 * x, x / 1, x ^ 1  ->  x
+//	0 - x  ->  -x,   -(-x)  ->  x,   x ^ 2  ->  x*x (OpSquare)
+//	x ^ c  ->  OpPowConst for a constant c
+//
+// x * 0 is not folded to 0: it is 0 only for a finite x, and a NaN or
+// Inf in x must still be reported.
+//
+// A Builder is not safe for concurrent use.
+type Builder struct {
+	nodes  []bnode
+	consts map[uint64]Slot
+	cse    map[cseKey]Slot
+	inputs []Slot
+	pos    int32
+}
+
+// NewBuilder returns an empty Builder.
+func NewBuilder() *Builder {
+	return &Builder{consts: map[uint64]Slot{}, cse: map[cseKey]Slot{}}
+}
+
+// SetPos sets the source position attached to every node added until the
+// next SetPos. The position is an opaque number chosen by the caller;
+// domain errors and StepOps report it.
+func (b *Builder) SetPos(p int32) { b.pos = p }
+
+// Input adds an input. Inputs are numbered 0, 1, ... in the order of the
+// calls; the number is the index into the x slices of the Tape methods.
+func (b *Builder) Input() Slot {
+	s := Slot(len(b.nodes))
+	b.nodes = append(b.nodes, bnode{op: OpInput, pos: b.pos, val: float64(len(b.inputs)), args: [3]Slot{-1, -1, -1}})
+	b.inputs = append(b.inputs, s)
+	return s
+}
+
+// NumInputs returns the number of inputs added so far.
+func (b *Builder) NumInputs() int { return len(b.inputs) }
+
+// Const adds the constant v, or returns the slot of an equal constant
+// (same bits) added before.
+func (b *Builder) Const(v float64) Slot {
+	key := math.Float64bits(v)
+	if s, ok := b.consts[key]; ok {
+		return s
+	}
+	s := Slot(len(b.nodes))
+	b.nodes = append(b.nodes, bnode{op: OpConst, pos: b.pos, val: v, args: [3]Slot{-1, -1, -1}})
+	b.consts[key] = s
+	return s
+}
+
+// IsConst reports whether s is a constant, and its value.
+func (b *Builder) IsConst(s Slot) (float64, bool) {
+	b.checkSlot(s)
+	if n := b.nodes[s]; n.op == OpConst {
+		return n.val, true
+	}
+	return 0, false
+}
+
+func (b *Builder) checkSlot(s Slot) {
+	if s < 0 || int(s) >= len(b.nodes) {
+		panic(fmt.Sprintf("sens: slot %d not made by this builder", s))
+	}
+}
+
+func (b *Builder) checkOp(op Op, n int) {
+	if op >= numOps || op == opArg || opMetas[op].arity == 0 {
+		panic(fmt.Sprintf("sens: %v is not an operation", op))
+	}
+	if int(opMetas[op].arity) != n {
+		panic(fmt.Sprintf("sens: %v takes %d arguments, not %d", op, opMetas[op].arity, n))
+	}
+}
+
+// Unary adds the one-argument operation op(x).
+func (b *Builder) Unary(op Op, x Slot) Slot {
+	b.checkOp(op, 1)
+	b.checkSlot(x)
+	if op == OpNeg && b.nodes[x].op == OpNeg {
+		return b.nodes[x].args[0]
+	}
+	return b.add(op, x, -1, -1)
+}
+
+// Binary adds the two-argument operation op(x, y), or x op y.
+func (b *Builder) Binary(op Op, x, y Slot) Slot {
+	b.checkOp(op, 2)
+	b.checkSlot(x)
+	b.checkSlot(y)
+	cx, xc := b.IsConst(x)
+	cy, yc := b.IsConst(y)
+	switch op {
+	case OpAdd:
+		if xc && !yc { // constant on the right
+			x, y, cx, cy, xc, yc = y, x, cy, cx, yc, xc
+		}
+		if yc && !xc && cy == 0 {
+			return x
+		}
+	case OpSub:
+		if yc && !xc && cy == 0 {
+			return x
+		}
+		if xc && !yc && cx == 0 && !math.Signbit(cx) {
+			return b.Unary(OpNeg, y)
+		}
+	case OpMul:
+		if xc && !yc {
+			x, y, cx, cy, xc, yc = y, x, cy, cx, yc, xc
+		}
+		if yc && !xc && cy == 1 {
+			return x
+		}
+	case OpDiv:
+		if yc && !xc && cy == 1 {
+			return x
+		}
+	case OpPow:
+		if yc && !xc {
+			switch cy {
+			case 1:
+				return x
+			case 2:
+				return b.add(OpSquare, x, -1, -1)
+			}
+			op = OpPowConst
+		}
+	case OpPowConst:
+		if !yc {
+			panic("sens: OpPowConst needs a constant exponent")
+		}
+		if !xc && cy == 2 {
+			return b.add(OpSquare, x, -1, -1)
+		}
+	}
+	_, _ = cx, xc
+	return b.add(op, x, y, -1)
+}
+
+// Call adds op applied to args; it takes any arity and is the way to add
+// the three-argument operations (OpIf, OpLearn, OpLearnTotal).
+func (b *Builder) Call(op Op, args ...Slot) Slot {
+	b.checkOp(op, len(args))
+	switch len(args) {
+	case 1:
+		return b.Unary(op, args[0])
+	case 2:
+		return b.Binary(op, args[0], args[1])
+	}
+	for _, a := range args {
+		b.checkSlot(a)
+	}
+	return b.add(op, args[0], args[1], args[2])
+}
+
+// Fold adds a left fold of the binary operation op over args:
+// op(op(op(a0, a1), a2), ...). It is how the variadic min and max are
+// built (a tie then credits the earliest argument). One argument is
+// returned as it is.
+func (b *Builder) Fold(op Op, args ...Slot) Slot {
+	if len(args) == 0 {
+		panic("sens: Fold of no arguments")
+	}
+	acc := args[0]
+	b.checkSlot(acc)
+	for _, a := range args[1:] {
+		acc = b.Binary(op, acc, a)
+	}
+	return acc
+}
+
+// add appends op(x, y, z) after folding and sharing.
+func (b *Builder) add(op Op, x, y, z Slot) Slot {
+	n := int(opMetas[op].arity)
+	args := [3]Slot{x, y, z}
+	allConst := true
+	var v [3]float64
+	for i := 0; i < n; i++ {
+		nd := b.nodes[args[i]]
+		if nd.op != OpConst {
+			allConst = false
+			break
+		}
+		v[i] = nd.val
+	}
+	if allConst {
+		if r := evalOp(op, v[0], v[1], v[2]); finite(r) {
+			return b.Const(r)
+		}
+	}
+	key := cseKey{op, x, y, z}
+	if s, ok := b.cse[key]; ok {
+		return s
+	}
+	s := Slot(len(b.nodes))
+	b.nodes = append(b.nodes, bnode{op: op, args: args, pos: b.pos})
+	b.cse[key] = s
+	return s
+}
+
+// Tape freezes the computation of the given outputs into a Tape. Nodes
+// that no output needs are dropped (inputs are all kept, with their
+// numbers). The Builder stays usable: Tape may be called again, and each
+// call returns an independent Tape.
+func (b *Builder) Tape(outputs ...Slot) *Tape {
+	nb := len(b.nodes)
+	live := make([]bool, nb)
+	for _, o := range outputs {
+		b.checkSlot(o)
+		live[o] = true
+	}
+	for k := nb - 1; k >= 0; k-- {
+		if !live[k] {
+			continue
+		}
+		nd := &b.nodes[k]
+		for i := 0; i < int(opMetas[nd.op].arity); i++ {
+			live[nd.args[i]] = true
+		}
+	}
+
+	idx := make([]int32, nb)
+	nIn := len(b.inputs)
+	for j, s := range b.inputs {
+		idx[s] = int32(j)
+	}
+	next := int32(nIn)
+	for k := range b.nodes {
+		if live[k] && b.nodes[k].op == OpConst {
+			idx[k] = next
+			next++
+		}
+	}
+	start := int(next)
+	for k := range b.nodes {
+		nd := &b.nodes[k]
+		if live[k] && nd.op != OpConst && nd.op != OpInput {
+			idx[k] = next
+			next++
+			if nd.op.Arity() == 3 {
+				next++ // opArg
+			}
+		}
+	}
+	n := int(next)
+
+	p := &tapeProg{
+		nIn:   nIn,
+		start: start,
+		ops:   make([]Op, n),
+		a:     make([]int32, n),
+		b:     make([]int32, n),
+		pos:   make([]int32, n),
+		outs:  make([]int32, len(outputs)),
+	}
+	vals := make([]float64, n)
+	for k := range b.nodes {
+		nd := &b.nodes[k]
+		if nd.op != OpInput && !live[k] {
+			continue
+		}
+		t := idx[k]
+		p.ops[t] = nd.op
+		p.pos[t] = nd.pos
+		switch ar := nd.op.Arity(); ar {
+		case 0:
+			p.a[t], p.b[t] = t, t
+			if nd.op == OpConst {
+				vals[t] = nd.val
+			}
+		case 1:
+			p.a[t] = idx[nd.args[0]]
+			p.b[t] = p.a[t]
+		default:
+			p.a[t] = idx[nd.args[0]]
+			p.b[t] = idx[nd.args[1]]
+			if ar == 3 {
+				c := idx[nd.args[2]]
+				p.ops[t+1] = opArg
+				p.pos[t+1] = nd.pos
+				p.a[t+1], p.b[t+1] = c, c
+			}
+		}
+	}
+	for i, o := range outputs {
+		p.outs[i] = idx[o]
+	}
+	return &Tape{p: p, vals: vals, adj: make([]float64, n)}
+}
+
+// tapeProg is the immutable program of a Tape, shared by its clones.
+//
+// Layout: slots [0, nIn) are the inputs, [nIn, start) the constants and
+// [start, n) the operations in evaluation order, as a structure of
+// arrays. Unary operations have b == a. A three-argument operation at k
+// is followed by an opArg node whose a is the third argument.
+type tapeProg struct {
+	nIn, start int
+	ops        []Op
+	a, b       []int32
+	pos        []int32
+	outs       []int32
+}
+
+// Tape is a compiled computation: a flat list of operations in
+// evaluation order with forward, reverse (adjoint) and batched sweeps.
+//
+// A Tape owns its value and adjoint buffers, so one Tape must not be used
+// by two goroutines at once; Clone gives each goroutine its own buffers
+// over the shared, read-only program. After their first call the sweeps
+// allocate nothing (except to report an error).
+//
+// Non-finite values never pass silently: a sweep that would produce a
+// NaN or ±Inf in an output returns a *DomainError that names the
+// operation where it first arose, with its position and operand values.
+// A NaN or Inf in the branch an if does not take is not an error.
+type Tape struct {
+	p    *tapeProg
+	vals []float64
+	adj  []float64
+
+	// Batched sweeps: blocks of bw samples, node-major
+	// (bvals[k*bw+s] is node k in sample s); allocated on first use.
+	bw    int
+	bvals []float64
+	badj  []float64
+}
+
+// NumInputs returns the number of inputs.
+func (t *Tape) NumInputs() int { return t.p.nIn }
+
+// NumOutputs returns the number of outputs.
+func (t *Tape) NumOutputs() int { return len(t.p.outs) }
+
+// Len returns the number of nodes: inputs, constants and operations.
+func (t *Tape) Len() int { return len(t.p.ops) }
+
+// Bytes returns the memory held by the tape: its program and its scalar
+// value and adjoint buffers (29 bytes a node). The buffers of the batched
+// sweeps, allocated on their first call and bounded by a fixed budget,
+// are reported by BatchBytes.
+func (t *Tape) Bytes() int {
+	p := t.p
+	return len(p.ops) + 4*(len(p.a)+len(p.b)+len(p.pos)+len(p.outs)) + 8*(len(t.vals)+len(t.adj))
+}
+
+// BatchBytes returns the memory of the batched sweeps' block buffers (0
+// before the first batched call).
+func (t *Tape) BatchBytes() int { return 8 * (len(t.bvals) + len(t.badj)) }
+
+// Clone returns a Tape that shares t's program and has buffers of its
+// own, for use by another goroutine. Clone may run while t is in use.
+func (t *Tape) Clone() *Tape {
+	n := len(t.p.ops)
+	c := &Tape{p: t.p, vals: make([]float64, n), adj: make([]float64, n)}
+	// Constants are never written after Tape, so reading them here does
+	// not race with a sweep on t.
+	copy(c.vals[t.p.nIn:t.p.start], t.vals[t.p.nIn:t.p.start])
+	return c
+}
+
+// Output returns output i as computed by the last Forward (or by the
+// last Eval or Gradient for output i).
+func (t *Tape) Output(i int) float64 { return t.vals[t.p.outs[i]] }
+
+// OutputPos returns the source position of the node that computes output
+// i.
+func (t *Tape) OutputPos(i int) int32 { return t.p.pos[t.p.outs[i]] }
+
+// StepOps returns the source positions, sorted and without repeats, of
+// the step operations (floor, ceil, round, comparisons, and, or, not,
+// if) that output i depends on: where one of them flips, the output
+// jumps and its derivative says nothing about the jump.
+func (t *Tape) StepOps(i int) []int32 {
+	p := t.p
+	out := int(p.outs[i])
+	mark := make([]bool, out+1)
+	mark[out] = true
+	var pos []int32
+	for k := out; k >= p.start; k-- {
+		if !mark[k] {
+			continue
+		}
+		op := p.ops[k]
+		if op.IsStep() {
+			pos = append(pos, p.pos[k])
+		}
+		mark[p.a[k]] = true
+		mark[p.b[k]] = true
+		if op.Arity() == 3 {
+			mark[p.a[k+1]] = true
+		}
+	}
+	slices.Sort(pos)
+	return slices.Compact(pos)
+}
+
+// DomainError reports a NaN or ±Inf found by a sweep: where it arose,
+// from what, and in which sample of a batched sweep.
+type DomainError struct {
+	Pos     int32     // source position of the operation (Builder.SetPos)
+	Op      Op        // the operation
+	Args    []float64 // its operand values
+	Msg     string    // "ln of a negative number (-3)", "division by zero", ...
+	Sample  int       // sample index in a batched sweep; -1 otherwise
+	Reverse bool      // found by the reverse sweep (an unbounded derivative)
+}
+
+func (e *DomainError) Error() string {
+	if e.Sample >= 0 {
+		return fmt.Sprintf("%s (sample %d)", e.Msg, e.Sample)
+	}
+	return e.Msg
+}

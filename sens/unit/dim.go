@@ -1,0 +1,277 @@
+package unit
+
+import (
+	"fmt"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// The physical base dimensions, as indices into Dim's exponent array.
+const (
+	bLength = iota
+	bMass
+	bTime
+	bCurrent
+	bTemperature
+	bAmount
+	bLuminosity
+	numBase
+)
+
+// baseSymbol is the coherent SI unit of each base dimension.
+var baseSymbol = [numBase]string{"m", "kg", "s", "A", "K", "mol", "cd"}
+
+// displayOrder is the order in which base units are written: kg*m^2/s^2, not m^2*kg/s^2.
+var displayOrder = [numBase]int{bMass, bLength, bTime, bCurrent, bTemperature, bAmount, bLuminosity}
+
+// Dim is a dimension: an integer exponent for each SI base dimension and for each currency.
+// Every currency ("$", "EUR", ...) is a base dimension of its own. Dim is a comparable value, so
+// == works and a Dim can key a map; Equal is the same test. The zero Dim is dimensionless.
+type Dim struct {
+	si  [numBase]int
+	cur string // currency exponents in canonical form, e.g. "$:1,EUR:-1"; "" when there are none
+}
+
+// baseDim is the dimension of base index b to the first power.
+func baseDim(b int) Dim {
+	var d Dim
+	d.si[b] = 1
+	return d
+}
+
+// currencyDim is the dimension of one unit of the currency code.
+func currencyDim(code string) Dim {
+	return Dim{cur: code + ":1"}
+}
+
+// Equal reports whether d and e are the same dimension. It is the same as d == e.
+func (d Dim) Equal(e Dim) bool { return d == e }
+
+// IsDimensionless reports whether every exponent of d is zero.
+func (d Dim) IsDimensionless() bool { return d == Dim{} }
+
+// Mul returns the dimension of a product: exponents add.
+func (d Dim) Mul(e Dim) Dim { return d.combine(e, 1) }
+
+// Div returns the dimension of a quotient: exponents subtract.
+func (d Dim) Div(e Dim) Dim { return d.combine(e, -1) }
+
+func (d Dim) combine(e Dim, sign int) Dim {
+	var r Dim
+	for i := range r.si {
+		r.si[i] = d.si[i] + sign*e.si[i]
+	}
+	cs := currencies(d.cur)
+	for code, n := range currencies(e.cur) {
+		cs[code] += sign * n
+	}
+	r.cur = encodeCurrencies(cs)
+	return r
+}
+
+// Pow returns d raised to the rational power num/den. It fails when den is zero, when a
+// resulting exponent is not an integer (the square root of a length), or when one exceeds ±99.
+func (d Dim) Pow(num, den int) (Dim, error) {
+	r, err := d.pow(num, den)
+	if err != nil {
+		return Dim{}, fmt.Errorf("cannot raise %s to the power %s: %v", d, powText(num, den), err)
+	}
+	return r, nil
+}
+
+// pow is Pow with a short reason for its error, to which callers add context.
+func (d Dim) pow(num, den int) (Dim, error) {
+	num, den, err := reduce(num, den)
+	if err != nil {
+		return Dim{}, err
+	}
+	var r Dim
+	for i, e := range d.si {
+		n, err := scaleExp(e, num, den, baseSymbol[i])
+		if err != nil {
+			return Dim{}, err
+		}
+		r.si[i] = n
+	}
+	cs := currencies(d.cur)
+	for _, code := range sortedCodes(cs) {
+		n, err := scaleExp(cs[code], num, den, code)
+		if err != nil {
+			return Dim{}, err
+		}
+		cs[code] = n
+	}
+	r.cur = encodeCurrencies(cs)
+	return r, nil
+}
+
+// reduce checks a rational power and brings it to lowest terms with a positive denominator.
+func reduce(num, den int) (int, int, error) {
+	if den == 0 {
+		return 0, 0, fmt.Errorf("zero denominator")
+	}
+	if num < -maxExp || num > maxExp || den < -maxExp || den > maxExp {
+		return 0, 0, fmt.Errorf("power out of range (limit ±%d)", maxExp)
+	}
+	num, den = lowest(num, den)
+	return num, den, nil
+}
+
+// lowest brings n/d (d != 0) to lowest terms with a positive denominator.
+func lowest(n, d int) (int, int) {
+	if d < 0 {
+		n, d = -n, -d
+	}
+	a, b := n, d
+	if a < 0 {
+		a = -a
+	}
+	for b != 0 {
+		a, b = b, a%b
+	}
+	return n / a, d / a // a = gcd(|n|, d) > 0
+}
+
+// scaleExp multiplies exponent e of the named base by num/den.
+func scaleExp(e, num, den int, name string) (int, error) {
+	if e*num%den != 0 {
+		return 0, fmt.Errorf("the exponent of %s would be %s", name, fraction(e*num, den))
+	}
+	n := e * num / den
+	if n < -maxExp || n > maxExp {
+		return 0, fmt.Errorf("the exponent of %s would be %d (limit ±%d)", name, n, maxExp)
+	}
+	return n, nil
+}
+
+// fraction writes n/d in lowest terms.
+func fraction(n, d int) string { return powText(lowest(n, d)) }
+
+func powText(num, den int) string {
+	if den == 1 {
+		return strconv.Itoa(num)
+	}
+	return fmt.Sprintf("%d/%d", num, den)
+}
+
+// String writes d in coherent base units, currencies first, in the form Parse reads:
+// "1", "kg", "$/kg", "kg*m^2/s^2", "EUR/$".
+func (d Dim) String() string { return format(d.terms(false)) }
+
+// Name is a plain quantity name for d where one is well known ("time", "mass", "energy",
+// "dimensionless", "currency $"), else d.String().
+func (d Dim) Name() string {
+	s := d.String()
+	if n, ok := quantityNames[s]; ok {
+		return n
+	}
+	if code, ok := d.singleCurrency(); ok {
+		return "currency " + code
+	}
+	return s
+}
+
+var quantityNames = map[string]string{
+	"1":          "dimensionless",
+	"m":          "length",
+	"kg":         "mass",
+	"s":          "time",
+	"A":          "electric current",
+	"K":          "temperature",
+	"mol":        "amount of substance",
+	"cd":         "luminous intensity",
+	"m^2":        "area",
+	"m^3":        "volume",
+	"m/s":        "speed",
+	"kg*m/s^2":   "force",
+	"kg/(m*s^2)": "pressure",
+	"kg*m^2/s^2": "energy",
+	"kg*m^2/s^3": "power",
+}
+
+// singleCurrency reports the code when d is exactly one currency to the first power.
+func (d Dim) singleCurrency() (string, bool) {
+	if d.si != ([numBase]int{}) {
+		return "", false
+	}
+	code, n, ok := strings.Cut(d.cur, ":")
+	if !ok || n != "1" { // "$:1,EUR:-1" leaves n = "1,EUR:-1"
+		return "", false
+	}
+	return code, true
+}
+
+// terms lists d as (symbol, exponent) pairs: currencies ("$" first, then codes in alphabetical
+// order), then base units in display order. With named set, the physical part is written as
+// one of N, Pa, J, W (or its reciprocal) when it matches one exactly.
+func (d Dim) terms(named bool) []term {
+	var ts []term
+	cs := currencies(d.cur)
+	for _, code := range sortedCodes(cs) {
+		ts = append(ts, term{code, cs[code]})
+	}
+	phys := Dim{si: d.si}
+	if named {
+		for _, n := range namedCoherent {
+			switch phys {
+			case n.dim:
+				return append(ts, term{n.sym, 1})
+			case Dim{}.Div(n.dim):
+				return append(ts, term{n.sym, -1})
+			}
+		}
+	}
+	for _, b := range displayOrder {
+		if e := d.si[b]; e != 0 {
+			ts = append(ts, term{baseSymbol[b], e})
+		}
+	}
+	return ts
+}
+
+// namedCoherent are the derived units with special names that Simplest prefers, in order.
+var namedCoherent = []struct {
+	sym string
+	dim Dim
+}{
+	{"N", dimForce},
+	{"Pa", dimPressure},
+	{"J", dimEnergy},
+	{"W", dimPower},
+}
+
+// currencies decodes the canonical currency string into a fresh map.
+func currencies(s string) map[string]int {
+	m := map[string]int{}
+	if s == "" {
+		return m
+	}
+	for _, part := range strings.Split(s, ",") {
+		code, n, _ := strings.Cut(part, ":")
+		e, _ := strconv.Atoi(n)
+		m[code] += e
+	}
+	return m
+}
+
+// encodeCurrencies is the canonical form of a currency map: codes sorted, zeros dropped.
+func encodeCurrencies(m map[string]int) string {
+	var parts []string
+	for _, code := range sortedCodes(m) {
+		parts = append(parts, code+":"+strconv.Itoa(m[code]))
+	}
+	return strings.Join(parts, ",")
+}
+
+// sortedCodes lists the codes with a non-zero exponent; "$" sorts before letters.
+func sortedCodes(m map[string]int) []string {
+	var codes []string
+	for code, n := range m {
+		if n != 0 {
+			codes = append(codes, code)
+		}
+	}
+	sort.Strings(codes)
+	return codes
+}

@@ -1,0 +1,137 @@
+package unit
+
+import (
+	"fmt"
+	"maps"
+	"slices"
+	"strings"
+	"unicode/utf8"
+)
+
+// unknown is the message for a symbol that lookup rejects: a specific explanation for a few
+// known traps, else "unknown unit" with up to three suggestions.
+func unknown(name string) string {
+	switch name {
+	case "ton", "tons":
+		return fmt.Sprintf("ambiguous unit %q: write t for the tonne (1000 kg); short and long tons are not supported", name)
+	case "°C", "degC", "℃", "°F", "degF", "℉":
+		return fmt.Sprintf("temperature scale %q has an offset and cannot scale a value: use K for temperature differences", name)
+	}
+	if strings.HasPrefix(name, "MM") && isCurrency(name[2:]) {
+		c := name[2:]
+		return fmt.Sprintf("ambiguous prefix in %q: write M%s for a million or k%s for a thousand", name, c, c)
+	}
+	if s := suggest(name); len(s) > 0 {
+		return fmt.Sprintf("unknown unit %q (did you mean %s?)", name, orList(s))
+	}
+	return fmt.Sprintf("unknown unit %q", name)
+}
+
+// suggest proposes symbols for a name that is not one, strongest evidence first: the same
+// letters in another case ("KG", "mw", or "eur" for a common currency code), a long name or plural ("hour", "lbs"), else the
+// symbols or long names closest by edit distance (at most 1 for names of 3 to 5 characters,
+// 2 for longer).
+func suggest(name string) []string {
+	var out []string
+	for _, e := range table {
+		if strings.EqualFold(e.sym, name) {
+			out = append(out, e.sym)
+		}
+	}
+	if up := strings.ToUpper(name); commonCodes[up] && up != name {
+		out = append(out, up)
+	}
+	if len(out) > 0 {
+		return out
+	}
+	lower := strings.ToLower(name)
+	for _, s := range []string{lower, strings.TrimSuffix(lower, "s"), strings.TrimSuffix(lower, "es")} {
+		if sym, ok := longNames[s]; ok {
+			return []string{sym}
+		}
+	}
+	if sym := strings.TrimSuffix(name, "s"); sym != name && sym != "" {
+		if _, ok := bySymbol[sym]; ok {
+			return []string{sym}
+		}
+	}
+	n := utf8.RuneCountInString(name)
+	limit := 2
+	switch {
+	case n <= 2:
+		return nil
+	case n <= 5:
+		limit = 1
+	}
+	best := limit + 1
+	consider := func(word, sym string) {
+		d := editDistance(name, word)
+		switch {
+		case d < best:
+			best, out = d, []string{sym}
+		case d == best && len(out) < 3 && !slices.Contains(out, sym):
+			out = append(out, sym)
+		}
+	}
+	for _, e := range table {
+		consider(e.sym, e.sym)
+	}
+	for _, w := range slices.Sorted(maps.Keys(longNames)) {
+		consider(w, longNames[w])
+	}
+	return out
+}
+
+// longNames maps words people write for a unit to its symbol (for suggestions only).
+var longNames = map[string]string{
+	"second": "s", "sec": "s", "minute": "min", "hour": "h", "day": "d", "week": "wk",
+	"month": "mo", "year": "yr",
+	"metre": "m", "meter": "m", "kilometre": "km", "kilometer": "km", "centimetre": "cm",
+	"centimeter": "cm", "millimetre": "mm", "millimeter": "mm", "inch": "in", "foot": "ft",
+	"feet": "ft", "yard": "yd", "mile": "mi",
+	"gram": "g", "kilogram": "kg", "kilo": "kg", "tonne": "t", "pound": "lb", "ounce": "oz",
+	"litre": "L", "liter": "L", "gallon": "gal", "barrel": "bbl", "hectare": "ha", "acre": "ac",
+	"joule": "J", "watt": "W", "kilowatt": "kW", "newton": "N", "pascal": "Pa",
+	"horsepower": "hp", "ampere": "A", "amp": "A", "kelvin": "K", "mole": "mol", "candela": "cd",
+	"percent": "%", "pct": "%", "dollar": "$", "euro": "EUR", "piece": "pc", "item": "each",
+}
+
+// commonCodes are widely used ISO 4217 currency codes, offered when one is written in lower
+// case. Any three upper-case letters are accepted as a currency; this list only feeds
+// suggestions.
+var commonCodes = map[string]bool{
+	"USD": true, "EUR": true, "GBP": true, "JPY": true, "CHF": true, "CNY": true, "CAD": true,
+	"AUD": true, "NZD": true, "SEK": true, "NOK": true, "DKK": true, "PLN": true, "CZK": true,
+	"HUF": true, "INR": true, "BRL": true, "MXN": true, "ZAR": true, "KRW": true, "SGD": true,
+	"HKD": true,
+}
+
+// orList writes "a", "a or b", "a, b or c".
+func orList(s []string) string {
+	if len(s) == 1 {
+		return s[0]
+	}
+	return strings.Join(s[:len(s)-1], ", ") + " or " + s[len(s)-1]
+}
+
+// editDistance is the Levenshtein distance between a and b, counted in runes.
+func editDistance(a, b string) int {
+	ra, rb := []rune(a), []rune(b)
+	prev := make([]int, len(rb)+1)
+	cur := make([]int, len(rb)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(ra); i++ {
+		cur[0] = i
+		for j := 1; j <= len(rb); j++ {
+			cost := 1
+			if ra[i-1] == rb[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(rb)]
+}
