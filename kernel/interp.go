@@ -120,12 +120,40 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 	if perr != nil {
 		return asCellError(perr)
 	}
+	// A cell applies as a whole: when it fails, the model is as it was before.
+	saved := in.Model.Clone()
+	defer func() {
+		if err != nil {
+			in.Model = saved
+		}
+	}()
+	pending := false // declarations not yet checked by a compile
 	for i, s := range stmts {
 		if err := ctx.Err(); err != nil {
 			return &CellError{Errors: []*syntax.Error{{Pos: f.Position(s.Pos()), Msg: "interrupted"}}}
 		}
 		if err := in.stmt(ctx, f, s, i == len(stmts)-1, sink); err != nil {
 			return asCellError(err)
+		}
+		switch s.(type) {
+		case *syntax.InputStmt, *syntax.FormulaStmt:
+			pending = true
+		default:
+			pending = false
+		}
+	}
+	if pending {
+		// A cell that ends with declarations is checked at once: names, cycles,
+		// units, ranges, and every formula at the baseline.
+		prog, err := in.Model.Compile()
+		if err == nil {
+			err = prog.Check()
+		}
+		if err != nil {
+			return asCellError(err)
+		}
+		for _, w := range prog.Warnings {
+			warn(sink, "%s", w.Error())
 		}
 	}
 	return nil
@@ -147,15 +175,6 @@ func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last 
 		return in.command(ctx, f, s, sink)
 	}
 	return fmt.Errorf("unknown statement %T", s)
-}
-
-// compile compiles the model and sends its warnings to stderr once per change.
-func (in *Interp) compile(sink Sink) (*sens.Program, error) {
-	p, err := in.Model.Compile()
-	if err != nil {
-		return nil, err
-	}
-	return p, nil
 }
 
 func warn(sink Sink, format string, args ...any) {

@@ -202,6 +202,20 @@ func (h *Handler) Complete(code string, cursor int) jupyter.Completion {
 	default:
 		cands = append(cands, h.in.Model.Names()...)
 		cands = append(cands, h.in.Model.ScenarioNames()...)
+		// Names declared in the cell itself, before it has run.
+		_, stmts, _ := syntax.Parse("", []byte(code))
+		for _, st := range stmts {
+			switch st := st.(type) {
+			case *syntax.InputStmt:
+				cands = append(cands, st.Name.Name)
+			case *syntax.FormulaStmt:
+				cands = append(cands, st.Name.Name)
+			case *syntax.CommandStmt:
+				if st.Verb == "scenario" && st.Name != nil {
+					cands = append(cands, st.Name.Name)
+				}
+			}
+		}
 		for _, f := range sens.Functions {
 			cands = append(cands, f.Name)
 		}

@@ -52,3 +52,67 @@ func TestDemoZoom(t *testing.T) {
 	tor.WritePNG(f, &Options{Width: 8 * 72 / 2.54, DPI: 300})
 	f.Close()
 }
+
+func TestDemoSpider(t *testing.T) {
+	if os.Getenv("DEMO") == "" {
+		t.Skip()
+	}
+	pct := []float64{-30, -20, -10, 0, 10, 20, 30}
+	mk := func(f func(p float64) float64) []float64 {
+		var o []float64
+		for _, p := range pct {
+			o = append(o, f(p))
+		}
+		return o
+	}
+	s := &Spider{Output: "total", Unit: "$", Baseline: 1234567, Lines: []SpiderLine{
+		{Name: "units", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 + 11000*p })},
+		{Name: "hours", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 + 4000*p })},
+		{Name: "steel", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 - 3000*p })},
+		{Name: "mass", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 + 60*p*p })},
+		{Name: "tooling", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 + 500*p })},
+		{Name: "rate", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 + 2000*p })},
+		{Name: "scrap rate", Pct: pct, Out: mk(func(p float64) float64 { return 1234567 + 7000*p })},
+	}}
+	write(t, "spider", s)
+	fmt.Print(s.Text(80))
+}
+
+func TestDemoSweep(t *testing.T) {
+	if os.Getenv("DEMO") == "" {
+		t.Skip()
+	}
+	var x, y []float64
+	for r := 40.0; r <= 80; r += 2 {
+		x = append(x, r)
+		y = append(y, 90000+1500*r+8*(r-60)*(r-60))
+	}
+	tg := 185000.0
+	s := &Sweep{Output: "total", Unit: "$", Input: "rate", InputUnit: "$/h", X: x, Y: y, BaselineInput: 60, Baseline: 180000, Target: &tg}
+	write(t, "sweep", s)
+	fmt.Print(s.Text(80))
+}
+
+func TestDemoHeat(t *testing.T) {
+	if os.Getenv("DEMO") == "" {
+		t.Skip()
+	}
+	var xs, ys []float64
+	for r := 40.0; r <= 80; r += 1 {
+		xs = append(xs, r)
+	}
+	for hr := 1.0; hr <= 2.0001; hr += 0.025 {
+		ys = append(ys, hr)
+	}
+	z := make([][]float64, len(ys))
+	for j, hh := range ys {
+		z[j] = make([]float64, len(xs))
+		for i, r := range xs {
+			z[j][i] = 1000 * (12*0.9 + hh*r) + 50000
+		}
+	}
+	tg := 160000.0
+	h := &HeatMap{Output: "total", Unit: "$", XName: "rate", XUnit: "$/h", YName: "hours", YUnit: "h", X: xs, Y: ys, Z: z, BaselineX: 60, BaselineY: 1.5, Target: &tg}
+	write(t, "heat", h)
+	fmt.Print(h.Text(80))
+}

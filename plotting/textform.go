@@ -92,7 +92,10 @@ func sparkline(ys []float64, lo, hi float64, n int) string {
 	if len(ys) == 0 || n <= 0 {
 		return ""
 	}
-	vals := resample(ys, n)
+	vals := ys
+	if len(ys) > n {
+		vals = resample(ys, n)
+	}
 	var b strings.Builder
 	for _, v := range vals {
 		k := 0
@@ -105,11 +108,18 @@ func sparkline(ys []float64, lo, hi float64, n int) string {
 	return b.String()
 }
 
-// resample returns at most n values of ys by linear interpolation at evenly
-// spaced positions; ys itself when it is short enough.
+// resample returns n values of ys by linear interpolation at n evenly
+// spaced positions from the first to the last.
 func resample(ys []float64, n int) []float64 {
-	if len(ys) <= n {
+	if len(ys) == n || len(ys) == 0 {
 		return ys
+	}
+	if n == 1 || len(ys) == 1 {
+		out := make([]float64, n)
+		for i := range out {
+			out[i] = ys[0]
+		}
+		return out
 	}
 	out := make([]float64, n)
 	for i := range out {

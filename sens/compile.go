@@ -839,3 +839,18 @@ func lookupFunc(name string) *FuncInfo {
 }
 
 func fmtG(v float64) string { return fmt.Sprintf("%.6g", v) }
+
+// Check evaluates every formula at the baseline and returns the first domain
+// error (a log of a negative number, a division by zero, an overflow), placed at
+// its formula with the input values that led there.
+func (p *Program) Check() error {
+	if len(p.Formulas) == 0 {
+		return nil
+	}
+	t := p.tape.Clone()
+	x := p.Baseline()
+	if err := t.Forward(x); err != nil {
+		return p.evalError(err, x)
+	}
+	return nil
+}

@@ -3,6 +3,7 @@ package sens
 import (
 	"math"
 	"sort"
+	"sync"
 
 	"github.com/nudge-dev/nudge/sens/unit"
 )
@@ -120,6 +121,10 @@ func simplifyPartial(out string, in *Input) (string, bool) {
 	q := ou.Div(in.u)
 	s := unit.Simplest(q.Dim)
 	if math.Abs(s.Factor-q.Factor) > 1e-12*math.Abs(q.Factor) {
+		// A named unit of the same scale: $ per ($/h) is h.
+		if named, ok := namedUnit(q); ok {
+			return named, true
+		}
 		return "", false
 	}
 	composed := out + "/" + wrapUnit(in.Unit)
@@ -128,4 +133,29 @@ func simplifyPartial(out string, in *Input) (string, bool) {
 		return "", false
 	}
 	return text, true
+}
+
+var (
+	namedOnce  sync.Once
+	namedUnits []unit.Unit
+)
+
+// namedUnit finds a single unit symbol with the dimension and scale of q.
+func namedUnit(q unit.Unit) (string, bool) {
+	namedOnce.Do(func() {
+		for _, s := range unit.Symbols() {
+			if u, err := unit.Parse(s); err == nil {
+				namedUnits = append(namedUnits, u)
+			}
+		}
+	})
+	best := ""
+	for _, u := range namedUnits {
+		if u.Dim.Equal(q.Dim) && math.Abs(u.Factor-q.Factor) <= 1e-12*math.Abs(q.Factor) {
+			if s := u.String(); best == "" || len(s) < len(best) {
+				best = s
+			}
+		}
+	}
+	return best, best != ""
 }

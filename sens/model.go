@@ -149,3 +149,23 @@ func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 	errs.Sort()
 	return x, errs.Err()
 }
+
+// Clone returns a copy of the model that can be changed without touching m.
+// Declarations themselves are immutable and shared.
+func (m *Model) Clone() *Model {
+	c := &Model{
+		decls:     make(map[string]*Decl, len(m.decls)),
+		order:     slices.Clone(m.order),
+		scenarios: make(map[string]*Scenario, len(m.scenarios)),
+		scenOrder: slices.Clone(m.scenOrder),
+		prog:      m.prog,
+		progErr:   m.progErr,
+	}
+	for k, v := range m.decls {
+		c.decls[k] = v
+	}
+	for k, v := range m.scenarios {
+		c.scenarios[k] = v
+	}
+	return c
+}

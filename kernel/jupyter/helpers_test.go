@@ -49,6 +49,22 @@ type fakeHandler struct {
 	lateDone chan struct{}
 }
 
+// waitStarted waits until Execute has been called with code.
+func (f *fakeHandler) waitStarted(t testing.TB, code string) {
+	t.Helper()
+	timeout := time.After(10 * time.Second)
+	for {
+		select {
+		case c := <-f.started:
+			if c == code {
+				return
+			}
+		case <-timeout:
+			t.Fatalf("Execute(%q) never started", code)
+		}
+	}
+}
+
 func newFake() *fakeHandler {
 	return &fakeHandler{started: make(chan string, 100000), lateDone: make(chan struct{}, 1)}
 }
@@ -239,8 +255,9 @@ func (m *msg) str(k string) string {
 }
 
 type sock struct {
-	s  zmq4.Socket
-	in chan [][]byte
+	s     zmq4.Socket
+	in    chan [][]byte
+	stash []*msg // received but not yet asked for
 }
 
 func dialSock(t testing.TB, s zmq4.Socket, ep string) *sock {
@@ -309,13 +326,6 @@ func (c *client) subscribe() *sock {
 				c.t.Fatal("iopub closed")
 			}
 			c.decode(f)
-			for len(s.in) > 0 {
-				<-s.in
-			}
-			time.Sleep(20 * time.Millisecond)
-			for len(s.in) > 0 {
-				<-s.in
-			}
 			return s
 		case <-time.After(100 * time.Millisecond):
 		}
@@ -402,15 +412,31 @@ func (c *client) next(s *sock, timeout time.Duration) *msg {
 	return nil
 }
 
-// reply waits for the reply to request id on s, skipping other replies.
-func (c *client) reply(s *sock, id string) *msg {
+// forParent returns the next message on s whose parent is id; messages
+// with other parents are kept for later calls.
+func (c *client) forParent(s *sock, id string) *msg {
 	c.t.Helper()
+	for i, m := range s.stash {
+		if m.parentID() == id {
+			s.stash = append(s.stash[:i], s.stash[i+1:]...)
+			return m
+		}
+	}
 	for {
 		m := c.next(s, 10*time.Second)
 		if m.parentID() == id {
 			return m
 		}
+		if len(s.stash) < 10000 {
+			s.stash = append(s.stash, m)
+		}
 	}
+}
+
+// reply waits for the reply to request id on s.
+func (c *client) reply(s *sock, id string) *msg {
+	c.t.Helper()
+	return c.forParent(s, id)
 }
 
 // iopubFor collects the iopub messages whose parent is id, from busy up to
@@ -419,10 +445,7 @@ func (c *client) iopubFor(id string) []*msg {
 	c.t.Helper()
 	var out []*msg
 	for {
-		m := c.next(c.iopub, 10*time.Second)
-		if m.parentID() != id {
-			continue
-		}
+		m := c.forParent(c.iopub, id)
 		out = append(out, m)
 		if m.typ() == "status" && m.str("execution_state") == "idle" {
 			return out

@@ -15,6 +15,15 @@
 // their product is 90 ($): Convert does the same arithmetic in one call. Simplest picks the
 // unit in which a value of a given dimension is shown when no unit was declared.
 //
+// A compiler that keeps values in base units uses the package three ways:
+//
+//	on input:    base = x * u.Factor                       90 [min] enters as 5400
+//	on output:   Convert(base, Simplest(d), declared)       or Simplest(d) when nothing is declared
+//	partials:    Convert(g, Simplest(y.Dim.Div(x.Dim)), y.Div(x))
+//
+// where g is the partial derivative of output y by input x with both in base units, so that
+// d total / d hours is reported in $/h when hours is in h, not in $/s.
+//
 // # Syntax
 //
 // Inside the brackets:

@@ -72,9 +72,9 @@ func (u Unit) combine(v Unit, sign int) Unit {
 // Pow raises u to the rational power num/den: Pow(1, 2) is a square root, Pow(-1, 1) a
 // reciprocal. Exponents stay integers: the power must leave every exponent whole, both of the
 // dimension (the square root of m is an error) and of each symbol as written (the square root
-// of m^2 is m, of ha is an error because ha is not a square of a named unit; convert to m^2
-// first, or use Simplest of the dimension). Half-integer exponents are not supported; cost
-// models do not need them.
+// of km^2 is km; that of ha is an error, since no symbol squares to ha: write m^2, or show the
+// result in Simplest of its dimension). Half-integer exponents are not supported: they arise in
+// noise densities, not in cost models.
 func (u Unit) Pow(num, den int) (Unit, error) {
 	d, err := u.Dim.pow(num, den)
 	if err != nil {

@@ -124,6 +124,14 @@ func TestMinutesTimesDollarsPerHour(t *testing.T) {
 	if v := 90 * min.Factor * 60 * rate.Factor; !equalWithinAbsOrRel(v, 90, 0, 1e-15) {
 		t.Errorf("base-unit product = %v, want 90", v)
 	}
+	// total = hours * rate: its partial in hours is rate, 1/60 $/s in base units, which is
+	// reported per the input's own unit as 60 $/h (1 h = 3600 s).
+	h := MustParse("h")
+	g := 60 * rate.Factor
+	got, err = Convert(g, Simplest(usd.Dim.Div(h.Dim)), usd.Div(h))
+	if err != nil || !equalWithinAbsOrRel(got, 60, 0, 1e-15) || usd.Div(h).String() != "$/h" {
+		t.Errorf("partial in %s = %v, %v; want 60 $/h", usd.Div(h), got, err)
+	}
 	// Multiplying by the hour cancels the symbol.
 	if got := MustParse("h").Mul(rate); got != usd {
 		t.Errorf("h * $/h = %#v, want %#v", got, usd)

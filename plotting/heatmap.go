@@ -1,0 +1,497 @@
+package plotting
+
+import (
+	"fmt"
+	"image"
+	"io"
+	"math"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/palette"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// HeatMap is a 2-D sweep: the output over a grid of two inputs, drawn as a
+// colour map with a colour bar, the baseline point marked, and a contour
+// where the output equals an optional target.
+type HeatMap struct {
+	Title        string
+	Output, Unit string
+	// XName and XUnit name the first input (across), YName and YUnit the
+	// second (up).
+	XName, XUnit string
+	YName, YUnit string
+	// X and Y are the grid's coordinates, each strictly increasing.
+	X, Y []float64
+	// Z[j][i] is the output at (X[i], Y[j]): one row per Y value.
+	Z [][]float64
+	// BaselineX and BaselineY are the inputs' baseline values, marked when
+	// inside the grid.
+	BaselineX, BaselineY float64
+	// Target, when not nil, is an output level drawn as a contour.
+	Target *float64
+}
+
+var _ Chart = (*HeatMap)(nil)
+
+func (h *HeatMap) heading() string {
+	if h == nil {
+		return "Heat map"
+	}
+	if t := clean(h.Title); t != "" {
+		return t
+	}
+	o := clean(h.Output)
+	x, y := clean(h.XName), clean(h.YName)
+	switch {
+	case o != "" && x != "" && y != "":
+		return "Sweep: " + o + " over " + x + " and " + y
+	case o != "":
+		return "Sweep: " + o
+	}
+	return "Heat map"
+}
+
+func (h *HeatMap) check() error {
+	if h == nil {
+		return fmt.Errorf("heat map: no chart (nil): %w", ErrNoData)
+	}
+	what := "heat map of " + orDefault(h.Output, "the output")
+	if len(h.X) < 2 || len(h.Y) < 2 {
+		return fmt.Errorf("%s needs at least 2 values of each input, has %d by %d: %w", what, len(h.X), len(h.Y), ErrNoData)
+	}
+	if len(h.Z) != len(h.Y) {
+		return fmt.Errorf("%s: Z has %d rows but Y has %d values", what, len(h.Z), len(h.Y))
+	}
+	for j, row := range h.Z {
+		if len(row) != len(h.X) {
+			return fmt.Errorf("%s: Z row %d has %d values but X has %d", what, j, len(row), len(h.X))
+		}
+		if err := finiteSlice(what, fmt.Sprintf("Z[%d]", j), row); err != nil {
+			return err
+		}
+	}
+	for _, f := range []struct {
+		name string
+		vs   []float64
+	}{{"X", h.X}, {"Y", h.Y}} {
+		if err := finiteSlice(what, f.name, f.vs); err != nil {
+			return err
+		}
+		if err := increasing(what, f.name, f.vs); err != nil {
+			return err
+		}
+	}
+	if err := finite(what, "baseline X", h.BaselineX); err != nil {
+		return err
+	}
+	if err := finite(what, "baseline Y", h.BaselineY); err != nil {
+		return err
+	}
+	if h.Target != nil {
+		if err := finite(what, "target", *h.Target); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// Validate implements Chart.
+func (h *HeatMap) Validate() error { return h.check() }
+
+// WriteSVG implements Chart.
+func (h *HeatMap) WriteSVG(w io.Writer, o *Options) error { return writeSVG(w, h, o) }
+
+// WritePNG implements Chart.
+func (h *HeatMap) WritePNG(w io.Writer, o *Options) error { return writePNG(w, h, o) }
+
+// SVG implements Chart.
+func (h *HeatMap) SVG() string { return svgString(h) }
+
+// PNG implements Chart.
+func (h *HeatMap) PNG() []byte { return pngBytes(h) }
+
+// HTML implements Chart.
+func (h *HeatMap) HTML() string { return htmlString(h) }
+
+// Grid returns the data as a plotter.GridXYZ for gonum/plot's HeatMap and
+// Contour: column c is X[c], row r is Y[r].
+func (h *HeatMap) Grid() plotter.GridXYZ { return gridXYZ{x: h.X, y: h.Y, z: h.Z} }
+
+// gridXYZ adapts row-major Z[r][c] to plotter.GridXYZ.
+type gridXYZ struct {
+	x, y []float64
+	z    [][]float64
+}
+
+func (g gridXYZ) Dims() (c, r int)     { return len(g.x), len(g.y) }
+func (g gridXYZ) Z(c, r int) float64   { return g.z[r][c] }
+func (g gridXYZ) X(c int) float64      { return g.x[c] }
+func (g gridXYZ) Y(r int) float64      { return g.y[r] }
+func (g gridXYZ) zRange() (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, row := range g.z {
+		a, b := extent(row...)
+		lo, hi = math.Min(lo, a), math.Max(hi, b)
+	}
+	return lo, hi
+}
+
+// targetInRange reports whether the target lies strictly between the
+// grid's smallest and largest output, so that a contour exists.
+func (h *HeatMap) targetInRange() bool {
+	if h.Target == nil {
+		return false
+	}
+	lo, hi := gridXYZ{z: h.Z}.zRange()
+	return lo < *h.Target && *h.Target < hi
+}
+
+func (h *HeatMap) baselineInside() bool {
+	return h.X[0] <= h.BaselineX && h.BaselineX <= h.X[len(h.X)-1] &&
+		h.Y[0] <= h.BaselineY && h.BaselineY <= h.Y[len(h.Y)-1]
+}
+
+func (h *HeatMap) frame() *frame {
+	unit := clean(h.Unit)
+	f := &frame{
+		title: h.heading(),
+		subtitle: fmt.Sprintf("%s over a grid of %s and %s, the other inputs at baseline",
+			orDefault(h.Output, "Output"), orDefault(h.XName, "x"), orDefault(h.YName, "y")),
+	}
+	if h.baselineInside() {
+		f.legend = append(f.legend, legendEntry{label: "baseline", thumb: glyphThumb(baselineGlyph())})
+	}
+	if h.Target != nil {
+		t := *h.Target
+		if h.targetInRange() {
+			f.legend = append(f.legend, legendEntry{label: "target " + FormatValue(t, unit), thumb: contourThumb()})
+		} else {
+			lo, hi := gridXYZ{z: h.Z}.zRange()
+			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached on this grid: %s runs from %s to %s.",
+				FormatValue(t, unit), orDefault(h.Output, "the output"), FormatValue(lo, unit), FormatValue(hi, unit)))
+		}
+	}
+	return f
+}
+
+func contourThumb() func(c draw.Canvas) {
+	return func(c draw.Canvas) {
+		y := (c.Min.Y + c.Max.Y) / 2
+		c.StrokeLine2(lineStyle(colMuted, widthHalo), c.Min.X, y, c.Max.X, y)
+		c.StrokeLine2(contourStyle(), c.Min.X, y, c.Max.X, y)
+	}
+}
+
+func contourStyle() draw.LineStyle { return lineStyle(colInk, widthContour) }
+
+func (h *HeatMap) height(w vg.Length) vg.Length {
+	hd, ft := h.frame().heights(w)
+	return hd + ft + w*0.58
+}
+
+var styColorBarTitle = textStyle(sizeAxis, colInk, false, draw.XLeft, draw.YBottom)
+
+const (
+	colorBarWidth = vg.Length(11)
+	colorBarGap   = vg.Length(14) // between the heat map and the colour bar
+)
+
+func (h *HeatMap) draw(c draw.Canvas) {
+	body := h.frame().draw(c)
+	zlo, zhi := widen(gridXYZ{z: h.Z}.zRange())
+	cmap := newRamp(zlo, zhi)
+
+	// The colour bar's column: the bar, its tick labels, and its title on
+	// top, which must not be cut.
+	ticks := niceTicks{N: 6}.Ticks(zlo, zhi)
+	tickSty := textStyle(sizeTick, colMuted, false, draw.XLeft, draw.YCenter)
+	var labelW vg.Length
+	for _, t := range ticks {
+		labelW = max(labelW, tickSty.Width(t.Label))
+	}
+	barTitle := axisTitle(orDefault(h.Output, "output"), h.Unit)
+	colW := max(colorBarWidth+4+labelW, min(styColorBarTitle.Width(barTitle), (body.Max.X-body.Min.X)*0.3))
+	barTitle = fitText(styColorBarTitle, barTitle, colW)
+
+	heatC := body
+	heatC.Max.X -= colW + colorBarGap
+	heatC.Max.Y -= styColorBarTitle.Height(barTitle) + 6
+
+	p := newPlot()
+	hg := NewHeatGrid(h.Grid(), cmap)
+	if h.Target != nil {
+		hg.Target = *h.Target
+	}
+	if h.baselineInside() {
+		hg.BaselineX, hg.BaselineY = h.BaselineX, h.BaselineY
+	}
+	p.Add(hg)
+	p.X.Padding, p.Y.Padding = 0, 0
+	p.X.Label.Text = axisTitle(orDefault(h.XName, "x"), h.XUnit)
+	p.Y.Label.Text = axisTitle(orDefault(h.YName, "y"), h.YUnit)
+	fitTicks(p, heatC)
+	p.Draw(heatC)
+
+	// Colour bar beside the data area, at the same height.
+	dc := p.DataCanvas(heatC)
+	bar := vg.Rectangle{
+		Min: vg.Point{X: heatC.Max.X + colorBarGap, Y: dc.Min.Y},
+		Max: vg.Point{X: heatC.Max.X + colorBarGap + colorBarWidth, Y: dc.Max.Y},
+	}
+	drawColorBar(c, bar, cmap, ticks, tickSty, hg.Target)
+	c.FillText(styColorBarTitle, vg.Point{X: bar.Min.X, Y: bar.Max.Y + 6}, barTitle)
+}
+
+// fitText truncates s with an ellipsis until it is no wider than w.
+func fitText(sty interface{ Width(string) vg.Length }, s string, w vg.Length) string {
+	for n := runeLen(s); n > 1 && sty.Width(s) > w; n-- {
+		s = truncate(s, n-1)
+	}
+	return s
+}
+
+// drawColorBar fills r with the colour map from bottom (Min) to top (Max),
+// writes the ticks on its right and marks target (unless NaN or outside the
+// map's range) across it.
+func drawColorBar(c draw.Canvas, r vg.Rectangle, cmap palette.ColorMap, ticks []plot.Tick, sty text.Style, target float64) {
+	const steps = 256
+	img := image.NewNRGBA(image.Rect(0, 0, 1, steps))
+	lo, hi := cmap.Min(), cmap.Max()
+	for i := range steps {
+		v := lo + (hi-lo)*(float64(i)+0.5)/steps
+		col, err := cmap.At(v)
+		if err != nil {
+			continue
+		}
+		img.Set(0, steps-1-i, col)
+	}
+	c.DrawImage(r, img)
+	c.SetLineStyle(lineStyle(colGrid, widthAxis))
+	c.Stroke(r.Path())
+
+	yOf := func(v float64) vg.Length {
+		return r.Min.Y + vg.Length((v-lo)/(hi-lo))*(r.Max.Y-r.Min.Y)
+	}
+	tickLine := lineStyle(colMuted, widthAxis)
+	descent := sty.FontExtents().Descent
+	for _, t := range ticks {
+		if t.Value < lo || t.Value > hi {
+			continue
+		}
+		y := yOf(t.Value)
+		c.StrokeLine2(tickLine, r.Max.X, y, r.Max.X+3, y)
+		c.FillText(sty, vg.Point{X: r.Max.X + 5, Y: y + descent}, t.Label)
+	}
+	if !math.IsNaN(target) && lo < target && target < hi {
+		y := yOf(target)
+		c.StrokeLine2(lineStyle(colHalo, widthHalo), r.Min.X-3, y, r.Max.X+3, y)
+		c.StrokeLine2(contourStyle(), r.Min.X-3, y, r.Max.X+3, y)
+	}
+}
+
+func (h *HeatMap) caption() string {
+	unit := clean(h.Unit)
+	lo, hi := gridXYZ{z: h.Z}.zRange()
+	var b strings.Builder
+	fmt.Fprintf(&b, "Heat map of %s over %s from %s to %s (across) and %s from %s to %s (up), the other inputs at baseline; darker is higher, from %s to %s. ",
+		orDefault(h.Output, "the output"),
+		orDefault(h.XName, "x"), FormatValue(h.X[0], clean(h.XUnit)), FormatValue(h.X[len(h.X)-1], clean(h.XUnit)),
+		orDefault(h.YName, "y"), FormatValue(h.Y[0], clean(h.YUnit)), FormatValue(h.Y[len(h.Y)-1], clean(h.YUnit)),
+		FormatValue(lo, unit), FormatValue(hi, unit))
+	if h.Target != nil {
+		if h.targetInRange() {
+			fmt.Fprintf(&b, "The black contour is where the output equals the target %s. ", FormatValue(*h.Target, unit))
+		} else {
+			fmt.Fprintf(&b, "The target %s is not reached on this grid. ", FormatValue(*h.Target, unit))
+		}
+	}
+	return strings.TrimSpace(b.String())
+}
+
+// HeatGrid draws a 2-D sweep with gonum/plot's HeatMap (rasterised, so
+// the SVG stays small) and, when Target lies inside the colour map's range,
+// a Contour at Target drawn over a white halo so that it shows on light and
+// dark cells alike. The baseline point is marked unless NaN.
+type HeatGrid struct {
+	Grid     plotter.GridXYZ
+	ColorMap palette.ColorMap
+	// Colors is the number of palette steps; 256 when zero.
+	Colors int
+	// Target is the contour level; NaN for none.
+	Target float64
+	// BaselineX and BaselineY mark the baseline point; NaN for none.
+	BaselineX, BaselineY float64
+}
+
+var (
+	_ plot.Plotter    = (*HeatGrid)(nil)
+	_ plot.DataRanger = (*HeatGrid)(nil)
+)
+
+// NewHeatGrid returns a HeatGrid with no target and no baseline point.
+func NewHeatGrid(g plotter.GridXYZ, cmap palette.ColorMap) *HeatGrid {
+	return &HeatGrid{Grid: g, ColorMap: cmap, Target: math.NaN(), BaselineX: math.NaN(), BaselineY: math.NaN()}
+}
+
+func (hg *HeatGrid) heatMap() *plotter.HeatMap {
+	n := hg.Colors
+	if n <= 0 {
+		n = 256
+	}
+	hm := plotter.NewHeatMap(hg.Grid, hg.ColorMap.Palette(n))
+	hm.Min, hm.Max = hg.ColorMap.Min(), hg.ColorMap.Max()
+	hm.Rasterized = true
+	return hm
+}
+
+// DataRange implements plot.DataRanger: the grid's cells, edge to edge.
+func (hg *HeatGrid) DataRange() (xmin, xmax, ymin, ymax float64) {
+	return hg.heatMap().DataRange()
+}
+
+// Plot implements plot.Plotter.
+func (hg *HeatGrid) Plot(c draw.Canvas, p *plot.Plot) {
+	hg.heatMap().Plot(c, p)
+	lo, hi := math.Inf(1), math.Inf(-1)
+	cols, rows := hg.Grid.Dims()
+	for i := range cols {
+		for j := range rows {
+			lo, hi = math.Min(lo, hg.Grid.Z(i, j)), math.Max(hi, hg.Grid.Z(i, j))
+		}
+	}
+	if !math.IsNaN(hg.Target) && lo < hg.Target && hg.Target < hi {
+		ct := plotter.NewContour(hg.Grid, []float64{hg.Target}, nil)
+		ct.LineStyles = []draw.LineStyle{lineStyle(colHalo, widthHalo)}
+		ct.Plot(c, p)
+		ct.LineStyles = []draw.LineStyle{contourStyle()}
+		ct.Plot(c, p)
+	}
+	if !math.IsNaN(hg.BaselineX) && !math.IsNaN(hg.BaselineY) {
+		trX, trY := p.Transforms(&c)
+		drawHaloGlyph(c, baselineGlyph(), vg.Point{X: trX(hg.BaselineX), Y: trY(hg.BaselineY)})
+	}
+}
+
+// Text draws the heat map as a grid of shades (five levels from blank for
+// the lowest fifth to █ for the highest), two columns per cell so cells are
+// roughly square, highest Y on top; ● marks the baseline cell. Large grids
+// are sampled at evenly spaced rows and columns.
+func (h *HeatMap) Text(width int) string {
+	if err := h.check(); err != nil {
+		return textMessage(h.heading(), err)
+	}
+	width = textWidth(width)
+	unit := clean(h.Unit)
+	lo, hi := gridXYZ{z: h.Z}.zRange()
+	wlo, whi := widen(lo, hi)
+
+	yLabels := make([]string, len(h.Y))
+	labelW := 1
+	for j, y := range h.Y {
+		yLabels[j] = FormatValue(y, clean(h.YUnit))
+		labelW = max(labelW, runeLen(yLabels[j]))
+	}
+	labelW = min(labelW, 14)
+	cols := min(len(h.X), max(4, (width-labelW-2)/2))
+	rows := min(len(h.Y), 18)
+	pick := func(i, k, n int) int {
+		if k == 1 {
+			return 0
+		}
+		return int(math.Round(float64(i) * float64(n-1) / float64(k-1)))
+	}
+	nearest := func(vs []float64, v float64) int {
+		best := 0
+		for i := range vs {
+			if math.Abs(vs[i]-v) < math.Abs(vs[best]-v) {
+				best = i
+			}
+		}
+		return best
+	}
+	colIdx := make([]int, cols)
+	for i := range colIdx {
+		colIdx[i] = pick(i, cols, len(h.X))
+	}
+	rowIdx := make([]int, rows)
+	for j := range rowIdx {
+		rowIdx[j] = pick(j, rows, len(h.Y))
+	}
+	baseCol, baseRow := -1, -1
+	if h.baselineInside() {
+		xs := make([]float64, cols)
+		for i, ci := range colIdx {
+			xs[i] = h.X[ci]
+		}
+		ys := make([]float64, rows)
+		for j, rj := range rowIdx {
+			ys[j] = h.Y[rj]
+		}
+		baseCol, baseRow = nearest(xs, h.BaselineX), nearest(ys, h.BaselineY)
+	}
+
+	var b strings.Builder
+	b.WriteString(truncate(h.heading(), width) + "\n")
+	b.WriteString(truncate(fmt.Sprintf("%s; across: %s, up: %s", axisTitle(orDefault(h.Output, "output"), unit),
+		axisTitle(orDefault(h.XName, "x"), h.XUnit), axisTitle(orDefault(h.YName, "y"), h.YUnit)), width) + "\n")
+	for jj := rows - 1; jj >= 0; jj-- {
+		rj := rowIdx[jj]
+		label := ""
+		if jj == rows-1 || jj == 0 || jj == rows/2 {
+			label = yLabels[rj]
+		}
+		var line strings.Builder
+		line.WriteString(padLeft(label, labelW) + " ┃")
+		for ii, ci := range colIdx {
+			r := shade((h.Z[rj][ci] - wlo) / (whi - wlo))
+			if ii == baseCol && jj == baseRow {
+				line.WriteString("●" + string(r))
+				continue
+			}
+			line.WriteRune(r)
+			line.WriteRune(r)
+		}
+		b.WriteString(line.String() + "\n")
+	}
+	b.WriteString(strings.Repeat(" ", labelW) + " ┗" + strings.Repeat("━", 2*cols) + "\n")
+	b.WriteString(strings.Repeat(" ", labelW+2) + string(scaleLabels(2*cols, []scaleLabel{
+		{FormatValue(h.X[0], clean(h.XUnit)), 0, -1},
+		{FormatValue(h.X[len(h.X)-1], clean(h.XUnit)), 2*cols - 1, 1},
+	})) + "\n")
+
+	// Key: the value range each shade stands for.
+	var key []string
+	for k := 0; k < len(shades); k++ {
+		a := wlo + (whi-wlo)*(float64(k)-0.5)/float64(len(shades)-1)
+		z := wlo + (whi-wlo)*(float64(k)+0.5)/float64(len(shades)-1)
+		a, z = math.Max(a, lo), math.Min(z, hi)
+		key = append(key, fmt.Sprintf("%q %s–%s", string(shades[k]), FormatValue(a, ""), FormatValue(z, "")))
+	}
+	b.WriteString(truncate("shades: "+strings.Join(key, ", "), width) + "\n")
+	if h.baselineInside() {
+		b.WriteString("● baseline\n")
+	}
+	if h.Target != nil {
+		t := *h.Target
+		if h.targetInRange() {
+			n, above := 0, 0
+			for _, row := range h.Z {
+				for _, z := range row {
+					n++
+					if z >= t {
+						above++
+					}
+				}
+			}
+			b.WriteString(truncate(fmt.Sprintf("target %s: reached at %d of %d grid points (%s at or above)", FormatValue(t, unit), above, n, FormatValue(100*float64(above)/float64(n), "%")), width) + "\n")
+		} else {
+			b.WriteString(truncate(fmt.Sprintf("target %s: not reached on this grid (%s to %s)", FormatValue(t, unit), FormatValue(lo, unit), FormatValue(hi, unit)), width) + "\n")
+		}
+	}
+	return b.String()
+}
