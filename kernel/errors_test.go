@@ -73,5 +73,5 @@ func (s *captureSink) Stream(name, text string) {
 		s.stdout.WriteString(text)
 	}
 }
-func (s *captureSink) Result(r *Result, _ bool)             { s.results = append(s.results, r) }
+func (s *captureSink) Result(r *Result, _ bool)              { s.results = append(s.results, r) }
 func (s *captureSink) Progress(_, _ string, done, total int) { s.progress++ }

@@ -116,3 +116,22 @@ func TestDemoHeat(t *testing.T) {
 	write(t, "heat", h)
 	fmt.Print(h.Text(80))
 }
+
+func TestDemoDist(t *testing.T) {
+	if os.Getenv("DEMO") == "" {
+		t.Skip()
+	}
+	var xs []float64
+	s := uint64(7)
+	for i := 0; i < 20000; i++ {
+		sum := 0.0
+		for k := 0; k < 4; k++ {
+			s = s*6364136223846793005 + 1442695040888963407
+			sum += float64(s>>11) / (1 << 53)
+		}
+		xs = append(xs, 1000000+200000*sum*sum/4)
+	}
+	d := &Distribution{Output: "total", Unit: "$", Samples: xs, Markers: []Marker{{"P10", 1080000}, {"P50", 1200000}, {"mean", 1210000}, {"P90", 1380000}}}
+	write(t, "dist", d)
+	fmt.Print(d.Text(80))
+}

@@ -160,8 +160,8 @@ func (h *HeatMap) frame() *frame {
 	unit := clean(h.Unit)
 	f := &frame{
 		title: h.heading(),
-		subtitle: fmt.Sprintf("%s over a grid of %s and %s, the other inputs at baseline",
-			orDefault(h.Output, "Output"), orDefault(h.XName, "x"), orDefault(h.YName, "y")),
+		subtitle: fmt.Sprintf("Output over a grid of %s and %s, the other inputs at baseline",
+			orDefault(h.XName, "x"), orDefault(h.YName, "y")),
 	}
 	if h.baselineInside() {
 		f.legend = append(f.legend, legendEntry{label: "baseline", thumb: glyphThumb(baselineGlyph())})
@@ -464,15 +464,21 @@ func (h *HeatMap) Text(width int) string {
 		{FormatValue(h.X[len(h.X)-1], clean(h.XUnit)), 2*cols - 1, 1},
 	})) + "\n")
 
-	// Key: the value range each shade stands for.
-	var key []string
+	// Key: the upper end of the values each shade stands for.
+	key := "key:"
 	for k := 0; k < len(shades); k++ {
-		a := wlo + (whi-wlo)*(float64(k)-0.5)/float64(len(shades)-1)
-		z := wlo + (whi-wlo)*(float64(k)+0.5)/float64(len(shades)-1)
-		a, z = math.Max(a, lo), math.Min(z, hi)
-		key = append(key, fmt.Sprintf("%q %s–%s", string(shades[k]), FormatValue(a, ""), FormatValue(z, "")))
+		z := math.Min(wlo+(whi-wlo)*(float64(k)+0.5)/float64(len(shades)-1), hi)
+		item := fmt.Sprintf(" %s ≤%s", string(shades[k]), FormatValue(z, ""))
+		if k == 0 {
+			item = " (blank) ≤" + FormatValue(z, "")
+		}
+		if runeLen(key)+runeLen(item) > width {
+			b.WriteString(key + "\n")
+			key = "    "
+		}
+		key += item
 	}
-	b.WriteString(truncate("shades: "+strings.Join(key, ", "), width) + "\n")
+	b.WriteString(key + "\n")
 	if h.baselineInside() {
 		b.WriteString("● baseline\n")
 	}

@@ -129,3 +129,16 @@ func fitTicks(p *plot.Plot, c draw.Canvas) {
 		p.Y.Tick.Marker = t
 	}
 }
+
+// unlabeledTicks keeps another ticker's positions but drops the labels,
+// for an axis that shares its values with one drawn elsewhere.
+type unlabeledTicks struct{ plot.Ticker }
+
+// Ticks implements plot.Ticker.
+func (u unlabeledTicks) Ticks(min, max float64) []plot.Tick {
+	ts := u.Ticker.Ticks(min, max)
+	for i := range ts {
+		ts[i].Label = ""
+	}
+	return ts
+}

@@ -89,8 +89,8 @@ func newUniform(p []float64) (Dist, error) {
 	}
 	return uniformDist{distuv.Uniform{Min: p[0], Max: p[1]}}, nil
 }
-func (d uniformDist) Name() string              { return "uniform" }
-func (d uniformDist) Params() []float64         { return []float64{d.Min, d.Max} }
+func (d uniformDist) Name() string                { return "uniform" }
+func (d uniformDist) Params() []float64           { return []float64{d.Min, d.Max} }
 func (d uniformDist) Support() (float64, float64) { return d.Min, d.Max }
 
 type triangularDist struct {
@@ -106,8 +106,8 @@ func newTriangular(p []float64) (Dist, error) {
 	// gonum's order is (low, high, mode).
 	return triangularDist{distuv.NewTriangle(low, high, mode, nil), low, mode, high}, nil
 }
-func (d triangularDist) Name() string              { return "triangular" }
-func (d triangularDist) Params() []float64         { return []float64{d.low, d.mode, d.high} }
+func (d triangularDist) Name() string                { return "triangular" }
+func (d triangularDist) Params() []float64           { return []float64{d.low, d.mode, d.high} }
 func (d triangularDist) Support() (float64, float64) { return d.low, d.high }
 
 type normalDist struct{ distuv.Normal }
@@ -118,8 +118,8 @@ func newNormal(p []float64) (Dist, error) {
 	}
 	return normalDist{distuv.Normal{Mu: p[0], Sigma: p[1]}}, nil
 }
-func (d normalDist) Name() string              { return "normal" }
-func (d normalDist) Params() []float64         { return []float64{d.Mu, d.Sigma} }
+func (d normalDist) Name() string                { return "normal" }
+func (d normalDist) Params() []float64           { return []float64{d.Mu, d.Sigma} }
 func (d normalDist) Support() (float64, float64) { return math.Inf(-1), math.Inf(1) }
 
 type lognormalDist struct {
@@ -139,8 +139,8 @@ func newLognormal(p []float64) (Dist, error) {
 	s2 := math.Log1p(s * s / (m * m))
 	return lognormalDist{distuv.LogNormal{Mu: math.Log(m) - s2/2, Sigma: math.Sqrt(s2)}, m, s}, nil
 }
-func (d lognormalDist) Name() string              { return "lognormal" }
-func (d lognormalDist) Params() []float64         { return []float64{d.mean, d.sd} }
+func (d lognormalDist) Name() string                { return "lognormal" }
+func (d lognormalDist) Params() []float64           { return []float64{d.mean, d.sd} }
 func (d lognormalDist) Support() (float64, float64) { return 0, math.Inf(1) }
 
 // pertDist is the beta-PERT distribution on [a, b] with mode m:

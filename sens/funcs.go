@@ -303,10 +303,10 @@ var Functions = []FuncInfo{
 	{Name: "annuity_fv", Args: 2, Op: OpAnnuityFV, Sig: "annuity_fv(i, n)", Doc: "future worth of 1 per period for n periods (F/A)", Example: "annuity_fv(0.06, 10) = 13.18079494"},
 	{Name: "recovery", Args: 2, Op: OpRecovery, Sig: "recovery(i, n)", Doc: "uniform payment per period that repays 1 over n periods (A/P)", Example: "recovery(0.1, 5) = 0.2637974808"},
 	{Name: "sinking", Args: 2, Op: OpSinking, Sig: "sinking(i, n)", Doc: "uniform deposit per period that grows to 1 in n periods (A/F)", Example: "sinking(0.1, 5) = 0.1637974808"},
-	{Name: "gradient_pv", Args: 2, Op: OpGradientPV, Sig: "gradient_pv(i, n)", Doc: "present worth of payments 0, 1, ..., n-1 at the ends of periods 1..n (P/G)", Example: "gradient_pv(0.1, 5) = 6.861802039"},
-	{Name: "gradient_uniform", Args: 2, Op: OpGradientUniform, Sig: "gradient_uniform(i, n)", Doc: "uniform series equal in worth to payments 0, 1, ..., n-1 (A/G)", Example: "gradient_uniform(0.1, 5) = 1.810126494"},
+	{Name: "gradient_pv", Args: 2, Op: OpGradientPV, Sig: "gradient_pv(i, n)", Doc: "present worth of payments 0, 1, ..., n-1 at the ends of periods 1..n (P/G)", Example: "gradient_pv(0.1, 5) = 6.861801541"},
+	{Name: "gradient_uniform", Args: 2, Op: OpGradientUniform, Sig: "gradient_uniform(i, n)", Doc: "uniform series equal in worth to payments 0, 1, ..., n-1 (A/G)", Example: "gradient_uniform(0.1, 5) = 1.81012596"},
 	{Name: "learn", Args: 3, Op: OpLearn, Sig: "learn(first, rate, k)", Doc: "cost of unit k when each doubling of units multiplies unit cost by rate", Example: "learn(100, 0.8, 4) = 64"},
-	{Name: "learn_total", Args: 3, Op: OpLearnTotal, Sig: "learn_total(first, rate, k)", Doc: "cumulative cost of units 1..k on the same unit learning curve", Example: "learn_total(100, 0.8, 4) = 314.21245851"},
+	{Name: "learn_total", Args: 3, Op: OpLearnTotal, Sig: "learn_total(first, rate, k)", Doc: "cumulative cost of units 1..k on the same unit learning curve", Example: "learn_total(100, 0.8, 4) = 314.2103703"},
 }
 
 // LookupFunc returns the built-in function called name.

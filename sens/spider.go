@@ -117,8 +117,8 @@ func Spider(p *Problem, pct float64, points int, s *Settings) (*SpiderResult, er
 		res.Inputs = append(res.Inputs, line)
 	}
 	sort.SliceStable(res.Inputs, func(a, b int) bool {
-		if res.Inputs[a].Spread != res.Inputs[b].Spread {
-			return res.Inputs[a].Spread > res.Inputs[b].Spread
+		if sa, sb := sortKey(res.Inputs[a].Spread), sortKey(res.Inputs[b].Spread); sa != sb {
+			return sa > sb
 		}
 		return res.Inputs[a].Name < res.Inputs[b].Name
 	})

@@ -46,11 +46,21 @@ func (t *Tape) Eval(x []float64, i int) (float64, error) {
 		return math.NaN(), err
 	}
 	out := t.p.outs[i]
-	bad := t.run(int(out) + 1)
+	bad := t.run(t.p.end(i))
 	if err := t.check(bad, t.p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
 		return math.NaN(), err
 	}
 	return t.vals[out], nil
+}
+
+// end returns the end of the nodes output i needs: one past its node,
+// and past the opArg that follows a three-argument node.
+func (p *tapeProg) end(i int) int {
+	o := int(p.outs[i])
+	if p.ops[o].Arity() == 3 {
+		return o + 2
+	}
+	return o + 1
 }
 
 // check returns the domain error, if any, behind the outputs outs: bad
@@ -266,13 +276,14 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 		panic(fmt.Sprintf("sens: gradient of length %d, tape has %d inputs", len(dst), p.nIn))
 	}
 	out := int(p.outs[i])
-	v := t.vals[:out+1]
-	g := t.adj[:out+1]
+	end := p.end(i)
+	v := t.vals[:end]
+	g := t.adj[:end]
 	clear(g)
 	g[out] = 1
-	ops := p.ops[:out+1]
-	as := p.a[:out+1]
-	bs := p.b[:out+1]
+	ops := p.ops[:end]
+	as := p.a[:end]
+	bs := p.b[:end]
 	for k := out; k >= p.start; k-- {
 		gk := g[k]
 		if gk == 0 {
@@ -499,7 +510,7 @@ func (t *Tape) ForwardBatch(out, x []float64, n, i int) error {
 		if err := t.loadBlock(x, base, m); err != nil {
 			return err
 		}
-		bad := t.runBlock(m, o+1)
+		bad := t.runBlock(m, p.end(i))
 		copy(out[base:base+m], t.bvals[o*w:o*w+m])
 		if err := t.checkBlock(bad, outs, base, m); err != nil {
 			return err
@@ -743,7 +754,7 @@ func (t *Tape) GradientBatch(out, grads, x []float64, n, i int) error {
 		if err := t.loadBlock(x, base, m); err != nil {
 			return err
 		}
-		bad := t.runBlock(m, o+1)
+		bad := t.runBlock(m, p.end(i))
 		copy(out[base:base+m], t.bvals[o*w:o*w+m])
 		if err := t.checkBlock(bad, outs, base, m); err != nil {
 			return err

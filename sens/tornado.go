@@ -283,7 +283,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 	res.Evaluations = ev.done
 
 	sort.SliceStable(bars, func(a, c int) bool {
-		sa, sc := bars[a].Spread(), bars[c].Spread()
+		sa, sc := sortKey(bars[a].Spread()), sortKey(bars[c].Spread())
 		if sa != sc {
 			return sa > sc
 		}
@@ -303,6 +303,18 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		res.Steps = append(res.Steps, st.String())
 	}
 	return res, nil
+}
+
+// sortKey rounds a non-negative magnitude to 12 significant digits, so that
+// values equal but for rounding (1.2 and 1.2000000000000002) rank as a tie
+// and fall back to the order by name.
+func sortKey(v float64) float64 {
+	if v == 0 || math.IsInf(v, 0) || math.IsNaN(v) {
+		return v
+	}
+	e := math.Floor(math.Log10(math.Abs(v))) - 11
+	p := math.Pow(10, e)
+	return math.Round(v/p) * p
 }
 
 type xy struct{ x, y float64 }

@@ -1,0 +1,50 @@
+# nudge: build, test and benchmark. `make test` is what CI runs.
+SHELL := /bin/bash
+PY    ?= /usr/bin/python3
+BIN   := $(CURDIR)/out/nudge
+JP    := $(CURDIR)/out/jupyter
+
+.PHONY: demo build test gotest race fuzz jupyter-test notebooks-test bench clean
+
+demo:
+	go run ./kernel/cmd/nudge exec notebooks/housing.nudge
+
+build:
+	go build -o $(BIN) ./kernel/cmd/nudge
+
+# Every test: Go tests, the race detector on the concurrent packages, a short
+# fuzz run of each parser, the Jupyter conformance suite and every notebook
+# executed through nbconvert.
+test: gotest race fuzz jupyter-test notebooks-test
+
+gotest:
+	go vet ./...
+	go test -count=1 ./...
+
+race:
+	go test -count=1 -race ./kernel/... ./sens/
+
+fuzz:
+	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=15s ./sens/syntax/
+	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=10s ./sens/unit/
+
+$(JP)/share/jupyter/kernels/nudge/kernel.json: build
+	rm -rf $(JP) && $(BIN) install --prefix $(JP)
+
+jupyter-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
+	cd kernel/testdata/jupyter && JUPYTER_PATH=$(JP)/share/jupyter $(PY) -m unittest -v test_conformance
+	JUPYTER_PATH=$(JP)/share/jupyter $(PY) kernel/testdata/jupyter/console_session.py
+
+notebooks-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
+	rm -rf out/notebooks && mkdir -p out/notebooks
+	for nb in notebooks/*.ipynb; do \
+	  JUPYTER_PATH=$(JP)/share/jupyter $(PY) -m nbconvert --to html --execute \
+	    --ExecutePreprocessor.kernel_name=nudge --ExecutePreprocessor.timeout=300 \
+	    --output-dir out/notebooks "$$nb" || exit 1; \
+	done
+
+bench:
+	go run ./kernel/cmd/nudge bench
+
+clean:
+	rm -rf out

@@ -1,0 +1,78 @@
+package sens
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+func TestSpider(t *testing.T) {
+	src := `
+input a = 2 (1..4)
+input x = 8 (4..16)
+input z = 0 (-1..1)
+y = a * x^0.75 + z
+`
+	p := problemOf(t, src, "y")
+	cf := &counting{Function: p.F}
+	p.F = cf
+	r, err := Spider(p, 30, 0, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	base := 2 * math.Pow(8, 0.75)
+	if !scalar.EqualWithinAbsOrRel(r.Baseline, base, 1e-12, 1e-12) || r.SpanPct != 30 {
+		t.Fatalf("baseline %v span %v", r.Baseline, r.SpanPct)
+	}
+	// Spread: y is proportional to a (elasticity 1) and to x^0.75, so a's
+	// line spreads wider than x's; z is 0 and its line flat.
+	if len(r.Inputs) != 3 || r.Inputs[0].Name != "a" || r.Inputs[1].Name != "x" || r.Inputs[2].Name != "z" {
+		t.Fatalf("lines %+v; want a, x, z by spread", r.Inputs)
+	}
+	for _, line := range r.Inputs {
+		if len(line.Points) != DefaultSpiderPoints {
+			t.Fatalf("%s: %d points", line.Name, len(line.Points))
+		}
+		// Every line passes through the baseline output at 0%.
+		mid := line.Points[len(line.Points)/2]
+		if mid.Pct != 0 || mid.Output != r.Baseline || mid.Input != line.Value {
+			t.Errorf("%s at 0%%: %+v, want the baseline %v", line.Name, mid, r.Baseline)
+		}
+		if first, last := line.Points[0], line.Points[len(line.Points)-1]; first.Pct != -30 || last.Pct != 30 {
+			t.Errorf("%s: span %v..%v", line.Name, first.Pct, last.Pct)
+		}
+	}
+	// The output against a percentage change of a is a straight line of slope
+	// base/100 per percent (y is proportional to a); against x it follows
+	// (1 + q/100)^0.75 (direct evaluation of the power law).
+	for _, pt := range r.Inputs[0].Points {
+		if w := base * (1 + pt.Pct/100); !scalar.EqualWithinAbsOrRel(pt.Output, w, 1e-12, 1e-12) {
+			t.Errorf("a at %v%%: %v, want %v", pt.Pct, pt.Output, w)
+		}
+	}
+	for _, pt := range r.Inputs[1].Points {
+		if w := base * math.Pow(1+pt.Pct/100, 0.75); !scalar.EqualWithinAbsOrRel(pt.Output, w, 1e-12, 1e-12) {
+			t.Errorf("x at %v%%: %v, want %v", pt.Pct, pt.Output, w)
+		}
+	}
+	if z := r.Inputs[2]; !z.ZeroValue || z.Spread != 0 {
+		t.Errorf("z: %+v, want a flat line marked zero_value", z)
+	}
+	if cf.evals != 0 || cf.batches != 1 || cf.points != 1+2*12 {
+		t.Errorf("evals %d, batches %d, points %d; want 0, 1, 25", cf.evals, cf.batches, cf.points)
+	}
+
+	// An even number of points is raised by one so 0% stays on the grid.
+	r, err = Spider(p, 10, 4, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []float64{-10, -5, 0, 5, 10}
+	for j, pt := range r.Inputs[0].Points {
+		if pt.Pct != want[j] {
+			t.Errorf("points at %v, want %v", r.Inputs[0].Points, want)
+			break
+		}
+	}
+}

@@ -1,0 +1,133 @@
+package sens
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+func TestSweep1D(t *testing.T) {
+	src := `
+input rate = 60 [$/h] (50..70)
+input hours = 1.5 [h]
+input fixed = 10 [$]
+cost = rate * hours + fixed
+`
+	p := problemOf(t, src, "cost")
+	target := 100.0
+	r, err := Sweep1D(p, "rate", 40, 80, 5, &target, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// cost = 1.5·rate + 10 (the model by hand): endpoints 70 and 130.
+	want := []SweepPoint{{40, 70}, {50, 85}, {60, 100}, {70, 115}, {80, 130}}
+	if len(r.Points) != len(want) {
+		t.Fatalf("%d points", len(r.Points))
+	}
+	for j, w := range want {
+		if g := r.Points[j]; g.X != w.X || !scalar.EqualWithinAbsOrRel(g.Output, w.Output, 1e-12, 1e-12) {
+			t.Errorf("point %d = %+v, want %+v", j, g, w)
+		}
+	}
+	if r.Baseline != 100 || r.Input.Baseline != 60 || r.Input.Unit != "$/h" || r.Unit != "$" || r.Dims != 1 {
+		t.Errorf("result %+v", r)
+	}
+	if len(r.Crossings) != 1 || !scalar.EqualWithinAbsOrRel(r.Crossings[0], 60, 1e-12, 1e-12) {
+		t.Errorf("crossings %v, want [60]", r.Crossings)
+	}
+	target = 92.5 // between grid points: rate = 55
+	r, _ = Sweep1D(p, "rate", 40, 80, 5, &target, nil)
+	if len(r.Crossings) != 1 || !scalar.EqualWithinAbsOrRel(r.Crossings[0], 55, 1e-12, 1e-12) {
+		t.Errorf("crossings %v, want [55]", r.Crossings)
+	}
+
+	for _, tc := range []struct {
+		input  string
+		lo, hi float64
+		msg    string
+	}{
+		{"rate", 80, 40, "the span of rate is empty or reversed (80..40): write LOW..HIGH with LOW < HIGH"},
+		{"rate", 1, 1, "the span of rate is empty or reversed (1..1): write LOW..HIGH with LOW < HIGH"},
+		{"rates", 1, 2, "rates is not an input of cost"},
+		{"rate", math.Inf(-1), 2, "the span of rate must be finite"},
+	} {
+		_, err := Sweep1D(p, tc.input, tc.lo, tc.hi, 5, nil, nil)
+		if err == nil || err.Error() != tc.msg {
+			t.Errorf("Sweep1D(%s, %v, %v): error %v, want %q", tc.input, tc.lo, tc.hi, err, tc.msg)
+		}
+	}
+}
+
+func TestSweep2DContourLine(t *testing.T) {
+	// f = x + y: the contour f = 10 is the straight line x + y = 10, which
+	// linear interpolation on cell edges reproduces exactly (analytic).
+	ins := []*Input{NewInput("x", 2, 0, 10, nil), NewInput("y", 3, 0, 10, nil), NewInput("w", 1, 0, 2, nil)}
+	f := FuncOf(3, func(x []float64) float64 { return x[0] + x[1] + 0*x[2] }, nil)
+	p := &Problem{Output: "f", F: f, Inputs: ins}
+	target := 10.0
+	r, err := Sweep2D(p, "x", 0, 10, "y", 0, 10, 7, 9, &target, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Points) != 63 || r.Dims != 2 || r.Inputs[0].N != 7 || r.Inputs[1].N != 9 {
+		t.Fatalf("grid %d points, axes %+v", len(r.Points), r.Inputs)
+	}
+	// Row-major: Points[r*nx+c] at x = xs[c], y = ys[r].
+	for rr := 0; rr < 9; rr++ {
+		for c := 0; c < 7; c++ {
+			g := r.Points[rr*7+c]
+			if g.X != r.Inputs[0].Values[c] || g.Y != r.Inputs[1].Values[rr] || !scalar.EqualWithinAbsOrRel(g.Output, g.X+g.Y, 1e-12, 1e-12) {
+				t.Fatalf("point (%d, %d) = %+v", rr, c, g)
+			}
+		}
+	}
+	if r.Min != 0 || r.Max != 20 || r.Baseline != 5 {
+		t.Errorf("min %v max %v baseline %v", r.Min, r.Max, r.Baseline)
+	}
+	if len(r.Contour) != 1 {
+		t.Fatalf("%d contour lines, want 1", len(r.Contour))
+	}
+	line := r.Contour[0]
+	if len(line) < 8 {
+		t.Errorf("contour has %d points", len(line))
+	}
+	for _, pt := range line {
+		if !scalar.EqualWithinAbsOrRel(pt.X+pt.Y, 10, 1e-12, 1e-12) {
+			t.Errorf("contour point %+v is off x + y = 10", pt)
+		}
+	}
+	// The line runs from one end of the diagonal to the other.
+	a, b := line[0], line[len(line)-1]
+	if math.Min(a.X, b.X) != 0 || math.Max(a.X, b.X) != 10 {
+		t.Errorf("contour ends %+v and %+v, want x = 0 and x = 10", a, b)
+	}
+	if _, err := Sweep2D(p, "x", 0, 1, "x", 0, 1, 3, 3, nil, nil); err == nil {
+		t.Error("same input twice: no error")
+	}
+}
+
+func TestSweep2DContourCircle(t *testing.T) {
+	// f = x² + y²: the contour f = 1 is the unit circle, a closed line; its
+	// points lie on edges where linear interpolation of a quadratic errs by
+	// at most h²/4 in f (h = 0.1, the grid step).
+	ins := []*Input{NewInput("x", 0, -2, 2, nil), NewInput("y", 0, -2, 2, nil)}
+	f := FuncOf(2, func(x []float64) float64 { return x[0]*x[0] + x[1]*x[1] }, nil)
+	target := 1.0
+	r, err := Sweep2D(&Problem{Output: "f", F: f, Inputs: ins}, "x", -2, 2, "y", -2, 2, 41, 41, &target, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Contour) != 1 {
+		t.Fatalf("%d contour lines, want 1", len(r.Contour))
+	}
+	line := r.Contour[0]
+	if line[0] != line[len(line)-1] {
+		t.Errorf("circle not closed: %+v .. %+v", line[0], line[len(line)-1])
+	}
+	for _, pt := range line {
+		if v := pt.X*pt.X + pt.Y*pt.Y; math.Abs(v-1) > 0.1*0.1/4 {
+			t.Errorf("contour point %+v has f = %v", pt, v)
+		}
+	}
+}
