@@ -46,6 +46,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return kernelCmd(args[1:], stderr)
 	case "install":
 		return installCmd(args[1:], stdout, stderr)
+	case "bench":
+		return benchCmd(args[1:], stdout, stderr)
 	case "version", "--version", "-version":
 		fmt.Fprintln(stdout, "nudge", kernel.Version)
 		return 0

@@ -31,8 +31,9 @@ type Options struct {
 	// before that peer is disconnected (default 30s).
 	StallTimeout time.Duration
 	// QueueMsgs and QueueBytes bound the messages waiting for one peer
-	// (defaults 1000 messages and 64 MiB). A message that does not fit is
-	// dropped for that peer only, as a ZeroMQ high-water mark does.
+	// (defaults 100000 messages and 64 MiB). When a new message does not
+	// fit, that peer's oldest queued messages are dropped; other peers are
+	// not affected.
 	QueueMsgs  int
 	QueueBytes int
 	// MaxMsgBytes bounds one incoming message (default 256 MiB); a peer
@@ -55,7 +56,7 @@ func (o *Options) withDefaults() Options {
 		d.StallTimeout = 30 * time.Second
 	}
 	if d.QueueMsgs <= 0 {
-		d.QueueMsgs = 1000
+		d.QueueMsgs = 100000
 	}
 	if d.QueueBytes <= 0 {
 		d.QueueBytes = 64 << 20
@@ -70,7 +71,7 @@ func (o *Options) withDefaults() Options {
 var (
 	ErrClosed      = errors.New("zsock: socket closed")
 	ErrUnknownPeer = errors.New("zsock: no connected peer with that identity")
-	ErrQueueFull   = errors.New("zsock: peer queue full, message dropped")
+	ErrQueueFull   = errors.New("zsock: peer queue full, older messages dropped")
 )
 
 // Stats counts what a socket has done; all fields are totals since Listen.
@@ -82,7 +83,7 @@ type Stats struct {
 	Peers         int    // peers connected now
 	Pending       int64  // messages queued or being written now
 	PendingBytes  int64  // bytes queued or being written now
-	MaxQueueBytes int64  // largest PendingBytes seen for one peer
+	MaxQueueBytes int64  // most bytes ever queued for one peer
 }
 
 // kindHooks is what a socket type adds to the shared connection handling.
@@ -381,7 +382,11 @@ type item struct {
 	size int
 }
 
-// enqueue hands a message to the peer's writer; it never blocks.
+// enqueue hands a message to the peer's writer; it never blocks. When the
+// queue is over its bounds the oldest queued messages are dropped to make
+// room: a client that falls behind loses old output but still sees the
+// latest state (the final idle, the last reply). A single message larger
+// than QueueBytes is still accepted when it is alone in the queue.
 func (p *peer) enqueue(segs net.Buffers, size int) error {
 	p.mu.Lock()
 	if p.closed {
@@ -389,19 +394,23 @@ func (p *peer) enqueue(segs net.Buffers, size int) error {
 		return ErrClosed
 	}
 	o := &p.b.opts
-	if len(p.queue) >= o.QueueMsgs || (p.qbytes > 0 && p.qbytes+size > o.QueueBytes) {
-		p.dropping++
-		first := p.dropping == 1
-		p.mu.Unlock()
-		p.b.dropped.Add(1)
-		if first {
-			p.b.log.Printf("zsock %s: peer %s is not reading; dropping its messages (queue %d msgs)",
-				p.b.typ, p.conn.RemoteAddr(), o.QueueMsgs)
-		}
-		return ErrQueueFull
+	var dropped, droppedBytes int
+	for len(p.queue) > 0 && (len(p.queue) >= o.QueueMsgs || p.qbytes+size > o.QueueBytes) {
+		old := p.queue[0]
+		p.queue[0] = item{}
+		p.queue = p.queue[1:]
+		p.qbytes -= old.size
+		dropped++
+		droppedBytes += old.size
 	}
-	if p.dropping > 0 {
-		p.b.log.Printf("zsock %s: peer %s reading again after %d dropped messages",
+	if dropped > 0 {
+		p.dropping += uint64(dropped)
+		if p.dropping == uint64(dropped) {
+			p.b.log.Printf("zsock %s: peer %s is not keeping up; dropping its oldest messages (queue limit %d msgs, %d bytes)",
+				p.b.typ, p.conn.RemoteAddr(), o.QueueMsgs, o.QueueBytes)
+		}
+	} else if p.dropping > 0 && len(p.queue) == 0 {
+		p.b.log.Printf("zsock %s: peer %s caught up after %d dropped messages",
 			p.b.typ, p.conn.RemoteAddr(), p.dropping)
 		p.dropping = 0
 	}
@@ -413,12 +422,16 @@ func (p *peer) enqueue(segs net.Buffers, size int) error {
 			break
 		}
 	}
-	p.b.pending.Add(1)
-	p.b.pendingBytes.Add(int64(size))
 	p.mu.Unlock()
+	p.b.pending.Add(int64(1 - dropped))
+	p.b.pendingBytes.Add(int64(size - droppedBytes))
+	p.b.dropped.Add(uint64(dropped))
 	select {
 	case p.wake <- struct{}{}:
 	default:
+	}
+	if dropped > 0 {
+		return ErrQueueFull
 	}
 	return nil
 }

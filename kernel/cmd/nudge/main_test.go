@@ -1,0 +1,128 @@
+package main
+
+import (
+	"bufio"
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func runNudge(args []string, stdin string) (code int, stdout, stderr string) {
+	var out, errb bytes.Buffer
+	code = run(args, strings.NewReader(stdin), &out, &errb)
+	return code, out.String(), errb.String()
+}
+
+func TestExecDemoText(t *testing.T) {
+	code, out, errs := runNudge([]string{"exec", "../../../notebooks/housing.nudge"}, "")
+	if code != 0 {
+		t.Fatalf("exit %d, stderr %s", code, errs)
+	}
+	for _, want := range []string{"unit_cost = 97.4103 $", "elasticity", "shop_rate", "Caution:"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+}
+
+// TestExecJSONContract checks the JSON Lines of DESIGN.md: one object per line,
+// each with "kind", the drivers fields present and sorted by |elasticity|.
+func TestExecJSONContract(t *testing.T) {
+	src := "input mass = 12 [kg]\ninput steel = 0.9 [$/kg]\ninput hours = 1.5 [h]\ninput rate = 60 [$/h]\n" +
+		"cost = mass * steel + hours * rate\ncost\ndrivers cost\n"
+	code, out, errs := runNudge([]string{"exec", "--json", "-"}, src)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var kinds []string
+	sc := bufio.NewScanner(strings.NewReader(out))
+	for sc.Scan() {
+		var obj map[string]any
+		if err := json.Unmarshal(sc.Bytes(), &obj); err != nil {
+			t.Fatalf("line %q is not JSON: %v", sc.Text(), err)
+		}
+		kinds = append(kinds, obj["kind"].(string))
+		if obj["kind"] == "drivers" {
+			for _, k := range []string{"output", "value", "unit", "inputs"} {
+				if _, ok := obj[k]; !ok {
+					t.Errorf("drivers lacks %q", k)
+				}
+			}
+			ins := obj["inputs"].([]any)
+			if len(ins) != 4 {
+				t.Fatalf("want 4 inputs, got %d", len(ins))
+			}
+			prev := 1e300
+			for _, x := range ins {
+				m := x.(map[string]any)
+				for _, k := range []string{"name", "value", "unit", "partial", "partial_unit", "elasticity"} {
+					if _, ok := m[k]; !ok {
+						t.Errorf("input lacks %q", k)
+					}
+				}
+				e := m["elasticity"].(float64)
+				if e < 0 {
+					e = -e
+				}
+				if e > prev {
+					t.Errorf("inputs not sorted by |elasticity|")
+				}
+				prev = e
+			}
+		}
+	}
+	if strings.Join(kinds, ",") != "value,drivers" {
+		t.Errorf("kinds %v, want value,drivers", kinds)
+	}
+}
+
+func TestExitCodes(t *testing.T) {
+	dir := t.TempDir()
+	bad := filepath.Join(dir, "bad.nudge")
+	os.WriteFile(bad, []byte("input a = 1\nb = a * c\n"), 0o644)
+	code, out, errs := runNudge([]string{"exec", bad}, "")
+	if code != 1 || !strings.Contains(errs, "bad.nudge:2:9: undefined: c") || !strings.Contains(errs, "^") {
+		t.Errorf("model error: exit %d, stdout %q, stderr %q", code, out, errs)
+	}
+	code, out, _ = runNudge([]string{"exec", "--json", bad}, "")
+	var obj map[string]any
+	if code != 1 || json.Unmarshal([]byte(strings.TrimSpace(out)), &obj) != nil || obj["kind"] != "error" || obj["line"] != 2.0 || obj["column"] != 9.0 {
+		t.Errorf("JSON error: exit %d, %q", code, out)
+	}
+	for _, args := range [][]string{{}, {"exec"}, {"frobnicate"}, {"exec", "--nope", bad}, {"exec", filepath.Join(dir, "missing.nudge")}, {"install", "--user", "--sys-prefix"}} {
+		if code, _, _ := runNudge(args, ""); code != 2 {
+			t.Errorf("%v: exit %d, want 2", args, code)
+		}
+	}
+}
+
+func TestInstallPrefix(t *testing.T) {
+	dir := t.TempDir()
+	code, _, errs := runNudge([]string{"install", "--prefix", dir}, "")
+	if code != 0 {
+		t.Fatalf("install: %d %s", code, errs)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "share", "jupyter", "kernels", "nudge", "kernel.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var spec struct {
+		Argv          []string `json:"argv"`
+		Language      string   `json:"language"`
+		InterruptMode string   `json:"interrupt_mode"`
+	}
+	if err := json.Unmarshal(b, &spec); err != nil {
+		t.Fatal(err)
+	}
+	if spec.Language != "nudge" || spec.InterruptMode != "message" || spec.Argv[len(spec.Argv)-1] != "{connection_file}" {
+		t.Errorf("kernelspec %+v", spec)
+	}
+	for _, logo := range []string{"logo-32x32.png", "logo-64x64.png", "logo-svg.svg"} {
+		if _, err := os.Stat(filepath.Join(dir, "share", "jupyter", "kernels", "nudge", logo)); err != nil {
+			t.Errorf("missing %s", logo)
+		}
+	}
+}

@@ -1,0 +1,105 @@
+package kernel
+
+import (
+	"context"
+	"os/exec"
+	"strings"
+	"testing"
+)
+
+func TestCellsShareStateAndRollBack(t *testing.T) {
+	in := New()
+	ctx := context.Background()
+	s := &captureSink{}
+	if err := in.Execute(ctx, "", "input a = 2 [kg]\ninput p = 3 [$/kg]\nc = a * p", s); err != nil {
+		t.Fatal(err)
+	}
+	// A failing cell leaves the model as it was.
+	if err := in.Execute(ctx, "", "p = 4\nc = a * q", s); err == nil {
+		t.Fatal("want an error for an undefined name")
+	}
+	s = &captureSink{}
+	if err := in.Execute(ctx, "", "c", s); err != nil {
+		t.Fatal(err)
+	}
+	if len(s.results) != 1 || s.results[0].Text != "c = 6 $" {
+		t.Fatalf("after the failed cell: %+v", s.results)
+	}
+	// Redefining replaces; reset forgets.
+	s = &captureSink{}
+	in.Execute(ctx, "", "input p = 5 [$/kg]\nc", s)
+	if s.results[0].Text != "c = 10 $" {
+		t.Errorf("redefined: %s", s.results[0].Text)
+	}
+	in.Execute(ctx, "", "reset", s)
+	if err := in.Execute(ctx, "", "c", s); err == nil || !strings.Contains(err.Error(), "undefined: c") {
+		t.Errorf("after reset: %v", err)
+	}
+}
+
+func TestPrintAndStepWarning(t *testing.T) {
+	s := &captureSink{}
+	if err := New().Execute(context.Background(), "", "print \"hi\"\ninput q = 3.5\ny = floor(q) * 2\ndrivers y", s); err != nil {
+		t.Fatal(err)
+	}
+	if s.stdout.String() != "hi\n" {
+		t.Errorf("stdout %q", s.stdout.String())
+	}
+	if !strings.Contains(s.stderr.String(), "step-shaped") {
+		t.Errorf("stderr %q lacks the step warning", s.stderr.String())
+	}
+	b := s.results[0].Bundle()
+	for _, mime := range []string{"text/plain", "text/html", "application/json"} {
+		if _, ok := b[mime]; !ok {
+			t.Errorf("bundle lacks %s", mime)
+		}
+	}
+	if !strings.Contains(b["text/plain"].(string), "Caution") {
+		t.Errorf("drivers result carries no caution")
+	}
+}
+
+func TestInterruptedCell(t *testing.T) {
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	err := New().Execute(ctx, "", "input a = 1\nb = a", &captureSink{})
+	if err == nil || !strings.Contains(err.Error(), "interrupted") {
+		t.Errorf("cancelled cell: %v", err)
+	}
+}
+
+// TestImportDirection checks the layering: sens never imports plotting, zmq4 or
+// kernel; plotting imports no other nudge package; syntax and unit only the
+// standard library.
+func TestImportDirection(t *testing.T) {
+	deps := func(pkg string) []string {
+		out, err := exec.Command("go", "list", "-deps", pkg).Output()
+		if err != nil {
+			t.Fatalf("go list %s: %v", pkg, err)
+		}
+		return strings.Fields(string(out))
+	}
+	for _, tc := range []struct {
+		pkg       string
+		forbidden []string
+	}{
+		{"github.com/nudge-dev/nudge/sens", []string{"/plotting", "/kernel", "zmq4"}},
+		{"github.com/nudge-dev/nudge/plotting", []string{"nudge-dev/nudge/sens", "/kernel", "zmq4"}},
+		{"github.com/nudge-dev/nudge/kernel/jupyter", []string{"nudge-dev/nudge/sens", "/plotting"}},
+	} {
+		for _, d := range deps(tc.pkg) {
+			for _, f := range tc.forbidden {
+				if strings.Contains(d, f) {
+					t.Errorf("%s depends on %s", tc.pkg, d)
+				}
+			}
+		}
+	}
+	for _, pkg := range []string{"github.com/nudge-dev/nudge/sens/syntax", "github.com/nudge-dev/nudge/sens/unit"} {
+		for _, d := range deps(pkg) {
+			if strings.Contains(d, ".") && d != pkg {
+				t.Errorf("%s imports %s, not only the standard library", pkg, d)
+			}
+		}
+	}
+}
