@@ -135,3 +135,55 @@ func TestDemoDist(t *testing.T) {
 	write(t, "dist", d)
 	fmt.Print(d.Text(80))
 }
+
+func TestDemoIdx(t *testing.T) {
+	if os.Getenv("DEMO") == "" {
+		t.Skip()
+	}
+	ix := &Indices{Title: "Sobol' indices of total", Output: "total", Series: []string{"first order", "total order"}, Interval: "95% confidence interval",
+		Items: []IndexItem{
+			{Name: "x2", Values: []float64{0.4424, 0.4424}, Lo: []float64{0.41, 0.42}, Hi: []float64{0.47, 0.46}},
+			{Name: "x1", Values: []float64{0.3139, 0.5576}, Lo: []float64{0.28, 0.53}, Hi: []float64{0.34, 0.59}},
+			{Name: "x3", Values: []float64{0.0, 0.2437}, Lo: []float64{-0.03, 0.22}, Hi: []float64{0.03, 0.27}},
+		}}
+	write(t, "idx", ix)
+	fmt.Print(ix.Text(80))
+	var xs, ys []float64
+	s := uint64(3)
+	for i := 0; i < 8000; i++ {
+		s = s*6364136223846793005 + 1442695040888963407
+		x := 40 + 40*float64(s>>11)/(1<<53)
+		s = s*6364136223846793005 + 1442695040888963407
+		e := float64(s>>11)/(1<<53) - 0.5
+		xs = append(xs, x)
+		ys = append(ys, 100000+1500*x+20000*e)
+	}
+	sc := &Scatter{XName: "rate", XUnit: "$/h", YName: "total", YUnit: "$", X: xs, Y: ys}
+	write(t, "scatter", sc)
+	fmt.Print(sc.Text(80))
+}
+
+func TestDemoEdges(t *testing.T) {
+	if os.Getenv("DEMO") == "" {
+		t.Skip()
+	}
+	neg := &Tornado{Output: "npv", Unit: "$", Baseline: -1000000, Bars: []Bar{
+		{Name: "discount rate", Low: 6, High: 10, InputUnit: "%", OutLow: -800000, OutHigh: -1300000, Min: -1300000, Max: -800000},
+		{Name: "capex of the second expansion phase including contingency", Low: 1e6, High: 2e6, InputUnit: "$", OutLow: -900000, OutHigh: -1100000, Min: -1100000, Max: -900000},
+		{Name: "flat", Low: 1, High: 2, OutLow: -1000000, OutHigh: -1000000, Min: -1000000, Max: -1000000},
+	}}
+	write(t, "neg", neg)
+	zero := &Tornado{Output: "total", Unit: "$", Baseline: 500, Bars: []Bar{
+		{Name: "a", Low: 1, High: 2, OutLow: 500, OutHigh: 500, Min: 500, Max: 500},
+	}}
+	write(t, "zero", zero)
+	f, _ := os.Create("/tmp/demo/empty.png")
+	f.Write((&Tornado{Output: "total"}).PNG())
+	f.Close()
+	big := &Tornado{Output: "total", Unit: "$", Baseline: 1000}
+	for i := 0; i < 30; i++ {
+		s := float64(30-i) * 10
+		big.Bars = append(big.Bars, Bar{Name: fmt.Sprintf("input_%02d", i), Low: 1, High: 2, InputUnit: "kg", OutLow: 1000 - s*0.6, OutHigh: 1000 + s*0.4, Min: 1000 - s*0.6, Max: 1000 + s*0.4})
+	}
+	write(t, "big", big)
+}

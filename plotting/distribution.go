@@ -423,7 +423,14 @@ func (d *Distribution) Text(width int) string {
 	width = textWidth(width)
 	unit := clean(d.Unit)
 	xs, lo, hi := d.sortedSamples()
-	bins := histogram(xs, min(15, d.bins()), lo, hi)
+	// Round bin widths can give more bins than asked for: ask for fewer
+	// until the table has at most 15 rows.
+	var bins []plotter.HistogramBin
+	for k := min(15, d.bins()); k >= 1; k-- {
+		if bins = histogram(xs, k, lo, hi); len(bins) <= 15 {
+			break
+		}
+	}
 
 	ranges := make([]string, len(bins))
 	notes := make([]string, len(bins))

@@ -128,10 +128,10 @@ type gridXYZ struct {
 	z    [][]float64
 }
 
-func (g gridXYZ) Dims() (c, r int)     { return len(g.x), len(g.y) }
-func (g gridXYZ) Z(c, r int) float64   { return g.z[r][c] }
-func (g gridXYZ) X(c int) float64      { return g.x[c] }
-func (g gridXYZ) Y(r int) float64      { return g.y[r] }
+func (g gridXYZ) Dims() (c, r int)   { return len(g.x), len(g.y) }
+func (g gridXYZ) Z(c, r int) float64 { return g.z[r][c] }
+func (g gridXYZ) X(c int) float64    { return g.x[c] }
+func (g gridXYZ) Y(r int) float64    { return g.y[r] }
 func (g gridXYZ) zRange() (lo, hi float64) {
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, row := range g.z {

@@ -162,7 +162,11 @@ func (ix *Indices) draw(c draw.Canvas) {
 
 func (ix *Indices) caption() string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "%s: for each input, bars for %s", ix.heading(), strings.Join(ix.Series, " and "))
+	var series []string
+	for s, name := range ix.Series {
+		series = append(series, orDefault(name, fmt.Sprintf("series %d", s+1)))
+	}
+	fmt.Fprintf(&b, "%s: for each input, bars for %s", ix.heading(), strings.Join(series, " and "))
 	if ix.hasIntervals() {
 		fmt.Fprintf(&b, ", whiskers for the %s", orDefault(ix.Interval, "interval"))
 	}
@@ -231,8 +235,9 @@ func (ib *IndexBars) Plot(c draw.Canvas, p *plot.Plot) {
 }
 
 // Text draws the chart as a table, a row per input and a column per series:
-// a bar on a scale common to all (from zero, or from the smallest value when
-// some are negative) followed by the value and its interval.
+// a bar from zero on a scale common to all cells (a negative value, which
+// for an index is estimation noise, has no bar) followed by the value and
+// its interval.
 func (ix *Indices) Text(width int) string {
 	if err := ix.check(); err != nil {
 		return textMessage(ix.heading(), err)
@@ -240,8 +245,7 @@ func (ix *Indices) Text(width int) string {
 	width = textWidth(width)
 	ns := len(ix.Series)
 	ib := NewIndexBars(ix.Items, ns)
-	xmin, xmax, _, _ := ib.DataRange()
-	xmin = math.Min(xmin, 0)
+	_, xmax, _, _ := ib.DataRange()
 
 	cell := func(it IndexItem, s int) string {
 		v := FormatValue(it.Values[s], "")
@@ -265,14 +269,14 @@ func (ix *Indices) Text(width int) string {
 	var b strings.Builder
 	b.WriteString(truncate(ix.heading(), width) + "\n")
 	head := padRight("input", nameW)
-	for _, name := range ix.Series {
-		head += " " + padRight(name, colW)
+	for s, name := range ix.Series {
+		head += " " + padRight(orDefault(name, fmt.Sprintf("series %d", s+1)), colW)
 	}
 	b.WriteString(head + "\n")
 	for _, it := range ix.Items {
 		line := padRight(orDefault(it.Name, "(unnamed)"), nameW)
 		for s := range ns {
-			length := (it.Values[s] - xmin) / (xmax - xmin) * float64(barW)
+			length := math.Max(0, it.Values[s]) / xmax * float64(barW)
 			line += " " + string(barRight(length, barW)) + " " + padRight(cell(it, s), valW)
 		}
 		b.WriteString(line + "\n")

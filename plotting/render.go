@@ -161,11 +161,13 @@ func htmlString(ch chart) string {
 
 // svgFontFamily is how gonum/plot names the theme's font in SVG, and
 // svgFontStack the list a browser should try: Liberation Sans where it is
-// installed, else the metric-compatible Arial, then Helvetica. Fonts are not
-// embedded, which would add about 400 kB to every chart.
+// installed, else the metric-compatible Arimo or Arial, then Helvetica,
+// which is close. Text was measured with Liberation Sans, so any of these
+// fits the layout. Fonts are not embedded, which would add about 400 kB to
+// every chart.
 const (
 	svgFontFamily = "font-family:Liberation Sans;"
-	svgFontStack  = "font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"
+	svgFontStack  = "font-family:'Liberation Sans',Arimo,Arial,Helvetica,sans-serif;"
 )
 
 func renderSVG(w, h vg.Length, title string, drawFn func(draw.Canvas)) []byte {
@@ -177,6 +179,13 @@ func renderSVG(w, h vg.Length, title string, drawFn func(draw.Canvas)) []byte {
 		panic(err)
 	}
 	out := bytes.ReplaceAll(buf.Bytes(), []byte(svgFontFamily), []byte(svgFontStack))
+	// gonum/plot v0.17.0 encodes raster images (heat maps, colour bars) as
+	// PNG but labels the data URI image/jpg; strict renderers then drop
+	// the image, so give it its true type.
+	out = bytes.ReplaceAll(out, []byte(`xlink:href="data:image/jpg;base64,`), []byte(`xlink:href="data:image/png;base64,`))
+	// An SVG <image> keeps its aspect ratio unless told otherwise, which
+	// would squeeze a 41x21 grid into a square; it must fill its box.
+	out = bytes.ReplaceAll(out, []byte(`<image `), []byte(`<image preserveAspectRatio="none" `))
 	// Give the document a <title> for screen readers and file browsers.
 	if i := bytes.Index(out, []byte("<svg ")); i >= 0 {
 		if j := bytes.IndexByte(out[i:], '>'); j >= 0 {
@@ -220,10 +229,11 @@ var (
 
 const (
 	thumbWidth = vg.Length(16)
-	legendGap  = vg.Length(14) // between legend entries
+	legendGap  = vg.Length(16) // between legend entries
 )
 
-// lines returns the wrapped lines of each text block of the frame at width w.
+// layout returns the wrapped lines of each text block of the frame, and
+// the legend entries of each row, at width w.
 func (f *frame) layout(w vg.Length) (title, subtitle []string, legendRows [][]legendEntry, notes []string) {
 	inner := w - 2*margin
 	if f.title != "" {
@@ -257,7 +267,8 @@ func (f *frame) layout(w vg.Length) (title, subtitle []string, legendRows [][]le
 
 func lineHeight(sty text.Style) vg.Length { return sty.Height("Xg") }
 
-// headerHeight and footerHeight are the heights the frame takes at width w.
+// heights returns the height the frame takes above and below the body at
+// width w.
 func (f *frame) heights(w vg.Length) (header, footer vg.Length) {
 	title, subtitle, rows, notes := f.layout(w)
 	header = margin

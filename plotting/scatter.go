@@ -105,7 +105,7 @@ func (s *Scatter) frame() *frame {
 		sub += fmt.Sprintf("; Pearson correlation %.2f", r)
 	}
 	if sp := NewScatterPoints(s.X, s.Y); sp.stride() > 1 {
-		sub += fmt.Sprintf("; every %s drawn", ordinal(sp.stride()))
+		sub += fmt.Sprintf("; every %s sample drawn", ordinal(sp.stride()))
 	}
 	f.subtitle = sub
 	return f
@@ -175,7 +175,7 @@ var (
 func NewScatterPoints(x, y []float64) *ScatterPoints {
 	c := colLow
 	c.A = 0x60
-	return &ScatterPoints{X: x, Y: y, Color: c, Radius: 1.7, MaxPoints: 5000}
+	return &ScatterPoints{X: x, Y: y, Color: c, Radius: 1.7, MaxPoints: 2000}
 }
 
 func (sp *ScatterPoints) stride() int {

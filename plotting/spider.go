@@ -106,6 +106,7 @@ func (s *Spider) frame() *frame {
 			thumb: lineThumb(sl.lineStyle(i), &g),
 		})
 	}
+	f.legend = append(f.legend, legendEntry{label: "baseline " + FormatValue(s.Baseline, clean(s.Unit)), thumb: glyphThumb(baselineGlyph())})
 	return f
 }
 

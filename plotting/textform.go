@@ -42,13 +42,6 @@ func padLeft(s string, n int) string {
 	return strings.Repeat(" ", n-runeLen(s)) + s
 }
 
-// center centres s in n columns.
-func center(s string, n int) string {
-	s = truncate(s, n)
-	left := (n - runeLen(s)) / 2
-	return strings.Repeat(" ", left) + s + strings.Repeat(" ", n-left-runeLen(s))
-}
-
 // barRight returns a bar of length cells (fractional, eighth resolution)
 // growing rightwards, padded to n cells.
 func barRight(length float64, n int) []rune {

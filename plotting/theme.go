@@ -31,7 +31,7 @@ import (
 // marker shape, so colour is never the only cue.
 //
 // The sequential ramp of the heat map runs from a pale cream through teal
-// and blue to a deep indigo. Its anchors were placed at CIE L* 96, 83, 69,
+// and blue to a deep indigo. Its anchors were placed at CIE L* 97, 83, 69,
 // 55, 41, 27 and 13, so lightness falls evenly and monotonically; the ramp is
 // interpolated in CIELAB. Lightness alone orders the values, so the map reads
 // the same under any colour vision deficiency and in greyscale.
@@ -63,7 +63,7 @@ var (
 	// rampAnchors define the sequential colour ramp of the heat map, from
 	// the lowest value to the highest.
 	rampAnchors = []color.Color{
-		rgb(0xFA, 0xF4, 0xD7),
+		rgb(0xFC, 0xF7, 0xDB),
 		rgb(0xBC, 0xD7, 0xAE),
 		rgb(0x73, 0xB4, 0xAF),
 		rgb(0x3C, 0x8C, 0xB5),

@@ -562,12 +562,21 @@ func (t *Tornado) Text(width int) string {
 	barW = max(barW, 12)
 
 	xmin, xmax, _, _ := tb.DataRange()
-	span := xmax - xmin
-	// The baseline takes one column; each side scales at the same rate.
-	scale := float64(barW-1) / span
-	b0 := int(math.Round((t.Baseline - xmin) * scale))
+	// The baseline takes one column; both sides share one scale, the
+	// largest at which each side's longest bar fits its cells.
+	b0 := int(math.Round((t.Baseline - xmin) / (xmax - xmin) * float64(barW-1)))
 	b0 = max(0, min(barW-1, b0))
 	leftCells, rightCells := b0, barW-1-b0
+	scale := math.Inf(1)
+	if d := t.Baseline - xmin; d > 0 {
+		scale = float64(leftCells) / d
+	}
+	if d := xmax - t.Baseline; d > 0 {
+		scale = math.Min(scale, float64(rightCells)/d)
+	}
+	if math.IsInf(scale, 1) {
+		scale = 0
+	}
 
 	var sb strings.Builder
 	line := func(name, left string, bar []rune, right, swing string) {

@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 	"text/tabwriter"
 	"time"
@@ -198,83 +199,147 @@ func genModel(nodes, nIn int, seed uint64) (*Tape, []float64) {
 }
 
 // Benchmark bodies.
+//
+// A comparison runs its two sides interleaved, in chunks of about 20 µs
+// each, so that a changing load on the machine (other processes on a
+// shared machine) affects both alike; it reports the time per call of
+// each side and their ratio.
 
-func benchTapeForward(b *testing.B, t *Tape, x []float64) {
+// benchPair times a and ref interleaved, k calls to a chunk, and reports
+// "a-ns", "ref-ns" (the median time of each per call, divided by per)
+// and "ratio" (the median of the chunk pairs' ratios a/ref) under the
+// given names; ns/op is the time of a pair of chunks. Medians, because a
+// chunk that the scheduler interrupts takes far longer than the others.
+func benchPair(b *testing.B, k int, per float64, aName, refName string, a, ref func() error) {
 	b.ReportAllocs()
-	if err := t.Forward(x); err != nil {
+	if err := a(); err != nil {
 		b.Fatal(err)
 	}
-	for b.Loop() {
-		if err := t.Forward(x); err != nil {
-			b.Fatal(err)
-		}
+	if err := ref(); err != nil {
+		b.Fatal(err)
 	}
-	b.ReportMetric(float64(t.Bytes())/float64(t.Len()), "B/node")
+	const keep = 1 << 12
+	ta := make([]float64, 0, keep)
+	tr := make([]float64, 0, keep)
+	ratio := make([]float64, 0, keep)
+	i := 0
+	for b.Loop() {
+		start := time.Now()
+		for range k {
+			if err := a(); err != nil {
+				b.Fatal(err)
+			}
+		}
+		mid := time.Now()
+		for range k {
+			if err := ref(); err != nil {
+				b.Fatal(err)
+			}
+		}
+		x, y := float64(mid.Sub(start)), float64(time.Since(mid))
+		if len(ta) < keep {
+			ta, tr, ratio = append(ta, x), append(tr, y), append(ratio, x/y)
+		} else {
+			ta[i%keep], tr[i%keep], ratio[i%keep] = x, y, x/y
+		}
+		i++
+	}
+	b.StopTimer()
+	b.ReportMetric(median(ta)/float64(k)/per, aName+"-ns")
+	b.ReportMetric(median(tr)/float64(k)/per, refName+"-ns")
+	b.ReportMetric(median(ratio), "ratio")
 }
 
-func benchTapeGradient(b *testing.B, t *Tape, x []float64) {
-	b.ReportAllocs()
-	g := make([]float64, t.NumInputs())
-	if _, err := t.Gradient(g, x, 0); err != nil {
-		b.Fatal(err)
+// median returns the median of xs, reordering it.
+func median(xs []float64) float64 {
+	if len(xs) == 0 {
+		return math.NaN()
 	}
-	for b.Loop() {
-		if _, err := t.Gradient(g, x, 0); err != nil {
-			b.Fatal(err)
-		}
+	slices.Sort(xs)
+	return xs[len(xs)/2]
+}
+
+// chunk returns how many calls of about per take 20 µs.
+func chunk(per time.Duration) int { return max(1, int(20*time.Microsecond/max(per, 1))) }
+
+// timeOne estimates the time of one call of f.
+func timeOne(f func() error) time.Duration {
+	start := time.Now()
+	n := 0
+	for time.Since(start) < time.Millisecond {
+		f()
+		n++
 	}
+	return time.Since(start) / time.Duration(n)
 }
 
 // benchSink keeps hand-written results alive.
 var benchSink float64
 
-func benchGo(b *testing.B, f func([]float64) float64, x []float64) {
-	b.ReportAllocs()
-	for b.Loop() {
-		benchSink += f(x)
-	}
+// benchScalar compares t.Forward with the hand-written f at x.
+func benchScalar(b *testing.B, t *Tape, f func([]float64) float64, x []float64) {
+	tape := func() error { return t.Forward(x) }
+	hand := func() error { benchSink += f(x); return nil }
+	benchPair(b, chunk(timeOne(tape)), 1, "tape", "go", tape, hand)
+	b.ReportMetric(float64(t.Bytes())/float64(t.Len()), "B/node")
 }
 
-func benchTapeBatch(b *testing.B, t *Tape, x []float64, n int) {
-	b.ReportAllocs()
+// benchBatch compares t.ForwardBatch over the n samples xs with a loop
+// calling f on each sample; the times reported are per sample.
+func benchBatch(b *testing.B, t *Tape, f func([]float64) float64, xs []float64, n int) {
 	out := make([]float64, n)
-	if err := t.ForwardBatch(out, x, n, 0); err != nil {
-		b.Fatal(err)
-	}
-	for b.Loop() {
-		if err := t.ForwardBatch(out, x, n, 0); err != nil {
-			b.Fatal(err)
-		}
-	}
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n), "ns/sample")
-}
-
-func benchGoBatch(b *testing.B, f func([]float64) float64, x []float64, n int) {
-	b.ReportAllocs()
-	out := make([]float64, n)
-	k := len(x) / n
-	for b.Loop() {
+	k := len(xs) / n
+	tape := func() error { return t.ForwardBatch(out, xs, n, 0) }
+	hand := func() error {
 		for s := range out {
-			out[s] = f(x[s*k : (s+1)*k])
+			out[s] = f(xs[s*k : (s+1)*k])
 		}
+		return nil
 	}
-	benchSink += out[0]
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n), "ns/sample")
+	benchPair(b, chunk(timeOne(tape)), float64(n), "tape", "go", tape, hand)
 }
 
-func benchTapeGradientBatch(b *testing.B, t *Tape, x []float64, n int) {
+// benchSweeps compares t.Gradient with t.Forward at x.
+func benchSweeps(b *testing.B, t *Tape, x []float64) {
+	g := make([]float64, t.NumInputs())
+	grad := func() error { _, err := t.Gradient(g, x, 0); return err }
+	fwd := func() error { return t.Forward(x) }
+	benchPair(b, chunk(timeOne(grad)), 1, "gradient", "forward", grad, fwd)
+	b.ReportMetric(float64(t.Bytes())/float64(t.Len()), "B/node")
+}
+
+// benchGradientBatch measures t.GradientBatch per sample.
+func benchGradientBatch(b *testing.B, t *Tape, xs []float64, n int) {
 	b.ReportAllocs()
 	out := make([]float64, n)
 	g := make([]float64, n*t.NumInputs())
-	if err := t.GradientBatch(out, g, x, n, 0); err != nil {
+	if err := t.GradientBatch(out, g, xs, n, 0); err != nil {
 		b.Fatal(err)
 	}
 	for b.Loop() {
-		if err := t.GradientBatch(out, g, x, n, 0); err != nil {
+		if err := t.GradientBatch(out, g, xs, n, 0); err != nil {
 			b.Fatal(err)
 		}
 	}
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n), "ns/sample")
+	b.ReportMetric(b.Elapsed().Seconds()*1e9/float64(b.N*n), "ns/sample")
+}
+
+// benchReverseVsFD times t.Gradient and reports its speed-up over one
+// run of gonum's fd.Gradient (central differences: 2 evaluations per
+// input, plus one).
+func benchReverseVsFD(b *testing.B, t *Tape, x []float64) {
+	fdTime, _ := fdGradientTime(t, x)
+	g := make([]float64, len(x))
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := t.Gradient(g, x, 0); err != nil {
+			b.Fatal(err)
+		}
+	}
+	per := b.Elapsed().Seconds() / float64(b.N)
+	b.ReportMetric(fdTime.Seconds()*1e3, "fd-ms")
+	b.ReportMetric(per*1e3, "reverse-ms")
+	b.ReportMetric(fdTime.Seconds()/per, "speedup")
 }
 
 // fdGradientTime times one gonum fd.Gradient (central differences, so
@@ -306,19 +371,23 @@ var benchSizes = []struct {
 
 // RunBench runs the engine's benchmarks with testing.Benchmark and prints
 // a table of ratios to w: the tape interpreter against the same cost
-// model written in Go (scalar and batched), the reverse sweep against the
-// forward sweep on generated models of 1e3 to 1e6 nodes, reverse mode
-// against gonum's central differences on 10,000 inputs, and the tape's
-// bytes per node. It takes about half a minute.
+// model written in Go (scalar and batched; each pair interleaved so that
+// other load on the machine affects both sides alike), the gradient
+// (forward and reverse sweeps) against the forward sweep on generated
+// models of 1e3 to 1e6 nodes, reverse mode against gonum's central
+// differences on 10,000 inputs, and the tape's bytes per node. It takes
+// about half a minute.
 func RunBench(w io.Writer) error {
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "comparison\ttape\treference\tratio\ttarget\t")
-	ns := func(r testing.BenchmarkResult) float64 { return float64(r.T.Nanoseconds()) / float64(r.N) }
-	row := func(name string, a, b float64, unit, target string) {
-		fmt.Fprintf(tw, "%s\t%.4g %s\t%.4g %s\t%.2f\t%s\t\n", name, a, unit, b, unit, a/b, target)
+	fmt.Fprintln(w, "nudge bench: the evaluation engine against hand-written Go and finite differences")
+	fmt.Fprintln(w, "(each pair runs interleaved in short chunks; times and ratios are medians over the chunks)")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "comparison\ttape\treference\tratio\ttarget")
+	row := func(name string, r testing.BenchmarkResult, a, ref string, target string) {
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%.2f\t%s\n", name,
+			fmtNs(r.Extra[a+"-ns"]), fmtNs(r.Extra[ref+"-ns"]), r.Extra["ratio"], target)
 	}
 	var failed error
-	fail := func(err error) {
+	check := func(err error) {
 		if err != nil && failed == nil {
 			failed = err
 		}
@@ -326,50 +395,49 @@ func RunBench(w io.Writer) error {
 
 	for _, arith := range []bool{false, true} {
 		t := buildCostModel(arith)
-		goFn, name := costModelGo, "cost model"
+		goFn, name, scalarTarget, batchTarget := costModelGo, "cost model", "<= 2.5", "<= 1.2"
 		if arith {
-			goFn, name = arithModelGo, "arithmetic-only model"
+			goFn, name, scalarTarget, batchTarget = arithModelGo, "arithmetic-only model", "none", "none"
 		}
 		x := benchCostBaseline()
-		fail(t.Forward(x))
-		tape := testing.Benchmark(func(b *testing.B) { benchTapeForward(b, t, x) })
-		hand := testing.Benchmark(func(b *testing.B) { benchGo(b, goFn, x) })
-		target := "<= 2.5"
-		if arith {
-			target = "(none)"
-		}
-		row(name+", scalar forward vs Go", ns(tape), ns(hand), "ns", target)
-
+		check(t.Forward(x))
+		r := testing.Benchmark(func(b *testing.B) { benchScalar(b, t, goFn, x) })
+		row(fmt.Sprintf("%s (%d nodes): forward vs Go", name, t.Len()), r, "tape", "go", scalarTarget)
 		xs := benchSamples(benchBatchN, 7)
-		tape = testing.Benchmark(func(b *testing.B) { benchTapeBatch(b, t, xs, benchBatchN) })
-		hand = testing.Benchmark(func(b *testing.B) { benchGoBatch(b, goFn, xs, benchBatchN) })
-		target = "<= 1.2"
-		if arith {
-			target = "(none)"
-		}
-		row(fmt.Sprintf("%s, batched forward vs Go (per sample, n=%d)", name, benchBatchN),
-			ns(tape)/benchBatchN, ns(hand)/benchBatchN, "ns", target)
+		r = testing.Benchmark(func(b *testing.B) { benchBatch(b, t, goFn, xs, benchBatchN) })
+		row(fmt.Sprintf("%s: batched forward vs Go loop, per sample", name), r, "tape", "go", batchTarget)
 	}
 
 	var bytesPerNode float64
 	for _, sz := range benchSizes {
 		t, x := genModel(sz.nodes, sz.nIn, 1)
-		fail(t.Forward(x))
-		fwd := testing.Benchmark(func(b *testing.B) { benchTapeForward(b, t, x) })
-		grad := testing.Benchmark(func(b *testing.B) { benchTapeGradient(b, t, x) })
-		row(fmt.Sprintf("gradient vs forward, %d nodes, %d inputs", t.Len(), t.NumInputs()), ns(grad)/1e3, ns(fwd)/1e3, "µs", "<= 3")
+		check(t.Forward(x))
+		r := testing.Benchmark(func(b *testing.B) { benchSweeps(b, t, x) })
+		row(fmt.Sprintf("gradient vs forward, %d nodes, %d inputs", t.Len(), t.NumInputs()), r, "gradient", "forward", "<= 3")
 		bytesPerNode = max(bytesPerNode, float64(t.Bytes())/float64(t.Len()))
 	}
 
 	t, x := genModel(30_000, 10_000, 3)
-	fail(t.Forward(x))
-	grad := testing.Benchmark(func(b *testing.B) { benchTapeGradient(b, t, x) })
-	fdTime, _ := fdGradientTime(t, x)
-	fmt.Fprintf(tw, "reverse mode vs fd.Gradient, %d inputs (fd: 20001 evaluations, one run)\t%.4g ms\t%.4g ms\tspeed-up %.0f\t\t\n",
-		t.NumInputs(), ns(grad)/1e6, float64(fdTime.Nanoseconds())/1e6, float64(fdTime.Nanoseconds())/ns(grad))
-	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\t\n", bytesPerNode)
+	check(t.Forward(x))
+	r := testing.Benchmark(func(b *testing.B) { benchReverseVsFD(b, t, x) })
+	fmt.Fprintf(tw, "gradient vs gonum fd.Gradient, %d inputs (fd: 20001 evaluations, run once)\t%s\t%s\t1/%.0f\t-\n",
+		t.NumInputs(), fmtNs(r.Extra["reverse-ms"]*1e6), fmtNs(r.Extra["fd-ms"]*1e6), r.Extra["speedup"])
+	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\n", bytesPerNode)
 	if err := tw.Flush(); err != nil {
 		return err
 	}
 	return failed
+}
+
+// fmtNs formats a time given in nanoseconds.
+func fmtNs(ns float64) string {
+	switch {
+	case ns < 1e3:
+		return fmt.Sprintf("%.1f ns", ns)
+	case ns < 1e6:
+		return fmt.Sprintf("%.1f µs", ns/1e3)
+	case ns < 1e9:
+		return fmt.Sprintf("%.1f ms", ns/1e6)
+	}
+	return fmt.Sprintf("%.2f s", ns/1e9)
 }

@@ -154,13 +154,20 @@ func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (
 	}
 	res.DomainNote = note
 	res.SearchedLow, res.SearchedHigh = xs[0], xs[len(xs)-1]
+	// The least and greatest outputs, and the output closest to the target;
+	// of equal values, the one nearest the baseline.
+	closest, closestAt := ys[0], xs[0]
 	res.MinOutput, res.MinAt, res.MaxOutput, res.MaxAt = ys[0], xs[0], ys[0], xs[0]
+	nearer := func(x, than float64) bool { return math.Abs(x-x0) < math.Abs(than-x0) }
 	for j := range xs {
-		if ys[j] < res.MinOutput {
+		if ys[j] < res.MinOutput || ys[j] == res.MinOutput && nearer(xs[j], res.MinAt) {
 			res.MinOutput, res.MinAt = ys[j], xs[j]
 		}
-		if ys[j] > res.MaxOutput {
+		if ys[j] > res.MaxOutput || ys[j] == res.MaxOutput && nearer(xs[j], res.MaxAt) {
 			res.MaxOutput, res.MaxAt = ys[j], xs[j]
+		}
+		if d, dc := math.Abs(ys[j]-target), math.Abs(closest-target); d < dc || d == dc && nearer(xs[j], closestAt) {
+			closest, closestAt = ys[j], xs[j]
 		}
 	}
 	ytol := 1e-12 * math.Max(math.Abs(res.MinOutput), math.Abs(res.MaxOutput))
@@ -214,11 +221,20 @@ func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (
 			return nil, err
 		}
 		for n, d := range dips {
+			if d.b.y < res.MinOutput {
+				res.MinOutput, res.MinAt = d.b.y, d.b.x
+			}
+			if d.b.y > res.MaxOutput {
+				res.MaxOutput, res.MaxAt = d.b.y, d.b.x
+			}
+			if math.Abs(d.b.y-target) < math.Abs(closest-target) {
+				closest, closestAt = d.b.y, d.b.x
+			}
 			gd := d.b.y - target
 			switch {
-			case math.Abs(gd) <= 1e-9*math.Max(math.Abs(d.b.y), math.Abs(target))+ytol:
+			case math.Abs(gd) <= 1e-9*max(math.Abs(outer[n][0].y), math.Abs(outer[n][1].y), math.Abs(target)):
 				zeros = append(zeros, Crossing{Value: d.b.x, Touch: true})
-			case (gd < 0) == (d.sign > 0):
+			case (gd < 0) == (d.sign < 0):
 				// The extreme lies across the target: a crossing on each
 				// side of it.
 				l, r := outer[n][0], outer[n][1]
@@ -269,15 +285,10 @@ func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (
 		v, r := res.Crossings[best].Value, res.Crossings[best].InRange
 		res.Value, res.InRange = &v, &r
 	} else {
-		closest := res.MinOutput
-		at := res.MinAt
-		if math.Abs(res.MaxOutput-target) < math.Abs(res.MinOutput-target) {
-			closest, at = res.MaxOutput, res.MaxAt
-		}
 		res.Message = fmt.Sprintf("%s never reaches %s over %s = %s..%s: it ranges from %s (at %s = %s) to %s (at %s = %s); the closest is %s at %s = %s",
 			p.Output, fmtG(target), in.Name, fmtG(res.SearchedLow), fmtG(res.SearchedHigh),
 			fmtG(res.MinOutput), in.Name, fmtG(res.MinAt), fmtG(res.MaxOutput), in.Name, fmtG(res.MaxAt),
-			fmtG(closest), in.Name, fmtG(at))
+			fmtG(closest), in.Name, fmtG(closestAt))
 		if len(res.Jumps) > 0 {
 			res.Message += fmt.Sprintf("; it jumps past the target at %s = %s", in.Name, fmtG(res.Jumps[0].Value))
 		}
@@ -467,7 +478,7 @@ func (bs *bsearch) refine(a, b, ga, gb float64) (Crossing, *Jump, error) {
 	}
 	// A bracket that closed on a jump leaves |g| large on both sides.
 	if gbest > 1e-6*gmax && gbest > 1e-9*math.Abs(bs.target) {
-		return Crossing{}, &Jump{Value: best, Left: ga + bs.target, Right: gb + bs.target}, nil
+		return Crossing{}, &Jump{Value: a + (b-a)/2, Left: ga + bs.target, Right: gb + bs.target}, nil
 	}
 	return Crossing{Value: best, Slope: slope}, nil, nil
 }

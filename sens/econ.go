@@ -45,18 +45,22 @@ var invFact = func() [24]float64 {
 // derivatives in i, for i > -1.
 func logq(i float64) (q, dq, l2, dl2 float64) {
 	if math.Abs(i) < 0.1 {
-		// q  = Σ_{k>=0} (-i)^k/(k+1),  l2 = Σ_{k>=0} (-i)^k/(k+2);
-		// 24 terms leave an error below 0.1^24.
+		// q  = Σ_{k>=0} (-i)^k/(k+1),  l2 = Σ_{k>=0} (-i)^k/(k+2),
+		// and their derivatives term by term; stop when (-i)^k < 1e-18
+		// (at most 18 terms, as |i| < 0.1).
 		p := 1.0 // (-i)^k
 		pm := 0.0
-		for k := 0; k < 24; k++ {
-			fk := float64(k)
-			q += p / (fk + 1)
-			l2 += p / (fk + 2)
+		for k := 0; k < len(recip)-2; k++ {
+			q += p * recip[k+1]
+			l2 += p * recip[k+2]
 			if k > 0 {
 				// d/di (-i)^k = -k (-i)^(k-1)
-				dq -= fk * pm / (fk + 1)
-				dl2 -= fk * pm / (fk + 2)
+				fk := float64(k)
+				dq -= fk * pm * recip[k+1]
+				dl2 -= fk * pm * recip[k+2]
+			}
+			if math.Abs(p) < 1e-18 {
+				break
 			}
 			pm = p
 			p *= -i
@@ -70,6 +74,15 @@ func logq(i float64) (q, dq, l2, dl2 float64) {
 	dl2 = -(dq + l2) / i
 	return q, dq, l2, dl2
 }
+
+// recip[j] = 1/j.
+var recip = func() [24]float64 {
+	var r [24]float64
+	for j := 1; j < len(r); j++ {
+		r[j] = 1 / float64(j)
+	}
+	return r
+}()
 
 // logqValue returns q = ln(1+i)/i, the value part of logq, cheaply.
 func logqValue(i, L float64) float64 {
@@ -92,17 +105,21 @@ func l2Value(i, L float64) float64 {
 // derivatives in u.
 func expq(u float64) (e1, e2, de1, de2 float64) {
 	if math.Abs(u) < 0.5 {
-		// e1 = Σ u^k/(k+1)!, e2 = Σ u^k/(k+2)!; 18 terms leave an error
-		// below 0.5^18/19!.
+		// e1 = Σ u^k/(k+1)!, e2 = Σ u^k/(k+2)! and their derivatives
+		// term by term; stop when u^k/(k+1)! < 1e-18 (at most 17 terms,
+		// as |u| < 0.5).
 		p := 1.0 // u^k
 		pm := 0.0
-		for k := 0; k < 18; k++ {
+		for k := 0; k < len(invFact)-2; k++ {
 			e1 += p * invFact[k+1]
 			e2 += p * invFact[k+2]
 			if k > 0 {
 				fk := float64(k)
 				de1 += fk * pm * invFact[k+1]
 				de2 += fk * pm * invFact[k+2]
+			}
+			if math.Abs(p)*invFact[k+1] < 1e-18 {
+				break
 			}
 			pm = p
 			p *= u

@@ -117,10 +117,11 @@ func (fn *Fn) Clone() Function {
 
 // Eval returns the formula's value at x.
 func (fn *Fn) Eval(x []float64) (float64, error) {
-	if err := fn.tape.Forward(x); err != nil {
+	y, err := fn.tape.Eval(x, fn.f.out)
+	if err != nil {
 		return math.NaN(), fn.prog.evalError(err, x)
 	}
-	return fn.tape.Output(fn.f.out) * fn.scale, nil
+	return y * fn.scale, nil
 }
 
 // Gradient writes the partial derivatives into dst and returns the value.

@@ -346,9 +346,21 @@ type tapeProg struct {
 // allocate nothing (except to report an error).
 //
 // Non-finite values never pass silently: a sweep that would produce a
-// NaN or ±Inf in an output returns a *DomainError that names the
-// operation where it first arose, with its position and operand values.
-// A NaN or Inf in the branch an if does not take is not an error.
+// NaN or ±Inf in an output, or feed one to an operation that could hide
+// it (1/Inf = 0, min(x, Inf) = x, a comparison), returns a *DomainError
+// that names the operation where it first arose, with its position and
+// operand values. A NaN or Inf in the branch an if does not take, or in
+// an input or node the output does not use, is not an error. The test
+// costs nothing on most operations: only outputs and the operations that
+// could hide a non-finite operand check for one, and only when one is
+// seen is the tape searched for its origin.
+//
+// Layout: a structure of arrays (operation, two operand indices and a
+// source position per node, plus the value and adjoint buffers: 29 bytes
+// a node), inputs first, then constants, then operations in evaluation
+// order. The batched sweeps run each operation over a block of samples
+// before the next (node-major rows of up to 256 samples), so the
+// interpreter's dispatch is paid once a block.
 type Tape struct {
 	p    *tapeProg
 	vals []float64

@@ -7,33 +7,22 @@ import (
 
 // Scalar sweeps.
 
-// loadInputs copies x into the input slots and reports the first
-// non-finite input.
-func (t *Tape) loadInputs(x []float64) error {
+// loadInputs copies x into the input slots. Inputs are not tested
+// here: a NaN or Inf input is caught, like any value, where it reaches
+// an output or a guard operation, and reported as the input it is; an
+// input the output does not use may be anything.
+func (t *Tape) loadInputs(x []float64) {
 	p := t.p
 	if len(x) != p.nIn {
 		panic(fmt.Sprintf("sens: %d inputs given, tape has %d", len(x), p.nIn))
 	}
 	copy(t.vals[:p.nIn], x)
-	for j, v := range x {
-		if !finite(v) {
-			return t.inputError(j, v, -1)
-		}
-	}
-	return nil
-}
-
-func (t *Tape) inputError(j int, v float64, sample int) error {
-	return &DomainError{Pos: t.p.pos[j], Op: OpInput, Args: []float64{v},
-		Msg: fmt.Sprintf("input %d is %s", j, num(v)), Sample: sample}
 }
 
 // Forward evaluates every node for the inputs x (len NumInputs). It
 // returns nil, or a *DomainError if any output would be NaN or ±Inf.
 func (t *Tape) Forward(x []float64) error {
-	if err := t.loadInputs(x); err != nil {
-		return err
-	}
+	t.loadInputs(x)
 	bad := t.run(len(t.vals))
 	return t.check(bad, t.p.outs, t.vals, 1, 0, -1)
 }
@@ -42,9 +31,7 @@ func (t *Tape) Forward(x []float64) error {
 // output i, or a *DomainError if it would be NaN or ±Inf. Other outputs
 // are left unchecked and may be stale.
 func (t *Tape) Eval(x []float64, i int) (float64, error) {
-	if err := t.loadInputs(x); err != nil {
-		return math.NaN(), err
-	}
+	t.loadInputs(x)
 	out := t.p.outs[i]
 	bad := t.run(t.p.end(i))
 	if err := t.check(bad, t.p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
@@ -159,106 +146,145 @@ func (t *Tape) nodeError(k int, vals []float64, stride, off, sample int) error {
 // operation saw a non-finite operand.
 //
 // Non-finite values are caught without a test on every node: every
-// operation that is not a guard (Op docs) turns a NaN or Inf operand
-// into a NaN or Inf result, so one that matters either reaches an output
-// (checked afterwards) or meets a guard, which tests its operands.
+// operation that is not a guard (opMeta.guard) turns a NaN or Inf
+// operand into a NaN or Inf result, so one that matters either reaches
+// an output (checked afterwards) or meets a guard, which tests its
+// operands. Only then does check search for where it arose.
 func (t *Tape) run(stop int) (bad bool) {
 	p := t.p
 	v := t.vals
 	ops := p.ops[:stop]
 	as := p.a[:stop]
 	bs := p.b[:stop]
-	for k := p.start; k < stop; k++ {
-		x, y := v[as[k]], v[bs[k]]
-		var r float64
-		switch ops[k] {
-		case OpAdd:
-			r = x + y
-		case OpSub:
-			r = x - y
-		case OpMul:
-			r = x * y
-		case OpDiv:
-			r = x / y
-			if !finite(y) {
-				bad = true
-			}
-		case OpNeg:
-			r = -x
-		case OpSquare:
-			r = x * x
-		case OpPowConst:
-			r = math.Pow(x, y)
-			if !finite(x) {
-				bad = true
-			}
-		case OpPow:
-			r = math.Pow(x, y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case OpSqrt:
-			r = math.Sqrt(x)
-		case OpExp:
-			r = math.Exp(x)
-			if !finite(x) {
-				bad = true
-			}
-		case OpLn:
-			r = math.Log(x)
-		case OpAbs:
-			r = math.Abs(x)
-		case OpMin:
-			r = y
-			if x <= y {
-				r = x
-			}
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case OpMax:
-			r = y
-			if x >= y {
-				r = x
-			}
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case OpLt:
-			r = b2f(x < y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case OpGt:
-			r = b2f(x > y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case OpIf:
-			z := v[as[k+1]]
-			r = z
-			if x != 0 {
+	k := p.start
+	for k < len(ops) {
+		// The cheap operations run in this inner loop, which makes no
+		// calls, so its state need not be saved around them; the others
+		// leave it for slowOp and come back.
+		for ; k < len(ops); k++ {
+			x, y := v[as[k]], v[bs[k]]
+			var r float64
+			switch ops[k] {
+			case OpAdd:
+				r = x + y
+			case OpSub:
+				r = x - y
+			case OpMul:
+				r = x * y
+			case OpDiv:
+				r = x / y
+				if !finite(y) {
+					bad = true
+				}
+			case OpNeg:
+				r = -x
+			case OpSquare:
+				r = x * x
+			case OpSqrt:
+				r = math.Sqrt(x)
+			case OpAbs:
+				r = math.Abs(x)
+			case OpMin:
 				r = y
+				if x <= y {
+					r = x
+				}
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpMax:
+				r = y
+				if x >= y {
+					r = x
+				}
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpLt:
+				r = b2f(x < y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpGt:
+				r = b2f(x > y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpLe:
+				r = b2f(x <= y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpGe:
+				r = b2f(x >= y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpEq:
+				r = b2f(x == y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpNe:
+				r = b2f(x != y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpAnd:
+				r = b2f(x != 0 && y != 0)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpOr:
+				r = b2f(x != 0 || y != 0)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case OpNot:
+				r = b2f(x == 0)
+				if !finite(x) {
+					bad = true
+				}
+			case OpIf:
+				z := v[as[k+1]]
+				r = z
+				if x != 0 {
+					r = y
+				}
+				if !finite(x) || !finite(y) || !finite(z) {
+					bad = true
+				}
+			case opArg:
+			default:
+				goto slow
 			}
-			if !finite(x) || !finite(y) || !finite(z) {
-				bad = true
-			}
-		case opArg:
-			r = 0
-		default:
-			op := ops[k]
-			var z float64
-			if op.Arity() == 3 {
-				z = v[as[k+1]]
-			}
-			r = evalOp(op, x, y, z)
-			if opMetas[op].guard && (!finite(x) || !finite(y) || !finite(z)) {
-				bad = true
-			}
+			v[k] = r
 		}
-		v[k] = r
+		break
+	slow:
+		if t.slowOp(k) {
+			bad = true
+		}
+		k++
 	}
 	return bad
+}
+
+// slowOp evaluates node k, an operation that calls a function, and
+// reports whether it is a guard that saw a non-finite operand.
+//
+//go:noinline
+func (t *Tape) slowOp(k int) (bad bool) {
+	p := t.p
+	v := t.vals
+	op := p.ops[k]
+	x, y := v[p.a[k]], v[p.b[k]]
+	var z float64
+	if op.Arity() == 3 {
+		z = v[p.a[k+1]]
+	}
+	v[k] = evalOp(op, x, y, z)
+	return opMetas[op].guard && (!finite(x) || !finite(y) || !finite(z))
 }
 
 // Reverse runs the reverse (adjoint) sweep for output i over the values
@@ -455,18 +481,19 @@ func (t *Tape) ensureBatch(adj bool) {
 }
 
 // loadBlock transposes samples base..base+m-1 of x into the input rows.
-func (t *Tape) loadBlock(x []float64, base, m int) error {
+// Inputs are not tested here: like any value, a NaN or Inf input is
+// caught where it reaches the output or a guard operation, and reported
+// as the input it is.
+func (t *Tape) loadBlock(x []float64, base, m int) {
 	nIn, w := t.p.nIn, t.bw
-	for s := 0; s < m; s++ {
-		row := x[(base+s)*nIn : (base+s+1)*nIn]
-		for j, v := range row {
-			t.bvals[j*w+s] = v
-			if !finite(v) {
-				return t.inputError(j, v, base+s)
-			}
+	xb := x[base*nIn : (base+m)*nIn]
+	for j := 0; j < nIn; j++ {
+		row := t.bvals[j*w : j*w+m]
+		src := xb[j:]
+		for s := range row {
+			row[s] = src[s*nIn]
 		}
 	}
-	return nil
 }
 
 func checkBatch(x []float64, n, nIn int) {
@@ -507,13 +534,14 @@ func (t *Tape) ForwardBatch(out, x []float64, n, i int) error {
 	outs := p.outs[i : i+1]
 	for base := 0; base < n; base += w {
 		m := min(w, n-base)
-		if err := t.loadBlock(x, base, m); err != nil {
-			return err
-		}
+		t.loadBlock(x, base, m)
 		bad := t.runBlock(m, p.end(i))
-		copy(out[base:base+m], t.bvals[o*w:o*w+m])
-		if err := t.checkBlock(bad, outs, base, m); err != nil {
-			return err
+		orow := t.bvals[o*w : o*w+m]
+		copy(out[base:base+m], orow)
+		if bad || !allFinite(orow) {
+			if err := t.checkBlock(bad, outs, base, m); err != nil {
+				return err
+			}
 		}
 	}
 	return nil
@@ -537,13 +565,23 @@ func (t *Tape) row(buf []float64, k int32, m int) []float64 {
 	return buf[i : i+m : i+m]
 }
 
+// allFinite reports whether every element of xs is finite. x - x is 0
+// for a finite x and NaN otherwise, and a NaN survives a sum, so four
+// running sums replace a test per element.
 func allFinite(xs []float64) bool {
-	for _, x := range xs {
-		if !finite(x) {
-			return false
-		}
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(xs); i += 4 {
+		x := (*[4]float64)(xs[i:])
+		s0 += x[0] - x[0]
+		s1 += x[1] - x[1]
+		s2 += x[2] - x[2]
+		s3 += x[3] - x[3]
 	}
-	return true
+	for ; i < len(xs); i++ {
+		s0 += xs[i] - xs[i]
+	}
+	return s0+s1+s2+s3 == 0
 }
 
 // runBlock evaluates nodes [start, stop) over the current block of m
@@ -556,9 +594,9 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 	bs := p.b[:stop]
 	nIn, start := int32(p.nIn), int32(p.start)
 	isConst := func(s int32) bool { return s >= nIn && s < start }
-	// computed: a value that may be non-finite (inputs and constants
-	// are known finite).
-	computed := func(s int32) bool { return s >= start }
+	// computed: a value that may be non-finite (anything but a
+	// constant).
+	computed := func(s int32) bool { return !isConst(s) }
 	for k := p.start; k < stop; k++ {
 		op := ops[k]
 		if op == opArg {
@@ -701,20 +739,15 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 				bad = true
 			}
 		default:
+			var zs []float64
 			if op.Arity() == 3 {
 				c := as[k+1]
-				zs := t.row(bv, c, m)[:len(o)]
-				for s := range o {
-					o[s] = evalOp(op, xs[s], ys[s], zs[s])
-				}
+				zs = t.row(bv, c, m)[:len(o)]
 				if computed(c) && !allFinite(zs) {
 					bad = true
 				}
-			} else {
-				for s := range o {
-					o[s] = evalOp(op, xs[s], ys[s], 0)
-				}
 			}
+			vecOp(op, o, xs, ys, zs)
 			if opMetas[op].guard && (computed(a) && !allFinite(xs) || computed(b) && !allFinite(ys)) {
 				bad = true
 			}
@@ -751,13 +784,14 @@ func (t *Tape) GradientBatch(out, grads, x []float64, n, i int) error {
 	outs := p.outs[i : i+1]
 	for base := 0; base < n; base += w {
 		m := min(w, n-base)
-		if err := t.loadBlock(x, base, m); err != nil {
-			return err
-		}
+		t.loadBlock(x, base, m)
 		bad := t.runBlock(m, p.end(i))
-		copy(out[base:base+m], t.bvals[o*w:o*w+m])
-		if err := t.checkBlock(bad, outs, base, m); err != nil {
-			return err
+		orow := t.bvals[o*w : o*w+m]
+		copy(out[base:base+m], orow)
+		if bad || !allFinite(orow) {
+			if err := t.checkBlock(bad, outs, base, m); err != nil {
+				return err
+			}
 		}
 		t.reverseBlock(m, o)
 		for s := 0; s < m; s++ {
@@ -825,7 +859,9 @@ func (t *Tape) reverseBlock(m, out int) {
 			if isConst(b) {
 				c := ys[0]
 				for s, g := range gk {
-					ga[s] += g * c
+					if g != 0 {
+						ga[s] += g * c
+					}
 				}
 			} else {
 				for s, g := range gk {
@@ -922,6 +958,86 @@ func (t *Tape) reverseBlock(m, out int) {
 					}
 				}
 			}
+		}
+	}
+}
+
+// vecOp sets o[s] = op(x[s], y[s], z[s]) for the operations runBlock has
+// no loop of its own for; z is nil unless op takes three arguments.
+func vecOp(op Op, o, x, y, z []float64) {
+	x, y = x[:len(o)], y[:len(o)]
+	switch op {
+	case OpFloor:
+		for s := range o {
+			o[s] = math.Floor(x[s])
+		}
+	case OpCeil:
+		for s := range o {
+			o[s] = math.Ceil(x[s])
+		}
+	case OpRound:
+		for s := range o {
+			o[s] = math.Round(x[s])
+		}
+	case OpLt:
+		for s := range o {
+			o[s] = b2f(x[s] < y[s])
+		}
+	case OpLe:
+		for s := range o {
+			o[s] = b2f(x[s] <= y[s])
+		}
+	case OpGt:
+		for s := range o {
+			o[s] = b2f(x[s] > y[s])
+		}
+	case OpGe:
+		for s := range o {
+			o[s] = b2f(x[s] >= y[s])
+		}
+	case OpPow:
+		for s := range o {
+			o[s] = math.Pow(x[s], y[s])
+		}
+	case OpGrowth:
+		for s := range o {
+			o[s] = econGrowth(x[s], y[s])
+		}
+	case OpDiscount:
+		for s := range o {
+			o[s] = econDiscount(x[s], y[s])
+		}
+	case OpAnnuityPV:
+		for s := range o {
+			o[s] = econAnnuityPV(x[s], y[s])
+		}
+	case OpAnnuityFV:
+		for s := range o {
+			o[s] = econAnnuityFV(x[s], y[s])
+		}
+	case OpRecovery:
+		for s := range o {
+			o[s] = econRecovery(x[s], y[s])
+		}
+	case OpSinking:
+		for s := range o {
+			o[s] = econSinking(x[s], y[s])
+		}
+	case OpLearn:
+		z = z[:len(o)]
+		for s := range o {
+			o[s] = learnUnit(x[s], y[s], z[s])
+		}
+	default:
+		if z == nil {
+			for s := range o {
+				o[s] = evalOp(op, x[s], y[s], 0)
+			}
+			return
+		}
+		z = z[:len(o)]
+		for s := range o {
+			o[s] = evalOp(op, x[s], y[s], z[s])
 		}
 	}
 }

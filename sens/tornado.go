@@ -46,6 +46,22 @@ type TornadoRest struct {
 	// out_max - out_min among them.
 	LargestSwing  float64 `json:"largest_swing"`
 	LargestSpread float64 `json:"largest_spread"`
+	// OutMin and OutMax are the least and greatest output any of them
+	// reaches over its range.
+	OutMin float64 `json:"out_min"`
+	OutMax float64 `json:"out_max"`
+}
+
+// SummariseBars returns the summary of bars left out of a chart or table.
+func SummariseBars(bars []TornadoBar) *TornadoRest {
+	rest := &TornadoRest{Count: len(bars), OutMin: math.Inf(1), OutMax: math.Inf(-1)}
+	for _, b := range bars {
+		rest.LargestSwing = math.Max(rest.LargestSwing, b.Swing)
+		rest.LargestSpread = math.Max(rest.LargestSpread, b.Spread())
+		rest.OutMin = math.Min(rest.OutMin, b.OutMin)
+		rest.OutMax = math.Max(rest.OutMax, b.OutMax)
+	}
+	return rest
 }
 
 // TornadoResult is the result of the tornado analysis.
@@ -290,12 +306,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		return bars[a].Name < bars[c].Name
 	})
 	if s.Top > 0 && s.Top < len(bars) {
-		rest := &TornadoRest{Count: len(bars) - s.Top}
-		for _, b := range bars[s.Top:] {
-			rest.LargestSwing = math.Max(rest.LargestSwing, b.Swing)
-			rest.LargestSpread = math.Max(rest.LargestSpread, b.Spread())
-		}
-		res.Rest = rest
+		res.Rest = SummariseBars(bars[s.Top:])
 		bars = bars[:s.Top]
 	}
 	res.Bars = bars

@@ -15,6 +15,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"syscall"
 	"testing"
 	"time"
@@ -35,6 +36,7 @@ const testKey = "a0436f6c-1916-498b-8eb9-e81ab9368e84"
 //	result TEXT     execute_result    fail         an *ExecError
 //	plainerr        a plain error     panic        a panic
 //	display         display, update, clear_output(wait)
+//	show TEXT       one display_data with text/plain and text/html
 //	block           wait for ctx      sleep MS     sleep, honouring ctx
 //	sleepfail MS    sleep, then fail  spam N SIZE  N stdout chunks of SIZE bytes
 //	nanresult       unencodable result nandisplay  unencodable display
@@ -109,6 +111,8 @@ func (f *fakeHandler) Execute(ctx context.Context, code string, out Output, opts
 		out.UpdateDisplay(&Bundle{Data: map[string]any{"text/plain": "100%"}, Metadata: map[string]any{"x": 1}}, "progress")
 		out.Display(&Bundle{Data: map[string]any{"text/html": "<b>done</b>"}}, "")
 		out.ClearOutput(true)
+	case "show":
+		out.Display(&Bundle{Data: map[string]any{"text/plain": arg, "text/html": "<p>" + arg + "</p>"}}, "")
 	case "block":
 		<-ctx.Done()
 		return nil, context.Cause(ctx)
@@ -182,10 +186,34 @@ func (f *fakeHandler) IsComplete(code string) (string, string) {
 	return "complete", ""
 }
 
+func (f *fakeHandler) completeCursors() []int {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	return append([]int(nil), f.cursors...)
+}
+
 func (f *fakeHandler) executed() []string {
 	f.mu.Lock()
 	defer f.mu.Unlock()
 	return append([]string(nil), f.ran...)
+}
+
+// socket returns one of the kernel's sockets by channel name.
+func (k *Kernel) socket(name string) interface {
+	Stats() zsock.Stats
+	PeerStats() []zsock.PeerStat
+} {
+	switch name {
+	case "shell":
+		return k.shell
+	case "control":
+		return k.control
+	case "stdin":
+		return k.stdin
+	case "iopub":
+		return k.iopub
+	}
+	return k.hb
 }
 
 // ---- a kernel under test ----
@@ -285,7 +313,7 @@ type client struct {
 	tk      *testKernel
 	key     []byte
 	session string
-	seq     int
+	seq     atomic.Int64
 	shell   *sock
 	control *sock
 	iopub   *sock
@@ -344,8 +372,7 @@ func (c *client) sign(parts ...[]byte) []byte {
 
 // request builds the frames of a signed request and returns its msg_id.
 func (c *client) request(msgType string, content any) ([][]byte, string) {
-	c.seq++
-	id := fmt.Sprintf("%s-%d", c.session, c.seq)
+	id := fmt.Sprintf("%s-%d", c.session, c.seq.Add(1))
 	h, _ := json.Marshal(map[string]any{
 		"msg_id": id, "session": c.session, "username": "tester", "msg_type": msgType,
 		"version": "5.3", "date": time.Now().UTC().Format(time.RFC3339Nano),

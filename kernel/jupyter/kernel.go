@@ -4,6 +4,7 @@ import (
 	"context"
 	"crypto/rand"
 	"encoding/hex"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -37,10 +38,18 @@ type Options struct {
 	// before that client's connection is dropped (default 30s).
 	StallTimeout time.Duration
 	// QueueMsgs and QueueBytes bound what waits to be sent to one client
-	// on one socket (defaults 1000 messages, 64 MiB); beyond them that
-	// client's messages are dropped, as with a ZeroMQ high-water mark.
+	// on one socket (defaults 100000 messages, 64 MiB). Beyond them that
+	// client's oldest queued messages are dropped, so a client that falls
+	// behind still gets the latest status; other clients are unaffected.
 	QueueMsgs  int
 	QueueBytes int
+	// SoftQueueBytes and BackpressureWait slow the kernel down to the pace
+	// of a client that reads slowly but steadily: with more than
+	// SoftQueueBytes (default 1 MiB) queued for it, a send waits up to
+	// BackpressureWait (default 1s). A client that has not read anything
+	// for BackpressureWait is not waited for.
+	SoftQueueBytes   int
+	BackpressureWait time.Duration
 	// MaxMsgBytes bounds one incoming message (default 256 MiB).
 	MaxMsgBytes int64
 	// Linger bounds each of the two waits at shutdown: for queued
@@ -146,6 +155,8 @@ func (k *Kernel) bind(o *Options) error {
 		StallTimeout:     o.StallTimeout,
 		QueueMsgs:        o.QueueMsgs,
 		QueueBytes:       o.QueueBytes,
+		SoftQueueBytes:   o.SoftQueueBytes,
+		BackpressureWait: o.BackpressureWait,
 		MaxMsgBytes:      o.MaxMsgBytes,
 	}
 	taken := map[int]bool{}
@@ -336,24 +347,6 @@ func (k *Kernel) cancelCell(cause error) {
 	}
 }
 
-// SocketStats reports the counters of one socket ("shell", "control",
-// "stdin", "iopub" or "hb"); it is meant for tests and diagnostics.
-func (k *Kernel) SocketStats(name string) zsock.Stats {
-	switch name {
-	case "shell":
-		return k.shell.Stats()
-	case "control":
-		return k.control.Stats()
-	case "stdin":
-		return k.stdin.Stats()
-	case "iopub":
-		return k.iopub.Stats()
-	case "hb":
-		return k.hb.Stats()
-	}
-	return zsock.Stats{}
-}
-
 // ---- receiving ----
 
 func (k *Kernel) recv(r *zsock.Router, channel string) (*message, bool) {
@@ -470,10 +463,13 @@ func (k *Kernel) newHeader(msgType string) []byte {
 
 // reply answers req on the socket it came from, echoing its identities.
 func (k *Kernel) reply(req *message, msgType string, content any) {
-	c, err := marshal(content)
-	if err != nil {
-		k.log.Printf("jupyter: cannot encode %s: %v", msgType, err)
-		return
+	c, ok := content.(json.RawMessage)
+	if !ok {
+		var err error
+		if c, err = marshal(content); err != nil {
+			k.log.Printf("jupyter: cannot encode %s: %v", msgType, err)
+			return
+		}
 	}
 	frames := k.sign.frames(req.ids, k.newHeader(msgType), req.rawHeader, emptyObject, c, nil)
 	r := k.shell

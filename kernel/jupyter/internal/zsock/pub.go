@@ -9,8 +9,10 @@ import (
 
 // Pub is a ZeroMQ PUB socket. Send encodes a message once and queues it
 // for every subscribed peer; each peer has its own bounded queue and
-// writer, so a subscriber that stops reading loses its own messages and
-// never stalls the others, and memory stays bounded by the queue limits.
+// writer, so a subscriber that stops reading loses its own oldest
+// messages and never stalls the others, and memory stays bounded by the
+// queue limits. A subscriber that reads slowly slows the sender down
+// (Options.SoftQueueBytes) rather than losing messages.
 // A subscriber that connects later (or reconnects) receives everything
 // published after its subscription arrives.
 type Pub struct {
@@ -95,23 +97,33 @@ func (p *peer) subscribed(topic []byte) bool {
 	return false
 }
 
-// Send publishes frames (frames[0] is the topic) to every subscriber. It
-// never blocks and returns nil even when some peers dropped the message;
-// Stats counts the drops. The frames must not be modified afterwards.
+// Send publishes frames (frames[0] is the topic) to every subscriber and
+// returns nil even when some peers dropped older messages (Stats counts
+// them). It may wait up to Options.BackpressureWait for a subscriber that
+// is slow but reading; it does not wait for one that stopped. The frames
+// must not be modified afterwards.
 func (s *Pub) Send(frames [][]byte) error {
 	if len(frames) == 0 {
 		return nil
 	}
 	segs, size := Encode(frames)
+	var slow []*peer
 	s.mu.Lock()
-	defer s.mu.Unlock()
 	if s.ctx.Err() != nil {
+		s.mu.Unlock()
 		return ErrClosed
 	}
 	for p := range s.peers {
 		if p.subscribed(frames[0]) {
 			p.enqueue(segs, size)
+			slow = append(slow, p)
 		}
+	}
+	s.mu.Unlock()
+	// Outside the lock: a slow subscriber holds up this sender a little,
+	// never the fan-out to the others.
+	for _, p := range slow {
+		p.throttle()
 	}
 	return nil
 }

@@ -10,9 +10,10 @@ import (
 
 // Router is a ZeroMQ ROUTER socket: every received message starts with the
 // routing identity of the peer that sent it, and Send routes a message by
-// its first frame. Send never blocks: each peer has its own bounded queue
-// and writer, so a peer that stops reading loses its own replies (counted
-// in Stats.Dropped and logged) and delays nobody else.
+// its first frame. Each peer has its own bounded queue and writer: Send
+// waits a little for a slow peer that keeps reading (see
+// Options.SoftQueueBytes) and not at all for one that stopped, which
+// loses its own oldest replies instead (counted and logged).
 type Router struct {
 	*base
 	mu   sync.RWMutex
@@ -100,8 +101,10 @@ func (r *Router) Recv(ctx context.Context) ([][]byte, error) {
 
 // Send queues frames[1:] for the peer whose identity is frames[0]. It
 // returns ErrUnknownPeer when no such peer is connected (ZeroMQ drops such
-// a message silently; the caller should log it) and ErrQueueFull when the
-// peer's queue is full. The frames must not be modified afterwards.
+// a message silently; the caller should log it) and ErrQueueFull when
+// older messages were dropped to make room. It may wait up to
+// Options.BackpressureWait for a slow peer. The frames must not be
+// modified afterwards.
 func (r *Router) Send(frames [][]byte) error {
 	if len(frames) < 2 {
 		return ErrUnknownPeer
@@ -113,5 +116,7 @@ func (r *Router) Send(frames [][]byte) error {
 		return ErrUnknownPeer
 	}
 	segs, size := Encode(frames[1:])
-	return p.enqueue(segs, size)
+	err := p.enqueue(segs, size)
+	p.throttle()
+	return err
 }

@@ -36,6 +36,15 @@ type Options struct {
 	// not affected.
 	QueueMsgs  int
 	QueueBytes int
+	// SoftQueueBytes and BackpressureWait make a fast sender wait for a
+	// slow reader instead of piling up messages for it: when a peer has
+	// more than SoftQueueBytes queued (default 1 MiB), Send waits up to
+	// BackpressureWait (default 1s) for it to fall below. A peer that has
+	// written nothing for BackpressureWait counts as stalled and is never
+	// waited for, so one stuck client costs the others at most one
+	// BackpressureWait per stall.
+	SoftQueueBytes   int
+	BackpressureWait time.Duration
 	// MaxMsgBytes bounds one incoming message (default 256 MiB); a peer
 	// that sends more is disconnected.
 	MaxMsgBytes int64
@@ -60,6 +69,12 @@ func (o *Options) withDefaults() Options {
 	}
 	if d.QueueBytes <= 0 {
 		d.QueueBytes = 64 << 20
+	}
+	if d.SoftQueueBytes <= 0 {
+		d.SoftQueueBytes = 1 << 20
+	}
+	if d.BackpressureWait <= 0 {
+		d.BackpressureWait = time.Second
 	}
 	if d.MaxMsgBytes <= 0 {
 		d.MaxMsgBytes = 256 << 20
@@ -294,6 +309,31 @@ func (b *base) Stats() Stats {
 	}
 }
 
+// PeerStat describes one connected peer.
+type PeerStat struct {
+	Remote      string // the peer's address as the socket sees it
+	Queued      int    // messages waiting to be written
+	QueuedBytes int    // their size, with the one being written
+	Dropped     uint64 // messages dropped for this peer in all
+}
+
+// PeerStats lists the connected peers.
+func (b *base) PeerStats() []PeerStat {
+	b.mu.Lock()
+	peers := make([]*peer, 0, len(b.peers))
+	for p := range b.peers {
+		peers = append(peers, p)
+	}
+	b.mu.Unlock()
+	out := make([]PeerStat, 0, len(peers))
+	for _, p := range peers {
+		p.mu.Lock()
+		out = append(out, PeerStat{p.conn.RemoteAddr().String(), len(p.queue), p.qbytes, p.dropped})
+		p.mu.Unlock()
+	}
+	return out
+}
+
 // Flush waits until every queued message has been handed to the operating
 // system or the timeout passes; it reports whether the queues emptied.
 func (b *base) Flush(timeout time.Duration) bool {
@@ -371,7 +411,11 @@ type peer struct {
 	qbytes   int
 	closed   bool
 	dropping uint64 // messages dropped in the current overflow episode
+	dropped  uint64 // messages dropped in all
 	topics   map[string]int
+	progress chan struct{} // closed and replaced after every write
+
+	lastWrite atomic.Int64 // UnixNano of the last write progress
 
 	wake chan struct{}
 	done chan struct{}
@@ -405,6 +449,7 @@ func (p *peer) enqueue(segs net.Buffers, size int) error {
 	}
 	if dropped > 0 {
 		p.dropping += uint64(dropped)
+		p.dropped += uint64(dropped)
 		if p.dropping == uint64(dropped) {
 			p.b.log.Printf("zsock %s: peer %s is not keeping up; dropping its oldest messages (queue limit %d msgs, %d bytes)",
 				p.b.typ, p.conn.RemoteAddr(), o.QueueMsgs, o.QueueBytes)
@@ -436,6 +481,38 @@ func (p *peer) enqueue(segs net.Buffers, size int) error {
 	return nil
 }
 
+// throttle waits while the peer has more than SoftQueueBytes queued and
+// keeps writing, for at most BackpressureWait. It returns at once for a
+// stalled peer (no write progress for BackpressureWait).
+func (p *peer) throttle() {
+	o := &p.b.opts
+	deadline := time.Now().Add(o.BackpressureWait)
+	for {
+		p.mu.Lock()
+		if p.closed || p.qbytes <= o.SoftQueueBytes {
+			p.mu.Unlock()
+			return
+		}
+		if p.progress == nil {
+			p.progress = make(chan struct{})
+		}
+		ch := p.progress
+		p.mu.Unlock()
+		now := time.Now()
+		if now.After(deadline) || now.Sub(time.Unix(0, p.lastWrite.Load())) > o.BackpressureWait {
+			return
+		}
+		t := time.NewTimer(min(deadline.Sub(now), 50*time.Millisecond))
+		select {
+		case <-ch:
+		case <-t.C:
+		case <-p.done:
+		case <-p.b.ctx.Done():
+		}
+		t.Stop()
+	}
+}
+
 func (p *peer) next() (item, bool) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
@@ -449,8 +526,13 @@ func (p *peer) next() (item, bool) {
 }
 
 func (p *peer) sent(size int) {
+	p.lastWrite.Store(time.Now().UnixNano())
 	p.mu.Lock()
 	p.qbytes -= size
+	if p.progress != nil {
+		close(p.progress)
+		p.progress = nil
+	}
 	p.mu.Unlock()
 	p.b.pending.Add(-1)
 	p.b.pendingBytes.Add(-int64(size))
@@ -464,6 +546,9 @@ func (p *peer) writeLoop() {
 		case <-p.done:
 			return
 		}
+		// Coming out of idle counts as progress: the peer is not stalled
+		// until a write has been stuck for a while.
+		p.lastWrite.Store(time.Now().UnixNano())
 		for {
 			it, ok := p.next()
 			if !ok {
@@ -472,7 +557,9 @@ func (p *peer) writeLoop() {
 			err := p.write(it.segs)
 			p.sent(it.size)
 			if err != nil {
-				p.b.disconnected.Add(1)
+				if !isDisconnect(err) {
+					p.b.disconnected.Add(1)
+				}
 				p.close(err)
 				return
 			}
@@ -508,7 +595,7 @@ func (p *peer) readLoop() {
 	for {
 		frames, isCmd, err := ReadMsg(p.r, p.b.opts.MaxMsgBytes)
 		if err != nil {
-			if err != io.EOF && !errors.Is(err, net.ErrClosed) {
+			if !isDisconnect(err) {
 				p.b.disconnected.Add(1)
 			}
 			p.close(err)
@@ -516,6 +603,14 @@ func (p *peer) readLoop() {
 		}
 		p.b.hooks.message(p, frames, isCmd)
 	}
+}
+
+// isDisconnect reports whether err is just the peer going away (or the
+// socket closing) rather than a misbehaving peer.
+func isDisconnect(err error) bool {
+	var op *net.OpError
+	return errors.Is(err, io.EOF) || errors.Is(err, io.ErrUnexpectedEOF) ||
+		errors.Is(err, net.ErrClosed) || errors.Is(err, ErrClosed) || errors.As(err, &op)
 }
 
 // close drops the peer: its queue is discarded and its connection closed.
@@ -542,7 +637,7 @@ func (p *peer) close(why error) {
 	delete(p.b.peers, p)
 	p.b.mu.Unlock()
 	p.b.hooks.detach(p)
-	if why != io.EOF && !errors.Is(why, ErrClosed) && !errors.Is(why, net.ErrClosed) {
+	if !isDisconnect(why) {
 		p.b.log.Printf("zsock %s: dropped peer %s: %v", p.b.typ, p.conn.RemoteAddr(), why)
 	}
 }

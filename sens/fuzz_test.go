@@ -1,0 +1,58 @@
+package sens
+
+import (
+	"testing"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
+)
+
+// FuzzCompile feeds arbitrary text through the parser, the compiler and one
+// evaluation of every formula at the baseline: errors are fine, panics are not.
+func FuzzCompile(f *testing.F) {
+	for _, s := range []string{
+		designModel,
+		"input a = 1 [kg] (±5%) ~ normal(1, 0.1)\nb = a^2 [kg^2]\nc = sqrt(b) + a",
+		"a = b\nb = a",
+		"input r = 0.1\nx = recovery(r, 5) + learn(100 [$], 0.8, 4) / 1 [$]",
+		"input t = 90 [min]\ninput w = 60 [$/h]\nc = if(t > 1 [h] and not w < 1 [$/h], t * w, 0 [$])",
+		"input x = -1\ny = ln(x)",
+		"input a = 1 [EUR]\nb = a + 1 [$]",
+		"x = 2^0.5 * pi [m]",
+	} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, src string) {
+		file, stmts, _ := syntax.Parse("fuzz", []byte(src))
+		m := NewModel()
+		for _, s := range stmts {
+			switch s.(type) {
+			case *syntax.InputStmt, *syntax.FormulaStmt:
+				m.Define(file, s)
+			}
+		}
+		p, err := m.Compile()
+		if err != nil {
+			if _, ok := err.(syntax.ErrorList); !ok {
+				t.Fatalf("compile error of type %T: %v", err, err)
+			}
+			return
+		}
+		if err := p.Check(); err != nil {
+			if _, ok := err.(*EvalError); !ok {
+				t.Fatalf("check error of type %T: %v", err, err)
+			}
+			return
+		}
+		for _, fm := range p.Formulas {
+			pr, err := p.Problem(fm.Name)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if _, err := ComputeDrivers(pr); err != nil {
+				if _, ok := err.(*EvalError); !ok {
+					t.Fatalf("drivers error of type %T: %v", err, err)
+				}
+			}
+		}
+	})
+}
