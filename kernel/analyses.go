@@ -9,7 +9,6 @@ import (
 	"github.com/nudge-dev/nudge/plotting"
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/syntax"
-	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 func init() {
@@ -96,88 +95,7 @@ func intOption(f *syntax.File, o *syntax.Option, lo int) (int, error) {
 // want (a unit as written; "" for dimensionless), and a plain number is read
 // in want.
 func constValue(f *syntax.File, x syntax.Expr, want, what string) (float64, error) {
-	v, u, upos, err := constEval(f, x, what)
-	if err != nil {
-		return 0, err
-	}
-	if u == nil {
-		return v, nil
-	}
-	to := unit.One()
-	if want != "" {
-		if to, err = unit.Parse(want); err != nil {
-			return 0, posErr(f, x.Pos(), "%s: %v", what, err)
-		}
-	}
-	w, err := unit.Convert(v, *u, to)
-	if err != nil {
-		wu := want
-		if wu == "" {
-			wu = "1 (no unit)"
-		}
-		return 0, posErr(f, upos, "%s is in [%s] but must be in [%s]: %v", what, u.String(), wu, err)
-	}
-	return w, nil
-}
-
-func constEval(f *syntax.File, x syntax.Expr, what string) (v float64, u *unit.Unit, upos syntax.Pos, err error) {
-	switch x := x.(type) {
-	case *syntax.NumberLit:
-		if x.Unit == nil {
-			return x.Value, nil, 0, nil
-		}
-		pu, err := unit.Parse(x.Unit.Text)
-		if err != nil {
-			return 0, nil, 0, posErr(f, x.Unit.Pos(), "%v", err)
-		}
-		return x.Value, &pu, x.Unit.Pos(), nil
-	case *syntax.ParenExpr:
-		return constEval(f, x.X, what)
-	case *syntax.UnaryExpr:
-		v, u, upos, err := constEval(f, x.X, what)
-		if err != nil {
-			return 0, nil, 0, err
-		}
-		switch x.Op {
-		case syntax.SUB:
-			return -v, u, upos, nil
-		case syntax.ADD:
-			return v, u, upos, nil
-		}
-	case *syntax.Ident:
-		if x.Name == "pi" {
-			return math.Pi, nil, 0, nil
-		}
-		return 0, nil, 0, posErr(f, x.Pos(), "%s must be a number, not the name %s", what, x.Name)
-	case *syntax.BinaryExpr:
-		a, ua, _, err := constEval(f, x.X, what)
-		if err != nil {
-			return 0, nil, 0, err
-		}
-		b, ub, _, err := constEval(f, x.Y, what)
-		if err != nil {
-			return 0, nil, 0, err
-		}
-		if ua != nil || ub != nil {
-			return 0, nil, 0, posErr(f, x.Pos(), "write %s as one number with its unit, such as 160000 [$]", what)
-		}
-		switch x.Op {
-		case syntax.ADD:
-			return a + b, nil, 0, nil
-		case syntax.SUB:
-			return a - b, nil, 0, nil
-		case syntax.MUL:
-			return a * b, nil, 0, nil
-		case syntax.QUO:
-			if b == 0 {
-				return 0, nil, 0, posErr(f, x.Y.Pos(), "division by zero")
-			}
-			return a / b, nil, 0, nil
-		case syntax.POW:
-			return math.Pow(a, b), nil, 0, nil
-		}
-	}
-	return 0, nil, 0, posErr(f, x.Pos(), "%s must be a number", what)
+	return sens.Constant(f, x, want, what)
 }
 
 // inputOf returns the input an analysis varies, named by id.
@@ -816,9 +734,11 @@ func (in *Interp) compare(ctx context.Context, f *syntax.File, c *syntax.Command
 	for _, id := range c.Names {
 		cs := sens.Case{Name: id.Name}
 		if id.Name != sens.BaseName {
-			if cs.X, err = prog.ScenarioValues(in.Model.Scenario(id.Name)); err != nil {
+			all, err := prog.ScenarioValues(in.Model.Scenario(id.Name))
+			if err != nil {
 				return err
 			}
+			cs.X = pr.Project(all)
 		}
 		cases = append(cases, cs)
 	}

@@ -309,7 +309,7 @@ func TestAnalysisErrors(t *testing.T) {
 		{"scenario base: hours = 1", 1, 10, "base is the baseline"},
 		{"scenario slow: hour = 2", 1, 16, "undefined input hour (did you mean hours?)"},
 		{"scenario slow: total = 2", 1, 16, "total is a formula: a scenario sets inputs only"},
-		{"scenario slow: hours = 2 [kg]", 1, 24, "the scenario value of hours is in"},
+		{"scenario slow: hours = 2 [kg]", 1, 26, "the scenario value of hours is in"},
 	} {
 		in := newShop(t)
 		run(t, in, "scenario lean: hours = 1.2")

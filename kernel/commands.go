@@ -92,8 +92,18 @@ func (in *Interp) warnings(prog *sens.Program, pr *sens.Problem, sink Sink) {
 	for _, w := range prog.Warnings {
 		warn(sink, "%s", w.Error())
 	}
-	for _, s := range pr.Steps {
-		warn(sink, "%s: a step-shaped operation (floor, ceil, round, if or a comparison) lies on the path of %s: its derivative is taken as 0, so local results can miss a jump", s, pr.Output)
+	if len(pr.Steps) > 0 {
+		at := make([]string, 0, len(pr.Steps))
+		seen := map[string]bool{}
+		for _, s := range pr.Steps {
+			// One mention per line: if(x > 5, ...) is one step, not two.
+			key := fmt.Sprintf("%s:%d", s.Filename, s.Line)
+			if !seen[key] {
+				seen[key] = true
+				at = append(at, s.String())
+			}
+		}
+		warn(sink, "%s: a step-shaped operation (floor, ceil, round, if or a comparison) lies on the path of %s: its derivative is taken as 0, so local results can miss a jump", strings.Join(at, ", "), pr.Output)
 	}
 }
 

@@ -155,6 +155,7 @@ type compiler struct {
 	deps    map[string]map[int]bool // formula -> inputs used
 	curFile *syntax.File
 	cur     string // formula being compiled
+	what    string // the constant being evaluated, for messages
 }
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
@@ -345,6 +346,7 @@ func (c *compiler) compileDist(f *syntax.File, in *Input, ds *syntax.DistSpec) {
 // constant evaluates x, which must be constant, and returns it in unit u. A
 // dimensionless number is read as a value in u.
 func (c *compiler) constant(f *syntax.File, x syntax.Expr, u unit.Unit, what string) (float64, bool) {
+	c.what = what
 	v := c.expr(f, x, true)
 	if v.bad {
 		return 0, false
@@ -359,7 +361,11 @@ func (c *compiler) constant(f *syntax.File, x syntax.Expr, u unit.Unit, what str
 	case v.dim.Equal(u.Dim):
 		return v.c / u.Factor, true
 	}
-	c.errorf(f, x.Pos(), "%s is in %s but the input is in %s", what, unitText(unit.Simplest(v.dim)), unitText(u))
+	pos := x.Pos()
+	if n, ok := x.(*syntax.NumberLit); ok && n.Unit != nil {
+		pos = n.Unit.Pos()
+	}
+	c.errorf(f, pos, "%s is in [%s] but must be in [%s] (%s vs %s)", what, orOne(unitText(c.display(v))), orOne(unitText(u)), dimName(v.dim), dimName(u.Dim))
 	return 0, false
 }
 
@@ -529,11 +535,11 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 		return val{slot: c.b.Const(math.Pi), konst: true, c: math.Pi}
 	}
 	if constCtx {
-		if c.decls[x.Name] != nil {
-			c.errorf(f, x.Pos(), "an input's value must be a number, not %s: compute it in a formula instead", x.Name)
-		} else {
-			c.undefined(f, x)
+		msg := fmt.Sprintf("%s must be a number, not the name %s", c.what, x.Name)
+		if c.decls[x.Name] != nil && strings.HasPrefix(c.what, "the value of input") {
+			msg += ": compute it in a formula instead"
 		}
+		c.errorf(f, x.Pos(), "%s", msg)
 		return val{bad: true}
 	}
 	d := c.decls[x.Name]
@@ -853,4 +859,30 @@ func (p *Program) Check() error {
 		return p.evalError(err, x)
 	}
 	return nil
+}
+
+// Constant evaluates x, a constant expression such as 160000, 72 [min] or
+// 1.5 * 2 [h], in the unit written as want ("" for dimensionless): a plain
+// number is read in want; a number with a unit is converted to it. Errors
+// name the line and column; what names the value in messages.
+func Constant(f *syntax.File, x syntax.Expr, want, what string) (float64, error) {
+	c := newScratchCompiler()
+	u := unit.One()
+	if want != "" {
+		var err error
+		if u, err = unit.Parse(want); err != nil {
+			return 0, fmt.Errorf("%s: %v", what, err)
+		}
+	}
+	v, ok := c.constant(f, x, u, what)
+	if !ok {
+		return 0, c.errs[0]
+	}
+	return v, nil
+}
+
+// newScratchCompiler returns a compiler with no model, for constants.
+func newScratchCompiler() *compiler {
+	return &compiler{m: NewModel(), b: NewBuilder(), prog: &Program{index: map[string]int{}},
+		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}, deps: map[string]map[int]bool{}}
 }

@@ -34,6 +34,22 @@ type Problem struct {
 	// Steps lists where step-shaped operations (floor, ceil, round, if,
 	// comparisons) lie on the output's path; their derivative is zero.
 	Steps []syntax.Position
+
+	// index maps the problem's inputs to the program's (nil: the same).
+	index []int
+}
+
+// Project picks the problem's inputs out of a vector of every program input
+// (such as Program.ScenarioValues returns).
+func (p *Problem) Project(all []float64) []float64 {
+	if p.index == nil {
+		return all
+	}
+	x := make([]float64, len(p.index))
+	for i, j := range p.index {
+		x[i] = all[j]
+	}
+	return x
 }
 
 // Baseline returns the inputs' baseline values.
@@ -98,6 +114,16 @@ func (p *Program) Problem(name string) (*Problem, error) {
 		return nil, err
 	}
 	pr := &Problem{Output: name, Unit: fn.f.Unit, F: fn, Inputs: p.Inputs}
+	if deps := fn.f.Deps; len(deps) < len(p.Inputs) {
+		// Analyse only the inputs the output depends on; the others stay at
+		// their baselines.
+		pr.index = deps
+		pr.Inputs = make([]*Input, len(deps))
+		for i, j := range deps {
+			pr.Inputs[i] = p.Inputs[j]
+		}
+		pr.F = &subFn{fn: fn, index: deps, full: p.Baseline()}
+	}
 	for _, s := range fn.f.steps {
 		e := p.pos[s]
 		pr.Steps = append(pr.Steps, e.file.Position(e.pos))
@@ -277,4 +303,60 @@ func NewInput(name string, value, low, high float64, dist Dist) *Input {
 		low, high, src = dist.Quantile(0.1), dist.Quantile(0.9), RangeDistribution
 	}
 	return &Input{Name: name, Value: value, Low: low, High: high, Source: src, Dist: dist}
+}
+
+// subFn is a Function of some of a program's inputs, the others held at their
+// baselines.
+type subFn struct {
+	fn    *Fn
+	index []int     // sub input i is program input index[i]
+	full  []float64 // a full input vector: baselines plus the sub inputs
+	grad  []float64 // full gradient
+	batch []float64 // full rows for EvalBatch
+}
+
+func (s *subFn) Clone() Function {
+	return &subFn{fn: s.fn.Clone().(*Fn), index: s.index, full: append([]float64(nil), s.full...)}
+}
+
+func (s *subFn) scatter(dst, x []float64) {
+	for i, j := range s.index {
+		dst[j] = x[i]
+	}
+}
+
+func (s *subFn) Eval(x []float64) (float64, error) {
+	s.scatter(s.full, x)
+	return s.fn.Eval(s.full)
+}
+
+func (s *subFn) Gradient(dst, x []float64) (float64, error) {
+	s.scatter(s.full, x)
+	if len(s.grad) != len(s.full) {
+		s.grad = make([]float64, len(s.full))
+	}
+	y, err := s.fn.Gradient(s.grad, s.full)
+	for i, j := range s.index {
+		dst[i] = s.grad[j]
+	}
+	return y, err
+}
+
+func (s *subFn) EvalBatch(dst, xs []float64, n int) error {
+	k, all := len(s.index), len(s.full)
+	if need := n * all; cap(s.batch) < need {
+		s.batch = make([]float64, need)
+		for r := 0; r < n; r++ {
+			copy(s.batch[r*all:(r+1)*all], s.full)
+		}
+	} else {
+		s.batch = s.batch[:need]
+	}
+	for r := 0; r < n; r++ {
+		row := s.batch[r*all : (r+1)*all]
+		for i, j := range s.index {
+			row[j] = xs[r*k+i]
+		}
+	}
+	return s.fn.EvalBatch(dst, s.batch, n)
 }

@@ -125,7 +125,7 @@ func (m *Model) CompileExpr(name string, f *syntax.File, x syntax.Expr, declared
 func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 	x := p.Baseline()
 	var errs syntax.ErrorList
-	c := &compiler{b: NewBuilder(), prog: &Program{index: map[string]int{}}, decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}, deps: map[string]map[int]bool{}}
+	c := newScratchCompiler()
 	for _, a := range s.Assigns {
 		in, f := p.Lookup(a.Name.Name)
 		switch {

@@ -88,6 +88,7 @@ type Kernel struct {
 	stopped chan struct{}
 	stopReq sync.Once
 	serving atomic.Bool
+	served  chan struct{} // closed when Serve has returned
 
 	// Owned by the shell worker goroutine.
 	count int
@@ -132,6 +133,7 @@ func New(ci ConnectionInfo, h Handler, opts *Options) (*Kernel, error) {
 		linger:  o.Linger,
 		shellQ:  make(chan *message, 1024),
 		stopped: make(chan struct{}),
+		served:  make(chan struct{}),
 	}
 	k.root, k.cancel = context.WithCancel(context.Background())
 	if err := k.bind(&o); err != nil {
@@ -216,7 +218,7 @@ func (k *Kernel) Session() string { return k.session }
 // running cell instead of killing the process (signal.Notify, not
 // signal.Ignore, so child processes keep the default). The caller should
 // exit the process when Run returns: a cell that ignores its context may
-// still be running.
+// still be running. A nil logger discards the kernel's log.
 func Run(ctx context.Context, connFile string, h Handler, logger *log.Logger) error {
 	ci, err := ReadConnectionFile(connFile)
 	if err != nil {
@@ -257,8 +259,9 @@ func Run(ctx context.Context, connFile string, h Handler, logger *log.Logger) er
 // may be called once.
 func (k *Kernel) Serve(ctx context.Context) error {
 	if !k.serving.CompareAndSwap(false, true) {
-		return errors.New("jupyter: Serve called twice")
+		return errors.New("jupyter: Serve called twice or after Close")
 	}
+	defer close(k.served)
 	k.status([]byte("{}"), "starting")
 	var wg sync.WaitGroup
 	wg.Add(3)
@@ -287,6 +290,20 @@ func (k *Kernel) Serve(ctx context.Context) error {
 	k.cancel()
 	wg.Wait()
 	return err
+}
+
+// Close stops the kernel and releases its sockets: it makes a running
+// Serve return and waits for it, or, if Serve was never called, closes
+// the sockets itself.
+func (k *Kernel) Close() error {
+	if k.serving.CompareAndSwap(false, true) {
+		k.closeSockets(0)
+		k.cancel()
+		return nil
+	}
+	k.Stop()
+	<-k.served
+	return nil
 }
 
 // Stop makes Serve return as after a shutdown_request.

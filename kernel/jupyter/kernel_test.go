@@ -836,3 +836,60 @@ func BenchmarkExecuteRoundTrip(b *testing.B) {
 		}
 	}
 }
+
+func TestCloseWithoutServe(t *testing.T) {
+	ci := ConnectionInfo{Transport: "tcp", IP: "127.0.0.1", Key: testKey}
+	k, err := New(ci, newFake(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	addr := net.JoinHostPort("127.0.0.1", itoa(k.Connection().ShellPort))
+	if c, err := net.Dial("tcp", addr); err != nil {
+		t.Fatalf("not listening: %v", err)
+	} else {
+		c.Close()
+	}
+	k.Close()
+	if c, err := net.Dial("tcp", addr); err == nil {
+		c.Close()
+		t.Error("still listening after Close")
+	}
+	if err := k.Serve(context.Background()); err == nil {
+		t.Error("Serve after Close succeeded")
+	}
+	// New refuses what it cannot serve.
+	if _, err := New(ci, nil, nil); err == nil {
+		t.Error("nil Handler accepted")
+	}
+	if _, err := New(ConnectionInfo{Transport: "udp"}, newFake(), nil); err == nil {
+		t.Error("udp accepted")
+	}
+	busy := ConnectionInfo{Transport: "tcp", IP: "127.0.0.1", ShellPort: k.Connection().ShellPort}
+	l, err := net.Listen("tcp", addr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	if _, err := New(busy, newFake(), nil); err == nil {
+		t.Error("bound a port in use")
+	}
+}
+
+// TestStdinInputReply: the kernel never asks for input, but a client's
+// stray input_reply is read and ignored.
+func TestStdinInputReply(t *testing.T) {
+	tk := startKernel(t, newFake(), nil)
+	c := connect(t, tk)
+	stdin := dialSock(t, zmq4.NewDealer(context.Background(), zlog(t)), tk.ci.Endpoint(tk.ci.StdinPort))
+	for range 3 {
+		c.send(stdin, "input_reply", map[string]any{"value": "42"})
+	}
+	if r, _ := c.execute("result fine", nil); r.str("status") != "ok" {
+		t.Fatalf("after input_reply: %v", r.content)
+	}
+	select {
+	case f := <-stdin.in:
+		t.Errorf("the kernel answered on stdin: %q", f)
+	case <-time.After(50 * time.Millisecond):
+	}
+}
