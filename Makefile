@@ -4,7 +4,7 @@ PY    ?= /usr/bin/python3
 BIN   := $(CURDIR)/out/nudge
 JP    := $(CURDIR)/out/jupyter
 
-.PHONY: demo build test gotest race fuzz jupyter-test notebooks-test bench clean
+.PHONY: demo build test gotest race fuzz jupyter-test notebooks-test bench bench-kernels clean
 
 demo:
 	go run ./kernel/cmd/nudge exec notebooks/housing.nudge
@@ -32,7 +32,7 @@ $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)
 
 jupyter-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
-	cd kernel/testdata/jupyter && JUPYTER_PATH=$(JP)/share/jupyter $(PY) -m unittest -v test_conformance
+	cd kernel/testdata/jupyter && JUPYTER_PATH=$(JP)/share/jupyter $(PY) -m unittest -v test_conformance test_live
 	JUPYTER_PATH=$(JP)/share/jupyter $(PY) kernel/testdata/jupyter/console_session.py
 
 notebooks-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
@@ -45,6 +45,10 @@ notebooks-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
 
 bench:
 	go run ./kernel/cmd/nudge bench
+
+# Start-up and round-trip times of nudge against ipykernel, side by side.
+bench-kernels: $(JP)/share/jupyter/kernels/nudge/kernel.json
+	cd kernel/testdata/jupyter && JUPYTER_PATH=$(JP)/share/jupyter $(PY) bench_kernels.py
 
 clean:
 	rm -rf out

@@ -1,8 +1,8 @@
 package zsock
 
 import (
-	"bytes"
 	"context"
+	"strings"
 
 	"github.com/go-zeromq/zmq4"
 )
@@ -86,11 +86,11 @@ func (*Pub) message(p *peer, frames [][]byte, isCmd bool) {
 	}
 }
 
-func (p *peer) subscribed(topic []byte) bool {
+func (p *peer) subscribed(topic string) bool {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	for t := range p.topics {
-		if bytes.HasPrefix(topic, []byte(t)) {
+		if strings.HasPrefix(topic, t) {
 			return true
 		}
 	}
@@ -107,6 +107,7 @@ func (s *Pub) Send(frames [][]byte) error {
 		return nil
 	}
 	segs, size := Encode(frames)
+	topic := string(frames[0])
 	var slow []*peer
 	s.mu.Lock()
 	if s.ctx.Err() != nil {
@@ -114,7 +115,7 @@ func (s *Pub) Send(frames [][]byte) error {
 		return ErrClosed
 	}
 	for p := range s.peers {
-		if p.subscribed(frames[0]) {
+		if p.subscribed(topic) {
 			p.enqueue(segs, size)
 			slow = append(slow, p)
 		}
@@ -135,7 +136,7 @@ func (s *Pub) Subscribers(topic string) int {
 	defer s.mu.Unlock()
 	n := 0
 	for p := range s.peers {
-		if p.subscribed([]byte(topic)) {
+		if p.subscribed(topic) {
 			n++
 		}
 	}

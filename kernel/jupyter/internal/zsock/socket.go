@@ -567,25 +567,32 @@ func (p *peer) writeLoop() {
 	}
 }
 
-// write sends one message. Each write gets StallTimeout to make progress;
-// a slow peer that keeps reading is never cut off, a peer that stops
-// reading is dropped after StallTimeout without delaying anyone else.
+// write sends one message. The write is done in steps of at most half a
+// BackpressureWait so that progress is seen while it happens: a slow peer
+// that keeps reading is never cut off, and a peer that makes no progress
+// for StallTimeout is dropped without delaying anyone else.
 func (p *peer) write(segs net.Buffers) error {
+	o := &p.b.opts
+	step := max(min(o.StallTimeout, o.BackpressureWait/2), time.Millisecond)
 	segs = append(net.Buffers(nil), segs...) // WriteTo consumes its receiver
+	last := time.Now()
 	for len(segs) > 0 {
-		p.conn.SetWriteDeadline(time.Now().Add(p.b.opts.StallTimeout))
+		p.conn.SetWriteDeadline(time.Now().Add(step))
 		n, err := segs.WriteTo(p.conn)
+		if n > 0 {
+			last = time.Now()
+			p.lastWrite.Store(last.UnixNano())
+		}
 		if err == nil {
 			return nil
 		}
 		var ne net.Error
-		if n > 0 && errors.As(err, &ne) && ne.Timeout() {
-			continue
+		if !errors.As(err, &ne) || !ne.Timeout() {
+			return err
 		}
-		if errors.As(err, &ne) && ne.Timeout() {
-			return fmt.Errorf("peer stalled for %v", p.b.opts.StallTimeout)
+		if time.Since(last) >= o.StallTimeout {
+			return fmt.Errorf("peer stalled for %v", o.StallTimeout)
 		}
-		return err
 	}
 	return nil
 }

@@ -236,15 +236,15 @@ func TestPubSubscriptions(t *testing.T) {
 	pub := &Pub{}
 	pub.message(&pr, [][]byte{append([]byte{9}, "SUBSCRIBE"...)}, true)
 	pub.message(&pr, [][]byte{append(append([]byte{9}, "SUBSCRIBE"...), "a"...)}, true)
-	if !pr.subscribed([]byte("anything")) {
+	if !pr.subscribed("anything") {
 		t.Error("SUBSCRIBE to everything not recorded")
 	}
 	pub.message(&pr, [][]byte{append([]byte{6}, "CANCEL"...)}, true)
-	if pr.subscribed([]byte("b")) || !pr.subscribed([]byte("ab")) {
+	if pr.subscribed("b") || !pr.subscribed("ab") {
 		t.Errorf("after CANCEL: %v", pr.topics)
 	}
 	pub.message(&pr, [][]byte{{0, 'a'}}, false)
-	if pr.subscribed([]byte("ab")) {
+	if pr.subscribed("ab") {
 		t.Errorf("after unsubscribe: %v", pr.topics)
 	}
 }
@@ -357,3 +357,66 @@ func TestHandshakeIsolation(t *testing.T) {
 }
 
 func nullSecurity() zmq4.Security { return null.Security() }
+
+// TestSlowSubscriberBackpressure: a subscriber that reads slowly but
+// steadily makes Send wait instead of losing messages, and its queue
+// stays near SoftQueueBytes. Without the wait the producer would be done
+// at once and the 1 MiB queue would drop most of the 6 MiB sent.
+func TestSlowSubscriberBackpressure(t *testing.T) {
+	ctx := context.Background()
+	const soft, hard, n, size = 256 << 10, 1 << 20, 200, 32 << 10
+	p, err := ListenPub(ctx, "tcp://127.0.0.1:0", "pub", &Options{Logger: quiet(), SoftQueueBytes: soft, QueueBytes: hard})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close(0)
+	conn, err := net.Dial("tcp", p.Addr().String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	conn.(*net.TCPConn).SetReadBuffer(16 << 10)
+	if _, err := zmq4.Open(conn, nullSecurity(), zmq4.Sub, nil, false, nil); err != nil {
+		t.Fatal(err)
+	}
+	WriteMsg(conn, [][]byte{{1}})
+	for p.Subscribers("t") == 0 {
+		time.Sleep(time.Millisecond)
+	}
+	got := make(chan int, 1)
+	go func() {
+		r := bufio.NewReaderSize(conn, 4096)
+		count := 0
+		for count < n {
+			f, _, err := ReadMsg(r, 1<<20)
+			if err != nil {
+				break
+			}
+			if int(f[1][0]) != count%256 {
+				break
+			}
+			count++
+			time.Sleep(3 * time.Millisecond) // about 10 MB/s
+		}
+		got <- count
+	}()
+	start := time.Now()
+	for i := range n {
+		p.Send([][]byte{[]byte("t"), bytes.Repeat([]byte{byte(i)}, size)})
+	}
+	sendTime := time.Since(start)
+	var count int
+	select {
+	case count = <-got:
+	case <-time.After(20 * time.Second):
+		t.Fatal("reader stuck")
+	}
+	st := p.Stats()
+	t.Logf("sent in %v; received %d of %d in order; dropped %d; largest queue %d bytes", sendTime.Round(time.Millisecond), count, n, st.Dropped, st.MaxQueueBytes)
+	if count != n || st.Dropped != 0 {
+		t.Errorf("received %d of %d, dropped %d", count, n, st.Dropped)
+	}
+	if st.MaxQueueBytes > soft+2*size {
+		t.Errorf("queue reached %d bytes, soft bound %d", st.MaxQueueBytes, soft)
+	}
+}

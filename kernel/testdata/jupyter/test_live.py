@@ -1,0 +1,104 @@
+"""Live checks of the nudge kernel through jupyter_client: progress displays
+that update in place, an interrupt of a long-running analysis followed by a cell
+that runs, and a client that reconnects and still receives iopub.
+
+Run with /usr/bin/python3 -m unittest from this directory, with the nudge
+kernelspec on JUPYTER_PATH (make jupyter-test does this).
+"""
+import time
+import unittest
+
+from jupyter_client.manager import KernelManager
+
+# A model of about 3,600 tape nodes; its 2-D sweep of a million points runs for
+# several seconds, long enough to interrupt.
+LONG_MODEL = "\n".join(
+    ["input a = 1 (0.5..2)", "input b = 2 (1..3)", "f0 = a * b"]
+    + [f"f{i} = f{i-1} * 0.999 + sqrt(a + {i}) * b / (1 + a)" for i in range(1, 900)]
+)
+LONG_SWEEP = "sweep f899 over a 0.5..2 and b 1..3 n=1000"
+
+
+def collect(kc, msg_id, timeout=60):
+    """Return the iopub messages of one request up to its idle status."""
+    out = []
+    deadline = time.time() + timeout
+    while time.time() < deadline:
+        m = kc.get_iopub_msg(timeout=timeout)
+        if m["parent_header"].get("msg_id") != msg_id:
+            continue
+        out.append(m)
+        if m["msg_type"] == "status" and m["content"]["execution_state"] == "idle":
+            return out
+    raise AssertionError("no idle status for " + msg_id)
+
+
+def reply_to(kc, msg_id, timeout=60):
+    while True:
+        r = kc.get_shell_msg(timeout=timeout)
+        if r["parent_header"].get("msg_id") == msg_id:
+            return r
+
+
+class LiveKernelTests(unittest.TestCase):
+    def setUp(self):
+        self.km = KernelManager(kernel_name="nudge")
+        self.km.start_kernel()
+        self.kc = self.km.client()
+        self.kc.start_channels()
+        self.kc.wait_for_ready(timeout=60)
+
+    def tearDown(self):
+        self.kc.stop_channels()
+        self.km.shutdown_kernel(now=False)
+
+    def run_cell(self, code, timeout=60):
+        msg_id = self.kc.execute(code)
+        reply = reply_to(self.kc, msg_id, timeout)
+        return reply, collect(self.kc, msg_id, timeout)
+
+    def test_progress_updates_in_place(self):
+        reply, msgs = self.run_cell(LONG_MODEL + "\nsweep f899 over a 0.5..2 and b 1..3 n=250")
+        self.assertEqual(reply["content"]["status"], "ok")
+        ids = [m["content"]["transient"]["display_id"] for m in msgs
+               if m["msg_type"] == "display_data" and m["content"].get("transient", {}).get("display_id")]
+        updates = [m for m in msgs if m["msg_type"] == "update_display_data"]
+        self.assertEqual(len(ids), 1, "one progress display")
+        self.assertGreaterEqual(len(updates), 1, "the progress display is updated")
+        self.assertTrue(all(u["content"]["transient"]["display_id"] == ids[0] for u in updates))
+        self.assertIn("100%", updates[-1]["content"]["data"]["text/plain"])
+
+    def test_interrupt_long_analysis_then_next_cell_runs(self):
+        reply, _ = self.run_cell(LONG_MODEL)
+        self.assertEqual(reply["content"]["status"], "ok")
+        msg_id = self.kc.execute(LONG_SWEEP)
+        time.sleep(1.0)
+        t0 = time.time()
+        self.km.interrupt_kernel()  # interrupt_mode "message": an interrupt_request on control
+        reply = reply_to(self.kc, msg_id, timeout=30)
+        stopped = time.time() - t0
+        self.assertEqual(reply["content"]["status"], "error")
+        self.assertEqual(reply["content"]["ename"], "Interrupted", reply["content"].get("evalue"))
+        self.assertLess(stopped, 3.0, "the analysis stops promptly")
+        collect(self.kc, msg_id)
+        reply, msgs = self.run_cell("f0")
+        self.assertEqual(reply["content"]["status"], "ok")
+        results = [m for m in msgs if m["msg_type"] == "execute_result"]
+        self.assertEqual(results[0]["content"]["data"]["text/plain"], "f0 = 2")
+
+    def test_reconnecting_client_gets_iopub(self):
+        self.kc.stop_channels()
+        kc2 = self.km.client()
+        kc2.start_channels()
+        kc2.wait_for_ready(timeout=30)
+        msg_id = kc2.execute('print "again"')
+        msgs = collect(kc2, msg_id)
+        streams = [m["content"]["text"] for m in msgs if m["msg_type"] == "stream"]
+        self.assertEqual(streams, ["again\n"])
+        kc2.stop_channels()
+        self.kc = self.km.client()
+        self.kc.start_channels()
+
+
+if __name__ == "__main__":
+    unittest.main()
