@@ -89,6 +89,11 @@ func (s *jupyterSink) Progress(id, label string, done, total int) {
 	}
 	text := fmt.Sprintf("%s %s %3.0f%% (%d of %d)", label, bar(frac, 24)+strings.Repeat(" ", 24-len([]rune(bar(frac, 24)))), 100*frac, done, total)
 	b := &jupyter.Bundle{Data: map[string]any{"text/plain": text}, Metadata: map[string]any{}}
+	if done >= total && s.shown[id] {
+		// Finished: the progress line gives way, so a report keeps only results.
+		s.out.UpdateDisplay(&jupyter.Bundle{Data: map[string]any{"text/plain": ""}, Metadata: map[string]any{}}, id)
+		return
+	}
 	switch {
 	case !s.shown[id]:
 		s.shown[id] = true

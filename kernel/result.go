@@ -39,7 +39,9 @@ func (r *Result) Bundle() map[string]any {
 	}
 	b := map[string]any{"text/plain": strings.TrimRight(text, "\n")}
 	if h != "" {
-		b["text/html"] = h
+		// Notebooks run MathJax over HTML output, and a cost report is full of
+		// dollar signs: keep it away (class names of MathJax 2 and 3).
+		b["text/html"] = `<div class="nudge-result tex2jax_ignore mathjax_ignore">` + h + `</div>`
 	}
 	if len(r.SVG) > 0 {
 		b["image/svg+xml"] = string(r.SVG)

@@ -66,7 +66,11 @@ class LiveKernelTests(unittest.TestCase):
         self.assertEqual(len(ids), 1, "one progress display")
         self.assertGreaterEqual(len(updates), 1, "the progress display is updated")
         self.assertTrue(all(u["content"]["transient"]["display_id"] == ids[0] for u in updates))
-        self.assertIn("100%", updates[-1]["content"]["data"]["text/plain"])
+        shown = [m["content"]["data"]["text/plain"] for m in msgs if m["msg_type"] == "display_data"
+                 and m["content"].get("transient", {}).get("display_id")] + \
+            [u["content"]["data"]["text/plain"] for u in updates[:-1]]
+        self.assertTrue(all("%" in t for t in shown), "the progress line shows a percentage")
+        self.assertEqual(updates[-1]["content"]["data"]["text/plain"], "", "the finished progress line gives way")
 
     def test_interrupt_long_analysis_then_next_cell_runs(self):
         reply, _ = self.run_cell(LONG_MODEL)
