@@ -89,9 +89,13 @@ func (s *jupyterSink) Progress(id, label string, done, total int) {
 	}
 	text := fmt.Sprintf("%s %s %3.0f%% (%d of %d)", label, bar(frac, 24)+strings.Repeat(" ", 24-len([]rune(bar(frac, 24)))), 100*frac, done, total)
 	b := &jupyter.Bundle{Data: map[string]any{"text/plain": text}, Metadata: map[string]any{}}
+	if s.updated[id].IsZero() && s.shown[id] {
+		return // finished already
+	}
 	if done >= total && s.shown[id] {
 		// Finished: the progress line gives way, so a report keeps only results.
 		s.out.UpdateDisplay(&jupyter.Bundle{Data: map[string]any{"text/plain": ""}, Metadata: map[string]any{}}, id)
+		s.updated[id] = time.Time{}
 		return
 	}
 	switch {

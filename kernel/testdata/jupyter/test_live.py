@@ -69,7 +69,7 @@ class LiveKernelTests(unittest.TestCase):
         shown = [m["content"]["data"]["text/plain"] for m in msgs if m["msg_type"] == "display_data"
                  and m["content"].get("transient", {}).get("display_id")] + \
             [u["content"]["data"]["text/plain"] for u in updates[:-1]]
-        self.assertTrue(all("%" in t for t in shown), "the progress line shows a percentage")
+        self.assertTrue(all("%" in t for t in shown), "the progress line shows a percentage: %r" % shown)
         self.assertEqual(updates[-1]["content"]["data"]["text/plain"], "", "the finished progress line gives way")
 
     def test_interrupt_long_analysis_then_next_cell_runs(self):
