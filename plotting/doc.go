@@ -7,9 +7,9 @@
 // Distribution, Indices, Scatter) that satisfies Chart: it writes SVG or
 // PNG to an io.Writer, offers SVG, PNG and HTML methods that a Go notebook
 // kernel displays inline, and draws itself as Unicode text for terminals.
-// The marks of each chart are a gonum/plot Plotter (TornadoBars,
-// SpiderLines, SweepCurve, HeatGrid, ECDF, IndexBars, ScatterPoints) that
-// can also be added to a plot.Plot of one's own.
+// The marks of each chart are gonum/plot Plotters (TornadoBars,
+// SpiderLines, SweepCurve, HeatGrid, ECDF and MarkerLines, IndexBars,
+// ScatterPoints) that can also be added to a plot.Plot of one's own.
 //
 // Charts never draw NaN or infinite values: Validate reports them, naming
 // the field, and the writers return that error. FormatValue is the

@@ -46,10 +46,12 @@ type Chart interface {
 // Options sets the size of a rendered chart. A nil *Options, and any zero
 // field, means the default.
 type Options struct {
-	// Width of the chart; DefaultWidth when zero.
+	// Width of the chart; DefaultWidth when zero, and at least MinWidth.
 	Width vg.Length
 	// Height of the chart; when zero each chart picks a height that suits
-	// its content and width (a tornado grows with its number of bars).
+	// its content and width (a tornado grows with its number of bars). It
+	// is at least MinHeight, and enough to leave 4 cm for the plot under
+	// the title, legend and notes.
 	Height vg.Length
 	// DPI is the resolution of PNG output; DefaultDPI when zero.
 	DPI int
@@ -71,7 +73,12 @@ type chart interface {
 	draw(c draw.Canvas)
 	// caption describes the chart in plain text for HTML.
 	caption() string
+	// frame returns the title, legend and notes drawn around the plot.
+	frame() *frame
 }
+
+// minBody is the least height left for the plot under the frame's text.
+const minBody = 4 * vg.Centimeter
 
 func (o *Options) resolve(ch chart) (w, h vg.Length, dpi int) {
 	if o != nil {
@@ -80,9 +87,12 @@ func (o *Options) resolve(ch chart) (w, h vg.Length, dpi int) {
 	if w <= 0 {
 		w = DefaultWidth
 	}
+	w = max(w, MinWidth)
 	if h <= 0 {
 		h = ch.height(w)
 	}
+	hd, ft := ch.frame().heights(w)
+	h = max(h, MinHeight, hd+ft+minBody)
 	if dpi <= 0 {
 		dpi = DefaultDPI
 	}
@@ -133,16 +143,18 @@ func pngBytes(ch chart) []byte {
 
 // htmlString wraps the SVG in an <img> with a data URI: unlike inline SVG it
 // survives HTML sanitisers and cannot clash with the page's styles or with
-// other charts on the same page.
+// other charts on the same page. Notebooks run MathJax over HTML output and
+// captions are full of dollar signs, so the figure carries the classes that
+// MathJax 2 and 3 skip.
 func htmlString(ch chart) string {
 	title := html.EscapeString(ch.heading())
 	if err := ch.check(); err != nil {
-		return `<div class="nudge-chart nudge-chart-error" style="color:#9C2B12">` +
+		return `<div class="nudge-chart nudge-chart-error ` + noMathJax + `" style="color:#9C2B12">` +
 			title + ": " + html.EscapeString(err.Error()) + `</div>`
 	}
 	svg := svgString(ch)
 	var b strings.Builder
-	b.WriteString(`<figure class="nudge-chart" style="margin:0.5em 0">`)
+	b.WriteString(`<figure class="nudge-chart ` + noMathJax + `" style="margin:0.5em 0">`)
 	b.WriteString(`<img style="max-width:100%;height:auto" alt="`)
 	b.WriteString(title)
 	b.WriteString(`" src="data:image/svg+xml;base64,`)
@@ -158,6 +170,9 @@ func htmlString(ch chart) string {
 	b.WriteString(`</figure>`)
 	return b.String()
 }
+
+// noMathJax holds the class names that MathJax 2 and 3 leave alone.
+const noMathJax = "tex2jax_ignore mathjax_ignore"
 
 // svgFontFamily is how gonum/plot names the theme's font in SVG, and
 // svgFontStack the list a browser should try: Liberation Sans where it is
@@ -281,7 +296,7 @@ func (f *frame) heights(w vg.Length) (header, footer vg.Length) {
 		header += gapText
 	}
 	if len(rows) > 0 {
-		header += vg.Length(len(rows))*(lineHeight(styLegend)+gapText) + gapText
+		header += vg.Length(len(rows))*(lineHeight(styLegend)+gapText) + 2*gapText
 	}
 	footer = margin
 	if len(notes) > 0 {
@@ -332,7 +347,7 @@ func (f *frame) draw(c draw.Canvas) draw.Canvas {
 		y -= lh + gapText
 	}
 	if len(rows) > 0 {
-		y -= gapText
+		y -= 2 * gapText
 	}
 	top := y
 

@@ -73,6 +73,10 @@ func TestNotebookMethods(t *testing.T) {
 			if !strings.Contains(html, "<figcaption") {
 				t.Errorf("HTML has no caption")
 			}
+			// Captions hold dollar amounts: MathJax must leave them alone.
+			if !strings.Contains(html, `class="nudge-chart tex2jax_ignore mathjax_ignore"`) {
+				t.Errorf("HTML figure lacks the MathJax-ignore classes")
+			}
 			if err := c.Validate(); err != nil {
 				t.Errorf("Validate: %v", err)
 			}
@@ -219,4 +223,49 @@ func ExampleSweep_Crossings() {
 	fmt.Println(s.Crossings())
 	// Output:
 	// [0.6666666666666666 3.3333333333333335]
+}
+
+func TestSizesStayFinite(t *testing.T) {
+	// Below a certain size gonum/plot's padding turns coordinates
+	// infinite, and rasterising an infinite path never ends; Options are
+	// raised to MinWidth and MinHeight, and the frame's text always leaves
+	// room for the plot.
+	charts := allCharts()
+	long := sampleTornado()
+	for i := range long.Bars {
+		long.Bars[i].Name = strings.Repeat("long name ", 5)
+		long.Bars[i].Low, long.Bars[i].High = 123456789, 987654321
+	}
+	charts["long names"] = long
+	charts["60 bars"] = benchTornado(60)
+	sp := sampleSpider()
+	for range 3 {
+		sp.Lines = append(sp.Lines, sp.Lines...)
+	}
+	for i := range sp.Lines {
+		sp.Lines[i].Name = strings.Repeat("long line name ", 3)
+	}
+	charts["32 lines"] = sp
+	for name, c := range charts {
+		for _, o := range []*Options{{Width: 10, Height: 10}, {Width: MinWidth}, {Width: 300, Height: 120}, {Width: 1500}} {
+			var buf bytes.Buffer
+			if err := c.WriteSVG(&buf, o); err != nil {
+				t.Fatalf("%s: %v", name, err)
+			}
+			doc := parseSVG(t, buf.Bytes())
+			if doc.width < MinWidth.Points()-0.01 || doc.height < MinHeight.Points()-0.01 {
+				t.Errorf("%s at %+v: %vx%v pt, below the minimum", name, *o, doc.width, doc.height)
+			}
+			for _, p := range doc.paths {
+				if strings.Contains(p.d, "Inf") || strings.Contains(p.d, "NaN") {
+					t.Errorf("%s at %+v: non-finite path %.80s", name, *o, p.d)
+					break
+				}
+			}
+		}
+	}
+	img := renderPNGImage(t, charts["60 bars"], &Options{Width: 1, Height: 1})
+	if img.Bounds().Dx() != int(MinWidth.Dots(DefaultDPI)+0.5) {
+		t.Errorf("tiny PNG is %d px wide", img.Bounds().Dx())
+	}
 }

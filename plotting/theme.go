@@ -123,6 +123,11 @@ const (
 	DefaultWidth = 16 * vg.Centimeter
 	// DefaultDPI is the resolution of PNG output when Options give none.
 	DefaultDPI = 96
+	// MinWidth and MinHeight are the smallest sizes drawn; smaller
+	// Options are raised to them, since below them the text leaves no
+	// room for the data and gonum/plot's layout degenerates.
+	MinWidth  = 8 * vg.Centimeter
+	MinHeight = 6 * vg.Centimeter
 )
 
 func rgb(r, g, b uint8) color.NRGBA { return color.NRGBA{R: r, G: g, B: b, A: 0xFF} }

@@ -459,6 +459,11 @@ func (p *peer) enqueue(segs net.Buffers, size int) error {
 			p.b.typ, p.conn.RemoteAddr(), p.dropping)
 		p.dropping = 0
 	}
+	if p.qbytes == 0 {
+		// An idle peer is not a stalled one: its clock starts now, not
+		// at its last write, however long ago that was.
+		p.lastWrite.Store(time.Now().UnixNano())
+	}
 	p.queue = append(p.queue, item{segs, size})
 	p.qbytes += size
 	for q := int64(p.qbytes); ; {
