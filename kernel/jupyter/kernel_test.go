@@ -16,6 +16,7 @@ import (
 	"runtime"
 	"strings"
 	"sync/atomic"
+	"syscall"
 	"testing"
 	"time"
 
@@ -630,15 +631,17 @@ func TestRunSignals(t *testing.T) {
 	if r, _ := c.execute("result alive", nil); r.str("status") != "ok" {
 		t.Fatalf("after SIGINT: %v", r.content)
 	}
-	id = c.send(c.control, "shutdown_request", map[string]any{"restart": false})
-	c.reply(c.control, id)
+	// SIGTERM stops the kernel the way a shutdown_request does.
+	if err := p.Signal(syscall.SIGTERM); err != nil {
+		t.Fatal(err)
+	}
 	select {
 	case err := <-done:
 		if err != nil {
 			t.Errorf("Run: %v", err)
 		}
 	case <-time.After(5 * time.Second):
-		t.Fatal("Run did not return")
+		t.Fatal("Run did not return after SIGTERM")
 	}
 }
 

@@ -20,13 +20,22 @@ TRIVIAL = {"nudge": "1 + 1", "python3": "1 + 1"}
 
 
 def start_time(name):
+    """Seconds from launching the kernel to the reply of the first kernel_info request.
+
+    The request is sent at once; the client's socket holds it until the kernel
+    has bound its ports, so the time covers process start, binding and the reply.
+    """
     km = KernelManager(kernel_name=name)
     t0 = time.perf_counter()
     km.start_kernel()
     kc = km.client()
     kc.start_channels()
     try:
-        kc.wait_for_ready(timeout=60)
+        msg_id = kc.kernel_info()
+        while True:
+            reply = kc.get_shell_msg(timeout=60)
+            if reply["parent_header"].get("msg_id") == msg_id:
+                break
         dt = time.perf_counter() - t0
     finally:
         kc.stop_channels()

@@ -12,6 +12,7 @@ import (
 	"strings"
 	"sync"
 	"sync/atomic"
+	"syscall"
 	"time"
 
 	"github.com/go-zeromq/zmq4"
@@ -243,7 +244,11 @@ func (b *base) handshake(conn net.Conn) {
 	zc, err := openZMTP(conn, b.typ, b.id)
 	if err != nil {
 		b.rejected.Add(1)
-		b.log.Printf("zsock %s: handshake with %s failed: %v", b.typ, conn.RemoteAddr(), err)
+		// A peer that hangs up during the greeting (a client closing its
+		// channels while it connects) is routine, not worth a log line.
+		if b.ctx.Err() == nil && !errors.Is(err, io.EOF) && !errors.Is(err, io.ErrUnexpectedEOF) && !errors.Is(err, syscall.ECONNRESET) {
+			b.log.Printf("zsock %s: handshake with %s failed: %v", b.typ, conn.RemoteAddr(), err)
+		}
 		conn.Close()
 		return
 	}
@@ -257,7 +262,6 @@ func (b *base) handshake(conn net.Conn) {
 		conn:     conn,
 		r:        bufio.NewReaderSize(conn, 64<<10),
 		identity: []byte(zc.Peer.Meta["Identity"]),
-		peerType: zc.Peer.Meta["Socket-Type"],
 		wake:     make(chan struct{}, 1),
 		done:     make(chan struct{}),
 	}
@@ -403,7 +407,6 @@ type peer struct {
 	conn     net.Conn
 	r        *bufio.Reader
 	identity []byte // from the peer's handshake; may be empty
-	peerType string
 	route    string // routing identity (ROUTER)
 
 	mu       sync.Mutex
