@@ -22,13 +22,13 @@ func TestCellsShareStateAndRollBack(t *testing.T) {
 	if err := in.Execute(ctx, "", "c", s); err != nil {
 		t.Fatal(err)
 	}
-	if len(s.results) != 1 || s.results[0].Text != "c = 6 $" {
+	if len(s.results) != 1 || s.results[0].Text != "c = $6" {
 		t.Fatalf("after the failed cell: %+v", s.results)
 	}
 	// Redefining replaces; reset forgets.
 	s = &captureSink{}
 	in.Execute(ctx, "", "input p = 5 [$/kg]\nc", s)
-	if s.results[0].Text != "c = 10 $" {
+	if s.results[0].Text != "c = $10" {
 		t.Errorf("redefined: %s", s.results[0].Text)
 	}
 	in.Execute(ctx, "", "reset", s)

@@ -2,73 +2,18 @@ package kernel
 
 import (
 	"html"
-	"math"
-	"strconv"
 	"strings"
 	"unicode/utf8"
+
+	"github.com/nudge-dev/nudge/plotting"
 )
 
-// num formats a value for tables: six significant digits, thousands separated,
-// exponent notation only for very large or very small magnitudes.
-func num(v float64) string {
-	switch {
-	case math.IsNaN(v):
-		return "NaN"
-	case math.IsInf(v, 1):
-		return "+Inf"
-	case math.IsInf(v, -1):
-		return "-Inf"
-	case v == 0:
-		return "0"
-	}
-	a := math.Abs(v)
-	if a >= 1e15 || a < 1e-4 {
-		return strconv.FormatFloat(v, 'g', 6, 64)
-	}
-	// Round to six significant digits, then print without an exponent.
-	digits := 6 - int(math.Floor(math.Log10(a))) - 1
-	if digits < 0 {
-		p := math.Pow(10, float64(-digits))
-		v = math.Round(v/p) * p
-		digits = 0
-	}
-	s := strconv.FormatFloat(v, 'f', digits, 64)
-	if strings.Contains(s, ".") {
-		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
-	}
-	return group(s)
-}
+// num formats a value for tables and messages, by the rules of
+// plotting.FormatValue, so tables, charts and values read alike.
+func num(v float64) string { return plotting.FormatValue(v, "") }
 
-// group inserts thousands separators into the integer part of s.
-func group(s string) string {
-	sign := ""
-	if strings.HasPrefix(s, "-") {
-		sign, s = "-", s[1:]
-	}
-	intPart, frac := s, ""
-	if i := strings.IndexByte(s, '.'); i >= 0 {
-		intPart, frac = s[:i], s[i:]
-	}
-	if len(intPart) <= 4 {
-		return sign + intPart + frac
-	}
-	var b strings.Builder
-	for i, c := range intPart {
-		if i > 0 && (len(intPart)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(c)
-	}
-	return sign + b.String() + frac
-}
-
-// withUnit joins a value and its unit: "1,234 $", "12 kg", "0.5".
-func withUnit(v float64, u string) string {
-	if u == "" {
-		return num(v)
-	}
-	return num(v) + " " + u
-}
+// withUnit joins a value and its unit: "$1,234", "12 kg", "4%", "0.5".
+func withUnit(v float64, u string) string { return plotting.FormatValue(v, u) }
 
 // table is a simple aligned table for text/plain and text/html.
 type table struct {

@@ -21,7 +21,7 @@ func TestExecDemoText(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d, stderr %s", code, errs)
 	}
-	for _, want := range []string{"unit_cost = 97.4103 $", "elasticity", "shop_rate", "Caution:"} {
+	for _, want := range []string{"unit_cost = $97.41", "elasticity", "shop_rate", "Caution:"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}

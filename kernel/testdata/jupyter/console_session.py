@@ -26,7 +26,7 @@ proc = subprocess.run(
 )
 out = proc.stdout + proc.stderr
 checks = [
-    ("Out[4]: c = 6 $", "the value of c as execute_result"),
+    ("Out[4]: c = $6", "the value of c as execute_result"),
     ("elasticity", "the drivers table"),
     ("undefined: pp (did you mean p?)", "an error with a suggestion"),
     ("c2 = a * pp\n         ^", "the caret under the error"),

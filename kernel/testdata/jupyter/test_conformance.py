@@ -32,7 +32,7 @@ class NudgeKernelTests(jupyter_kernel_test.KernelTests):
 
     code_execute_result = [
         {"code": "2 + 3", "result": "2 + 3 = 5"},
-        {"code": "input r = 60 [$/h]\ninput t = 90 [min]\nt * r", "result": "t * r = 90 $"},
+        {"code": "input r = 60 [$/h]\ninput t = 90 [min]\nt * r", "result": "t * r = $90"},
     ]
 
     code_display_data = [
