@@ -7,6 +7,7 @@ import (
 	"html"
 	"io"
 	"log"
+	"os"
 	"os/signal"
 	"sort"
 	"strings"
@@ -26,7 +27,36 @@ func Serve(connFile string, logw io.Writer) error {
 	ctx, stop := signal.NotifyContext(context.Background(), syscall.SIGTERM)
 	defer stop()
 	logger := log.New(logw, "nudge: ", log.LstdFlags)
+	if os.Getenv("JPY_PARENT_PID") != "" {
+		ctx = watchParent(ctx, logger, time.Second)
+	}
 	return jupyter.Run(ctx, connFile, NewHandler(New()), logger)
+}
+
+// watchParent returns a context that ends when the process that started the
+// kernel exits. A Jupyter launcher sets JPY_PARENT_PID; a front end that dies,
+// or exits before its shutdown_request leaves its socket, must not leave an
+// orphaned kernel behind.
+func watchParent(ctx context.Context, logger *log.Logger, every time.Duration) context.Context {
+	ctx, cancel := context.WithCancel(ctx)
+	parent := os.Getppid()
+	go func() {
+		t := time.NewTicker(every)
+		defer t.Stop()
+		for {
+			select {
+			case <-ctx.Done():
+				return
+			case <-t.C:
+				if os.Getppid() != parent {
+					logger.Printf("the process that started this kernel (pid %d) has exited; shutting down", parent)
+					cancel()
+					return
+				}
+			}
+		}
+	}()
+	return ctx
 }
 
 // Handler adapts an Interp to the Jupyter protocol layer.

@@ -5,9 +5,14 @@ that runs, and a client that reconnects and still receives iopub.
 Run with /usr/bin/python3 -m unittest from this directory, with the nudge
 kernelspec on JUPYTER_PATH (make jupyter-test does this).
 """
+import os
+import subprocess
+import tempfile
 import time
 import unittest
 
+from jupyter_client.connect import write_connection_file
+from jupyter_client.kernelspec import KernelSpecManager
 from jupyter_client.manager import KernelManager
 
 # A model of about 3,600 tape nodes; its 2-D sweep of a million points runs for
@@ -102,6 +107,30 @@ class LiveKernelTests(unittest.TestCase):
         kc2.stop_channels()
         self.kc = self.km.client()
         self.kc.start_channels()
+
+
+class OrphanTests(unittest.TestCase):
+    def test_kernel_exits_with_its_parent(self):
+        """A kernel whose launcher dies without a shutdown_request exits by itself."""
+        exe = KernelSpecManager().get_kernel_spec("nudge").argv[0]
+        with tempfile.TemporaryDirectory() as d:
+            conn = os.path.join(d, "conn.json")
+            write_connection_file(conn, ip="127.0.0.1", key=b"k")
+            # sh starts the kernel with JPY_PARENT_PID set, as a Jupyter launcher
+            # does, prints its pid and exits: the kernel is orphaned.
+            out = subprocess.run(["sh", "-c", f'JPY_PARENT_PID=$$ "{exe}" kernel -f "{conn}" 2>/dev/null & echo $!; sleep 0.5'],
+                                 capture_output=True, text=True, timeout=30).stdout
+            pid = int(out.split()[0])
+            deadline = time.time() + 10
+            while time.time() < deadline:
+                try:
+                    os.kill(pid, 0)
+                except ProcessLookupError:
+                    break
+                time.sleep(0.1)
+            else:
+                os.kill(pid, 9)
+                self.fail("the orphaned kernel is still running after 10 s")
 
 
 if __name__ == "__main__":

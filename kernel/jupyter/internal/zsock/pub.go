@@ -3,8 +3,23 @@ package zsock
 import (
 	"context"
 	"strings"
+	"sync"
+	"time"
 
 	"github.com/go-zeromq/zmq4"
+)
+
+// Messages published while no subscriber matches them are held for a short
+// while and delivered to the first subscriber whose subscription matches.
+// This closes the slow-joiner gap: a front end connects its SUB socket
+// separately from its request sockets, and a fast kernel can answer the
+// first requests (and publish their busy and idle) before the SUB has
+// subscribed. Such a front end would otherwise wait for an idle that never
+// comes. Only messages nobody received are held, so nobody sees one twice.
+const (
+	holdFor   = 5 * time.Second
+	holdMsgs  = 256
+	holdBytes = 4 << 20
 )
 
 // Pub is a ZeroMQ PUB socket. Send encodes a message once and queues it
@@ -14,9 +29,21 @@ import (
 // queue limits. A subscriber that reads slowly slows the sender down
 // (Options.SoftQueueBytes) rather than losing messages.
 // A subscriber that connects later (or reconnects) receives everything
-// published after its subscription arrives.
+// published after its subscription arrives, and the messages that were
+// published while nobody was subscribed, up to a few seconds old (see holdFor).
 type Pub struct {
 	*base
+
+	holdMu    sync.Mutex // orders Send against the replay to a new subscriber
+	held      []heldMsg
+	heldBytes int
+}
+
+type heldMsg struct {
+	segs  [][]byte
+	size  int
+	topic string
+	at    time.Time
 }
 
 // ListenPub binds a PUB socket to endpoint.
@@ -44,7 +71,7 @@ func (*Pub) detach(*peer) {}
 // first byte is 1 (subscribe) or 0 (unsubscribe) followed by the topic
 // prefix; in ZMTP 3.1 the SUBSCRIBE and CANCEL commands. Anything else a
 // subscriber sends is ignored.
-func (*Pub) message(p *peer, frames [][]byte, isCmd bool) {
+func (s *Pub) message(p *peer, frames [][]byte, isCmd bool) {
 	var sub bool
 	var topic []byte
 	switch {
@@ -68,15 +95,18 @@ func (*Pub) message(p *peer, frames [][]byte, isCmd bool) {
 		return
 	}
 	p.mu.Lock()
-	defer p.mu.Unlock()
 	if p.topics == nil {
+		p.mu.Unlock()
 		return
 	}
 	if sub {
 		if len(p.topics) >= 1024 && p.topics[string(topic)] == 0 {
+			p.mu.Unlock()
 			return // a subscriber has no business with more topics
 		}
 		p.topics[string(topic)]++
+		p.mu.Unlock()
+		s.replay(p, string(topic))
 		return
 	}
 	if p.topics[string(topic)] <= 1 {
@@ -84,6 +114,44 @@ func (*Pub) message(p *peer, frames [][]byte, isCmd bool) {
 	} else {
 		p.topics[string(topic)]--
 	}
+	p.mu.Unlock()
+}
+
+// replay hands a new subscriber the held messages its subscription matches.
+func (s *Pub) replay(p *peer, prefix string) {
+	s.holdMu.Lock()
+	defer s.holdMu.Unlock()
+	keep := s.held[:0]
+	now := time.Now()
+	for _, m := range s.held {
+		switch {
+		case now.Sub(m.at) > holdFor:
+			s.heldBytes -= m.size
+		case strings.HasPrefix(m.topic, prefix):
+			p.enqueue(m.segs, m.size)
+			s.heldBytes -= m.size
+		default:
+			keep = append(keep, m)
+		}
+	}
+	clear(s.held[len(keep):])
+	s.held = keep
+}
+
+// hold keeps a message nobody was subscribed to, within the hold limits.
+// The caller holds holdMu.
+func (s *Pub) hold(segs [][]byte, size int, topic string) {
+	now := time.Now()
+	for len(s.held) > 0 && (len(s.held) >= holdMsgs || s.heldBytes+size > holdBytes || now.Sub(s.held[0].at) > holdFor) {
+		s.heldBytes -= s.held[0].size
+		s.held[0] = heldMsg{}
+		s.held = s.held[1:]
+	}
+	if size > holdBytes {
+		return
+	}
+	s.held = append(s.held, heldMsg{segs: segs, size: size, topic: topic, at: now})
+	s.heldBytes += size
 }
 
 func (p *peer) subscribed(topic string) bool {
@@ -109,9 +177,11 @@ func (s *Pub) Send(frames [][]byte) error {
 	segs, size := Encode(frames)
 	topic := string(frames[0])
 	var slow []*peer
+	s.holdMu.Lock()
 	s.mu.Lock()
 	if s.ctx.Err() != nil {
 		s.mu.Unlock()
+		s.holdMu.Unlock()
 		return ErrClosed
 	}
 	for p := range s.peers {
@@ -121,7 +191,11 @@ func (s *Pub) Send(frames [][]byte) error {
 		}
 	}
 	s.mu.Unlock()
-	// Outside the lock: a slow subscriber holds up this sender a little,
+	if len(slow) == 0 {
+		s.hold(segs, size, topic)
+	}
+	s.holdMu.Unlock()
+	// Outside the locks: a slow subscriber holds up this sender a little,
 	// never the fan-out to the others.
 	for _, p := range slow {
 		p.throttle()

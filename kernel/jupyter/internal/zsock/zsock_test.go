@@ -420,3 +420,41 @@ func TestSlowSubscriberBackpressure(t *testing.T) {
 		t.Errorf("queue reached %d bytes, soft bound %d", st.MaxQueueBytes, soft)
 	}
 }
+
+// TestPubHoldsForLateSubscriber: messages published before anyone subscribed
+// reach the first subscriber (the slow-joiner gap of a fast kernel), in order,
+// and only once: a later subscriber does not see them again.
+func TestPubHoldsForLateSubscriber(t *testing.T) {
+	ctx := context.Background()
+	p, err := ListenPub(ctx, "tcp://127.0.0.1:0", "pub", &Options{Logger: quiet()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close(0)
+	p.Send([][]byte{[]byte("kernel.status"), []byte("busy")})
+	p.Send([][]byte{[]byte("kernel.status"), []byte("idle")})
+
+	first := zmq4.NewSub(ctx, zmq4.WithLogger(quiet()))
+	first.SetOption(zmq4.OptionSubscribe, "")
+	dial(t, first, p.Addr())
+	for _, want := range []string{"busy", "idle"} {
+		if got := recvTimeout(t, first); string(got.Frames[1]) != want {
+			t.Fatalf("first subscriber got %q, want %q", got.Frames[1], want)
+		}
+	}
+
+	second := zmq4.NewSub(ctx, zmq4.WithLogger(quiet()))
+	second.SetOption(zmq4.OptionSubscribe, "")
+	dial(t, second, p.Addr())
+	deadline := time.Now().Add(5 * time.Second)
+	for p.Subscribers("kernel.status") < 2 && time.Now().Before(deadline) {
+		time.Sleep(5 * time.Millisecond)
+	}
+	p.Send([][]byte{[]byte("kernel.status"), []byte("after")})
+	if got := recvTimeout(t, second); string(got.Frames[1]) != "after" {
+		t.Errorf("second subscriber got %q first, want only what came after it", got.Frames[1])
+	}
+	if got := recvTimeout(t, first); string(got.Frames[1]) != "after" {
+		t.Errorf("first subscriber got %q", got.Frames[1])
+	}
+}
