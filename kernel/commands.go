@@ -89,9 +89,7 @@ func (in *Interp) undefinedOutput(f *syntax.File, id *syntax.Ident, prog *sens.P
 
 // warnings sends the compile warnings and the step-function warning to stderr.
 func (in *Interp) warnings(prog *sens.Program, pr *sens.Problem, sink Sink) {
-	for _, w := range prog.Warnings {
-		warn(sink, "%s", w.Error())
-	}
+	in.compileWarnings(prog, sink)
 	if len(pr.Steps) > 0 {
 		at := make([]string, 0, len(pr.Steps))
 		seen := map[string]bool{}

@@ -47,7 +47,8 @@ type Interp struct {
 	Model *sens.Model
 	Opts  Options
 
-	cells int
+	cells  int
+	warned *sens.Program // the last program whose compile warnings were shown
 }
 
 // New returns an interpreter with an empty model.
@@ -152,9 +153,7 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		if err != nil {
 			return asCellError(err)
 		}
-		for _, w := range prog.Warnings {
-			warn(sink, "%s", w.Error())
-		}
+		in.compileWarnings(prog, sink)
 	}
 	return nil
 }
@@ -179,4 +178,15 @@ func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last 
 
 func warn(sink Sink, format string, args ...any) {
 	sink.Stream("stderr", "warning: "+fmt.Sprintf(format, args...)+"\n")
+}
+
+// compileWarnings shows a program's compile warnings, once per compilation.
+func (in *Interp) compileWarnings(prog *sens.Program, sink Sink) {
+	if prog == in.warned {
+		return
+	}
+	in.warned = prog
+	for _, w := range prog.Warnings {
+		warn(sink, "%s", w.Error())
+	}
 }

@@ -103,3 +103,15 @@ func TestImportDirection(t *testing.T) {
 		}
 	}
 }
+
+func TestCompileWarningShownOnce(t *testing.T) {
+	s := &captureSink{}
+	src := "input r = 30 ~ normal(60, 5)\ny = r * 2\ndrivers y\ndrivers y"
+	if err := New().Execute(context.Background(), "", src, s); err != nil {
+		t.Fatal(err)
+	}
+	// normal(60, 5) puts 30 six standard deviations below the mean.
+	if n := strings.Count(s.stderr.String(), "far tail"); n != 1 {
+		t.Errorf("far-tail warning shown %d times:\n%s", n, s.stderr.String())
+	}
+}

@@ -107,9 +107,6 @@ func (p *Program) Baseline() []float64 {
 // TapeLen returns the number of nodes on the program's tape.
 func (p *Program) TapeLen() int { return p.tape.Len() }
 
-// InputUnit returns the parsed unit of an input.
-func (in *Input) unitOf() unit.Unit { return in.u }
-
 // Index returns the input's position in Program.Inputs.
 func (in *Input) Index() int { return in.index }
 
@@ -301,8 +298,13 @@ func (c *compiler) compileInput(d *Decl) {
 	}
 	if in.Dist != nil {
 		lo, hi := in.Dist.Support()
-		if ok && (in.Value < lo || in.Value > hi) {
+		switch p := in.Dist.CDF(in.Value); {
+		case !ok:
+		case in.Value < lo || in.Value > hi:
 			c.errorf(f, s.Dist.Pos(), "the value %s of %s lies outside its distribution's support [%s, %s]", fmtG(in.Value), d.Name, fmtG(lo), fmtG(hi))
+		case p < 0.01 || p > 0.99:
+			// Legal, but most often a slip: a baseline far out in the tail.
+			c.warnf(f, s.Dist.Pos(), "the value %s of %s lies in the far tail of its distribution (percentile %.2g): check the value or the parameters", fmtG(in.Value), d.Name, 100*p)
 		}
 	}
 }

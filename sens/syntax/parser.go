@@ -194,15 +194,6 @@ func (p *parser) errorExpected(what string) {
 	p.error(p.pos, "expected "+what+", found "+p.describe())
 }
 
-func (p *parser) expect(tok Token) Pos {
-	pos := p.pos
-	if p.tok != tok {
-		p.errorExpected("'" + tok.String() + "'")
-	}
-	p.next()
-	return pos
-}
-
 func (p *parser) atEnd() bool { return p.tok == NEWLINE || p.tok == EOF }
 
 // ---- Statements
