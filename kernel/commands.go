@@ -42,6 +42,29 @@ func init() {
 		return nil
 	}
 	commands["drivers"] = (*Interp).drivers
+	commands["charts"] = (*Interp).charts
+}
+
+// charts sets how the rest of the session draws charts: "svg" (the default),
+// "png" (image/png beside the SVG, for front ends and reports that want a
+// bitmap) or "text" (Unicode charts only).
+func (in *Interp) charts(_ context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
+	switch c.Name.Name {
+	case "svg":
+		in.Opts.PNG, in.Opts.NoCharts = false, false
+	case "png":
+		in.Opts.PNG, in.Opts.NoCharts = true, false
+	case "text":
+		in.Opts.PNG, in.Opts.NoCharts = false, true
+	default:
+		msg := "charts takes svg, png or text"
+		if s := syntax.Suggest(c.Name.Name, []string{"svg", "png", "text"}); s != "" {
+			msg += " (did you mean " + s + "?)"
+		}
+		return posErr(f, c.Name.Pos(), "%s", msg)
+	}
+	sink.Stream("stdout", "charts: "+c.Name.Name+"\n")
+	return nil
 }
 
 func posErr(f *syntax.File, pos syntax.Pos, format string, args ...any) error {

@@ -115,3 +115,37 @@ func TestCompileWarningShownOnce(t *testing.T) {
 		t.Errorf("far-tail warning shown %d times:\n%s", n, s.stderr.String())
 	}
 }
+
+func TestChartsSetting(t *testing.T) {
+	in := New()
+	ctx := context.Background()
+	model := "input a = 2 (1..3)\ninput b = 3\ny = a * b\n"
+	for _, tc := range []struct {
+		setting      string
+		svg, png     bool
+		errSubstring string
+	}{
+		{"svg", true, false, ""},
+		{"png", true, true, ""},
+		{"text", false, false, ""},
+		{"pgn", false, false, "did you mean png?"},
+	} {
+		s := &captureSink{}
+		err := in.Execute(ctx, "", model+"charts "+tc.setting+"\ntornado y", s)
+		if tc.errSubstring != "" {
+			if err == nil || !strings.Contains(err.Error(), tc.errSubstring) {
+				t.Errorf("charts %s: error %v", tc.setting, err)
+			}
+			continue
+		}
+		if err != nil {
+			t.Fatalf("charts %s: %v", tc.setting, err)
+		}
+		b := s.results[len(s.results)-1].Bundle()
+		_, svg := b["image/svg+xml"]
+		_, png := b["image/png"]
+		if svg != tc.svg || png != tc.png {
+			t.Errorf("charts %s: svg %v png %v", tc.setting, svg, png)
+		}
+	}
+}

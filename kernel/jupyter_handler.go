@@ -366,4 +366,5 @@ var CommandDocs = map[string]string{
 	"compare":   "the output across scenarios, against the baseline. Example: compare total across base, lean",
 	"print":     "writes a line of text. Example: print \"Plant A\"",
 	"reset":     "forgets every input, formula and scenario. Example: reset",
+	"charts":    "how charts are drawn from now on: svg (the default), png (a bitmap beside the SVG) or text. Example: charts png",
 }

@@ -182,11 +182,12 @@ type (
 	//	simulate|sobol|morris|screen OUT [key=value...]
 	//	print "text"
 	//	reset
+	//	charts svg|png|text
 	CommandStmt struct {
 		Verb    string
 		VerbPos Pos
 		Output  Expr       // the analysed output (an identifier, or an expression for drivers)
-		Name    *Ident     // scenario name
+		Name    *Ident     // scenario name; charts' setting
 		Axes    []*Axis    // sweep axes; breakeven's single input (without a range)
 		Target  Expr       // breakeven target
 		Percent *RangeSpec // spider's percentage span

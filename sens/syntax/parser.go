@@ -424,6 +424,8 @@ func (p *parser) parseCommand() *CommandStmt {
 	p.next()
 	switch c.Verb {
 	case "reset":
+	case "charts":
+		c.Name = p.parseIdent()
 	case "print":
 		if p.tok != STRING {
 			p.errorExpected(`text in double quotes: print "text"`)

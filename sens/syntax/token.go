@@ -232,7 +232,7 @@ func (t Token) IsComparison() bool { return t >= EQL && t <= GEQ }
 // Verbs are the words that start a command when the next token is not '='.
 var Verbs = []string{
 	"drivers", "tornado", "spider", "sweep", "breakeven", "scenario", "compare",
-	"simulate", "sobol", "morris", "screen", "print", "reset",
+	"simulate", "sobol", "morris", "screen", "print", "reset", "charts",
 }
 
 // IsVerb reports whether name is a command verb.
