@@ -163,7 +163,7 @@ func (in *Interp) tornado(ctx context.Context, f *syntax.File, c *syntax.Command
 	}
 	if len(t.DefaultRanges) > 0 {
 		warn(sink, "tornado %s: %s %s no range or distribution: the default ±%g%% of the value was used (marked *)",
-			t.Output, strings.Join(t.DefaultRanges, ", "), map[bool]string{true: "has", false: "have"}[len(t.DefaultRanges) == 1], 100*sens.DefaultSpan)
+			t.Output, nameList(t.DefaultRanges, 8), map[bool]string{true: "has", false: "have"}[len(t.DefaultRanges) == 1], 100*sens.DefaultSpan)
 	}
 	r := in.tornadoResult(t, pr)
 	sink.Result(r, false)
@@ -774,4 +774,13 @@ func compareResult(r *sens.CompareResult) *Result {
 
 func htmlEscape(s string) string {
 	return strings.NewReplacer("&", "&amp;", "<", "&lt;", ">", "&gt;", `"`, "&quot;").Replace(s)
+}
+
+// nameList joins names for a message, the first max of them and a count of
+// the rest: "a, b, c and 4,997 others".
+func nameList(names []string, max int) string {
+	if len(names) <= max {
+		return strings.Join(names, ", ")
+	}
+	return strings.Join(names[:max], ", ") + " and " + num(float64(len(names)-max)) + " others"
 }

@@ -3,6 +3,7 @@ package kernel
 import (
 	"context"
 	"fmt"
+	"math"
 	"html"
 	"strings"
 
@@ -169,8 +170,16 @@ func valueResult(v ValueResult) *Result {
 
 // drivers runs "drivers OUT".
 func (in *Interp) drivers(_ context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-	if err := noOptions(f, c); err != nil {
+	if err := noOptions(f, c, "top"); err != nil {
 		return err
+	}
+	top := 0
+	if o := c.Option("top"); o != nil {
+		n, err := intOption(f, o, 1)
+		if err != nil {
+			return err
+		}
+		top = n
 	}
 	_, pr, err := in.problem(f, c.Output, sink)
 	if err != nil {
@@ -179,6 +188,9 @@ func (in *Interp) drivers(_ context.Context, f *syntax.File, c *syntax.CommandSt
 	d, err := sens.ComputeDrivers(pr)
 	if err != nil {
 		return err
+	}
+	if top > 0 && top < len(d.Inputs) {
+		d.Inputs = d.Inputs[:top]
 	}
 	sink.Result(driversResult(d, in.Opts.Width), false)
 	return nil
@@ -207,7 +219,11 @@ func driversResult(d *sens.Drivers, barWidth int) *Result {
 	if bw < 8 {
 		bw = 8
 	}
-	for _, x := range d.Inputs {
+	shown := d.Inputs
+	if len(shown) > maxTableRows {
+		shown = shown[:maxTableRows]
+	}
+	for _, x := range shown {
 		t.add(x.Name, withUnit(x.Value, x.Unit), withUnit(x.Partial, x.PartialUnit), fmt.Sprintf("%+.4f", x.Elasticity), bar(x.Share, bw))
 	}
 	head := fmt.Sprintf("%s = %s at the baseline; inputs ranked by |elasticity| (%% change of %s per 1%% change of the input)\n",
@@ -217,6 +233,12 @@ func driversResult(d *sens.Drivers, barWidth int) *Result {
 	th.head = th.head[:4]
 	for i := range th.rows {
 		th.rows[i] = th.rows[i][:4]
+	}
+	if rest := len(d.Inputs) - len(shown); rest > 0 {
+		more := fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %.4f (all of them are in the JSON; top=N keeps N)",
+			num(float64(rest)), math.Abs(d.Inputs[len(shown)].Elasticity))
+		text += more + "\n"
+		th.rows = append(th.rows, []string{more, "", "", ""})
 	}
 	return &Result{Kind: "drivers", Data: d, Text: text, HTML: th.html(strings.TrimSpace(head)), Caution: true}
 }

@@ -2,9 +2,12 @@ package kernel
 
 import (
 	"context"
+	"fmt"
 	"os/exec"
 	"strings"
 	"testing"
+
+	"github.com/nudge-dev/nudge/sens"
 )
 
 func TestCellsShareStateAndRollBack(t *testing.T) {
@@ -147,5 +150,33 @@ func TestChartsSetting(t *testing.T) {
 		if svg != tc.svg || png != tc.png {
 			t.Errorf("charts %s: svg %v png %v", tc.setting, svg, png)
 		}
+	}
+}
+
+func TestDriversTopAndLongTables(t *testing.T) {
+	var b strings.Builder
+	for i := 0; i < 40; i++ {
+		fmt.Fprintf(&b, "input x%d = %d\n", i, i+1)
+	}
+	b.WriteString("y = x0")
+	for i := 1; i < 40; i++ {
+		fmt.Fprintf(&b, " + x%d", i)
+	}
+	b.WriteString("\ndrivers y\ndrivers y top=3\n")
+	s := &captureSink{}
+	if err := New().Execute(context.Background(), "", b.String(), s); err != nil {
+		t.Fatal(err)
+	}
+	full, top := s.results[0], s.results[1]
+	if n := len(full.Data.(*sens.Drivers).Inputs); n != 40 {
+		t.Errorf("JSON of drivers y holds %d inputs, want all 40", n)
+	}
+	if !strings.Contains(full.Text, "… and 10 more inputs") || !strings.Contains(full.HTML, "… and 10 more inputs") {
+		t.Errorf("long table not summarised:\n%s", full.Text)
+	}
+	d := top.Data.(*sens.Drivers)
+	// y = sum of x_i with x_i = i+1: elasticity of x_i is (i+1)/820, so x39, x38, x37 lead.
+	if len(d.Inputs) != 3 || d.Inputs[0].Name != "x39" || d.Inputs[2].Name != "x37" {
+		t.Errorf("top=3: %+v", d.Inputs)
 	}
 }

@@ -357,7 +357,7 @@ func (h *Handler) describe(word string, detail int) string {
 
 // CommandDocs is a one-line description of each command with an example.
 var CommandDocs = map[string]string{
-	"drivers":   "value, partial derivatives and elasticities of an output, ranked. Example: drivers total",
+	"drivers":   "value, partial derivatives and elasticities of an output, ranked. Example: drivers total top=10",
 	"tornado":   "the output at the low and high end of each input's range, sorted by swing. Example: tornado total top=8",
 	"spider":    "the output against the percentage change of each input. Example: spider total (±30%)",
 	"sweep":     "the output over a span of one or two inputs. Example: sweep total over rate 40..80 and hours 1..2",

@@ -5,6 +5,7 @@ import (
 	"math"
 	"sort"
 	"strings"
+	"sync"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
 	"github.com/nudge-dev/nudge/sens/unit"
@@ -66,11 +67,38 @@ type Formula struct {
 	Declared bool   // the unit was declared
 	Text     string // the formula as written
 	Pos      syntax.Position
-	Deps     []int // indices of the inputs it depends on, ascending
 
-	u     unit.Unit
-	out   int // tape output index
-	steps []int32
+	u    unit.Unit
+	out  int // tape output index
+	lazy *formulaLazy
+}
+
+// formulaLazy holds what is worked out from the tape only when asked for: a
+// program of many formulas pays for the ones that are analysed.
+type formulaLazy struct {
+	once  sync.Once
+	deps  []int   // inputs the formula depends on, ascending
+	steps []int32 // positions of the step operations on its path
+}
+
+// Deps returns the indices (into Inputs) of the inputs formula f depends on,
+// ascending. It is safe for concurrent use.
+func (p *Program) Deps(f *Formula) []int {
+	p.trace(f)
+	return f.lazy.deps
+}
+
+// steps returns the positions of the step operations on f's path.
+func (p *Program) steps(f *Formula) []int32 {
+	p.trace(f)
+	return f.lazy.steps
+}
+
+func (p *Program) trace(f *Formula) {
+	f.lazy.once.Do(func() {
+		f.lazy.deps = p.tape.InputDeps(f.out)
+		f.lazy.steps = p.tape.StepOps(f.out)
+	})
 }
 
 // Lookup returns the input or formula called name.
@@ -149,7 +177,6 @@ type compiler struct {
 	state   map[string]state
 	vals    map[string]val
 	stack   []string
-	deps    map[string]map[int]bool // formula -> inputs used
 	curFile *syntax.File
 	cur     string // formula being compiled
 	what    string // the constant being evaluated, for messages
@@ -159,7 +186,6 @@ func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
 	c := &compiler{
 		m: m, extra: extra, b: NewBuilder(),
 		decls: m.decls, state: map[string]state{}, vals: map[string]val{},
-		deps: map[string]map[int]bool{},
 		prog: &Program{index: map[string]int{}},
 	}
 	return c.run()
@@ -216,14 +242,6 @@ func (c *compiler) run() (*Program, error) {
 		outs[i] = c.vals[f.Name].slot
 	}
 	p.tape = c.b.Tape(outs...)
-	for _, f := range p.Formulas {
-		d := c.deps[f.Name]
-		for i := range d {
-			f.Deps = append(f.Deps, i)
-		}
-		sort.Ints(f.Deps)
-		f.steps = p.tape.StepOps(f.out)
-	}
 	c.warns.Sort()
 	p.Warnings = c.warns
 	return p, nil
@@ -420,10 +438,9 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 	c.stack = append(c.stack, name)
 	saveFile, saveCur := c.curFile, c.cur
 	c.curFile, c.cur = f, name
-	c.deps[name] = map[int]bool{}
 
 	v := c.expr(f, s.Value, false)
-	fm := &Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos())}
+	fm := &Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos()), lazy: &formulaLazy{}}
 	switch {
 	case v.bad:
 	case v.boolean:
@@ -554,13 +571,9 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 		return val{bad: true}
 	}
 	if d.Input != nil {
-		c.deps[c.cur][c.prog.index[x.Name]] = true
 		return c.vals[x.Name]
 	}
 	v := c.formula(x.Name, d.File, d.Formula, x)
-	for i := range c.deps[x.Name] {
-		c.deps[c.cur][i] = true
-	}
 	if v.bad {
 		return val{bad: true}
 	}
@@ -886,5 +899,5 @@ func Constant(f *syntax.File, x syntax.Expr, want, what string) (float64, error)
 // newScratchCompiler returns a compiler with no model, for constants.
 func newScratchCompiler() *compiler {
 	return &compiler{m: NewModel(), b: NewBuilder(), prog: &Program{index: map[string]int{}},
-		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}, deps: map[string]map[int]bool{}}
+		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}}
 }

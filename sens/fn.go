@@ -114,7 +114,7 @@ func (p *Program) Problem(name string) (*Problem, error) {
 		return nil, err
 	}
 	pr := &Problem{Output: name, Unit: fn.f.Unit, F: fn, Inputs: p.Inputs}
-	if deps := fn.f.Deps; len(deps) < len(p.Inputs) {
+	if deps := p.Deps(fn.f); len(deps) < len(p.Inputs) {
 		// Analyse only the inputs the output depends on; the others stay at
 		// their baselines.
 		pr.index = deps
@@ -124,7 +124,7 @@ func (p *Program) Problem(name string) (*Problem, error) {
 		}
 		pr.F = &subFn{fn: fn, index: deps, full: p.Baseline()}
 	}
-	for _, s := range fn.f.steps {
+	for _, s := range p.steps(fn.f) {
 		e := p.pos[s]
 		pr.Steps = append(pr.Steps, e.file.Position(e.pos))
 	}
@@ -229,7 +229,7 @@ func (p *Program) evalError(err error, x []float64) error {
 		e.Source = pe.file.Line(e.Pos.Line)
 		e.Formula = pe.formula
 		if _, f := p.Lookup(pe.formula); f != nil && x != nil {
-			for _, i := range f.Deps {
+			for _, i := range p.Deps(f) {
 				in := p.Inputs[i]
 				s := in.Name + " = " + fmtG(x[i])
 				if in.Unit != "" {
