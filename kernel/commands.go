@@ -3,8 +3,8 @@ package kernel
 import (
 	"context"
 	"fmt"
-	"math"
 	"html"
+	"math"
 	"strings"
 
 	"github.com/nudge-dev/nudge/sens"
