@@ -4,7 +4,7 @@ PY    ?= /usr/bin/python3
 BIN   := $(CURDIR)/out/nudge
 JP    := $(CURDIR)/out/jupyter
 
-.PHONY: demo build test gotest race fuzz jupyter-test notebooks-test bench bench-kernels clean
+.PHONY: demo build deps test gotest race fuzz jupyter-test notebooks-test bench bench-kernels clean
 
 demo:
 	go run ./kernel/cmd/nudge exec notebooks/housing.nudge
@@ -13,9 +13,13 @@ build:
 	go build -o $(BIN) ./kernel/cmd/nudge
 
 # Every test: Go tests, the race detector on the concurrent packages, a short
-# fuzz run of each parser, the Jupyter conformance suite and every notebook
-# executed through nbconvert.
-test: gotest race fuzz jupyter-test notebooks-test
+# fuzz run of each parser and of the compiler, the Jupyter conformance suite and every notebook
+# executed through nbconvert. The Debian packages they need are installed
+# first when missing (as root; otherwise the command to run is printed).
+test: deps gotest race fuzz jupyter-test notebooks-test
+
+deps:
+	bash .ci/deps
 
 gotest:
 	go vet ./...
@@ -27,6 +31,7 @@ race:
 fuzz:
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=15s ./sens/syntax/
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=10s ./sens/unit/
+	go test -run='^$$' -fuzz='^FuzzCompile$$' -fuzztime=15s ./sens/
 
 $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)
