@@ -5,6 +5,7 @@ that runs, and a client that reconnects and still receives iopub.
 Run with /usr/bin/python3 -m unittest from this directory, with the nudge
 kernelspec on JUPYTER_PATH (make jupyter-test does this).
 """
+import json
 import os
 import subprocess
 import tempfile
@@ -94,6 +95,27 @@ class LiveKernelTests(unittest.TestCase):
         self.assertEqual(reply["content"]["status"], "ok")
         results = [m for m in msgs if m["msg_type"] == "execute_result"]
         self.assertEqual(results[0]["content"]["data"]["text/plain"], "f0 = 2")
+
+    def test_same_json_as_exec(self):
+        """One engine, several fronts: a cell in the kernel and nudge exec --json
+        on the same model give the same JSON objects."""
+        exe = KernelSpecManager().get_kernel_spec("nudge").argv[0]
+        model = os.path.join(os.path.dirname(__file__), "..", "..", "..", "notebooks", "housing.nudge")
+        with open(model) as fh:
+            src = fh.read()
+        src += "\ntornado unit_cost\nbreakeven unit_cost = 105 over shop_rate\n" \
+            "scenario lean: cycle_time = 31\ncompare unit_cost across base, lean\n"
+        out = subprocess.run([exe, "exec", "--json", "-"], input=src, capture_output=True, text=True, timeout=60)
+        self.assertEqual(out.returncode, 0, out.stderr)
+        from_exec = [json.loads(line) for line in out.stdout.splitlines()]
+        from_exec = [o for o in from_exec if o["kind"] != "print"]
+        reply, msgs = self.run_cell(src)
+        self.assertEqual(reply["content"]["status"], "ok")
+        from_kernel = [m["content"]["data"]["application/json"] for m in msgs
+                       if m["msg_type"] in ("display_data", "execute_result")
+                       and "application/json" in m["content"]["data"]]
+        self.assertEqual([o["kind"] for o in from_kernel], [o["kind"] for o in from_exec])
+        self.assertEqual(from_kernel, from_exec)
 
     def test_reconnecting_client_gets_iopub(self):
         self.kc.stop_channels()
