@@ -26,7 +26,7 @@ gotest:
 	go test -count=1 ./...
 
 race:
-	go test -count=1 -race ./kernel/... ./sens/
+	go test -count=1 -race ./kernel/... ./sens/... ./plotting/
 
 fuzz:
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=15s ./sens/syntax/
