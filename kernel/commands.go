@@ -146,7 +146,15 @@ func (in *Interp) value(f *syntax.File, s *syntax.ExprStmt) (*Result, error) {
 			}
 		}
 	} else {
-		prog, err = in.Model.CompileExpr(name, f, s.X, s.Unit)
+		// The expression becomes a formula of its own; with a unit to show it
+		// in, its name carries the unit, so that it never clashes with a
+		// formula of the model ("price [k$]" beside price).
+		internal := name
+		if s.Unit != nil {
+			internal += " [" + s.Unit.Text + "]"
+		}
+		prog, err = in.Model.CompileExpr(internal, f, s.X, s.Unit)
+		name = internal
 	}
 	if err != nil {
 		return nil, err
@@ -155,6 +163,7 @@ func (in *Interp) value(f *syntax.File, s *syntax.ExprStmt) (*Result, error) {
 	if err != nil {
 		return nil, posErr(f, s.X.Pos(), "%v", err)
 	}
+	name = syntax.String(s.X)
 	y, err := fn.Eval(prog.Baseline())
 	if err != nil {
 		return nil, err

@@ -180,3 +180,15 @@ func TestDriversTopAndLongTables(t *testing.T) {
 		t.Errorf("top=3: %+v", d.Inputs)
 	}
 }
+
+func TestValueInAnotherUnit(t *testing.T) {
+	s := &captureSink{}
+	src := "input q = 200 [L]\ninput p = 3 [$/L]\nprice = q * p\nprice [k$]\nq [m3]\n"
+	if err := New().Execute(context.Background(), "", src, s); err != nil {
+		t.Fatal(err)
+	}
+	// 600 $ is 0.6 k$; 200 L is 0.2 m3 (SI Brochure: 1 L = 1 dm3).
+	if s.results[0].Text != "price = 0.6 k$" || s.results[1].Text != "q = 0.2 m3" {
+		t.Errorf("got %q and %q", s.results[0].Text, s.results[1].Text)
+	}
+}

@@ -687,6 +687,9 @@ func (p *parser) parseArgs() (lp Pos, args []Expr, rp Pos) {
 			}
 			continue
 		}
+		if p.tok == ASSIGN {
+			p.error(p.pos, "unexpected '=': use == to compare")
+		}
 		if p.tok != RPAREN {
 			p.errorExpected("',' or ')'")
 		}
