@@ -17,7 +17,7 @@ import (
 )
 
 // Caution is the one-line caution shown with analysis results.
-const Caution = "Caution: results describe the model, not the world: they hold only within the stated ranges and distributions, one-at-a-time charts miss interactions, and a cost model is not a quote."
+const Caution = "Caution: " + sens.Caution
 
 // Sink receives what a cell produces, in order.
 type Sink interface {
