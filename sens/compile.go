@@ -655,13 +655,16 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 				return val{bad: true}
 			}
 		}
-		// Scaling by a plain number keeps the other side's unit.
+		// Scaling by a plain number keeps the other side's unit; a product or
+		// quotient of two quantities is shown in the units they came in.
 		var h *unit.Unit
 		switch {
 		case b.dim.IsDimensionless() && b.hint == nil:
 			h = a.hint
 		case a.dim.IsDimensionless() && a.hint == nil && op == syntax.MUL:
 			h = b.hint
+		case a.hint != nil && b.hint != nil:
+			h = combinedUnit(a.hint, b.hint, op == syntax.MUL)
 		}
 		return val{slot: c.b.Binary(o, a.slot, b.slot), dim: d, hint: h, konst: a.konst && b.konst, c: cv}
 	case syntax.POW:
@@ -900,4 +903,30 @@ func Constant(f *syntax.File, x syntax.Expr, want, what string) (float64, error)
 func newScratchCompiler() *compiler {
 	return &compiler{m: NewModel(), b: NewBuilder(), prog: &Program{index: map[string]int{}},
 		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}}
+}
+
+// combinedUnit picks the unit to show a product (or quotient) of quantities
+// in, given the units they were written in: the simplest unit of the result's
+// dimension when it has the same scale (h times $/h is $), else a single named
+// unit of that scale (kW times h is kWh), else the units composed when that
+// reads simply (h times h is h^2, km per h is km/h), else nil (the simplest
+// unit, whatever its scale).
+func combinedUnit(a, b *unit.Unit, mul bool) *unit.Unit {
+	q := a.Div(*b)
+	if mul {
+		q = a.Mul(*b)
+	}
+	same := func(u unit.Unit) bool { return math.Abs(u.Factor-q.Factor) <= 1e-12*math.Abs(q.Factor) }
+	if s := unit.Simplest(q.Dim); same(s) {
+		return &s
+	}
+	if name, ok := namedUnit(q); ok {
+		if u, err := unit.Parse(name); err == nil {
+			return &u
+		}
+	}
+	if t := q.String(); !strings.Contains(t, "*") && strings.Count(t, "/") <= 1 {
+		return &q
+	}
+	return nil
 }

@@ -239,3 +239,37 @@ func TestDomainErrorNamesFormulaAndInputs(t *testing.T) {
 		t.Errorf("error %q at %v", ee.Error(), ee.Pos)
 	}
 }
+
+// TestDisplayUnits: a formula without a declared unit speaks the units it was
+// written in (values checked by hand; 1 kWh = 3.6 MJ, 1 h = 60 min).
+func TestDisplayUnits(t *testing.T) {
+	p := compileSrc(t, `
+input x = 3 [h]
+input p = 2 [kW]
+input d = 120 [km]
+input r = 60 [$/h]
+input t = 90 [min]
+input m = 12 [kg]
+sq = (x - 2 [h]) * (x - 5 [h])
+e  = p * x
+v  = d / x
+c  = t * r
+k  = m * 2
+f  = m * x * 1 [m/s^2] / (1 [h])
+`)
+	for _, tc := range []struct {
+		name, unit string
+		value      float64
+	}{
+		{"sq", "h^2", -2}, {"e", "kWh", 6}, {"v", "km/h", 40}, {"c", "$", 90}, {"k", "kg", 24}, {"f", "N", 36},
+	} {
+		fn, err := p.Fn(tc.name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		y, err := fn.Eval(p.Baseline())
+		if err != nil || fn.Formula().Unit != tc.unit || !scalar.EqualWithinAbsOrRel(y, tc.value, 1e-12, 1e-12) {
+			t.Errorf("%s = %v %s (%v), want %v %s", tc.name, y, fn.Formula().Unit, err, tc.value, tc.unit)
+		}
+	}
+}
