@@ -449,7 +449,11 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 	case s.Unit != nil:
 		u, ok := c.parseUnit(f, s.Unit)
 		if ok && !u.Dim.Equal(v.dim) {
-			c.errorf(f, s.Unit.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)", name, s.Unit.Text, dimName(u.Dim), unitText(c.display(v)), dimName(v.dim))
+			hint := ""
+			if n := lastNumber(s.Value); n != nil {
+				hint = fmt.Sprintf(" (the last bracket of a line declares the formula's unit; to give %s a unit, write (%s [%s]))", n.Lit, n.Lit, s.Unit.Text)
+			}
+			c.errorf(f, s.Unit.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)%s", name, s.Unit.Text, dimName(u.Dim), unitText(c.display(v)), dimName(v.dim), hint)
 			v.bad = true
 		}
 		fm.u, fm.Unit, fm.Declared = u, s.Unit.Text, true
@@ -929,4 +933,24 @@ func combinedUnit(a, b *unit.Unit, mul bool) *unit.Unit {
 		return &q
 	}
 	return nil
+}
+
+// lastNumber returns the number without a unit that ends x outside any
+// parentheses, or nil: the number a trailing [unit] would have belonged to.
+func lastNumber(x syntax.Expr) *syntax.NumberLit {
+	for {
+		switch e := x.(type) {
+		case *syntax.BinaryExpr:
+			x = e.Y
+		case *syntax.UnaryExpr:
+			x = e.X
+		case *syntax.NumberLit:
+			if e.Unit == nil {
+				return e
+			}
+			return nil
+		default:
+			return nil
+		}
+	}
 }
