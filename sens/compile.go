@@ -180,6 +180,10 @@ type compiler struct {
 	curFile *syntax.File
 	cur     string // formula being compiled
 	what    string // the constant being evaluated, for messages
+
+	// numberUnit gives a number the unit of its line's last bracket, while a
+	// formula is read the second way (see formula).
+	numberUnit map[*syntax.NumberLit]*syntax.UnitLit
 }
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
@@ -441,22 +445,37 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 
 	v := c.expr(f, s.Value, false)
 	fm := &Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos()), lazy: &formulaLazy{}}
+	declared := s.Unit
+	if declared != nil && !v.bad && !v.boolean {
+		// The last bracket of a line is the formula's declared unit; but when
+		// that reading fails the dimension check while reading it as the unit
+		// of the number before it passes (x = m * 2 [kg], f = m * a / 1 [h]),
+		// the number's reading is the one that makes sense.
+		if u, err := unit.Parse(declared.Text); err == nil && !u.Dim.Equal(v.dim) {
+			if n := lastNumber(s.Value); n != nil {
+				c.numberUnit = map[*syntax.NumberLit]*syntax.UnitLit{n: declared}
+				nerrs := len(c.errs)
+				if w := c.expr(f, s.Value, false); !w.bad && !w.boolean {
+					v, declared = w, nil
+					fm.Text += " [" + s.Unit.Text + "]"
+				}
+				c.errs = c.errs[:nerrs]
+				c.numberUnit = nil
+			}
+		}
+	}
 	switch {
 	case v.bad:
 	case v.boolean:
 		c.errorf(f, s.Value.Pos(), "%s is a condition (true or false), not a number: use it inside if(...)", name)
 		v.bad = true
-	case s.Unit != nil:
-		u, ok := c.parseUnit(f, s.Unit)
+	case declared != nil:
+		u, ok := c.parseUnit(f, declared)
 		if ok && !u.Dim.Equal(v.dim) {
-			hint := ""
-			if n := lastNumber(s.Value); n != nil {
-				hint = fmt.Sprintf(" (the last bracket of a line declares the formula's unit; to give %s a unit, write (%s [%s]))", n.Lit, n.Lit, s.Unit.Text)
-			}
-			c.errorf(f, s.Unit.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)%s", name, s.Unit.Text, dimName(u.Dim), unitText(c.display(v)), dimName(v.dim), hint)
+			c.errorf(f, declared.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)", name, declared.Text, dimName(u.Dim), orPlain(unitText(c.display(v))), dimName(v.dim))
 			v.bad = true
 		}
-		fm.u, fm.Unit, fm.Declared = u, s.Unit.Text, true
+		fm.u, fm.Unit, fm.Declared = u, declared.Text, true
 	default:
 		fm.u = c.display(v)
 		fm.Unit = unitText(fm.u)
@@ -509,8 +528,12 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 		v := x.Value
 		d := unit.Dim{}
 		var hint *unit.Unit
-		if x.Unit != nil {
-			u, ok := c.parseUnit(f, x.Unit)
+		ul := x.Unit
+		if ul == nil {
+			ul = c.numberUnit[x]
+		}
+		if ul != nil {
+			u, ok := c.parseUnit(f, ul)
 			if !ok {
 				return val{bad: true}
 			}
@@ -697,6 +720,15 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 	}
 	cmp := map[syntax.Token]Op{syntax.EQL: OpEq, syntax.NEQ: OpNe, syntax.LSS: OpLt, syntax.LEQ: OpLe, syntax.GTR: OpGt, syntax.GEQ: OpGe}
 	return val{slot: c.b.Binary(cmp[op], a.slot, b.slot), boolean: true}
+}
+
+// orPlain names the unit of a value for messages: "a plain number" when
+// there is none.
+func orPlain(s string) string {
+	if s == "" {
+		return "a plain number"
+	}
+	return s
 }
 
 func orOne(s string) string {

@@ -117,6 +117,41 @@ class LiveKernelTests(unittest.TestCase):
         self.assertEqual([o["kind"] for o in from_kernel], [o["kind"] for o in from_exec])
         self.assertEqual(from_kernel, from_exec)
 
+    def test_ten_thousand_executes(self):
+        """10,000 executes through the real interpreter: no reply lost, and the
+        kernel's resident memory grows by less than 10 MB after a warm-up."""
+        pid = self.km.provisioner.process.pid
+
+        def rss_kb():
+            with open(f"/proc/{pid}/status") as fh:
+                for line in fh:
+                    if line.startswith("VmRSS:"):
+                        return int(line.split()[1])
+            raise AssertionError("no VmRSS")
+
+        def run(n):
+            ids = set()
+            for i in range(n):
+                ids.add(self.kc.execute(f"x{i % 7} = {i} * 2 [kg]\nx{i % 7}", store_history=True))
+                if len(ids) >= 50 or i == n - 1:  # keep at most 50 requests in flight
+                    while ids:
+                        r = self.kc.get_shell_msg(timeout=30)
+                        mid = r["parent_header"].get("msg_id")
+                        if mid in ids:
+                            self.assertEqual(r["content"]["status"], "ok", r["content"])
+                            ids.discard(mid)
+                    while True:  # drain iopub so the kernel never waits on this client
+                        try:
+                            self.kc.get_iopub_msg(timeout=0.001)
+                        except Exception:
+                            break
+
+        run(500)
+        before = rss_kb()
+        run(10_000)
+        grown = (rss_kb() - before) / 1024
+        self.assertLess(grown, 10, f"resident memory grew by {grown:.1f} MB")
+
     def test_reconnecting_client_gets_iopub(self):
         self.kc.stop_channels()
         kc2 = self.km.client()
