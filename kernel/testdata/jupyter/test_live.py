@@ -8,6 +8,7 @@ kernelspec on JUPYTER_PATH (make jupyter-test does this).
 import json
 import os
 import subprocess
+import sys
 import tempfile
 import time
 import unittest
@@ -150,6 +151,7 @@ class LiveKernelTests(unittest.TestCase):
         before = rss_kb()
         run(10_000)
         grown = (rss_kb() - before) / 1024
+        print(f"\n10,000 executes: kernel resident memory {before / 1024:.1f} MB -> grew {grown:.2f} MB", file=sys.stderr)
         self.assertLess(grown, 10, f"resident memory grew by {grown:.1f} MB")
 
     def test_reconnecting_client_gets_iopub(self):
