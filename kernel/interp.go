@@ -112,28 +112,32 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 	if name == "" {
 		name = fmt.Sprintf("cell %d", in.cells)
 	}
+	// A cell applies as a whole: when it fails, or the engine panics, the
+	// model is as it was before.
+	saved := in.Model.Clone()
 	defer func() {
 		if r := recover(); r != nil {
 			err = &CellError{Errors: []*syntax.Error{{Msg: fmt.Sprintf("internal error: %v (please report this with the cell that caused it)\n%s", r, debug.Stack())}}}
+		}
+		if err != nil {
+			in.Model = saved
 		}
 	}()
 	f, stmts, perr := syntax.Parse(name, []byte(src))
 	if perr != nil {
 		return asCellError(perr)
 	}
-	// A cell applies as a whole: when it fails, the model is as it was before.
-	saved := in.Model.Clone()
-	defer func() {
-		if err != nil {
-			in.Model = saved
-		}
-	}()
 	pending := false // declarations not yet checked by a compile
 	for i, s := range stmts {
-		if err := ctx.Err(); err != nil {
-			return &CellError{Errors: []*syntax.Error{{Pos: f.Position(s.Pos()), Msg: "interrupted"}}}
+		interrupted := &CellError{Errors: []*syntax.Error{{Pos: f.Position(s.Pos()), Msg: "interrupted: the cell stopped here; the model is as it was before the cell",
+			Source: f.Line(f.Position(s.Pos()).Line)}}}
+		if ctx.Err() != nil {
+			return interrupted
 		}
 		if err := in.stmt(ctx, f, s, i == len(stmts)-1, sink); err != nil {
+			if ctx.Err() != nil {
+				return interrupted
+			}
 			return asCellError(err)
 		}
 		switch s.(type) {
