@@ -8,8 +8,11 @@ import (
 	"html"
 	"image/color"
 	"io"
+	"regexp"
+	"strconv"
 	"strings"
 
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -201,6 +204,7 @@ func renderSVG(w, h vg.Length, title string, drawFn func(draw.Canvas)) []byte {
 	// An SVG <image> keeps its aspect ratio unless told otherwise, which
 	// would squeeze a 41x21 grid into a square; it must fill its box.
 	out = bytes.ReplaceAll(out, []byte(`<image `), []byte(`<image preserveAspectRatio="none" `))
+	out = fixTextWidths(out)
 	// Give the document a <title> for screen readers and file browsers.
 	if i := bytes.Index(out, []byte("<svg ")); i >= 0 {
 		if j := bytes.IndexByte(out[i:], '>'); j >= 0 {
@@ -464,4 +468,35 @@ func (m messageChart) draw(c draw.Canvas) {
 		c.FillText(styMessage, vg.Point{X: body.Min.X + 6, Y: y}, l)
 		y -= lineHeight(styMessage) + 1
 	}
+}
+
+// svgTextElem matches a text element as gonum/plot's SVG canvas writes it: its
+// attributes (with the style holding the weight and size) and its content.
+var svgTextElem = regexp.MustCompile(`<text ([^>]*?font-weight:(\w+);[^>]*?font-size:([0-9.]+)px;[^>]*)>([^<]*)</text>`)
+
+// fixTextWidths gives every text element the width it was laid out with
+// (textLength, spacing and glyphs adjusted): gonum/plot places each label by
+// the metrics of Liberation Sans, and a viewer without that font or one of
+// its metric twins (Arimo, Arial) would draw wider text that runs into bars
+// and neighbours. With the width fixed, any fallback font keeps the layout.
+func fixTextWidths(svg []byte) []byte {
+	return svgTextElem.ReplaceAllFunc(svg, func(m []byte) []byte {
+		sub := svgTextElem.FindSubmatch(m)
+		size, err := strconv.ParseFloat(string(sub[3]), 64)
+		if err != nil || len(sub[4]) == 0 {
+			return m
+		}
+		f := fontSans
+		if string(sub[2]) == "bold" {
+			f = fontBold
+		}
+		f.Size = vg.Length(size)
+		text := html.UnescapeString(string(sub[4]))
+		face := font.DefaultCache.Lookup(f, f.Size)
+		w := face.Width(text)
+		if w <= 0 {
+			return m
+		}
+		return []byte(fmt.Sprintf(`<text %s textLength="%.2f" lengthAdjust="spacingAndGlyphs">%s</text>`, sub[1], float64(w), sub[4]))
+	})
 }

@@ -14,6 +14,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/plot/font"
 )
 
 // notebookDisplay is the method set a Go notebook kernel looks for to show
@@ -267,5 +269,26 @@ func TestSizesStayFinite(t *testing.T) {
 	img := renderPNGImage(t, charts["60 bars"], &Options{Width: 1, Height: 1})
 	if img.Bounds().Dx() != int(MinWidth.Dots(DefaultDPI)+0.5) {
 		t.Errorf("tiny PNG is %d px wide", img.Bounds().Dx())
+	}
+}
+
+// TestTextWidthsFixed: every label in an SVG carries the width it was laid out
+// with, so a viewer that substitutes a wider font keeps the layout.
+func TestTextWidthsFixed(t *testing.T) {
+	tor := &Tornado{Title: "T", Output: "cost", Unit: "$", Baseline: 100, Bars: []Bar{
+		{Name: "cycle_time", Low: 30.4, High: 45.6, InputUnit: "min", OutLow: 85, OutHigh: 110, Min: 85, Max: 110},
+	}}
+	svg := tor.SVG()
+	texts := strings.Count(svg, "<text ")
+	fixed := strings.Count(svg, `lengthAdjust="spacingAndGlyphs"`)
+	if texts == 0 || fixed != texts {
+		t.Fatalf("%d of %d text elements carry a fixed width", fixed, texts)
+	}
+	// "30.4 min" at the value-label size, measured by the same font.
+	f := fontSans
+	f.Size = sizeLabel
+	want := fmt.Sprintf(`textLength="%.2f" lengthAdjust="spacingAndGlyphs">30.4 min</text>`, float64(font.DefaultCache.Lookup(f, f.Size).Width("30.4 min")))
+	if !strings.Contains(svg, want) {
+		t.Errorf("label 30.4 min lacks %s", want)
 	}
 }
