@@ -287,7 +287,8 @@ func TestTextWidthsFixed(t *testing.T) {
 	// "30.4 min" at the value-label size, measured by the same font.
 	f := fontSans
 	f.Size = sizeLabel
-	want := fmt.Sprintf(`textLength="%.2f" lengthAdjust="spacingAndGlyphs">30.4 min</text>`, float64(font.DefaultCache.Lookup(f, f.Size).Width("30.4 min")))
+	face := font.DefaultCache.Lookup(f, f.Size)
+	want := fmt.Sprintf(`textLength="%.2f" lengthAdjust="spacingAndGlyphs">30.4 min</text>`, float64(face.Width("30.4 min")))
 	if !strings.Contains(svg, want) {
 		t.Errorf("label 30.4 min lacks %s", want)
 	}
