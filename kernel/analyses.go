@@ -139,16 +139,9 @@ func span(f *syntax.File, a *syntax.Axis, inp *sens.Input) (lo, hi float64, err 
 
 // tornado runs "tornado OUT [top=N]".
 func (in *Interp) tornado(ctx context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-	if err := noOptions(f, c, "top"); err != nil {
+	top, err := topOption(f, c)
+	if err != nil {
 		return err
-	}
-	top := 0
-	if o := c.Option("top"); o != nil {
-		n, err := intOption(f, o, 1)
-		if err != nil {
-			return err
-		}
-		top = n
 	}
 	_, pr, err := in.problem(f, c.Output, sink)
 	if err != nil {

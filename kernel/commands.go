@@ -179,16 +179,9 @@ func valueResult(v ValueResult) *Result {
 
 // drivers runs "drivers OUT".
 func (in *Interp) drivers(_ context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-	if err := noOptions(f, c, "top"); err != nil {
+	top, err := topOption(f, c)
+	if err != nil {
 		return err
-	}
-	top := 0
-	if o := c.Option("top"); o != nil {
-		n, err := intOption(f, o, 1)
-		if err != nil {
-			return err
-		}
-		top = n
 	}
 	_, pr, err := in.problem(f, c.Output, sink)
 	if err != nil {
@@ -203,6 +196,18 @@ func (in *Interp) drivers(_ context.Context, f *syntax.File, c *syntax.CommandSt
 	}
 	sink.Result(driversResult(d, in.Opts.Width), false)
 	return nil
+}
+
+// topOption reads the only option of drivers and tornado, top=N (0 when
+// absent), and rejects any other.
+func topOption(f *syntax.File, c *syntax.CommandStmt) (int, error) {
+	if err := noOptions(f, c, "top"); err != nil {
+		return 0, err
+	}
+	if o := c.Option("top"); o != nil {
+		return intOption(f, o, 1)
+	}
+	return 0, nil
 }
 
 func noOptions(f *syntax.File, c *syntax.CommandStmt, allowed ...string) error {
