@@ -11,26 +11,13 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
-	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 // problemOf compiles a model given as text through the parser and compiler
 // and returns the problem of output out.
 func problemOf(t testing.TB, src, out string) *Problem {
 	t.Helper()
-	f, stmts, err := syntax.Parse("test", []byte(src))
-	if err != nil {
-		t.Fatalf("parse: %v", err)
-	}
-	m := NewModel()
-	for _, s := range stmts {
-		m.Define(f, s)
-	}
-	prog, err := m.Compile()
-	if err != nil {
-		t.Fatalf("compile: %v", err)
-	}
-	p, err := prog.Problem(out)
+	p, err := compileSrc(t, src).Problem(out)
 	if err != nil {
 		t.Fatal(err)
 	}
