@@ -10,7 +10,6 @@ import (
 	"time"
 
 	"gonum.org/v1/gonum/floats/scalar"
-
 )
 
 // problemOf compiles a model given as text through the parser and compiler
