@@ -6,6 +6,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
+	"path/filepath"
 )
 
 // WriterSink writes results to a terminal or a pipe: text tables (or one JSON
@@ -13,8 +15,12 @@ import (
 type WriterSink struct {
 	Out, Err io.Writer
 	JSON     bool
+	// SVGDir, when set, receives each chart as an SVG file, numbered in order.
+	SVGDir string
 	// Cautioned is set once a result that carries the caution was written.
 	Cautioned bool
+
+	charts int
 }
 
 // Stream writes stdout text to Out (in JSON mode, as a "print" object) and
@@ -36,6 +42,15 @@ func (s *WriterSink) Stream(name, text string) {
 func (s *WriterSink) Result(r *Result, _ bool) {
 	if r.Caution {
 		s.Cautioned = true
+	}
+	if s.SVGDir != "" && len(r.SVG) > 0 {
+		s.charts++
+		path := filepath.Join(s.SVGDir, fmt.Sprintf("%02d-%s.svg", s.charts, r.Kind))
+		if err := os.WriteFile(path, r.SVG, 0o644); err != nil {
+			fmt.Fprintf(s.Err, "nudge: %v\n", err)
+		} else {
+			fmt.Fprintf(s.Err, "chart: %s\n", path)
+		}
 	}
 	if s.JSON {
 		fmt.Fprintf(s.Out, "%s\n", r.JSON())

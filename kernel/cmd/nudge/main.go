@@ -21,7 +21,9 @@ import (
 const usage = `nudge: sensitivity analysis of cost models
 
 usage:
-  nudge exec [--json] FILE...      run model files (- reads standard input)
+  nudge exec [--json] [--svg DIR] FILE...
+                                   run model files (- reads standard input);
+                                   --svg writes each chart into DIR
   nudge kernel -f CONNECTION_FILE  run the Jupyter kernel
   nudge install [--user | --sys-prefix | --prefix DIR]
                                    write the Jupyter kernelspec
@@ -63,8 +65,9 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("exec", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	asJSON := fs.Bool("json", false, "print one JSON object per result and line")
+	svgDir := fs.String("svg", "", "write each chart as an SVG file into `DIR`")
 	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: nudge exec [--json] FILE...")
+		fmt.Fprintln(stderr, "usage: nudge exec [--json] [--svg DIR] FILE...")
 		fs.PrintDefaults()
 	}
 	if err := fs.Parse(args); err != nil {
@@ -77,8 +80,14 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	in := kernel.New()
-	in.Opts.NoCharts = true
-	sink := &kernel.WriterSink{Out: stdout, Err: stderr, JSON: *asJSON}
+	in.Opts.NoCharts = *svgDir == ""
+	if *svgDir != "" {
+		if err := os.MkdirAll(*svgDir, 0o755); err != nil {
+			fmt.Fprintln(stderr, "nudge:", err)
+			return 2
+		}
+	}
+	sink := &kernel.WriterSink{Out: stdout, Err: stderr, JSON: *asJSON, SVGDir: *svgDir}
 	for _, name := range fs.Args() {
 		var src []byte
 		var err error

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"encoding/json"
+	"encoding/xml"
 	"os"
 	"path/filepath"
 	"strings"
@@ -123,6 +124,27 @@ func TestInstallPrefix(t *testing.T) {
 	for _, logo := range []string{"logo-32x32.png", "logo-64x64.png", "logo-svg.svg"} {
 		if _, err := os.Stat(filepath.Join(dir, "share", "jupyter", "kernels", "nudge", logo)); err != nil {
 			t.Errorf("missing %s", logo)
+		}
+	}
+}
+
+func TestExecWritesCharts(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "charts")
+	src := "input a = 2 (1..3)\ninput b = 3 (2..4)\ny = a * b\ntornado y\nsweep y over a 1..3\n"
+	code, _, errs := runNudge([]string{"exec", "--svg", dir, "-"}, src)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, name := range []string{"01-tornado.svg", "02-sweep.svg"} {
+		b, err := os.ReadFile(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := xml.Unmarshal(b, new(struct{})); err != nil || !strings.Contains(string(b), "<svg") {
+			t.Errorf("%s is not an SVG document: %v", name, err)
+		}
+		if !strings.Contains(errs, filepath.Join(dir, name)) {
+			t.Errorf("stderr does not name %s: %s", name, errs)
 		}
 	}
 }
