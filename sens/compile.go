@@ -389,7 +389,11 @@ func (c *compiler) constant(f *syntax.File, x syntax.Expr, u unit.Unit, what str
 	if n, ok := x.(*syntax.NumberLit); ok && n.Unit != nil {
 		pos = n.Unit.Pos()
 	}
-	c.errorf(f, pos, "%s is in [%s] but must be in [%s] (%s vs %s)", what, orOne(unitText(c.display(v))), orOne(unitText(u)), dimName(v.dim), dimName(u.Dim))
+	if u.Dim.IsDimensionless() {
+		c.errorf(f, pos, "%s is in [%s] but must be a plain number (no unit)", what, unitText(c.display(v)))
+		return 0, false
+	}
+	c.errorf(f, pos, "%s is in [%s] but must be in [%s] (%s vs %s)", what, orOne(unitText(c.display(v))), unitText(u), dimName(v.dim), dimName(u.Dim))
 	return 0, false
 }
 
