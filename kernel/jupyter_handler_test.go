@@ -1,0 +1,92 @@
+package kernel
+
+import (
+	"context"
+	"slices"
+	"strings"
+	"testing"
+)
+
+func TestCompleteContexts(t *testing.T) {
+	h := NewHandler(New())
+	if err := h.in.Execute(context.Background(), "", "input shop_rate = 60 [$/h]\ninput steel = 0.9 [$/kg]\ntotal = shop_rate * 2 [h]", &captureSink{}); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		code      string
+		want      string // one expected match
+		notWant   string
+		wantStart int
+	}{
+		{"x = sho", "shop_rate", "", 4},                      // a model name
+		{"x = sq", "sqrt", "", 4},                            // a function
+		{"swe", "sweep", "", 0},                              // a command at the start of a line
+		{"x = swe", "", "sweep", 4},                          // not a command mid-line
+		{"input m = 2 [k", "kg", "", 13},                     // a unit inside brackets
+		{"input m = 2 [$/k", "kg", "", 15},                   // after an operator in a unit
+		{"input p = 1 ~ per", "pert", "", 14},                // a distribution after ~
+		{"input new_rate = 3\nx = new_", "new_rate", "", 23}, // a name declared in the same cell
+		{"sweep total over ste", "steel", "", 17},            // an input in a command
+	} {
+		c := h.Complete(tc.code, len(tc.code))
+		if tc.want != "" && !slices.Contains(c.Matches, tc.want) {
+			t.Errorf("%q: matches %v lack %q", tc.code, c.Matches, tc.want)
+		}
+		if tc.notWant != "" && slices.Contains(c.Matches, tc.notWant) {
+			t.Errorf("%q: matches %v hold %q", tc.code, c.Matches, tc.notWant)
+		}
+		if c.Start != tc.wantStart || c.End != len(tc.code) {
+			t.Errorf("%q: replaces [%d, %d), want [%d, %d)", tc.code, c.Start, c.End, tc.wantStart, len(tc.code))
+		}
+	}
+}
+
+func TestInspect(t *testing.T) {
+	h := NewHandler(New())
+	if err := h.in.Execute(context.Background(), "", "input rate = 60 [$/h] ~ normal(60, 5)\ninput t = 2 [h] (1..3)\ncost = rate * t", &captureSink{}); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		code   string
+		cursor int
+		want   []string
+	}{
+		{"cost", 2, []string{"cost = rate * t", "value: $120", "top drivers: rate (elasticity +1.000), t (elasticity +1.000)"}},
+		{"rate", 4, []string{"input rate = 60 $/h", "distribution: normal(60, 5)"}},
+		{"t", 1, []string{"range: 1 .. 3 (range)"}},
+		{"x = recovery(0.1, 5)", 8, []string{"function recovery"}},
+		{"input a = 1 ~ pert(1, 2, 3)", 16, []string{"distribution pert(low, mode, high)"}},
+		{"tornado cost", 3, []string{"command tornado"}},
+	} {
+		b, found := h.Inspect(tc.code, tc.cursor, 0)
+		if !found {
+			t.Errorf("%q at %d: nothing found", tc.code, tc.cursor)
+			continue
+		}
+		text := b.Data["text/plain"].(string)
+		for _, w := range tc.want {
+			if !strings.Contains(text, w) {
+				t.Errorf("%q: %q lacks %q", tc.code, text, w)
+			}
+		}
+	}
+	if _, found := h.Inspect("nothing_here", 3, 0); found {
+		t.Error("an unknown name was described")
+	}
+}
+
+func TestIsComplete(t *testing.T) {
+	h := NewHandler(New())
+	for code, want := range map[string]string{
+		"x = (1 +":        "incomplete",
+		"x = max(1,\n 2)": "complete",
+		"x = )":           "invalid",
+		"":                "complete",
+		"drivers total":   "complete",
+		"input a = 1 \\":  "incomplete",
+	} {
+		if got, _ := h.IsComplete(code); got != want {
+			t.Errorf("IsComplete(%q) = %s, want %s", code, got, want)
+		}
+	}
+}
