@@ -228,7 +228,7 @@ func noOptions(f *syntax.File, c *syntax.CommandStmt, allowed ...string) error {
 }
 
 func driversResult(d *sens.Drivers, barWidth int) *Result {
-	t := &table{head: []string{"input", "value", "∂" + d.Output + "/∂input", "elasticity", ""}, right: []bool{false, true, true, true, false}}
+	t := &table{head: []string{"input", "value", "∂" + wrapExpr(d.Output) + "/∂input", "elasticity", ""}, right: []bool{false, true, true, true, false}}
 	bw := barWidth / 3
 	if bw < 8 {
 		bw = 8
@@ -272,4 +272,13 @@ func bar(frac float64, width int) string {
 		s += string([]rune("▏▎▍▌▋▊▉")[r-1])
 	}
 	return s
+}
+
+// wrapExpr puts an output written as an expression in parentheses, for
+// notation such as ∂(y / a)/∂input.
+func wrapExpr(name string) string {
+	if strings.ContainsAny(name, " +-*/^()") {
+		return "(" + name + ")"
+	}
+	return name
 }
