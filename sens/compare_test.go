@@ -4,8 +4,6 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
-
-	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 func TestCompare(t *testing.T) {
@@ -17,17 +15,9 @@ cost = units * hours * rate
 scenario lean: hours = 72 [min], rate = 55
 scenario rush: units = 1500
 `
-	f, stmts, err := syntax.Parse("test", []byte(src))
+	m, err := LoadModel("test", []byte(src))
 	if err != nil {
 		t.Fatal(err)
-	}
-	m := NewModel()
-	for _, s := range stmts {
-		if c, ok := s.(*syntax.CommandStmt); ok {
-			m.DefineScenario(f, c)
-		} else {
-			m.Define(f, s)
-		}
 	}
 	prog, err := m.Compile()
 	if err != nil {

@@ -15,13 +15,9 @@ import (
 // compileSrc parses and compiles a model given as text.
 func compileSrc(t testing.TB, src string) *Program {
 	t.Helper()
-	f, stmts, err := syntax.Parse("test", []byte(src))
+	m, err := LoadModel("test", []byte(src))
 	if err != nil {
-		t.Fatalf("parse: %v", err)
-	}
-	m := NewModel()
-	for _, s := range stmts {
-		m.Define(f, s)
+		t.Fatalf("load: %v", err)
 	}
 	p, err := m.Compile()
 	if err != nil {
@@ -164,13 +160,9 @@ func TestCompiledGradientsAgainstFD(t *testing.T) {
 			b.WriteString("input " + names[i] + " = " + strings.TrimRight(strings.TrimRight(fmtG(0.5+2*rng.Float64()), "0"), ".") + "\n")
 		}
 		b.WriteString("y = " + randExpr(rng, names, 4) + "\n")
-		f, stmts, err := syntax.Parse("gen", []byte(b.String()))
+		m, err := LoadModel("gen", []byte(b.String()))
 		if err != nil {
 			t.Fatalf("generated model does not parse: %v\n%s", err, b.String())
-		}
-		m := NewModel()
-		for _, s := range stmts {
-			m.Define(f, s)
 		}
 		p, err := m.Compile()
 		if err != nil {
@@ -296,5 +288,16 @@ func TestTrailingBracket(t *testing.T) {
 		if fm := fn.Formula(); fm.Unit != tc.unit || fm.Declared != tc.declared || !scalar.EqualWithinAbsOrRel(y, tc.value, 1e-12, 1e-12) {
 			t.Errorf("%s = %v %s (declared %v), want %v %s (declared %v)", tc.name, y, fm.Unit, fm.Declared, tc.value, tc.unit, tc.declared)
 		}
+	}
+}
+
+func TestLoadModelRejectsCommands(t *testing.T) {
+	m, err := LoadModel("m", []byte("input a = 1\nb = a\nscenario s: a = 2\ndrivers b\nb + 1\n"))
+	el, ok := err.(syntax.ErrorList)
+	if !ok || len(el) != 2 || el[0].Pos.Line != 4 || el[1].Pos.Line != 5 {
+		t.Fatalf("errors %v", err)
+	}
+	if m.Lookup("b") == nil || m.Scenario("s") == nil {
+		t.Error("declarations and scenarios before the commands were not kept")
 	}
 }

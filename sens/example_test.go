@@ -4,7 +4,6 @@ import (
 	"fmt"
 
 	"github.com/nudge-dev/nudge/sens"
-	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 // Example compiles a small cost model from text and ranks its drivers: the
@@ -18,14 +17,10 @@ input hours = 1.5 [h]       (±20%)
 input rate  = 60 [$/h]
 total = units * (mass * steel + hours * rate) [$]
 `
-	f, stmts, err := syntax.Parse("part.nudge", []byte(src))
+	m, err := sens.LoadModel("part.nudge", []byte(src))
 	if err != nil {
 		fmt.Println(err)
 		return
-	}
-	m := sens.NewModel()
-	for _, s := range stmts {
-		m.Define(f, s)
 	}
 	prog, err := m.Compile()
 	if err != nil {

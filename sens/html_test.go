@@ -8,8 +8,6 @@ import (
 	"math"
 	"strings"
 	"testing"
-
-	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 // htmlDoc is what a test reads back from an HTML table.
@@ -412,7 +410,7 @@ func TestEvenIndices(t *testing.T) {
 // derivatives are 70 $/h and 2 h, its elasticities 1 in hours and 120/140 in
 // rate (by hand).
 func ExampleDrivers_HTML() {
-	f, stmts, err := syntax.Parse("example", []byte(`
+	m, err := LoadModel("example", []byte(`
 input hours = 2 [h]
 input rate  = 60 [$/h]
 cost = hours * (rate + 10 [$/h])
@@ -420,10 +418,6 @@ cost = hours * (rate + 10 [$/h])
 	if err != nil {
 		fmt.Println(err)
 		return
-	}
-	m := NewModel()
-	for _, s := range stmts {
-		m.Define(f, s)
 	}
 	prog, err := m.Compile()
 	if err != nil {

@@ -169,3 +169,32 @@ func (m *Model) Clone() *Model {
 	}
 	return c
 }
+
+// LoadModel parses src as a model file named name and declares its inputs,
+// formulas and scenarios in a new Model: the way for a Go program (or a
+// gophernotes cell) to load a model without the kernel. Analysis commands and
+// bare expressions are an error here; they belong to a front end such as the
+// kernel's cell interpreter.
+func LoadModel(name string, src []byte) (*Model, error) {
+	f, stmts, err := syntax.Parse(name, src)
+	if err != nil {
+		return nil, err
+	}
+	m := NewModel()
+	var errs syntax.ErrorList
+	for _, s := range stmts {
+		switch s := s.(type) {
+		case *syntax.InputStmt, *syntax.FormulaStmt:
+			m.Define(f, s)
+		case *syntax.CommandStmt:
+			if s.Verb == "scenario" {
+				m.DefineScenario(f, s)
+				continue
+			}
+			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas and scenarios")
+		default:
+			errs.Add(f, s.Pos(), "an expression is not a declaration: a model file loaded here holds inputs, formulas and scenarios")
+		}
+	}
+	return m, errs.Err()
+}
