@@ -69,11 +69,12 @@ func (in *Interp) attach(r *Result, ch plotting.Chart) {
 	if in.Opts.NoCharts {
 		return
 	}
-	r.SVG = []byte(ch.SVG())
+	svg := ch.SVG()
+	r.SVG = []byte(svg)
 	if in.Opts.PNG {
 		r.PNG = ch.PNG()
 	}
-	r.HTML += ch.HTML()
+	r.HTML += plotting.FigureHTML(ch, svg)
 }
 
 // ---- options and constants

@@ -150,12 +150,28 @@ func pngBytes(ch chart) []byte {
 // captions are full of dollar signs, so the figure carries the classes that
 // MathJax 2 and 3 skip.
 func htmlString(ch chart) string {
+	if ch.check() != nil {
+		return figureHTML(ch, "")
+	}
+	return figureHTML(ch, svgString(ch))
+}
+
+// FigureHTML is c.HTML() around an SVG of c already drawn (c.SVG()), so a
+// caller that wants both draws the chart once.
+func FigureHTML(c Chart, svg string) string {
+	ch, ok := c.(chart)
+	if !ok {
+		return c.HTML()
+	}
+	return figureHTML(ch, svg)
+}
+
+func figureHTML(ch chart, svg string) string {
 	title := html.EscapeString(ch.heading())
 	if err := ch.check(); err != nil {
 		return `<div class="nudge-chart nudge-chart-error ` + noMathJax + `" style="color:#9C2B12">` +
 			title + ": " + html.EscapeString(err.Error()) + `</div>`
 	}
-	svg := svgString(ch)
 	var b strings.Builder
 	b.WriteString(`<figure class="nudge-chart ` + noMathJax + `" style="margin:0.5em 0">`)
 	b.WriteString(`<img style="max-width:100%;height:auto" alt="`)

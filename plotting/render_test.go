@@ -293,3 +293,16 @@ func TestTextWidthsFixed(t *testing.T) {
 		t.Errorf("label 30.4 min lacks %s", want)
 	}
 }
+
+// TestFigureHTMLFromDrawnSVG: a figure built around an SVG already drawn is the
+// chart's own HTML.
+func TestFigureHTMLFromDrawnSVG(t *testing.T) {
+	sw := &Sweep{Title: "S", Output: "y", Input: "x", X: []float64{1, 2, 3}, Y: []float64{2, 4, 6}, BaselineInput: 2, Baseline: 4}
+	if got, want := FigureHTML(sw, sw.SVG()), sw.HTML(); got != want {
+		t.Errorf("FigureHTML differs from HTML:\n%s\n%s", got, want)
+	}
+	bad := &Sweep{Title: "S", Output: "y", Input: "x", X: []float64{1}, Y: []float64{2}}
+	if got := FigureHTML(bad, ""); got != bad.HTML() || !strings.Contains(got, "nudge-chart-error") {
+		t.Errorf("an invalid chart: %s", got)
+	}
+}
