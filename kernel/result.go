@@ -49,10 +49,8 @@ func (r *Result) Bundle() map[string]any {
 	if len(r.PNG) > 0 {
 		b["image/png"] = r.PNG // encoding/json writes []byte as base64, as Jupyter expects
 	}
-	var obj any
-	if err := json.Unmarshal(r.JSON(), &obj); err == nil {
-		b["application/json"] = obj
-	}
+	// Already encoded: the message encoder copies it as it is.
+	b["application/json"] = json.RawMessage(r.JSON())
 	return b
 }
 
