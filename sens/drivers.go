@@ -118,18 +118,13 @@ func simplifyPartial(out string, in *Input) (string, bool) {
 		}
 		ou = u
 	}
-	q := ou.Div(in.u)
-	s := unit.Simplest(q.Dim)
-	if math.Abs(s.Factor-q.Factor) > 1e-12*math.Abs(q.Factor) {
-		// A named unit of the same scale: $ per ($/h) is h.
-		if named, ok := namedUnit(q); ok {
-			return named, true
-		}
+	// The same choice as a formula's display unit: $ per ($/h) is h.
+	u := combinedUnit(&ou, &in.u, false)
+	if u == nil {
 		return "", false
 	}
-	composed := out + "/" + wrapUnit(in.Unit)
-	text := unitText(s)
-	if len(text) > len(composed) {
+	text := unitText(*u)
+	if len(text) > len(out+"/"+wrapUnit(in.Unit)) {
 		return "", false
 	}
 	return text, true
