@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"github.com/nudge-dev/nudge/kernel/render"
 	"strings"
 	"testing"
 
@@ -12,7 +13,7 @@ import (
 
 // analysisSink records results, streams and progress reports.
 type analysisSink struct {
-	results  []*Result
+	results  []*render.Result
 	stderr   strings.Builder
 	stdout   strings.Builder
 	progress map[string][2]int // id -> last (done, total)
@@ -26,7 +27,7 @@ func (s *analysisSink) Stream(name, text string) {
 		s.stdout.WriteString(text)
 	}
 }
-func (s *analysisSink) Result(r *Result, _ bool) { s.results = append(s.results, r) }
+func (s *analysisSink) Result(r *render.Result, _ bool) { s.results = append(s.results, r) }
 func (s *analysisSink) Progress(id, label string, done, total int) {
 	if s.progress == nil {
 		s.progress, s.labels = map[string][2]int{}, map[string]string{}
@@ -59,7 +60,7 @@ func run(t *testing.T, in *Interp, src string) *analysisSink {
 }
 
 // object returns a result's JSON object as a map.
-func object(t *testing.T, r *Result) map[string]any {
+func object(t *testing.T, r *render.Result) map[string]any {
 	t.Helper()
 	var m map[string]any
 	if err := json.Unmarshal(r.JSON(), &m); err != nil {
@@ -117,13 +118,13 @@ func TestTornadoCommand(t *testing.T) {
 	if !strings.Contains(s.stderr.String(), "tooling has no range or distribution") {
 		t.Errorf("stderr %q lacks the default-range warning", s.stderr.String())
 	}
-	if !strings.Contains(r.Text, "* default ±10% range") || !strings.Contains(r.Text, "tornado of total: baseline $150,800") {
-		t.Errorf("text:\n%s", r.Text)
+	if !strings.Contains(r.Text(), "* default ±10% range") || !strings.Contains(r.Text(), "tornado of total: baseline $150,800") {
+		t.Errorf("text:\n%s", r.Text())
 	}
-	if len(r.SVG) == 0 || !strings.Contains(string(r.SVG), "<svg") || len(r.PNG) == 0 {
-		t.Errorf("chart missing: %d bytes SVG, %d PNG", len(r.SVG), len(r.PNG))
+	if len(r.SVG()) == 0 || !strings.Contains(string(r.SVG()), "<svg") || len(r.PNG()) == 0 {
+		t.Errorf("chart missing: %d bytes SVG, %d PNG", len(r.SVG()), len(r.PNG()))
 	}
-	if !strings.Contains(r.HTML, "<table") || !strings.Contains(r.HTML, "$/kg") {
+	if !strings.Contains(r.HTML(), "<table") || !strings.Contains(r.HTML(), "$/kg") {
 		t.Errorf("HTML lacks the table with units")
 	}
 	b := r.Bundle()
@@ -143,7 +144,7 @@ func TestTornadoCommand(t *testing.T) {
 	}
 
 	// top=2 keeps two bars and summarises the rest in one line.
-	in.Opts = Options{NoCharts: true, Width: 60}
+	in.Opts = render.Options{NoCharts: true, Width: 60}
 	s = run(t, in, "tornado total top=2")
 	r = s.results[0]
 	m = object(t, r)
@@ -151,8 +152,8 @@ func TestTornadoCommand(t *testing.T) {
 	if len(m["bars"].([]any)) != 2 || rest["count"].(float64) != 4 {
 		t.Errorf("top=2: %d bars, rest %v", len(m["bars"].([]any)), rest)
 	}
-	if !strings.Contains(r.Text, "… and 4 more inputs, each with a swing of at most") || len(r.SVG) != 0 {
-		t.Errorf("text:\n%s (SVG %d bytes with charts off)", r.Text, len(r.SVG))
+	if !strings.Contains(r.Text(), "… and 4 more inputs, each with a swing of at most") || len(r.SVG()) != 0 {
+		t.Errorf("text:\n%s (SVG %d bytes with charts off)", r.Text(), len(r.SVG()))
 	}
 }
 
@@ -215,8 +216,8 @@ func TestSpiderSweepCommands(t *testing.T) {
 			t.Errorf("contour point (%v, %v) far from rate·hours = 90", x, y)
 		}
 	}
-	if !strings.Contains(s.results[2].Text, "along 1 contour line") {
-		t.Errorf("text:\n%s", s.results[2].Text)
+	if !strings.Contains(s.results[2].Text(), "along 1 contour line") {
+		t.Errorf("text:\n%s", s.results[2].Text())
 	}
 }
 
@@ -235,8 +236,8 @@ func TestBreakevenCommand(t *testing.T) {
 			t.Errorf("breakeven lacks %s", k)
 		}
 	}
-	if !strings.Contains(r.Text, "$1.667/kg") && !strings.Contains(r.Text, "1.667 $/kg") {
-		t.Errorf("text:\n%s", r.Text)
+	if !strings.Contains(r.Text(), "$1.667/kg") && !strings.Contains(r.Text(), "1.667 $/kg") {
+		t.Errorf("text:\n%s", r.Text())
 	}
 	// A target in thousands of dollars is converted; none is reached.
 	s = run(t, in, "breakeven total = -5 [$] over units 0..2000")
@@ -288,7 +289,7 @@ func TestAnalysisErrors(t *testing.T) {
 	}{
 		{"sweep total over rat 40..80", 1, 18, "undefined input rat (did you mean rate?)"},
 		{"sweep total over unit_cost 1..2", 1, 18, "unit_cost is a formula, not an input"},
-		{"sweep total over rate 80..40", 1, 23, "the span 80..40 of rate is reversed: write 40..80"},
+		{"sweep total over rate 80..40", 1, 23, "the range 80..40 of rate is reversed: write 40..80"},
 		{"sweep total over rate 40..40", 1, 23, "is empty"},
 		{"sweep total over rate 40 [kg]..80", 1, 26, "is in [kg] but must be in [$/h]"},
 		{"sweep total over rate 40..80 and rate 1..2", 1, 34, "two different inputs"},

@@ -2,70 +2,113 @@ package kernel
 
 import (
 	"context"
+	"errors"
 	"fmt"
-	"html"
 	"math"
 	"strings"
 
+	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
-// ValueResult is the JSON object of a bare expression.
-type ValueResult struct {
-	Kind  string  `json:"kind"` // "value"
-	Name  string  `json:"name"`
-	Value float64 `json:"value"`
-	Unit  string  `json:"unit"`
+// Command is one command of the language: its verb, whose form sens/syntax
+// parses (syntax.Command), a line of documentation with an example, the
+// options it takes, and how it runs. Each command lives in a file of its own
+// named for its verb; commands is the one table of them.
+type Command struct {
+	Verb    string
+	Doc     string // what it shows, one line
+	Example string
+	Options []Option
+	run     func(x *call) error
 }
 
-// command runs one analysis command.
-func (in *Interp) command(ctx context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-	h, ok := commands[c.Verb]
-	if !ok {
-		return posErr(f, c.VerbPos, "%s is not available in this version of nudge", c.Verb)
-	}
-	return h(in, ctx, f, c, sink)
+// Option is a key=value option of a command: a whole number of at least Min,
+// or, with Quantity set, a number in the unit of the command's output.
+type Option struct {
+	Key      string
+	Doc      string
+	Min      int
+	Quantity bool
 }
 
-type commandFunc func(in *Interp, ctx context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error
-
-// commands maps each verb to its handler. Analyses register themselves here.
-var commands = map[string]commandFunc{}
-
-func init() {
-	commands["reset"] = func(in *Interp, _ context.Context, _ *syntax.File, _ *syntax.CommandStmt, _ Sink) error {
-		in.Model.Reset()
-		return nil
+// Form is how the option is written: "top=N", "target=T".
+func (o Option) Form() string {
+	if o.Quantity {
+		return o.Key + "=T"
 	}
-	commands["print"] = func(_ *Interp, _ context.Context, _ *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-		sink.Stream("stdout", c.Text+"\n")
-		return nil
-	}
-	commands["drivers"] = (*Interp).drivers
-	commands["charts"] = (*Interp).charts
+	return o.Key + "=N"
 }
 
-// charts sets how the rest of the session draws charts: "svg" (the default),
-// "png" (image/png beside the SVG, for front ends and reports that want a
-// bitmap) or "text" (Unicode charts only).
-func (in *Interp) charts(_ context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-	switch c.Name.Name {
-	case "svg":
-		in.Opts.PNG, in.Opts.NoCharts = false, false
-	case "png":
-		in.Opts.PNG, in.Opts.NoCharts = true, false
-	case "text":
-		in.Opts.PNG, in.Opts.NoCharts = false, true
-	default:
-		msg := "charts takes svg, png or text"
-		if s := syntax.Suggest(c.Name.Name, []string{"svg", "png", "text"}); s != "" {
-			msg += " (did you mean " + s + "?)"
+// Usage is how the command is written with its options:
+// "tornado OUT [top=N]".
+func (c *Command) Usage() string {
+	u := syntax.Command(c.Verb).Form
+	for _, o := range c.Options {
+		u += " [" + o.Form() + "]"
+	}
+	return u
+}
+
+// commands is the table of commands, by verb: the one place a command is
+// registered.
+var commands = table(
+	driversCommand, tornadoCommand, spiderCommand, sweepCommand, breakevenCommand,
+	scenarioCommand, compareCommand, printCommand, resetCommand, chartsCommand,
+)
+
+// reserved are the verbs the language keeps for the Monte Carlo and global
+// analyses, which this version does not have: using one is an error that
+// says so.
+var reserved = []string{"simulate", "sobol", "morris", "screen"}
+
+func table(cs ...*Command) map[string]*Command {
+	m := make(map[string]*Command, len(cs))
+	for _, c := range cs {
+		m[c.Verb] = c
+	}
+	return m
+}
+
+// Commands returns the commands in the order of the language's grammar.
+func Commands() []*Command {
+	var out []*Command
+	for _, v := range syntax.Verbs {
+		if c := commands[v]; c != nil {
+			out = append(out, c)
 		}
-		return posErr(f, c.Name.Pos(), "%s", msg)
 	}
-	sink.Stream("stdout", "charts: "+c.Name.Name+"\n")
-	return nil
+	return out
+}
+
+// call is one command being run: the statement, the file it is in, where
+// its results go, and the interpreter it changes.
+type call struct {
+	in   *Interp
+	ctx  context.Context
+	f    *syntax.File
+	c    *syntax.CommandStmt
+	sink Sink
+	cmd  *Command
+}
+
+// command runs one command statement.
+func (in *Interp) command(ctx context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
+	cmd := commands[c.Verb]
+	x := &call{in: in, ctx: ctx, f: f, c: c, sink: sink, cmd: cmd}
+	if cmd == nil {
+		return x.errorf(c.VerbPos, "%s is not available in this version of nudge", c.Verb)
+	}
+	if err := x.checkOptions(); err != nil {
+		return err
+	}
+	return cmd.run(x)
+}
+
+// errorf returns an error at pos in the command's file.
+func (x *call) errorf(pos syntax.Pos, format string, args ...any) error {
+	return posErr(x.f, pos, format, args...)
 }
 
 func posErr(f *syntax.File, pos syntax.Pos, format string, args ...any) error {
@@ -73,212 +116,152 @@ func posErr(f *syntax.File, pos syntax.Pos, format string, args ...any) error {
 	return &syntax.Error{Pos: p, Msg: fmt.Sprintf(format, args...), Source: f.Line(p.Line)}
 }
 
-// problem compiles the model with the command's output. A name is analysed as
-// it is; an expression becomes an anonymous formula named by its text.
-func (in *Interp) problem(f *syntax.File, out syntax.Expr, sink Sink) (*sens.Program, *sens.Problem, error) {
-	var prog *sens.Program
-	var err error
-	name := syntax.String(out)
-	if id, ok := out.(*syntax.Ident); ok {
-		prog, err = in.Model.Compile()
-		if err == nil {
-			if inp, _ := prog.Lookup(id.Name); inp != nil {
-				return nil, nil, posErr(f, id.Pos(), "%s is an input: analyse a formula that uses it", id.Name)
+// at places an error of the engine that names no position at pos; errors
+// that carry their own position, and interruptions, pass unchanged.
+func (x *call) at(pos syntax.Pos, err error) error {
+	var se *syntax.Error
+	var el syntax.ErrorList
+	var ee *sens.EvalError
+	switch {
+	case err == nil, errors.As(err, &se), errors.As(err, &el), errors.As(err, &ee),
+		errors.Is(err, context.Canceled), errors.Is(err, context.DeadlineExceeded):
+		return err
+	}
+	return x.errorf(pos, "%v", err)
+}
+
+// checkOptions rejects options the command does not take, options given
+// twice, and whole-number options out of range.
+func (x *call) checkOptions() error {
+	seen := map[string]bool{}
+	for _, o := range x.c.Options {
+		spec := x.option(o.Key.Name)
+		if spec == nil {
+			keys := make([]string, len(x.cmd.Options))
+			for i, s := range x.cmd.Options {
+				keys[i] = s.Key
 			}
-			if _, fm := prog.Lookup(id.Name); fm == nil {
-				return nil, nil, in.undefinedOutput(f, id, prog)
+			hint := ""
+			if len(keys) > 0 {
+				hint = " (options: " + strings.Join(keys, ", ") + ")"
+			}
+			return x.errorf(o.Key.Pos(), "%s has no option %s%s", x.c.Verb, o.Key.Name, hint)
+		}
+		if seen[o.Key.Name] {
+			return x.errorf(o.Key.Pos(), "%s is given twice", o.Key.Name)
+		}
+		seen[o.Key.Name] = true
+		if !spec.Quantity {
+			if _, _, err := x.whole(o.Key.Name); err != nil {
+				return err
 			}
 		}
+	}
+	return nil
+}
+
+func (x *call) option(key string) *Option {
+	for i := range x.cmd.Options {
+		if x.cmd.Options[i].Key == key {
+			return &x.cmd.Options[i]
+		}
+	}
+	return nil
+}
+
+// whole reads the whole-number option key: its value, and whether it was
+// given.
+func (x *call) whole(key string) (int, bool, error) {
+	o := x.c.Option(key)
+	if o == nil {
+		return 0, false, nil
+	}
+	lo := x.option(key).Min
+	v, err := sens.Constant(x.f, o.Value, "", key)
+	if err != nil {
+		return 0, true, err
+	}
+	if v != math.Trunc(v) || v < float64(lo) || v > 1e7 {
+		return 0, true, x.errorf(o.Value.Pos(), "%s must be a whole number from %d to 10,000,000, found %s", key, lo, syntax.String(o.Value))
+	}
+	return int(v), true, nil
+}
+
+// quantity reads the option key, a number in unit u, or nil when it is not
+// given.
+func (x *call) quantity(key, u string) (*float64, error) {
+	o := x.c.Option(key)
+	if o == nil {
+		return nil, nil
+	}
+	v, err := sens.Constant(x.f, o.Value, u, "the "+key)
+	if err != nil {
+		return nil, err
+	}
+	return &v, nil
+}
+
+// settings returns the analysis settings of the command: the cell's context,
+// and progress reported to the sink under an id unique to the command.
+func (x *call) settings() sens.Settings {
+	id := x.c.Verb + "@" + x.f.Position(x.c.VerbPos).String()
+	label := x.c.Verb
+	if x.c.Output != nil {
+		label += " " + syntax.String(x.c.Output)
+	}
+	return sens.Settings{Ctx: x.ctx, Progress: func(done, total int) { x.sink.Progress(id, label, done, total) }}
+}
+
+// problem compiles the model with the command's output. A name is analysed
+// as it is; an expression becomes an anonymous formula named by its text.
+func (x *call) problem() (*sens.Problem, error) {
+	out := x.c.Output
+	name := syntax.String(out)
+	var prog *sens.Program
+	var err error
+	if _, ok := out.(*syntax.Ident); ok {
+		prog, err = x.in.Model.Compile()
 	} else {
-		prog, err = in.Model.CompileExpr(name, f, out, nil)
+		prog, err = x.in.Model.CompileExpr(name, x.f, out, nil)
 	}
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
 	pr, err := prog.Problem(name)
 	if err != nil {
-		return nil, nil, posErr(f, out.Pos(), "%v", err)
+		return nil, x.errorf(out.Pos(), "%v", err)
 	}
-	in.warnings(prog, pr, sink)
-	return prog, pr, nil
+	x.in.warnings(prog, pr, x.sink)
+	return pr, nil
 }
 
-func (in *Interp) undefinedOutput(f *syntax.File, id *syntax.Ident, prog *sens.Program) error {
-	msg := "undefined: " + id.Name
-	if s := syntax.Suggest(id.Name, prog.Names()); s != "" {
-		msg += " (did you mean " + s + "?)"
-	}
-	return posErr(f, id.Pos(), "%s", msg)
-}
-
-// warnings sends the compile warnings and the step-function warning to stderr.
-func (in *Interp) warnings(prog *sens.Program, pr *sens.Problem, sink Sink) {
-	in.compileWarnings(prog, sink)
-	if len(pr.Steps) > 0 {
-		at := make([]string, 0, len(pr.Steps))
-		seen := map[string]bool{}
-		for _, s := range pr.Steps {
-			// One mention per line: if(x > 5, ...) is one step, not two.
-			key := fmt.Sprintf("%s:%d", s.Filename, s.Line)
-			if !seen[key] {
-				seen[key] = true
-				at = append(at, s.String())
-			}
-		}
-		warn(sink, "%s: a step-shaped operation (floor, ceil, round, if or a comparison) lies on the path of %s: its derivative is taken as 0, so local results can miss a jump", strings.Join(at, ", "), pr.Output)
-	}
-}
-
-// value shows the value of a bare expression.
-func (in *Interp) value(f *syntax.File, s *syntax.ExprStmt) (*Result, error) {
-	name := syntax.String(s.X)
-	var prog *sens.Program
-	var err error
-	if id, ok := s.X.(*syntax.Ident); ok && s.Unit == nil {
-		prog, err = in.Model.Compile()
-		if err == nil {
-			if inp, _ := prog.Lookup(id.Name); inp != nil {
-				v := ValueResult{Kind: "value", Name: inp.Name, Value: inp.Value, Unit: inp.Unit}
-				return valueResult(v), nil
-			}
-			if _, fm := prog.Lookup(id.Name); fm == nil {
-				return nil, in.undefinedOutput(f, id, prog)
-			}
-		}
-	} else {
-		// The expression becomes a formula of its own; with a unit to show it
-		// in, its name carries the unit, so that it never clashes with a
-		// formula of the model ("price [k$]" beside price).
-		internal := name
-		if s.Unit != nil {
-			internal += " [" + s.Unit.Text + "]"
-		}
-		prog, err = in.Model.CompileExpr(internal, f, s.X, s.Unit)
-		name = internal
-	}
+// input returns the input an axis of the command varies.
+func (x *call) input(pr *sens.Problem, a *syntax.Axis) (*sens.Input, error) {
+	in, _, err := pr.Input(a.Name.Name)
 	if err != nil {
-		return nil, err
+		return nil, x.errorf(a.Name.Pos(), "%v", err)
 	}
-	fn, err := prog.Fn(name)
-	if err != nil {
-		return nil, posErr(f, s.X.Pos(), "%v", err)
-	}
-	name = syntax.String(s.X)
-	y, err := fn.Eval(prog.Baseline())
-	if err != nil {
-		return nil, err
-	}
-	return valueResult(ValueResult{Kind: "value", Name: name, Value: y, Unit: fn.Formula().Unit}), nil
+	return in, nil
 }
 
-func valueResult(v ValueResult) *Result {
-	text := v.Name + " = " + withUnit(v.Value, v.Unit)
-	return &Result{Kind: "value", Data: v, Text: text,
-		HTML: `<p class="nudge-value"><code>` + html.EscapeString(v.Name) + `</code> = <b>` + html.EscapeString(withUnit(v.Value, v.Unit)) + `</b></p>`}
+// axisRange reads the range LOW..HIGH written after an axis's input, in the
+// input's unit.
+func (x *call) axisRange(a *syntax.Axis, in *sens.Input) (lo, hi float64, err error) {
+	if lo, err = sens.Constant(x.f, a.Low, in.Unit, "the low end of the range of "+in.Name); err != nil {
+		return 0, 0, err
+	}
+	if hi, err = sens.Constant(x.f, a.High, in.Unit, "the high end of the range of "+in.Name); err != nil {
+		return 0, 0, err
+	}
+	low, high := syntax.String(a.Low), syntax.String(a.High)
+	switch {
+	case lo > hi:
+		return 0, 0, x.errorf(a.Low.Pos(), "the range %s..%s of %s is reversed: write %s..%s", low, high, in.Name, high, low)
+	case lo == hi:
+		return 0, 0, x.errorf(a.Low.Pos(), "the range %s..%s of %s is empty: its ends are equal", low, high, in.Name)
+	}
+	return lo, hi, nil
 }
 
-// drivers runs "drivers OUT".
-func (in *Interp) drivers(_ context.Context, f *syntax.File, c *syntax.CommandStmt, sink Sink) error {
-	top, err := topOption(f, c)
-	if err != nil {
-		return err
-	}
-	_, pr, err := in.problem(f, c.Output, sink)
-	if err != nil {
-		return err
-	}
-	d, err := sens.ComputeDrivers(pr)
-	if err != nil {
-		return err
-	}
-	if top > 0 && top < len(d.Inputs) {
-		d.Inputs = d.Inputs[:top]
-	}
-	sink.Result(driversResult(d, in.Opts.Width), false)
-	return nil
-}
-
-// topOption reads the only option of drivers and tornado, top=N (0 when
-// absent), and rejects any other.
-func topOption(f *syntax.File, c *syntax.CommandStmt) (int, error) {
-	if err := noOptions(f, c, "top"); err != nil {
-		return 0, err
-	}
-	if o := c.Option("top"); o != nil {
-		return intOption(f, o, 1)
-	}
-	return 0, nil
-}
-
-func noOptions(f *syntax.File, c *syntax.CommandStmt, allowed ...string) error {
-	for _, o := range c.Options {
-		ok := false
-		for _, a := range allowed {
-			ok = ok || o.Key.Name == a
-		}
-		if !ok {
-			msg := fmt.Sprintf("%s has no option %s", c.Verb, o.Key.Name)
-			if len(allowed) > 0 {
-				msg += " (options: " + strings.Join(allowed, ", ") + ")"
-			}
-			return posErr(f, o.Key.Pos(), "%s", msg)
-		}
-	}
-	return nil
-}
-
-func driversResult(d *sens.Drivers, barWidth int) *Result {
-	t := &table{head: []string{"input", "value", "∂" + wrapExpr(d.Output) + "/∂input", "elasticity", ""}, right: []bool{false, true, true, true, false}}
-	bw := barWidth / 3
-	if bw < 8 {
-		bw = 8
-	}
-	shown := d.Inputs
-	if len(shown) > maxTableRows {
-		shown = shown[:maxTableRows]
-	}
-	for _, x := range shown {
-		t.add(x.Name, withUnit(x.Value, x.Unit), withUnit(x.Partial, x.PartialUnit), fmt.Sprintf("%+.4f", x.Elasticity), bar(x.Share, bw))
-	}
-	head := fmt.Sprintf("%s = %s at the baseline; inputs ranked by |elasticity| (%% change of %s per 1%% change of the input)\n",
-		d.Output, withUnit(d.Value, d.Unit), d.Output)
-	text := head + t.text()
-	th := *t
-	th.head = th.head[:4]
-	for i := range th.rows {
-		th.rows[i] = th.rows[i][:4]
-	}
-	if rest := len(d.Inputs) - len(shown); rest > 0 {
-		more := fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %.4f (all of them are in the JSON; top=N keeps N)",
-			num(float64(rest)), math.Abs(d.Inputs[len(shown)].Elasticity))
-		text += more + "\n"
-		th.rows = append(th.rows, []string{more, "", "", ""})
-	}
-	return &Result{Kind: "drivers", Data: d, Text: text, HTML: th.html(strings.TrimSpace(head)), Caution: true}
-}
-
-// bar draws a fraction 0..1 as Unicode block characters, eighths included.
-func bar(frac float64, width int) string {
-	if frac < 0 {
-		frac = 0
-	}
-	if frac > 1 {
-		frac = 1
-	}
-	eighths := int(frac*float64(width)*8 + 0.5)
-	full := eighths / 8
-	s := strings.Repeat("█", full)
-	if r := eighths % 8; r > 0 {
-		s += string([]rune("▏▎▍▌▋▊▉")[r-1])
-	}
-	return s
-}
-
-// wrapExpr puts an output written as an expression in parentheses, for
-// notation such as ∂(y / a)/∂input.
-func wrapExpr(name string) string {
-	if strings.ContainsAny(name, " +-*/^()") {
-		return "(" + name + ")"
-	}
-	return name
-}
+// show sends a result to the sink.
+func (x *call) show(r *render.Result) { x.sink.Result(r, false) }

@@ -17,11 +17,11 @@ import (
 // Version is the version of nudge.
 const Version = "0.1.0"
 
-// KernelName is the kernelspec's directory name, and the language name.
-const KernelName = "nudge"
+// Language is the name of the language, and of the kernelspec's directory.
+const Language = "nudge"
 
-// KernelSpec is the kernel.json that Jupyter reads.
-type KernelSpec struct {
+// Spec is the kernelspec, the kernel.json that Jupyter reads.
+type Spec struct {
 	Argv          []string       `json:"argv"`
 	DisplayName   string         `json:"display_name"`
 	Language      string         `json:"language"`
@@ -29,13 +29,13 @@ type KernelSpec struct {
 	Metadata      map[string]any `json:"metadata"`
 }
 
-// KernelSpecDir returns where a kernelspec goes for the scope "user",
+// SpecDir returns where a kernelspec goes for the scope "user",
 // "sys-prefix" or "prefix" (with prefix set).
-func KernelSpecDir(scope, prefix string) (string, error) {
+func SpecDir(scope, prefix string) (string, error) {
 	switch scope {
 	case "user":
 		if d := os.Getenv("JUPYTER_DATA_DIR"); d != "" {
-			return filepath.Join(d, "kernels", KernelName), nil
+			return filepath.Join(d, "kernels", Language), nil
 		}
 		home, err := os.UserHomeDir()
 		if err != nil {
@@ -43,15 +43,15 @@ func KernelSpecDir(scope, prefix string) (string, error) {
 		}
 		switch runtime.GOOS {
 		case "darwin":
-			return filepath.Join(home, "Library", "Jupyter", "kernels", KernelName), nil
+			return filepath.Join(home, "Library", "Jupyter", "kernels", Language), nil
 		case "windows":
-			return filepath.Join(os.Getenv("APPDATA"), "jupyter", "kernels", KernelName), nil
+			return filepath.Join(os.Getenv("APPDATA"), "jupyter", "kernels", Language), nil
 		}
 		data := os.Getenv("XDG_DATA_HOME")
 		if data == "" {
 			data = filepath.Join(home, ".local", "share")
 		}
-		return filepath.Join(data, "jupyter", "kernels", KernelName), nil
+		return filepath.Join(data, "jupyter", "kernels", Language), nil
 	case "sys-prefix":
 		p := os.Getenv("CONDA_PREFIX")
 		if p == "" {
@@ -64,26 +64,26 @@ func KernelSpecDir(scope, prefix string) (string, error) {
 			}
 			p = strings.TrimSpace(string(out))
 		}
-		return filepath.Join(p, "share", "jupyter", "kernels", KernelName), nil
+		return filepath.Join(p, "share", "jupyter", "kernels", Language), nil
 	case "prefix":
 		if prefix == "" {
 			return "", fmt.Errorf("--prefix needs a directory")
 		}
-		return filepath.Join(prefix, "share", "jupyter", "kernels", KernelName), nil
+		return filepath.Join(prefix, "share", "jupyter", "kernels", Language), nil
 	}
 	return "", fmt.Errorf("unknown install scope %q", scope)
 }
 
-// InstallKernelSpec writes kernel.json and the logos into dir, with exe as the
+// InstallSpec writes kernel.json and the logos into dir, with exe as the
 // program Jupyter starts.
-func InstallKernelSpec(dir, exe string) error {
+func InstallSpec(dir, exe string) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
-	spec := KernelSpec{
+	spec := Spec{
 		Argv:          []string{exe, "kernel", "-f", "{connection_file}"},
 		DisplayName:   "nudge (cost-model sensitivity)",
-		Language:      KernelName,
+		Language:      Language,
 		InterruptMode: "message",
 		Metadata:      map[string]any{},
 	}

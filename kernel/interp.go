@@ -12,12 +12,11 @@ import (
 	"runtime/debug"
 	"strings"
 
+	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/unit"
 )
-
-// Caution is the one-line caution shown with analysis results.
-const Caution = "Caution: " + sens.Caution
 
 // Sink receives what a cell produces, in order.
 type Sink interface {
@@ -25,27 +24,18 @@ type Sink interface {
 	Stream(name, text string)
 	// Result shows a result. last is true for the value of a bare expression
 	// that ends the cell (Jupyter's execute_result).
-	Result(r *Result, last bool)
+	Result(r *render.Result, last bool)
 	// Progress reports the progress of a long analysis: id names it, done of
 	// total units of work are finished; done == total closes it.
 	Progress(id, label string, done, total int)
-}
-
-// Options change how results are drawn.
-type Options struct {
-	// PNG adds image/png beside image/svg+xml.
-	PNG bool
-	// Charts can be turned off (for the command line and JSON output).
-	NoCharts bool
-	// Width is the width of text charts in columns.
-	Width int
 }
 
 // Interp is the state of one session: the model and the counters. It is not
 // safe for concurrent use.
 type Interp struct {
 	Model *sens.Model
-	Opts  Options
+	// Opts say how results are drawn; the charts command changes them.
+	Opts render.Options
 
 	cells  int
 	warned *sens.Program // the last program whose compile warnings were shown
@@ -53,7 +43,7 @@ type Interp struct {
 
 // New returns an interpreter with an empty model.
 func New() *Interp {
-	return &Interp{Model: sens.NewModel(), Opts: Options{Width: 60}}
+	return &Interp{Model: sens.NewModel(), Opts: render.Options{Width: 60}}
 }
 
 // CellError is the failure of a cell: positioned errors with their source lines.
@@ -193,4 +183,88 @@ func (in *Interp) compileWarnings(prog *sens.Program, sink Sink) {
 	for _, w := range prog.Warnings {
 		warn(sink, "%s", w.Error())
 	}
+}
+
+// warnings sends the compile warnings and the step-function warning to stderr.
+func (in *Interp) warnings(prog *sens.Program, pr *sens.Problem, sink Sink) {
+	in.compileWarnings(prog, sink)
+	if len(pr.Steps) > 0 {
+		at := make([]string, 0, len(pr.Steps))
+		seen := map[string]bool{}
+		for _, s := range pr.Steps {
+			// One mention per line: if(x > 5, ...) is one step, not two.
+			key := fmt.Sprintf("%s:%d", s.Filename, s.Line)
+			if !seen[key] {
+				seen[key] = true
+				at = append(at, s.String())
+			}
+		}
+		warn(sink, "%s: a step-shaped operation (floor, ceil, round, if or a comparison) lies on the path of %s: its derivative is taken as 0, so local results can miss a jump", strings.Join(at, ", "), pr.Output)
+	}
+}
+
+// value shows the value of a bare expression. A name is looked up as it is;
+// an expression becomes a formula of its own, and with a unit to show it in,
+// its name carries the unit, so that it never clashes with a formula of the
+// model ("price [k$]" beside price).
+func (in *Interp) value(f *syntax.File, s *syntax.ExprStmt) (*render.Result, error) {
+	name := syntax.String(s.X)
+	internal := name
+	var prog *sens.Program
+	var err error
+	if _, ok := s.X.(*syntax.Ident); ok && s.Unit == nil {
+		prog, err = in.Model.Compile()
+	} else {
+		if s.Unit != nil {
+			internal += " [" + s.Unit.Text + "]"
+		}
+		prog, err = in.Model.CompileExpr(internal, f, s.X, s.Unit)
+	}
+	if err != nil {
+		return nil, err
+	}
+	v, err := prog.Value(internal)
+	if err != nil {
+		var ee *sens.EvalError
+		if errors.As(err, &ee) {
+			return nil, err
+		}
+		return nil, posErr(f, s.X.Pos(), "%v", err)
+	}
+	v.Name = name
+	return render.Value(v, &in.Opts), nil
+}
+
+// ErrorObject is the JSON object of a failed statement.
+type ErrorObject struct {
+	Kind    string `json:"kind"` // "error"
+	Message string `json:"message"`
+	Line    int    `json:"line"`
+	Column  int    `json:"column"`
+	File    string `json:"file,omitempty"`
+}
+
+// ErrorObjects returns the JSON objects of a cell error, one per error.
+func (e *CellError) ErrorObjects() []ErrorObject {
+	out := make([]ErrorObject, len(e.Errors))
+	for i, x := range e.Errors {
+		out[i] = ErrorObject{Kind: "error", Message: x.Msg, Line: x.Pos.Line, Column: x.Pos.Column, File: x.Pos.Filename}
+	}
+	return out
+}
+
+// nameList joins names for a message, the first max of them and a count of
+// the rest: "a, b, c and 4,997 others".
+func nameList(names []string, max int) string {
+	if len(names) <= max {
+		return strings.Join(names, ", ")
+	}
+	return strings.Join(names[:max], ", ") + " and " + unit.Format(float64(len(names)-max), "") + " others"
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }

@@ -25,14 +25,14 @@ func TestCellsShareStateAndRollBack(t *testing.T) {
 	if err := in.Execute(ctx, "", "c", s); err != nil {
 		t.Fatal(err)
 	}
-	if len(s.results) != 1 || s.results[0].Text != "c = $6" {
+	if len(s.results) != 1 || s.results[0].Text() != "c = $6" {
 		t.Fatalf("after the failed cell: %+v", s.results)
 	}
 	// Redefining replaces; reset forgets.
 	s = &captureSink{}
 	in.Execute(ctx, "", "input p = 5 [$/kg]\nc", s)
-	if s.results[0].Text != "c = $10" {
-		t.Errorf("redefined: %s", s.results[0].Text)
+	if s.results[0].Text() != "c = $10" {
+		t.Errorf("redefined: %s", s.results[0].Text())
 	}
 	in.Execute(ctx, "", "reset", s)
 	if err := in.Execute(ctx, "", "c", s); err == nil || !strings.Contains(err.Error(), "undefined: c") {
@@ -72,8 +72,9 @@ func TestInterruptedCell(t *testing.T) {
 }
 
 // TestImportDirection checks the layering: sens never imports plotting, zmq4 or
-// kernel; plotting imports no other nudge package; syntax and unit only the
-// standard library.
+// kernel; plotting imports no nudge package but the quantity formatter
+// (sens/unit); the renderer nothing of the kernel or Jupyter; syntax and unit
+// only the standard library.
 func TestImportDirection(t *testing.T) {
 	deps := func(pkg string) []string {
 		out, err := exec.Command("go", "list", "-deps", pkg).Output()
@@ -87,7 +88,8 @@ func TestImportDirection(t *testing.T) {
 		forbidden []string
 	}{
 		{"github.com/nudge-dev/nudge/sens", []string{"/plotting", "/kernel", "zmq4"}},
-		{"github.com/nudge-dev/nudge/plotting", []string{"nudge-dev/nudge/sens", "/kernel", "zmq4"}},
+		{"github.com/nudge-dev/nudge/plotting", []string{"nudge-dev/nudge/sens/syntax", "/kernel", "zmq4"}},
+		{"github.com/nudge-dev/nudge/kernel/render", []string{"/kernel/jupyter", "zmq4"}},
 		{"github.com/nudge-dev/nudge/kernel/jupyter", []string{"nudge-dev/nudge/sens", "/plotting"}},
 	} {
 		for _, d := range deps(tc.pkg) {
@@ -95,6 +97,9 @@ func TestImportDirection(t *testing.T) {
 				if strings.Contains(d, f) {
 					t.Errorf("%s depends on %s", tc.pkg, d)
 				}
+			}
+			if strings.HasSuffix(tc.pkg, "/plotting") && d == "github.com/nudge-dev/nudge/sens" {
+				t.Errorf("plotting depends on the engine, %s", d)
 			}
 		}
 	}
@@ -168,13 +173,13 @@ func TestDriversTopAndLongTables(t *testing.T) {
 		t.Fatal(err)
 	}
 	full, top := s.results[0], s.results[1]
-	if n := len(full.Data.(*sens.Drivers).Inputs); n != 40 {
+	if n := len(full.Data.(*sens.DriversResult).Inputs); n != 40 {
 		t.Errorf("JSON of drivers y holds %d inputs, want all 40", n)
 	}
-	if !strings.Contains(full.Text, "… and 10 more inputs") || !strings.Contains(full.HTML, "… and 10 more inputs") {
-		t.Errorf("long table not summarised:\n%s", full.Text)
+	if !strings.Contains(full.Text(), "… and 10 more inputs") || !strings.Contains(full.HTML(), "… and 10 more inputs") {
+		t.Errorf("long table not summarised:\n%s", full.Text())
 	}
-	d := top.Data.(*sens.Drivers)
+	d := top.Data.(*sens.DriversResult)
 	// y = sum of x_i with x_i = i+1: elasticity of x_i is (i+1)/820, so x39, x38, x37 lead.
 	if len(d.Inputs) != 3 || d.Inputs[0].Name != "x39" || d.Inputs[2].Name != "x37" {
 		t.Errorf("top=3: %+v", d.Inputs)
@@ -188,7 +193,7 @@ func TestValueInAnotherUnit(t *testing.T) {
 		t.Fatal(err)
 	}
 	// 600 $ is 0.6 k$; 200 L is 0.2 m3 (SI Brochure: 1 L = 1 dm3).
-	if s.results[0].Text != "price = 0.6 k$" || s.results[1].Text != "q = 0.2 m3" {
-		t.Errorf("got %q and %q", s.results[0].Text, s.results[1].Text)
+	if s.results[0].Text() != "price = 0.6 k$" || s.results[1].Text() != "q = 0.2 m3" {
+		t.Errorf("got %q and %q", s.results[0].Text(), s.results[1].Text())
 	}
 }

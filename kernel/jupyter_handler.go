@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/nudge-dev/nudge/kernel/jupyter"
+	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/syntax"
 	"github.com/nudge-dev/nudge/sens/unit"
@@ -78,7 +79,7 @@ func (h *Handler) Info() jupyter.KernelInfo {
 		Banner:                "nudge " + Version + ": sensitivity analysis of cost models\nType a model (input x = 1 [kg] (±10%), y = 2 * x) and commands (drivers y, tornado y).",
 		HelpLinks:             []jupyter.HelpLink{{Text: "nudge language reference", URL: "https://github.com/nudge-dev/nudge#language-reference"}},
 		Language: jupyter.LanguageInfo{
-			Name:          KernelName,
+			Name:          Language,
 			Version:       Version,
 			MIMEType:      "text/x-nudge",
 			FileExtension: ".nudge",
@@ -90,7 +91,7 @@ func (h *Handler) Info() jupyter.KernelInfo {
 type jupyterSink struct {
 	h       *Handler
 	out     jupyter.Output
-	opts    Options
+	opts    render.Options
 	last    *jupyter.Bundle
 	shown   map[string]bool
 	updated map[string]time.Time
@@ -98,7 +99,7 @@ type jupyterSink struct {
 
 func (s *jupyterSink) Stream(name, text string) { s.out.Stream(name, text) }
 
-func (s *jupyterSink) Result(r *Result, last bool) {
+func (s *jupyterSink) Result(r *render.Result, last bool) {
 	b := &jupyter.Bundle{Data: r.Bundle(), Metadata: map[string]any{}}
 	if last {
 		s.last = b
@@ -117,7 +118,8 @@ func (s *jupyterSink) Progress(id, label string, done, total int) {
 	if total > 0 {
 		frac = float64(done) / float64(total)
 	}
-	text := fmt.Sprintf("%s %s %3.0f%% (%d of %d)", label, bar(frac, 24)+strings.Repeat(" ", 24-len([]rune(bar(frac, 24)))), 100*frac, done, total)
+	bar := render.Bar(frac, 24)
+	text := fmt.Sprintf("%s %s %3.0f%% (%d of %d)", label, bar+strings.Repeat(" ", 24-len([]rune(bar))), 100*frac, done, total)
 	b := &jupyter.Bundle{Data: map[string]any{"text/plain": text}, Metadata: map[string]any{}}
 	if s.updated[id].IsZero() && s.shown[id] {
 		return // finished already
@@ -303,13 +305,15 @@ func (h *Handler) Inspect(code string, cursor int, detail int) (*jupyter.Bundle,
 func (h *Handler) describe(word string, detail int) string {
 	if prog, err := h.in.Model.Compile(); err == nil {
 		if in, f := prog.Lookup(word); in != nil {
-			s := fmt.Sprintf("input %s = %s\nrange: %s .. %s (%s)", in.Name, withUnit(in.Value, in.Unit), num(in.Low), num(in.High), in.Source)
+			s := fmt.Sprintf("input %s = %s\nrange: %s .. %s (%s)", in.Name, unit.Format(in.Value, in.Unit),
+				unit.Format(in.Low, in.Unit), unit.Format(in.High, in.Unit), in.Source)
 			if in.Dist != nil {
 				ps := make([]string, len(in.Dist.Params()))
 				for i, v := range in.Dist.Params() {
-					ps[i] = num(v)
+					ps[i] = unit.Format(v, "")
 				}
-				s += fmt.Sprintf("\ndistribution: %s(%s), mean %s, sd %s", in.Dist.Name(), strings.Join(ps, ", "), num(in.Dist.Mean()), num(in.Dist.StdDev()))
+				s += fmt.Sprintf("\ndistribution: %s(%s), mean %s, sd %s", in.Dist.Name(), strings.Join(ps, ", "),
+					unit.Format(in.Dist.Mean(), in.Unit), unit.Format(in.Dist.StdDev(), in.Unit))
 			}
 			return s + fmt.Sprintf("\ndeclared at %s", in.Pos)
 		} else if f != nil {
@@ -318,18 +322,19 @@ func (h *Handler) describe(word string, detail int) string {
 				s += "  [" + f.Unit + "]"
 			}
 			if pr, err := prog.Problem(f.Name); err == nil {
-				if d, err := sens.ComputeDrivers(pr); err == nil {
-					s += "\nvalue: " + withUnit(d.Value, d.Unit)
+				if d, err := sens.Drivers(pr, nil); err == nil {
+					s += "\nvalue: " + unit.Format(d.Value, d.Unit)
 					n := 3
 					if detail > 0 {
 						n = len(d.Inputs)
 					}
+					el := unit.Fixed("", 4)
 					var top []string
 					for i, x := range d.Inputs {
 						if i >= n || x.Elasticity == 0 {
 							break
 						}
-						top = append(top, fmt.Sprintf("%s (elasticity %+.3f)", x.Name, x.Elasticity))
+						top = append(top, fmt.Sprintf("%s (elasticity %s)", x.Name, el.Signed(x.Elasticity)))
 					}
 					if len(top) > 0 {
 						s += "\ntop drivers: " + strings.Join(top, ", ")
@@ -349,22 +354,8 @@ func (h *Handler) describe(word string, detail int) string {
 	if d := sens.LookupDist(word); d != nil {
 		return fmt.Sprintf("distribution %s(%s): %s\nexample: %s", d.Name, strings.Join(d.Params, ", "), d.Doc, d.Example)
 	}
-	if doc, ok := CommandDocs[word]; ok {
-		return "command " + word + ": " + doc
+	if c := commands[word]; c != nil {
+		return "command " + c.Usage() + ": " + c.Doc + ". Example: " + c.Example
 	}
 	return ""
-}
-
-// CommandDocs is a one-line description of each command with an example.
-var CommandDocs = map[string]string{
-	"drivers":   "value, partial derivatives and elasticities of an output, ranked. Example: drivers total top=10",
-	"tornado":   "the output at the low and high end of each input's range, sorted by swing. Example: tornado total top=8",
-	"spider":    "the output against the percentage change of each input. Example: spider total (±30%)",
-	"sweep":     "the output over a span of one or two inputs. Example: sweep total over rate 40..80 and hours 1..2",
-	"breakeven": "the input value where the output reaches a target. Example: breakeven total = 160000 over steel",
-	"scenario":  "a named set of input values. Example: scenario lean: hours = 1.2, rate = 55",
-	"compare":   "the output across scenarios, against the baseline. Example: compare total across base, lean",
-	"print":     "writes a line of text. Example: print \"Plant A\"",
-	"reset":     "forgets every input, formula and scenario. Example: reset",
-	"charts":    "how charts are drawn from now on: svg (the default), png (a bitmap beside the SVG) or text. Example: charts png",
 }

@@ -51,9 +51,9 @@ func TestInspect(t *testing.T) {
 		cursor int
 		want   []string
 	}{
-		{"cost", 2, []string{"cost = rate * t", "value: $120", "top drivers: rate (elasticity +1.000), t (elasticity +1.000)"}},
+		{"cost", 2, []string{"cost = rate * t", "value: $120", "top drivers: rate (elasticity +1.0000), t (elasticity +1.0000)"}},
 		{"rate", 4, []string{"input rate = 60 $/h", "distribution: normal(60, 5)"}},
-		{"t", 1, []string{"range: 1 .. 3 (range)"}},
+		{"t", 1, []string{"range: 1 h .. 3 h (range)"}},
 		{"x = recovery(0.1, 5)", 8, []string{"function recovery"}},
 		{"input a = 1 ~ pert(1, 2, 3)", 16, []string{"distribution pert(low, mode, high)"}},
 		{"tornado cost", 3, []string{"command tornado"}},

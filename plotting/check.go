@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"math"
 )
 
@@ -32,7 +33,7 @@ func increasing(what, field string, vs []float64) error {
 	for i := 1; i < len(vs); i++ {
 		if !(vs[i] > vs[i-1]) {
 			return fmt.Errorf("%s: %s must increase strictly, but %s[%d] = %s follows %s",
-				what, field, field, i, FormatValue(vs[i], ""), FormatValue(vs[i-1], ""))
+				what, field, field, i, unit.Format(vs[i], ""), unit.Format(vs[i-1], ""))
 		}
 	}
 	return nil

@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"io"
 	"math"
 	"slices"
@@ -179,7 +180,7 @@ func (d *Distribution) bins() int {
 }
 
 func (d *Distribution) frame() *frame {
-	unit := clean(d.Unit)
+	u := clean(d.Unit)
 	xs, _, _ := d.sortedSamples()
 	var sum float64
 	for _, x := range xs {
@@ -187,8 +188,8 @@ func (d *Distribution) frame() *frame {
 	}
 	f := &frame{
 		title: d.heading(),
-		subtitle: fmt.Sprintf("%s samples; mean %s, median %s", FormatValue(float64(len(xs)), ""),
-			FormatValue(sum/float64(len(xs)), unit), FormatValue(quantile(xs, 0.5), unit)),
+		subtitle: fmt.Sprintf("%s samples; mean %s, median %s", unit.Format(float64(len(xs)), ""),
+			unit.Format(sum/float64(len(xs)), u), unit.Format(quantile(xs, 0.5), u)),
 		legend: []legendEntry{
 			{label: "share of samples per bin", thumb: swatchThumb(colLow)},
 			{label: "cumulative share", thumb: lineThumb(lineStyle(colInk, widthLine), nil)},
@@ -197,7 +198,7 @@ func (d *Distribution) frame() *frame {
 	if len(d.Markers) > 0 {
 		var parts []string
 		for _, m := range d.Markers {
-			parts = append(parts, orDefault(m.Label, "marker")+" "+FormatValue(m.Value, unit))
+			parts = append(parts, orDefault(m.Label, "marker")+" "+unit.Format(m.Value, u))
 		}
 		f.legend = append(f.legend, legendEntry{label: "markers", thumb: lineThumb(markerLineStyle(), nil)})
 		f.notes = append(f.notes, strings.Join(parts, " · "))
@@ -270,16 +271,16 @@ func (d *Distribution) draw(c draw.Canvas) {
 }
 
 func (d *Distribution) caption() string {
-	unit := clean(d.Unit)
+	u := clean(d.Unit)
 	xs, _, _ := d.sortedSamples()
 	var b strings.Builder
 	fmt.Fprintf(&b, "Distribution of %s from %s samples: a histogram (share of samples per bin) above the empirical cumulative distribution. ",
-		orDefault(d.Output, "the output"), FormatValue(float64(len(xs)), ""))
-	fmt.Fprintf(&b, "Samples range from %s to %s. ", FormatValue(xs[0], unit), FormatValue(xs[len(xs)-1], unit))
+		orDefault(d.Output, "the output"), unit.Format(float64(len(xs)), ""))
+	fmt.Fprintf(&b, "Samples range from %s to %s. ", unit.Format(xs[0], u), unit.Format(xs[len(xs)-1], u))
 	if len(d.Markers) > 0 {
 		var parts []string
 		for _, m := range d.Markers {
-			parts = append(parts, orDefault(m.Label, "marker")+" "+FormatValue(m.Value, unit))
+			parts = append(parts, orDefault(m.Label, "marker")+" "+unit.Format(m.Value, u))
 		}
 		b.WriteString("Dashed lines: " + strings.Join(parts, ", ") + ". ")
 	}
@@ -421,7 +422,7 @@ func (d *Distribution) Text(width int) string {
 		return textMessage(d.heading(), err)
 	}
 	width = textWidth(width)
-	unit := clean(d.Unit)
+	u := clean(d.Unit)
 	xs, lo, hi := d.sortedSamples()
 	// Round bin widths can give more bins than asked for: ask for fewer
 	// until the table has at most 15 rows.
@@ -437,7 +438,7 @@ func (d *Distribution) Text(width int) string {
 	rangeW, noteW := 5, 0
 	var top float64
 	for i, b := range bins {
-		ranges[i] = FormatValue(b.Min, "") + " – " + FormatValue(b.Max, "")
+		ranges[i] = unit.Format(b.Min, "") + " – " + unit.Format(b.Max, "")
 		rangeW = max(rangeW, runeLen(ranges[i]))
 		top = math.Max(top, b.Weight)
 	}
@@ -466,8 +467,8 @@ func (d *Distribution) Text(width int) string {
 	for _, x := range xs {
 		sum += x
 	}
-	b.WriteString(truncate(fmt.Sprintf("%s, %s samples, mean %s", axisTitle(orDefault(d.Output, "output"), unit),
-		FormatValue(float64(len(xs)), ""), FormatValue(sum/float64(len(xs)), unit)), width) + "\n")
+	b.WriteString(truncate(fmt.Sprintf("%s, %s samples, mean %s", axisTitle(orDefault(d.Output, "output"), u),
+		unit.Format(float64(len(xs)), ""), unit.Format(sum/float64(len(xs)), u)), width) + "\n")
 	b.WriteString(padRight("bin", rangeW) + " " + strings.Repeat(" ", barW) + " " + padLeft("share", pctW) + " " + padLeft("cum.", pctW) + " " + strings.Repeat(" ", noteW) + "\n")
 	cum := 0.0
 	for i, bin := range bins {
@@ -479,7 +480,7 @@ func (d *Distribution) Text(width int) string {
 	if len(d.Markers) > 0 {
 		var parts []string
 		for _, m := range d.Markers {
-			parts = append(parts, orDefault(m.Label, "marker")+" "+FormatValue(m.Value, unit))
+			parts = append(parts, orDefault(m.Label, "marker")+" "+unit.Format(m.Value, u))
 		}
 		b.WriteString(truncate(strings.Join(parts, " · "), width) + "\n")
 	}

@@ -12,8 +12,9 @@
 // ScatterPoints) that can also be added to a plot.Plot of one's own.
 //
 // Charts never draw NaN or infinite values: Validate reports them, naming
-// the field, and the writers return that error. FormatValue is the
-// package's one rule for writing numbers with units, shared with tables.
+// the field, and the writers return that error. Numbers are written by
+// nudge's one quantity formatter, unit.Format, as in the tables.
 //
-// The package imports gonum.org/v1/plot and the standard library only.
+// The package imports gonum.org/v1/plot, the formatter's package
+// (sens/unit, itself standard library only) and the standard library.
 package plotting

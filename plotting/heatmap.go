@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"image"
 	"io"
 	"math"
@@ -157,7 +158,7 @@ func (h *HeatMap) baselineInside() bool {
 }
 
 func (h *HeatMap) frame() *frame {
-	unit := clean(h.Unit)
+	u := clean(h.Unit)
 	f := &frame{
 		title: h.heading(),
 		subtitle: fmt.Sprintf("Output over a grid of %s and %s, the other inputs at baseline",
@@ -169,11 +170,11 @@ func (h *HeatMap) frame() *frame {
 	if h.Target != nil {
 		t := *h.Target
 		if h.targetInRange() {
-			f.legend = append(f.legend, legendEntry{label: "target " + FormatValue(t, unit), thumb: contourThumb()})
+			f.legend = append(f.legend, legendEntry{label: "target " + unit.Format(t, u), thumb: contourThumb()})
 		} else {
 			lo, hi := gridXYZ{z: h.Z}.zRange()
 			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached on this grid: %s runs from %s to %s.",
-				FormatValue(t, unit), orDefault(h.Output, "the output"), FormatValue(lo, unit), FormatValue(hi, unit)))
+				unit.Format(t, u), orDefault(h.Output, "the output"), unit.Format(lo, u), unit.Format(hi, u)))
 		}
 	}
 	return f
@@ -295,19 +296,19 @@ func drawColorBar(c draw.Canvas, r vg.Rectangle, cmap palette.ColorMap, ticks []
 }
 
 func (h *HeatMap) caption() string {
-	unit := clean(h.Unit)
+	u := clean(h.Unit)
 	lo, hi := gridXYZ{z: h.Z}.zRange()
 	var b strings.Builder
 	fmt.Fprintf(&b, "Heat map of %s over %s from %s to %s (across) and %s from %s to %s (up), the other inputs at baseline; darker is higher, from %s to %s. ",
 		orDefault(h.Output, "the output"),
-		orDefault(h.XName, "x"), FormatValue(h.X[0], clean(h.XUnit)), FormatValue(h.X[len(h.X)-1], clean(h.XUnit)),
-		orDefault(h.YName, "y"), FormatValue(h.Y[0], clean(h.YUnit)), FormatValue(h.Y[len(h.Y)-1], clean(h.YUnit)),
-		FormatValue(lo, unit), FormatValue(hi, unit))
+		orDefault(h.XName, "x"), unit.Format(h.X[0], clean(h.XUnit)), unit.Format(h.X[len(h.X)-1], clean(h.XUnit)),
+		orDefault(h.YName, "y"), unit.Format(h.Y[0], clean(h.YUnit)), unit.Format(h.Y[len(h.Y)-1], clean(h.YUnit)),
+		unit.Format(lo, u), unit.Format(hi, u))
 	if h.Target != nil {
 		if h.targetInRange() {
-			fmt.Fprintf(&b, "The black contour is where the output equals the target %s. ", FormatValue(*h.Target, unit))
+			fmt.Fprintf(&b, "The black contour is where the output equals the target %s. ", unit.Format(*h.Target, u))
 		} else {
-			fmt.Fprintf(&b, "The target %s is not reached on this grid. ", FormatValue(*h.Target, unit))
+			fmt.Fprintf(&b, "The target %s is not reached on this grid. ", unit.Format(*h.Target, u))
 		}
 	}
 	return strings.TrimSpace(b.String())
@@ -386,14 +387,14 @@ func (h *HeatMap) Text(width int) string {
 		return textMessage(h.heading(), err)
 	}
 	width = textWidth(width)
-	unit := clean(h.Unit)
+	u := clean(h.Unit)
 	lo, hi := gridXYZ{z: h.Z}.zRange()
 	wlo, whi := widen(lo, hi)
 
 	yLabels := make([]string, len(h.Y))
 	labelW := 1
 	for j, y := range h.Y {
-		yLabels[j] = FormatValue(y, clean(h.YUnit))
+		yLabels[j] = unit.Format(y, clean(h.YUnit))
 		labelW = max(labelW, runeLen(yLabels[j]))
 	}
 	labelW = min(labelW, 14)
@@ -437,7 +438,7 @@ func (h *HeatMap) Text(width int) string {
 
 	var b strings.Builder
 	b.WriteString(truncate(h.heading(), width) + "\n")
-	b.WriteString(truncate(fmt.Sprintf("%s; across: %s, up: %s", axisTitle(orDefault(h.Output, "output"), unit),
+	b.WriteString(truncate(fmt.Sprintf("%s; across: %s, up: %s", axisTitle(orDefault(h.Output, "output"), u),
 		axisTitle(orDefault(h.XName, "x"), h.XUnit), axisTitle(orDefault(h.YName, "y"), h.YUnit)), width) + "\n")
 	for jj := rows - 1; jj >= 0; jj-- {
 		rj := rowIdx[jj]
@@ -460,17 +461,17 @@ func (h *HeatMap) Text(width int) string {
 	}
 	b.WriteString(strings.Repeat(" ", labelW) + " ┗" + strings.Repeat("━", 2*cols) + "\n")
 	b.WriteString(strings.Repeat(" ", labelW+2) + string(scaleLabels(2*cols, []scaleLabel{
-		{FormatValue(h.X[0], clean(h.XUnit)), 0, -1},
-		{FormatValue(h.X[len(h.X)-1], clean(h.XUnit)), 2*cols - 1, 1},
+		{unit.Format(h.X[0], clean(h.XUnit)), 0, -1},
+		{unit.Format(h.X[len(h.X)-1], clean(h.XUnit)), 2*cols - 1, 1},
 	})) + "\n")
 
 	// Key: the upper end of the values each shade stands for.
 	key := "key:"
 	for k := 0; k < len(shades); k++ {
 		z := math.Min(wlo+(whi-wlo)*(float64(k)+0.5)/float64(len(shades)-1), hi)
-		item := fmt.Sprintf(" %s ≤%s", string(shades[k]), FormatValue(z, ""))
+		item := fmt.Sprintf(" %s ≤%s", string(shades[k]), unit.Format(z, ""))
 		if k == 0 {
-			item = " (blank) ≤" + FormatValue(z, "")
+			item = " (blank) ≤" + unit.Format(z, "")
 		}
 		if runeLen(key)+runeLen(item) > width {
 			b.WriteString(key + "\n")
@@ -494,9 +495,9 @@ func (h *HeatMap) Text(width int) string {
 					}
 				}
 			}
-			b.WriteString(truncate(fmt.Sprintf("target %s: reached at %d of %d grid points (%s at or above)", FormatValue(t, unit), above, n, FormatValue(100*float64(above)/float64(n), "%")), width) + "\n")
+			b.WriteString(truncate(fmt.Sprintf("target %s: reached at %d of %d grid points (%s at or above)", unit.Format(t, u), above, n, unit.Format(100*float64(above)/float64(n), "%")), width) + "\n")
 		} else {
-			b.WriteString(truncate(fmt.Sprintf("target %s: not reached on this grid (%s to %s)", FormatValue(t, unit), FormatValue(lo, unit), FormatValue(hi, unit)), width) + "\n")
+			b.WriteString(truncate(fmt.Sprintf("target %s: not reached on this grid (%s to %s)", unit.Format(t, u), unit.Format(lo, u), unit.Format(hi, u)), width) + "\n")
 		}
 	}
 	return b.String()

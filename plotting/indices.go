@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"image/color"
 	"io"
 	"math"
@@ -172,7 +173,7 @@ func (ix *Indices) caption() string {
 	}
 	b.WriteString(". ")
 	top := ix.Items[0]
-	fmt.Fprintf(&b, "Top input: %s (%s %s).", orDefault(top.Name, "(unnamed)"), orDefault(ix.Series[0], "value"), FormatValue(top.Values[0], ""))
+	fmt.Fprintf(&b, "Top input: %s (%s %s).", orDefault(top.Name, "(unnamed)"), orDefault(ix.Series[0], "value"), unit.Format(top.Values[0], ""))
 	return b.String()
 }
 
@@ -248,9 +249,9 @@ func (ix *Indices) Text(width int) string {
 	_, xmax, _, _ := ib.DataRange()
 
 	cell := func(it IndexItem, s int) string {
-		v := FormatValue(it.Values[s], "")
+		v := unit.Format(it.Values[s], "")
 		if it.Lo != nil {
-			v += " [" + FormatValue(it.Lo[s], "") + ", " + FormatValue(it.Hi[s], "") + "]"
+			v += " [" + unit.Format(it.Lo[s], "") + ", " + unit.Format(it.Hi[s], "") + "]"
 		}
 		return v
 	}

@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"image/color"
 	"io"
 	"math"
@@ -100,7 +101,7 @@ func correlation(x, y []float64) float64 {
 
 func (s *Scatter) frame() *frame {
 	f := &frame{title: s.heading()}
-	sub := FormatValue(float64(len(s.X)), "") + " samples"
+	sub := unit.Format(float64(len(s.X)), "") + " samples"
 	if r := correlation(s.X, s.Y); !math.IsNaN(r) {
 		sub += fmt.Sprintf("; Pearson correlation %.2f", r)
 	}
@@ -146,7 +147,7 @@ func (s *Scatter) draw(c draw.Canvas) {
 func (s *Scatter) caption() string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "Scatter plot of %s (up) against %s (across), one dot per sample, %s samples",
-		orDefault(s.YName, "the output"), orDefault(s.XName, "the input"), FormatValue(float64(len(s.X)), ""))
+		orDefault(s.YName, "the output"), orDefault(s.XName, "the input"), unit.Format(float64(len(s.X)), ""))
 	if r := correlation(s.X, s.Y); !math.IsNaN(r) {
 		fmt.Fprintf(&b, "; Pearson correlation %.2f", r)
 	}
@@ -223,7 +224,7 @@ func (s *Scatter) Text(width int) string {
 	xmin, xmax := widen(extent(s.X...))
 	ymin, ymax := widen(extent(s.Y...))
 	yUnit := clean(s.YUnit)
-	labels := []string{FormatValue(ymax, yUnit), FormatValue(ymin, yUnit)}
+	labels := []string{unit.Format(ymax, yUnit), unit.Format(ymin, yUnit)}
 	labelW := max(runeLen(labels[0]), runeLen(labels[1]))
 	cols := max(4, min(40, (width-labelW-2)/2))
 	rows := 12
@@ -241,7 +242,7 @@ func (s *Scatter) Text(width int) string {
 	}
 	var b strings.Builder
 	b.WriteString(truncate(s.heading(), width) + "\n")
-	sub := FormatValue(float64(len(s.X)), "") + " samples"
+	sub := unit.Format(float64(len(s.X)), "") + " samples"
 	if r := correlation(s.X, s.Y); !math.IsNaN(r) {
 		sub += fmt.Sprintf(", Pearson correlation %.2f", r)
 	}
@@ -268,8 +269,8 @@ func (s *Scatter) Text(width int) string {
 	b.WriteString(strings.Repeat(" ", labelW) + " ┗" + strings.Repeat("━", 2*cols) + "\n")
 	xUnit := clean(s.XUnit)
 	b.WriteString(strings.Repeat(" ", labelW+2) + string(scaleLabels(2*cols, []scaleLabel{
-		{FormatValue(xmin, xUnit), 0, -1},
-		{FormatValue(xmax, xUnit), 2*cols - 1, 1},
+		{unit.Format(xmin, xUnit), 0, -1},
+		{unit.Format(xmax, xUnit), 2*cols - 1, 1},
 	})) + "\n")
 	return b.String()
 }

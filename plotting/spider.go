@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"image/color"
 	"io"
 	"math"
@@ -106,7 +107,7 @@ func (s *Spider) frame() *frame {
 			thumb: lineThumb(sl.lineStyle(i), &g),
 		})
 	}
-	f.legend = append(f.legend, legendEntry{label: "baseline " + FormatValue(s.Baseline, clean(s.Unit)), thumb: glyphThumb(baselineGlyph())})
+	f.legend = append(f.legend, legendEntry{label: "baseline " + unit.Format(s.Baseline, clean(s.Unit)), thumb: glyphThumb(baselineGlyph())})
 	return f
 }
 
@@ -132,12 +133,12 @@ func (s *Spider) draw(c draw.Canvas) {
 }
 
 func (s *Spider) caption() string {
-	unit := clean(s.Unit)
+	u := clean(s.Unit)
 	var b strings.Builder
 	fmt.Fprintf(&b, "Spider chart of %s: one line per input showing the output as that input alone changes by a percentage of its baseline value; all lines pass through the baseline %s at 0%%. ",
-		orDefault(s.Output, "the output"), FormatValue(s.Baseline, unit))
+		orDefault(s.Output, "the output"), unit.Format(s.Baseline, u))
 	if i, lo, hi := s.steepest(); i >= 0 {
-		fmt.Fprintf(&b, "Widest spread: %s, from %s to %s. ", orDefault(s.Lines[i].Name, "(unnamed)"), FormatValue(lo, unit), FormatValue(hi, unit))
+		fmt.Fprintf(&b, "Widest spread: %s, from %s to %s. ", orDefault(s.Lines[i].Name, "(unnamed)"), unit.Format(lo, u), unit.Format(hi, u))
 	}
 	b.WriteString("Steeper lines mean greater sensitivity; one input at a time, so interactions are not shown.")
 	return b.String()
@@ -298,7 +299,7 @@ func (s *Spider) Text(width int) string {
 		return textMessage(s.heading(), err)
 	}
 	width = textWidth(width)
-	unit := clean(s.Unit)
+	u := clean(s.Unit)
 	_, _, ylo, yhi := NewSpiderLines(s.Lines).DataRange()
 
 	type row struct{ name, lo, hi, spread string }
@@ -306,14 +307,22 @@ func (s *Spider) Text(width int) string {
 	nameW, valW := 5, 5
 	pmin, pmax := math.Inf(1), math.Inf(-1)
 	samePct := true
+	// The three value columns share one format, so money takes one number
+	// of decimals in all of them.
+	var vals []float64
+	for _, l := range s.Lines {
+		ymin, ymax := extent(l.Out...)
+		vals = append(vals, ymin, ymax, ymax-ymin)
+	}
+	col := unit.NewColumn(u, vals...)
 	for i, l := range s.Lines {
 		pts := sortedPoints(l)
 		ymin, ymax := extent(l.Out...)
 		r := row{
 			name:   orDefault(l.Name, "(unnamed)"),
-			lo:     FormatValue(pts[0].Y, unit),
-			hi:     FormatValue(pts[len(pts)-1].Y, unit),
-			spread: FormatValue(ymax-ymin, unit),
+			lo:     col.Format(pts[0].Y),
+			hi:     col.Format(pts[len(pts)-1].Y),
+			spread: col.Format(ymax - ymin),
 		}
 		if i > 0 && (pts[0].X != pmin || pts[len(pts)-1].X != pmax) {
 			samePct = false
@@ -326,7 +335,7 @@ func (s *Spider) Text(width int) string {
 	nameW = min(nameW, max(8, width/4))
 	loHead, hiHead := "at lowest %", "at highest %"
 	if samePct {
-		loHead, hiHead = "at "+formatPct(pmin), "at "+formatPct(pmax)
+		loHead, hiHead = "at "+unit.Signed(pmin, "%"), "at "+unit.Signed(pmax, "%")
 	}
 	valW = max(valW, runeLen(loHead), runeLen(hiHead))
 	sparkW := max(8, width-nameW-3*valW-4)
@@ -334,7 +343,7 @@ func (s *Spider) Text(width int) string {
 	var b strings.Builder
 	b.WriteString(truncate(s.heading(), width) + "\n")
 	b.WriteString(truncate(fmt.Sprintf("%s, baseline %s; each input alone changed by a percentage of its baseline",
-		axisTitle(orDefault(s.Output, "output"), unit), FormatValue(s.Baseline, unit)), width) + "\n")
+		axisTitle(orDefault(s.Output, "output"), u), unit.Format(s.Baseline, u)), width) + "\n")
 	b.WriteString(padRight("input", nameW) + " " + padLeft(loHead, valW) + " " + padLeft(hiHead, valW) + " " + padLeft("max-min", valW) + " " + padRight("shape, common scale", sparkW) + "\n")
 	for i, l := range s.Lines {
 		pts := sortedPoints(l)

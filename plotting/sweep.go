@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"io"
 	"math"
 	"strings"
@@ -140,34 +141,34 @@ func crossings(xs, ys []float64, t float64) []float64 {
 }
 
 func (s *Sweep) frame() *frame {
-	inUnit, unit := clean(s.InputUnit), clean(s.Unit)
+	inUnit, u := clean(s.InputUnit), clean(s.Unit)
 	in := orDefault(s.Input, "input")
 	f := &frame{
 		title:    s.heading(),
-		subtitle: fmt.Sprintf("Output as %s runs from %s to %s, the other inputs at baseline", in, FormatValue(s.X[0], inUnit), FormatValue(s.X[len(s.X)-1], inUnit)),
+		subtitle: fmt.Sprintf("Output as %s runs from %s to %s, the other inputs at baseline", in, unit.Format(s.X[0], inUnit), unit.Format(s.X[len(s.X)-1], inUnit)),
 	}
 	sc := NewSweepCurve(s.X, s.Y)
 	f.legend = append(f.legend,
 		legendEntry{label: orDefault(s.Output, "output"), thumb: lineThumb(sc.LineStyle, nil)},
-		legendEntry{label: fmt.Sprintf("baseline (%s = %s)", in, FormatValue(s.BaselineInput, inUnit)), thumb: glyphThumb(baselineGlyph())},
+		legendEntry{label: fmt.Sprintf("baseline (%s = %s)", in, unit.Format(s.BaselineInput, inUnit)), thumb: glyphThumb(baselineGlyph())},
 	)
 	if s.Target != nil {
 		t := *s.Target
 		sc.Target = t
 		if _, _, ymin, ymax := sc.DataRange(); ymin <= t && t <= ymax {
-			f.legend = append(f.legend, legendEntry{label: "target " + FormatValue(t, unit), thumb: lineThumb(targetLineStyle(), nil)})
+			f.legend = append(f.legend, legendEntry{label: "target " + unit.Format(t, u), thumb: lineThumb(targetLineStyle(), nil)})
 		}
 		xs := s.Crossings()
 		if len(xs) > 0 {
 			f.legend = append(f.legend, legendEntry{label: "reaches target", thumb: glyphThumb(crossingGlyph())})
 			var parts []string
 			for _, x := range xs {
-				parts = append(parts, FormatValue(x, inUnit))
+				parts = append(parts, unit.Format(x, inUnit))
 			}
-			f.notes = append(f.notes, fmt.Sprintf("Reaches the target %s at %s = %s (linear interpolation between sweep points).", FormatValue(t, unit), in, strings.Join(parts, ", ")))
+			f.notes = append(f.notes, fmt.Sprintf("Reaches the target %s at %s = %s (linear interpolation between sweep points).", unit.Format(t, u), in, strings.Join(parts, ", ")))
 		} else {
 			lo, hi := extent(s.Y...)
-			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached over this range: %s runs from %s to %s.", FormatValue(t, unit), orDefault(s.Output, "the output"), FormatValue(lo, unit), FormatValue(hi, unit)))
+			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached over this range: %s runs from %s to %s.", unit.Format(t, u), orDefault(s.Output, "the output"), unit.Format(lo, u), unit.Format(hi, u)))
 		}
 	}
 	return f
@@ -188,7 +189,7 @@ func (s *Sweep) draw(c draw.Canvas) {
 	sc.BaselineInput, sc.Baseline = s.BaselineInput, s.Baseline
 	if s.Target != nil {
 		sc.Target = *s.Target
-		sc.CrossingLabel = func(x float64) string { return FormatValue(x, clean(s.InputUnit)) }
+		sc.CrossingLabel = func(x float64) string { return unit.Format(x, clean(s.InputUnit)) }
 	}
 	p.Add(grid, sc)
 	p.X.Label.Text = axisTitle(orDefault(s.Input, "input"), s.InputUnit)
@@ -198,23 +199,23 @@ func (s *Sweep) draw(c draw.Canvas) {
 }
 
 func (s *Sweep) caption() string {
-	inUnit, unit := clean(s.InputUnit), clean(s.Unit)
+	inUnit, u := clean(s.InputUnit), clean(s.Unit)
 	in, out := orDefault(s.Input, "the input"), orDefault(s.Output, "the output")
 	lo, hi := extent(s.Y...)
 	var b strings.Builder
 	fmt.Fprintf(&b, "Sweep of %s as %s runs from %s to %s, the other inputs at baseline: %s ranges from %s to %s. ",
-		out, in, FormatValue(s.X[0], inUnit), FormatValue(s.X[len(s.X)-1], inUnit), out, FormatValue(lo, unit), FormatValue(hi, unit))
-	fmt.Fprintf(&b, "Baseline: %s = %s gives %s. ", in, FormatValue(s.BaselineInput, inUnit), FormatValue(s.Baseline, unit))
+		out, in, unit.Format(s.X[0], inUnit), unit.Format(s.X[len(s.X)-1], inUnit), out, unit.Format(lo, u), unit.Format(hi, u))
+	fmt.Fprintf(&b, "Baseline: %s = %s gives %s. ", in, unit.Format(s.BaselineInput, inUnit), unit.Format(s.Baseline, u))
 	if s.Target != nil {
 		xs := s.Crossings()
 		if len(xs) == 0 {
-			fmt.Fprintf(&b, "The target %s is not reached over this range.", FormatValue(*s.Target, unit))
+			fmt.Fprintf(&b, "The target %s is not reached over this range.", unit.Format(*s.Target, u))
 		} else {
 			var parts []string
 			for _, x := range xs {
-				parts = append(parts, FormatValue(x, inUnit))
+				parts = append(parts, unit.Format(x, inUnit))
 			}
-			fmt.Fprintf(&b, "The target %s is reached at %s = %s.", FormatValue(*s.Target, unit), in, strings.Join(parts, ", "))
+			fmt.Fprintf(&b, "The target %s is reached at %s = %s.", unit.Format(*s.Target, u), in, strings.Join(parts, ", "))
 		}
 	}
 	return strings.TrimSpace(b.String())
@@ -339,7 +340,7 @@ func (s *Sweep) Text(width int) string {
 		return textMessage(s.heading(), err)
 	}
 	width = textWidth(width)
-	inUnit, unit := clean(s.InputUnit), clean(s.Unit)
+	inUnit, u := clean(s.InputUnit), clean(s.Unit)
 	in, out := orDefault(s.Input, "input"), orDefault(s.Output, "output")
 	lo, hi := extent(s.Y...)
 	lo, hi = widen(lo, hi)
@@ -379,9 +380,14 @@ func (s *Sweep) Text(width int) string {
 	}
 
 	xs, ys := make([]string, len(rows)), make([]string, len(rows))
-	xW, yW := runeLen(axisTitle(in, inUnit)), runeLen(axisTitle(out, unit))
+	xW, yW := runeLen(axisTitle(in, inUnit)), runeLen(axisTitle(out, u))
+	var xv, yv []float64
+	for _, r := range rows {
+		xv, yv = append(xv, r.x), append(yv, r.y)
+	}
+	xcol, ycol := unit.NewColumn(inUnit, xv...), unit.NewColumn(u, yv...)
 	for i, r := range rows {
-		xs[i], ys[i] = FormatValue(r.x, inUnit), FormatValue(r.y, unit)
+		xs[i], ys[i] = xcol.Format(r.x), ycol.Format(r.y)
 		xW, yW = max(xW, runeLen(xs[i])), max(yW, runeLen(ys[i]))
 	}
 	xW, yW = min(xW, width/3), min(yW, width/3)
@@ -394,12 +400,12 @@ func (s *Sweep) Text(width int) string {
 	b.WriteString("curve  " + curve + "\n")
 	if s.Target != nil {
 		if len(s.Crossings()) == 0 {
-			b.WriteString(truncate(fmt.Sprintf("target %s not reached: %s runs from %s to %s", FormatValue(*s.Target, unit), out, FormatValue(lo, unit), FormatValue(hi, unit)), width) + "\n")
+			b.WriteString(truncate(fmt.Sprintf("target %s not reached: %s runs from %s to %s", unit.Format(*s.Target, u), out, unit.Format(lo, u), unit.Format(hi, u)), width) + "\n")
 		} else {
-			b.WriteString(truncate(fmt.Sprintf("target %s reached at the rows marked ◀ target", FormatValue(*s.Target, unit)), width) + "\n")
+			b.WriteString(truncate(fmt.Sprintf("target %s reached at the rows marked ◀ target", unit.Format(*s.Target, u)), width) + "\n")
 		}
 	}
-	b.WriteString(padRight(axisTitle(in, inUnit), xW) + " " + padLeft(axisTitle(out, unit), yW) + " " + strings.Repeat(" ", barW) + " " + strings.Repeat(" ", noteW) + "\n")
+	b.WriteString(padRight(axisTitle(in, inUnit), xW) + " " + padLeft(axisTitle(out, u), yW) + " " + strings.Repeat(" ", barW) + " " + strings.Repeat(" ", noteW) + "\n")
 	for i, r := range rows {
 		length := (r.y - lo) / (hi - lo) * float64(barW-1)
 		bar := barRight(length+1, barW)

@@ -152,7 +152,7 @@ func lineStyle(col color.Color, w vg.Length, dashes ...vg.Length) draw.LineStyle
 }
 
 // newPlot returns a plot.Plot dressed in the theme: Liberation Sans, thin
-// muted axes, short ticks, labels formatted by FormatValue, no title (the
+// muted axes, short ticks, labels formatted by unit.Format, no title (the
 // figure draws its own header) and no background (the figure paints it).
 func newPlot() *plot.Plot {
 	p := plot.New()

@@ -1,6 +1,7 @@
 package plotting
 
 import (
+	"github.com/nudge-dev/nudge/sens/unit"
 	"math"
 
 	"gonum.org/v1/plot"
@@ -10,7 +11,7 @@ import (
 
 // niceTicks places about N major ticks (5 when N is zero) at round values
 // (1, 2, 2.5 or 5 times a power of ten) and labels them with Format
-// (FormatValue without a unit when Format is nil). It draws no minor ticks.
+// (unit.Format without a unit when Format is nil). It draws no minor ticks.
 //
 // The step is the "nice number" closest to range/(N-1):
 //
@@ -34,7 +35,7 @@ func (t niceTicks) Ticks(min, max float64) []plot.Tick {
 	}
 	format := t.Format
 	if format == nil {
-		format = func(v float64) string { return FormatValue(v, "") }
+		format = func(v float64) string { return unit.Format(v, "") }
 	}
 	if !(max > min) || math.IsInf(max-min, 0) {
 		return []plot.Tick{{Value: min, Label: format(min)}}
@@ -84,7 +85,9 @@ func niceStep(x float64) float64 {
 }
 
 // pctTicks labels ticks as signed percentages: "-20%", "0%", "+20%".
-func pctTicks() niceTicks { return niceTicks{Format: formatPct} }
+func pctTicks() niceTicks {
+	return niceTicks{Format: func(v float64) string { return unit.Signed(v, "%") }}
+}
 
 // nameTicks puts one label per row of a horizontal bar chart, the first row
 // at the top: row i of n sits at y = n-1-i.

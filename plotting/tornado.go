@@ -2,6 +2,7 @@ package plotting
 
 import (
 	"fmt"
+	"github.com/nudge-dev/nudge/sens/unit"
 	"image/color"
 	"io"
 	"math"
@@ -217,7 +218,7 @@ func (t *Tornado) draw(c draw.Canvas) {
 	body := t.frame().draw(c)
 	p := newPlot()
 	bars := NewTornadoBars(t.Bars, t.Rest, t.Baseline)
-	bars.BaselineLabel = "baseline " + FormatValue(t.Baseline, clean(t.Unit))
+	bars.BaselineLabel = "baseline " + unit.Format(t.Baseline, clean(t.Unit))
 	grid := plotter.NewGrid()
 	grid.Horizontal.Width = 0
 	grid.Vertical = lineStyle(colGrid, widthGrid)
@@ -233,14 +234,14 @@ func (t *Tornado) draw(c draw.Canvas) {
 
 func (t *Tornado) caption() string {
 	var b strings.Builder
-	unit := clean(t.Unit)
+	u := clean(t.Unit)
 	fmt.Fprintf(&b, "Tornado chart of %s around its baseline %s. ",
-		axisTitle(orDefault(t.Output, "the output"), ""), FormatValue(t.Baseline, unit))
+		axisTitle(orDefault(t.Output, "the output"), ""), unit.Format(t.Baseline, u))
 	b.WriteString("Each bar shows the output with one input at the low end (blue) or the high end (orange) of its range, the other inputs at baseline; the input's values are printed at the bar ends. ")
 	if len(t.Bars) > 0 {
 		top := t.Bars[0]
 		fmt.Fprintf(&b, "Largest effect: %s, from %s to %s. ",
-			orDefault(top.Name, "(unnamed)"), FormatValue(top.OutLow, unit), FormatValue(top.OutHigh, unit))
+			orDefault(top.Name, "(unnamed)"), unit.Format(top.OutLow, u), unit.Format(top.OutHigh, u))
 	}
 	anyDefault, anyNonMonotone := t.flags()
 	if anyDefault {
@@ -342,8 +343,8 @@ const labelPad = vg.Length(3)
 // of the bar (beyond the whisker, if any); when both ends lie on one side
 // of the baseline, the nearer end's value goes on the other side.
 func (tb *TornadoBars) endLabels(b Bar) []endLabel {
-	lo := endLabel{text: FormatValue(b.Low, clean(b.InputUnit)), x: b.OutLow}
-	hi := endLabel{text: FormatValue(b.High, clean(b.InputUnit)), x: b.OutHigh, isHigh: true}
+	lo := endLabel{text: unit.Format(b.Low, clean(b.InputUnit)), x: b.OutLow}
+	hi := endLabel{text: unit.Format(b.High, clean(b.InputUnit)), x: b.OutHigh, isHigh: true}
 	dl, dh := b.OutLow-tb.Baseline, b.OutHigh-tb.Baseline
 	switch {
 	case dl*dh > 0:
@@ -513,7 +514,7 @@ func (t *Tornado) Text(width int) string {
 		return textMessage(t.heading(), err)
 	}
 	width = textWidth(width)
-	unit := clean(t.Unit)
+	u := clean(t.Unit)
 	rows := t.Bars
 	if t.Rest != nil {
 		rows = append(rows[:len(rows):len(rows)], *t.Rest)
@@ -536,6 +537,11 @@ func (t *Tornado) Text(width int) string {
 	leftW, rightW, swingW := 1, 1, 0
 	type cells struct{ left, right, swing string }
 	rowCells := make([]cells, len(rows))
+	swings := make([]float64, len(rows))
+	for i, b := range rows {
+		swings[i] = math.Abs(b.OutHigh - b.OutLow)
+	}
+	swingCol := unit.NewColumn(u, swings...)
 	for i, b := range rows {
 		var rc cells
 		if !(t.Rest != nil && i == len(rows)-1) {
@@ -547,7 +553,7 @@ func (t *Tornado) Text(width int) string {
 				}
 			}
 		}
-		rc.swing = "Δ " + FormatValue(math.Abs(b.OutHigh-b.OutLow), unit)
+		rc.swing = "Δ " + swingCol.Format(swings[i])
 		rowCells[i] = rc
 		leftW = max(leftW, runeLen(rc.left))
 		rightW = max(rightW, runeLen(rc.right))
@@ -588,13 +594,13 @@ func (t *Tornado) Text(width int) string {
 	}
 	sb.WriteString(truncate(t.heading(), width) + "\n")
 	sb.WriteString(truncate(fmt.Sprintf("%s, baseline %s; one input at a time, its low and high values at the bar ends",
-		axisTitle(orDefault(t.Output, "output"), unit), FormatValue(t.Baseline, unit)), width) + "\n")
+		axisTitle(orDefault(t.Output, "output"), u), unit.Format(t.Baseline, u)), width) + "\n")
 
 	// Scale: the range ends under the bar area, the baseline above its rule.
 	line("", "", scaleLabels(barW, []scaleLabel{
-		{FormatValue(t.Baseline, ""), b0, 0},
-		{FormatValue(xmin, ""), 0, -1},
-		{FormatValue(xmax, ""), barW - 1, 1},
+		{unit.Format(t.Baseline, ""), b0, 0},
+		{unit.Format(xmin, ""), 0, -1},
+		{unit.Format(xmax, ""), barW - 1, 1},
 	}), "", "")
 	rule := func(mid rune) []rune {
 		r := []rune(strings.Repeat("─", barW))

@@ -1,9 +1,12 @@
 package sens
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
+
+	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // Crossing is one value of the input at which the output equals the target.
@@ -68,19 +71,33 @@ type BreakevenResult struct {
 	// Flat is set when the output does not change with the input.
 	Flat bool `json:"flat,omitempty"`
 	// Message explains the result in a sentence when no crossing was found.
-	Message     string `json:"message,omitempty"`
-	Evaluations int    `json:"evaluations"`
+	Message string `json:"message,omitempty"`
+	// Evaluations counts the evaluations of the search (not those of Curve).
+	Evaluations int `json:"evaluations"`
+	// SlopeUnit is the unit of each crossing's Slope: the output's unit per
+	// the input's.
+	SlopeUnit string `json:"-"`
+	// Curve is the output over the stated range, widened to take in the
+	// baseline and the crossings near it, for a chart with the target marked
+	// (points where the model fails are left out).
+	Curve []SweepPoint `json:"-"`
 }
 
-// BreakevenSettings are the settings of Breakeven. A nil *BreakevenSettings
-// means the defaults.
+// BreakevenSettings are the settings of Breakeven. Input is required.
 type BreakevenSettings struct {
 	Settings
+	// Input is the input to vary, the others staying at their baselines.
+	Input string
+	// Target is the value of the output to reach, in its unit.
+	Target float64
 	// Bounded restricts the search to Low..High instead of the input's whole
 	// domain.
 	Bounded   bool
 	Low, High float64
 }
+
+// curvePoints is the number of points of BreakevenResult.Curve.
+const curvePoints = 81
 
 // SearchReach is how far Breakeven searches from the baseline, in multiples of
 // the input's scale (the larger of |baseline| and the width of its range).
@@ -116,25 +133,31 @@ const SearchReach = 1e6
 //   - W. H. Press, S. A. Teukolsky, W. T. Vetterling and B. P. Flannery,
 //     Numerical Recipes, 3rd ed., Cambridge University Press, 2007, §9.4
 //     (Newton–Raphson safeguarded by bisection).
-func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (*BreakevenResult, error) {
+func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 	if s == nil {
 		s = &BreakevenSettings{}
 	}
 	set := &s.Settings
-	i, err := p.inputIndex(input)
+	if s.Input == "" {
+		return nil, errors.New("a break-even search needs an input to vary")
+	}
+	in, i, err := p.Input(s.Input)
 	if err != nil {
 		return nil, err
 	}
+	target := s.Target
 	if math.IsNaN(target) || math.IsInf(target, 0) {
 		return nil, fmt.Errorf("the target must be a finite number")
 	}
-	in := p.Inputs[i]
 	x0 := in.Value
 	if s.Bounded {
-		if err := checkSpan(input, s.Low, s.High); err != nil {
+		if err := checkRange(in, s.Low, s.High); err != nil {
 			return nil, err
 		}
 	}
+	// Numbers in messages, with their units.
+	out := func(v float64) string { return unit.Format(v, p.Unit) }
+	inp := func(v float64) string { return unit.Format(v, in.Unit) }
 	y0, err := p.F.Eval(p.Baseline())
 	if err != nil {
 		return nil, err
@@ -144,7 +167,7 @@ func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (
 
 	res := &BreakevenResult{Kind: "breakeven", Output: p.Output, Unit: p.Unit, Target: target,
 		Input: in.Name, InputUnit: in.Unit, BaselineInput: x0, BaselineOutput: y0,
-		Low: in.Low, High: in.High, Source: in.Source, Crossings: []Crossing{}}
+		Low: in.Low, High: in.High, Source: in.Source, Crossings: []Crossing{}, SlopeUnit: PartialUnit(p.Unit, in.Unit, in)}
 	bs := &bsearch{p: p, i: i, target: target, ev: newBatcher(p.F, p.Baseline(), set), set: set}
 	bs.ev.total = len(grid) + 40
 	bs.ev.done++ // the baseline
@@ -174,12 +197,15 @@ func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (
 	res.Flat = res.MaxOutput-res.MinOutput <= ytol
 	if res.Flat {
 		if res.MaxOutput == target {
-			res.Message = fmt.Sprintf("%s does not change with %s: it equals the target %s at every value searched", p.Output, in.Name, fmtG(target))
+			res.Message = fmt.Sprintf("%s does not change with %s: it equals the target %s at every value searched", p.Output, in.Name, out(target))
 		} else {
-			res.Message = fmt.Sprintf("%s does not change with %s over %s..%s: it stays at %s, so it never reaches %s", p.Output, in.Name, fmtG(xs[0]), fmtG(xs[len(xs)-1]), fmtG(res.MaxOutput), fmtG(target))
+			res.Message = fmt.Sprintf("%s does not change with %s over %s..%s: it stays at %s, so it never reaches %s", p.Output, in.Name, inp(xs[0]), inp(xs[len(xs)-1]), out(res.MaxOutput), out(target))
+		}
+		res.Evaluations = bs.ev.done
+		if err := bs.curve(res); err != nil {
+			return nil, err
 		}
 		bs.ev.finish()
-		res.Evaluations = bs.ev.done
 		return res, nil
 	}
 
@@ -286,15 +312,18 @@ func Breakeven(p *Problem, input string, target float64, s *BreakevenSettings) (
 		res.Value, res.InRange = &v, &r
 	} else {
 		res.Message = fmt.Sprintf("%s never reaches %s over %s = %s..%s: it ranges from %s (at %s = %s) to %s (at %s = %s); the closest is %s at %s = %s",
-			p.Output, fmtG(target), in.Name, fmtG(res.SearchedLow), fmtG(res.SearchedHigh),
-			fmtG(res.MinOutput), in.Name, fmtG(res.MinAt), fmtG(res.MaxOutput), in.Name, fmtG(res.MaxAt),
-			fmtG(closest), in.Name, fmtG(closestAt))
+			p.Output, out(target), in.Name, inp(res.SearchedLow), inp(res.SearchedHigh),
+			out(res.MinOutput), in.Name, inp(res.MinAt), out(res.MaxOutput), in.Name, inp(res.MaxAt),
+			out(closest), in.Name, inp(closestAt))
 		if len(res.Jumps) > 0 {
-			res.Message += fmt.Sprintf("; it jumps past the target at %s = %s", in.Name, fmtG(res.Jumps[0].Value))
+			res.Message += fmt.Sprintf("; it jumps past the target at %s = %s", in.Name, inp(res.Jumps[0].Value))
 		}
 	}
-	bs.ev.finish()
 	res.Evaluations = bs.ev.done
+	if err := bs.curve(res); err != nil {
+		return nil, err
+	}
+	bs.ev.finish()
 	return res, nil
 }
 
@@ -368,6 +397,7 @@ func (bs *bsearch) scan(grid []float64, b int) (xs, ys []float64, note string, e
 	if bs.set.ctx().Err() != nil {
 		return nil, nil, "", err
 	}
+	in := bs.p.Inputs[bs.i]
 	x := bs.p.Baseline()
 	eval := func(j int) (float64, error) {
 		x[bs.i] = grid[j]
@@ -387,7 +417,7 @@ func (bs *bsearch) scan(grid []float64, b int) (xs, ys []float64, note string, e
 		}
 		v, err := eval(j)
 		if err != nil {
-			notes = append(notes, fmt.Sprintf("above %s = %s the model fails at %s (%v)", bs.p.Inputs[bs.i].Name, fmtG(grid[j-1]), fmtG(grid[j]), err))
+			notes = append(notes, fmt.Sprintf("above %s = %s the model fails at %s (%v)", in.Name, unit.Format(grid[j-1], in.Unit), unit.Format(grid[j], in.Unit), err))
 			break
 		}
 		y[j], hi = v, j
@@ -398,7 +428,7 @@ func (bs *bsearch) scan(grid []float64, b int) (xs, ys []float64, note string, e
 		}
 		v, err := eval(j)
 		if err != nil {
-			notes = append(notes, fmt.Sprintf("below %s = %s the model fails at %s (%v)", bs.p.Inputs[bs.i].Name, fmtG(grid[j+1]), fmtG(grid[j]), err))
+			notes = append(notes, fmt.Sprintf("below %s = %s the model fails at %s (%v)", in.Name, unit.Format(grid[j+1], in.Unit), unit.Format(grid[j], in.Unit), err))
 			break
 		}
 		y[j], lo = v, j
@@ -481,4 +511,51 @@ func (bs *bsearch) refine(a, b, ga, gb float64) (Crossing, *Jump, error) {
 		return Crossing{}, &Jump{Value: a + (b-a)/2, Left: ga + bs.target, Right: gb + bs.target}, nil
 	}
 	return Crossing{Value: best, Slope: slope}, nil, nil
+}
+
+// curve fills res.Curve: the output at curvePoints equally spaced values over
+// the stated range widened to take in the baseline and the crossings within
+// ten range widths of it (farther ones would flatten the chart), plus 5% on
+// either side, and clipped to the part of the domain searched. A batch that
+// fails on a domain error is evaluated point by point and the failing points
+// are left out; cancellation is an error.
+func (bs *bsearch) curve(res *BreakevenResult) error {
+	lo, hi := math.Min(res.Low, res.BaselineInput), math.Max(res.High, res.BaselineInput)
+	w := hi - lo
+	for _, c := range res.Crossings {
+		if c.Value >= lo-10*w && c.Value <= hi+10*w {
+			lo, hi = math.Min(lo, c.Value), math.Max(hi, c.Value)
+		}
+	}
+	pad := 0.05 * (hi - lo)
+	lo, hi = math.Max(lo-pad, res.SearchedLow), math.Min(hi+pad, res.SearchedHigh)
+	if !(hi > lo) {
+		return nil
+	}
+	xs := linspace(lo, hi, curvePoints)
+	pts := make([]point, len(xs))
+	for j, v := range xs {
+		pts[j] = point{i: bs.i, vi: v, j: -1}
+	}
+	y := make([]float64, len(xs))
+	bs.ev.total = bs.ev.done + len(xs)
+	err := bs.ev.eval(y, pts)
+	if err == nil {
+		for j, v := range xs {
+			res.Curve = append(res.Curve, SweepPoint{X: v, Output: y[j]})
+		}
+		return nil
+	}
+	if e := bs.set.ctx().Err(); e != nil {
+		return fmt.Errorf("stopped: %w", e)
+	}
+	x := bs.p.Baseline()
+	for _, v := range xs {
+		x[bs.i] = v
+		bs.ev.done++
+		if yv, err := bs.p.F.Eval(x); err == nil {
+			res.Curve = append(res.Curve, SweepPoint{X: v, Output: yv})
+		}
+	}
+	return nil
 }

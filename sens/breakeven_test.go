@@ -11,7 +11,11 @@ import (
 
 func breakeven(t *testing.T, p *Problem, input string, target float64, s *BreakevenSettings) *BreakevenResult {
 	t.Helper()
-	r, err := Breakeven(p, input, target, s)
+	if s == nil {
+		s = &BreakevenSettings{}
+	}
+	s.Input, s.Target = input, target
+	r, err := Breakeven(p, s)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -194,7 +198,7 @@ root = sqrt(x) - 1
 	if len(r.Jumps) != 1 || !scalar.EqualWithinAbsOrRel(r.Jumps[0].Value, -1, 1e-9, 0) {
 		t.Errorf("pole: jumps %+v", r.Jumps)
 	}
-	if _, err := Breakeven(p, "j", 0, nil); err == nil || err.Error() != "j is not an input of npv" {
+	if _, err := Breakeven(p, &BreakevenSettings{Input: "j"}); err == nil || err.Error() != "undefined input j (did you mean i?)" {
 		t.Errorf("unknown input: %v", err)
 	}
 }
@@ -205,7 +209,7 @@ func ExampleBreakeven() {
 	rate := NewInput("rate", 0.05, 0.03, 0.08, nil)
 	npv := FuncOf(1, func(x []float64) float64 { return -1000 + 1100/(1+x[0]) }, nil)
 	p := &Problem{Output: "npv", Unit: "$", F: npv, Inputs: []*Input{rate}}
-	r, err := Breakeven(p, "rate", 0, nil)
+	r, err := Breakeven(p, &BreakevenSettings{Input: "rate", Target: 0})
 	if err != nil {
 		fmt.Println(err)
 		return

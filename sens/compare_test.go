@@ -27,17 +27,11 @@ scenario rush: units = 1500
 	if err != nil {
 		t.Fatal(err)
 	}
-	var cases []Case
+	var scenarios []*Scenario
 	for _, name := range []string{"lean", BaseName, "rush"} {
-		c := Case{Name: name}
-		if name != BaseName {
-			if c.X, err = prog.ScenarioValues(m.Scenario(name)); err != nil {
-				t.Fatal(err)
-			}
-		}
-		cases = append(cases, c)
+		scenarios = append(scenarios, m.Scenario(name)) // nil for the baseline
 	}
-	r, err := Compare(p, cases, nil)
+	r, err := Compare(p, &CompareSettings{Scenarios: scenarios})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -67,7 +61,9 @@ scenario rush: units = 1500
 	if c := r.Scenarios[0].Changes[0]; c.Name != "hours" || !scalar.EqualWithinAbsOrRel(c.Value, 1.2, 1e-12, 1e-12) || c.Baseline != 1.5 || c.Unit != "h" {
 		t.Errorf("lean change %+v, want hours 1.5 -> 1.2 h", c)
 	}
-	if _, err := Compare(p, []Case{{Name: "bad", X: []float64{1}}}, nil); err == nil {
-		t.Error("short case: no error")
+	// A problem built by hand has no program to read a scenario's settings.
+	byHand := &Problem{Output: "cost", F: p.F, Inputs: p.Inputs}
+	if _, err := Compare(byHand, &CompareSettings{Scenarios: scenarios}); err == nil {
+		t.Error("a scenario of a problem built by hand: no error")
 	}
 }

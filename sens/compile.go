@@ -41,9 +41,9 @@ const (
 	RangeDefault      RangeSource = "default"      // ±10% of the value, flagged in outputs
 )
 
-// DefaultSpan is the relative half-width of the range given to an input that has
-// neither a range nor a distribution.
-const DefaultSpan = 0.10
+// DefaultRangePct is the range, in percent of the value either side, given to
+// an input that has neither a range nor a distribution: ±10%.
+const DefaultRangePct = 10
 
 // Input is a compiled input. Value, Low, High and the distribution are in the
 // input's own unit.
@@ -304,7 +304,7 @@ func (c *compiler) compileInput(d *Decl) {
 			in.Source = RangeExplicit
 			in.Low, in.High = r.Low.Value, r.High.Value
 			if ok && (in.Value < in.Low || in.Value > in.High) {
-				c.errorf(f, r.Lparen, "range %s..%s does not contain the value %s of %s", r.Low.Lit, r.High.Lit, fmtG(in.Value), d.Name)
+				c.errorf(f, r.Lparen, "range %s..%s does not contain the value %s of %s", r.Low.Lit, r.High.Lit, unit.Format(in.Value, in.Unit), d.Name)
 			}
 		}
 		if in.Low == in.High && in.Value != 0 {
@@ -315,7 +315,7 @@ func (c *compiler) compileInput(d *Decl) {
 		in.Low, in.High = in.Dist.Quantile(0.10), in.Dist.Quantile(0.90)
 	default:
 		in.Source = RangeDefault
-		a, b := in.Value*(1-DefaultSpan), in.Value*(1+DefaultSpan)
+		a, b := in.Value*(1-DefaultRangePct/100.0), in.Value*(1+DefaultRangePct/100.0)
 		in.Low, in.High = math.Min(a, b), math.Max(a, b)
 	}
 	if in.Dist != nil {
@@ -323,10 +323,10 @@ func (c *compiler) compileInput(d *Decl) {
 		switch p := in.Dist.CDF(in.Value); {
 		case !ok:
 		case in.Value < lo || in.Value > hi:
-			c.errorf(f, s.Dist.Pos(), "the value %s of %s lies outside its distribution's support [%s, %s]", fmtG(in.Value), d.Name, fmtG(lo), fmtG(hi))
+			c.errorf(f, s.Dist.Pos(), "the value %s of %s lies outside its distribution's support [%s, %s]", unit.Format(in.Value, in.Unit), d.Name, unit.Format(lo, in.Unit), unit.Format(hi, in.Unit))
 		case p < 0.01 || p > 0.99:
 			// Legal, but most often a slip: a baseline far out in the tail.
-			c.warnf(f, s.Dist.Pos(), "the value %s of %s lies in the far tail of its distribution (percentile %.2g): check the value or the parameters", fmtG(in.Value), d.Name, 100*p)
+			c.warnf(f, s.Dist.Pos(), "the value %s of %s lies in the far tail of its distribution (percentile %s): check the value or the parameters", unit.Format(in.Value, in.Unit), d.Name, unit.Format(100*p, ""))
 		}
 	}
 }
@@ -338,13 +338,11 @@ func (c *compiler) compileDist(f *syntax.File, in *Input, ds *syntax.DistSpec) {
 		for i, d := range Distributions {
 			names[i] = d.Name
 		}
-		msg := "unknown distribution " + ds.Name.Name
-		if s := syntax.Suggest(ds.Name.Name, names); s != "" {
-			msg += " (did you mean " + s + "?)"
-		} else {
-			msg += " (known: " + strings.Join(names, ", ") + ")"
+		hint := syntax.DidYouMean(ds.Name.Name, names)
+		if hint == "" {
+			hint = " (known: " + strings.Join(names, ", ") + ")"
 		}
-		c.errorf(f, ds.Name.Pos(), "%s", msg)
+		c.errorf(f, ds.Name.Pos(), "unknown distribution %s%s", ds.Name.Name, hint)
 		return
 	}
 	if len(ds.Args) != len(info.Params) {
@@ -616,11 +614,7 @@ func (c *compiler) undefined(f *syntax.File, x *syntax.Ident) {
 	for _, fn := range Functions {
 		cands = append(cands, fn.Name)
 	}
-	msg := "undefined: " + x.Name
-	if s := syntax.Suggest(x.Name, cands); s != "" {
-		msg += " (did you mean " + s + "?)"
-	}
-	c.errorf(f, x.Pos(), "%s", msg)
+	c.errorf(f, x.Pos(), "undefined: %s%s", x.Name, syntax.DidYouMean(x.Name, cands))
 }
 
 func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) val {
@@ -711,7 +705,7 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 			}
 			num, den, ok := rational(b.c)
 			if !ok {
-				c.errorf(f, x.Y.Pos(), "cannot raise %s to the power %s: use a whole number or a simple fraction", unitText(c.display(a)), fmtG(b.c))
+				c.errorf(f, x.Y.Pos(), "cannot raise %s to the power %s: use a whole number or a simple fraction", unitText(c.display(a)), unit.Format(b.c, ""))
 				return val{bad: true}
 			}
 			var err error
@@ -788,11 +782,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		for _, fn := range Functions {
 			cands = append(cands, fn.Name)
 		}
-		msg := "unknown function " + name
-		if s := syntax.Suggest(name, cands); s != "" {
-			msg += " (did you mean " + s + "?)"
-		}
-		c.errorf(f, x.Fun.Pos(), "%s", msg)
+		c.errorf(f, x.Fun.Pos(), "unknown function %s%s", name, syntax.DidYouMean(name, cands))
 		return val{bad: true}
 	}
 	variadic := name == "min" || name == "max"
@@ -901,8 +891,6 @@ func lookupFunc(name string) *FuncInfo {
 	}
 	return nil
 }
-
-func fmtG(v float64) string { return fmt.Sprintf("%.6g", v) }
 
 // Check evaluates every formula at the baseline and returns the first domain
 // error (a log of a negative number, a division by zero, an overflow), placed at

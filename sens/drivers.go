@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"fmt"
 	"math"
 	"sort"
 	"sync"
@@ -20,8 +21,8 @@ type DriverInput struct {
 	Share float64 `json:"share"`
 }
 
-// Drivers is the result of the drivers analysis.
-type Drivers struct {
+// DriversResult is the result of the drivers analysis.
+type DriversResult struct {
 	Kind   string        `json:"kind"` // "drivers"
 	Output string        `json:"output"`
 	Value  float64       `json:"value"`
@@ -32,8 +33,16 @@ type Drivers struct {
 	Steps []string `json:"steps,omitempty"`
 }
 
-// ComputeDrivers returns the value of the output at the baseline, its partial
-// derivative with respect to every input (one reverse sweep), and the
+// DriversSettings are the settings of Drivers. A nil *DriversSettings means
+// the defaults. Drivers takes one gradient, so it reports no progress.
+type DriversSettings struct {
+	Settings
+	// Top keeps the Top inputs of largest |elasticity|; 0 keeps all.
+	Top int
+}
+
+// Drivers returns the value of the output at the baseline, its partial
+// derivative with respect to every input (one reverse pass), and the
 // elasticities
 //
 //	e_i = ∂y/∂x_i · x_i / y
@@ -41,14 +50,20 @@ type Drivers struct {
 // ranked by |e_i| descending, ties by name. An elasticity is the percentage
 // change of the output per percent change of the input; when y = 0 it is
 // undefined and reported as 0, and the ranking falls back to |∂y/∂x_i · x_i|.
-func ComputeDrivers(p *Problem) (*Drivers, error) {
+func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
+	if s == nil {
+		s = &DriversSettings{}
+	}
+	if err := s.ctx().Err(); err != nil {
+		return nil, fmt.Errorf("stopped: %w", err)
+	}
 	x := p.Baseline()
 	g := make([]float64, len(x))
 	y, err := p.F.Gradient(g, x)
 	if err != nil {
 		return nil, err
 	}
-	d := &Drivers{Kind: "drivers", Output: p.Output, Value: y, Unit: p.Unit}
+	d := &DriversResult{Kind: "drivers", Output: p.Output, Value: y, Unit: p.Unit}
 	var sum float64
 	for i, in := range p.Inputs {
 		di := DriverInput{Name: in.Name, Value: in.Value, Unit: in.Unit, Partial: g[i], PartialUnit: PartialUnit(p.Unit, in.Unit, in)}
@@ -74,8 +89,11 @@ func ComputeDrivers(p *Problem) (*Drivers, error) {
 		}
 		return a.Name < b.Name
 	})
-	for _, s := range p.Steps {
-		d.Steps = append(d.Steps, s.String())
+	if s.Top > 0 && s.Top < len(d.Inputs) {
+		d.Inputs = d.Inputs[:s.Top]
+	}
+	for _, st := range p.Steps {
+		d.Steps = append(d.Steps, st.String())
 	}
 	return d, nil
 }

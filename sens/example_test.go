@@ -32,7 +32,7 @@ total = units * (mass * steel + hours * rate) [$]
 		fmt.Println(err)
 		return
 	}
-	d, err := sens.ComputeDrivers(pr)
+	d, err := sens.Drivers(pr, nil)
 	if err != nil {
 		fmt.Println(err)
 		return

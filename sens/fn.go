@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // Function is a scalar function of the inputs, in the user's units: what every
@@ -37,6 +38,9 @@ type Problem struct {
 
 	// index maps the problem's inputs to the program's (nil: the same).
 	index []int
+	// prog is the program the problem was built from; nil for a problem
+	// built by hand.
+	prog *Program
 }
 
 // Project picks the problem's inputs out of a vector of every program input
@@ -102,7 +106,7 @@ func (p *Program) Fn(name string) (*Fn, error) {
 		if in, _ := p.Lookup(name); in != nil {
 			return nil, fmt.Errorf("%s is an input: analyse a formula that uses it", name)
 		}
-		return nil, fmt.Errorf("undefined: %s", name)
+		return nil, fmt.Errorf("undefined: %s%s", name, syntax.DidYouMean(name, p.Names()))
 	}
 	return &Fn{prog: p, tape: p.tape.Clone(), f: f, scale: 1 / f.u.Factor}, nil
 }
@@ -113,7 +117,7 @@ func (p *Program) Problem(name string) (*Problem, error) {
 	if err != nil {
 		return nil, err
 	}
-	pr := &Problem{Output: name, Unit: fn.f.Unit, F: fn, Inputs: p.Inputs}
+	pr := &Problem{Output: name, Unit: fn.f.Unit, F: fn, Inputs: p.Inputs, prog: p}
 	if deps := p.Deps(fn.f); len(deps) < len(p.Inputs) {
 		// Analyse only the inputs the output depends on; the others stay at
 		// their baselines.
@@ -186,7 +190,7 @@ type EvalError struct {
 	Formula string
 	Msg     string
 	Source  string
-	Inputs  []string // "rate = -0.5", the inputs the formula depends on
+	Inputs  []string // "rate = -0.5 $/h", the inputs the formula depends on
 }
 
 func (e *EvalError) Error() string {
@@ -231,11 +235,7 @@ func (p *Program) evalError(err error, x []float64) error {
 		if _, f := p.Lookup(pe.formula); f != nil && x != nil {
 			for _, i := range p.Deps(f) {
 				in := p.Inputs[i]
-				s := in.Name + " = " + fmtG(x[i])
-				if in.Unit != "" {
-					s += " [" + in.Unit + "]"
-				}
-				e.Inputs = append(e.Inputs, s)
+				e.Inputs = append(e.Inputs, in.Name+" = "+unit.Format(x[i], in.Unit))
 			}
 		}
 	}

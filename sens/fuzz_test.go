@@ -48,7 +48,7 @@ func FuzzCompile(f *testing.F) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if _, err := ComputeDrivers(pr); err != nil {
+			if _, err := Drivers(pr, nil); err != nil {
 				if _, ok := err.(*EvalError); !ok {
 					t.Fatalf("drivers error of type %T: %v", err, err)
 				}

@@ -1,7 +1,9 @@
 package sens
 
 import (
+	"errors"
 	"slices"
+	"strings"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
 )
@@ -71,15 +73,140 @@ func (m *Model) Define(f *syntax.File, s syntax.Stmt) (replaced bool) {
 	return replaced
 }
 
-// DefineScenario adds or replaces a scenario from a scenario command.
-func (m *Model) DefineScenario(f *syntax.File, c *syntax.CommandStmt) (replaced bool) {
-	name := c.Name.Name
-	_, replaced = m.scenarios[name]
-	if !replaced {
-		m.scenOrder = append(m.scenOrder, name)
+// ValueResult is the value of an input, a formula or an expression at the
+// baseline, in its display unit.
+type ValueResult struct {
+	Kind  string  `json:"kind"` // "value"
+	Name  string  `json:"name"`
+	Value float64 `json:"value"`
+	Unit  string  `json:"unit"`
+}
+
+// Value returns the value at the baseline of the input or formula name.
+func (p *Program) Value(name string) (*ValueResult, error) {
+	if in, _ := p.Lookup(name); in != nil {
+		return &ValueResult{Kind: "value", Name: name, Value: in.Value, Unit: in.Unit}, nil
 	}
-	m.scenarios[name] = &Scenario{Name: name, File: f, Stmt: c, Assigns: c.Assigns}
+	fn, err := p.Fn(name)
+	if err != nil {
+		return nil, err
+	}
+	y, err := fn.Eval(p.Baseline())
+	if err != nil {
+		return nil, err
+	}
+	return &ValueResult{Kind: "value", Name: name, Value: y, Unit: fn.Formula().Unit}, nil
+}
+
+// ScenarioResult is the result of defining a scenario: the inputs it sets,
+// with their values and baselines (empty while the model does not compile
+// yet, since the values are read then).
+type ScenarioResult struct {
+	Kind     string            `json:"kind"` // "scenario"
+	Name     string            `json:"name"`
+	Settings []ScenarioSetting `json:"settings"`
+	Replaced bool              `json:"replaced"`
+}
+
+// DefineScenario checks the scenario command c from file f against the model
+// as it stands and adds it, or replaces the scenario of that name. Each name
+// it sets must be a declared input, set once; when the model compiles, each
+// value is read in its input's unit too (else that waits until the scenario
+// is used, since a formula may be declared later in the file). Errors name
+// the line and column.
+func (m *Model) DefineScenario(f *syntax.File, c *syntax.CommandStmt) (*ScenarioResult, error) {
+	name := c.Name.Name
+	var errs syntax.ErrorList
+	if name == BaseName {
+		errs.Add(f, c.Name.Pos(), name+" is the baseline: choose another scenario name")
+		return nil, errs
+	}
+	seen := map[string]bool{}
+	for _, a := range c.Assigns {
+		if seen[a.Name.Name] {
+			errs.Add(f, a.Name.Pos(), a.Name.Name+" is set twice in scenario "+name)
+			return nil, errs
+		}
+		seen[a.Name.Name] = true
+	}
+	sc := &Scenario{Name: name, File: f, Stmt: c, Assigns: c.Assigns}
+	res := &ScenarioResult{Kind: "scenario", Name: name, Settings: []ScenarioSetting{}}
+	if prog, err := m.Compile(); err == nil {
+		x, err := prog.ScenarioValues(sc)
+		if err != nil {
+			return nil, err
+		}
+		for _, a := range c.Assigns {
+			in, _ := prog.Lookup(a.Name.Name)
+			res.Settings = append(res.Settings, ScenarioSetting{Name: in.Name, Unit: in.Unit, Value: x[in.index], Baseline: in.Value})
+		}
+	} else {
+		for _, a := range c.Assigns {
+			d := m.Lookup(a.Name.Name)
+			if msg := notAnInput(a.Name.Name, d != nil, d != nil && d.Formula != nil, m.Names()); msg != "" {
+				errs.Add(f, a.Name.Pos(), msg)
+				return nil, errs
+			}
+		}
+	}
+	res.Replaced = m.addScenario(sc)
+	return res, nil
+}
+
+// notAnInput returns why a scenario cannot set name, or "" when it can:
+// declared tells whether the name is declared, formula whether as a formula.
+func notAnInput(name string, declared, formula bool, names []string) string {
+	switch {
+	case !declared:
+		return "undefined input " + name + syntax.DidYouMean(name, names)
+	case formula:
+		return name + " is a formula: a scenario sets inputs only"
+	}
+	return ""
+}
+
+// addScenario adds or replaces a scenario, reporting whether one of its name
+// existed.
+func (m *Model) addScenario(sc *Scenario) (replaced bool) {
+	_, replaced = m.scenarios[sc.Name]
+	if !replaced {
+		m.scenOrder = append(m.scenOrder, sc.Name)
+	}
+	m.scenarios[sc.Name] = sc
 	return replaced
+}
+
+// Scenarios returns the scenarios named by ids, as a command lists them
+// ("compare total across base, lean"): nil for the baseline, BaseName. A name
+// listed twice or not defined is an error at its line and column.
+func (m *Model) Scenarios(f *syntax.File, ids []*syntax.Ident) ([]*Scenario, error) {
+	var errs syntax.ErrorList
+	known := append([]string{BaseName}, m.scenOrder...)
+	seen := map[string]bool{}
+	out := make([]*Scenario, len(ids))
+	for i, id := range ids {
+		if seen[id.Name] {
+			errs.Add(f, id.Pos(), id.Name+" is listed twice")
+			return nil, errs
+		}
+		seen[id.Name] = true
+		if id.Name == BaseName {
+			continue
+		}
+		if out[i] = m.scenarios[id.Name]; out[i] == nil {
+			hint := syntax.DidYouMean(id.Name, known)
+			switch {
+			case hint != "":
+			case len(known) > 1:
+				hint = " (scenarios: " + strings.Join(known, ", ") + ")"
+			default:
+				hint = " (define one first: scenario " + id.Name + ": INPUT = VALUE)"
+			}
+			errs.Add(f, id.Pos(), "undefined scenario "+id.Name+hint)
+			return nil, errs
+		}
+	}
+	return out, nil
 }
 
 // Scenario returns the named scenario, or nil.
@@ -128,15 +255,7 @@ func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 	c := newScratchCompiler()
 	for _, a := range s.Assigns {
 		in, f := p.Lookup(a.Name.Name)
-		switch {
-		case f != nil:
-			errs.Add(s.File, a.Name.Pos(), a.Name.Name+" is a formula: a scenario sets inputs only")
-			continue
-		case in == nil:
-			msg := "undefined input " + a.Name.Name
-			if sug := syntax.Suggest(a.Name.Name, p.Names()); sug != "" {
-				msg += " (did you mean " + sug + "?)"
-			}
+		if msg := notAnInput(a.Name.Name, in != nil || f != nil, f != nil, p.Names()); msg != "" {
 			errs.Add(s.File, a.Name.Pos(), msg)
 			continue
 		}
@@ -182,13 +301,14 @@ func LoadModel(name string, src []byte) (*Model, error) {
 	}
 	m := NewModel()
 	var errs syntax.ErrorList
+	var scenarios []*syntax.CommandStmt
 	for _, s := range stmts {
 		switch s := s.(type) {
 		case *syntax.InputStmt, *syntax.FormulaStmt:
 			m.Define(f, s)
 		case *syntax.CommandStmt:
 			if s.Verb == "scenario" {
-				m.DefineScenario(f, s)
+				scenarios = append(scenarios, s)
 				continue
 			}
 			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas and scenarios")
@@ -196,5 +316,18 @@ func LoadModel(name string, src []byte) (*Model, error) {
 			errs.Add(f, s.Pos(), "an expression is not a declaration: a model file loaded here holds inputs, formulas and scenarios")
 		}
 	}
+	// Scenarios are checked against the whole file: the order of lines does
+	// not matter in a model file.
+	for _, c := range scenarios {
+		if _, err := m.DefineScenario(f, c); err != nil {
+			var el syntax.ErrorList
+			if errors.As(err, &el) {
+				errs = append(errs, el...)
+			} else {
+				errs.Add(f, c.Pos(), err.Error())
+			}
+		}
+	}
+	errs.Sort()
 	return m, errs.Err()
 }

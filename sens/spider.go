@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"sort"
+
+	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // SpiderPoint is the output with one input changed by Pct percent.
@@ -33,34 +35,54 @@ type SpiderResult struct {
 	Output   string  `json:"output"`
 	Unit     string  `json:"unit"`
 	Baseline float64 `json:"baseline"`
-	// SpanPct is P of the span -P%..+P%.
-	SpanPct float64 `json:"span_pct"`
+	// RangePct is P of the range -P%..+P%.
+	RangePct float64 `json:"span_pct"`
 	// Inputs holds one line per input, by spread descending, ties by name.
 	Inputs      []SpiderLine `json:"inputs"`
 	Evaluations int          `json:"evaluations"`
 }
 
-// DefaultSpiderPct and DefaultSpiderPoints are Spider's defaults.
+// SpiderSettings are the settings of Spider. A nil *SpiderSettings means the
+// defaults.
+type SpiderSettings struct {
+	Settings
+	// RangePct is P of the range -P%..+P% of each input's baseline, below
+	// 100 (DefaultSpiderRangePct when 0).
+	RangePct float64
+	// Points is the number of equally spaced percentages from -P% to +P%
+	// (DefaultSpiderPoints when 0); an even number is raised by one so that
+	// 0% is among them, and fewer than 3 are raised to 3.
+	Points int
+}
+
+// DefaultSpiderRangePct and DefaultSpiderPoints are Spider's defaults.
 const (
-	DefaultSpiderPct    = 30
-	DefaultSpiderPoints = 13
+	DefaultSpiderRangePct = 30
+	DefaultSpiderPoints   = 13
 )
 
-// Spider evaluates the output as each input in turn moves from -pct% to
-// +pct% of its baseline, the others held at their baselines:
+// Spider evaluates the output as each input in turn moves from -P% to +P% of
+// its baseline, the others held at their baselines:
 //
-//	y_i(q) = f(x0 with x_i = x0_i · (1 + q/100)),  q = -pct .. +pct
+//	y_i(q) = f(x0 with x_i = x0_i · (1 + q/100)),  q = -P .. +P
 //
-// on points equally spaced percentages (an even count is raised by one so that
-// 0% is one of them). Every line passes through the baseline output at 0%,
-// which is evaluated once and shared. pct <= 0 and points <= 0 mean the
-// defaults (±30%, 13 points); points below 3 are raised to 3.
-func Spider(p *Problem, pct float64, points int, s *Settings) (*SpiderResult, error) {
-	if pct <= 0 {
-		pct = DefaultSpiderPct
+// on equally spaced percentages. Every line passes through the baseline
+// output at 0%, which is evaluated once and shared.
+func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
+	if s == nil {
+		s = &SpiderSettings{}
 	}
-	if math.IsNaN(pct) || math.IsInf(pct, 0) {
-		return nil, fmt.Errorf("spider: span %v%% is not a finite number", pct)
+	if len(p.Inputs) == 0 {
+		return nil, p.errNoInputs()
+	}
+	pct, points := s.RangePct, s.Points
+	switch {
+	case pct == 0:
+		pct = DefaultSpiderRangePct
+	case math.IsNaN(pct) || math.IsInf(pct, 0) || pct < 0:
+		return nil, fmt.Errorf("spider: the range ±%s is not a positive number", unit.Format(pct, "%"))
+	case pct >= 100:
+		return nil, fmt.Errorf("a range of ±%s would take inputs to zero or below: use less than 100%%", unit.Format(pct, "%"))
 	}
 	if points <= 0 {
 		points = DefaultSpiderPoints
@@ -69,6 +91,7 @@ func Spider(p *Problem, pct float64, points int, s *Settings) (*SpiderResult, er
 	if points%2 == 0 {
 		points++
 	}
+	set := &s.Settings
 	half := points / 2
 	pcts := make([]float64, points)
 	for j := range pcts {
@@ -77,7 +100,7 @@ func Spider(p *Problem, pct float64, points int, s *Settings) (*SpiderResult, er
 	pcts[half] = 0
 
 	x0 := p.Baseline()
-	ev := newBatcher(p.F, x0, s)
+	ev := newBatcher(p.F, x0, set)
 	pts := []point{{i: -1, j: -1}}
 	for i, in := range p.Inputs {
 		if in.Value == 0 {
@@ -96,7 +119,7 @@ func Spider(p *Problem, pct float64, points int, s *Settings) (*SpiderResult, er
 	}
 	ev.finish()
 	base := y[0]
-	res := &SpiderResult{Kind: "spider", Output: p.Output, Unit: p.Unit, Baseline: base, SpanPct: pct, Evaluations: ev.done}
+	res := &SpiderResult{Kind: "spider", Output: p.Output, Unit: p.Unit, Baseline: base, RangePct: pct, Evaluations: ev.done}
 	n := 1
 	for _, in := range p.Inputs {
 		line := SpiderLine{Name: in.Name, Unit: in.Unit, Value: in.Value, Points: make([]SpiderPoint, points)}

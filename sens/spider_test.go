@@ -17,13 +17,13 @@ y = a * x^0.75 + z
 	p := problemOf(t, src, "y")
 	cf := &counting{Function: p.F}
 	p.F = cf
-	r, err := Spider(p, 30, 0, nil)
+	r, err := Spider(p, &SpiderSettings{RangePct: 30})
 	if err != nil {
 		t.Fatal(err)
 	}
 	base := 2 * math.Pow(8, 0.75)
-	if !scalar.EqualWithinAbsOrRel(r.Baseline, base, 1e-12, 1e-12) || r.SpanPct != 30 {
-		t.Fatalf("baseline %v span %v", r.Baseline, r.SpanPct)
+	if !scalar.EqualWithinAbsOrRel(r.Baseline, base, 1e-12, 1e-12) || r.RangePct != 30 {
+		t.Fatalf("baseline %v range %v", r.Baseline, r.RangePct)
 	}
 	// Spread: y is proportional to a (elasticity 1) and to x^0.75, so a's
 	// line spreads wider than x's; z is 0 and its line flat.
@@ -64,7 +64,7 @@ y = a * x^0.75 + z
 	}
 
 	// An even number of points is raised by one so 0% stays on the grid.
-	r, err = Spider(p, 10, 4, nil)
+	r, err = Spider(p, &SpiderSettings{RangePct: 10, Points: 4})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,11 +1,14 @@
 package sens
 
 import (
+	"errors"
 	"fmt"
 	"math"
+
+	"github.com/nudge-dev/nudge/sens/unit"
 )
 
-// SweepAxis is one swept input: its span, the number of points on it, and its
+// SweepAxis is one swept input: its range, the number of points on it, and its
 // baseline.
 type SweepAxis struct {
 	Name     string    `json:"name"`
@@ -23,8 +26,8 @@ type SweepPoint struct {
 	Output float64 `json:"output"`
 }
 
-// SweepResult is the result of a 1-D sweep.
-type SweepResult struct {
+// Sweep1DResult is the result of a 1-D sweep.
+type Sweep1DResult struct {
 	Kind     string       `json:"kind"` // "sweep"
 	Dims     int          `json:"dims"` // 1
 	Output   string       `json:"output"`
@@ -75,86 +78,122 @@ const (
 	DefaultSweep2D = 21
 )
 
-// Sweep1D evaluates the output at n equally spaced values of one input from lo
-// to hi, the other inputs at their baselines (n <= 0 means DefaultSweep1D; at
-// least 2). With a target, it also reports where the line crosses it.
-func Sweep1D(p *Problem, input string, lo, hi float64, n int, target *float64, s *Settings) (*SweepResult, error) {
-	i, err := p.inputIndex(input)
+// Axis is an input to sweep and the range to sweep it over.
+type Axis struct {
+	Input string
+	// Low and High are the range in the input's unit; both zero means the
+	// input's stated range.
+	Low, High float64
+	// N is the number of equally spaced points from Low to High (the
+	// sweep's default when 0; at least 2).
+	N int
+}
+
+// Sweep1DSettings are the settings of Sweep1D. The input is required.
+type Sweep1DSettings struct {
+	Settings
+	Axis
+	// Target, when set, asks where the swept line crosses it.
+	Target *float64
+}
+
+// Sweep2DSettings are the settings of Sweep2D. Both inputs are required.
+type Sweep2DSettings struct {
+	Settings
+	X, Y Axis
+	// Target, when set, asks for the contour where the output equals it.
+	Target *float64
+}
+
+// axis resolves a swept input: its index, its range and its number of
+// points.
+func (p *Problem) axis(a Axis, defaultN int) (*Input, int, []float64, error) {
+	if a.Input == "" {
+		return nil, -1, nil, errors.New("a sweep needs an input to vary")
+	}
+	in, i, err := p.Input(a.Input)
+	if err != nil {
+		return nil, -1, nil, err
+	}
+	lo, hi := a.Low, a.High
+	if lo == 0 && hi == 0 {
+		lo, hi = in.Low, in.High
+	}
+	if err := checkRange(in, lo, hi); err != nil {
+		return nil, -1, nil, err
+	}
+	n := a.N
+	if n <= 0 {
+		n = defaultN
+	}
+	return in, i, linspace(lo, hi, max(n, 2)), nil
+}
+
+// Sweep1D evaluates the output at equally spaced values of one input, the
+// other inputs at their baselines. With a target, it also reports where the
+// line crosses it.
+func Sweep1D(p *Problem, s *Sweep1DSettings) (*Sweep1DResult, error) {
+	if s == nil {
+		s = &Sweep1DSettings{}
+	}
+	in, i, xs, err := p.axis(s.Axis, DefaultSweep1D)
 	if err != nil {
 		return nil, err
 	}
-	if err := checkSpan(input, lo, hi); err != nil {
-		return nil, err
-	}
-	if n <= 0 {
-		n = DefaultSweep1D
-	}
-	n = max(n, 2)
-	xs := linspace(lo, hi, n)
+	n := len(xs)
 	pts := []point{{i: -1, j: -1}}
 	for _, v := range xs {
 		pts = append(pts, point{i: i, vi: v, j: -1})
 	}
-	ev := newBatcher(p.F, p.Baseline(), s)
+	ev := newBatcher(p.F, p.Baseline(), &s.Settings)
 	ev.total = len(pts)
 	y := make([]float64, len(pts))
 	if err := ev.eval(y, pts); err != nil {
 		return nil, err
 	}
 	ev.finish()
-	in := p.Inputs[i]
-	res := &SweepResult{Kind: "sweep", Dims: 1, Output: p.Output, Unit: p.Unit, Baseline: y[0],
-		Input: SweepAxis{Name: in.Name, Unit: in.Unit, Low: lo, High: hi, N: n, Baseline: in.Value, Values: xs}}
+	res := &Sweep1DResult{Kind: "sweep", Dims: 1, Output: p.Output, Unit: p.Unit, Baseline: y[0],
+		Input: SweepAxis{Name: in.Name, Unit: in.Unit, Low: xs[0], High: xs[n-1], N: n, Baseline: in.Value, Values: xs}}
 	res.Points = make([]SweepPoint, n)
 	for j, v := range xs {
 		res.Points[j] = SweepPoint{X: v, Output: y[j+1]}
 	}
-	if target != nil {
-		t := *target
+	if s.Target != nil {
+		t := *s.Target
 		res.Target = &t
 		res.Crossings = crossings(res.Points, t)
 	}
 	return res, nil
 }
 
-// Sweep2D evaluates the output on an nx × ny grid of two inputs, the others at
-// their baselines (nx, ny <= 0 mean DefaultSweep2D; at least 2 each). With a
-// target, it also traces the contour where the output equals the target by
-// marching squares: each grid cell's corners are classed as at or above the
-// target or below it, the crossing on each cell edge is placed by linear
-// interpolation, and an ambiguous (saddle) cell is resolved by the mean of its
-// four corners. For an output linear in the two inputs the contour is exact.
+// Sweep2D evaluates the output on a grid of two inputs, the others at their
+// baselines. With a target, it also traces the contour where the output
+// equals the target by marching squares: each grid cell's corners are classed
+// as at or above the target or below it, the crossing on each cell edge is
+// placed by linear interpolation, and an ambiguous (saddle) cell is resolved
+// by the mean of its four corners. For an output linear in the two inputs the
+// contour is exact.
 //
 // References:
 //   - W. E. Lorensen and H. E. Cline, Marching cubes: a high resolution 3D
 //     surface construction algorithm, Computer Graphics 21(4), 1987 (the
 //     two-dimensional case is marching squares).
-func Sweep2D(p *Problem, x string, xlo, xhi float64, y string, ylo, yhi float64, nx, ny int, target *float64, s *Settings) (*Sweep2DResult, error) {
-	ix, err := p.inputIndex(x)
+func Sweep2D(p *Problem, s *Sweep2DSettings) (*Sweep2DResult, error) {
+	if s == nil {
+		s = &Sweep2DSettings{}
+	}
+	inx, ix, xs, err := p.axis(s.X, DefaultSweep2D)
 	if err != nil {
 		return nil, err
 	}
-	iy, err := p.inputIndex(y)
+	iny, iy, ys, err := p.axis(s.Y, DefaultSweep2D)
 	if err != nil {
 		return nil, err
 	}
 	if ix == iy {
-		return nil, fmt.Errorf("a 2-D sweep needs two different inputs, found %s twice", x)
+		return nil, fmt.Errorf("a 2-D sweep needs two different inputs, found %s twice", inx.Name)
 	}
-	if err := checkSpan(x, xlo, xhi); err != nil {
-		return nil, err
-	}
-	if err := checkSpan(y, ylo, yhi); err != nil {
-		return nil, err
-	}
-	if nx <= 0 {
-		nx = DefaultSweep2D
-	}
-	if ny <= 0 {
-		ny = DefaultSweep2D
-	}
-	nx, ny = max(nx, 2), max(ny, 2)
-	xs, ys := linspace(xlo, xhi, nx), linspace(ylo, yhi, ny)
+	nx, ny := len(xs), len(ys)
 	pts := make([]point, 0, nx*ny+1)
 	pts = append(pts, point{i: -1, j: -1})
 	for _, yv := range ys {
@@ -162,18 +201,17 @@ func Sweep2D(p *Problem, x string, xlo, xhi float64, y string, ylo, yhi float64,
 			pts = append(pts, point{i: ix, vi: xv, j: iy, vj: yv})
 		}
 	}
-	ev := newBatcher(p.F, p.Baseline(), s)
+	ev := newBatcher(p.F, p.Baseline(), &s.Settings)
 	ev.total = len(pts)
 	out := make([]float64, len(pts))
 	if err := ev.eval(out, pts); err != nil {
 		return nil, err
 	}
 	ev.finish()
-	inx, iny := p.Inputs[ix], p.Inputs[iy]
 	res := &Sweep2DResult{Kind: "sweep", Dims: 2, Output: p.Output, Unit: p.Unit, Baseline: out[0],
 		Inputs: []SweepAxis{
-			{Name: inx.Name, Unit: inx.Unit, Low: xlo, High: xhi, N: nx, Baseline: inx.Value, Values: xs},
-			{Name: iny.Name, Unit: iny.Unit, Low: ylo, High: yhi, N: ny, Baseline: iny.Value, Values: ys},
+			{Name: inx.Name, Unit: inx.Unit, Low: xs[0], High: xs[nx-1], N: nx, Baseline: inx.Value, Values: xs},
+			{Name: iny.Name, Unit: iny.Unit, Low: ys[0], High: ys[ny-1], N: ny, Baseline: iny.Value, Values: ys},
 		},
 		Points: make([]GridPoint, nx*ny), Min: math.Inf(1), Max: math.Inf(-1)}
 	z := out[1:]
@@ -184,8 +222,8 @@ func Sweep2D(p *Problem, x string, xlo, xhi float64, y string, ylo, yhi float64,
 			res.Min, res.Max = math.Min(res.Min, v), math.Max(res.Max, v)
 		}
 	}
-	if target != nil {
-		t := *target
+	if s.Target != nil {
+		t := *s.Target
 		res.Target = &t
 		res.Contour = Contour(xs, ys, z, t)
 	}
@@ -217,12 +255,13 @@ func crossings(pts []SweepPoint, t float64) []float64 {
 	return out
 }
 
-func checkSpan(name string, lo, hi float64) error {
+// checkRange checks a range of the input in to vary it over.
+func checkRange(in *Input, lo, hi float64) error {
 	switch {
 	case math.IsNaN(lo) || math.IsNaN(hi) || math.IsInf(lo, 0) || math.IsInf(hi, 0):
-		return fmt.Errorf("the span of %s must be finite", name)
+		return fmt.Errorf("the range of %s must be finite", in.Name)
 	case lo >= hi:
-		return fmt.Errorf("the span of %s is empty or reversed (%s..%s): write LOW..HIGH with LOW < HIGH", name, fmtG(lo), fmtG(hi))
+		return fmt.Errorf("the range %s..%s of %s is empty or reversed: write LOW..HIGH with LOW < HIGH", unit.Format(lo, in.Unit), unit.Format(hi, in.Unit), in.Name)
 	}
 	return nil
 }

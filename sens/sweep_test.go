@@ -12,11 +12,12 @@ func TestSweep1D(t *testing.T) {
 input rate = 60 [$/h] (50..70)
 input hours = 1.5 [h]
 input fixed = 10 [$]
+input spare = 3
 cost = rate * hours + fixed
 `
 	p := problemOf(t, src, "cost")
 	target := 100.0
-	r, err := Sweep1D(p, "rate", 40, 80, 5, &target, nil)
+	r, err := Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: "rate", Low: 40, High: 80, N: 5}, Target: &target})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -37,7 +38,7 @@ cost = rate * hours + fixed
 		t.Errorf("crossings %v, want [60]", r.Crossings)
 	}
 	target = 92.5 // between grid points: rate = 55
-	r, _ = Sweep1D(p, "rate", 40, 80, 5, &target, nil)
+	r, _ = Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: "rate", Low: 40, High: 80, N: 5}, Target: &target})
 	if len(r.Crossings) != 1 || !scalar.EqualWithinAbsOrRel(r.Crossings[0], 55, 1e-12, 1e-12) {
 		t.Errorf("crossings %v, want [55]", r.Crossings)
 	}
@@ -47,12 +48,15 @@ cost = rate * hours + fixed
 		lo, hi float64
 		msg    string
 	}{
-		{"rate", 80, 40, "the span of rate is empty or reversed (80..40): write LOW..HIGH with LOW < HIGH"},
-		{"rate", 1, 1, "the span of rate is empty or reversed (1..1): write LOW..HIGH with LOW < HIGH"},
-		{"rates", 1, 2, "rates is not an input of cost"},
-		{"rate", math.Inf(-1), 2, "the span of rate must be finite"},
+		{"rate", 80, 40, "the range 80 $/h..40 $/h of rate is empty or reversed: write LOW..HIGH with LOW < HIGH"},
+		{"rate", 1, 1, "the range 1 $/h..1 $/h of rate is empty or reversed: write LOW..HIGH with LOW < HIGH"},
+		{"rates", 1, 2, "undefined input rates (did you mean rate?)"},
+		{"spare", 1, 2, "cost does not depend on spare: vary one of the inputs it uses"},
+		{"cost", 1, 2, "cost is a formula, not an input: vary one of the inputs it uses"},
+		{"rate", math.Inf(-1), 2, "the range of rate must be finite"},
+		{"", 1, 2, "a sweep needs an input to vary"},
 	} {
-		_, err := Sweep1D(p, tc.input, tc.lo, tc.hi, 5, nil, nil)
+		_, err := Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: tc.input, Low: tc.lo, High: tc.hi, N: 5}})
 		if err == nil || err.Error() != tc.msg {
 			t.Errorf("Sweep1D(%s, %v, %v): error %v, want %q", tc.input, tc.lo, tc.hi, err, tc.msg)
 		}
@@ -66,7 +70,7 @@ func TestSweep2DContourLine(t *testing.T) {
 	f := FuncOf(3, func(x []float64) float64 { return x[0] + x[1] + 0*x[2] }, nil)
 	p := &Problem{Output: "f", F: f, Inputs: ins}
 	target := 10.0
-	r, err := Sweep2D(p, "x", 0, 10, "y", 0, 10, 7, 9, &target, nil)
+	r, err := Sweep2D(p, &Sweep2DSettings{X: Axis{"x", 0, 10, 7}, Y: Axis{"y", 0, 10, 9}, Target: &target})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -102,7 +106,7 @@ func TestSweep2DContourLine(t *testing.T) {
 	if math.Min(a.X, b.X) != 0 || math.Max(a.X, b.X) != 10 {
 		t.Errorf("contour ends %+v and %+v, want x = 0 and x = 10", a, b)
 	}
-	if _, err := Sweep2D(p, "x", 0, 1, "x", 0, 1, 3, 3, nil, nil); err == nil {
+	if _, err := Sweep2D(p, &Sweep2DSettings{X: Axis{"x", 0, 1, 3}, Y: Axis{"x", 0, 1, 3}}); err == nil {
 		t.Error("same input twice: no error")
 	}
 }
@@ -114,7 +118,7 @@ func TestSweep2DContourCircle(t *testing.T) {
 	ins := []*Input{NewInput("x", 0, -2, 2, nil), NewInput("y", 0, -2, 2, nil)}
 	f := FuncOf(2, func(x []float64) float64 { return x[0]*x[0] + x[1]*x[1] }, nil)
 	target := 1.0
-	r, err := Sweep2D(&Problem{Output: "f", F: f, Inputs: ins}, "x", -2, 2, "y", -2, 2, 41, 41, &target, nil)
+	r, err := Sweep2D(&Problem{Output: "f", F: f, Inputs: ins}, &Sweep2DSettings{X: Axis{"x", -2, 2, 41}, Y: Axis{"y", -2, 2, 41}, Target: &target})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"sort"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 // TornadoBar is one input's bar: the output at the low and high ends of the
@@ -52,16 +54,21 @@ type TornadoRest struct {
 	OutMax float64 `json:"out_max"`
 }
 
-// SummariseBars returns the summary of bars left out of a chart or table.
-func SummariseBars(bars []TornadoBar) *TornadoRest {
-	rest := &TornadoRest{Count: len(bars), OutMin: math.Inf(1), OutMax: math.Inf(-1)}
+// summarise returns the summary of bars left out of a result.
+func summarise(bars []TornadoBar) *TornadoRest {
+	rest := &TornadoRest{OutMin: math.Inf(1), OutMax: math.Inf(-1)}
 	for _, b := range bars {
-		rest.LargestSwing = math.Max(rest.LargestSwing, b.Swing)
-		rest.LargestSpread = math.Max(rest.LargestSpread, b.Spread())
-		rest.OutMin = math.Min(rest.OutMin, b.OutMin)
-		rest.OutMax = math.Max(rest.OutMax, b.OutMax)
+		rest.add(&TornadoRest{Count: 1, LargestSwing: b.Swing, LargestSpread: b.Spread(), OutMin: b.OutMin, OutMax: b.OutMax})
 	}
 	return rest
+}
+
+// add merges the summary o into r.
+func (r *TornadoRest) add(o *TornadoRest) {
+	r.Count += o.Count
+	r.LargestSwing = math.Max(r.LargestSwing, o.LargestSwing)
+	r.LargestSpread = math.Max(r.LargestSpread, o.LargestSpread)
+	r.OutMin, r.OutMax = math.Min(r.OutMin, o.OutMin), math.Max(r.OutMax, o.OutMax)
 }
 
 // TornadoResult is the result of the tornado analysis.
@@ -80,6 +87,20 @@ type TornadoResult struct {
 	Interior    int      `json:"interior"`
 	Evaluations int      `json:"evaluations"`
 	Steps       []string `json:"steps,omitempty"`
+}
+
+// Shown returns what a table or chart of at most n bars shows: the first n
+// bars (all of them when n <= 0 or there are no more) and the summary of the
+// bars left out, Rest included (nil when none is left out).
+func (r *TornadoResult) Shown(n int) ([]TornadoBar, *TornadoRest) {
+	if n <= 0 || len(r.Bars) <= n {
+		return r.Bars, r.Rest
+	}
+	rest := summarise(r.Bars[n:])
+	if r.Rest != nil {
+		rest.add(r.Rest)
+	}
+	return r.Bars[:n], rest
 }
 
 // TornadoSettings are the settings of Tornado. A nil *TornadoSettings means
@@ -124,6 +145,9 @@ const DefaultInterior = 9
 func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 	if s == nil {
 		s = &TornadoSettings{}
+	}
+	if len(p.Inputs) == 0 {
+		return nil, p.errNoInputs()
 	}
 	set := &s.Settings
 	m := s.Interior
@@ -306,7 +330,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		return bars[a].Name < bars[c].Name
 	})
 	if s.Top > 0 && s.Top < len(bars) {
-		res.Rest = SummariseBars(bars[s.Top:])
+		res.Rest = summarise(bars[s.Top:])
 		bars = bars[:s.Top]
 	}
 	res.Bars = bars
@@ -575,12 +599,32 @@ func (b *batcher) finish() {
 	b.s.progress(b.done, b.total)
 }
 
-// inputIndex returns the index of the input called name.
-func (p *Problem) inputIndex(name string) (int, error) {
+// errNoInputs is the error of a one-at-a-time analysis of an output that
+// depends on no input.
+func (p *Problem) errNoInputs() error {
+	return fmt.Errorf("%s depends on no input: there is nothing to vary", p.Output)
+}
+
+// Input returns the input called name and its index among the problem's
+// inputs. An error says why name is not one: a formula, an input the output
+// does not depend on, or an undefined name (with a suggestion).
+func (p *Problem) Input(name string) (*Input, int, error) {
 	for i, in := range p.Inputs {
 		if in.Name == name {
-			return i, nil
+			return in, i, nil
 		}
 	}
-	return -1, fmt.Errorf("%s is not an input of %s", name, p.Output)
+	if p.prog != nil {
+		switch in, f := p.prog.Lookup(name); {
+		case f != nil:
+			return nil, -1, fmt.Errorf("%s is a formula, not an input: vary one of the inputs it uses", name)
+		case in != nil:
+			return nil, -1, fmt.Errorf("%s does not depend on %s: vary one of the inputs it uses", p.Output, name)
+		}
+	}
+	names := make([]string, len(p.Inputs))
+	for i, in := range p.Inputs {
+		names[i] = in.Name
+	}
+	return nil, -1, fmt.Errorf("undefined input %s%s", name, syntax.DidYouMean(name, names))
 }

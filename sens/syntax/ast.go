@@ -169,20 +169,9 @@ type (
 		Unit *UnitLit // optional unit to show the value in: total [k$]
 	}
 
-	// CommandStmt is an analysis command. Verb is one of Verbs; the other fields
-	// are filled as the verb's form requires:
-	//
-	//	drivers OUT [opts]
-	//	tornado OUT [top=N] [opts]
-	//	spider OUT [(±P%)] [opts]
-	//	sweep OUT over X a..b [and Y c..d] [opts]
-	//	breakeven OUT = TARGET over X [opts]
-	//	scenario NAME: X = v, Y = w
-	//	compare OUT across NAME, NAME...
-	//	simulate|sobol|morris|screen OUT [key=value...]
-	//	print "text"
-	//	reset
-	//	charts svg|png|text
+	// CommandStmt is a command. Verb is one of Verbs; the other fields are
+	// filled as the verb's production in the grammar requires (see parser.go
+	// and CommandForm).
 	CommandStmt struct {
 		Verb    string
 		VerbPos Pos
@@ -190,7 +179,7 @@ type (
 		Name    *Ident     // scenario name; charts' setting
 		Axes    []*Axis    // sweep axes; breakeven's single input (without a range)
 		Target  Expr       // breakeven target
-		Percent *RangeSpec // spider's percentage span
+		Percent *RangeSpec // spider's percentage range
 		Names   []*Ident   // compare's scenario list
 		Assigns []*Assign  // scenario's settings
 		Options []*Option  // key=value
@@ -199,8 +188,8 @@ type (
 	}
 )
 
-// Axis is an input swept over a span: rate 40..80. Low and High are nil when no
-// span is written (breakeven's "over X").
+// Axis is an input and a range to vary it over: rate 40..80. Low and High are
+// nil when no range is written (breakeven's "over X").
 type Axis struct {
 	Name      *Ident
 	Low, High Expr

@@ -132,14 +132,13 @@ func (l ErrorList) Detail() string {
 	return b.String()
 }
 
-// Suggest returns the candidate closest to name when it is close enough to be a
-// likely misspelling, or "". Closeness is the Levenshtein distance, allowed up to
-// a third of the name's length (at least 1).
-func Suggest(name string, candidates []string) string {
+// DidYouMean returns " (did you mean shop_rate?)", naming the candidate closest
+// to name when it is close enough to be a likely misspelling, or "" when none
+// is: the one way every message of nudge suggests a name. Closeness is the
+// Levenshtein distance, allowed up to a third of the name's length (at least
+// 1); of equally close candidates the first in alphabetical order wins.
+func DidYouMean(name string, candidates []string) string {
 	best, bestD := "", len(name)/3+1
-	if bestD < 1 {
-		bestD = 1
-	}
 	bestD++ // strict comparison below
 	for _, c := range candidates {
 		if c == name {
@@ -149,7 +148,10 @@ func Suggest(name string, candidates []string) string {
 			best, bestD = c, d
 		}
 	}
-	return best
+	if best == "" {
+		return ""
+	}
+	return " (did you mean " + best + "?)"
 }
 
 func levenshtein(a, b string) int {

@@ -15,7 +15,6 @@ import (
 //	bound     = [ "+" | "-" ] NUMBER [ "%" ] .
 //	dist      = "~" name "(" [ expr { "," expr } ] ")" .
 //	formula   = name "=" expr [ UNIT ] .
-//	command   = verb ... (see CommandStmt) .
 //	expr      = or .
 //	or        = and { "or" and } .
 //	and       = not { "and" not } .
@@ -26,6 +25,28 @@ import (
 //	unary     = ( "-" | "+" ) unary | power .
 //	power     = primary [ "^" unary ] .
 //	primary   = NUMBER [ UNIT ] | name | name "(" [ expr { "," expr } ] ")" | "(" expr ")" .
+//	arith     = sum .
+//
+// A command is a line that starts with its verb (and is not verb = ...); its
+// options, key=value, follow it. Inside a command an expression is an arith,
+// without comparisons or logic, so that words such as "over" and "and" end it.
+// One parse function per verb carries its production (commands.go).
+//
+//	command   = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
+//	          | reserved | print | reset | charts ) options .
+//	options   = { name "=" arith } .
+//	drivers   = "drivers" arith .
+//	tornado   = "tornado" arith .
+//	spider    = "spider" name [ range ] .
+//	sweep     = "sweep" arith "over" axis [ "and" axis ] .
+//	axis      = name arith ".." arith .
+//	breakeven = "breakeven" arith "=" arith "over" name [ arith ".." arith ] .
+//	scenario  = "scenario" name ":" name "=" arith { "," name "=" arith } .
+//	compare   = "compare" arith "across" name { "," name } .
+//	reserved  = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
+//	print     = "print" STRING .
+//	reset     = "reset" .
+//	charts    = "charts" name .
 //
 // A unit in brackets right after a number belongs to that number (90 [min] * rate),
 // except the last bracket of an input or formula line, which is the line's declared
@@ -326,7 +347,7 @@ func (p *parser) parseRange() *RangeSpec {
 		p.next()
 		b := p.parseBound(true)
 		if b.Value < 0 {
-			p.error(b.ValuePos, "a ± span must be positive")
+			p.error(b.ValuePos, "a ± range must be positive")
 		}
 		r.Symmetric = true
 		r.High = b
@@ -417,117 +438,6 @@ func (p *parser) parseFormula() *FormulaStmt {
 	}
 	s.EndAt = p.pos
 	return s
-}
-
-func (p *parser) parseCommand() *CommandStmt {
-	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
-	p.next()
-	switch c.Verb {
-	case "reset":
-	case "charts":
-		c.Name = p.parseIdent()
-	case "print":
-		if p.tok != STRING {
-			p.errorExpected(`text in double quotes: print "text"`)
-		}
-		c.Text = p.lit
-		p.next()
-	case "scenario":
-		c.Name = p.parseIdent()
-		if p.tok != COLON {
-			p.errorExpected("':' and settings: scenario " + c.Name.Name + ": x = 1, y = 2")
-		}
-		p.next()
-		for {
-			a := &Assign{Name: p.parseIdent()}
-			if p.tok != ASSIGN {
-				p.errorExpected("'=' after " + a.Name.Name)
-			}
-			p.next()
-			a.Value = p.parseArith()
-			c.Assigns = append(c.Assigns, a)
-			if p.tok != COMMA {
-				break
-			}
-			p.next()
-		}
-	case "compare":
-		c.Output = p.parseArith()
-		p.expectWord("across", "compare "+exprString(c.Output)+" across base, NAME")
-		for {
-			c.Names = append(c.Names, p.parseIdent())
-			if p.tok != COMMA {
-				break
-			}
-			p.next()
-		}
-	case "spider":
-		c.Output = p.parseIdent()
-		if p.tok == LPAREN {
-			c.Percent = p.parseRange()
-			if !c.Percent.Low.Percent {
-				p.error(c.Percent.Lparen, "spider takes a percentage span such as (±30%)")
-			}
-		}
-	case "sweep":
-		c.Output = p.parseArith()
-		p.expectWord("over", "sweep "+exprString(c.Output)+" over INPUT LOW..HIGH")
-		c.Axes = append(c.Axes, p.parseAxis(true))
-		if p.tok == AND {
-			p.next()
-			c.Axes = append(c.Axes, p.parseAxis(true))
-		}
-	case "breakeven":
-		c.Output = p.parseArith()
-		if p.tok != ASSIGN {
-			p.errorExpected("'=' and a target: breakeven " + exprString(c.Output) + " = TARGET over INPUT")
-		}
-		p.next()
-		c.Target = p.parseArith()
-		p.expectWord("over", "breakeven "+exprString(c.Output)+" = TARGET over INPUT")
-		c.Axes = append(c.Axes, p.parseAxis(false))
-	default: // drivers, tornado, simulate, sobol, morris, screen
-		if p.atEnd() {
-			p.error(p.pos, c.Verb+" needs an output: "+c.Verb+" NAME")
-		}
-		c.Output = p.parseArith()
-	}
-	for p.tok == IDENT && p.peek(1) == ASSIGN {
-		o := &Option{Key: p.parseIdent()}
-		p.next()
-		o.Value = p.parseArith()
-		c.Options = append(c.Options, o)
-	}
-	if !p.atEnd() {
-		if p.tok == IDENT {
-			p.error(p.pos, "unexpected "+p.describe()+" after "+c.Verb+" (options are written key=value)")
-		}
-		p.errorExpected("end of line")
-	}
-	c.EndAt = p.pos
-	return c
-}
-
-func (p *parser) expectWord(word, form string) {
-	if p.tok != IDENT || p.lit != word {
-		p.error(p.pos, "expected '"+word+"', found "+p.describe()+" (write: "+form+")")
-	}
-	p.next()
-}
-
-// parseAxis parses NAME [LOW..HIGH]; the span is required when need is set.
-func (p *parser) parseAxis(need bool) *Axis {
-	a := &Axis{Name: p.parseIdent()}
-	if !need && (p.atEnd() || p.tok == IDENT && p.peek(1) == ASSIGN) {
-		return a
-	}
-	a.Low = p.parseArith()
-	if p.tok != DOTDOT {
-		p.errorExpected("'..' between the ends of the span (" + a.Name.Name + " LOW..HIGH)")
-	}
-	p.next()
-	a.High = p.parseArith()
-	return a
 }
 
 // ---- Expressions

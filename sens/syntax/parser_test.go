@@ -236,13 +236,14 @@ func TestErrorListStopsAndRecovers(t *testing.T) {
 	}
 }
 
-func TestSuggest(t *testing.T) {
+func TestDidYouMean(t *testing.T) {
 	names := []string{"shop_rate", "steel", "total", "tooling"}
 	for _, tc := range []struct{ in, want string }{
-		{"shop_rat", "shop_rate"}, {"stel", "steel"}, {"totl", "total"}, {"zzz", ""}, {"x", ""},
+		{"shop_rat", " (did you mean shop_rate?)"}, {"stel", " (did you mean steel?)"},
+		{"totl", " (did you mean total?)"}, {"zzz", ""}, {"x", ""}, {"total", ""},
 	} {
-		if got := Suggest(tc.in, names); got != tc.want {
-			t.Errorf("Suggest(%q) = %q, want %q", tc.in, got, tc.want)
+		if got := DidYouMean(tc.in, names); got != tc.want {
+			t.Errorf("DidYouMean(%q) = %q, want %q", tc.in, got, tc.want)
 		}
 	}
 }

@@ -228,19 +228,3 @@ func (t Token) Precedence() int {
 
 // IsComparison reports whether t is a comparison operator.
 func (t Token) IsComparison() bool { return t >= EQL && t <= GEQ }
-
-// Verbs are the words that start a command when the next token is not '='.
-var Verbs = []string{
-	"drivers", "tornado", "spider", "sweep", "breakeven", "scenario", "compare",
-	"simulate", "sobol", "morris", "screen", "print", "reset", "charts",
-}
-
-// IsVerb reports whether name is a command verb.
-func IsVerb(name string) bool {
-	for _, v := range Verbs {
-		if v == name {
-			return true
-		}
-	}
-	return false
-}

@@ -36,7 +36,7 @@ func installCmd(args []string, stdout, stderr io.Writer) int {
 	case *prefix != "":
 		scope = "prefix"
 	}
-	dir, err := kernel.KernelSpecDir(scope, *prefix)
+	dir, err := kernel.SpecDir(scope, *prefix)
 	if err != nil {
 		fmt.Fprintln(stderr, "nudge install:", err)
 		return 1
@@ -49,7 +49,7 @@ func installCmd(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintln(stderr, "nudge install: cannot find this program's path:", err)
 		return 1
 	}
-	if err := kernel.InstallKernelSpec(dir, exe); err != nil {
+	if err := kernel.InstallSpec(dir, exe); err != nil {
 		fmt.Fprintln(stderr, "nudge install:", err)
 		return 1
 	}

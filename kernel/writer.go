@@ -8,6 +8,8 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+
+	"github.com/nudge-dev/nudge/kernel/render"
 )
 
 // WriterSink writes results to a terminal or a pipe: text tables (or one JSON
@@ -39,14 +41,14 @@ func (s *WriterSink) Stream(name, text string) {
 }
 
 // Result writes one result.
-func (s *WriterSink) Result(r *Result, _ bool) {
+func (s *WriterSink) Result(r *render.Result, _ bool) {
 	if r.Caution {
 		s.Cautioned = true
 	}
-	if s.SVGDir != "" && len(r.SVG) > 0 {
+	if s.SVGDir != "" && r.SVG() != "" {
 		s.charts++
 		path := filepath.Join(s.SVGDir, fmt.Sprintf("%02d-%s.svg", s.charts, r.Kind))
-		if err := os.WriteFile(path, r.SVG, 0o644); err != nil {
+		if err := os.WriteFile(path, []byte(r.SVG()), 0o644); err != nil {
 			fmt.Fprintf(s.Err, "nudge: %v\n", err)
 		} else {
 			fmt.Fprintf(s.Err, "chart: %s\n", path)
@@ -56,7 +58,7 @@ func (s *WriterSink) Result(r *Result, _ bool) {
 		fmt.Fprintf(s.Out, "%s\n", r.JSON())
 		return
 	}
-	fmt.Fprintln(s.Out, r.Text)
+	fmt.Fprintln(s.Out, r.Text())
 }
 
 // Progress is silent for writers: the command line prints no progress bars into
@@ -84,7 +86,7 @@ func RunFile(ctx context.Context, in *Interp, name, src string, sink *WriterSink
 		return ce
 	}
 	if sink.Cautioned && !sink.JSON {
-		fmt.Fprintln(sink.Out, Caution)
+		fmt.Fprintln(sink.Out, render.Caution)
 	}
 	return nil
 }

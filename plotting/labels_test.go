@@ -8,52 +8,6 @@ import (
 	"gonum.org/v1/plot"
 )
 
-func TestFormatValue(t *testing.T) {
-	// Expected strings follow the rule in FormatValue's doc comment.
-	for _, tc := range []struct {
-		v    float64
-		unit string
-		want string
-	}{
-		{0, "", "0"},
-		{math.Copysign(0, -1), "$", "$0"},
-		{1, "", "1"},
-		{12.3456, "", "12.35"},
-		{0.012345, "", "0.01235"},
-		{2.5, "kg", "2.5 kg"},
-		{2.50, "", "2.5"},
-		{999.96, "", "1,000"},
-		{9.9996, "", "10"},
-		{100, "", "100"},
-		{1234.5, "", "1,234"}, // an exact half rounds to even (strconv)
-		{1235.5, "", "1,236"},
-		{1234567.8, "$", "$1,234,568"},
-		{-1234567, "$", "-$1,234,567"},
-		{-0.5, "€", "-€0.5"},
-		{160000, "$", "$160,000"},
-		{0.9, "$/kg", "0.9 $/kg"},
-		{12.5, "%", "12.5%"},
-		{7, "1", "7"},
-		{1.5e-5, "", "1.5e-05"},
-		{0.0001, "", "0.0001"},
-		{0.000123456, "", "0.0001235"},
-		{0.00012345, "", "0.0001234"}, // the binary value lies just below the half
-		{2.3456e15, "$", "$2.346e+15"},
-		{999999999999999, "", "999,999,999,999,999"},
-		{-42.126, "h", "-42.13 h"},
-		{-42.125, "h", "-42.12 h"}, // an exact half rounds to even
-		{math.NaN(), "$", "NaN"},
-		{math.Inf(1), "$", "+Inf"},
-		{math.Inf(-1), "kg", "-Inf"},
-		{3, " kg ", "3 kg"},
-	} {
-		got := FormatValue(tc.v, tc.unit)
-		if got != tc.want {
-			t.Errorf("FormatValue(%v, %q) = %q, want %q", tc.v, tc.unit, got, tc.want)
-		}
-	}
-}
-
 func TestNiceTicks(t *testing.T) {
 	// Round steps after Heckbert (1990): the nearest of 1, 2, 2.5, 5, 10
 	// times a power of ten.
@@ -120,18 +74,4 @@ func TestCleanAndTruncate(t *testing.T) {
 			t.Errorf("truncate(%q, %d) = %q, want %q", tc.in, tc.n, got, tc.want)
 		}
 	}
-}
-
-func ExampleFormatValue() {
-	fmt.Println(FormatValue(1234567.8, "$"))
-	fmt.Println(FormatValue(-250, "$"))
-	fmt.Println(FormatValue(0.0123456, "$/kg"))
-	fmt.Println(FormatValue(12.5, "%"))
-	fmt.Println(FormatValue(1.5e-6, "m"))
-	// Output:
-	// $1,234,568
-	// -$250
-	// 0.01235 $/kg
-	// 12.5%
-	// 1.5e-06 m
 }

@@ -1,0 +1,35 @@
+package render
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/unit"
+)
+
+// Drivers renders the drivers of an output: each input's value, the partial
+// derivative of the output with respect to it in its units, and its
+// elasticity, ranked, with a bar of its share of the total |elasticity| in the
+// text. A table shows 30 inputs and sums up the rest.
+func Drivers(d *sens.DriversResult, o *Options) *Result {
+	t := &table{head: []string{"input", "value", "∂" + wrapExpr(d.Output) + "/∂input", "elasticity", ""},
+		right: []bool{false, true, true, true, false}, textOnly: 1}
+	bw := max(o.width()/3, 8)
+	shown := d.Inputs[:min(len(d.Inputs), maxTableRows)]
+	el := unit.Fixed("", 4)
+	for _, x := range shown {
+		t.add(x.Name, unit.Format(x.Value, x.Unit), unit.Format(x.Partial, x.PartialUnit), el.Signed(x.Elasticity), bar(x.Share, bw))
+	}
+	head := fmt.Sprintf("%s = %s at the baseline; inputs ranked by |elasticity| (%% change of %s per 1%% change of the input)",
+		d.Output, unit.Format(d.Value, d.Unit), d.Output)
+	r := &Result{Kind: "drivers", Data: d, Caution: true, text: head + "\n" + t.text(), html: t.html(head)}
+	if rest := len(d.Inputs) - len(shown); rest > 0 {
+		r.note(fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %s (all of them are in the JSON; top=N keeps N)",
+			count(rest), el.Format(math.Abs(d.Inputs[len(shown)].Elasticity))))
+	}
+	return r
+}
+
+// count writes a number of things: "4,997".
+func count(n int) string { return unit.Format(float64(n), "") }

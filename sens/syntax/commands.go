@@ -1,0 +1,244 @@
+package syntax
+
+// The commands of the language, one parse function per verb. Each function's
+// doc comment carries its production, word for word as in the grammar at the
+// top of parser.go (a test checks both). A command's options (key=value
+// after it) are parsed for every verb by parseCommand; which keys a command
+// takes is the business of whoever runs it.
+
+// CommandForm is how one command is written.
+type CommandForm struct {
+	Verb string
+	// Form is the command as a person writes it, options aside:
+	// "sweep OUT over X a..b [and Y c..d]".
+	Form  string
+	parse func(p *parser, c *CommandStmt)
+}
+
+// commandForms is the one table of the commands the parser knows. The
+// kernel's table says how each runs; a test there checks that both name the
+// same verbs.
+var commandForms = []CommandForm{
+	{"drivers", "drivers OUT", (*parser).parseDrivers},
+	{"tornado", "tornado OUT", (*parser).parseTornado},
+	{"spider", "spider OUT [(±P%)]", (*parser).parseSpider},
+	{"sweep", "sweep OUT over X a..b [and Y c..d]", (*parser).parseSweep},
+	{"breakeven", "breakeven OUT = T over X [a..b]", (*parser).parseBreakeven},
+	{"scenario", "scenario NAME: X = v, Y = w", (*parser).parseScenario},
+	{"compare", "compare OUT across base, NAME, ...", (*parser).parseCompare},
+	{"simulate", "simulate OUT", (*parser).parseReserved},
+	{"sobol", "sobol OUT", (*parser).parseReserved},
+	{"morris", "morris OUT", (*parser).parseReserved},
+	{"screen", "screen OUT", (*parser).parseReserved},
+	{"print", `print "text"`, (*parser).parsePrint},
+	{"reset", "reset", (*parser).parseReset},
+	{"charts", "charts svg | png | text", (*parser).parseCharts},
+}
+
+// Verbs are the words that start a command when the next token is not '=',
+// in the order of the grammar.
+var Verbs = func() []string {
+	v := make([]string, len(commandForms))
+	for i, f := range commandForms {
+		v[i] = f.Verb
+	}
+	return v
+}()
+
+// Command returns how the command verb is written, or nil when verb is not
+// a command.
+func Command(verb string) *CommandForm {
+	for i := range commandForms {
+		if commandForms[i].Verb == verb {
+			return &commandForms[i]
+		}
+	}
+	return nil
+}
+
+// IsVerb reports whether name is a command verb.
+func IsVerb(name string) bool { return Command(name) != nil }
+
+// parseCommand parses a command and its options:
+//
+//	command = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
+//	          | reserved | print | reset | charts ) options .
+//	options = { name "=" arith } .
+func (p *parser) parseCommand() *CommandStmt {
+	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
+	form := Command(c.Verb)
+	p.next()
+	form.parse(p, c)
+	for p.tok == IDENT && p.peek(1) == ASSIGN {
+		o := &Option{Key: p.parseIdent()}
+		p.next()
+		o.Value = p.parseArith()
+		c.Options = append(c.Options, o)
+	}
+	if !p.atEnd() {
+		if p.tok == IDENT {
+			p.error(p.pos, "unexpected "+p.describe()+" after "+c.Verb+" (options are written key=value)")
+		}
+		p.errorExpected("end of line")
+	}
+	c.EndAt = p.pos
+	return c
+}
+
+// parseOutput parses the output a command analyses: a name or an arithmetic
+// expression.
+func (p *parser) parseOutput(c *CommandStmt) {
+	if p.atEnd() {
+		p.error(p.pos, c.Verb+" needs an output: "+c.Verb+" NAME")
+	}
+	c.Output = p.parseArith()
+}
+
+// parseDrivers parses the ranked local effects of every input:
+//
+//	drivers = "drivers" arith .
+func (p *parser) parseDrivers(c *CommandStmt) { p.parseOutput(c) }
+
+// parseTornado parses the output at the ends of each input's range:
+//
+//	tornado = "tornado" arith .
+func (p *parser) parseTornado(c *CommandStmt) { p.parseOutput(c) }
+
+// parseReserved parses a command reserved for the global analyses, which
+// takes an output and options:
+//
+//	reserved = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
+func (p *parser) parseReserved(c *CommandStmt) { p.parseOutput(c) }
+
+// parseSpider parses the output against a percentage change of each input,
+// over a range symmetric about 0% (Percent is nil when none is written):
+//
+//	spider = "spider" name [ range ] .
+func (p *parser) parseSpider(c *CommandStmt) {
+	c.Output = p.parseIdent()
+	if p.tok != LPAREN {
+		return
+	}
+	r := p.parseRange()
+	if !r.Low.Percent {
+		p.error(r.Lparen, "spider takes a percentage range such as (±30%)")
+	}
+	if r.Low.Value >= 0 || r.High.Value <= 0 || r.Low.Value != -r.High.Value {
+		p.error(r.Lparen, "spider takes a range symmetric about 0%, such as (±30%), found ("+r.Low.Lit+".."+r.High.Lit+")")
+	}
+	c.Percent = r
+}
+
+// parseSweep parses a sweep of one or two inputs over ranges:
+//
+//	sweep = "sweep" arith "over" axis [ "and" axis ] .
+//	axis  = name arith ".." arith .
+func (p *parser) parseSweep(c *CommandStmt) {
+	c.Output = p.parseArith()
+	p.expectWord("over", "sweep "+exprString(c.Output)+" over INPUT LOW..HIGH")
+	c.Axes = append(c.Axes, p.parseAxis(true))
+	if p.tok == AND {
+		p.next()
+		c.Axes = append(c.Axes, p.parseAxis(true))
+	}
+}
+
+// parseBreakeven parses a search for the values of one input where the
+// output reaches a target, over the input's whole domain unless a range is
+// written:
+//
+//	breakeven = "breakeven" arith "=" arith "over" name [ arith ".." arith ] .
+func (p *parser) parseBreakeven(c *CommandStmt) {
+	c.Output = p.parseArith()
+	if p.tok != ASSIGN {
+		p.errorExpected("'=' and a target: breakeven " + exprString(c.Output) + " = TARGET over INPUT")
+	}
+	p.next()
+	c.Target = p.parseArith()
+	p.expectWord("over", "breakeven "+exprString(c.Output)+" = TARGET over INPUT")
+	c.Axes = append(c.Axes, p.parseAxis(false))
+}
+
+// parseScenario parses a named set of input values:
+//
+//	scenario = "scenario" name ":" name "=" arith { "," name "=" arith } .
+func (p *parser) parseScenario(c *CommandStmt) {
+	c.Name = p.parseIdent()
+	if p.tok != COLON {
+		p.errorExpected("':' and settings: scenario " + c.Name.Name + ": x = 1, y = 2")
+	}
+	p.next()
+	for {
+		a := &Assign{Name: p.parseIdent()}
+		if p.tok != ASSIGN {
+			p.errorExpected("'=' after " + a.Name.Name)
+		}
+		p.next()
+		a.Value = p.parseArith()
+		c.Assigns = append(c.Assigns, a)
+		if p.tok != COMMA {
+			return
+		}
+		p.next()
+	}
+}
+
+// parseCompare parses the output across scenarios, "base" the baseline:
+//
+//	compare = "compare" arith "across" name { "," name } .
+func (p *parser) parseCompare(c *CommandStmt) {
+	c.Output = p.parseArith()
+	p.expectWord("across", "compare "+exprString(c.Output)+" across base, NAME")
+	for {
+		c.Names = append(c.Names, p.parseIdent())
+		if p.tok != COMMA {
+			return
+		}
+		p.next()
+	}
+}
+
+// parsePrint parses a line of text for standard output:
+//
+//	print = "print" STRING .
+func (p *parser) parsePrint(c *CommandStmt) {
+	if p.tok != STRING {
+		p.errorExpected(`text in double quotes: print "text"`)
+	}
+	c.Text = p.lit
+	p.next()
+}
+
+// parseReset parses the command that forgets the model:
+//
+//	reset = "reset" .
+func (p *parser) parseReset(*CommandStmt) {}
+
+// parseCharts parses how later results draw their charts (the name is
+// checked by whoever runs the command):
+//
+//	charts = "charts" name .
+func (p *parser) parseCharts(c *CommandStmt) { c.Name = p.parseIdent() }
+
+func (p *parser) expectWord(word, form string) {
+	if p.tok != IDENT || p.lit != word {
+		p.error(p.pos, "expected '"+word+"', found "+p.describe()+" (write: "+form+")")
+	}
+	p.next()
+}
+
+// parseAxis parses an input and its range; the range is required when need
+// is set.
+func (p *parser) parseAxis(need bool) *Axis {
+	a := &Axis{Name: p.parseIdent()}
+	if !need && (p.atEnd() || p.tok == IDENT && p.peek(1) == ASSIGN) {
+		return a
+	}
+	a.Low = p.parseArith()
+	if p.tok != DOTDOT {
+		p.errorExpected("'..' between the ends of the range (" + a.Name.Name + " LOW..HIGH)")
+	}
+	p.next()
+	a.High = p.parseArith()
+	return a
+}
