@@ -15,7 +15,6 @@ import (
 	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/syntax"
-	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // Sink receives what a cell produces, in order.
@@ -251,20 +250,4 @@ func (e *CellError) ErrorObjects() []ErrorObject {
 		out[i] = ErrorObject{Kind: "error", Message: x.Msg, Line: x.Pos.Line, Column: x.Pos.Column, File: x.Pos.Filename}
 	}
 	return out
-}
-
-// nameList joins names for a message, the first max of them and a count of
-// the rest: "a, b, c and 4,997 others".
-func nameList(names []string, max int) string {
-	if len(names) <= max {
-		return strings.Join(names, ", ")
-	}
-	return strings.Join(names[:max], ", ") + " and " + unit.Format(float64(len(names)-max), "") + " others"
-}
-
-func plural(n int, one, many string) string {
-	if n == 1 {
-		return one
-	}
-	return many
 }

@@ -1,8 +1,11 @@
 package kernel
 
 import (
+	"strings"
+
 	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 var tornadoCommand = &Command{
@@ -25,9 +28,22 @@ func runTornado(x *call) error {
 		return x.at(x.c.Output.Pos(), err)
 	}
 	if n := len(t.DefaultRanges); n > 0 {
+		verb := "have"
+		if n == 1 {
+			verb = "has"
+		}
 		warn(x.sink, "tornado %s: %s %s no range or distribution: the default ±%d%% of the value was used (marked *)",
-			t.Output, nameList(t.DefaultRanges, 8), plural(n, "has", "have"), sens.DefaultRangePct)
+			t.Output, nameList(t.DefaultRanges, 8), verb, sens.DefaultRangePct)
 	}
 	x.show(render.Tornado(t, &x.in.Opts))
 	return nil
+}
+
+// nameList joins names for a message, the first max of them and a count of
+// the rest: "a, b, c and 4,997 others".
+func nameList(names []string, max int) string {
+	if len(names) <= max {
+		return strings.Join(names, ", ")
+	}
+	return strings.Join(names[:max], ", ") + " and " + unit.Format(float64(len(names)-max), "") + " others"
 }

@@ -125,8 +125,8 @@ func (r *Result) Bundle() map[string]any {
 	return b
 }
 
-// Message returns a result that is a line of text: a definition, a value.
-func Message(kind string, data any, text string) *Result {
+// message returns a result that is a line of text, such as a definition.
+func message(kind string, data any, text string) *Result {
 	return &Result{Kind: kind, Data: data, text: text,
 		html: `<p class="nudge-value">` + html.EscapeString(text) + `</p>`}
 }
