@@ -71,17 +71,6 @@ func table(cs ...*Command) map[string]*Command {
 	return m
 }
 
-// Commands returns the commands in the order of the language's grammar.
-func Commands() []*Command {
-	var out []*Command
-	for _, v := range syntax.Verbs {
-		if c := commands[v]; c != nil {
-			out = append(out, c)
-		}
-	}
-	return out
-}
-
 // call is one command being run: the statement, the file it is in, where
 // its results go, and the interpreter it changes.
 type call struct {

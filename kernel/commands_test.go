@@ -51,9 +51,6 @@ func TestCommandTable(t *testing.T) {
 			t.Errorf("the README's command table lacks `%s`", c.Usage())
 		}
 	}
-	if got := len(Commands()); got != len(commands) {
-		t.Errorf("Commands() lists %d of %d commands", got, len(commands))
-	}
 }
 
 func TestReservedVerbs(t *testing.T) {
