@@ -8,6 +8,7 @@ import (
 	"sync"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/tape"
 	"github.com/nudge-dev/nudge/sens/unit"
 )
 
@@ -20,7 +21,7 @@ type Program struct {
 	Warnings []*syntax.Error
 
 	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
-	tape  *Tape
+	tape  *tape.Tape
 	pos   []posEntry // tape position table: SetPos value -> source
 }
 
@@ -148,7 +149,7 @@ type extraFormula struct {
 
 // val is a compiled expression.
 type val struct {
-	slot    Slot
+	slot    tape.Slot
 	dim     unit.Dim
 	hint    *unit.Unit // a unit the user would expect the value in, or nil
 	boolean bool
@@ -168,7 +169,7 @@ const (
 type compiler struct {
 	m     *Model
 	extra *extraFormula
-	b     *Builder
+	b     *tape.Builder
 	errs  syntax.ErrorList
 	warns syntax.ErrorList
 	prog  *Program
@@ -188,7 +189,7 @@ type compiler struct {
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
 	c := &compiler{
-		m: m, extra: extra, b: NewBuilder(),
+		m: m, extra: extra, b: tape.NewBuilder(),
 		decls: m.decls, state: map[string]state{}, vals: map[string]val{},
 		prog: &Program{index: map[string]int{}},
 	}
@@ -241,7 +242,7 @@ func (c *compiler) run() (*Program, error) {
 		}
 		return nil, c.errs
 	}
-	outs := make([]Slot, len(p.Formulas))
+	outs := make([]tape.Slot, len(p.Formulas))
 	for i, f := range p.Formulas {
 		outs[i] = c.vals[f.Name].slot
 	}
@@ -279,7 +280,7 @@ func (c *compiler) compileInput(d *Decl) {
 	c.setPos(f, s.Name.Pos())
 	slot := c.b.Input()
 	if in.u.Factor != 1 {
-		slot = c.b.Binary(OpMul, slot, c.b.Const(in.u.Factor))
+		slot = c.b.Binary(tape.OpMul, slot, c.b.Const(in.u.Factor))
 	}
 	u := in.u
 	c.vals[d.Name] = val{slot: slot, dim: in.u.Dim, hint: &u, bad: !ok}
@@ -560,13 +561,13 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 				c.errorf(f, x.X.Pos(), "'not' needs a condition such as a < b, found a number")
 				return val{bad: true}
 			}
-			return val{slot: c.b.Unary(OpNot, v.slot), boolean: true}
+			return val{slot: c.b.Unary(tape.OpNot, v.slot), boolean: true}
 		case syntax.SUB:
 			if v.boolean {
 				c.errorf(f, x.OpPos, "cannot negate a condition: use not")
 				return val{bad: true}
 			}
-			return val{slot: c.b.Unary(OpNeg, v.slot), dim: v.dim, hint: v.hint, konst: v.konst, c: -v.c}
+			return val{slot: c.b.Unary(tape.OpNeg, v.slot), dim: v.dim, hint: v.hint, konst: v.konst, c: -v.c}
 		}
 		return v
 	case *syntax.BinaryExpr:
@@ -635,9 +636,9 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 			c.errorf(f, pos, "'%s' joins conditions such as a < b, found a number", op)
 			return val{bad: true}
 		}
-		o := OpAnd
+		o := tape.OpAnd
 		if op == syntax.OR {
-			o = OpOr
+			o = tape.OpOr
 		}
 		return val{slot: c.b.Binary(o, a.slot, b.slot), boolean: true}
 	}
@@ -667,14 +668,14 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 	}
 	switch op {
 	case syntax.ADD:
-		return val{slot: c.b.Binary(OpAdd, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c + b.c}
+		return val{slot: c.b.Binary(tape.OpAdd, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c + b.c}
 	case syntax.SUB:
-		return val{slot: c.b.Binary(OpSub, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c - b.c}
+		return val{slot: c.b.Binary(tape.OpSub, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c - b.c}
 	case syntax.MUL, syntax.QUO:
 		d := a.dim.Mul(b.dim)
-		o, cv := OpMul, a.c*b.c
+		o, cv := tape.OpMul, a.c*b.c
 		if op == syntax.QUO {
-			d, o, cv = a.dim.Div(b.dim), OpDiv, a.c/b.c
+			d, o, cv = a.dim.Div(b.dim), tape.OpDiv, a.c/b.c
 			if b.konst && b.c == 0 {
 				c.errorf(f, x.Y.Pos(), "division by zero")
 				return val{bad: true}
@@ -714,9 +715,9 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 				return val{bad: true}
 			}
 		}
-		return val{slot: c.b.Binary(OpPow, a.slot, b.slot), dim: d, konst: a.konst && b.konst, c: math.Pow(a.c, b.c)}
+		return val{slot: c.b.Binary(tape.OpPow, a.slot, b.slot), dim: d, konst: a.konst && b.konst, c: math.Pow(a.c, b.c)}
 	}
-	cmp := map[syntax.Token]Op{syntax.EQL: OpEq, syntax.NEQ: OpNe, syntax.LSS: OpLt, syntax.LEQ: OpLe, syntax.GTR: OpGt, syntax.GEQ: OpGe}
+	cmp := map[syntax.Token]tape.Op{syntax.EQL: tape.OpEq, syntax.NEQ: tape.OpNe, syntax.LSS: tape.OpLt, syntax.LEQ: tape.OpLe, syntax.GTR: tape.OpGt, syntax.GEQ: tape.OpGe}
 	return val{slot: c.b.Binary(cmp[op], a.slot, b.slot), boolean: true}
 }
 
@@ -857,9 +858,9 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	}
 	switch {
 	case variadic:
-		op := OpMin
+		op := tape.OpMin
 		if name == "max" {
-			op = OpMax
+			op = tape.OpMax
 		}
 		s := args[0].slot
 		for _, a := range args[1:] {
@@ -871,7 +872,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	case len(args) == 2:
 		res.slot = c.b.Binary(info.Op, args[0].slot, args[1].slot)
 	default:
-		slots := make([]Slot, len(args))
+		slots := make([]tape.Slot, len(args))
 		for i, a := range args {
 			slots[i] = a.slot
 		}
@@ -929,7 +930,7 @@ func Constant(f *syntax.File, x syntax.Expr, want, what string) (float64, error)
 
 // newScratchCompiler returns a compiler with no model, for constants.
 func newScratchCompiler() *compiler {
-	return &compiler{m: NewModel(), b: NewBuilder(), prog: &Program{index: map[string]int{}},
+	return &compiler{m: NewModel(), b: tape.NewBuilder(), prog: &Program{index: map[string]int{}},
 		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}}
 }
 

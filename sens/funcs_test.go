@@ -5,6 +5,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/nudge-dev/nudge/sens/tape"
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
@@ -12,7 +13,8 @@ import (
 // and a Tape, to the value it shows (to the digits shown). Reference
 // values of the elementary functions are from Abramowitz and Stegun,
 // Handbook of Mathematical Functions (tables 4.1, 4.2, 4.14, 4.15); the
-// economy factors are checked against interest tables in econ_test.go.
+// economy factors are checked against interest tables in
+// sens/tape/econ_test.go.
 func TestFuncsExamples(t *testing.T) {
 	for _, f := range Functions {
 		call, val, ok := strings.Cut(f.Example, " = ")
@@ -25,8 +27,8 @@ func TestFuncsExamples(t *testing.T) {
 			t.Errorf("%s: example value %q: %v", f.Name, val, err)
 			continue
 		}
-		b := NewBuilder()
-		var args []Slot
+		b := tape.NewBuilder()
+		var args []tape.Slot
 		var x []float64
 		for _, a := range strings.Split(call[len(f.Name)+1:len(call)-1], ",") {
 			v, err := strconv.ParseFloat(strings.TrimSpace(a), 64)
@@ -41,7 +43,7 @@ func TestFuncsExamples(t *testing.T) {
 			t.Errorf("%s: example has %d arguments, function takes %d", f.Name, len(args), f.Args)
 			continue
 		}
-		var out Slot
+		var out tape.Slot
 		if f.Variadic {
 			out = b.Fold(f.Op, args...)
 		} else {
@@ -95,23 +97,5 @@ func TestFuncsTable(t *testing.T) {
 	}
 	if _, ok := LookupFunc("pi"); ok {
 		t.Error("pi is the compiler's constant, not a function")
-	}
-}
-
-func TestFuncsOpString(t *testing.T) {
-	for op := OpAdd; op < opArg; op++ {
-		if s := op.String(); s == "" || strings.HasPrefix(s, "op(") {
-			t.Errorf("op %d has no name", op)
-		}
-	}
-	if got := Op(250).String(); got != "op(250)" {
-		t.Errorf("Op(250) = %q", got)
-	}
-	steps := map[Op]bool{OpFloor: true, OpCeil: true, OpRound: true, OpLt: true, OpLe: true, OpGt: true,
-		OpGe: true, OpEq: true, OpNe: true, OpAnd: true, OpOr: true, OpNot: true, OpIf: true}
-	for op := OpInvalid; op < numOps; op++ {
-		if op.IsStep() != steps[op] {
-			t.Errorf("%v: IsStep = %v", op, op.IsStep())
-		}
 	}
 }

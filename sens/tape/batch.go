@@ -1,444 +1,9 @@
-package sens
+package tape
 
 import (
 	"fmt"
 	"math"
 )
-
-// Scalar sweeps.
-
-// loadInputs copies x into the input slots. Inputs are not tested
-// here: a NaN or Inf input is caught, like any value, where it reaches
-// an output or a guard operation, and reported as the input it is; an
-// input the output does not use may be anything.
-func (t *Tape) loadInputs(x []float64) {
-	p := t.p
-	if len(x) != p.nIn {
-		panic(fmt.Sprintf("sens: %d inputs given, tape has %d", len(x), p.nIn))
-	}
-	copy(t.vals[:p.nIn], x)
-}
-
-// Forward evaluates every node for the inputs x (len NumInputs). It
-// returns nil, or a *DomainError if any output would be NaN or ±Inf.
-func (t *Tape) Forward(x []float64) error {
-	t.loadInputs(x)
-	bad := t.run(len(t.vals))
-	return t.check(bad, t.p.outs, t.vals, 1, 0, -1)
-}
-
-// Eval evaluates the nodes output i needs for the inputs x and returns
-// output i, or a *DomainError if it would be NaN or ±Inf. Other outputs
-// are left unchecked and may be stale.
-func (t *Tape) Eval(x []float64, i int) (float64, error) {
-	t.loadInputs(x)
-	out := t.p.outs[i]
-	bad := t.run(t.p.end(i))
-	if err := t.check(bad, t.p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
-		return math.NaN(), err
-	}
-	return t.vals[out], nil
-}
-
-// end returns the end of the nodes output i needs: one past its node,
-// and past the opArg that follows a three-argument node.
-func (p *tapeProg) end(i int) int {
-	o := int(p.outs[i])
-	if p.ops[o].Arity() == 3 {
-		return o + 2
-	}
-	return o + 1
-}
-
-// check returns the domain error, if any, behind the outputs outs: bad
-// says a guard operation saw a non-finite operand. vals holds node k of
-// the sample at vals[k*stride+off].
-func (t *Tape) check(bad bool, outs []int32, vals []float64, stride, off, sample int) error {
-	if !bad {
-		for _, o := range outs {
-			if !finite(vals[int(o)*stride+off]) {
-				bad = true
-				break
-			}
-		}
-		if !bad {
-			return nil
-		}
-	}
-	k := t.findOrigin(outs, vals, stride, off)
-	if k < 0 {
-		return nil // the non-finite values lie in branches not taken
-	}
-	return t.nodeError(k, vals, stride, off, sample)
-}
-
-// findOrigin returns the first node, in evaluation order, that feeds one
-// of outs through the branches taken and whose value is not finite; -1 if
-// there is none. It uses t.adj as scratch.
-func (t *Tape) findOrigin(outs []int32, vals []float64, stride, off int) int {
-	p := t.p
-	top := int32(-1)
-	for _, o := range outs {
-		top = max(top, o)
-	}
-	mark := t.adj[:top+1]
-	clear(mark)
-	for _, o := range outs {
-		mark[o] = 1
-	}
-	val := func(k int32) float64 { return vals[int(k)*stride+off] }
-	for k := int(top); k >= p.start; k-- {
-		if mark[k] == 0 {
-			continue
-		}
-		a, b := p.a[k], p.b[k]
-		mark[a] = 1
-		switch p.ops[k] {
-		case OpIf:
-			if v := val(a); v != 0 || !finite(v) {
-				mark[b] = 1
-			} else {
-				mark[p.a[k+1]] = 1
-			}
-		default:
-			mark[b] = 1
-			if p.ops[k].Arity() == 3 {
-				mark[p.a[k+1]] = 1
-			}
-		}
-	}
-	for k := range mark {
-		if mark[k] != 0 && !finite(val(int32(k))) {
-			return k
-		}
-	}
-	return -1
-}
-
-// args returns the operand values of node k.
-func (t *Tape) args(k int, vals []float64, stride, off int) []float64 {
-	p := t.p
-	op := p.ops[k]
-	v := func(s int32) float64 { return vals[int(s)*stride+off] }
-	switch op.Arity() {
-	case 1:
-		return []float64{v(p.a[k])}
-	case 2:
-		return []float64{v(p.a[k]), v(p.b[k])}
-	case 3:
-		return []float64{v(p.a[k]), v(p.b[k]), v(p.a[k+1])}
-	}
-	return []float64{v(int32(k))}
-}
-
-func (t *Tape) nodeError(k int, vals []float64, stride, off, sample int) error {
-	p := t.p
-	op := p.ops[k]
-	args := t.args(k, vals, stride, off)
-	msg := domainMsg(op, args, vals[k*stride+off])
-	if op == OpInput {
-		msg = fmt.Sprintf("input %d is %s", k, num(args[0]))
-	}
-	return &DomainError{Pos: p.pos[k], Op: op, Args: args, Msg: msg, Sample: sample}
-}
-
-// run evaluates nodes [start, stop) and reports whether a guard
-// operation saw a non-finite operand.
-//
-// Non-finite values are caught without a test on every node: every
-// operation that is not a guard (opMeta.guard) turns a NaN or Inf
-// operand into a NaN or Inf result, so one that matters either reaches
-// an output (checked afterwards) or meets a guard, which tests its
-// operands. Only then does check search for where it arose.
-func (t *Tape) run(stop int) (bad bool) {
-	p := t.p
-	v := t.vals
-	ops := p.ops[:stop]
-	as := p.a[:stop]
-	bs := p.b[:stop]
-	k := p.start
-	for k < len(ops) {
-		// The cheap operations run in this inner loop, which makes no
-		// calls, so its state need not be saved around them; the others
-		// leave it for slowOp and come back.
-		for ; k < len(ops); k++ {
-			x, y := v[as[k]], v[bs[k]]
-			var r float64
-			switch ops[k] {
-			case OpAdd:
-				r = x + y
-			case OpSub:
-				r = x - y
-			case OpMul:
-				r = x * y
-			case OpDiv:
-				r = x / y
-				if !finite(y) {
-					bad = true
-				}
-			case OpNeg:
-				r = -x
-			case OpSquare:
-				r = x * x
-			case OpSqrt:
-				r = math.Sqrt(x)
-			case OpAbs:
-				r = math.Abs(x)
-			case OpMin:
-				r = y
-				if x <= y {
-					r = x
-				}
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpMax:
-				r = y
-				if x >= y {
-					r = x
-				}
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpLt:
-				r = b2f(x < y)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpGt:
-				r = b2f(x > y)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpLe:
-				r = b2f(x <= y)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpGe:
-				r = b2f(x >= y)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpEq:
-				r = b2f(x == y)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpNe:
-				r = b2f(x != y)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpAnd:
-				r = b2f(x != 0 && y != 0)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpOr:
-				r = b2f(x != 0 || y != 0)
-				if !finite(x) || !finite(y) {
-					bad = true
-				}
-			case OpNot:
-				r = b2f(x == 0)
-				if !finite(x) {
-					bad = true
-				}
-			case OpIf:
-				z := v[as[k+1]]
-				r = z
-				if x != 0 {
-					r = y
-				}
-				if !finite(x) || !finite(y) || !finite(z) {
-					bad = true
-				}
-			case opArg:
-			default:
-				goto slow
-			}
-			v[k] = r
-		}
-		break
-	slow:
-		if t.slowOp(k) {
-			bad = true
-		}
-		k++
-	}
-	return bad
-}
-
-// slowOp evaluates node k, an operation that calls a function, and
-// reports whether it is a guard that saw a non-finite operand.
-//
-//go:noinline
-func (t *Tape) slowOp(k int) (bad bool) {
-	p := t.p
-	v := t.vals
-	op := p.ops[k]
-	x, y := v[p.a[k]], v[p.b[k]]
-	var z float64
-	if op.Arity() == 3 {
-		z = v[p.a[k+1]]
-	}
-	v[k] = evalOp(op, x, y, z)
-	return opMetas[op].guard && (!finite(x) || !finite(y) || !finite(z))
-}
-
-// Reverse runs the reverse (adjoint) sweep for output i over the values
-// of the last Forward, Eval or Gradient for that output, and stores
-// dst[j] = ∂ output_i / ∂ x_j. dst must have length NumInputs; it is
-// returned.
-//
-// An operation whose adjoint is zero passes nothing back, so an
-// unbounded local derivative (sqrt at 0, asin at ±1) matters only where
-// it is used: there dst receives ±Inf or NaN. Gradient reports that as a
-// *DomainError; Reverse leaves it in dst.
-func (t *Tape) Reverse(dst []float64, i int) []float64 {
-	p := t.p
-	if len(dst) != p.nIn {
-		panic(fmt.Sprintf("sens: gradient of length %d, tape has %d inputs", len(dst), p.nIn))
-	}
-	out := int(p.outs[i])
-	end := p.end(i)
-	v := t.vals[:end]
-	g := t.adj[:end]
-	clear(g)
-	g[out] = 1
-	ops := p.ops[:end]
-	as := p.a[:end]
-	bs := p.b[:end]
-	for k := out; k >= p.start; k-- {
-		gk := g[k]
-		if gk == 0 {
-			continue
-		}
-		a, b := as[k], bs[k]
-		switch ops[k] {
-		case OpAdd:
-			g[a] += gk
-			g[b] += gk
-		case OpSub:
-			g[a] += gk
-			g[b] -= gk
-		case OpMul:
-			g[a] += gk * v[b]
-			g[b] += gk * v[a]
-		case OpDiv:
-			q := gk / v[b]
-			g[a] += q
-			g[b] -= q * v[k]
-		case OpNeg:
-			g[a] -= gk
-		case OpSquare:
-			g[a] += 2 * gk * v[a]
-		case OpSqrt:
-			g[a] += gk * 0.5 / v[k]
-		case OpExp:
-			g[a] += gk * v[k]
-		case OpLn:
-			g[a] += gk / v[a]
-		case OpAbs:
-			if x := v[a]; x > 0 {
-				g[a] += gk
-			} else if x < 0 {
-				g[a] -= gk
-			}
-		case OpMin:
-			if v[a] <= v[b] {
-				g[a] += gk
-			} else {
-				g[b] += gk
-			}
-		case OpMax:
-			if v[a] >= v[b] {
-				g[a] += gk
-			} else {
-				g[b] += gk
-			}
-		case OpIf:
-			if v[a] != 0 {
-				g[b] += gk
-			} else {
-				g[as[k+1]] += gk
-			}
-		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
-		default:
-			op := ops[k]
-			ar := op.Arity()
-			var z float64
-			if ar == 3 {
-				z = v[as[k+1]]
-			}
-			dx, dy, dz := deriv(op, v[a], v[b], z, v[k])
-			g[a] += gk * dx
-			if ar >= 2 && op != OpPowConst {
-				g[b] += gk * dy
-			}
-			if ar == 3 {
-				g[as[k+1]] += gk * dz
-			}
-		}
-	}
-	copy(dst, g[:p.nIn])
-	return dst
-}
-
-// Gradient evaluates output i at x and its gradient: dst[j] = ∂ output_i
-// / ∂ x_j. It returns the output, or a *DomainError if the output or a
-// derivative on the way to it is NaN or ±Inf.
-func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
-	f, err := t.Eval(x, i)
-	if err != nil {
-		return f, err
-	}
-	t.Reverse(dst, i)
-	for _, d := range dst {
-		if !finite(d) {
-			return f, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
-		}
-	}
-	return f, nil
-}
-
-// reverseError finds the node whose local derivative made the gradient of
-// output i non-finite: the last node, in evaluation order, that has a
-// finite, nonzero adjoint and passes a non-finite amount back.
-func (t *Tape) reverseError(i int, vals, adj []float64, stride, off, sample int) error {
-	p := t.p
-	out := int(p.outs[i])
-	for k := out; k >= p.start; k-- {
-		gk := adj[k*stride+off]
-		op := p.ops[k]
-		if gk == 0 || !finite(gk) || op.IsStep() || op == opArg {
-			continue
-		}
-		args := t.args(k, vals, stride, off)
-		var x, y, z float64
-		switch len(args) {
-		case 3:
-			z = args[2]
-			fallthrough
-		case 2:
-			y = args[1]
-			fallthrough
-		case 1:
-			x = args[0]
-		}
-		dx, dy, dz := deriv(op, x, y, z, vals[k*stride+off])
-		if op == OpPowConst {
-			dy = 0
-		}
-		if !finite(gk*dx) || !finite(gk*dy) || !finite(gk*dz) {
-			return &DomainError{Pos: p.pos[k], Op: op, Args: args, Msg: derivMsg(op, args), Sample: sample, Reverse: true}
-		}
-	}
-	return &DomainError{Pos: p.pos[out], Op: p.ops[out], Msg: "gradient overflows", Sample: sample, Reverse: true}
-}
-
-// Batched sweeps.
 
 const (
 	// batchBudget bounds the block buffers of the batched sweeps
@@ -498,7 +63,7 @@ func (t *Tape) loadBlock(x []float64, base, m int) {
 
 func checkBatch(x []float64, n, nIn int) {
 	if n < 0 || len(x) != n*nIn {
-		panic(fmt.Sprintf("sens: batch of %d samples needs %d inputs, got %d", n, n*nIn, len(x)))
+		panic(fmt.Sprintf("tape: batch of %d samples needs %d inputs, got %d", n, n*nIn, len(x)))
 	}
 }
 
@@ -515,7 +80,7 @@ func (t *Tape) ForwardBatch(out, x []float64, n, i int) error {
 	p := t.p
 	checkBatch(x, n, p.nIn)
 	if len(out) != n {
-		panic("sens: ForwardBatch output length differs from n")
+		panic("tape: ForwardBatch output length differs from n")
 	}
 	t.ensureBatch(false)
 	if t.bw < minBlock {
@@ -765,7 +330,7 @@ func (t *Tape) GradientBatch(out, grads, x []float64, n, i int) error {
 	nIn := p.nIn
 	checkBatch(x, n, nIn)
 	if len(out) != n || len(grads) != n*nIn {
-		panic("sens: GradientBatch output lengths differ from n and n*NumInputs")
+		panic("tape: GradientBatch output lengths differ from n and n*NumInputs")
 	}
 	t.ensureBatch(true)
 	if t.bw < minBlock {
@@ -1001,32 +566,32 @@ func vecOp(op Op, o, x, y, z []float64) {
 		}
 	case OpGrowth:
 		for s := range o {
-			o[s] = econGrowth(x[s], y[s])
+			o[s] = Growth(x[s], y[s])
 		}
 	case OpDiscount:
 		for s := range o {
-			o[s] = econDiscount(x[s], y[s])
+			o[s] = Discount(x[s], y[s])
 		}
 	case OpAnnuityPV:
 		for s := range o {
-			o[s] = econAnnuityPV(x[s], y[s])
+			o[s] = AnnuityPV(x[s], y[s])
 		}
 	case OpAnnuityFV:
 		for s := range o {
-			o[s] = econAnnuityFV(x[s], y[s])
+			o[s] = AnnuityFV(x[s], y[s])
 		}
 	case OpRecovery:
 		for s := range o {
-			o[s] = econRecovery(x[s], y[s])
+			o[s] = Recovery(x[s], y[s])
 		}
 	case OpSinking:
 		for s := range o {
-			o[s] = econSinking(x[s], y[s])
+			o[s] = Sinking(x[s], y[s])
 		}
 	case OpLearn:
 		z = z[:len(o)]
 		for s := range o {
-			o[s] = learnUnit(x[s], y[s], z[s])
+			o[s] = Learn(x[s], y[s], z[s])
 		}
 	default:
 		if z == nil {

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/tape"
 	"github.com/nudge-dev/nudge/sens/unit"
 )
 
@@ -94,7 +95,7 @@ func (s *Settings) progress(done, total int) {
 // inputs' own units, returning the formula in its display unit.
 type Fn struct {
 	prog  *Program
-	tape  *Tape
+	tape  *tape.Tape
 	f     *Formula
 	scale float64 // 1 / display factor
 }
@@ -170,7 +171,7 @@ func (fn *Fn) Gradient(dst, x []float64) (float64, error) {
 func (fn *Fn) EvalBatch(dst, xs []float64, n int) error {
 	if err := fn.tape.ForwardBatch(dst, xs, n, fn.f.out); err != nil {
 		var x []float64
-		if de, ok := err.(*DomainError); ok && de.Sample >= 0 && de.Sample < n {
+		if de, ok := err.(*tape.DomainError); ok && de.Sample >= 0 && de.Sample < n {
 			k := len(fn.prog.Inputs)
 			x = xs[de.Sample*k : (de.Sample+1)*k]
 		}
@@ -222,7 +223,7 @@ func (e *EvalError) SyntaxError() *syntax.Error {
 }
 
 func (p *Program) evalError(err error, x []float64) error {
-	de, ok := err.(*DomainError)
+	de, ok := err.(*tape.DomainError)
 	if !ok {
 		return err
 	}

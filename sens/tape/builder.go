@@ -1,9 +1,8 @@
-package sens
+package tape
 
 import (
 	"fmt"
 	"math"
-	"slices"
 )
 
 // Slot names a value under construction in a Builder: an input, a
@@ -70,6 +69,10 @@ func (b *Builder) Input() Slot {
 // NumInputs returns the number of inputs added so far.
 func (b *Builder) NumInputs() int { return len(b.inputs) }
 
+// Len returns the number of nodes added so far: inputs, constants and
+// operations, after folding and sharing.
+func (b *Builder) Len() int { return len(b.nodes) }
+
 // Const adds the constant v, or returns the slot of an equal constant
 // (same bits) added before.
 func (b *Builder) Const(v float64) Slot {
@@ -94,16 +97,16 @@ func (b *Builder) IsConst(s Slot) (float64, bool) {
 
 func (b *Builder) checkSlot(s Slot) {
 	if s < 0 || int(s) >= len(b.nodes) {
-		panic(fmt.Sprintf("sens: slot %d not made by this builder", s))
+		panic(fmt.Sprintf("tape: slot %d not made by this builder", s))
 	}
 }
 
 func (b *Builder) checkOp(op Op, n int) {
 	if op >= numOps || op == opArg || opMetas[op].arity == 0 {
-		panic(fmt.Sprintf("sens: %v is not an operation", op))
+		panic(fmt.Sprintf("tape: %v is not an operation", op))
 	}
 	if int(opMetas[op].arity) != n {
-		panic(fmt.Sprintf("sens: %v takes %d arguments, not %d", op, opMetas[op].arity, n))
+		panic(fmt.Sprintf("tape: %v takes %d arguments, not %d", op, opMetas[op].arity, n))
 	}
 }
 
@@ -162,7 +165,7 @@ func (b *Builder) Binary(op Op, x, y Slot) Slot {
 		}
 	case OpPowConst:
 		if !yc {
-			panic("sens: OpPowConst needs a constant exponent")
+			panic("tape: OpPowConst needs a constant exponent")
 		}
 		if !xc && cy == 2 {
 			return b.add(OpSquare, x, -1, -1)
@@ -194,7 +197,7 @@ func (b *Builder) Call(op Op, args ...Slot) Slot {
 // returned as it is.
 func (b *Builder) Fold(op Op, args ...Slot) Slot {
 	if len(args) == 0 {
-		panic("sens: Fold of no arguments")
+		panic("tape: Fold of no arguments")
 	}
 	acc := args[0]
 	b.checkSlot(acc)
@@ -321,141 +324,4 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 		p.outs[i] = idx[o]
 	}
 	return &Tape{p: p, vals: vals, adj: make([]float64, n)}
-}
-
-// tapeProg is the immutable program of a Tape, shared by its clones.
-//
-// Layout: slots [0, nIn) are the inputs, [nIn, start) the constants and
-// [start, n) the operations in evaluation order, as a structure of
-// arrays. Unary operations have b == a. A three-argument operation at k
-// is followed by an opArg node whose a is the third argument.
-type tapeProg struct {
-	nIn, start int
-	ops        []Op
-	a, b       []int32
-	pos        []int32
-	outs       []int32
-}
-
-// Tape is a compiled computation: a flat list of operations in
-// evaluation order with forward, reverse (adjoint) and batched sweeps.
-//
-// A Tape owns its value and adjoint buffers, so one Tape must not be used
-// by two goroutines at once; Clone gives each goroutine its own buffers
-// over the shared, read-only program. After their first call the sweeps
-// allocate nothing (except to report an error).
-//
-// Non-finite values never pass silently: a sweep that would produce a
-// NaN or ±Inf in an output, or feed one to an operation that could hide
-// it (1/Inf = 0, min(x, Inf) = x, a comparison), returns a *DomainError
-// that names the operation where it first arose, with its position and
-// operand values. A NaN or Inf in the branch an if does not take, or in
-// an input or node the output does not use, is not an error. The test
-// costs nothing on most operations: only outputs and the operations that
-// could hide a non-finite operand check for one, and only when one is
-// seen is the tape searched for its origin.
-//
-// Layout: a structure of arrays (operation, two operand indices and a
-// source position per node, plus the value and adjoint buffers: 29 bytes
-// a node), inputs first, then constants, then operations in evaluation
-// order. The batched sweeps run each operation over a block of samples
-// before the next (node-major rows of up to 256 samples), so the
-// interpreter's dispatch is paid once a block.
-type Tape struct {
-	p    *tapeProg
-	vals []float64
-	adj  []float64
-
-	// Batched sweeps: blocks of bw samples, node-major
-	// (bvals[k*bw+s] is node k in sample s); allocated on first use.
-	bw    int
-	bvals []float64
-	badj  []float64
-}
-
-// NumInputs returns the number of inputs.
-func (t *Tape) NumInputs() int { return t.p.nIn }
-
-// NumOutputs returns the number of outputs.
-func (t *Tape) NumOutputs() int { return len(t.p.outs) }
-
-// Len returns the number of nodes: inputs, constants and operations.
-func (t *Tape) Len() int { return len(t.p.ops) }
-
-// Bytes returns the memory held by the tape: its program and its scalar
-// value and adjoint buffers (29 bytes a node). The buffers of the batched
-// sweeps, allocated on their first call and bounded by a fixed budget,
-// are reported by BatchBytes.
-func (t *Tape) Bytes() int {
-	p := t.p
-	return len(p.ops) + 4*(len(p.a)+len(p.b)+len(p.pos)+len(p.outs)) + 8*(len(t.vals)+len(t.adj))
-}
-
-// BatchBytes returns the memory of the batched sweeps' block buffers (0
-// before the first batched call).
-func (t *Tape) BatchBytes() int { return 8 * (len(t.bvals) + len(t.badj)) }
-
-// Clone returns a Tape that shares t's program and has buffers of its
-// own, for use by another goroutine. Clone may run while t is in use.
-func (t *Tape) Clone() *Tape {
-	n := len(t.p.ops)
-	c := &Tape{p: t.p, vals: make([]float64, n), adj: make([]float64, n)}
-	// Constants are never written after Tape, so reading them here does
-	// not race with a sweep on t.
-	copy(c.vals[t.p.nIn:t.p.start], t.vals[t.p.nIn:t.p.start])
-	return c
-}
-
-// Output returns output i as computed by the last Forward (or by the
-// last Eval or Gradient for output i).
-func (t *Tape) Output(i int) float64 { return t.vals[t.p.outs[i]] }
-
-// OutputPos returns the source position of the node that computes output
-// i.
-func (t *Tape) OutputPos(i int) int32 { return t.p.pos[t.p.outs[i]] }
-
-// StepOps returns the source positions, sorted and without repeats, of
-// the step operations (floor, ceil, round, comparisons, and, or, not,
-// if) that output i depends on: where one of them flips, the output
-// jumps and its derivative says nothing about the jump.
-func (t *Tape) StepOps(i int) []int32 {
-	p := t.p
-	out := int(p.outs[i])
-	mark := make([]bool, out+1)
-	mark[out] = true
-	var pos []int32
-	for k := out; k >= p.start; k-- {
-		if !mark[k] {
-			continue
-		}
-		op := p.ops[k]
-		if op.IsStep() {
-			pos = append(pos, p.pos[k])
-		}
-		mark[p.a[k]] = true
-		mark[p.b[k]] = true
-		if op.Arity() == 3 {
-			mark[p.a[k+1]] = true
-		}
-	}
-	slices.Sort(pos)
-	return slices.Compact(pos)
-}
-
-// DomainError reports a NaN or ±Inf found by a sweep: where it arose,
-// from what, and in which sample of a batched sweep.
-type DomainError struct {
-	Pos     int32     // source position of the operation (Builder.SetPos)
-	Op      Op        // the operation
-	Args    []float64 // its operand values
-	Msg     string    // "ln of a negative number (-3)", "division by zero", ...
-	Sample  int       // sample index in a batched sweep; -1 otherwise
-	Reverse bool      // found by the reverse sweep (an unbounded derivative)
-}
-
-func (e *DomainError) Error() string {
-	if e.Sample >= 0 {
-		return fmt.Sprintf("%s (sample %d)", e.Msg, e.Sample)
-	}
-	return e.Msg
 }

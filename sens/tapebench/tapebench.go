@@ -1,26 +1,40 @@
-package sens
+// Package tapebench holds the benchmark harness of the differentiation
+// engine (package tape): an invented cost model built on a tape and written
+// again in plain Go, generated models of a thousand to a million nodes, and
+// the timing bodies that compare them. `nudge bench` and the benchmarks of
+// package tape both run these bodies, so their figures are the same
+// measurement.
+//
+// The bodies take a B, which *testing.B satisfies, so that this package
+// does not import testing into the binaries that use it. It is not part of
+// the engine: nothing but the benchmarks and `nudge bench` imports it.
+package tapebench
 
 import (
-	"fmt"
-	"io"
 	"math"
 	"math/rand/v2"
 	"slices"
-	"testing"
-	"text/tabwriter"
 	"time"
 
+	"github.com/nudge-dev/nudge/sens/tape"
 	"gonum.org/v1/gonum/diff/fd"
 )
 
-// This file holds the benchmark models and bodies shared by
-// bench_test.go and RunBench (the CLI's `nudge bench`).
+// B is the part of *testing.B the benchmark bodies use.
+type B interface {
+	Loop() bool
+	ReportAllocs()
+	ReportMetric(n float64, unit string)
+	StopTimer()
+	Elapsed() time.Duration
+	Fatal(args ...any)
+}
 
-// benchCostInputs are the inputs of the benchmark cost model, an
-// invented machined part: name and baseline.
-var benchCostInputs = []struct {
-	name string
-	x    float64
+// CostInputs are the inputs of the benchmark cost model, an invented
+// machined part: name and baseline.
+var CostInputs = []struct {
+	Name string
+	X    float64
 }{
 	{"units", 1000}, {"mass", 12}, {"steel", 0.9}, {"scrap", 0.08},
 	{"hours", 1.5}, {"rate", 60}, {"learn_rate", 0.85}, {"kwh", 30},
@@ -29,21 +43,21 @@ var benchCostInputs = []struct {
 	{"salvage", 30000}, {"batch", 200}, {"setup", 3},
 }
 
-// benchCostBaseline returns the baseline inputs of the cost model.
-func benchCostBaseline() []float64 {
-	x := make([]float64, len(benchCostInputs))
-	for i, in := range benchCostInputs {
-		x[i] = in.x
+// CostBaseline returns the baseline inputs of the cost model.
+func CostBaseline() []float64 {
+	x := make([]float64, len(CostInputs))
+	for i, in := range CostInputs {
+		x[i] = in.X
 	}
 	return x
 }
 
-// buildCostModel builds the benchmark cost model; arith replaces the
+// CostModel builds the benchmark cost model; arith replaces the
 // learning curve and the economy factors by arithmetic, leaving a model
 // of + - * / ceil max if only.
-func buildCostModel(arith bool) *Tape {
-	b := NewBuilder()
-	in := make([]Slot, len(benchCostInputs))
+func CostModel(arith bool) *tape.Tape {
+	b := tape.NewBuilder()
+	in := make([]tape.Slot, len(CostInputs))
 	for i := range in {
 		b.SetPos(int32(i))
 		in[i] = b.Input()
@@ -51,25 +65,25 @@ func buildCostModel(arith bool) *Tape {
 	units, mass, steel, scrap, hours, rate, lr, kwh := in[0], in[1], in[2], in[3], in[4], in[5], in[6], in[7]
 	power, overhead, tooling, irate, years, machine, salvage, batch, setup := in[8], in[9], in[10], in[11], in[12], in[13], in[14], in[15], in[16]
 	c := b.Const
-	mul := func(x, y Slot) Slot { return b.Binary(OpMul, x, y) }
-	add := func(x, y Slot) Slot { return b.Binary(OpAdd, x, y) }
-	sub := func(x, y Slot) Slot { return b.Binary(OpSub, x, y) }
-	div := func(x, y Slot) Slot { return b.Binary(OpDiv, x, y) }
+	mul := func(x, y tape.Slot) tape.Slot { return b.Binary(tape.OpMul, x, y) }
+	add := func(x, y tape.Slot) tape.Slot { return b.Binary(tape.OpAdd, x, y) }
+	sub := func(x, y tape.Slot) tape.Slot { return b.Binary(tape.OpSub, x, y) }
+	div := func(x, y tape.Slot) tape.Slot { return b.Binary(tape.OpDiv, x, y) }
 
 	b.SetPos(100)
 	material := mul(mul(mass, steel), add(c(1), scrap))
-	var unitHours, recov, sink Slot
+	var unitHours, recov, sink tape.Slot
 	if arith {
 		unitHours = mul(hours, lr)
 		recov = add(irate, div(c(1), years))
 		sink = div(c(1), years)
 	} else {
-		unitHours = b.Call(OpLearn, hours, lr, units)
-		recov = b.Binary(OpRecovery, irate, years)
-		sink = b.Binary(OpSinking, irate, years)
+		unitHours = b.Call(tape.OpLearn, hours, lr, units)
+		recov = b.Binary(tape.OpRecovery, irate, years)
+		sink = b.Binary(tape.OpSinking, irate, years)
 	}
 	labour := mul(unitHours, rate)
-	setups := b.Unary(OpCeil, div(units, batch))
+	setups := b.Unary(tape.OpCeil, div(units, batch))
 	setupCost := div(mul(mul(setups, setup), rate), units)
 	energy := mul(kwh, power)
 	annualCap := sub(mul(machine, recov), mul(salvage, sink))
@@ -77,24 +91,24 @@ func buildCostModel(arith bool) *Tape {
 	direct := add(add(add(material, labour), setupCost), energy)
 	ovh := mul(add(labour, setupCost), overhead)
 	unit := add(add(direct, ovh), capital)
-	disc := b.Call(OpIf, b.Binary(OpGt, units, c(500)), c(0.03), c(0))
+	disc := b.Call(tape.OpIf, b.Binary(tape.OpGt, units, c(500)), c(0.03), c(0))
 	price := mul(mul(unit, sub(c(1), disc)), c(1.12))
-	margin := b.Binary(OpMax, sub(price, unit), c(2))
+	margin := b.Binary(tape.OpMax, sub(price, unit), c(2))
 	total := add(mul(units, add(unit, margin)), tooling)
 	return b.Tape(total)
 }
 
-// costModelGo is buildCostModel(false) written directly in Go, operation
+// CostModelGo is CostModel(false) written directly in Go, operation
 // for operation, so that the two agree to the last bit.
-func costModelGo(x []float64) float64 {
+func CostModelGo(x []float64) float64 {
 	x = x[:17]
 	units, mass, steel, scrap, hours, rate, lr, kwh := x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7]
 	power, overhead, tooling, irate, years, machine, salvage, batch, setup := x[8], x[9], x[10], x[11], x[12], x[13], x[14], x[15], x[16]
 	material := mass * steel * (1 + scrap)
-	labour := learnUnit(hours, lr, units) * rate
+	labour := tape.Learn(hours, lr, units) * rate
 	setupCost := math.Ceil(units/batch) * setup * rate / units
 	energy := kwh * power
-	annualCap := machine*econRecovery(irate, years) - salvage*econSinking(irate, years)
+	annualCap := machine*tape.Recovery(irate, years) - salvage*tape.Sinking(irate, years)
 	capital := annualCap * years / units
 	direct := material + labour + setupCost + energy
 	ovh := (labour + setupCost) * overhead
@@ -108,8 +122,8 @@ func costModelGo(x []float64) float64 {
 	return units*(unit+margin) + tooling
 }
 
-// arithModelGo is buildCostModel(true) written directly in Go.
-func arithModelGo(x []float64) float64 {
+// ArithModelGo is CostModel(true) written directly in Go.
+func ArithModelGo(x []float64) float64 {
 	x = x[:17]
 	units, mass, steel, scrap, hours, rate, lr, kwh := x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7]
 	power, overhead, tooling, irate, years, machine, salvage, batch, setup := x[8], x[9], x[10], x[11], x[12], x[13], x[14], x[15], x[16]
@@ -131,11 +145,11 @@ func arithModelGo(x []float64) float64 {
 	return units*(unit+margin) + tooling
 }
 
-// benchSamples returns n samples of the cost model's inputs, each input
+// Samples returns n samples of the cost model's inputs, each input
 // spread ±20% around its baseline.
-func benchSamples(n int, seed uint64) []float64 {
+func Samples(n int, seed uint64) []float64 {
 	rng := rand.New(rand.NewPCG(seed, 1))
-	base := benchCostBaseline()
+	base := CostBaseline()
 	x := make([]float64, n*len(base))
 	for s := 0; s < n; s++ {
 		for j, v := range base {
@@ -145,53 +159,53 @@ func benchSamples(n int, seed uint64) []float64 {
 	return x
 }
 
-// genModel builds a bid of line items, an invented model shape for the
+// GenModel builds a bid of line items, an invented model shape for the
 // size benchmarks: about nodes nodes over nIn inputs (values in
 // [0.5, 2], also returned), each item one of a few templates that mix
 // products, quotients, powers, logs, min/max, if and an occasional
 // capital-recovery factor, summed into one total.
-func genModel(nodes, nIn int, seed uint64) (*Tape, []float64) {
+func GenModel(nodes, nIn int, seed uint64) (*tape.Tape, []float64) {
 	rng := rand.New(rand.NewPCG(seed, 2))
-	b := NewBuilder()
-	in := make([]Slot, nIn)
+	b := tape.NewBuilder()
+	in := make([]tape.Slot, nIn)
 	x := make([]float64, nIn)
 	for j := range in {
 		in[j] = b.Input()
 		x[j] = 0.5 + 1.5*rng.Float64()
 	}
-	pick := func() Slot { return in[rng.IntN(nIn)] }
+	pick := func() tape.Slot { return in[rng.IntN(nIn)] }
 	consts := []float64{0.9, 0.1, 1.05, 0.85, 1.2, 2, 0.5, 10}
-	c := func() Slot { return b.Const(consts[rng.IntN(len(consts))]) }
-	mul := func(x, y Slot) Slot { return b.Binary(OpMul, x, y) }
-	add := func(x, y Slot) Slot { return b.Binary(OpAdd, x, y) }
+	c := func() tape.Slot { return b.Const(consts[rng.IntN(len(consts))]) }
+	mul := func(x, y tape.Slot) tape.Slot { return b.Binary(tape.OpMul, x, y) }
+	add := func(x, y tape.Slot) tape.Slot { return b.Binary(tape.OpAdd, x, y) }
 	total := b.Const(0)
-	for item := 0; len(b.nodes) < nodes; item++ {
+	for item := 0; b.Len() < nodes; item++ {
 		b.SetPos(int32(item))
 		p, q, r := pick(), pick(), pick()
-		var v Slot
+		var v tape.Slot
 		switch k := rng.IntN(100); {
 		case k < 25:
 			v = mul(mul(p, q), add(c(), mul(r, c())))
 		case k < 35:
-			v = b.Binary(OpMax, mul(p, q), mul(r, c()))
+			v = b.Binary(tape.OpMax, mul(p, q), mul(r, c()))
 		case k < 45:
-			v = mul(mul(p, b.Binary(OpPow, q, c())), r)
+			v = mul(mul(p, b.Binary(tape.OpPow, q, c())), r)
 		case k < 55:
 			pq := mul(p, q)
-			v = b.Call(OpIf, b.Binary(OpGt, p, c()), mul(pq, c()), pq)
+			v = b.Call(tape.OpIf, b.Binary(tape.OpGt, p, c()), mul(pq, c()), pq)
 		case k < 70:
-			v = b.Binary(OpSub, add(b.Binary(OpDiv, p, q), mul(r, c())), mul(q, c()))
+			v = b.Binary(tape.OpSub, add(b.Binary(tape.OpDiv, p, q), mul(r, c())), mul(q, c()))
 		case k < 78:
-			v = mul(b.Unary(OpSqrt, mul(p, q)), r)
+			v = mul(b.Unary(tape.OpSqrt, mul(p, q)), r)
 		case k < 84:
-			v = mul(b.Unary(OpExp, b.Unary(OpNeg, p)), mul(q, c()))
+			v = mul(b.Unary(tape.OpExp, b.Unary(tape.OpNeg, p)), mul(q, c()))
 		case k < 90:
-			v = mul(b.Unary(OpLn, add(p, c())), q)
+			v = mul(b.Unary(tape.OpLn, add(p, c())), q)
 		case k < 98:
-			v = mul(b.Binary(OpMin, p, q), add(r, c()))
+			v = mul(b.Binary(tape.OpMin, p, q), add(r, c()))
 		default:
 			rate := mul(q, b.Const(0.05))
-			v = mul(p, b.Binary(OpRecovery, rate, mul(r, c())))
+			v = mul(p, b.Binary(tape.OpRecovery, rate, mul(r, c())))
 		}
 		total = add(total, v)
 	}
@@ -205,12 +219,12 @@ func genModel(nodes, nIn int, seed uint64) (*Tape, []float64) {
 // shared machine) affects both alike; it reports the time per call of
 // each side and their ratio.
 
-// benchPair times a and ref interleaved, k calls to a chunk, and reports
+// Pair times a and ref interleaved, k calls to a chunk, and reports
 // "a-ns", "ref-ns" (the median time of each per call, divided by per)
 // and "ratio" (the median of the chunk pairs' ratios a/ref) under the
 // given names; ns/op is the time of a pair of chunks. Medians, because a
 // chunk that the scheduler interrupts takes far longer than the others.
-func benchPair(b *testing.B, k int, per float64, aName, refName string, a, ref func() error) {
+func Pair(b B, k int, per float64, aName, refName string, a, ref func() error) {
 	b.ReportAllocs()
 	if err := a(); err != nil {
 		b.Fatal(err)
@@ -276,17 +290,17 @@ func timeOne(f func() error) time.Duration {
 // benchSink keeps hand-written results alive.
 var benchSink float64
 
-// benchScalar compares t.Forward with the hand-written f at x.
-func benchScalar(b *testing.B, t *Tape, f func([]float64) float64, x []float64) {
+// ForwardVsGo compares t.Forward with the hand-written f at x.
+func ForwardVsGo(b B, t *tape.Tape, f func([]float64) float64, x []float64) {
 	tape := func() error { return t.Forward(x) }
 	hand := func() error { benchSink += f(x); return nil }
-	benchPair(b, chunk(timeOne(tape)), 1, "tape", "go", tape, hand)
+	Pair(b, chunk(timeOne(tape)), 1, "tape", "go", tape, hand)
 	b.ReportMetric(float64(t.Bytes())/float64(t.Len()), "B/node")
 }
 
-// benchBatch compares t.ForwardBatch over the n samples xs with a loop
+// BatchVsGo compares t.ForwardBatch over the n samples xs with a loop
 // calling f on each sample; the times reported are per sample.
-func benchBatch(b *testing.B, t *Tape, f func([]float64) float64, xs []float64, n int) {
+func BatchVsGo(b B, t *tape.Tape, f func([]float64) float64, xs []float64, n int) {
 	out := make([]float64, n)
 	k := len(xs) / n
 	tape := func() error { return t.ForwardBatch(out, xs, n, 0) }
@@ -296,47 +310,51 @@ func benchBatch(b *testing.B, t *Tape, f func([]float64) float64, xs []float64, 
 		}
 		return nil
 	}
-	benchPair(b, chunk(timeOne(tape)), float64(n), "tape", "go", tape, hand)
+	Pair(b, chunk(timeOne(tape)), float64(n), "tape", "go", tape, hand)
 }
 
-// benchSweeps compares t.Gradient with t.Forward at x.
-func benchSweeps(b *testing.B, t *Tape, x []float64) {
+// GradientVsForward compares t.Gradient with t.Forward at x.
+func GradientVsForward(b B, t *tape.Tape, x []float64) {
 	g := make([]float64, t.NumInputs())
 	grad := func() error { _, err := t.Gradient(g, x, 0); return err }
 	fwd := func() error { return t.Forward(x) }
-	benchPair(b, chunk(timeOne(grad)), 1, "gradient", "forward", grad, fwd)
+	Pair(b, chunk(timeOne(grad)), 1, "gradient", "forward", grad, fwd)
 	b.ReportMetric(float64(t.Bytes())/float64(t.Len()), "B/node")
 }
 
-// benchGradientBatch measures t.GradientBatch per sample.
-func benchGradientBatch(b *testing.B, t *Tape, xs []float64, n int) {
+// GradientBatch measures t.GradientBatch per sample.
+func GradientBatch(b B, t *tape.Tape, xs []float64, n int) {
 	b.ReportAllocs()
 	out := make([]float64, n)
 	g := make([]float64, n*t.NumInputs())
 	if err := t.GradientBatch(out, g, xs, n, 0); err != nil {
 		b.Fatal(err)
 	}
+	calls := 0
 	for b.Loop() {
 		if err := t.GradientBatch(out, g, xs, n, 0); err != nil {
 			b.Fatal(err)
 		}
+		calls++
 	}
-	b.ReportMetric(b.Elapsed().Seconds()*1e9/float64(b.N*n), "ns/sample")
+	b.ReportMetric(b.Elapsed().Seconds()*1e9/float64(calls*n), "ns/sample")
 }
 
-// benchReverseVsFD times t.Gradient and reports its speed-up over one
+// ReverseVsFD times t.Gradient and reports its speed-up over one
 // run of gonum's fd.Gradient (central differences: 2 evaluations per
 // input, plus one).
-func benchReverseVsFD(b *testing.B, t *Tape, x []float64) {
+func ReverseVsFD(b B, t *tape.Tape, x []float64) {
 	fdTime, _ := fdGradientTime(t, x)
 	g := make([]float64, len(x))
 	b.ReportAllocs()
+	calls := 0
 	for b.Loop() {
 		if _, err := t.Gradient(g, x, 0); err != nil {
 			b.Fatal(err)
 		}
+		calls++
 	}
-	per := b.Elapsed().Seconds() / float64(b.N)
+	per := b.Elapsed().Seconds() / float64(calls)
 	b.ReportMetric(fdTime.Seconds()*1e3, "fd-ms")
 	b.ReportMetric(per*1e3, "reverse-ms")
 	b.ReportMetric(fdTime.Seconds()/per, "speedup")
@@ -344,7 +362,7 @@ func benchReverseVsFD(b *testing.B, t *Tape, x []float64) {
 
 // fdGradientTime times one gonum fd.Gradient (central differences, so
 // 2 evaluations per input) of output 0 through t.Forward.
-func fdGradientTime(t *Tape, x []float64) (time.Duration, []float64) {
+func fdGradientTime(t *tape.Tape, x []float64) (time.Duration, []float64) {
 	f := func(x []float64) float64 {
 		if err := t.Forward(x); err != nil {
 			return math.NaN()
@@ -356,88 +374,15 @@ func fdGradientTime(t *Tape, x []float64) (time.Duration, []float64) {
 	return time.Since(start), g
 }
 
-// benchBatchN is the batch size of the batched benchmarks.
-const benchBatchN = 4096
+// BatchN is the batch size of the batched benchmarks.
+const BatchN = 4096
 
 // Sizes of the generated models: nodes and inputs.
-var benchSizes = []struct {
-	name       string
-	nodes, nIn int
+var Sizes = []struct {
+	Name          string
+	Nodes, Inputs int
 }{
 	{"1e3 nodes", 1_000, 100},
 	{"1e5 nodes", 100_000, 10_000},
 	{"1e6 nodes", 1_000_000, 100_000},
-}
-
-// RunBench runs the engine's benchmarks with testing.Benchmark and prints
-// a table of ratios to w: the tape interpreter against the same cost
-// model written in Go (scalar and batched; each pair interleaved so that
-// other load on the machine affects both sides alike), the gradient
-// (forward and reverse sweeps) against the forward sweep on generated
-// models of 1e3 to 1e6 nodes, reverse mode against gonum's central
-// differences on 10,000 inputs, and the tape's bytes per node. It takes
-// about half a minute.
-func RunBench(w io.Writer) error {
-	fmt.Fprintln(w, "nudge bench: the evaluation engine against hand-written Go and finite differences")
-	fmt.Fprintln(w, "(each pair runs interleaved in short chunks; times and ratios are medians over the chunks)")
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "comparison\ttape\treference\tratio\ttarget")
-	row := func(name string, r testing.BenchmarkResult, a, ref string, target string) {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%.2f\t%s\n", name,
-			fmtNs(r.Extra[a+"-ns"]), fmtNs(r.Extra[ref+"-ns"]), r.Extra["ratio"], target)
-	}
-	var failed error
-	check := func(err error) {
-		if err != nil && failed == nil {
-			failed = err
-		}
-	}
-
-	for _, arith := range []bool{false, true} {
-		t := buildCostModel(arith)
-		goFn, name, scalarTarget, batchTarget := costModelGo, "cost model", "<= 2.5", "<= 1.2"
-		if arith {
-			goFn, name, scalarTarget, batchTarget = arithModelGo, "arithmetic-only model", "none", "none"
-		}
-		x := benchCostBaseline()
-		check(t.Forward(x))
-		r := testing.Benchmark(func(b *testing.B) { benchScalar(b, t, goFn, x) })
-		row(fmt.Sprintf("%s (%d nodes): forward vs Go", name, t.Len()), r, "tape", "go", scalarTarget)
-		xs := benchSamples(benchBatchN, 7)
-		r = testing.Benchmark(func(b *testing.B) { benchBatch(b, t, goFn, xs, benchBatchN) })
-		row(fmt.Sprintf("%s: batched forward vs Go loop, per sample", name), r, "tape", "go", batchTarget)
-	}
-
-	var bytesPerNode float64
-	for _, sz := range benchSizes {
-		t, x := genModel(sz.nodes, sz.nIn, 1)
-		check(t.Forward(x))
-		r := testing.Benchmark(func(b *testing.B) { benchSweeps(b, t, x) })
-		row(fmt.Sprintf("gradient vs forward, %d nodes, %d inputs", t.Len(), t.NumInputs()), r, "gradient", "forward", "<= 3")
-		bytesPerNode = max(bytesPerNode, float64(t.Bytes())/float64(t.Len()))
-	}
-
-	t, x := genModel(30_000, 10_000, 3)
-	check(t.Forward(x))
-	r := testing.Benchmark(func(b *testing.B) { benchReverseVsFD(b, t, x) })
-	fmt.Fprintf(tw, "gradient vs gonum fd.Gradient, %d inputs (fd: 20001 evaluations, run once)\t%s\t%s\t1/%.0f\t-\n",
-		t.NumInputs(), fmtNs(r.Extra["reverse-ms"]*1e6), fmtNs(r.Extra["fd-ms"]*1e6), r.Extra["speedup"])
-	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\n", bytesPerNode)
-	if err := tw.Flush(); err != nil {
-		return err
-	}
-	return failed
-}
-
-// fmtNs formats a time given in nanoseconds.
-func fmtNs(ns float64) string {
-	switch {
-	case ns < 1e3:
-		return fmt.Sprintf("%.1f ns", ns)
-	case ns < 1e6:
-		return fmt.Sprintf("%.1f µs", ns/1e3)
-	case ns < 1e9:
-		return fmt.Sprintf("%.1f ms", ns/1e6)
-	}
-	return fmt.Sprintf("%.2f s", ns/1e9)
 }

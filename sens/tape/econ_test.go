@@ -1,4 +1,4 @@
-package sens
+package tape
 
 import (
 	"fmt"
@@ -226,13 +226,13 @@ func TestEconLearningCurve(t *testing.T) {
 		{1, 100}, {2, 80}, {4, 64}, {8, 51.2}, {16, 40.96},
 	} {
 		v, _, _, _ := learnDeriv(100, 0.8, tc.k)
-		if got := learnUnit(100, 0.8, tc.k); !scalar.EqualWithinRel(got, tc.want, 1e-14) || got != v {
+		if got := Learn(100, 0.8, tc.k); !scalar.EqualWithinRel(got, tc.want, 1e-14) || got != v {
 			t.Errorf("learn(100, 0.8, %v) = %v, want %v", tc.k, got, tc.want)
 		}
 	}
 	// An exponent of log2(0.8) is the same curve: unit 10 costs
 	// 100·10^-0.321928 = 47.65 (common practice).
-	if got := learnUnit(100, 0.8, 10); !scalar.EqualWithinRel(got, 47.65, 1e-4) {
+	if got := Learn(100, 0.8, 10); !scalar.EqualWithinRel(got, 47.65, 1e-4) {
 		t.Errorf("learn(100, 0.8, 10) = %v, want 47.65", got)
 	}
 }
@@ -249,14 +249,14 @@ func TestEconLearnTotal(t *testing.T) {
 			comp = (s - sum) - y
 			sum = s
 			if k <= 40 || k%97 == 0 || k == 3000 {
-				got := learnCumulative(1, rate, float64(k))
+				got := LearnTotal(1, rate, float64(k))
 				if !scalar.EqualWithinRel(got, sum, 1e-12) {
 					t.Errorf("rate %v: learn_total(1, %v) = %.17g, direct sum %.17g (rel %.1e)", rate, k, got, sum, math.Abs(got/sum-1))
 				}
 			}
 		}
 		for _, k := range []float64{2.5, 3.25, 10.3, 15.99, 16.5, 17.2, 100.7, 5432.1} {
-			diff := learnCumulative(1, rate, k) - learnCumulative(1, rate, k-1)
+			diff := LearnTotal(1, rate, k) - LearnTotal(1, rate, k-1)
 			if !scalar.EqualWithinRel(diff, math.Pow(k, b), 1e-11) {
 				t.Errorf("rate %v: S(%v) - S(%v) = %.15g, want %.15g", rate, k, k-1, diff, math.Pow(k, b))
 			}
@@ -264,7 +264,7 @@ func TestEconLearnTotal(t *testing.T) {
 	}
 	// No learning: the cost of k units is k times the first, for any k.
 	for _, k := range []float64{1, 7, 7.3, 123.25} {
-		if got := learnCumulative(10, 1, k); !scalar.EqualWithinRel(got, 10*k, 1e-13) {
+		if got := LearnTotal(10, 1, k); !scalar.EqualWithinRel(got, 10*k, 1e-13) {
 			t.Errorf("learn_total(10, 1, %v) = %v, want %v", k, got, 10*k)
 		}
 	}
@@ -273,8 +273,8 @@ func TestEconLearnTotal(t *testing.T) {
 	for _, rate := range []float64{0.5, 0.8, 0.95, 1.2} {
 		for _, k := range []float64{1.5, 9.7, 15.5, 16.5, 40.2, 1e4 + 0.5} {
 			x := []float64{250, rate, k}
-			_, d0, d1, d2 := learnCumulativeDeriv(x[0], x[1], x[2])
-			f := func(x []float64) float64 { return learnCumulative(x[0], x[1], x[2]) }
+			_, d0, d1, d2 := learnTotalDeriv(x[0], x[1], x[2])
+			f := func(x []float64) float64 { return LearnTotal(x[0], x[1], x[2]) }
 			ref := tapeFD(f, x, 1)
 			for j, d := range []float64{d0, d1, d2} {
 				if !scalar.EqualWithinAbsOrRel(d, ref[j], 1e-6*f(x)/math.Max(1, x[j]), 1e-6) {
@@ -286,14 +286,15 @@ func TestEconLearnTotal(t *testing.T) {
 	// The derivative in k at a whole k is that of the smooth extension:
 	// close to the unit cost of unit k+1/2 (the sum grows by about
 	// (k+1/2)^b per unit there).
-	_, _, _, dk := learnCumulativeDeriv(1, 0.8, 100)
+	_, _, _, dk := learnTotalDeriv(1, 0.8, 100)
 	if want := math.Pow(100.5, math.Log2(0.8)); !scalar.EqualWithinRel(dk, want, 1e-4) {
 		t.Errorf("dS/dk at 100 = %v, want about %v", dk, want)
 	}
 }
 
-// ExampleFunctions shows the capital-recovery factor on a tape.
-func ExampleFunctions() {
+// The capital-recovery factor on a tape: its value and its partial
+// derivatives in the rate and the number of periods.
+func ExampleTape_Gradient() {
 	b := NewBuilder()
 	i, n := b.Input(), b.Input()
 	tp := b.Tape(b.Binary(OpRecovery, i, n))
@@ -317,10 +318,10 @@ func TestEconLearnUnitDerivatives(t *testing.T) {
 			h := 1e-6 * math.Max(1, math.Abs(x[j]))
 			if j == 2 && x[2] == 1 {
 				// k = 1 is the edge of the domain: a one-sided difference.
-				ref[j] = fd.Derivative(func(v float64) float64 { xx[j] = v; return learnUnit(xx[0], xx[1], xx[2]) }, x[j], &fd.Settings{Formula: fd.Forward, Step: 1e-7})
+				ref[j] = fd.Derivative(func(v float64) float64 { xx[j] = v; return Learn(xx[0], xx[1], xx[2]) }, x[j], &fd.Settings{Formula: fd.Forward, Step: 1e-7})
 				continue
 			}
-			ref[j] = fd.Derivative(func(v float64) float64 { xx[j] = v; return learnUnit(xx[0], xx[1], xx[2]) }, x[j], &fd.Settings{Formula: fd.Central, Step: h})
+			ref[j] = fd.Derivative(func(v float64) float64 { xx[j] = v; return Learn(xx[0], xx[1], xx[2]) }, x[j], &fd.Settings{Formula: fd.Central, Step: h})
 		}
 		for j, d := range []float64{d0, d1, d2} {
 			if !scalar.EqualWithinAbsOrRel(d, ref[j], 1e-6, 1e-5) {

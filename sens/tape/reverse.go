@@ -1,0 +1,121 @@
+package tape
+
+import (
+	"fmt"
+)
+
+// Reverse runs the reverse (adjoint) sweep for output i over the values
+// of the last Forward, Eval or Gradient for that output, and stores
+// dst[j] = ∂ output_i / ∂ x_j. dst must have length NumInputs; it is
+// returned.
+//
+// An operation whose adjoint is zero passes nothing back, so an
+// unbounded local derivative (sqrt at 0, asin at ±1) matters only where
+// it is used: there dst receives ±Inf or NaN. Gradient reports that as a
+// *DomainError; Reverse leaves it in dst.
+func (t *Tape) Reverse(dst []float64, i int) []float64 {
+	p := t.p
+	if len(dst) != p.nIn {
+		panic(fmt.Sprintf("tape: gradient of length %d, tape has %d inputs", len(dst), p.nIn))
+	}
+	out := int(p.outs[i])
+	end := p.end(i)
+	v := t.vals[:end]
+	g := t.adj[:end]
+	clear(g)
+	g[out] = 1
+	ops := p.ops[:end]
+	as := p.a[:end]
+	bs := p.b[:end]
+	for k := out; k >= p.start; k-- {
+		gk := g[k]
+		if gk == 0 {
+			continue
+		}
+		a, b := as[k], bs[k]
+		switch ops[k] {
+		case OpAdd:
+			g[a] += gk
+			g[b] += gk
+		case OpSub:
+			g[a] += gk
+			g[b] -= gk
+		case OpMul:
+			g[a] += gk * v[b]
+			g[b] += gk * v[a]
+		case OpDiv:
+			q := gk / v[b]
+			g[a] += q
+			g[b] -= q * v[k]
+		case OpNeg:
+			g[a] -= gk
+		case OpSquare:
+			g[a] += 2 * gk * v[a]
+		case OpSqrt:
+			g[a] += gk * 0.5 / v[k]
+		case OpExp:
+			g[a] += gk * v[k]
+		case OpLn:
+			g[a] += gk / v[a]
+		case OpAbs:
+			if x := v[a]; x > 0 {
+				g[a] += gk
+			} else if x < 0 {
+				g[a] -= gk
+			}
+		case OpMin:
+			if v[a] <= v[b] {
+				g[a] += gk
+			} else {
+				g[b] += gk
+			}
+		case OpMax:
+			if v[a] >= v[b] {
+				g[a] += gk
+			} else {
+				g[b] += gk
+			}
+		case OpIf:
+			if v[a] != 0 {
+				g[b] += gk
+			} else {
+				g[as[k+1]] += gk
+			}
+		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
+		default:
+			op := ops[k]
+			ar := op.Arity()
+			var z float64
+			if ar == 3 {
+				z = v[as[k+1]]
+			}
+			dx, dy, dz := deriv(op, v[a], v[b], z, v[k])
+			g[a] += gk * dx
+			if ar >= 2 && op != OpPowConst {
+				g[b] += gk * dy
+			}
+			if ar == 3 {
+				g[as[k+1]] += gk * dz
+			}
+		}
+	}
+	copy(dst, g[:p.nIn])
+	return dst
+}
+
+// Gradient evaluates output i at x and its gradient: dst[j] = ∂ output_i
+// / ∂ x_j. It returns the output, or a *DomainError if the output or a
+// derivative on the way to it is NaN or ±Inf.
+func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
+	f, err := t.Eval(x, i)
+	if err != nil {
+		return f, err
+	}
+	t.Reverse(dst, i)
+	for _, d := range dst {
+		if !finite(d) {
+			return f, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
+		}
+	}
+	return f, nil
+}

@@ -1,0 +1,92 @@
+package tape
+
+// tapeProg is the immutable program of a Tape, shared by its clones.
+//
+// Layout: slots [0, nIn) are the inputs, [nIn, start) the constants and
+// [start, n) the operations in evaluation order, as a structure of
+// arrays. Unary operations have b == a. A three-argument operation at k
+// is followed by an opArg node whose a is the third argument.
+type tapeProg struct {
+	nIn, start int
+	ops        []Op
+	a, b       []int32
+	pos        []int32
+	outs       []int32
+}
+
+// Tape is a compiled computation: a flat list of operations in
+// evaluation order with forward, reverse (adjoint) and batched sweeps.
+//
+// A Tape owns its value and adjoint buffers, so one Tape must not be used
+// by two goroutines at once; Clone gives each goroutine its own buffers
+// over the shared, read-only program. After their first call the sweeps
+// allocate nothing (except to report an error).
+//
+// Non-finite values never pass silently: a sweep that would produce a
+// NaN or ±Inf in an output, or feed one to an operation that could hide
+// it (1/Inf = 0, min(x, Inf) = x, a comparison), returns a *DomainError
+// that names the operation where it first arose, with its position and
+// operand values. A NaN or Inf in the branch an if does not take, or in
+// an input or node the output does not use, is not an error. The test
+// costs nothing on most operations: only outputs and the operations that
+// could hide a non-finite operand check for one, and only when one is
+// seen is the tape searched for its origin.
+//
+// Layout: a structure of arrays (operation, two operand indices and a
+// source position per node, plus the value and adjoint buffers: 29 bytes
+// a node), inputs first, then constants, then operations in evaluation
+// order. The batched sweeps run each operation over a block of samples
+// before the next (node-major rows of up to 256 samples), so the
+// interpreter's dispatch is paid once a block.
+type Tape struct {
+	p    *tapeProg
+	vals []float64
+	adj  []float64
+
+	// Batched sweeps: blocks of bw samples, node-major
+	// (bvals[k*bw+s] is node k in sample s); allocated on first use.
+	bw    int
+	bvals []float64
+	badj  []float64
+}
+
+// NumInputs returns the number of inputs.
+func (t *Tape) NumInputs() int { return t.p.nIn }
+
+// NumOutputs returns the number of outputs.
+func (t *Tape) NumOutputs() int { return len(t.p.outs) }
+
+// Len returns the number of nodes: inputs, constants and operations.
+func (t *Tape) Len() int { return len(t.p.ops) }
+
+// Bytes returns the memory held by the tape: its program and its scalar
+// value and adjoint buffers (29 bytes a node). The buffers of the batched
+// sweeps, allocated on their first call and bounded by a fixed budget,
+// are reported by BatchBytes.
+func (t *Tape) Bytes() int {
+	p := t.p
+	return len(p.ops) + 4*(len(p.a)+len(p.b)+len(p.pos)+len(p.outs)) + 8*(len(t.vals)+len(t.adj))
+}
+
+// BatchBytes returns the memory of the batched sweeps' block buffers (0
+// before the first batched call).
+func (t *Tape) BatchBytes() int { return 8 * (len(t.bvals) + len(t.badj)) }
+
+// Clone returns a Tape that shares t's program and has buffers of its
+// own, for use by another goroutine. Clone may run while t is in use.
+func (t *Tape) Clone() *Tape {
+	n := len(t.p.ops)
+	c := &Tape{p: t.p, vals: make([]float64, n), adj: make([]float64, n)}
+	// Constants are never written after Tape, so reading them here does
+	// not race with a sweep on t.
+	copy(c.vals[t.p.nIn:t.p.start], t.vals[t.p.nIn:t.p.start])
+	return c
+}
+
+// Output returns output i as computed by the last Forward (or by the
+// last Eval or Gradient for output i).
+func (t *Tape) Output(i int) float64 { return t.vals[t.p.outs[i]] }
+
+// OutputPos returns the source position of the node that computes output
+// i.
+func (t *Tape) OutputPos(i int) int32 { return t.p.pos[t.p.outs[i]] }
