@@ -748,29 +748,6 @@ func rational(v float64) (num, den int, ok bool) {
 	return 0, 0, false
 }
 
-// unit rules of the built-in functions
-const (
-	unitsDimless = iota // every argument dimensionless; dimensionless result
-	unitsSame           // every argument of one unit; result in it
-	unitsSqrt           // result is the square root of the argument's unit
-	unitsFirst          // result in the first argument's unit; the rest dimensionless
-	unitsIf             // (condition, a, b) with a and b alike
-)
-
-func unitRule(name string) int {
-	switch name {
-	case "abs", "min", "max":
-		return unitsSame
-	case "sqrt":
-		return unitsSqrt
-	case "learn", "learn_total":
-		return unitsFirst
-	case "if":
-		return unitsIf
-	}
-	return unitsDimless
-}
-
 func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	name := x.Fun.Name
 	info := lookupFunc(name)
@@ -786,11 +763,11 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		c.errorf(f, x.Fun.Pos(), "unknown function %s%s", name, syntax.DidYouMean(name, cands))
 		return val{bad: true}
 	}
-	variadic := name == "min" || name == "max"
-	if (variadic && len(x.Args) < 2) || (!variadic && len(x.Args) != info.Args) {
+	variadic := info.Variadic
+	if (variadic && len(x.Args) < info.Args) || (!variadic && len(x.Args) != info.Args) {
 		want := fmt.Sprintf("%d", info.Args)
 		if variadic {
-			want = "at least 2"
+			want = fmt.Sprintf("at least %d", info.Args)
 		}
 		c.errorf(f, x.Lparen, "%s takes %s arguments, got %d", name, want, len(x.Args))
 		return val{bad: true}
@@ -802,9 +779,9 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 			return val{bad: true}
 		}
 	}
-	rule := unitRule(name)
+	rule := info.Units
 	for i, a := range args {
-		wantBool := rule == unitsIf && i == 0
+		wantBool := rule == UnitsIf && i == 0
 		if a.boolean != wantBool {
 			if wantBool {
 				c.errorf(f, x.Args[i].Pos(), "the first argument of if must be a condition such as a < b")
@@ -817,7 +794,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	c.setPos(f, x.Fun.Pos())
 	res := val{}
 	switch rule {
-	case unitsDimless:
+	case UnitsDimensionless:
 		for i, a := range args {
 			if !a.dim.IsDimensionless() {
 				c.errorf(f, x.Args[i].Pos(), "%s needs a dimensionless argument, found %s: divide by a reference value, e.g. %s / 1 [%s]",
@@ -825,9 +802,9 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 				return val{bad: true}
 			}
 		}
-	case unitsSame, unitsIf:
+	case UnitsSame, UnitsIf:
 		first := 0
-		if rule == unitsIf {
+		if rule == UnitsIf {
 			first = 1
 		}
 		for i := first + 1; i < len(args); i++ {
@@ -840,14 +817,14 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		if res.hint == nil && len(args) > first+1 {
 			res.hint = args[first+1].hint
 		}
-	case unitsSqrt:
+	case UnitsSqrt:
 		d, err := args[0].dim.Pow(1, 2)
 		if err != nil {
 			c.errorf(f, x.Args[0].Pos(), "sqrt of %s: %v", unitText(c.display(args[0])), err)
 			return val{bad: true}
 		}
 		res.dim = d
-	case unitsFirst:
+	case UnitsFirst:
 		for i := 1; i < len(args); i++ {
 			if !args[i].dim.IsDimensionless() {
 				c.errorf(f, x.Args[i].Pos(), "argument %d of %s must be dimensionless, found %s", i+1, name, unitText(c.display(args[i])))
@@ -858,30 +835,27 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	}
 	switch {
 	case variadic:
-		op := tape.OpMin
-		if name == "max" {
-			op = tape.OpMax
-		}
-		s := args[0].slot
-		for _, a := range args[1:] {
-			s = c.b.Binary(op, s, a.slot)
-		}
-		res.slot = s
+		res.slot = c.b.Fold(info.Op, slots(args)...)
 	case len(args) == 1:
 		res.slot = c.b.Unary(info.Op, args[0].slot)
 	case len(args) == 2:
 		res.slot = c.b.Binary(info.Op, args[0].slot, args[1].slot)
 	default:
-		slots := make([]tape.Slot, len(args))
-		for i, a := range args {
-			slots[i] = a.slot
-		}
-		res.slot = c.b.Call(info.Op, slots...)
+		res.slot = c.b.Call(info.Op, slots(args)...)
 	}
 	if v, ok := c.b.IsConst(res.slot); ok {
 		res.konst, res.c = true, v
 	}
 	return res
+}
+
+// slots returns the tape slots of vs.
+func slots(vs []val) []tape.Slot {
+	s := make([]tape.Slot, len(vs))
+	for i, v := range vs {
+		s[i] = v.slot
+	}
+	return s
 }
 
 func lookupFunc(name string) *FuncInfo {

@@ -83,6 +83,9 @@ func TestFuncsTable(t *testing.T) {
 		if f.Doc == "" || f.Sig == "" || !strings.HasPrefix(f.Sig, f.Name+"(") {
 			t.Errorf("%s: missing doc or signature", f.Name)
 		}
+		if f.Units < UnitsDimensionless || f.Units > UnitsIf {
+			t.Errorf("%s: no unit rule", f.Name)
+		}
 		if g, ok := LookupFunc(f.Name); !ok || g.Op != f.Op {
 			t.Errorf("LookupFunc(%q) = %v, %v", f.Name, g, ok)
 		}
@@ -97,5 +100,55 @@ func TestFuncsTable(t *testing.T) {
 	}
 	if _, ok := LookupFunc("pi"); ok {
 		t.Error("pi is the compiler's constant, not a function")
+	}
+}
+
+// Each unit rule of the function table, through the compiler: the unit of the
+// result, and the error where the rule refuses the arguments. Values are
+// worked by hand (sqrt(16 m²) = 4 m; 80% curve: unit 4 costs 0.8² = 0.64 of
+// the first).
+func TestFuncsUnitRules(t *testing.T) {
+	p := compileSrc(t, `
+input a = 16 [m2]
+input h = 2 [h]
+input c = 100 [$]
+root  = sqrt(a)
+mag   = abs(-h)
+least = min(h, 90 [min], 3 [h])
+pick  = if(h > 1 [h], c, 5 [$])
+unit4 = learn(c, 0.8, 4)
+g     = growth(0.1, 2)
+`)
+	for _, tc := range []struct {
+		name, unit string
+		value      float64
+	}{
+		{"root", "m", 4}, {"mag", "h", 2}, {"least", "h", 1.5}, {"pick", "$", 100}, {"unit4", "$", 64}, {"g", "", 1.21},
+	} {
+		fn, err := p.Fn(tc.name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		y, err := fn.Eval(p.Baseline())
+		if err != nil || fn.Formula().Unit != tc.unit || !scalar.EqualWithinAbsOrRel(y, tc.value, 1e-12, 1e-12) {
+			t.Errorf("%s = %v [%s] (%v), want %v [%s]", tc.name, y, fn.Formula().Unit, err, tc.value, tc.unit)
+		}
+	}
+	for _, tc := range []struct{ src, msg string }{
+		{"input m = 2 [kg]\nf = ln(m)", "ln needs a dimensionless argument, found kg"},
+		{"input m = 2 [kg]\nf = max(m, 3 [h])", "arguments of max must share a unit: kg vs h"},
+		{"input m = 2 [kg]\nf = if(m > 1 [kg], m, 2 [h])", "arguments of if must share a unit: kg vs h"},
+		{"input m = 2 [kg]\nf = learn(m, 0.8, 2 [h])", "argument 3 of learn must be dimensionless, found h"},
+		{"input m = 2 [kg]\nf = sqrt(m)", "sqrt of kg"},
+		{"input m = 2\nf = min(m)", "min takes at least 2 arguments, got 1"},
+		{"input m = 2\nf = recovery(m)", "recovery takes 2 arguments, got 1"},
+	} {
+		m, err := LoadModel("t", []byte(tc.src))
+		if err == nil {
+			_, err = m.Compile()
+		}
+		if err == nil || !strings.Contains(err.Error(), tc.msg) {
+			t.Errorf("%q: error %v, want %q", tc.src, err, tc.msg)
+		}
 	}
 }
