@@ -6,11 +6,11 @@ import (
 )
 
 const (
-	// batchBudget bounds the block buffers of the batched sweeps
+	// batchBudget bounds the block buffers of the batched passes
 	// (values and adjoints).
 	batchBudget = 4 << 20
 	maxBlock    = 256
-	// minBlock: below this width a batched sweep runs sample by sample.
+	// minBlock: below this width a batched pass runs sample by sample.
 	minBlock = 8
 )
 
@@ -32,7 +32,7 @@ func (t *Tape) ensureBatch(adj bool) {
 			return
 		}
 		t.bvals = make([]float64, n*t.bw)
-		// Constants are broadcast once; sweeps never write them.
+		// Constants are broadcast once; passes never write them.
 		for k := p.nIn; k < p.start; k++ {
 			row := t.bvals[k*t.bw : (k+1)*t.bw]
 			for s := range row {
@@ -377,7 +377,7 @@ func (t *Tape) GradientBatch(out, grads, x []float64, n, i int) error {
 	return nil
 }
 
-// reverseBlock runs the reverse sweep from node out over the current
+// reverseBlock runs the reverse pass from node out over the current
 // block of m samples. A sample whose adjoint at a node is zero passes
 // nothing back from that node, as in Reverse.
 func (t *Tape) reverseBlock(m, out int) {

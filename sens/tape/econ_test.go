@@ -308,7 +308,7 @@ func ExampleTape_Gradient() {
 }
 
 // Central differences on the value functions agree with the reverse
-// sweep's learn partials.
+// pass's learn partials.
 func TestEconLearnUnitDerivatives(t *testing.T) {
 	for _, x := range [][]float64{{100, 0.8, 3.3}, {20, 0.92, 150}, {-5, 0.6, 1}} {
 		_, d0, d1, d2 := learnDeriv(x[0], x[1], x[2])

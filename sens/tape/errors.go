@@ -6,15 +6,15 @@ import (
 	"strconv"
 )
 
-// DomainError reports a NaN or ±Inf found by a sweep: where it arose,
-// from what, and in which sample of a batched sweep.
+// DomainError reports a NaN or ±Inf found by a pass: where it arose,
+// from what, and in which sample of a batched pass.
 type DomainError struct {
 	Pos     int32     // source position of the operation (Builder.SetPos)
 	Op      Op        // the operation
 	Args    []float64 // its operand values
 	Msg     string    // "ln of a negative number (-3)", "division by zero", ...
-	Sample  int       // sample index in a batched sweep; -1 otherwise
-	Reverse bool      // found by the reverse sweep (an unbounded derivative)
+	Sample  int       // sample index in a batched pass; -1 otherwise
+	Reverse bool      // found by the reverse pass (an unbounded derivative)
 }
 
 func (e *DomainError) Error() string {

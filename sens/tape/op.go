@@ -28,7 +28,7 @@ const (
 	OpDiv
 	// OpPow is x^y with y a value. A negative x is allowed when y is an
 	// integer; the partial derivative in y, x^y ln x, is then undefined
-	// and is reported by the reverse sweep if a nonzero adjoint reaches it.
+	// and is reported by the reverse pass if a nonzero adjoint reaches it.
 	// At x = 0 the partial in y is taken as 0 (its limit from the right),
 	// and the partial in x, y x^(y-1), is infinite for 0 < y < 1.
 	OpPow
@@ -40,7 +40,7 @@ const (
 	// OpNeg is -x.
 	OpNeg
 	// OpSqrt is the square root. Its derivative 1/(2 sqrt x) is infinite
-	// at x = 0: the value sqrt(0) = 0 is fine, and the reverse sweep
+	// at x = 0: the value sqrt(0) = 0 is fine, and the reverse pass
 	// reports a domain error only if a nonzero adjoint reaches that node.
 	OpSqrt
 	// OpExp is e^x.
@@ -65,7 +65,7 @@ const (
 	OpTan
 	// OpAsin is the arc sine; |x| > 1 is a domain error, and its
 	// derivative 1/sqrt(1-x²) is infinite at x = ±1 (reported by the
-	// reverse sweep only if a nonzero adjoint reaches the node).
+	// reverse pass only if a nonzero adjoint reaches the node).
 	OpAsin
 	// OpAcos is the arc cosine; as OpAsin.
 	OpAcos

@@ -14,7 +14,7 @@ func finite(x float64) bool { return x-x == 0 }
 
 // evalOp returns op applied to x, y and z (unused arguments are
 // ignored). It is the reference definition of every operation: constant
-// folding uses it, and so do the sweeps for operations without a
+// folding uses it, and so do the passes for operations without a
 // hand-written loop.
 func evalOp(op Op, x, y, z float64) float64 {
 	switch op {

@@ -4,7 +4,7 @@ import (
 	"fmt"
 )
 
-// Reverse runs the reverse (adjoint) sweep for output i over the values
+// Reverse runs the reverse (adjoint) pass for output i over the values
 // of the last Forward, Eval or Gradient for that output, and stores
 // dst[j] = ∂ output_i / ∂ x_j. dst must have length NumInputs; it is
 // returned.

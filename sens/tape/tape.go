@@ -15,14 +15,14 @@ type tapeProg struct {
 }
 
 // Tape is a compiled computation: a flat list of operations in
-// evaluation order with forward, reverse (adjoint) and batched sweeps.
+// evaluation order with forward, reverse (adjoint) and batched passes.
 //
 // A Tape owns its value and adjoint buffers, so one Tape must not be used
 // by two goroutines at once; Clone gives each goroutine its own buffers
-// over the shared, read-only program. After their first call the sweeps
+// over the shared, read-only program. After their first call the passes
 // allocate nothing (except to report an error).
 //
-// Non-finite values never pass silently: a sweep that would produce a
+// Non-finite values are never let through: a pass that would produce a
 // NaN or ±Inf in an output, or feed one to an operation that could hide
 // it (1/Inf = 0, min(x, Inf) = x, a comparison), returns a *DomainError
 // that names the operation where it first arose, with its position and
@@ -35,7 +35,7 @@ type tapeProg struct {
 // Layout: a structure of arrays (operation, two operand indices and a
 // source position per node, plus the value and adjoint buffers: 29 bytes
 // a node), inputs first, then constants, then operations in evaluation
-// order. The batched sweeps run each operation over a block of samples
+// order. The batched passes run each operation over a block of samples
 // before the next (node-major rows of up to 256 samples), so the
 // interpreter's dispatch is paid once a block.
 type Tape struct {
@@ -43,7 +43,7 @@ type Tape struct {
 	vals []float64
 	adj  []float64
 
-	// Batched sweeps: blocks of bw samples, node-major
+	// Batched passes: blocks of bw samples, node-major
 	// (bvals[k*bw+s] is node k in sample s); allocated on first use.
 	bw    int
 	bvals []float64
@@ -61,14 +61,14 @@ func (t *Tape) Len() int { return len(t.p.ops) }
 
 // Bytes returns the memory held by the tape: its program and its scalar
 // value and adjoint buffers (29 bytes a node). The buffers of the batched
-// sweeps, allocated on their first call and bounded by a fixed budget,
+// passes, allocated on their first call and bounded by a fixed budget,
 // are reported by BatchBytes.
 func (t *Tape) Bytes() int {
 	p := t.p
 	return len(p.ops) + 4*(len(p.a)+len(p.b)+len(p.pos)+len(p.outs)) + 8*(len(t.vals)+len(t.adj))
 }
 
-// BatchBytes returns the memory of the batched sweeps' block buffers (0
+// BatchBytes returns the memory of the batched passes' block buffers (0
 // before the first batched call).
 func (t *Tape) BatchBytes() int { return 8 * (len(t.bvals) + len(t.badj)) }
 
@@ -78,7 +78,7 @@ func (t *Tape) Clone() *Tape {
 	n := len(t.p.ops)
 	c := &Tape{p: t.p, vals: make([]float64, n), adj: make([]float64, n)}
 	// Constants are never written after Tape, so reading them here does
-	// not race with a sweep on t.
+	// not race with a pass on t.
 	copy(c.vals[t.p.nIn:t.p.start], t.vals[t.p.nIn:t.p.start])
 	return c
 }

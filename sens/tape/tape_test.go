@@ -184,7 +184,7 @@ func TestTapeOpsAgainstFD(t *testing.T) {
 					t.Errorf("%v%v: d/dx%d = %.10g, fd %.10g", c.op, pt, j, g[j], ref[j])
 				}
 			}
-			// The batched sweeps agree with the scalar ones.
+			// The batched passes agree with the scalar ones.
 			const n = 3
 			xs := make([]float64, 0, n*len(x))
 			for s := 0; s < n; s++ {
@@ -597,7 +597,7 @@ func TestTapeRandomFormulas(t *testing.T) {
 		}
 		checked++
 
-		// The batched sweeps agree with the scalar ones on a few points.
+		// The batched passes agree with the scalar ones on a few points.
 		if f%5 == 0 {
 			tapeBatchAgrees(t, tp, x, f)
 		}
@@ -892,7 +892,7 @@ func TestTapeIfGuards(t *testing.T) {
 }
 
 // sqrt at 0 has value 0 and an infinite derivative: an error of the
-// reverse sweep only where a nonzero adjoint reaches it.
+// reverse pass only where a nonzero adjoint reaches it.
 func TestTapeInfiniteDerivative(t *testing.T) {
 	b := NewBuilder()
 	x, y := b.Input(), b.Input()
@@ -920,7 +920,7 @@ func TestTapeInfiniteDerivative(t *testing.T) {
 	}
 }
 
-// A batched sweep names the failing sample, in the first block, in a
+// A batched pass names the failing sample, in the first block, in a
 // later block, and on a tape long enough to run sample by sample.
 func TestTapeBatchDomainErrorSample(t *testing.T) {
 	for _, size := range []int{0, 40_000} {
