@@ -77,37 +77,54 @@ func checkBatch(x []float64, n, nIn int) {
 // stay within a fixed budget (4 MiB), and a tape too long for a useful
 // block runs sample by sample.
 func (t *Tape) ForwardBatch(out, x []float64, n, i int) error {
-	p := t.p
-	checkBatch(x, n, p.nIn)
+	checkBatch(x, n, t.p.nIn)
 	if len(out) != n {
 		panic("tape: ForwardBatch output length differs from n")
 	}
 	t.ensureBatch(false)
 	if t.bw < minBlock {
-		for s := 0; s < n; s++ {
-			f, err := t.Eval(x[s*p.nIn:(s+1)*p.nIn], i)
-			if err != nil {
-				err.(*DomainError).Sample = s
-				return err
-			}
-			out[s] = f
-		}
-		return nil
+		return t.bySample(out, nil, x, n, i, false)
 	}
-	w := t.bw
-	o := int(p.outs[i])
-	outs := p.outs[i : i+1]
-	for base := 0; base < n; base += w {
-		m := min(w, n-base)
-		t.loadBlock(x, base, m)
-		bad := t.runBlock(m, p.end(i))
-		orow := t.bvals[o*w : o*w+m]
-		copy(out[base:base+m], orow)
-		if bad || !allFinite(orow) {
-			if err := t.checkBlock(bad, outs, base, m); err != nil {
-				return err
-			}
+	for base := 0; base < n; base += t.bw {
+		if err := t.forwardBlock(out, x, i, base, min(t.bw, n-base)); err != nil {
+			return err
 		}
+	}
+	return nil
+}
+
+// bySample runs a batch sample by sample, through Eval or, with grad,
+// Gradient: the way of a tape too long for a useful block.
+func (t *Tape) bySample(out, grads, x []float64, n, i int, grad bool) error {
+	nIn := t.p.nIn
+	for s := 0; s < n; s++ {
+		var f float64
+		var err error
+		if grad {
+			f, err = t.Gradient(grads[s*nIn:(s+1)*nIn], x[s*nIn:(s+1)*nIn], i)
+		} else {
+			f, err = t.Eval(x[s*nIn:(s+1)*nIn], i)
+		}
+		if err != nil {
+			err.(*DomainError).Sample = s
+			return err
+		}
+		out[s] = f
+	}
+	return nil
+}
+
+// forwardBlock runs the forward pass for output i over the block of m
+// samples that starts at sample base, and stores the outputs in out.
+func (t *Tape) forwardBlock(out, x []float64, i, base, m int) error {
+	p, w := t.p, t.bw
+	o := int(p.outs[i])
+	t.loadBlock(x, base, m)
+	bad := t.runBlock(m, p.end(i))
+	orow := t.bvals[o*w : o*w+m]
+	copy(out[base:base+m], orow)
+	if bad || !allFinite(orow) {
+		return t.checkBlock(bad, p.outs[i:i+1], base, m)
 	}
 	return nil
 }
@@ -326,52 +343,45 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 // gradients, row-major (n × NumInputs). Errors are as for ForwardBatch,
 // plus those of Gradient.
 func (t *Tape) GradientBatch(out, grads, x []float64, n, i int) error {
-	p := t.p
-	nIn := p.nIn
+	nIn := t.p.nIn
 	checkBatch(x, n, nIn)
 	if len(out) != n || len(grads) != n*nIn {
 		panic("tape: GradientBatch output lengths differ from n and n*NumInputs")
 	}
 	t.ensureBatch(true)
 	if t.bw < minBlock {
-		for s := 0; s < n; s++ {
-			f, err := t.Gradient(grads[s*nIn:(s+1)*nIn], x[s*nIn:(s+1)*nIn], i)
-			if err != nil {
-				err.(*DomainError).Sample = s
-				return err
-			}
-			out[s] = f
-		}
-		return nil
+		return t.bySample(out, grads, x, n, i, true)
 	}
-	w := t.bw
-	o := int(p.outs[i])
-	outs := p.outs[i : i+1]
-	for base := 0; base < n; base += w {
-		m := min(w, n-base)
-		t.loadBlock(x, base, m)
-		bad := t.runBlock(m, p.end(i))
-		orow := t.bvals[o*w : o*w+m]
-		copy(out[base:base+m], orow)
-		if bad || !allFinite(orow) {
-			if err := t.checkBlock(bad, outs, base, m); err != nil {
-				return err
+	for base := 0; base < n; base += t.bw {
+		m := min(t.bw, n-base)
+		if err := t.forwardBlock(out, x, i, base, m); err != nil {
+			return err
+		}
+		if err := t.gradientBlock(grads, i, base, m); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// gradientBlock runs the reverse pass for output i over the current block
+// of m samples, the first of which is sample base, and stores their
+// gradients in grads (row-major, n × NumInputs).
+func (t *Tape) gradientBlock(grads []float64, i, base, m int) error {
+	nIn, w := t.p.nIn, t.bw
+	t.reverseBlock(m, int(t.p.outs[i]))
+	for s := 0; s < m; s++ {
+		g := grads[(base+s)*nIn : (base+s+1)*nIn]
+		ok := true
+		for j := range g {
+			d := t.badj[j*w+s]
+			g[j] = d
+			if !finite(d) {
+				ok = false
 			}
 		}
-		t.reverseBlock(m, o)
-		for s := 0; s < m; s++ {
-			g := grads[(base+s)*nIn : (base+s+1)*nIn]
-			ok := true
-			for j := range g {
-				d := t.badj[j*w+s]
-				g[j] = d
-				if !finite(d) {
-					ok = false
-				}
-			}
-			if !ok {
-				return t.reverseError(i, t.bvals, t.badj, w, s, base+s)
-			}
+		if !ok {
+			return t.reverseError(i, t.bvals, t.badj, w, s, base+s)
 		}
 	}
 	return nil
