@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"os/exec"
+	"slices"
 	"strings"
 	"testing"
 
@@ -73,8 +74,9 @@ func TestInterruptedCell(t *testing.T) {
 
 // TestImportDirection checks the layering: sens never imports plotting, zmq4 or
 // kernel; plotting imports no nudge package but the quantity formatter
-// (sens/unit); the renderer nothing of the kernel or Jupyter; syntax and unit
-// only the standard library.
+// (sens/unit); the renderer nothing of the kernel or Jupyter; syntax, unit and
+// tape only the standard library; nothing but the binary imports kernel; and no
+// package under sens brings testing into the binaries that use it.
 func TestImportDirection(t *testing.T) {
 	deps := func(pkg string) []string {
 		out, err := exec.Command("go", "list", "-deps", pkg).Output()
@@ -103,12 +105,34 @@ func TestImportDirection(t *testing.T) {
 			}
 		}
 	}
-	for _, pkg := range []string{"github.com/nudge-dev/nudge/sens/syntax", "github.com/nudge-dev/nudge/sens/unit"} {
+	for _, pkg := range []string{"github.com/nudge-dev/nudge/sens/syntax", "github.com/nudge-dev/nudge/sens/unit", "github.com/nudge-dev/nudge/sens/tape"} {
 		for _, d := range deps(pkg) {
 			if strings.Contains(d, ".") && d != pkg {
 				t.Errorf("%s imports %s, not only the standard library", pkg, d)
 			}
 		}
+	}
+	const module, binary = "github.com/nudge-dev/nudge", "github.com/nudge-dev/nudge/kernel/cmd/nudge"
+	out, err := exec.Command("go", "list", "-f", "{{.ImportPath}} {{join .Imports \" \"}}", module+"/...").Output()
+	if err != nil {
+		t.Fatalf("go list: %v", err)
+	}
+	var sensPkgs int
+	for _, line := range strings.Split(strings.TrimSpace(string(out)), "\n") {
+		f := strings.Fields(line)
+		pkg, imports := f[0], f[1:]
+		if slices.Contains(imports, module+"/kernel") && pkg != binary {
+			t.Errorf("%s imports kernel: only the binary may", pkg)
+		}
+		if pkg == module+"/sens" || strings.HasPrefix(pkg, module+"/sens/") {
+			sensPkgs++
+			if slices.Contains(deps(pkg), "testing") {
+				t.Errorf("%s imports testing (directly or through its imports)", pkg)
+			}
+		}
+	}
+	if sensPkgs < 5 {
+		t.Errorf("go list found %d packages under sens", sensPkgs)
 	}
 }
 
