@@ -438,7 +438,8 @@ func TestCurrency(t *testing.T) {
 	if eur != MustParse("EUR") || usd != MustParse("$") {
 		t.Error("Currency and Parse should agree")
 	}
-	// Common ISO 4217 codes (from memory) are all accepted.
+	// Common ISO 4217 codes are all accepted (each checked present in
+	// ISO 4217 as Debian's iso-codes 4.15.0 lists it, iso_4217.json).
 	for _, code := range []string{"USD", "EUR", "GBP", "JPY", "CHF", "CNY", "CAD", "AUD", "SEK", "INR", "XAU"} {
 		if u, err := Parse(code); err != nil || u.Dim != currencyDim(code) {
 			t.Errorf("Parse(%q) = %v, %v; want a currency", code, u, err)
