@@ -1,8 +1,6 @@
 package tape
 
-import (
-	"fmt"
-)
+import "fmt"
 
 // check returns the domain error, if any, behind the outputs outs: bad
 // says a guard operation saw a non-finite operand. vals holds node k of

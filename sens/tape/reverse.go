@@ -1,8 +1,6 @@
 package tape
 
-import (
-	"fmt"
-)
+import "fmt"
 
 // Reverse runs the reverse (adjoint) pass for output i over the values
 // of the last Forward, Eval or Gradient for that output, and stores

@@ -737,9 +737,10 @@ func TestTapeOutputsThatAreInputsOrConstants(t *testing.T) {
 	}
 }
 
-func TestTapeStepOps(t *testing.T) {
+// StepOps and InputDeps trace through both branches of an if.
+func TestTapeStepOpsAndInputDeps(t *testing.T) {
 	b := NewBuilder()
-	x, y := b.Input(), b.Input()
+	x, y, z := b.Input(), b.Input(), b.Input()
 	b.SetPos(10)
 	fl := b.Unary(OpFloor, x)
 	b.SetPos(20)
@@ -749,10 +750,15 @@ func TestTapeStepOps(t *testing.T) {
 	b.SetPos(40)
 	sel := b.Call(OpIf, cond, smooth, fl)
 	b.SetPos(50)
-	tp := b.Tape(sel, smooth, b.Binary(OpAdd, smooth, fl))
-	for i, want := range [][]int32{{10, 30, 40}, nil, {10}} {
+	tp := b.Tape(sel, smooth, b.Binary(OpAdd, smooth, fl), b.Unary(OpExp, z), fl)
+	for i, want := range [][]int32{{10, 30, 40}, nil, {10}, nil, {10}} {
 		if got := tp.StepOps(i); !slices.Equal(got, want) {
 			t.Errorf("StepOps(%d) = %v, want %v", i, got, want)
+		}
+	}
+	for i, want := range [][]int{{0, 1}, {0, 1}, {0, 1}, {2}, {0}} {
+		if got := tp.InputDeps(i); !slices.Equal(got, want) {
+			t.Errorf("InputDeps(%d) = %v, want %v", i, got, want)
 		}
 	}
 }

@@ -2,26 +2,15 @@ package tape
 
 import "slices"
 
+// Tracing: what an output depends on, through every branch of every if.
+
 // InputDeps returns the inputs (by index, ascending) that output i depends
-// on, by one backward pass over the tape that marks every node the output
-// reaches.
+// on.
 func (t *Tape) InputDeps(i int) []int {
 	p := t.p
-	out := int(p.outs[i])
-	mark := make([]bool, out+1)
-	mark[out] = true
-	for k := out; k >= p.start; k-- {
-		if !mark[k] {
-			continue
-		}
-		mark[p.a[k]] = true
-		mark[p.b[k]] = true
-		if p.ops[k].Arity() == 3 {
-			mark[p.a[k+1]] = true
-		}
-	}
+	mark := p.reach(i)
 	var deps []int
-	for k := 0; k < p.nIn && k <= out; k++ {
+	for k := 0; k < p.nIn && k < len(mark); k++ {
 		if mark[k] {
 			deps = append(deps, k)
 		}
@@ -35,24 +24,32 @@ func (t *Tape) InputDeps(i int) []int {
 // jumps and its derivative says nothing about the jump.
 func (t *Tape) StepOps(i int) []int32 {
 	p := t.p
-	out := int(p.outs[i])
-	mark := make([]bool, out+1)
-	mark[out] = true
+	mark := p.reach(i)
 	var pos []int32
-	for k := out; k >= p.start; k-- {
-		if !mark[k] {
-			continue
-		}
-		op := p.ops[k]
-		if op.IsStep() {
+	for k := p.start; k < len(mark); k++ {
+		if mark[k] && p.ops[k].IsStep() {
 			pos = append(pos, p.pos[k])
-		}
-		mark[p.a[k]] = true
-		mark[p.b[k]] = true
-		if op.Arity() == 3 {
-			mark[p.a[k+1]] = true
 		}
 	}
 	slices.Sort(pos)
 	return slices.Compact(pos)
+}
+
+// reach marks, by one backward pass, every node that output i depends on;
+// the marks run up to the output's node.
+func (p *tapeProg) reach(i int) []bool {
+	out := int(p.outs[i])
+	mark := make([]bool, out+1)
+	mark[out] = true
+	for k := out; k >= p.start; k-- {
+		if !mark[k] {
+			continue
+		}
+		mark[p.a[k]] = true
+		mark[p.b[k]] = true
+		if p.ops[k].Arity() == 3 {
+			mark[p.a[k+1]] = true
+		}
+	}
+	return mark
 }
