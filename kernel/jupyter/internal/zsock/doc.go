@@ -41,12 +41,22 @@
 //     Property.Write slices past the end of a truncated metadata
 //     property; both run during the handshake, so one malformed
 //     handshake took the whole process down.
+//   - Conn.read, which the handshake uses to read the peer's READY
+//     command, allocates a frame's announced size before any of its body
+//     arrives, and appends frames for as long as the MORE flag is set: a
+//     greeting and nine bytes announcing 2^40 bytes made the process die
+//     of a fatal out-of-memory error.
 //   - zmq4 logs to standard error unless given a logger.
 //
 // # What this package does instead
 //
 //   - The handshake of each new connection runs on its own goroutine
-//     under HandshakeTimeout, with zmq4's panics recovered.
+//     under HandshakeTimeout, with zmq4's panics recovered. zmq4 reads
+//     through a guard that lets through the 64-byte greeting and one
+//     command frame of at most MaxHandshakeFrame bytes (16 KiB), checked
+//     before zmq4 sees the size, and nothing else.
+//   - A socket has at most MaxPeers connections (default 256), those in
+//     their handshake included; more are closed at once.
 //   - Each peer has a queue bounded by QueueMsgs and QueueBytes; when a
 //     new message does not fit, the peer's oldest queued messages are
 //     dropped (counted in Stats and PeerStats, logged once per episode),
@@ -63,8 +73,21 @@
 //   - Close flushes the queues, half-closes each connection and waits for
 //     the peer to read to the end and hang up, each wait bounded by the
 //     linger given, before it closes everything.
-//   - Incoming messages are bounded by MaxMsgBytes, and memory is
-//     allocated as bytes arrive, not as a frame header announces.
+//   - Incoming messages are bounded by MaxMsgBytes, counting FrameOverhead
+//     (96 bytes) per frame besides its body, so that a stream of empty
+//     frames costs as much as the memory it takes; memory is allocated
+//     as bytes arrive, not as a frame header announces.
+//   - All incoming messages of a socket, being read or read and not yet
+//     taken, are bounded together by MaxInBytes (default twice
+//     MaxMsgBytes), counted before each frame body is read. When a frame
+//     does not fit, the peer with the largest unfinished message is
+//     dropped if that message is larger than the one asking would
+//     become; otherwise the asking peer waits up to StallTimeout and is
+//     dropped. Memory for incoming data is therefore bounded whatever
+//     the number of peers, and peers that start large messages and stall
+//     cannot lock out the small messages of others (they can still make
+//     a large message of another peer fail: a local denial of service
+//     that only a limit on who may connect can prevent).
 //
 // Limits: the greeting announces ZMTP 3.0 (zmq4's version), so peers
 // subscribe with 3.0 subscription messages; the 3.1 SUBSCRIBE and CANCEL

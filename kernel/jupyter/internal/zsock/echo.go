@@ -30,10 +30,12 @@ func ListenEcho(ctx context.Context, endpoint, id string, opts *Options) (*Echo,
 func (*Echo) attach(*peer) bool { return true }
 func (*Echo) detach(*peer)      {}
 
-func (*Echo) message(p *peer, frames [][]byte, isCmd bool) {
-	if isCmd {
+func (*Echo) message(p *peer, m inMsg) {
+	defer m.done()
+	if m.isCmd {
 		return
 	}
-	segs, size := Encode(frames)
+	// The echo is counted in the peer's send queue from here on.
+	segs, size := Encode(m.frames)
 	p.enqueue(segs, size)
 }

@@ -2,7 +2,6 @@ package zsock
 
 import (
 	"bufio"
-	"bytes"
 	"encoding/binary"
 	"errors"
 	"fmt"
@@ -96,38 +95,45 @@ func WriteCommand(w io.Writer, name string, data []byte) error {
 	return err
 }
 
+// FrameOverhead is what one frame costs the reader beyond its body: the
+// slice header that holds it (twice over while the list of frames grows,
+// and once more when a socket prefixes a routing identity), rounded up.
+// It is counted against a message's size limit, so that a stream of empty
+// frames (two bytes each on the wire) cannot grow memory without bound.
+const FrameOverhead = 96
+
 // ReadMsg reads one message (all its frames) from r. A command frame is
-// returned as a single frame with isCmd set. max bounds the total size of
-// the message's frames; memory is allocated as bytes arrive, so a peer
-// that announces a huge frame and sends nothing costs nothing.
+// returned as a single frame with isCmd set. max bounds the size of the
+// message: the sum of its frame bodies plus FrameOverhead per frame.
+// Memory is allocated as bytes arrive, not as a frame header announces,
+// so a peer that announces a huge frame and sends nothing costs nothing.
 func ReadMsg(r *bufio.Reader, max int64) (frames [][]byte, isCmd bool, err error) {
+	return readMsg(r, max, nil)
+}
+
+// readMsg is ReadMsg with a charge, called with each frame's cost (body
+// plus FrameOverhead) before any of it is allocated; an error from charge
+// ends the read with that error.
+func readMsg(r *bufio.Reader, max int64, charge func(int64) error) (frames [][]byte, isCmd bool, err error) {
 	var total int64
 	for {
-		flags, err := r.ReadByte()
+		flags, size, err := readHeader(r)
 		if err != nil {
+			if len(frames) > 0 {
+				err = noEOF(err)
+			}
 			return nil, false, err
 		}
-		if flags&^(flagMore|flagLong|flagCommand) != 0 {
-			return nil, false, fmt.Errorf("zsock: reserved frame flags set: %#x", flags)
-		}
-		var size uint64
-		if flags&flagLong != 0 {
-			var b [8]byte
-			if _, err := io.ReadFull(r, b[:]); err != nil {
-				return nil, false, noEOF(err)
-			}
-			size = binary.BigEndian.Uint64(b[:])
-		} else {
-			b, err := r.ReadByte()
-			if err != nil {
-				return nil, false, noEOF(err)
-			}
-			size = uint64(b)
-		}
-		if size > uint64(max-total) {
+		cost := size + FrameOverhead
+		if size > uint64(max) || cost > uint64(max-total) {
 			return nil, false, ErrTooLarge
 		}
-		total += int64(size)
+		total += int64(cost)
+		if charge != nil {
+			if err := charge(int64(cost)); err != nil {
+				return nil, false, err
+			}
+		}
 		body, err := readBody(r, int64(size))
 		if err != nil {
 			return nil, false, noEOF(err)
@@ -145,18 +151,54 @@ func ReadMsg(r *bufio.Reader, max int64) (frames [][]byte, isCmd bool, err error
 	}
 }
 
+// readHeader reads a frame's flags and announced body size. The flags
+// are checked; the size is not.
+func readHeader(r *bufio.Reader) (flags byte, size uint64, err error) {
+	flags, err = r.ReadByte()
+	if err != nil {
+		return 0, 0, err
+	}
+	if flags&^(flagMore|flagLong|flagCommand) != 0 {
+		return 0, 0, fmt.Errorf("zsock: reserved frame flags set: %#x", flags)
+	}
+	if flags&flagLong != 0 {
+		var b [8]byte
+		if _, err := io.ReadFull(r, b[:]); err != nil {
+			return 0, 0, noEOF(err)
+		}
+		return flags, binary.BigEndian.Uint64(b[:]), nil
+	}
+	b, err := r.ReadByte()
+	if err != nil {
+		return 0, 0, noEOF(err)
+	}
+	return flags, uint64(b), nil
+}
+
+// readBody reads a body of the given size. Up to 1 MiB it is allocated at
+// once; a larger body grows by doubling as bytes arrive, to exactly size,
+// so the peak while it grows is 1.5 times the body.
 func readBody(r io.Reader, size int64) ([]byte, error) {
-	if size <= 1<<20 {
+	const step = 1 << 20
+	if size <= step {
 		b := make([]byte, size)
 		_, err := io.ReadFull(r, b)
 		return b, err
 	}
-	var buf bytes.Buffer
-	n, err := io.CopyN(&buf, r, size)
-	if err == nil && n != size {
-		err = io.ErrUnexpectedEOF
+	b := make([]byte, 0, step)
+	for int64(len(b)) < size {
+		if len(b) == cap(b) {
+			nb := make([]byte, len(b), min(2*int64(cap(b)), size))
+			copy(nb, b)
+			b = nb
+		}
+		n, err := io.ReadFull(r, b[len(b):cap(b)])
+		b = b[:len(b)+n]
+		if err != nil {
+			return nil, err
+		}
 	}
-	return buf.Bytes(), err
+	return b, nil
 }
 
 func noEOF(err error) error {

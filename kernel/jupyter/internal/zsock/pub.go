@@ -71,11 +71,13 @@ func (*Pub) detach(*peer) {}
 // first byte is 1 (subscribe) or 0 (unsubscribe) followed by the topic
 // prefix; in ZMTP 3.1 the SUBSCRIBE and CANCEL commands. Anything else a
 // subscriber sends is ignored.
-func (s *Pub) message(p *peer, frames [][]byte, isCmd bool) {
+func (s *Pub) message(p *peer, m inMsg) {
+	defer m.done()
+	frames := m.frames
 	var sub bool
 	var topic []byte
 	switch {
-	case isCmd:
+	case m.isCmd:
 		name, data, ok := ParseCommand(frames[0])
 		if !ok {
 			return

@@ -19,13 +19,13 @@ type Router struct {
 	mu   sync.RWMutex
 	byID map[string]*peer
 	seq  uint32
-	in   chan [][]byte
+	in   chan inMsg
 }
 
 // ListenRouter binds a ROUTER socket to endpoint (tcp://host:port or
 // ipc://path). id is the identity announced in the handshake.
 func ListenRouter(ctx context.Context, endpoint, id string, opts *Options) (*Router, error) {
-	r := &Router{byID: make(map[string]*peer), in: make(chan [][]byte, 64)}
+	r := &Router{byID: make(map[string]*peer), in: make(chan inMsg, 64)}
 	b, err := listen(ctx, zmq4.Router, endpoint, id, opts, r)
 	if err != nil {
 		return nil, err
@@ -72,17 +72,23 @@ func (r *Router) detach(p *peer) {
 	r.mu.Unlock()
 }
 
-func (r *Router) message(p *peer, frames [][]byte, isCmd bool) {
-	if isCmd {
-		return // PING and the like are ZMTP 3.1; a 3.0 peer sends none.
+// message queues a peer's message for Recv, the sender's identity in
+// front. The message stays counted against MaxInBytes until Recv hands
+// it over.
+func (r *Router) message(p *peer, m inMsg) {
+	if m.isCmd {
+		m.done() // PING and the like are ZMTP 3.1; a 3.0 peer sends none.
+		return
 	}
-	msg := make([][]byte, 0, len(frames)+1)
+	msg := make([][]byte, 0, len(m.frames)+1)
 	msg = append(msg, []byte(p.route))
-	msg = append(msg, frames...)
+	m.frames = append(msg, m.frames...)
 	select {
-	case r.in <- msg:
+	case r.in <- m:
 	case <-p.done:
+		m.done()
 	case <-r.ctx.Done():
+		m.done()
 	}
 }
 
@@ -91,7 +97,8 @@ func (r *Router) message(p *peer, frames [][]byte, isCmd bool) {
 func (r *Router) Recv(ctx context.Context) ([][]byte, error) {
 	select {
 	case m := <-r.in:
-		return m, nil
+		m.done()
+		return m.frames, nil
 	case <-ctx.Done():
 		return nil, ctx.Err()
 	case <-r.ctx.Done():

@@ -46,9 +46,25 @@ type Options struct {
 	// BackpressureWait per stall.
 	SoftQueueBytes   int
 	BackpressureWait time.Duration
-	// MaxMsgBytes bounds one incoming message (default 256 MiB); a peer
-	// that sends more is disconnected.
+	// MaxMsgBytes bounds one incoming message, counting FrameOverhead
+	// for each frame (default 64 MiB); a peer that sends more is
+	// disconnected.
 	MaxMsgBytes int64
+	// MaxInBytes bounds the incoming bytes the socket holds at once over
+	// all its peers: messages being read and messages read but not yet
+	// handled (default twice MaxMsgBytes). A frame is counted before its
+	// body is read. When a frame does not fit, the peer with the largest
+	// unfinished message is disconnected to make room if that message is
+	// larger than the one asking would become; otherwise the asking peer
+	// waits up to StallTimeout for room and is then disconnected. So a
+	// peer that starts a large message and never finishes it cannot
+	// lock out the small messages of others, and memory stays bounded
+	// whatever the number of peers.
+	MaxInBytes int64
+	// MaxPeers bounds the connections of the socket, those still in their
+	// handshake included (default 256). A connection beyond it is closed
+	// at once.
+	MaxPeers int
 }
 
 func (o *Options) withDefaults() Options {
@@ -78,7 +94,13 @@ func (o *Options) withDefaults() Options {
 		d.BackpressureWait = time.Second
 	}
 	if d.MaxMsgBytes <= 0 {
-		d.MaxMsgBytes = 256 << 20
+		d.MaxMsgBytes = 64 << 20
+	}
+	if d.MaxInBytes <= 0 {
+		d.MaxInBytes = 2 * d.MaxMsgBytes
+	}
+	if d.MaxPeers <= 0 {
+		d.MaxPeers = 256
 	}
 	return d
 }
@@ -88,26 +110,47 @@ var (
 	ErrClosed      = errors.New("zsock: socket closed")
 	ErrUnknownPeer = errors.New("zsock: no connected peer with that identity")
 	ErrQueueFull   = errors.New("zsock: peer queue full, older messages dropped")
+	// ErrEvicted and ErrNoRoom end a peer's connection when the socket's
+	// incoming bytes reach MaxInBytes (see Options.MaxInBytes).
+	ErrEvicted = errors.New("zsock: disconnected to make room for smaller messages of other peers")
+	ErrNoRoom  = errors.New("zsock: no room for the message within MaxInBytes")
 )
 
 // Stats counts what a socket has done; all fields are totals since Listen.
 type Stats struct {
 	Accepted      uint64 // connections that completed the handshake
-	Rejected      uint64 // connections closed during the handshake
+	Rejected      uint64 // connections closed during the handshake or over MaxPeers
 	Dropped       uint64 // messages dropped for a full peer queue
 	Disconnected  uint64 // peers dropped for a stalled write or bad input
 	Peers         int    // peers connected now
 	Pending       int64  // messages queued or being written now
 	PendingBytes  int64  // bytes queued or being written now
 	MaxQueueBytes int64  // most bytes ever queued for one peer
+	Evicted       uint64 // peers dropped to keep incoming bytes within MaxInBytes
+	InBytes       int64  // incoming bytes held now (see Options.MaxInBytes)
+	MaxInBytes    int64  // most incoming bytes ever held at once
 }
 
 // kindHooks is what a socket type adds to the shared connection handling.
 type kindHooks interface {
-	attach(p *peer) bool                          // a peer finished its handshake
-	message(p *peer, frames [][]byte, isCmd bool) // a peer sent a message
-	detach(p *peer)                               // a peer is gone
+	attach(p *peer) bool // a peer finished its handshake
+	// message hands over a message a peer sent; the hook calls m.done
+	// once it no longer holds the message.
+	message(p *peer, m inMsg)
+	detach(p *peer) // a peer is gone
 }
+
+// inMsg is a received message and the bytes it is counted for against
+// Options.MaxInBytes until done is called.
+type inMsg struct {
+	frames [][]byte
+	isCmd  bool
+	cost   int64
+	b      *base
+}
+
+// done releases the message's count.
+func (m inMsg) done() { m.b.release(m.cost) }
 
 // base owns a listener and its peers. Every peer has one reader and one
 // writer goroutine; nothing a peer does blocks another peer.
@@ -134,6 +177,13 @@ type base struct {
 	dropped      atomic.Uint64
 	disconnected atomic.Uint64
 	maxQueue     atomic.Int64
+	evicted      atomic.Uint64
+	conns        atomic.Int64 // connections open, handshakes included
+
+	inMu    sync.Mutex
+	inUsed  int64         // incoming bytes held (Options.MaxInBytes)
+	inMax   int64         // most ever held
+	inFreed chan struct{} // closed and replaced whenever inUsed falls
 
 	closeOnce sync.Once
 }
@@ -160,6 +210,8 @@ func listen(ctx context.Context, typ zmq4.SocketType, endpoint, id string, opts 
 		ep:    endpoint,
 		hooks: hooks,
 		peers: make(map[*peer]struct{}),
+
+		inFreed: make(chan struct{}),
 	}
 	b.ctx, b.cancel = context.WithCancel(ctx)
 	return b, nil
@@ -229,6 +281,12 @@ func (b *base) acceptLoop() {
 			continue
 		}
 		delay = 5 * time.Millisecond
+		if b.conns.Add(1) > int64(b.opts.MaxPeers) {
+			b.conns.Add(-1)
+			b.rejected.Add(1)
+			conn.Close()
+			continue
+		}
 		// The handshake runs on its own goroutine under a deadline, so a
 		// connection that never speaks cannot hold up the next Accept.
 		b.wg.Add(1)
@@ -241,8 +299,9 @@ func (b *base) handshake(conn net.Conn) {
 	stop := context.AfterFunc(b.ctx, func() { conn.SetDeadline(time.Now()) })
 	defer stop()
 	conn.SetDeadline(time.Now().Add(b.opts.HandshakeTimeout))
-	zc, err := openZMTP(conn, b.typ, b.id)
+	br, identity, err := serverHandshake(conn, b.typ, b.id)
 	if err != nil {
+		b.conns.Add(-1)
 		b.rejected.Add(1)
 		// A peer that hangs up during the greeting (a client closing its
 		// channels while it connects) is routine, not worth a log line.
@@ -254,20 +313,22 @@ func (b *base) handshake(conn net.Conn) {
 	}
 	conn.SetDeadline(time.Time{})
 	if !stop() { // socket closing
+		b.conns.Add(-1)
 		conn.Close()
 		return
 	}
 	p := &peer{
 		b:        b,
 		conn:     conn,
-		r:        bufio.NewReaderSize(conn, 64<<10),
-		identity: []byte(zc.Peer.Meta["Identity"]),
+		r:        br,
+		identity: identity,
 		wake:     make(chan struct{}, 1),
 		done:     make(chan struct{}),
 	}
 	b.mu.Lock()
 	if b.ctx.Err() != nil {
 		b.mu.Unlock()
+		b.conns.Add(-1)
 		conn.Close()
 		return
 	}
@@ -283,17 +344,26 @@ func (b *base) handshake(conn net.Conn) {
 	go p.writeLoop()
 }
 
-// openZMTP runs zmq4's greeting and NULL-security handshake. zmq4 panics
-// on some malformed handshakes (an unknown Socket-Type, a truncated
-// metadata property); a bad peer must not take the process down, so the
-// panic becomes an error here.
-func openZMTP(conn net.Conn, typ zmq4.SocketType, id string) (zc *zmq4.Conn, err error) {
+// serverHandshake runs the ZMTP greeting and NULL handshake on a new
+// connection (zmq4 does it, behind a guardConn that bounds what it
+// reads) and returns the peer's buffered reader, to go on reading
+// messages with, and its identity. zmq4 panics on some malformed
+// handshakes (an unknown Socket-Type, a truncated metadata property); a
+// bad peer must not take the process down, so the panic becomes an error.
+func serverHandshake(conn net.Conn, typ zmq4.SocketType, id string) (r *bufio.Reader, identity []byte, err error) {
 	defer func() {
-		if r := recover(); r != nil {
-			zc, err = nil, fmt.Errorf("malformed handshake: %v", r)
+		if v := recover(); v != nil {
+			r, identity, err = nil, nil, fmt.Errorf("malformed handshake: %v", v)
 		}
 	}()
-	return zmq4.Open(conn, null.Security(), typ, zmq4.SocketIdentity(id), true, nil)
+	// 4 KiB: a peer's reader buffers headers and small frames; large
+	// bodies are read past it, straight into their own memory.
+	r = bufio.NewReaderSize(conn, 4096)
+	zc, err := zmq4.Open(newGuard(conn, r), null.Security(), typ, zmq4.SocketIdentity(id), true, nil)
+	if err != nil {
+		return nil, nil, err
+	}
+	return r, []byte(zc.Peer.Meta["Identity"]), nil
 }
 
 // Stats reports the socket's counters.
@@ -301,6 +371,9 @@ func (b *base) Stats() Stats {
 	b.mu.Lock()
 	n := len(b.peers)
 	b.mu.Unlock()
+	b.inMu.Lock()
+	in, inMax := b.inUsed, b.inMax
+	b.inMu.Unlock()
 	return Stats{
 		Accepted:      b.accepted.Load(),
 		Rejected:      b.rejected.Load(),
@@ -310,6 +383,9 @@ func (b *base) Stats() Stats {
 		Pending:       b.pending.Load(),
 		PendingBytes:  b.pendingBytes.Load(),
 		MaxQueueBytes: b.maxQueue.Load(),
+		Evicted:       b.evicted.Load(),
+		InBytes:       in,
+		MaxInBytes:    inMax,
 	}
 }
 
@@ -419,6 +495,11 @@ type peer struct {
 	progress chan struct{} // closed and replaced after every write
 
 	lastWrite atomic.Int64 // UnixNano of the last write progress
+
+	// Guarded by b.inMu: bytes counted for the message being read, and
+	// whether the peer was chosen to make room (Options.MaxInBytes).
+	inHeld  int64
+	evicted bool
 
 	wake chan struct{}
 	done chan struct{}
@@ -607,17 +688,105 @@ func (p *peer) write(segs net.Buffers) error {
 
 func (p *peer) readLoop() {
 	defer p.b.wg.Done()
+	charge := func(n int64) error { return p.b.charge(p, n) }
 	for {
-		frames, isCmd, err := ReadMsg(p.r, p.b.opts.MaxMsgBytes)
+		frames, isCmd, err := readMsg(p.r, p.b.opts.MaxMsgBytes, charge)
+		cost := p.b.takeHeld(p)
 		if err != nil {
-			if !isDisconnect(err) {
+			p.b.release(cost)
+			if !isDisconnect(err) && err != ErrEvicted {
 				p.b.disconnected.Add(1)
 			}
 			p.close(err)
 			return
 		}
-		p.b.hooks.message(p, frames, isCmd)
+		p.b.hooks.message(p, inMsg{frames, isCmd, cost, p.b})
 	}
+}
+
+// charge counts n more incoming bytes for p's message against
+// MaxInBytes, making room as Options.MaxInBytes describes.
+func (b *base) charge(p *peer, n int64) error {
+	deadline := time.Now().Add(b.opts.StallTimeout)
+	for {
+		b.mu.Lock()
+		peers := make([]*peer, 0, len(b.peers))
+		for q := range b.peers {
+			peers = append(peers, q)
+		}
+		b.mu.Unlock()
+
+		b.inMu.Lock()
+		if p.evicted {
+			b.inMu.Unlock()
+			return ErrEvicted
+		}
+		if b.inUsed+n <= b.opts.MaxInBytes {
+			b.inUsed += n
+			p.inHeld += n
+			b.inMax = max(b.inMax, b.inUsed)
+			b.inMu.Unlock()
+			return nil
+		}
+		var victim *peer
+		for _, q := range peers {
+			if q != p && !q.evicted && q.inHeld > p.inHeld+n && (victim == nil || q.inHeld > victim.inHeld) {
+				victim = q
+			}
+		}
+		if victim != nil {
+			victim.evicted = true
+		}
+		freed := b.inFreed
+		b.inMu.Unlock()
+
+		if victim != nil {
+			b.evicted.Add(1)
+			b.log.Printf("zsock %s: incoming bytes at the limit of %d: dropping peer %s, which holds the largest unfinished message",
+				b.typ, b.opts.MaxInBytes, victim.conn.RemoteAddr())
+			victim.close(ErrEvicted)
+		}
+		// Wait for room: the victim's reader, or a handler done with a
+		// message, gives bytes back.
+		wait := time.Until(deadline)
+		if wait <= 0 {
+			return ErrNoRoom
+		}
+		t := time.NewTimer(wait)
+		select {
+		case <-freed:
+		case <-t.C:
+		case <-p.done:
+			t.Stop()
+			return ErrClosed
+		case <-b.ctx.Done():
+			t.Stop()
+			return ErrClosed
+		}
+		t.Stop()
+	}
+}
+
+// takeHeld ends the count of p's unfinished message and returns it; the
+// bytes stay counted until released.
+func (b *base) takeHeld(p *peer) int64 {
+	b.inMu.Lock()
+	defer b.inMu.Unlock()
+	n := p.inHeld
+	p.inHeld = 0
+	return n
+}
+
+// release gives back n incoming bytes.
+func (b *base) release(n int64) {
+	if n == 0 {
+		return
+	}
+	b.inMu.Lock()
+	b.inUsed -= n
+	close(b.inFreed)
+	b.inFreed = make(chan struct{})
+	b.inMu.Unlock()
 }
 
 // isDisconnect reports whether err is just the peer going away (or the
@@ -651,6 +820,7 @@ func (p *peer) close(why error) {
 	p.b.mu.Lock()
 	delete(p.b.peers, p)
 	p.b.mu.Unlock()
+	p.b.conns.Add(-1)
 	p.b.hooks.detach(p)
 	if !isDisconnect(why) {
 		p.b.log.Printf("zsock %s: dropped peer %s: %v", p.b.typ, p.conn.RemoteAddr(), why)

@@ -92,7 +92,7 @@ func TestReadMsgErrors(t *testing.T) {
 		{"empty", nil, io.EOF},
 		{"truncated size", []byte{0x02, 0, 0}, io.ErrUnexpectedEOF},
 		{"truncated body", []byte{0x00, 5, 'a'}, io.ErrUnexpectedEOF},
-		{"truncated after more", []byte{0x01, 1, 'a'}, io.EOF},
+		{"truncated after more", []byte{0x01, 1, 'a'}, io.ErrUnexpectedEOF},
 		{"huge announced size", long(1 << 62), ErrTooLarge},
 		{"over the limit in parts", append([]byte{0x01, 200}, make([]byte, 200)...), ErrTooLarge},
 	}
@@ -234,16 +234,19 @@ func TestPubSubscriptions(t *testing.T) {
 	var pr peer
 	pr.topics = map[string]int{}
 	pub := &Pub{}
-	pub.message(&pr, [][]byte{append([]byte{9}, "SUBSCRIBE"...)}, true)
-	pub.message(&pr, [][]byte{append(append([]byte{9}, "SUBSCRIBE"...), "a"...)}, true)
+	msg := func(frame []byte, isCmd bool) inMsg {
+		return inMsg{frames: [][]byte{frame}, isCmd: isCmd, b: &base{inFreed: make(chan struct{})}}
+	}
+	pub.message(&pr, msg(append([]byte{9}, "SUBSCRIBE"...), true))
+	pub.message(&pr, msg(append(append([]byte{9}, "SUBSCRIBE"...), "a"...), true))
 	if !pr.subscribed("anything") {
 		t.Error("SUBSCRIBE to everything not recorded")
 	}
-	pub.message(&pr, [][]byte{append([]byte{6}, "CANCEL"...)}, true)
+	pub.message(&pr, msg(append([]byte{6}, "CANCEL"...), true))
 	if pr.subscribed("b") || !pr.subscribed("ab") {
 		t.Errorf("after CANCEL: %v", pr.topics)
 	}
-	pub.message(&pr, [][]byte{{0, 'a'}}, false)
+	pub.message(&pr, msg([]byte{0, 'a'}, false))
 	if pr.subscribed("ab") {
 		t.Errorf("after unsubscribe: %v", pr.topics)
 	}
