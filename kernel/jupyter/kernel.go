@@ -50,8 +50,19 @@ type Options struct {
 	// for BackpressureWait is not waited for.
 	SoftQueueBytes   int
 	BackpressureWait time.Duration
-	// MaxMsgBytes bounds one incoming message (default 256 MiB).
+	// MaxMsgBytes bounds one incoming message on shell, counting 96 bytes
+	// per frame besides its body (default 64 MiB). Control and stdin take
+	// at most 1 MiB, iopub (subscriptions) and the heartbeat 64 KiB.
 	MaxMsgBytes int64
+	// MaxInBytes bounds the incoming bytes one channel holds at once over
+	// all its clients, read but not yet handled or still arriving
+	// (default twice the channel's MaxMsgBytes). When a message does not
+	// fit, the client with the largest unfinished message is
+	// disconnected if that message is larger, else the client asking.
+	MaxInBytes int64
+	// MaxPeers bounds the connections of each channel, handshakes
+	// included (default 256); more are closed at once.
+	MaxPeers int
 	// Linger bounds each of the two waits at shutdown: for queued
 	// messages to be written, then for clients to read to the end
 	// (default 500ms).
@@ -160,7 +171,15 @@ func (k *Kernel) bind(o *Options) error {
 		SoftQueueBytes:   o.SoftQueueBytes,
 		BackpressureWait: o.BackpressureWait,
 		MaxMsgBytes:      o.MaxMsgBytes,
+		MaxInBytes:       o.MaxInBytes,
+		MaxPeers:         o.MaxPeers,
 	}
+	// Only shell carries large messages (a cell's code); the other
+	// channels get tight bounds, so that a client cannot park memory
+	// there before its first signed message is checked.
+	control := narrow(zo, 1<<20, 0)
+	subs := narrow(zo, 64<<10, 0)
+	hb := narrow(zo, 64<<10, 256<<10)
 	taken := map[int]bool{}
 	for _, p := range k.ci.ports() {
 		taken[*p.port] = true
@@ -183,27 +202,45 @@ func (k *Kernel) bind(o *Options) error {
 		return err
 	}
 	realPort(&k.ci.ShellPort, k.shell.Addr())
-	if k.iopub, err = zsock.ListenPub(k.root, endpoint(&k.ci.IOPubPort), "iopub", zo); err != nil {
+	if k.iopub, err = zsock.ListenPub(k.root, endpoint(&k.ci.IOPubPort), "iopub", subs); err != nil {
 		k.closeSockets(0)
 		return err
 	}
 	realPort(&k.ci.IOPubPort, k.iopub.Addr())
-	if k.stdin, err = zsock.ListenRouter(k.root, endpoint(&k.ci.StdinPort), "stdin", zo); err != nil {
+	if k.stdin, err = zsock.ListenRouter(k.root, endpoint(&k.ci.StdinPort), "stdin", control); err != nil {
 		k.closeSockets(0)
 		return err
 	}
 	realPort(&k.ci.StdinPort, k.stdin.Addr())
-	if k.control, err = zsock.ListenRouter(k.root, endpoint(&k.ci.ControlPort), "control", zo); err != nil {
+	if k.control, err = zsock.ListenRouter(k.root, endpoint(&k.ci.ControlPort), "control", control); err != nil {
 		k.closeSockets(0)
 		return err
 	}
 	realPort(&k.ci.ControlPort, k.control.Addr())
-	if k.hb, err = zsock.ListenEcho(k.root, endpoint(&k.ci.HBPort), "hb", zo); err != nil {
+	if k.hb, err = zsock.ListenEcho(k.root, endpoint(&k.ci.HBPort), "hb", hb); err != nil {
 		k.closeSockets(0)
 		return err
 	}
 	realPort(&k.ci.HBPort, k.hb.Addr())
 	return nil
+}
+
+// narrow returns a copy of o whose incoming messages are at most maxMsg
+// bytes (or o's own bound when smaller) and, when queue > 0, whose send
+// queue per client is at most queue bytes: a heartbeat client that sends
+// pings without reading the echoes fills only a small queue.
+func narrow(o *zsock.Options, maxMsg int64, queue int) *zsock.Options {
+	n := *o
+	if n.MaxMsgBytes <= 0 || n.MaxMsgBytes > maxMsg {
+		n.MaxMsgBytes = maxMsg
+	}
+	if n.MaxInBytes > 0 {
+		n.MaxInBytes = min(n.MaxInBytes, 2*n.MaxMsgBytes)
+	}
+	if queue > 0 && (n.QueueBytes <= 0 || n.QueueBytes > queue) {
+		n.QueueBytes = queue
+	}
+	return &n
 }
 
 // Connection is the connection information with the ports actually bound.
