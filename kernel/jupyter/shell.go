@@ -165,7 +165,9 @@ func (k *Kernel) execute(m *message) (abort bool) {
 		stopOnError := req.StopOnError == nil || *req.StopOnError
 		if store {
 			k.count++
-			k.hist.add(k.count, req.Code)
+			if !k.hist.add(k.count, req.Code) {
+				k.log.Printf("jupyter: cell %d (%d bytes) is too large to keep in the history", k.count, len(req.Code))
+			}
 		}
 		n := k.count
 		if !req.Silent {
@@ -472,7 +474,12 @@ func (k *Kernel) isComplete(m *message) {
 func (k *Kernel) historyRequest(m *message) {
 	var req historyRequest
 	k.serveRequest(m, &req, func() {
-		k.reply(m, "history_reply", map[string]any{"status": "ok", "history": k.hist.query(req)})
+		h, err := k.hist.query(req)
+		if err != nil {
+			k.replyError(m, "history_reply", &ExecError{Name: "BadRequest", Value: err.Error()})
+			return
+		}
+		k.reply(m, "history_reply", map[string]any{"status": "ok", "history": h})
 	})
 }
 
