@@ -102,14 +102,14 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		name = fmt.Sprintf("cell %d", in.cells)
 	}
 	// A cell applies as a whole: when it fails, or the engine panics, the
-	// model is as it was before.
-	saved := in.Model.Clone()
+	// session is as it was before: the model and every setting (charts).
+	saved, savedOpts, savedWarned := in.Model.Clone(), in.Opts, in.warned
 	defer func() {
 		if r := recover(); r != nil {
 			err = &CellError{Errors: []*syntax.Error{{Msg: fmt.Sprintf("internal error: %v (please report this with the cell that caused it)\n%s", r, debug.Stack())}}}
 		}
 		if err != nil {
-			in.Model = saved
+			in.Model, in.Opts, in.warned = saved, savedOpts, savedWarned
 		}
 	}()
 	f, stmts, perr := syntax.Parse(name, []byte(src))
