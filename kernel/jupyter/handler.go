@@ -3,6 +3,8 @@ package jupyter
 import (
 	"context"
 	"errors"
+	"strings"
+	"unicode/utf8"
 )
 
 // Handler is the language side of a kernel: the cell interpreter plugs in
@@ -90,6 +92,15 @@ type Bundle struct {
 // Name and Value become ename and evalue, and Traceback the lines the
 // front end prints (it may carry the source line and a caret). An empty
 // Traceback is replaced by the single line "Name: Value".
+//
+// All three are sent as plain text: a terminal front end (jupyter
+// console) prints them as they come, and an error line that quotes a
+// cell could otherwise carry the cell's escape sequences into the
+// user's terminal. Control characters other than tab and newline become
+// their visible Unicode control pictures (ESC is sent as U+241B, "␛"),
+// C1 controls and invalid UTF-8 become U+FFFD; each is still one
+// character, so a caret under a quoted line stays in its column. ANSI
+// colour codes are therefore not available in tracebacks.
 type ExecError struct {
 	Name      string
 	Value     string
@@ -168,5 +179,48 @@ func errorFields(err error) (name, value string, tb []string) {
 	if len(tb) == 0 {
 		tb = []string{name + ": " + value}
 	}
-	return name, value, tb
+	clean := make([]string, len(tb))
+	for i, line := range tb {
+		clean[i] = plainText(line)
+	}
+	return plainText(name), plainText(value), clean
+}
+
+// plainText makes s safe to print on a terminal: C0 controls other than
+// tab and newline, and DEL, become their control pictures (U+2400 to
+// U+2421); C1 controls and invalid UTF-8 become U+FFFD. Text without any
+// of them is returned as it is.
+func plainText(s string) string {
+	clean := true
+	for _, r := range s {
+		if unsafeRune(r) {
+			clean = false
+			break
+		}
+	}
+	if clean {
+		return s
+	}
+	var b strings.Builder
+	b.Grow(len(s) + 8)
+	for _, r := range s {
+		switch {
+		case !unsafeRune(r):
+			b.WriteRune(r)
+		case r < 0x20:
+			b.WriteRune(0x2400 + r)
+		case r == 0x7f:
+			b.WriteRune(0x2421)
+		default:
+			b.WriteRune(utf8.RuneError)
+		}
+	}
+	return b.String()
+}
+
+// unsafeRune reports whether r may not be printed as it is: a control
+// character other than tab and newline, or an invalid byte (decoded as
+// U+FFFD, which is replaced by itself).
+func unsafeRune(r rune) bool {
+	return r < 0x20 && r != '\t' && r != '\n' || r >= 0x7f && r <= 0x9f || r == utf8.RuneError
 }

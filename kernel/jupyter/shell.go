@@ -74,17 +74,19 @@ func (k *Kernel) handleControl(m *message) {
 
 // serveRequest decodes the request content into req (when not nil) and
 // runs f between a busy and an idle status published with the request as
-// parent. Content that does not decode drops the request, logged.
-func (k *Kernel) serveRequest(m *message, req any, f func()) {
+// parent. Content that does not decode drops the request, logged, and
+// serveRequest reports false.
+func (k *Kernel) serveRequest(m *message, req any, f func()) bool {
 	if req != nil {
 		if err := json.Unmarshal(m.content, req); err != nil {
 			k.log.Printf("jupyter: %s: dropped %s with bad content: %v", m.channel, m.header.MsgType, err)
-			return
+			return false
 		}
 	}
 	k.status(m.rawHeader, "busy")
 	defer k.status(m.rawHeader, "idle")
 	f()
+	return true
 }
 
 // safe calls f and turns a panic into an error, logging the stack.
@@ -507,16 +509,25 @@ func (k *Kernel) commOpen(m *message) {
 // iopub), publishes idle, then stops the kernel; Serve flushes the queues
 // and returns. With restart the kernel exits just the same: the client
 // that asked starts a new process.
+//
+// A shutdown_request whose content does not decode (restart not a
+// boolean, content not an object) is dropped like any other request with
+// bad content: no reply, and the kernel keeps running. A request the
+// kernel could not read is not acted on, least of all by ending the
+// session and its state; and the messaging protocol lets a client that
+// gets no shutdown_reply fall back on stopping the process itself
+// (jupyter_client's KernelManager waits, then terminates it).
 func (k *Kernel) shutdown(m *message) {
 	var req struct {
 		Restart bool `json:"restart"`
 	}
-	k.serveRequest(m, &req, func() {
+	if k.serveRequest(m, &req, func() {
 		content := map[string]any{"status": "ok", "restart": req.Restart}
 		k.reply(m, "shutdown_reply", content)
 		k.publish(m.rawHeader, "shutdown_reply", content)
-	})
-	k.Stop()
+	}) {
+		k.Stop()
+	}
 }
 
 func (k *Kernel) interruptRequest(m *message) {

@@ -11,6 +11,7 @@ import (
 	"fmt"
 	"hash"
 	"sync"
+	"unicode/utf8"
 )
 
 // ProtocolVersion is the Jupyter messaging protocol version spoken.
@@ -76,9 +77,14 @@ type header struct {
 	Username string
 }
 
-// message is one received Jupyter message. Header and parent are kept as
-// the exact bytes received: a reply's parent_header is the request's
-// header byte for byte.
+// message is one received Jupyter message. The header is kept as the
+// bytes received, so a reply's parent_header is the request's header byte
+// for byte; the one exception is a header that is not valid UTF-8 (JSON
+// text must be UTF-8, RFC 8259 section 8.1), whose invalid bytes are each
+// replaced by U+FFFD. Such bytes can only sit inside JSON strings (the
+// header passed json.Valid), so the result is still the same JSON object,
+// and a client that decodes the echo as UTF-8, as jupyter_client does,
+// can read it. The signature is checked on the bytes received.
 type message struct {
 	ids       [][]byte // routing identities, echoed unchanged in replies
 	header    header
@@ -127,6 +133,9 @@ func parseMessage(frames [][]byte, s *signer) (*message, error) {
 	var h map[string]json.RawMessage
 	if err := json.Unmarshal(hdr, &h); err != nil {
 		return nil, fmt.Errorf("header: %w", err)
+	}
+	if !utf8.Valid(hdr) {
+		hdr = bytes.ToValidUTF8(hdr, []byte("\uFFFD"))
 	}
 	m := &message{
 		ids:       frames[:d],

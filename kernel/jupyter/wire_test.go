@@ -6,6 +6,7 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+	"unicode/utf8"
 )
 
 // TestSignerHMAC checks the signature against RFC 4231 test case 2 (key
@@ -216,3 +217,47 @@ type wrapErr struct{ err error }
 
 func (w wrapErr) Error() string { return "wrapped: " + w.err.Error() }
 func (w wrapErr) Unwrap() error { return w.err }
+
+// TestPlainText: what a terminal would act on becomes visible, one
+// character for one, and plain text passes unchanged.
+func TestPlainText(t *testing.T) {
+	cases := []struct{ in, want string }{
+		{"plain text, tabs\tand\nnewlines, é and 😀", "plain text, tabs\tand\nnewlines, é and 😀"},
+		{"\x1b[2J\x1b]0;title\x07", "␛[2J␛]0;title␇"},
+		{"a\rb\bc\x00d\x7f", "a␍b␈c␀d␡"},
+		{"c1 \u009b31m", "c1 \ufffd31m"},
+		{"bad \xff\xfe utf-8", "bad \ufffd\ufffd utf-8"},
+	}
+	for _, tc := range cases {
+		got := plainText(tc.in)
+		if got != tc.want {
+			t.Errorf("plainText(%q) = %q, want %q", tc.in, got, tc.want)
+		}
+		// One character for one: a caret under the line keeps its column.
+		if utf8.ValidString(tc.in) && utf8.RuneCountInString(got) != utf8.RuneCountInString(tc.in) {
+			t.Errorf("plainText(%q) changed the width: %d runes from %d", tc.in, utf8.RuneCountInString(got), utf8.RuneCountInString(tc.in))
+		}
+	}
+}
+
+// TestParseMessageInvalidUTF8Header: the parent header is the request's
+// header byte for byte when it is valid UTF-8, and otherwise the same
+// JSON with each run of invalid bytes replaced by U+FFFD.
+func TestParseMessageInvalidUTF8Header(t *testing.T) {
+	s, _ := newSigner("hmac-sha256", "k")
+	p := []byte(`{}`)
+	good := []byte(`{"msg_id":"m1", "msg_type":"kernel_info_request", "username":"zoë"}`)
+	msg, err := parseMessage(s.frames(nil, good, p, p, p, nil), s)
+	if err != nil || string(msg.rawHeader) != string(good) {
+		t.Fatalf("valid header: %q %v", msg.rawHeader, err)
+	}
+	bad := []byte("{\"msg_id\":\"m2\", \"msg_type\":\"kernel_info_request\", \"username\":\"zo\xff\xfe\"}")
+	msg, err = parseMessage(s.frames(nil, bad, p, p, p, nil), s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := "{\"msg_id\":\"m2\", \"msg_type\":\"kernel_info_request\", \"username\":\"zo\ufffd\"}"
+	if string(msg.rawHeader) != want || msg.header.MsgID != "m2" {
+		t.Errorf("invalid header echoed as %q", msg.rawHeader)
+	}
+}
