@@ -1,6 +1,7 @@
 package jupyter
 
 import (
+	"bufio"
 	"context"
 	"crypto/hmac"
 	"crypto/sha256"
@@ -29,6 +30,13 @@ import (
 
 const testKey = "a0436f6c-1916-498b-8eb9-e81ab9368e84"
 
+// hangGuard bounds every wait in these tests. It only ends a test that
+// would otherwise hang: no test asserts how long anything takes, because
+// the machine that runs them may be busy with other work (a 2-core
+// machine under -race took more than 10 seconds to deliver one message).
+// Waits are on events: a reply, a status, a closed connection.
+const hangGuard = 2 * time.Minute
+
 // fakeHandler interprets a tiny command language so that tests can drive
 // every path of the protocol layer:
 //
@@ -41,6 +49,7 @@ const testKey = "a0436f6c-1916-498b-8eb9-e81ab9368e84"
 //	sleepfail MS    sleep, then fail  spam N SIZE  N stdout chunks of SIZE bytes
 //	nanresult       unencodable result nandisplay  unencodable display
 //	late            output from a goroutine after returning
+//	escfail TEXT    an *ExecError whose value and traceback quote TEXT
 type fakeHandler struct {
 	banner string
 
@@ -54,7 +63,7 @@ type fakeHandler struct {
 // waitStarted waits until Execute has been called with code.
 func (f *fakeHandler) waitStarted(t testing.TB, code string) {
 	t.Helper()
-	timeout := time.After(10 * time.Second)
+	timeout := time.After(hangGuard)
 	for {
 		select {
 		case c := <-f.started:
@@ -137,6 +146,8 @@ func (f *fakeHandler) Execute(ctx context.Context, code string, out Output, opts
 		return &Bundle{Data: map[string]any{"application/json": math.NaN()}}, nil
 	case "nandisplay":
 		out.Display(&Bundle{Data: map[string]any{"application/json": math.Inf(1)}}, "")
+	case "escfail":
+		return nil, &ExecError{Name: "ModelError", Value: "bad: " + arg, Traceback: []string{"    " + arg, "     ^"}}
 	case "late":
 		go func() {
 			time.Sleep(50 * time.Millisecond)
@@ -244,6 +255,12 @@ func startKernel(t testing.TB, h Handler, opts *Options) *testKernel {
 	if opts.Logger == nil {
 		opts.Logger = testLogger(t)
 	}
+	if opts.Linger == 0 {
+		// Generous: Close returns as soon as the clients have read to
+		// the end and hung up, which takes milliseconds when nothing is
+		// wrong, and the final idle must not be lost on a busy machine.
+		opts.Linger = 30 * time.Second
+	}
 	ci := ConnectionInfo{Transport: "tcp", IP: "127.0.0.1", Key: testKey, SignatureScheme: "hmac-sha256"}
 	k, err := New(ci, h, opts)
 	if err != nil {
@@ -256,7 +273,7 @@ func startKernel(t testing.TB, h Handler, opts *Options) *testKernel {
 		cancel()
 		select {
 		case <-tk.done:
-		case <-time.After(10 * time.Second):
+		case <-time.After(hangGuard):
 			t.Error("Serve did not return after its context ended")
 		}
 	})
@@ -273,6 +290,7 @@ type msg struct {
 	metadata  map[string]any
 	content   map[string]any
 	rawHeader []byte
+	rawParent []byte
 }
 
 func (m *msg) typ() string      { s, _ := m.header["msg_type"].(string); return s }
@@ -327,24 +345,30 @@ func zlog(t testing.TB) zmq4.Option {
 // (a SUB only receives what is published after its subscription arrives).
 func connect(t testing.TB, tk *testKernel) *client {
 	t.Helper()
+	return connectTopic(t, tk, "")
+}
+
+// connectTopic is connect with an iopub subscription to topic only.
+func connectTopic(t testing.TB, tk *testKernel, topic string) *client {
+	t.Helper()
 	ctx := context.Background()
 	c := &client{t: t, tk: tk, key: []byte(testKey), session: newUUID()}
 	c.shell = dialSock(t, zmq4.NewDealer(ctx, zlog(t)), tk.ci.Endpoint(tk.ci.ShellPort))
 	c.control = dialSock(t, zmq4.NewDealer(ctx, zlog(t)), tk.ci.Endpoint(tk.ci.ControlPort))
-	c.iopub = c.subscribe()
+	c.iopub = c.subscribe(topic)
 	return c
 }
 
-func (c *client) subscribe() *sock {
+func (c *client) subscribe(topic string) *sock {
 	c.t.Helper()
 	sub := zmq4.NewSub(context.Background(), zlog(c.t))
-	if err := sub.SetOption(zmq4.OptionSubscribe, ""); err != nil {
+	if err := sub.SetOption(zmq4.OptionSubscribe, topic); err != nil {
 		c.t.Fatal(err)
 	}
 	s := dialSock(c.t, sub, c.tk.ci.Endpoint(c.tk.ci.IOPubPort))
 	// Slow-joiner guard, as jupyter_client does: repeat kernel_info until
 	// a status message arrives on this subscription.
-	deadline := time.Now().Add(10 * time.Second)
+	deadline := time.Now().Add(hangGuard)
 	for time.Now().Before(deadline) {
 		id := c.send(c.shell, "kernel_info_request", map[string]any{})
 		c.reply(c.shell, id)
@@ -407,7 +431,7 @@ func (c *client) decode(frames [][]byte) *msg {
 	if d < 0 || len(frames) < d+6 {
 		c.t.Fatalf("bad frames: %q", frames)
 	}
-	m := &msg{rawHeader: frames[d+2]}
+	m := &msg{rawHeader: frames[d+2], rawParent: frames[d+3]}
 	if d > 0 {
 		m.topic = string(frames[0])
 	}
@@ -450,7 +474,7 @@ func (c *client) forParent(s *sock, id string) *msg {
 		}
 	}
 	for {
-		m := c.next(s, 10*time.Second)
+		m := c.next(s, hangGuard)
 		if m.parentID() == id {
 			return m
 		}
@@ -512,6 +536,7 @@ func (c *client) execute(code string, extra map[string]any) (*msg, []*msg) {
 type rawPeer struct {
 	conn net.Conn
 	zc   *zmq4.Conn
+	r    *bufio.Reader // made by the first read
 }
 
 // dialRaw connects with a small receive buffer, so that a peer that does
@@ -533,7 +558,7 @@ func dialRaw(t testing.TB, ep string, typ zmq4.SocketType, id string, rcvbuf int
 	if err != nil {
 		t.Fatal(err)
 	}
-	conn.SetDeadline(time.Now().Add(5 * time.Second))
+	conn.SetDeadline(time.Now().Add(hangGuard))
 	zc, err := zmq4.Open(conn, null.Security(), typ, zmq4.SocketIdentity(id), false, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -545,14 +570,55 @@ func dialRaw(t testing.TB, ep string, typ zmq4.SocketType, id string, rcvbuf int
 
 func (p *rawPeer) write(frames ...[]byte) error { return zsock.WriteMsg(p.conn, frames) }
 
+// readRaw reads the next message a raw peer receives and decodes it.
+func readRaw(t testing.TB, c *client, p *rawPeer) *msg {
+	t.Helper()
+	if p.r == nil {
+		p.r = bufio.NewReader(p.conn)
+	}
+	p.conn.SetReadDeadline(time.Now().Add(hangGuard))
+	frames, _, err := zsock.ReadMsg(p.r, 64<<20)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return c.decode(frames)
+}
+
+// waitDone waits for Serve to return, with no error, and puts the result
+// back for the kernel's cleanup.
+func waitDone(t testing.TB, tk *testKernel) {
+	t.Helper()
+	select {
+	case err := <-tk.done:
+		if err != nil {
+			t.Errorf("Serve: %v", err)
+		}
+		tk.done <- nil
+	case <-time.After(hangGuard):
+		t.Fatal("Serve did not return")
+	}
+}
+
 // drainUntilClosed reads and discards until the kernel closes the
-// connection; it returns how long that took.
-func drainUntilClosed(conn net.Conn, limit time.Duration) (time.Duration, error) {
-	start := time.Now()
-	conn.SetReadDeadline(start.Add(limit))
+// connection (a reset counts); it fails only when the hang guard runs
+// out first.
+func drainUntilClosed(conn net.Conn) error {
+	conn.SetReadDeadline(time.Now().Add(hangGuard))
 	_, err := io.Copy(io.Discard, conn)
 	if ne, ok := err.(net.Error); ok && ne.Timeout() {
-		return time.Since(start), err
+		return err
 	}
-	return time.Since(start), nil
+	return nil
+}
+
+// waitFor polls cond until it holds; only the hang guard ends the wait.
+func waitFor(t *testing.T, what string, cond func() bool) {
+	t.Helper()
+	deadline := time.Now().Add(hangGuard)
+	for !cond() {
+		if time.Now().After(deadline) {
+			t.Fatalf("gave up waiting for %s", what)
+		}
+		time.Sleep(5 * time.Millisecond)
+	}
 }

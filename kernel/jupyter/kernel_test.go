@@ -381,14 +381,16 @@ func TestLateOutputDropped(t *testing.T) {
 	c.reply(c.shell, id)
 	c.iopubFor(id)
 	<-f.lateDone
-	deadline := time.After(200 * time.Millisecond)
+	// Anything the late call published went out before a request sent
+	// now, and one subscriber receives iopub in order: read up to the
+	// next request's idle.
+	next := c.send(c.shell, "kernel_info_request", map[string]any{})
 	for {
-		select {
-		case fr := <-c.iopub.in:
-			if m := c.decode(fr); m.parentID() == id {
-				t.Fatalf("output after idle: %s %v", m.typ(), m.content)
-			}
-		case <-deadline:
+		m := c.next(c.iopub, hangGuard)
+		if m.parentID() == id {
+			t.Fatalf("output after idle: %s %v", m.typ(), m.content)
+		}
+		if m.parentID() == next && m.str("execution_state") == "idle" {
 			return
 		}
 	}
@@ -400,17 +402,15 @@ func TestInterrupt(t *testing.T) {
 	c := connect(t, tk)
 	id := c.send(c.shell, "execute_request", map[string]any{"code": "block", "stop_on_error": false})
 	f.waitStarted(t, "block")
-	start := time.Now()
 	iid := c.send(c.control, "interrupt_request", map[string]any{})
 	if r := c.reply(c.control, iid); r.str("status") != "ok" || r.typ() != "interrupt_reply" {
 		t.Fatalf("interrupt_reply %v", r.content)
 	}
 	r := c.reply(c.shell, id)
+	// "block" returns only when its context ends: the reply itself is the
+	// proof that the interrupt reached the cell.
 	if r.str("status") != "error" || r.str("ename") != "Interrupted" {
 		t.Fatalf("interrupted cell: %v", r.content)
-	}
-	if d := time.Since(start); d > 2*time.Second {
-		t.Errorf("interrupt took %v", d)
 	}
 	if got := types(c.iopubFor(id)); !reflect.DeepEqual(got, []string{"status:busy", "execute_input", "error", "status:idle"}) {
 		t.Errorf("iopub %v", got)
@@ -495,15 +495,7 @@ func TestShutdown(t *testing.T) {
 			if got := types(io); !reflect.DeepEqual(got, []string{"status:busy", "shutdown_reply", "status:idle"}) {
 				t.Errorf("restart=%v trial %d: iopub %v", restart, trial, got)
 			}
-			select {
-			case err := <-tk.done:
-				if err != nil {
-					t.Errorf("Serve: %v", err)
-				}
-			case <-time.After(5 * time.Second):
-				t.Fatal("Serve did not return after shutdown_request")
-			}
-			tk.done <- nil // for the cleanup
+			waitDone(t, tk)
 		}
 	}
 }
@@ -529,7 +521,7 @@ func TestHeartbeat(t *testing.T) {
 			if len(m.Frames) != 1 || string(m.Frames[0]) != string(ping) {
 				t.Fatalf("echo %q", m.Frames)
 			}
-		case <-time.After(5 * time.Second):
+		case <-time.After(hangGuard):
 			t.Fatal("no heartbeat echo")
 		}
 	}
@@ -543,7 +535,7 @@ func TestHeartbeat(t *testing.T) {
 		if len(f) != 3 || string(f[0]) != "a" || len(f[1]) != 0 || string(f[2]) != "b" {
 			t.Fatalf("dealer echo %q", f)
 		}
-	case <-time.After(5 * time.Second):
+	case <-time.After(hangGuard):
 		t.Fatal("no dealer echo")
 	}
 }
@@ -554,7 +546,7 @@ func TestSubscriberReconnects(t *testing.T) {
 	c.execute("print one", nil)
 	c.iopub.s.Close()
 	// A new subscriber, as after a client reconnects, gets later output.
-	c.iopub = c.subscribe()
+	c.iopub = c.subscribe("")
 	_, io := c.execute("print two", nil)
 	if io[2].str("text") != "two\n" {
 		t.Errorf("after reconnect: %v", types(io))
@@ -640,7 +632,7 @@ func TestRunSignals(t *testing.T) {
 		if err != nil {
 			t.Errorf("Run: %v", err)
 		}
-	case <-time.After(5 * time.Second):
+	case <-time.After(hangGuard):
 		t.Fatal("Run did not return after SIGTERM")
 	}
 }
@@ -749,13 +741,13 @@ func TestManyExecutes(t *testing.T) {
 				pending[c.send(c.shell, "execute_request", map[string]any{"code": "result 7"})] = true
 				sent++
 			}
-			r := c.next(c.shell, 10*time.Second)
+			r := c.next(c.shell, hangGuard)
 			if !pending[r.parentID()] || r.str("status") != "ok" {
 				t.Fatalf("unexpected reply %v to %s", r.content, r.parentID())
 			}
 			delete(pending, r.parentID())
 		}
-		deadline := time.Now().Add(20 * time.Second)
+		deadline := time.Now().Add(hangGuard)
 		for idles.Load() < int64(n) && time.Now().Before(deadline) {
 			time.Sleep(10 * time.Millisecond)
 		}
@@ -792,7 +784,7 @@ func TestManyExecutes(t *testing.T) {
 			t.Errorf("kernel process: %v", err)
 		}
 		tk.done <- nil
-	case <-time.After(5 * time.Second):
+	case <-time.After(hangGuard):
 		t.Error("kernel process did not exit after shutdown_request")
 	}
 }
@@ -834,7 +826,7 @@ func BenchmarkExecuteRoundTrip(b *testing.B) {
 	b.ReportAllocs()
 	for b.Loop() {
 		id := c.send(c.shell, "execute_request", map[string]any{"code": "result 7"})
-		if r := c.next(c.shell, 10*time.Second); r.parentID() != id {
+		if r := c.next(c.shell, hangGuard); r.parentID() != id {
 			b.Fatal("wrong reply")
 		}
 	}

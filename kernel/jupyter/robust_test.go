@@ -1,8 +1,8 @@
 package jupyter
 
 import (
-	"bufio"
 	"encoding/binary"
+	"fmt"
 	"net"
 	"reflect"
 	"strings"
@@ -32,24 +32,16 @@ func peerStat(t *testing.T, s interface{ PeerStats() []zsock.PeerStat }, local n
 	return zsock.PeerStat{}, false
 }
 
-func waitFor(t *testing.T, what string, limit time.Duration, cond func() bool) {
-	t.Helper()
-	deadline := time.Now().Add(limit)
-	for !cond() {
-		if time.Now().After(deadline) {
-			t.Fatalf("timed out after %v waiting for %s", limit, what)
-		}
-		time.Sleep(5 * time.Millisecond)
-	}
-}
-
 // TestStalledSubscriber: a subscriber that stops reading neither delays
 // another subscriber nor makes the kernel's memory grow past the queue
-// bound.
+// bound. The stalled subscriber is never dropped (StallTimeout is longer
+// than the hang guard) and never reads, so the good subscriber's idle can
+// only arrive if the kernel does not wait for the stalled one: the test
+// waits for that event and asserts no time.
 func TestStalledSubscriber(t *testing.T) {
-	const queueBytes = 4 << 20
-	const chunk, chunks = 1 << 20, 40 // 40 MiB of output, ten times the queue bound
-	tk := startKernel(t, newFake(), &Options{QueueBytes: queueBytes, StallTimeout: time.Minute})
+	const queueBytes = 1 << 20
+	const chunk, chunks = 256 << 10, 40 // 10 MiB of output, ten times the queue bound
+	tk := startKernel(t, newFake(), &Options{QueueBytes: queueBytes, SoftQueueBytes: queueBytes / 4, StallTimeout: time.Hour})
 	c := connect(t, tk)
 	iopub := tk.k.socket("iopub")
 
@@ -57,11 +49,11 @@ func TestStalledSubscriber(t *testing.T) {
 	if err := stalled.write([]byte{1}); err != nil { // subscribe to everything
 		t.Fatal(err)
 	}
-	waitFor(t, "the subscription", 5*time.Second, func() bool { return tk.k.iopub.Subscribers("kernel.") == 2 })
+	waitFor(t, "the subscription", func() bool { return tk.k.iopub.Subscribers("kernel.") == 2 })
 
 	heap0 := heapInUse()
 	start := time.Now()
-	id := c.send(c.shell, "execute_request", map[string]any{"code": "spam 40 1048576"})
+	id := c.send(c.shell, "execute_request", map[string]any{"code": fmt.Sprintf("spam %d %d", chunks, chunk)})
 	if r := c.reply(c.shell, id); r.str("status") != "ok" {
 		t.Fatalf("reply %v", r.content)
 	}
@@ -74,9 +66,6 @@ func TestStalledSubscriber(t *testing.T) {
 		}
 	}
 	t.Logf("good subscriber: %d of %d chunks and idle after %v", streams, chunks, elapsed.Round(time.Millisecond))
-	if elapsed > 15*time.Second {
-		t.Errorf("the good subscriber waited %v", elapsed)
-	}
 	st, ok := peerStat(t, iopub, stalled.conn.LocalAddr())
 	if !ok {
 		t.Fatal("stalled subscriber not connected")
@@ -91,8 +80,10 @@ func TestStalledSubscriber(t *testing.T) {
 	if st.Dropped == 0 {
 		t.Error("the stalled subscriber dropped nothing: the test did not fill its queue")
 	}
-	if int(goodDropped)+streams != chunks {
-		t.Errorf("good subscriber: %d chunks received and %d dropped of %d", streams, goodDropped, chunks)
+	// Its queue was empty before the cell, so what it lost is of this
+	// cell: busy, execute_input, the chunks and idle, less what arrived.
+	if int(goodDropped)+len(io) != chunks+3 {
+		t.Errorf("good subscriber: %d messages received and %d dropped of %d", len(io), goodDropped, chunks+3)
 	}
 	// Memory: the queue bound holds, and the heap after the burst grew by
 	// no more than the stalled peer's queue plus slack.
@@ -109,36 +100,41 @@ func TestStalledSubscriber(t *testing.T) {
 }
 
 // TestStalledSubscriberIsDropped: after StallTimeout without progress the
-// subscriber is disconnected and its queue freed.
+// subscriber is disconnected and its queue freed. The good client
+// subscribes to status and replies only ("kernel."), not to the streams
+// that fill the stalled one, so however slowly it is scheduled it never
+// stalls itself.
 func TestStalledSubscriberIsDropped(t *testing.T) {
 	tk := startKernel(t, newFake(), &Options{QueueBytes: 2 << 20, StallTimeout: 300 * time.Millisecond})
-	c := connect(t, tk)
+	c := connectTopic(t, tk, "kernel.")
 	stalled := dialRaw(t, tk.ci.Endpoint(tk.ci.IOPubPort), zmq4.Sub, "stalled", 4096)
 	stalled.write([]byte{1})
-	waitFor(t, "the subscription", 5*time.Second, func() bool { return tk.k.iopub.Subscribers("kernel.") == 2 })
+	waitFor(t, "the subscription", func() bool { return tk.k.iopub.Subscribers("stream.stdout") == 1 })
 	r, _ := c.execute("spam 20 1048576", nil)
 	if r.str("status") != "ok" {
 		t.Fatal(r.content)
 	}
-	waitFor(t, "the stalled peer to be dropped", 5*time.Second, func() bool {
+	waitFor(t, "the stalled peer to be dropped", func() bool {
 		_, ok := peerStat(t, tk.k.iopub, stalled.conn.LocalAddr())
 		return !ok
 	})
 	if st := tk.k.iopub.Stats(); st.Disconnected == 0 || st.Peers != 1 {
 		t.Errorf("stats %+v", st)
 	}
-	waitFor(t, "the queue to drain", 5*time.Second, func() bool { return tk.k.iopub.Stats().PendingBytes == 0 })
-	if _, err := drainUntilClosed(stalled.conn, 5*time.Second); err != nil {
+	waitFor(t, "the queue to drain", func() bool { return tk.k.iopub.Stats().PendingBytes == 0 })
+	if err := drainUntilClosed(stalled.conn); err != nil {
 		t.Errorf("stalled connection not closed: %v", err)
 	}
 }
 
 // TestLazyShellClient: a shell client that never reads its replies does
-// not block the shell loop for another client.
+// not block the shell loop for another client. The lazy client is never
+// dropped (StallTimeout is longer than the hang guard), so the other
+// client's replies can only come if nothing waits for it.
 func TestLazyShellClient(t *testing.T) {
 	f := newFake()
 	f.banner = strings.Repeat("b", 64<<10) // 64 KiB kernel_info replies
-	tk := startKernel(t, f, &Options{QueueBytes: 2 << 20, StallTimeout: time.Minute})
+	tk := startKernel(t, f, &Options{QueueBytes: 2 << 20, StallTimeout: time.Hour})
 	c := connect(t, tk)
 	lazy := dialRaw(t, tk.ci.Endpoint(tk.ci.ShellPort), zmq4.Dealer, "lazy", 4096)
 	for range 400 { // about 26 MB of replies
@@ -157,22 +153,20 @@ func TestLazyShellClient(t *testing.T) {
 		}
 	}
 	t.Logf("10 round trips during the flood: %v", time.Since(start).Round(time.Millisecond))
-	waitFor(t, "the lazy client's queue to overflow", 30*time.Second, func() bool {
+	waitFor(t, "the lazy client's queue to overflow", func() bool {
 		st, _ := peerStat(t, tk.k.shell, lazy.conn.LocalAddr())
 		return st.Dropped > 0
 	})
 	// The lazy client is still connected with a full queue; the shell
 	// loop is not waiting for it.
-	for i := range 10 {
-		start := time.Now()
+	start = time.Now()
+	for range 10 {
 		id := c.send(c.shell, "execute_request", map[string]any{"code": "result 1"})
 		if r := c.reply(c.shell, id); r.str("status") != "ok" {
 			t.Fatalf("reply %v", r.content)
 		}
-		if d := time.Since(start); d > time.Second {
-			t.Errorf("round trip %d behind the stuck client took %v", i, d)
-		}
 	}
+	t.Logf("10 round trips behind the stuck client: %v", time.Since(start).Round(time.Millisecond))
 	if _, ok := peerStat(t, tk.k.shell, lazy.conn.LocalAddr()); !ok {
 		t.Error("the lazy client was disconnected; this test is about a connected one")
 	}
@@ -184,12 +178,11 @@ func TestLazyShellClient(t *testing.T) {
 }
 
 // TestIdleConnections: TCP connections that never speak hold up neither
-// new connections on the same ports nor anything else, and are closed
-// after HandshakeTimeout.
+// new connections on the same ports nor anything else. Their handshake
+// timeout is longer than the hang guard, so the new client can only be
+// served if the idle connections do not stand in its way.
 func TestIdleConnections(t *testing.T) {
-	const hs = 1500 * time.Millisecond
-	tk := startKernel(t, newFake(), &Options{HandshakeTimeout: hs})
-	var idle []net.Conn
+	tk := startKernel(t, newFake(), &Options{HandshakeTimeout: time.Hour})
 	for _, port := range []int{tk.ci.ShellPort, tk.ci.IOPubPort, tk.ci.ControlPort, tk.ci.StdinPort, tk.ci.HBPort} {
 		for range 3 {
 			conn, err := net.Dial("tcp", net.JoinHostPort("127.0.0.1", itoa(port)))
@@ -197,40 +190,59 @@ func TestIdleConnections(t *testing.T) {
 				t.Fatal(err)
 			}
 			defer conn.Close()
-			idle = append(idle, conn)
 		}
 	}
-	start := time.Now()
 	c := connect(t, tk)
 	if r, _ := c.execute("print through", nil); r.str("status") != "ok" {
 		t.Fatal(r.content)
 	}
 	id := c.send(c.control, "kernel_info_request", map[string]any{})
 	c.reply(c.control, id)
-	if d := time.Since(start); d >= hs {
-		t.Errorf("new connections waited %v, as long as the handshake timeout", d)
+	if st := tk.k.shell.Stats(); st.Rejected != 0 {
+		t.Errorf("shell stats %+v: the idle connections were closed", st)
+	}
+}
+
+// TestIdleConnectionsClosed: a connection that never completes its
+// handshake is closed after HandshakeTimeout, and not before.
+func TestIdleConnectionsClosed(t *testing.T) {
+	const hs = 300 * time.Millisecond
+	tk := startKernel(t, newFake(), &Options{HandshakeTimeout: hs})
+	var idle []net.Conn
+	start := time.Now()
+	for _, port := range []int{tk.ci.ShellPort, tk.ci.IOPubPort, tk.ci.HBPort} {
+		conn, err := net.Dial("tcp", net.JoinHostPort("127.0.0.1", itoa(port)))
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer conn.Close()
+		idle = append(idle, conn)
 	}
 	for _, conn := range idle {
-		d, err := drainUntilClosed(conn, 5*time.Second)
-		if err != nil {
+		if err := drainUntilClosed(conn); err != nil {
 			t.Fatalf("idle connection not closed: %v", err)
 		}
-		// It was closed by the handshake timeout, not earlier.
-		if since := time.Since(start) + d; since < hs/2 {
-			t.Errorf("idle connection closed after %v", since)
+		// A lower bound only, which a busy machine cannot break.
+		if since := time.Since(start); since < hs {
+			t.Errorf("idle connection closed after %v, before the handshake timeout", since)
 		}
 	}
-	if st := tk.k.shell.Stats(); st.Rejected < 3 {
+	if st := tk.k.shell.Stats(); st.Rejected != 1 {
 		t.Errorf("shell stats %+v", st)
 	}
 }
 
 // TestShutdownBehindStuckClients: a client whose queue is full, on shell
-// and on iopub, does not hold up shutdown or its final messages.
+// and on iopub, does not hold up shutdown or its final messages. The
+// stuck clients are never dropped (StallTimeout is longer than the hang
+// guard). A stuck client whose queue has gone into its TCP buffers looks
+// like one that is reading, and shutdown waits Linger for it to hang up:
+// 2s bounds that, and is no budget for the good client, whose final
+// messages are in its TCP buffers before the wait begins.
 func TestShutdownBehindStuckClients(t *testing.T) {
 	f := newFake()
 	f.banner = strings.Repeat("b", 64<<10)
-	tk := startKernel(t, f, &Options{QueueBytes: 1 << 20, StallTimeout: time.Minute, Linger: 300 * time.Millisecond})
+	tk := startKernel(t, f, &Options{QueueBytes: 1 << 20, StallTimeout: time.Hour, Linger: 2 * time.Second})
 	c := connect(t, tk)
 	lazy := dialRaw(t, tk.ci.Endpoint(tk.ci.ShellPort), zmq4.Dealer, "lazy", 4096)
 	for range 200 {
@@ -239,9 +251,9 @@ func TestShutdownBehindStuckClients(t *testing.T) {
 	}
 	stalled := dialRaw(t, tk.ci.Endpoint(tk.ci.IOPubPort), zmq4.Sub, "stalled", 4096)
 	stalled.write([]byte{1})
-	waitFor(t, "the subscription", 5*time.Second, func() bool { return tk.k.iopub.Subscribers("kernel.") == 2 })
+	waitFor(t, "the subscription", func() bool { return tk.k.iopub.Subscribers("kernel.") == 2 })
 	c.execute("spam 16 1048576", nil)
-	waitFor(t, "the lazy client's queue to overflow", 20*time.Second, func() bool {
+	waitFor(t, "the lazy client's queue to overflow", func() bool {
 		st, _ := peerStat(t, tk.k.shell, lazy.conn.LocalAddr())
 		return st.Dropped > 0
 	})
@@ -254,18 +266,8 @@ func TestShutdownBehindStuckClients(t *testing.T) {
 	if got := types(c.iopubFor(id)); !reflect.DeepEqual(got, []string{"status:busy", "shutdown_reply", "status:idle"}) {
 		t.Errorf("iopub %v", got)
 	}
-	select {
-	case err := <-tk.done:
-		if err != nil {
-			t.Errorf("Serve: %v", err)
-		}
-		tk.done <- nil
-	case <-time.After(5 * time.Second):
-		t.Fatal("Serve did not return")
-	}
-	if d := time.Since(start); d > 2*time.Second {
-		t.Errorf("shutdown took %v", d)
-	}
+	waitDone(t, tk)
+	t.Logf("shutdown behind two stuck clients: %v", time.Since(start).Round(time.Millisecond))
 }
 
 // TestMalformedInput: garbage never stops the kernel and runs nothing.
@@ -308,17 +310,11 @@ func TestMalformedInput(t *testing.T) {
 	// and its busy/idle the only ones on iopub.
 	sentinel, sid := c.request("kernel_info_request", map[string]any{})
 	raw.write(sentinel...)
-	raw.conn.SetReadDeadline(time.Now().Add(5 * time.Second))
-	r := bufio.NewReader(raw.conn)
-	frames, _, err := zsock.ReadMsg(r, 1<<20)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if m := c.decode(frames); m.parentID() != sid {
+	if m := readRaw(t, c, raw); m.parentID() != sid {
 		t.Fatalf("first reply is to %v", m.parent)
 	}
 	for {
-		m := c.next(c.iopub, 5*time.Second)
+		m := c.next(c.iopub, hangGuard)
 		if malformedIDs[m.parentID()] {
 			t.Fatalf("%s for a malformed message: %v", m.typ(), m.parent)
 		}
@@ -347,7 +343,7 @@ func TestMalformedInput(t *testing.T) {
 		p := dialRaw(t, ep, zmq4.Dealer, "", 0)
 		write(p)
 		if name != "command frame" {
-			if _, err := drainUntilClosed(p.conn, 5*time.Second); err != nil {
+			if err := drainUntilClosed(p.conn); err != nil {
 				t.Errorf("%s: connection not closed: %v", name, err)
 			}
 		}
@@ -385,7 +381,7 @@ func TestMalformedHandshake(t *testing.T) {
 	body = append(body, 4, 'a', 'b', 'c')
 	cmd := append([]byte{0x04, byte(len(body))}, body...)
 	conn.Write(append(greeting, cmd...))
-	drainUntilClosed(conn, 5*time.Second)
+	drainUntilClosed(conn)
 	conn.Close()
 
 	// A huge metadata value length.
@@ -394,10 +390,10 @@ func TestMalformedHandshake(t *testing.T) {
 	body = append(body, 2, 'I', 'd')
 	body = binary.BigEndian.AppendUint32(body, 0xffffffff)
 	conn.Write(append(greeting, append([]byte{0x04, byte(len(body))}, body...)...))
-	drainUntilClosed(conn, 5*time.Second)
+	drainUntilClosed(conn)
 	conn.Close()
 
-	waitFor(t, "three rejected handshakes", 5*time.Second, func() bool { return tk.k.shell.Stats().Rejected >= 3 })
+	waitFor(t, "three rejected handshakes", func() bool { return tk.k.shell.Stats().Rejected >= 3 })
 	if r, _ := c.execute("result alive", nil); r.str("status") != "ok" {
 		t.Fatalf("after bad handshakes: %v", r.content)
 	}
@@ -413,11 +409,11 @@ func TestBadSignatureFromClient(t *testing.T) {
 	bad := c.send(c.shell, "execute_request", map[string]any{"code": "print no"})
 	c.key = []byte(testKey)
 	ok := c.send(c.shell, "kernel_info_request", map[string]any{})
-	if r := c.next(c.shell, 5*time.Second); r.parentID() != ok {
+	if r := c.next(c.shell, hangGuard); r.parentID() != ok {
 		t.Fatalf("got a reply to %v", r.parent)
 	}
 	for {
-		m := c.next(c.iopub, 5*time.Second)
+		m := c.next(c.iopub, hangGuard)
 		if m.parentID() == bad {
 			t.Fatalf("iopub %s for the badly signed request", m.typ())
 		}

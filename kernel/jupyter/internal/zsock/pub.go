@@ -37,6 +37,7 @@ type Pub struct {
 	holdMu    sync.Mutex // orders Send against the replay to a new subscriber
 	held      []heldMsg
 	heldBytes int
+	holdFor   time.Duration // holdFor, or longer in a test
 }
 
 type heldMsg struct {
@@ -48,7 +49,7 @@ type heldMsg struct {
 
 // ListenPub binds a PUB socket to endpoint.
 func ListenPub(ctx context.Context, endpoint, id string, opts *Options) (*Pub, error) {
-	p := &Pub{}
+	p := &Pub{holdFor: holdFor}
 	b, err := listen(ctx, zmq4.Pub, endpoint, id, opts, p)
 	if err != nil {
 		return nil, err
@@ -127,7 +128,7 @@ func (s *Pub) replay(p *peer, prefix string) {
 	now := time.Now()
 	for _, m := range s.held {
 		switch {
-		case now.Sub(m.at) > holdFor:
+		case now.Sub(m.at) > s.holdFor:
 			s.heldBytes -= m.size
 		case strings.HasPrefix(m.topic, prefix):
 			p.enqueue(m.segs, m.size)
@@ -144,7 +145,7 @@ func (s *Pub) replay(p *peer, prefix string) {
 // The caller holds holdMu.
 func (s *Pub) hold(segs [][]byte, size int, topic string) {
 	now := time.Now()
-	for len(s.held) > 0 && (len(s.held) >= holdMsgs || s.heldBytes+size > holdBytes || now.Sub(s.held[0].at) > holdFor) {
+	for len(s.held) > 0 && (len(s.held) >= holdMsgs || s.heldBytes+size > holdBytes || now.Sub(s.held[0].at) > s.holdFor) {
 		s.heldBytes -= s.held[0].size
 		s.held[0] = heldMsg{}
 		s.held = s.held[1:]

@@ -414,25 +414,59 @@ func (b *base) PeerStats() []PeerStat {
 	return out
 }
 
-// Flush waits until every queued message has been handed to the operating
-// system or the timeout passes; it reports whether the queues emptied.
+// Flush waits until every peer's queued messages have been handed to the
+// operating system, or the peer has stalled (written nothing for
+// BackpressureWait), or the timeout passes; it reports whether every
+// queue emptied. A stuck peer thus delays a flush by one BackpressureWait
+// at most, while a peer that is reading gets the whole timeout.
 func (b *base) Flush(timeout time.Duration) bool {
 	deadline := time.Now().Add(timeout)
-	for b.pending.Load() > 0 {
-		if time.Now().After(deadline) {
-			return false
+	for {
+		drained, waiting := b.queueStates()
+		if waiting == 0 || time.Now().After(deadline) {
+			return drained
 		}
 		time.Sleep(2 * time.Millisecond)
 	}
-	return true
+}
+
+// queueStates reports whether every peer's queue is empty, and how many
+// peers still have queued messages and are writing them.
+func (b *base) queueStates() (drained bool, waiting int) {
+	b.mu.Lock()
+	defer b.mu.Unlock()
+	drained = true
+	for p := range b.peers {
+		if p.queued() == 0 {
+			continue
+		}
+		drained = false
+		if !p.stalled() {
+			waiting++
+		}
+	}
+	return drained, waiting
+}
+
+func (p *peer) queued() int {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	return p.qbytes
+}
+
+// stalled reports whether the peer has made no write progress for
+// BackpressureWait.
+func (p *peer) stalled() bool {
+	return time.Since(time.Unix(0, p.lastWrite.Load())) > p.b.opts.BackpressureWait
 }
 
 // Close flushes for at most linger, half-closes every connection so the
 // peers read everything up to the end of the stream, waits up to linger
-// again for them to hang up, then closes everything and waits for the
-// socket's goroutines. Unread data would turn the close into a reset that
-// can destroy the last messages (measured: the final idle went missing),
-// which is why the socket does not simply close at once.
+// again for the peers that were sent everything to hang up, then closes
+// everything and waits for the socket's goroutines. Unread data would
+// turn the close into a reset that can destroy the last messages
+// (measured: the final idle went missing), which is why the socket does
+// not simply close at once. A stalled peer is not waited for (see Flush).
 func (b *base) Close(linger time.Duration) error {
 	b.closeOnce.Do(func() {
 		b.ln.Close()
@@ -452,6 +486,9 @@ func (b *base) Close(linger time.Duration) error {
 			deadline := time.After(linger)
 		wait:
 			for _, p := range peers {
+				if p.queued() > 0 {
+					continue // stalled: it would not read to the end
+				}
 				select {
 				case <-p.done:
 				case <-deadline:
