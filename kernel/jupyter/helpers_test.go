@@ -53,6 +53,8 @@ const hangGuard = 2 * time.Minute
 type fakeHandler struct {
 	banner string
 
+	forget bool // keep no record in ran (a long-lived helper process)
+
 	mu       sync.Mutex
 	ran      []string // code of every Execute call
 	cursors  []int    // byte offsets seen by Complete
@@ -94,7 +96,9 @@ func (f *fakeHandler) Info() KernelInfo {
 
 func (f *fakeHandler) Execute(ctx context.Context, code string, out Output, opts ExecOptions) (*Bundle, error) {
 	f.mu.Lock()
-	f.ran = append(f.ran, code)
+	if !f.forget {
+		f.ran = append(f.ran, code)
+	}
 	f.mu.Unlock()
 	select {
 	case f.started <- code:

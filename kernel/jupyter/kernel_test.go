@@ -658,19 +658,33 @@ func freePorts(t *testing.T, n int) []int {
 // and a connection file as its argument, it is a kernel process serving
 // the fake handler (used to measure a kernel's own memory, and by hand
 // to point jupyter_client at the protocol layer).
+//
+// With NUDGE_JUPYTER_ADDRESS_SPACE=BYTES it first limits its own address
+// space to what it has mapped plus BYTES (RLIMIT_AS), so that a runaway
+// allocation fails inside this process (a fatal out-of-memory that the
+// parent test sees) instead of exhausting the machine.
 func TestHelperKernelProcess(t *testing.T) {
 	if os.Getenv("NUDGE_JUPYTER_HELPER") != "1" {
 		t.Skip("helper process only")
 	}
-	if err := Run(context.Background(), flag.Arg(0), newFake(), log.New(os.Stderr, "kernel: ", 0)); err != nil {
+	if c := os.Getenv("NUDGE_JUPYTER_ADDRESS_SPACE"); c != "" {
+		if err := limitAddressSpace(c); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			os.Exit(1)
+		}
+	}
+	f := newFake()
+	f.forget = true // a long-lived process keeps no record of the cells it ran
+	if err := Run(context.Background(), flag.Arg(0), f, log.New(os.Stderr, "kernel: ", 0)); err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		os.Exit(1)
 	}
 	os.Exit(0)
 }
 
-// startProcess runs a kernel in a child process and returns its pid.
-func startProcess(t *testing.T) (*testKernel, int) {
+// startProcess runs a kernel in a child process and returns its pid; env
+// is added to the child's environment.
+func startProcess(t *testing.T, env ...string) (*testKernel, int) {
 	ports := freePorts(t, 5)
 	ci := ConnectionInfo{Transport: "tcp", IP: "127.0.0.1", ShellPort: ports[0], IOPubPort: ports[1],
 		StdinPort: ports[2], ControlPort: ports[3], HBPort: ports[4], Key: testKey, SignatureScheme: "hmac-sha256"}
@@ -680,7 +694,7 @@ func startProcess(t *testing.T) (*testKernel, int) {
 		t.Fatal(err)
 	}
 	cmd := exec.Command(os.Args[0], "-test.run=^TestHelperKernelProcess$", file)
-	cmd.Env = append(os.Environ(), "NUDGE_JUPYTER_HELPER=1")
+	cmd.Env = append(append(os.Environ(), "NUDGE_JUPYTER_HELPER=1"), env...)
 	cmd.Stderr = testWriter{t}
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
