@@ -13,7 +13,8 @@ build:
 	go build -o $(BIN) ./kernel/cmd/nudge
 
 # Every test: Go tests, the race detector on the concurrent packages, a short
-# fuzz run of each parser and of the compiler, the Jupyter conformance suite and every notebook
+# fuzz run of each parser, of the compiler and of the kernel's wire reader
+# (frames, handshake, messages), the Jupyter conformance suite and every notebook
 # executed through nbconvert. The Debian packages they need are installed
 # first when missing (as root; otherwise the command to run is printed).
 test: deps gotest race fuzz jupyter-test notebooks-test
@@ -32,6 +33,9 @@ fuzz:
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=15s ./sens/syntax/
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=10s ./sens/unit/
 	go test -run='^$$' -fuzz='^FuzzCompile$$' -fuzztime=15s ./sens/
+	go test -run='^$$' -fuzz='^FuzzReadMsg$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
+	go test -run='^$$' -fuzz='^FuzzHandshake$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
+	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=10s ./kernel/jupyter/
 
 $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)

@@ -1,6 +1,7 @@
 package jupyter
 
 import (
+	"bytes"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -260,4 +261,32 @@ func TestParseMessageInvalidUTF8Header(t *testing.T) {
 	if string(msg.rawHeader) != want || msg.header.MsgID != "m2" {
 		t.Errorf("invalid header echoed as %q", msg.rawHeader)
 	}
+}
+
+// FuzzParseMessage: any frames give a message or an error, never a
+// panic; a message accepted has a UTF-8 header (what replies echo), a
+// msg_type, and JSON objects for its parts. Frames are split at '|';
+// signing is off (empty key) so that the fuzzer reaches the JSON.
+func FuzzParseMessage(f *testing.F) {
+	f.Add([]byte(`id|<IDS|MSG>|sig|{"msg_id":"1","msg_type":"execute_request"}|{}|{}|{"code":"1"}`))
+	f.Add([]byte("<IDS|MSG>||{\"msg_type\":\"x\",\"u\":\"\xff\"}|{}|{}|{}|buf"))
+	f.Add([]byte(`<IDS|MSG>||{"msg_type":3}|{}|{}|[]`))
+	s, _ := newSigner("hmac-sha256", "")
+	f.Fuzz(func(t *testing.T, data []byte) {
+		frames := bytes.Split(data, []byte("|"))
+		// "<IDS|MSG>" itself contains the separator: join it back.
+		for i := 0; i+1 < len(frames); i++ {
+			if string(frames[i]) == "<IDS" && string(frames[i+1]) == "MSG>" {
+				frames[i] = delimiter
+				frames = append(frames[:i+1], frames[i+2:]...)
+			}
+		}
+		m, err := parseMessage(frames, s)
+		if err != nil {
+			return
+		}
+		if !utf8.Valid(m.rawHeader) || m.header.MsgType == "" || !isObject(m.rawHeader) || !isObject(m.content) {
+			t.Fatalf("accepted %q", data)
+		}
+	})
 }
