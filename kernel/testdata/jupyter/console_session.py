@@ -16,12 +16,17 @@ LINES = [
     "c2 = a * pp",
 ]
 
+# The console's own waits are budgets (1 s for an is_complete reply, after
+# which it stops asking the kernel and joins lines into one cell; 60 s to
+# start): on a busy machine they become hang guards here.
 proc = subprocess.run(
-    [sys.executable, "-m", "jupyter_console", "--kernel=nudge", "--simple-prompt"],
+    [sys.executable, "-m", "jupyter_console", "--kernel=nudge", "--simple-prompt",
+     "--ZMQTerminalInteractiveShell.kernel_is_complete_timeout=120",
+     "--ZMQTerminalInteractiveShell.kernel_timeout=120"],
     input="\n".join(LINES) + "\n",
     capture_output=True,
     text=True,
-    timeout=120,
+    timeout=600,
     env=os.environ,
 )
 out = proc.stdout + proc.stderr
