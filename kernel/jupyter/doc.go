@@ -21,14 +21,19 @@
 // shutdown, kernel_info) are answered during a long cell. Every request,
 // kernel_info included, is framed by status busy and idle on iopub with
 // the request as parent; replies carry the request's header bytes,
-// unchanged, as parent_header and echo every routing identity.
+// unchanged, as parent_header and echo every routing identity. (A header
+// that is not valid UTF-8 is the one exception: JSON text must be UTF-8,
+// so each run of invalid bytes is echoed as U+FFFD.)
 //
 // # Execution
 //
 // The protocol layer owns the execution counter (it advances for requests
 // that store history; silent forces store_history off) and the session's
 // input history (history_request: tail, range, search with glob patterns,
-// with or without the text/plain output). An error returned by Execute
+// with or without the text/plain output). The history keeps at most 32 MiB
+// of cells and outputs, oldest out first; a cell or output over 4 MiB is
+// not kept, though its number is used. A search pattern (at most 256
+// bytes) is matched in time linear in the text searched. An error returned by Execute
 // becomes an error message and an error reply; an *ExecError chooses
 // ename, evalue and traceback. A panic becomes an error reply named
 // InternalError and the kernel keeps serving. After a failed cell whose
@@ -45,7 +50,12 @@
 // shutdown_request is answered on its channel and on iopub, followed by
 // idle; then the kernel flushes its queues and Serve returns. With
 // restart set the process exits just the same and the client starts a
-// new one.
+// new one. A shutdown_request whose content does not decode is dropped
+// like any request with bad content, and the kernel keeps running.
+//
+// Error names, values and traceback lines are sent as plain text: control
+// characters become visible (see ExecError), so an error line that quotes
+// a cell cannot carry the cell's escape sequences into a terminal.
 //
 // Cursor positions are Unicode code points on the wire and byte offsets
 // in the Handler; the conversion happens here.
@@ -67,6 +77,16 @@
 //     lost and memory stays small;
 //   - a connection that never completes its handshake is closed after
 //     HandshakeTimeout (default 5s) and never delays another connection;
+//     the handshake reads the greeting and one command frame of at most
+//     16 KiB, whatever size a peer announces;
+//   - before any key is checked, what a client can make the kernel hold
+//     is bounded: one message by MaxMsgBytes (64 MiB on shell, 1 MiB on
+//     control and stdin, 64 KiB on iopub and the heartbeat, with 96 bytes
+//     counted per frame so that empty frames count too), all incoming
+//     messages of a channel together by MaxInBytes (twice that; the
+//     client with the largest unfinished message is dropped to make room
+//     for a smaller one), and the connections of a channel by MaxPeers
+//     (256);
 //   - each socket has its own locks, so a stuck client cannot hold up a
 //     shutdown; at shutdown the queues are flushed and each connection is
 //     half-closed and given Linger (default 500ms) to read to the end, so
@@ -80,7 +100,10 @@
 // being written, per socket; a Handler that ignores its context cannot be
 // interrupted (Go cannot stop a goroutine from outside), and at shutdown
 // it is left running while Serve returns, so the process should exit when
-// Run returns.
+// Run returns. Any local process can connect: it cannot run code without
+// the key or exhaust the kernel's memory, but it can hold a channel's
+// MaxPeers connections (locking out new clients there while it holds
+// them) or make a large unfinished message of another client fail.
 //
 // References:
 //   - Jupyter messaging protocol, jupyter_client documentation,
