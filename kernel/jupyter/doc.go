@@ -86,7 +86,12 @@
 //     messages of a channel together by MaxInBytes (twice that; the
 //     client with the largest unfinished message is dropped to make room
 //     for a smaller one), and the connections of a channel by MaxPeers
-//     (256);
+//     (256); a message whose signature has the wrong length is refused
+//     before its digest is computed, and dropped messages are logged at
+//     most 10 times a second;
+//   - a client cannot take over another client's replies by connecting
+//     with its identity (jupyter_client uses the session id, which is no
+//     secret): the newcomer gets a route of its own;
 //   - each socket has its own locks, so a stuck client cannot hold up a
 //     shutdown; at shutdown the queues are flushed and each connection is
 //     half-closed and given Linger (default 500ms) to read to the end, so

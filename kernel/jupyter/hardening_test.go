@@ -1,6 +1,7 @@
 package jupyter
 
 import (
+	"context"
 	"strings"
 	"testing"
 	"unicode/utf8"
@@ -123,5 +124,31 @@ func TestHistorySearchPatternTooLong(t *testing.T) {
 	id := c.send(c.shell, "history_request", map[string]any{"hist_access_type": "search", "pattern": strings.Repeat("*a", maxGlob), "raw": true, "output": false})
 	if r := c.reply(c.shell, id); r.str("status") != "error" || !strings.Contains(r.str("evalue"), "limit") {
 		t.Errorf("history reply %v", r.content)
+	}
+}
+
+// TestRouteCannotBeTaken: a client's shell identity is no secret (Jupyter
+// clients use their session id, which every iopub message carries), so a
+// peer that connects with it, without the key, must not receive that
+// client's replies.
+func TestRouteCannotBeTaken(t *testing.T) {
+	tk := startKernel(t, newFake(), nil)
+	c := connect(t, tk)
+	c.shell = dialSock(t, zmq4.NewDealer(context.Background(), zlog(t), zmq4.WithID(zmq4.SocketIdentity("victim"))),
+		tk.ci.Endpoint(tk.ci.ShellPort))
+	if r, _ := c.execute("result before", nil); r.str("status") != "ok" {
+		t.Fatalf("before: %v", r.content)
+	}
+	thief := dialRaw(t, tk.ci.Endpoint(tk.ci.ShellPort), zmq4.Dealer, "victim", 0)
+	waitFor(t, "the second connection", func() bool { return tk.k.shell.Stats().Accepted == 3 })
+	if r, _ := c.execute("result after", nil); r.str("status") != "ok" {
+		t.Fatalf("after: %v", r.content)
+	}
+	// What the thief reads first is the reply to its own request: the
+	// victim's reply never went its way.
+	own, id := c.request("kernel_info_request", map[string]any{})
+	thief.write(own...)
+	if m := readRaw(t, c, thief); m.parentID() != id {
+		t.Fatalf("the second connection got a reply to %s (%s)", m.parentID(), m.typ())
 	}
 }

@@ -81,6 +81,7 @@ type Kernel struct {
 	ci      ConnectionInfo
 	h       Handler
 	log     *log.Logger
+	dropLog *zsock.RateLog // messages dropped before or at the signature check
 	sign    *signer
 	session string
 	user    string
@@ -138,6 +139,7 @@ func New(ci ConnectionInfo, h Handler, opts *Options) (*Kernel, error) {
 		ci:      ci,
 		h:       h,
 		log:     o.Logger,
+		dropLog: zsock.NewRateLog(o.Logger, 10),
 		sign:    s,
 		session: newUUID(),
 		user:    o.Username,
@@ -411,7 +413,7 @@ func (k *Kernel) recv(r *zsock.Router, channel string) (*message, bool) {
 		}
 		m, err := parseMessage(frames, k.sign)
 		if err != nil {
-			k.log.Printf("jupyter: %s: dropped a message: %v", channel, err)
+			k.dropLog.Printf("jupyter: %s: dropped a message: %v", channel, err)
 			continue
 		}
 		m.channel = channel

@@ -57,6 +57,15 @@
 //     before zmq4 sees the size, and nothing else.
 //   - A socket has at most MaxPeers connections (default 256), those in
 //     their handshake included; more are closed at once.
+//   - A ROUTER peer that announces an identity already connected gets a
+//     routing identity of its own: identities are no secret, so a new
+//     connection never takes over another's route (and its replies).
+//   - A subscriber holds at most 64 topics of at most 255 bytes.
+//   - Each queued message counts QueueOverhead (128 bytes) against
+//     QueueBytes besides its own size, so a peer that sends tiny
+//     messages and never reads the answers (a heartbeat flood) fills a
+//     queue bounded in memory, not only in bytes on the wire.
+//   - What a peer can make the socket log is rate-limited (RateLog).
 //   - Each peer has a queue bounded by QueueMsgs and QueueBytes; when a
 //     new message does not fit, the peer's oldest queued messages are
 //     dropped (counted in Stats and PeerStats, logged once per episode),

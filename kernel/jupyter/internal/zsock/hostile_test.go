@@ -6,9 +6,12 @@ import (
 	"context"
 	"encoding/binary"
 	"errors"
+	"fmt"
 	"io"
+	"log"
 	"net"
 	"reflect"
+	"strings"
 	"testing"
 	"time"
 
@@ -400,4 +403,84 @@ func FuzzHandshake(f *testing.F) {
 			t.Fatalf("after the handshake the reader holds %d bytes, want the %d after READY", len(rest), len(data)-n)
 		}
 	})
+}
+
+// TestQueueOverheadBoundsTinyMessages: a heartbeat peer that sends empty
+// pings and never reads the echoes fills its queue with messages of two
+// bytes each; counted with QueueOverhead apiece, the queue stays within
+// QueueBytes in memory, not only in bytes on the wire.
+func TestQueueOverheadBoundsTinyMessages(t *testing.T) {
+	const queue = 64 << 10
+	e, err := ListenEcho(context.Background(), "tcp://127.0.0.1:0", "hb", &Options{Logger: quiet(), QueueBytes: queue, StallTimeout: hangGuard})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer e.Close(0)
+	conn := rawRouterPeer(t, e.Addr(), "pinger")
+	conn.(*net.TCPConn).SetReadBuffer(4096)
+	pings := bytes.Repeat([]byte{0x00, 0x00}, 64<<10)
+	go func() {
+		for {
+			if _, err := conn.Write(pings); err != nil {
+				return
+			}
+		}
+	}()
+	waitUntil(t, "the queue to overflow", func() bool { return e.Stats().Dropped > 0 })
+	for _, ps := range e.PeerStats() {
+		if cost := ps.QueuedBytes + ps.Queued*QueueOverhead; cost > queue {
+			t.Errorf("%d messages of %d bytes queued: %d bytes with overhead, bound %d", ps.Queued, ps.QueuedBytes, cost, queue)
+		}
+	}
+}
+
+// TestSubscriptionBounds: a subscriber gets at most maxTopics topics of at
+// most maxTopic bytes; the rest are ignored.
+func TestSubscriptionBounds(t *testing.T) {
+	p, err := ListenPub(context.Background(), "tcp://127.0.0.1:0", "pub", &Options{Logger: quiet()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close(0)
+	conn, err := net.Dial("tcp", p.Addr().String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	if _, err := zmq4.Open(conn, nullSecurity(), zmq4.Sub, nil, false, nil); err != nil {
+		t.Fatal(err)
+	}
+	long := bytes.Repeat([]byte{'z'}, maxTopic+1)
+	WriteMsg(conn, [][]byte{append([]byte{1}, long...)})
+	for i := range 100 {
+		WriteMsg(conn, [][]byte{append([]byte{1}, fmt.Sprintf("t%02d", i)...)})
+	}
+	// One more unsubscribe: once it is seen, so is everything before it.
+	WriteMsg(conn, [][]byte{[]byte("\x00t00")})
+	waitUntil(t, "the subscriptions", func() bool { return p.Subscribers("t00") == 0 && p.Subscribers("t01") == 1 })
+	if p.Subscribers(string(long)) != 0 {
+		t.Error("a topic over maxTopic bytes was accepted")
+	}
+	if p.Subscribers(fmt.Sprintf("t%02d", maxTopics-1)) != 1 || p.Subscribers(fmt.Sprintf("t%02d", maxTopics)) != 0 {
+		t.Errorf("topics kept: t%02d %d, t%02d %d", maxTopics-1, p.Subscribers(fmt.Sprintf("t%02d", maxTopics-1)),
+			maxTopics, p.Subscribers(fmt.Sprintf("t%02d", maxTopics)))
+	}
+}
+
+// TestRateLog: a burst gets through up to the limit; the rest is counted
+// and reported with the first line of a later second.
+func TestRateLog(t *testing.T) {
+	var buf bytes.Buffer
+	r := NewRateLog(log.New(&buf, "", 0), 5)
+	for i := range 12 {
+		r.Printf("line %d", i)
+	}
+	if n := strings.Count(buf.String(), "\n"); n != 5 {
+		t.Fatalf("%d lines of a burst of 12, limit 5:\n%s", n, buf.String())
+	}
+	time.Sleep(1100 * time.Millisecond) // a lower bound: the next second has begun
+	r.Printf("later")
+	if !strings.HasSuffix(buf.String(), "(7 more log lines like these were left out)\nlater\n") {
+		t.Errorf("after the burst:\n%s", buf.String())
+	}
 }

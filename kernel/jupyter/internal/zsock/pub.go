@@ -22,6 +22,15 @@ const (
 	holdBytes = 4 << 20
 )
 
+// Subscription bounds: a Jupyter client subscribes to everything (the
+// empty topic); a subscriber gets at most maxTopics topics of at most
+// maxTopic bytes, so that subscriptions cost little memory and matching
+// a message against them little time.
+const (
+	maxTopic  = 255
+	maxTopics = 64
+)
+
 // Pub is a ZeroMQ PUB socket. Send encodes a message once and queues it
 // for every subscribed peer; each peer has its own bounded queue and
 // writer, so a subscriber that stops reading loses its own oldest
@@ -103,9 +112,11 @@ func (s *Pub) message(p *peer, m inMsg) {
 		return
 	}
 	if sub {
-		if len(p.topics) >= 1024 && p.topics[string(topic)] == 0 {
+		if len(topic) > maxTopic || len(p.topics) >= maxTopics && p.topics[string(topic)] == 0 {
 			p.mu.Unlock()
-			return // a subscriber has no business with more topics
+			p.b.log.Printf("zsock PUB: peer %s: subscription ignored (topics are at most %d bytes, %d per subscriber)",
+				p.conn.RemoteAddr(), maxTopic, maxTopics)
+			return
 		}
 		p.topics[string(topic)]++
 		p.mu.Unlock()

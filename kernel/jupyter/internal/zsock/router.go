@@ -10,7 +10,12 @@ import (
 
 // Router is a ZeroMQ ROUTER socket: every received message starts with the
 // routing identity of the peer that sent it, and Send routes a message by
-// its first frame. Each peer has its own bounded queue and writer: Send
+// its first frame. A peer that announces an identity already connected
+// gets a routing identity of its own, as a peer without one does: it
+// cannot take over the route of the peer already there (a client's
+// identity is no secret; Jupyter clients use their session id, which
+// every iopub message carries), and a client that reconnects while its
+// old connection lingers gets its replies on the new one all the same. Each peer has its own bounded queue and writer: Send
 // waits a little for a slow peer that keeps reading (see
 // Options.SoftQueueBytes) and not at all for one that stopped, which
 // loses its own oldest replies instead (counted and logged).
@@ -45,19 +50,17 @@ func (r *Router) attach(p *peer) bool {
 		return false
 	}
 	id := string(p.identity)
-	if id == "" || id[0] == 0 {
-		// No identity of its own: make one up as libzmq does, a zero
-		// byte and a counter, which no peer may choose.
+	if r.byID[id] != nil {
+		r.log.Printf("zsock ROUTER: identity %q is already connected; the new connection from %s gets a route of its own",
+			id, p.conn.RemoteAddr())
+	}
+	if id == "" || id[0] == 0 || r.byID[id] != nil {
+		// No identity of its own, or one in use: make one up as libzmq
+		// does, a zero byte and a counter, which no peer may choose.
 		r.seq++
 		var b [5]byte
 		binary.BigEndian.PutUint32(b[1:], r.seq)
 		id = string(b[:])
-	} else if old := r.byID[id]; old != nil {
-		// A client that reconnects with the same identity takes over
-		// the route; the old connection is closed.
-		r.log.Printf("zsock ROUTER: identity %q reconnected; closing the old connection", id)
-		delete(r.byID, id)
-		go old.close(ErrClosed)
 	}
 	p.route = id
 	r.byID[id] = p

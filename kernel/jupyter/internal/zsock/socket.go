@@ -22,7 +22,9 @@ import (
 // Options bound what one peer can cost the socket. A zero field takes the
 // default shown.
 type Options struct {
-	// Logger receives connection events and drops; nil discards them.
+	// Logger receives connection events and drops, at most 20 lines a
+	// second per socket (a peer can cause them as fast as it connects);
+	// nil discards them.
 	Logger *log.Logger
 	// HandshakeTimeout bounds the ZMTP greeting and handshake of a new
 	// connection (default 5s). A connection that stays silent longer is
@@ -32,9 +34,11 @@ type Options struct {
 	// before that peer is disconnected (default 30s).
 	StallTimeout time.Duration
 	// QueueMsgs and QueueBytes bound the messages waiting for one peer
-	// (defaults 100000 messages and 64 MiB). When a new message does not
-	// fit, that peer's oldest queued messages are dropped; other peers are
-	// not affected.
+	// (defaults 100000 messages and 64 MiB; each message counts
+	// QueueOverhead bytes besides its own, so that a queue of tiny
+	// messages is bounded by its memory too). When a new message does
+	// not fit, that peer's oldest queued messages are dropped; other
+	// peers are not affected.
 	QueueMsgs  int
 	QueueBytes int
 	// SoftQueueBytes and BackpressureWait make a fast sender wait for a
@@ -158,7 +162,7 @@ type base struct {
 	typ   zmq4.SocketType
 	id    string
 	opts  Options
-	log   *log.Logger
+	log   *RateLog
 	ln    net.Listener
 	ep    string
 	hooks kindHooks
@@ -205,7 +209,7 @@ func listen(ctx context.Context, typ zmq4.SocketType, endpoint, id string, opts 
 		typ:   typ,
 		id:    id,
 		opts:  o,
-		log:   o.Logger,
+		log:   NewRateLog(o.Logger, 20),
 		ln:    ln,
 		ep:    endpoint,
 		hooks: hooks,
@@ -547,6 +551,11 @@ type item struct {
 	size int
 }
 
+// QueueOverhead is what a queued message costs besides its bytes on the
+// wire: the queue entry, its list of segments and the encoded headers,
+// rounded up.
+const QueueOverhead = 128
+
 // enqueue hands a message to the peer's writer; it never blocks. When the
 // queue is over its bounds the oldest queued messages are dropped to make
 // room: a client that falls behind loses old output but still sees the
@@ -560,7 +569,7 @@ func (p *peer) enqueue(segs net.Buffers, size int) error {
 	}
 	o := &p.b.opts
 	var dropped, droppedBytes int
-	for len(p.queue) > 0 && (len(p.queue) >= o.QueueMsgs || p.qbytes+size > o.QueueBytes) {
+	for len(p.queue) > 0 && (len(p.queue) >= o.QueueMsgs || p.qbytes+size+(len(p.queue)+1)*QueueOverhead > o.QueueBytes) {
 		old := p.queue[0]
 		p.queue[0] = item{}
 		p.queue = p.queue[1:]

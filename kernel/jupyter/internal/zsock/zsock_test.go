@@ -196,15 +196,22 @@ func TestRouterWithZmq4Dealers(t *testing.T) {
 	if err := r.Send([][]byte{[]byte("nobody"), []byte("x")}); err != ErrUnknownPeer {
 		t.Errorf("send to unknown peer: %v", err)
 	}
-	// A second connection with the same identity takes the route over.
+	// A second connection with the same identity cannot take the route
+	// over (anyone may claim any identity): it gets a route of its own,
+	// and replies to each connection's messages reach that connection.
 	again := dial(t, zmq4.NewDealer(ctx, zmq4.WithID(zmq4.SocketIdentity("named")), zmq4.WithLogger(quiet())), r.Addr())
 	again.Send(zmq4.NewMsg([]byte("back")))
-	if m, _ := r.Recv(ctx); string(m[1]) != "back" {
-		t.Fatalf("%q", m)
+	m3, _ := r.Recv(ctx)
+	if string(m3[1]) != "back" || string(m3[0]) == "named" || m3[0][0] != 0 {
+		t.Fatalf("duplicate identity routed as %q: %q", m3[0], m3)
 	}
-	r.Send([][]byte{[]byte("named"), []byte("to the new one")})
-	if got := recvTimeout(t, again); string(got.Frames[0]) != "to the new one" {
-		t.Errorf("handover: %q", got.Frames)
+	r.Send([][]byte{[]byte("named"), []byte("to the first")})
+	r.Send([][]byte{m3[0], []byte("to the second")})
+	if got := recvTimeout(t, named); string(got.Frames[0]) != "to the first" {
+		t.Errorf("first connection got %q", got.Frames)
+	}
+	if got := recvTimeout(t, again); string(got.Frames[0]) != "to the second" {
+		t.Errorf("second connection got %q", got.Frames)
 	}
 }
 
