@@ -753,15 +753,8 @@ func (p *peer) readLoop() {
 // charge counts n more incoming bytes for p's message against
 // MaxInBytes, making room as Options.MaxInBytes describes.
 func (b *base) charge(p *peer, n int64) error {
-	deadline := time.Now().Add(b.opts.StallTimeout)
+	var deadline time.Time
 	for {
-		b.mu.Lock()
-		peers := make([]*peer, 0, len(b.peers))
-		for q := range b.peers {
-			peers = append(peers, q)
-		}
-		b.mu.Unlock()
-
 		b.inMu.Lock()
 		if p.evicted {
 			b.inMu.Unlock()
@@ -773,6 +766,23 @@ func (b *base) charge(p *peer, n int64) error {
 			b.inMax = max(b.inMax, b.inUsed)
 			b.inMu.Unlock()
 			return nil
+		}
+		b.inMu.Unlock()
+
+		// No room: the slow path.
+		if deadline.IsZero() {
+			deadline = time.Now().Add(b.opts.StallTimeout)
+		}
+		b.mu.Lock()
+		peers := make([]*peer, 0, len(b.peers))
+		for q := range b.peers {
+			peers = append(peers, q)
+		}
+		b.mu.Unlock()
+		b.inMu.Lock()
+		if b.inUsed+n <= b.opts.MaxInBytes {
+			b.inMu.Unlock()
+			continue // room was made meanwhile
 		}
 		var victim *peer
 		for _, q := range peers {
