@@ -61,7 +61,7 @@ var commands = table(
 // reserved are the verbs the language keeps for the Monte Carlo and global
 // analyses, which this version does not have: using one is an error that
 // says so.
-var reserved = []string{"simulate", "sobol", "morris", "screen"}
+var reserved = []string{"simulate", "sobol", "morris", "screen", "spearman"}
 
 func table(cs ...*Command) map[string]*Command {
 	m := make(map[string]*Command, len(cs))

@@ -18,7 +18,9 @@ import (
 type Program struct {
 	Inputs   []*Input
 	Formulas []*Formula // in dependency order: a formula follows every formula it uses
-	Warnings []*syntax.Error
+	// Correlations are the declared rank correlations between inputs.
+	Correlations []Correlation
+	Warnings     []*syntax.Error
 
 	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
 	tape  *tape.Tape
@@ -59,6 +61,7 @@ type Input struct {
 
 	u     unit.Unit
 	index int
+	file  *syntax.File // the file declaring it, for messages
 }
 
 // Formula is a compiled formula. Its value is shown in Unit.
@@ -226,6 +229,7 @@ func (c *compiler) run() (*Program, error) {
 			c.compileInput(d)
 		}
 	}
+	c.compileCorrelations()
 	// Formulas in dependency order.
 	for _, name := range c.m.order {
 		if d := c.decls[name]; d.Formula != nil {
@@ -263,7 +267,7 @@ func isBuiltinName(name string) bool {
 func (c *compiler) compileInput(d *Decl) {
 	s, f := d.Input, d.File
 	c.cur = d.Name
-	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: unit.One()}
+	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: unit.One(), file: f}
 	c.prog.index[d.Name] = in.index
 	c.prog.Inputs = append(c.prog.Inputs, in)
 	c.state[d.Name] = done

@@ -17,6 +17,7 @@ type Model struct {
 	order     []string // names in the order first declared
 	scenarios map[string]*Scenario
 	scenOrder []string
+	corrs     []*CorrDecl // rank correlations, in the order declared
 
 	prog    *Program // cached compilation, nil when stale
 	progErr error
@@ -277,6 +278,7 @@ func (m *Model) Clone() *Model {
 		order:     slices.Clone(m.order),
 		scenarios: make(map[string]*Scenario, len(m.scenarios)),
 		scenOrder: slices.Clone(m.scenOrder),
+		corrs:     slices.Clone(m.corrs),
 		prog:      m.prog,
 		progErr:   m.progErr,
 	}
@@ -290,7 +292,7 @@ func (m *Model) Clone() *Model {
 }
 
 // LoadModel parses src as a model file named name and declares its inputs,
-// formulas and scenarios in a new Model: the way for a Go program (or a
+// formulas, scenarios and rank correlations in a new Model: the way for a Go program (or a
 // gophernotes cell) to load a model without the kernel. Analysis commands and
 // bare expressions are an error here; they belong to a front end such as the
 // kernel's cell interpreter.
@@ -307,8 +309,12 @@ func LoadModel(name string, src []byte) (*Model, error) {
 		case *syntax.InputStmt, *syntax.FormulaStmt:
 			m.Define(f, s)
 		case *syntax.CommandStmt:
-			if s.Verb == "scenario" {
+			switch s.Verb {
+			case "scenario":
 				scenarios = append(scenarios, s)
+				continue
+			case "spearman":
+				m.DefineCorrelation(f, s)
 				continue
 			}
 			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas and scenarios")

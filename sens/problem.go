@@ -36,6 +36,9 @@ type Problem struct {
 	// Steps lists where step-shaped operations (floor, ceil, round, if,
 	// comparisons) lie on the output's path; their derivative is zero.
 	Steps []syntax.Position
+	// Correlations are rank correlations between the inputs, which Simulate
+	// imposes (indices into Inputs).
+	Correlations []Correlation
 
 	// index maps the problem's inputs to the program's (nil: the same).
 	index []int
@@ -129,6 +132,7 @@ func (p *Program) Problem(name string) (*Problem, error) {
 		}
 		pr.F = &subFn{fn: fn, index: deps, full: p.Baseline()}
 	}
+	pr.Correlations = p.problemCorrelations(pr)
 	for _, s := range p.steps(fn.f) {
 		e := p.pos[s]
 		pr.Steps = append(pr.Steps, e.file.Position(e.pos))

@@ -178,9 +178,9 @@ type (
 		Output  Expr       // the analysed output (an identifier, or an expression for drivers)
 		Name    *Ident     // scenario name; charts' setting
 		Axes    []*Axis    // sweep axes; breakeven's single input (without a range)
-		Target  Expr       // breakeven target
+		Target  Expr       // breakeven target; spearman's coefficient
 		Percent *RangeSpec // spider's percentage range
-		Names   []*Ident   // compare's scenario list
+		Names   []*Ident   // compare's scenario list; spearman's two inputs
 		Assigns []*Assign  // scenario's settings
 		Options []*Option  // key=value
 		Text    string     // print's text

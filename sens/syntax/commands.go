@@ -26,10 +26,11 @@ var commandForms = []CommandForm{
 	{"breakeven", "breakeven OUT = T over X [a..b]", (*parser).parseBreakeven},
 	{"scenario", "scenario NAME: X = v, Y = w", (*parser).parseScenario},
 	{"compare", "compare OUT across base, NAME, ...", (*parser).parseCompare},
-	{"simulate", "simulate OUT", (*parser).parseReserved},
-	{"sobol", "sobol OUT", (*parser).parseReserved},
-	{"morris", "morris OUT", (*parser).parseReserved},
-	{"screen", "screen OUT", (*parser).parseReserved},
+	{"simulate", "simulate OUT", (*parser).parseGlobal},
+	{"sobol", "sobol OUT", (*parser).parseGlobal},
+	{"morris", "morris OUT", (*parser).parseGlobal},
+	{"screen", "screen OUT", (*parser).parseGlobal},
+	{"spearman", "spearman X, Y = RHO", (*parser).parseSpearman},
 	{"print", `print "text"`, (*parser).parsePrint},
 	{"reset", "reset", (*parser).parseReset},
 	{"charts", "charts svg | png | text", (*parser).parseCharts},
@@ -62,7 +63,7 @@ func IsVerb(name string) bool { return Command(name) != nil }
 // parseCommand parses a command and its options:
 //
 //	command = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | reserved | print | reset | charts ) options .
+//	          | global | spearman | print | reset | charts ) options .
 //	options = { name "=" arith } .
 func (p *parser) parseCommand() *CommandStmt {
 	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
@@ -104,11 +105,37 @@ func (p *parser) parseDrivers(c *CommandStmt) { p.parseOutput(c) }
 //	tornado = "tornado" arith .
 func (p *parser) parseTornado(c *CommandStmt) { p.parseOutput(c) }
 
-// parseReserved parses a command reserved for the global analyses, which
-// takes an output and options:
+// parseGlobal parses an uncertainty or global-sensitivity analysis of an
+// output (its size, seed and other settings are options):
 //
-//	reserved = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
-func (p *parser) parseReserved(c *CommandStmt) { p.parseOutput(c) }
+//	global = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
+func (p *parser) parseGlobal(c *CommandStmt) { p.parseOutput(c) }
+
+// parseSpearman parses the declaration of a rank correlation between two
+// inputs, into c.Names (the inputs) and c.Target (the coefficient):
+//
+//	spearman = "spearman" name "," name "=" arith .
+func (p *parser) parseSpearman(c *CommandStmt) {
+	const form = "spearman INPUT, INPUT = COEFFICIENT"
+	if p.atEnd() {
+		p.error(p.pos, "spearman needs two inputs and a coefficient: "+form)
+	}
+	a := p.parseIdent()
+	if p.tok != COMMA {
+		p.errorExpected("',' and a second input (write: " + form + ")")
+	}
+	p.next()
+	b := p.parseIdent()
+	if p.tok != ASSIGN {
+		p.errorExpected("'=' and the rank correlation of " + a.Name + " and " + b.Name + " (write: " + form + ")")
+	}
+	p.next()
+	if p.atEnd() {
+		p.errorExpected("a coefficient between -1 and 1")
+	}
+	c.Names = []*Ident{a, b}
+	c.Target = p.parseArith()
+}
 
 // parseSpider parses the output against a percentage change of each input,
 // over a range symmetric about 0% (Percent is nil when none is written):

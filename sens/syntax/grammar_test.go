@@ -70,7 +70,7 @@ func TestGrammarDocumented(t *testing.T) {
 		}
 	}
 	for _, f := range commandForms {
-		found := strings.Contains(grammar["reserved"], `"`+f.Verb+`"`)
+		found := strings.Contains(grammar["global"], `"`+f.Verb+`"`)
 		for _, prod := range grammar {
 			_, rhs, _ := strings.Cut(prod, " = ")
 			found = found || strings.HasPrefix(strings.TrimPrefix(rhs, "( "), `"`+f.Verb+`"`)
@@ -78,7 +78,7 @@ func TestGrammarDocumented(t *testing.T) {
 		if !found {
 			t.Errorf("no production of the grammar starts with %q", f.Verb)
 		}
-		if !strings.Contains(grammar["command"], " "+f.Verb+" ") && !strings.Contains(grammar["reserved"], `"`+f.Verb+`"`) {
+		if !strings.Contains(grammar["command"], " "+f.Verb+" ") && !strings.Contains(grammar["global"], `"`+f.Verb+`"`) {
 			t.Errorf("the production of command does not list %s", f.Verb)
 		}
 		if !strings.HasPrefix(f.Form, f.Verb) {

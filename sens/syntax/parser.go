@@ -33,7 +33,7 @@ import (
 // One parse function per verb carries its production (commands.go).
 //
 //	command   = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | reserved | print | reset | charts ) options .
+//	          | global | spearman | print | reset | charts ) options .
 //	options   = { name "=" arith } .
 //	drivers   = "drivers" arith .
 //	tornado   = "tornado" arith .
@@ -43,7 +43,8 @@ import (
 //	breakeven = "breakeven" arith "=" arith "over" name [ arith ".." arith ] .
 //	scenario  = "scenario" name ":" name "=" arith { "," name "=" arith } .
 //	compare   = "compare" arith "across" name { "," name } .
-//	reserved  = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
+//	global    = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
+//	spearman  = "spearman" name "," name "=" arith .
 //	print     = "print" STRING .
 //	reset     = "reset" .
 //	charts    = "charts" name .

@@ -1,0 +1,389 @@
+package sens
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"sort"
+
+	"gonum.org/v1/gonum/stat"
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// SimulationSettings are the settings of Simulate. A nil *SimulationSettings
+// means the defaults.
+type SimulationSettings struct {
+	Settings
+	// N is the number of samples (DefaultSimulationN when 0).
+	N int
+	// Seed chooses the random numbers; the same seed gives the same result.
+	Seed uint64
+	// Above, when not nil, asks for the probability that the output exceeds
+	// *Above.
+	Above *float64
+	// Workers is the number of goroutines (GOMAXPROCS when 0). It changes
+	// the time taken, never the result.
+	Workers int
+}
+
+// DefaultSimulationN is the number of samples Simulate draws by default.
+const DefaultSimulationN = 10000
+
+// SimulationResult is the result of Simulate: statistics of the output over
+// the samples that evaluated without error.
+type SimulationResult struct {
+	Kind   string `json:"kind"` // "simulation"
+	Output string `json:"output"`
+	Unit   string `json:"unit"`
+	N      int    `json:"n"` // samples drawn
+	Seed   uint64 `json:"seed"`
+	// Valid is the number of samples the statistics are over: N less those
+	// that failed.
+	Valid      int     `json:"valid"`
+	Mean       float64 `json:"mean"`
+	SD         float64 `json:"sd"`
+	StderrMean float64 `json:"stderr_mean"` // sd / √valid
+	Min        float64 `json:"min"`
+	P05        float64 `json:"p05"`
+	P10        float64 `json:"p10"`
+	P50        float64 `json:"p50"`
+	P90        float64 `json:"p90"`
+	P95        float64 `json:"p95"`
+	Max        float64 `json:"max"`
+	// Baseline is the output at the inputs' baselines and BaselinePercentile
+	// the percentage of samples at or below it.
+	Baseline           float64 `json:"baseline"`
+	BaselinePercentile float64 `json:"baseline_percentile"`
+	// Above, PAbove and PAboveStderr are the threshold asked for, the
+	// fraction of samples above it and that fraction's standard error,
+	// √(p(1-p)/valid).
+	Above        *float64 `json:"above,omitempty"`
+	PAbove       *float64 `json:"p_above,omitempty"`
+	PAboveStderr *float64 `json:"p_above_stderr,omitempty"`
+	// Failed counts the samples where the model could not be evaluated (a
+	// domain error such as the log of a negative number); FirstFailure is
+	// the first of them in sample order.
+	Failed       int            `json:"failed"`
+	FirstFailure *SampleFailure `json:"first_failure,omitempty"`
+	// RankCorrelations is each input's Spearman rank correlation with the
+	// output: what drives the spread. Sorted by |spearman| descending, ties
+	// by name.
+	RankCorrelations []RankCorrelation `json:"rank_correlations"`
+	// Correlations are the rank correlations imposed between inputs, as
+	// asked for and as achieved in the samples.
+	Correlations []CorrelationCheck `json:"correlations,omitempty"`
+	// UniformFromRange names the inputs that have a range but no
+	// distribution, sampled uniformly over the range.
+	UniformFromRange []string `json:"uniform_from_range,omitempty"`
+	Evaluations      int      `json:"evaluations"`
+
+	// Samples holds the output of every valid sample in sample order, for
+	// charts.
+	Samples []float64 `json:"-"`
+}
+
+// RankCorrelation is one input's rank correlation with the output.
+type RankCorrelation struct {
+	Name     string  `json:"name"`
+	Spearman float64 `json:"spearman"`
+}
+
+// CorrelationCheck is an imposed rank correlation between two inputs.
+type CorrelationCheck struct {
+	Inputs    [2]string `json:"inputs"`
+	Requested float64   `json:"requested"`
+	Achieved  float64   `json:"achieved"`
+}
+
+// SampleFailure is a sample the model could not evaluate.
+type SampleFailure struct {
+	Sample  int    `json:"sample"` // 0-based
+	Message string `json:"message"`
+	// At is where the failure arose, "file:line:col", when known.
+	At string `json:"at,omitempty"`
+	// Inputs holds the sample's input values (at most maxFailureInputs).
+	Inputs []SampleValue `json:"inputs"`
+}
+
+// SampleValue is an input's value in a sample.
+type SampleValue struct {
+	Name  string  `json:"name"`
+	Value float64 `json:"value"`
+	Unit  string  `json:"unit"`
+}
+
+const maxFailureInputs = 50
+
+// maxKeptFloats bounds the memory Simulate spends keeping every input's
+// samples for the rank correlations (64 MiB); beyond it they are drawn again
+// from their streams.
+const maxKeptFloats = 1 << 23
+
+// chunkRows returns the number of samples per chunk for k inputs: at most
+// 256 (the width of the tape's batched pass), fewer when k is large so that
+// a chunk's rows stay within 2 MiB.
+func chunkRows(k int) int {
+	return max(1, min(256, (1<<18)/max(k, 1)))
+}
+
+// Simulate draws N samples of the inputs from their distributions (an input
+// with only a range uniformly over it), imposes the problem's rank
+// correlations by the method of Iman and Conover (1982), and evaluates the
+// output at each sample in batches, on Workers goroutines:
+//
+//	mean = Σ y / n,  sd² = Σ (y - mean)² / (n-1),  stderr_mean = sd / √n
+//	P(y > T) ≈ p = #{y > T} / n,  stderr = √(p (1-p) / n)
+//
+// Quantiles interpolate linearly between order statistics (gonum's
+// stat.LinInterp). Each chunk of samples draws every input from a random
+// stream of its own, seeded from (Seed, chunk, input), and results are
+// combined in chunk order: the result is the same, bit for bit, whatever
+// the number of goroutines. Samples where the model fails to evaluate are
+// counted and the first reported, never silently dropped.
+//
+// The rank correlation of each input with the output (Spearman's, with
+// ties at their mean rank) ranks what drives the output's spread.
+func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
+	if s == nil {
+		s = &SimulationSettings{}
+	}
+	n := s.N
+	if n == 0 {
+		n = DefaultSimulationN
+	}
+	if n < 2 {
+		return nil, fmt.Errorf("simulate needs at least 2 samples, got %d", n)
+	}
+	sd, err := samplingDists(p, "simulate")
+	if err != nil {
+		return nil, err
+	}
+	k := len(p.Inputs)
+	res := &SimulationResult{Kind: "simulation", Output: p.Output, Unit: p.Unit, N: n, Seed: s.Seed,
+		UniformFromRange: sd.fromRange, Evaluations: n}
+	pr := &progress{s: &s.Settings, total: n + n/10}
+
+	// Correlated inputs are drawn whole and rearranged first.
+	corrCol := make([][]float64, k) // nil for an input drawn chunk by chunk
+	if len(p.Correlations) > 0 {
+		g := newCorrGroup(p.Correlations)
+		if !posDef(g.target) {
+			if err := checkConsistent(p.Inputs, p.Correlations); err != nil {
+				return nil, err
+			}
+		}
+		var pcg rand.PCG
+		cols := make([][]float64, len(g.members))
+		for gi, i := range g.members {
+			seedStream(&pcg, s.Seed, streamCorrelated, 0, uint64(i))
+			r := newRander(sd.dists[i], &pcg)
+			cols[gi] = make([]float64, n)
+			for j := range cols[gi] {
+				cols[gi][j] = r.Rand()
+			}
+			corrCol[i] = cols[gi]
+		}
+		seedStream(&pcg, s.Seed, streamScores, 0, 0)
+		if err := imanConover(cols, g.target, &pcg); err != nil {
+			return nil, err
+		}
+		for _, c := range p.Correlations {
+			res.Correlations = append(res.Correlations, CorrelationCheck{
+				Inputs:    [2]string{p.Inputs[c.I].Name, p.Inputs[c.J].Name},
+				Requested: c.Rho, Achieved: spearman(corrCol[c.I], corrCol[c.J]),
+			})
+		}
+	}
+
+	cs := chunkRows(k)
+	nChunks := (n + cs - 1) / cs
+	keep := n*k <= maxKeptFloats
+	var kept [][]float64
+	if keep {
+		kept = make([][]float64, k)
+		for i := range kept {
+			if kept[i] = corrCol[i]; kept[i] == nil {
+				kept[i] = make([]float64, n)
+			}
+		}
+	}
+	type worker struct {
+		f      Function
+		pcg    rand.PCG
+		r      []distuv.Rander
+		xs     []float64
+		column []float64
+	}
+	workers := make([]*worker, min(workerCount(s.Workers), nChunks))
+	for w := range workers {
+		wk := &worker{f: p.F.Clone(), xs: make([]float64, cs*k), column: make([]float64, cs)}
+		wk.r = make([]distuv.Rander, k)
+		for i, d := range sd.dists {
+			wk.r[i] = newRander(d, &wk.pcg)
+		}
+		workers[w] = wk
+	}
+	y := make([]float64, n)
+	failed := make([]bool, n)
+	failures := make([]*SampleFailure, nChunks) // the first failure of each chunk
+	err = runChunks(pr, len(workers), nChunks, func(w, c int) error {
+		wk := workers[w]
+		base := c * cs
+		m := min(cs, n-base)
+		for i := range k {
+			col := wk.column[:m]
+			if corrCol[i] != nil {
+				col = corrCol[i][base : base+m]
+			} else {
+				seedStream(&wk.pcg, s.Seed, streamSimulate, uint64(c), uint64(i))
+				r := wk.r[i]
+				for j := range col {
+					col[j] = r.Rand()
+				}
+				if keep {
+					copy(kept[i][base:], col)
+				}
+			}
+			for j, v := range col {
+				wk.xs[j*k+i] = v
+			}
+		}
+		yc := y[base : base+m]
+		if err := wk.f.EvalBatch(yc, wk.xs[:m*k], m); err != nil {
+			// Some sample failed: evaluate the chunk sample by sample to
+			// find every failure and keep every other result.
+			for j := range m {
+				row := wk.xs[j*k : (j+1)*k]
+				v, err := wk.f.Eval(row)
+				if err != nil {
+					failed[base+j] = true
+					v = math.NaN()
+					if failures[c] == nil {
+						failures[c] = sampleFailure(p, base+j, row, err)
+					}
+				}
+				yc[j] = v
+			}
+		}
+		pr.add(m)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	for _, f := range failures {
+		if f != nil {
+			res.FirstFailure = f
+			break
+		}
+	}
+	vals := make([]float64, 0, n)
+	for j, v := range y {
+		if failed[j] {
+			res.Failed++
+		} else {
+			vals = append(vals, v)
+		}
+	}
+	res.Valid = len(vals)
+	if res.Valid < 2 {
+		return nil, fmt.Errorf("simulate %s: %d of %d samples failed to evaluate; the first: %s", p.Output, res.Failed, n, res.FirstFailure.Message)
+	}
+	res.Samples = vals
+
+	base, err := p.F.Eval(p.Baseline())
+	if err != nil {
+		return nil, err
+	}
+	res.Baseline = base
+	summariseSamples(res, vals, s.Above)
+
+	// What drives the spread: each input's rank correlation with the output.
+	ry := ranks(make([]float64, len(vals)), vals)
+	rc := make([]RankCorrelation, k)
+	perInput := max(1, n/10/k)
+	err = runChunks(pr, len(workers), k, func(w, i int) error {
+		wk := workers[w]
+		x := kept0(kept, i)
+		if x == nil {
+			x = make([]float64, n)
+			for c := range nChunks {
+				seedStream(&wk.pcg, s.Seed, streamSimulate, uint64(c), uint64(i))
+				for j := c * cs; j < min(n, (c+1)*cs); j++ {
+					x[j] = wk.r[i].Rand()
+				}
+			}
+		}
+		if res.Failed > 0 {
+			xv := make([]float64, 0, len(vals))
+			for j, v := range x {
+				if !failed[j] {
+					xv = append(xv, v)
+				}
+			}
+			x = xv
+		}
+		rx := ranks(make([]float64, len(x)), x)
+		rc[i] = RankCorrelation{Name: p.Inputs[i].Name, Spearman: pearson(rx, ry)}
+		pr.add(perInput)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	sort.SliceStable(rc, func(a, b int) bool {
+		ka, kb := math.Abs(rc[a].Spearman), math.Abs(rc[b].Spearman)
+		if ka != kb {
+			return ka > kb
+		}
+		return rc[a].Name < rc[b].Name
+	})
+	res.RankCorrelations = rc
+	return res, nil
+}
+
+func kept0(kept [][]float64, i int) []float64 {
+	if kept == nil {
+		return nil
+	}
+	return kept[i]
+}
+
+// summariseSamples fills the statistics of the valid samples vals.
+func summariseSamples(res *SimulationResult, vals []float64, above *float64) {
+	nv := float64(len(vals))
+	res.Mean, res.SD = stat.MeanStdDev(vals, nil)
+	res.StderrMean = res.SD / math.Sqrt(nv)
+	sorted := slices.Clone(vals)
+	slices.Sort(sorted)
+	q := func(p float64) float64 { return stat.Quantile(p, stat.LinInterp, sorted, nil) }
+	res.Min, res.Max = sorted[0], sorted[len(sorted)-1]
+	res.P05, res.P10, res.P50, res.P90, res.P95 = q(0.05), q(0.10), q(0.50), q(0.90), q(0.95)
+	at := sort.SearchFloat64s(sorted, math.Nextafter(res.Baseline, math.Inf(1)))
+	res.BaselinePercentile = 100 * float64(at) / nv
+	if above != nil {
+		t := *above
+		cnt := len(sorted) - sort.SearchFloat64s(sorted, math.Nextafter(t, math.Inf(1)))
+		p := float64(cnt) / nv
+		se := math.Sqrt(p * (1 - p) / nv)
+		res.Above, res.PAbove, res.PAboveStderr = &t, &p, &se
+	}
+}
+
+// sampleFailure describes a sample that failed to evaluate.
+func sampleFailure(p *Problem, sample int, row []float64, err error) *SampleFailure {
+	f := &SampleFailure{Sample: sample, Message: err.Error()}
+	var ee *EvalError
+	if errors.As(err, &ee) && ee.Pos.Line > 0 {
+		f.At = ee.Pos.String()
+	}
+	for i, in := range p.Inputs {
+		if i == maxFailureInputs {
+			break
+		}
+		f.Inputs = append(f.Inputs, SampleValue{Name: in.Name, Value: row[i], Unit: in.Unit})
+	}
+	return f
+}
