@@ -12,12 +12,7 @@ import (
 )
 
 func morrisRun(t testing.TB, p *Problem, s *MorrisSettings) *MorrisResult {
-	t.Helper()
-	r, err := Morris(p, s)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return r
+	return must[*MorrisResult](t)(Morris(p, s))
 }
 
 // TestMorrisLinear: for a linear model every elementary effect is the

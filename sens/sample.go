@@ -203,3 +203,39 @@ func seedStream(pcg *rand.PCG, seed, purpose, block, column uint64) {
 	h = splitmix64(h ^ column)
 	pcg.Seed(h, splitmix64(h^0x5851f42d4c957f2d))
 }
+
+// drawer draws chunks of samples of a problem's inputs, every input of every
+// chunk from a random stream of its own: seedStream(seed, purpose, chunk,
+// input). A drawer is used by one goroutine.
+type drawer struct {
+	seed, purpose uint64
+	pcg           rand.PCG
+	r             []distuv.Rander
+	column        []float64
+}
+
+func newDrawer(dists []Dist, seed, purpose uint64, rows int) *drawer {
+	d := &drawer{seed: seed, purpose: purpose, column: make([]float64, rows), r: make([]distuv.Rander, len(dists))}
+	for i, x := range dists {
+		d.r[i] = newRander(x, &d.pcg)
+	}
+	return d
+}
+
+// draw returns the m values of input i in chunk c, in a buffer that the
+// next call reuses.
+func (d *drawer) draw(c, i, m int) []float64 {
+	seedStream(&d.pcg, d.seed, d.purpose, uint64(c), uint64(i))
+	col, r := d.column[:m], d.r[i]
+	for j := range col {
+		col[j] = r.Rand()
+	}
+	return col
+}
+
+// scatter writes col as column i of the rows of k values in xs.
+func scatter(xs, col []float64, i, k int) {
+	for j, v := range col {
+		xs[j*k+i] = v
+	}
+}

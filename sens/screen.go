@@ -3,11 +3,8 @@ package sens
 import (
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"sort"
 	"strings"
-
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // ScreenSettings are the settings of Screen. A nil *ScreenSettings means
@@ -137,21 +134,14 @@ func Screen(p *Problem, s *ScreenSettings) (*ScreenResult, error) {
 	sumLn := make([][]float64, groups) // Σ (x_i ∂f/∂x_i)², for lognormal inputs
 	y := make([]float64, n)
 	type worker struct {
-		f      Function
-		pcg    rand.PCG
-		r      []distuv.Rander
-		xs     []float64
-		column []float64
-		g      []float64
+		f  Function
+		d  *drawer
+		xs []float64
+		g  []float64
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), groups))
 	for w := range workers {
-		wk := &worker{f: p.F.Clone(), xs: make([]float64, cs*k), column: make([]float64, cs), g: make([]float64, k)}
-		wk.r = make([]distuv.Rander, k)
-		for i, d := range sd.dists {
-			wk.r[i] = newRander(d, &wk.pcg)
-		}
-		workers[w] = wk
+		workers[w] = &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamScreen, cs), xs: make([]float64, cs*k), g: make([]float64, k)}
 	}
 	ctx := s.ctx()
 	err = runChunks(pr, len(workers), groups, func(w, gi int) error {
@@ -164,14 +154,7 @@ func Screen(p *Problem, s *ScreenSettings) (*ScreenResult, error) {
 			base := c * cs
 			m := min(cs, n-base)
 			for i := range k {
-				seedStream(&wk.pcg, s.Seed, streamScreen, uint64(c), uint64(i))
-				col, r := wk.column[:m], wk.r[i]
-				for j := range col {
-					col[j] = r.Rand()
-				}
-				for j, v := range col {
-					wk.xs[j*k+i] = v
-				}
+				scatter(wk.xs, wk.d.draw(c, i, m), i, k)
 			}
 			for j := range m {
 				x := wk.xs[j*k : (j+1)*k]

@@ -10,21 +10,11 @@ import (
 )
 
 func screenRun(t testing.TB, p *Problem, s *ScreenSettings) *ScreenResult {
-	t.Helper()
-	r, err := Screen(p, s)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return r
+	return must[*ScreenResult](t)(Screen(p, s))
 }
 
 func screenInput(r *ScreenResult, name string) ScreenInput {
-	for _, x := range r.Inputs {
-		if x.Name == name {
-			return x
-		}
-	}
-	return ScreenInput{}
+	return named(r.Inputs, func(x ScreenInput) string { return x.Name }, name)
 }
 
 // TestScreenLinear: for y = Σ b_i x_i the measure is ν_i = b_i² exactly, and

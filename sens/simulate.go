@@ -9,7 +9,6 @@ import (
 	"sort"
 
 	"gonum.org/v1/gonum/stat"
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // SimulationSettings are the settings of Simulate. A nil *SimulationSettings
@@ -174,17 +173,13 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 				return nil, err
 			}
 		}
-		var pcg rand.PCG
+		d := newDrawer(sd.dists, s.Seed, streamCorrelated, n)
 		cols := make([][]float64, len(g.members))
 		for gi, i := range g.members {
-			seedStream(&pcg, s.Seed, streamCorrelated, 0, uint64(i))
-			r := newRander(sd.dists[i], &pcg)
-			cols[gi] = make([]float64, n)
-			for j := range cols[gi] {
-				cols[gi][j] = r.Rand()
-			}
+			cols[gi] = slices.Clone(d.draw(0, i, n))
 			corrCol[i] = cols[gi]
 		}
+		var pcg rand.PCG
 		seedStream(&pcg, s.Seed, streamScores, 0, 0)
 		if err := imanConover(cols, g.target, &pcg); err != nil {
 			return nil, err
@@ -210,20 +205,13 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		}
 	}
 	type worker struct {
-		f      Function
-		pcg    rand.PCG
-		r      []distuv.Rander
-		xs     []float64
-		column []float64
+		f  Function
+		d  *drawer
+		xs []float64
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), nChunks))
 	for w := range workers {
-		wk := &worker{f: p.F.Clone(), xs: make([]float64, cs*k), column: make([]float64, cs)}
-		wk.r = make([]distuv.Rander, k)
-		for i, d := range sd.dists {
-			wk.r[i] = newRander(d, &wk.pcg)
-		}
-		workers[w] = wk
+		workers[w] = &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamSimulate, cs), xs: make([]float64, cs*k)}
 	}
 	y := make([]float64, n)
 	failed := make([]bool, n)
@@ -233,22 +221,16 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		base := c * cs
 		m := min(cs, n-base)
 		for i := range k {
-			col := wk.column[:m]
+			var col []float64
 			if corrCol[i] != nil {
 				col = corrCol[i][base : base+m]
 			} else {
-				seedStream(&wk.pcg, s.Seed, streamSimulate, uint64(c), uint64(i))
-				r := wk.r[i]
-				for j := range col {
-					col[j] = r.Rand()
-				}
+				col = wk.d.draw(c, i, m)
 				if keep {
 					copy(kept[i][base:], col)
 				}
 			}
-			for j, v := range col {
-				wk.xs[j*k+i] = v
-			}
+			scatter(wk.xs, col, i, k)
 		}
 		yc := y[base : base+m]
 		if err := wk.f.EvalBatch(yc, wk.xs[:m*k], m); err != nil {
@@ -310,10 +292,7 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		if x == nil {
 			x = make([]float64, n)
 			for c := range nChunks {
-				seedStream(&wk.pcg, s.Seed, streamSimulate, uint64(c), uint64(i))
-				for j := c * cs; j < min(n, (c+1)*cs); j++ {
-					x[j] = wk.r[i].Rand()
-				}
+				copy(x[c*cs:], wk.d.draw(c, i, min(cs, n-c*cs)))
 			}
 		}
 		if res.Failed > 0 {

@@ -14,12 +14,7 @@ import (
 )
 
 func simulate(t testing.TB, p *Problem, s *SimulationSettings) *SimulationResult {
-	t.Helper()
-	r, err := Simulate(p, s)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return r
+	return must[*SimulationResult](t)(Simulate(p, s))
 }
 
 // within reports whether got is within z standard errors se of want.

@@ -10,21 +10,11 @@ import (
 )
 
 func sobolRun(t testing.TB, p *Problem, s *SobolSettings) *SobolResult {
-	t.Helper()
-	r, err := Sobol(p, s)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return r
+	return must[*SobolResult](t)(Sobol(p, s))
 }
 
 func sobolIndex(r *SobolResult, name string) SobolIndex {
-	for _, x := range r.Inputs {
-		if x.Name == name {
-			return x
-		}
-	}
-	return SobolIndex{}
+	return named(r.Inputs, func(x SobolIndex) string { return x.Name }, name)
 }
 
 // checkIndices compares estimated indices with analytic ones: within tol
