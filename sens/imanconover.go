@@ -72,59 +72,115 @@ func imanConover(cols [][]float64, target *mat.SymDense, src rand.Source) error 
 	s.Mul(&p, &qinv)
 	var t mat.Dense
 	t.Mul(r, s.T())
-	idx := make([]int, n)
 	sorted := make([]float64, n)
+	var rk ranker
 	for j := 0; j < c; j++ {
 		mat.Col(col, j, &t)
-		for i := range idx {
-			idx[i] = i
-		}
-		slices.SortStableFunc(idx, func(a, b int) int { return cmpFloat(col[a], col[b]) })
 		copy(sorted, cols[j])
 		slices.Sort(sorted)
-		for rank, i := range idx {
-			cols[j][i] = sorted[rank]
+		for r, x := range rk.order(col) {
+			cols[j][x.i] = sorted[r]
 		}
 	}
 	return nil
 }
 
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
-}
-
 // ranks writes the ranks of xs (1..n, ties given their mean rank) into dst
-// and returns it.
-func ranks(dst, xs []float64) []float64 {
-	n := len(xs)
-	idx := make([]int, n)
-	for i := range idx {
-		idx[i] = i
-	}
-	slices.SortFunc(idx, func(a, b int) int {
-		if c := cmpFloat(xs[a], xs[b]); c != 0 {
-			return c
-		}
-		return a - b
-	})
+// and returns it. It sorts by a radix sort on order-preserving keys, in
+// time linear in n.
+func ranks(dst, xs []float64) []float64 { return new(ranker).ranks(dst, xs) }
+
+// ranker ranks samples, keeping its scratch space from one call to the
+// next.
+type ranker struct{ a, tmp []keyed }
+
+func (r *ranker) ranks(dst, xs []float64) []float64 {
+	a := r.order(xs)
+	n := len(a)
 	for i := 0; i < n; {
 		j := i + 1
-		for j < n && xs[idx[j]] == xs[idx[i]] {
+		for j < n && a[j].key == a[i].key {
 			j++
 		}
 		r := float64(i+j+1) / 2 // mean of ranks i+1..j
 		for k := i; k < j; k++ {
-			dst[idx[k]] = r
+			dst[a[k].i] = r
 		}
 		i = j
 	}
 	return dst
+}
+
+// order returns the indices of xs with their keys, sorted by value (ties
+// in index order).
+func (r *ranker) order(xs []float64) []keyed {
+	n := len(xs)
+	if cap(r.a) < n {
+		r.a, r.tmp = make([]keyed, n), make([]keyed, n)
+	}
+	a := r.a[:n]
+	for i, x := range xs {
+		a[i] = keyed{key: floatKey(x), i: uint32(i)}
+	}
+	return radixSort(a, r.tmp[:n])
+}
+
+// keyed is a sort key and the index it came from.
+type keyed struct {
+	key uint64
+	i   uint32
+}
+
+// floatKey maps a float64 to a uint64 with the same order (for numbers;
+// -0 sorts before +0).
+func floatKey(x float64) uint64 {
+	b := math.Float64bits(x)
+	if b>>63 == 1 {
+		return ^b
+	}
+	return b | 1<<63
+}
+
+// radixSort sorts a by key, stably, using tmp (of the same length) as
+// scratch, and returns the sorted slice (a or tmp): a least-significant-
+// digit radix sort on the upper four bytes of the keys, skipping the bytes
+// all keys share, then an insertion sort of each run of keys equal in those
+// bytes (short for samples of a continuous distribution).
+func radixSort(a, tmp []keyed) []keyed {
+	var count [4][256]int
+	for _, x := range a {
+		k := x.key >> 32
+		for d := range 4 {
+			count[d][byte(k>>(8*d))]++
+		}
+	}
+	for d := range 4 {
+		c := &count[d]
+		shift := 32 + 8*d
+		if len(a) > 0 && c[byte(a[0].key>>shift)] == len(a) {
+			continue // every key has this byte
+		}
+		sum := 0
+		for b := range c {
+			c[b], sum = sum, sum+c[b]
+		}
+		for _, x := range a {
+			b := byte(x.key >> shift)
+			tmp[c[b]] = x
+			c[b]++
+		}
+		a, tmp = tmp, a
+	}
+	for i := 1; i < len(a); i++ {
+		x := a[i]
+		j := i
+		for j > 0 && a[j-1].key>>32 == x.key>>32 && a[j-1].key > x.key {
+			a[j] = a[j-1]
+			j--
+		}
+		a[j] = x
+	}
+	return a
 }
 
 // spearman returns Spearman's rank correlation of x and y: Pearson's

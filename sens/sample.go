@@ -23,12 +23,15 @@ type randDist interface {
 	rander(src rand.Source) distuv.Rander
 }
 
+// The uniform and triangular distributions are drawn by inverse transform
+// through gonum's closed-form quantiles (cheaper than their Rand methods,
+// with the same result in distribution).
 func (d uniformDist) rander(src rand.Source) distuv.Rander {
-	return distuv.Uniform{Min: d.Min, Max: d.Max, Src: src}
+	return quantileRander{d: d, rnd: rand.New(src)}
 }
 
 func (d triangularDist) rander(src rand.Source) distuv.Rander {
-	return distuv.NewTriangle(d.low, d.high, d.mode, src) // gonum's order: (low, high, mode)
+	return quantileRander{d: d, rnd: rand.New(src)}
 }
 
 func (d normalDist) rander(src rand.Source) distuv.Rander {

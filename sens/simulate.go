@@ -286,11 +286,19 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 	ry := ranks(make([]float64, len(vals)), vals)
 	rc := make([]RankCorrelation, k)
 	perInput := max(1, n/10/k)
+	type rankWorker struct {
+		rk    ranker
+		x, rx []float64
+	}
+	rws := make([]rankWorker, len(workers))
 	err = runChunks(pr, len(workers), k, func(w, i int) error {
-		wk := workers[w]
+		wk, rw := workers[w], &rws[w]
 		x := kept0(kept, i)
 		if x == nil {
-			x = make([]float64, n)
+			if rw.x == nil {
+				rw.x = make([]float64, n)
+			}
+			x = rw.x
 			for c := range nChunks {
 				copy(x[c*cs:], wk.d.draw(c, i, min(cs, n-c*cs)))
 			}
@@ -304,7 +312,10 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 			}
 			x = xv
 		}
-		rx := ranks(make([]float64, len(x)), x)
+		if rw.rx == nil {
+			rw.rx = make([]float64, len(vals))
+		}
+		rx := rw.rk.ranks(rw.rx, x)
 		rc[i] = RankCorrelation{Name: p.Inputs[i].Name, Spearman: pearson(rx, ry)}
 		pr.add(perInput)
 		return nil

@@ -1,0 +1,130 @@
+package sens
+
+import (
+	"math/rand/v2"
+	"testing"
+
+	"github.com/nudge-dev/nudge/sens/tape"
+	"github.com/nudge-dev/nudge/sens/tapebench"
+)
+
+// Benchmarks of the sampling analyses, each against the plain evaluations
+// it cannot do without, measured interleaved (tapebench.Pair) so that load on a
+// shared machine affects both sides alike:
+//
+//	go test ./sens/ -run '^$' -bench 'Simulate|SobolIndices|Screen' -benchtime=3x
+
+// tapeFunction is a Tape's output 0 as a Function.
+type tapeFunction struct{ t *tape.Tape }
+
+func (f *tapeFunction) Eval(x []float64) (float64, error) { return f.t.Eval(x, 0) }
+func (f *tapeFunction) Gradient(dst, x []float64) (float64, error) {
+	return f.t.Gradient(dst, x, 0)
+}
+func (f *tapeFunction) EvalBatch(dst, xs []float64, n int) error {
+	return f.t.ForwardBatch(dst, xs, n, 0)
+}
+func (f *tapeFunction) Clone() Function { return &tapeFunction{f.t.Clone()} }
+
+// benchProblem makes a problem of a tape whose inputs have baselines x,
+// giving the inputs distributions in turn: normal, uniform, triangular,
+// PERT and lognormal, each about ±20% of the baseline.
+func benchProblem(t *tape.Tape, x []float64) *Problem {
+	p := &Problem{Output: "y", F: &tapeFunction{t}}
+	for i, v := range x {
+		var d Dist
+		var err error
+		switch i % 5 {
+		case 0:
+			d, err = NewDist("normal", []float64{v, 0.1 * v})
+		case 1:
+			d, err = NewDist("uniform", []float64{0.8 * v, 1.2 * v})
+		case 2:
+			d, err = NewDist("triangular", []float64{0.8 * v, v, 1.3 * v})
+		case 3:
+			d, err = NewDist("pert", []float64{0.8 * v, v, 1.3 * v})
+		case 4:
+			d, err = NewDist("lognormal", []float64{v, 0.1 * v})
+		}
+		if err != nil {
+			panic(err)
+		}
+		p.Inputs = append(p.Inputs, NewInput(string(rune('a'+i%26))+string(rune('0'+i/26%10))+string(rune('0'+i/260)), v, v, v, d))
+	}
+	return p
+}
+
+// plainBatch returns a function that evaluates t at n random samples
+// around x (drawn once), in batches of tapebench.BatchN.
+func plainBatch(t *tape.Tape, x []float64, n int) func() error {
+	k := len(x)
+	m := min(n, tapebench.BatchN)
+	xs := make([]float64, m*k)
+	rng := rand.New(rand.NewPCG(1, 2))
+	for s := range m {
+		for j, v := range x {
+			xs[s*k+j] = v * (0.8 + 0.4*rng.Float64())
+		}
+	}
+	out := make([]float64, m)
+	return func() error {
+		for done := 0; done < n; done += m {
+			c := min(m, n-done)
+			if err := t.ForwardBatch(out[:c], xs[:c*k], c, 0); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+}
+
+// Simulate on the cost model (17 inputs of five distributions), one
+// worker, against the batched forward pass over as many samples: the
+// per-sample cost of sampling, statistics and the rank-correlation table.
+func BenchmarkSimulateVsBatch(b *testing.B) {
+	t, x := tapebench.CostModel(false), tapebench.CostBaseline()
+	p := benchProblem(t, x)
+	const n = 20_000
+	sim := func() error { _, err := Simulate(p, &SimulationSettings{N: n, Seed: 1, Workers: 1}); return err }
+	tapebench.Pair(b, 1, n, "simulate", "batch", sim, plainBatch(t, x, n))
+}
+
+// Simulate on one worker against two: the parallel speed-up (ratio).
+func BenchmarkSimulateParallel(b *testing.B) {
+	t, x := tapebench.CostModel(false), tapebench.CostBaseline()
+	p := benchProblem(t, x)
+	const n = 20_000
+	run := func(w int) func() error {
+		return func() error { _, err := Simulate(p, &SimulationSettings{N: n, Seed: 1, Workers: w}); return err }
+	}
+	tapebench.Pair(b, 1, n, "one", "two", run(1), run(2))
+}
+
+// Sobol' indices of a 20-input, 1,000-node model at n = 8192 on one worker
+// against n·(k+2) plain batched evaluations.
+func BenchmarkSobolIndicesVsBatch(b *testing.B) {
+	t, x := tapebench.GenModel(1000, 20, 5)
+	p := benchProblem(t, x)
+	const n = 8192
+	evals := n * (len(x) + 2)
+	sob := func() error { _, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1}); return err }
+	tapebench.Pair(b, 1, float64(evals), "sobol", "batch", sob, plainBatch(t, x, evals))
+}
+
+// Screening of a 100,000-input, 1e6-node model at n = 1000 on one worker
+// against 1,000 plain forward evaluations.
+func BenchmarkScreenVsForward(b *testing.B) {
+	t, x := tapebench.GenModel(1_000_000, 100_000, 1)
+	p := benchProblem(t, x)
+	const n = 1000
+	scr := func() error { _, err := Screen(p, &ScreenSettings{N: n, Seed: 1, Workers: 1}); return err }
+	fwd := func() error {
+		for range n {
+			if err := t.Forward(x); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+	tapebench.Pair(b, 1, n, "screen", "forward", scr, fwd)
+}
