@@ -40,6 +40,9 @@ type Indices struct {
 	Interval string
 	// Axis labels the value axis; "index" when empty.
 	Axis string
+	// Subtitle replaces the default subtitle ("Share of the variance of
+	// OUTPUT explained by each input").
+	Subtitle string
 }
 
 var _ Chart = (*Indices)(nil)
@@ -123,6 +126,9 @@ func (ix *Indices) frame() *frame {
 	f := &frame{title: ix.heading()}
 	if o := clean(ix.Output); o != "" {
 		f.subtitle = "Share of the variance of " + o + " explained by each input"
+	}
+	if s := clean(ix.Subtitle); s != "" {
+		f.subtitle = s
 	}
 	ib := NewIndexBars(ix.Items, len(ix.Series))
 	for s, name := range ix.Series {

@@ -40,6 +40,7 @@ func allCharts() map[string]Chart {
 		"distribution": sampleDistribution(),
 		"indices":      sampleIndices(),
 		"scatter":      &Scatter{XName: "rate", YName: "total", X: xs, Y: ys},
+		"effects":      sampleEffects(20),
 	}
 }
 
