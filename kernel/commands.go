@@ -55,13 +55,9 @@ func (c *Command) Usage() string {
 // registered.
 var commands = table(
 	driversCommand, tornadoCommand, spiderCommand, sweepCommand, breakevenCommand,
-	scenarioCommand, compareCommand, printCommand, resetCommand, chartsCommand,
+	scenarioCommand, compareCommand, simulateCommand, sobolCommand, morrisCommand,
+	screenCommand, spearmanCommand, printCommand, resetCommand, chartsCommand,
 )
-
-// reserved are the verbs the language keeps for the Monte Carlo and global
-// analyses, which this version does not have: using one is an error that
-// says so.
-var reserved = []string{"simulate", "sobol", "morris", "screen", "spearman"}
 
 func table(cs ...*Command) map[string]*Command {
 	m := make(map[string]*Command, len(cs))

@@ -3,7 +3,6 @@ package kernel
 import (
 	"context"
 	"os"
-	"slices"
 	"strings"
 	"testing"
 
@@ -11,8 +10,8 @@ import (
 )
 
 // TestCommandTable checks the one table of commands against the parser and
-// the documentation: every verb the parser knows runs a command or is
-// reserved, every command's verb is the parser's, its example parses as that
+// the documentation: every verb the parser knows runs a command, every
+// command's verb is the parser's, its example parses as that
 // command with options it takes, and the README's command table shows how
 // it is written.
 func TestCommandTable(t *testing.T) {
@@ -21,8 +20,8 @@ func TestCommandTable(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, v := range syntax.Verbs {
-		if (commands[v] == nil) == !slices.Contains(reserved, v) {
-			t.Errorf("verb %s: want exactly one of a command and a reserved word", v)
+		if commands[v] == nil {
+			t.Errorf("verb %s runs no command", v)
 		}
 	}
 	for v, c := range commands {
@@ -49,15 +48,6 @@ func TestCommandTable(t *testing.T) {
 		// A Markdown table writes | as \|.
 		if !strings.Contains(string(readme), "`"+strings.ReplaceAll(c.Usage(), "|", `\|`)+"`") {
 			t.Errorf("the README's command table lacks `%s`", c.Usage())
-		}
-	}
-}
-
-func TestReservedVerbs(t *testing.T) {
-	for _, v := range reserved {
-		err := New().Execute(context.Background(), "", "input a = 1\ny = 2 * a\n"+v+" y n=100", &captureSink{})
-		if err == nil || !strings.Contains(err.Error(), "3:1: "+v+" is not available in this version of nudge") {
-			t.Errorf("%s: %v", v, err)
 		}
 	}
 }

@@ -38,6 +38,11 @@ type Interp struct {
 
 	cells  int
 	warned *sens.Program // the last program whose compile warnings were shown
+
+	// noticed names the inputs already said to be sampled uniformly over
+	// their range, for noticedProg.
+	noticedProg *sens.Program
+	noticed     map[string]bool
 }
 
 // New returns an interpreter with an empty model.
@@ -129,9 +134,11 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 			}
 			return asCellError(err)
 		}
-		switch s.(type) {
+		switch s := s.(type) {
 		case *syntax.InputStmt, *syntax.FormulaStmt:
 			pending = true
+		case *syntax.CommandStmt:
+			pending = s.Verb == "spearman" // a declaration too
 		default:
 			pending = false
 		}

@@ -201,8 +201,12 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 			d := ee[t][i] - mu
 			ss += d * d
 		}
+		sigma := math.Sqrt(ss / float64(r-1))
+		if sigma <= 1e-9*sumAbs/float64(r) {
+			sigma = 0 // rounding noise of effects that are all equal
+		}
 		res.Inputs[i] = MorrisEffect{Name: in.Name, Unit: in.Unit, Low: in.Low, High: in.High,
-			Mu: mu, MuStar: sumAbs / float64(r), Sigma: math.Sqrt(ss / float64(r-1))}
+			Mu: mu, MuStar: sumAbs / float64(r), Sigma: sigma}
 	}
 	sort.SliceStable(res.Inputs, func(a, b int) bool {
 		x, y := res.Inputs[a], res.Inputs[b]

@@ -35,7 +35,7 @@ y = 3*a - 2*b + 5*c
 	for _, e := range r.Inputs {
 		rng := in[e.Name].High - in[e.Name].Low
 		want := coef[e.Name] * rng
-		if !scalar.EqualWithinAbsOrRel(e.Mu, want, 1e-9, 1e-9) || !scalar.EqualWithinAbsOrRel(e.MuStar, math.Abs(want), 1e-9, 1e-9) || e.Sigma > 1e-9*math.Abs(want) {
+		if !scalar.EqualWithinAbsOrRel(e.Mu, want, 1e-9, 1e-9) || !scalar.EqualWithinAbsOrRel(e.MuStar, math.Abs(want), 1e-9, 1e-9) || e.Sigma != 0 {
 			t.Errorf("%s: mu %v mu* %v sigma %v, want mu %v", e.Name, e.Mu, e.MuStar, e.Sigma, want)
 		}
 	}

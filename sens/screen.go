@@ -157,6 +157,9 @@ func Screen(p *Problem, s *ScreenSettings) (*ScreenResult, error) {
 				scatter(wk.xs, wk.d.draw(c, i, m), i, k)
 			}
 			for j := range m {
+				if j%16 == 15 && ctx.Err() != nil {
+					return ctx.Err()
+				}
 				x := wk.xs[j*k : (j+1)*k]
 				v, err := wk.f.Gradient(wk.g, x)
 				if err != nil {

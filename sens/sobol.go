@@ -201,6 +201,7 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		workers[w] = &worker{f: p.F.Clone(), seq: seq, bits: make([]uint32, 2*k),
 			a: make([]float64, cs*k), b: make([]float64, cs*k), y: make([]float64, cs), save: make([]float64, cs)}
 	}
+	ctx := s.ctx()
 	err = runChunks(pr, len(workers), nChunks, func(w, c int) error {
 		wk := workers[w]
 		base := c * cs
@@ -222,6 +223,9 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		}
 		// A_B^i: A with column i from B, one column at a time.
 		for i := range k {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
 			for j := range m {
 				wk.save[j], a[j*k+i] = a[j*k+i], b[j*k+i]
 			}
