@@ -85,7 +85,8 @@ type SobolIndex struct {
 // UnsettledPair is two inputs whose order in the ranking the sample cannot
 // tell: their total-order intervals overlap. SettleN is the n (a power of
 // two) at which intervals narrowing as 1/√n would stop overlapping, or 0
-// when no practical n would (the indices may be equal).
+// when that is more than maxSettleFactor times n (the indices are
+// practically equal).
 type UnsettledPair struct {
 	Inputs  [2]string `json:"inputs"`
 	SettleN int       `json:"settle_n"`
@@ -95,8 +96,9 @@ type UnsettledPair struct {
 // is not worth settling.
 const unsettledFloor = 0.05
 
-// maxSettleN is the largest n Sobol suggests.
-const maxSettleN = 1 << 24
+// maxSettleFactor bounds the n Sobol suggests, as a multiple of the n
+// used.
+const maxSettleFactor = 64
 
 // Sobol estimates every input's first-order and total-order Sobol' index of
 // the output, with the inputs drawn independently from their distributions
@@ -306,7 +308,7 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 //	n' = n ((h_a + h_b) / (T_a - T_b))²
 //
 // with h the half-widths: rounded up to a power of two, or 0 beyond
-// maxSettleN.
+// maxSettleFactor·n.
 func unsettled(ix []SobolIndex, n int) []UnsettledPair {
 	var out []UnsettledPair
 	for i := 0; i+1 < len(ix); i++ {
@@ -323,7 +325,7 @@ func unsettled(ix []SobolIndex, n int) []UnsettledPair {
 		settle := 0
 		if gap > 0 {
 			need := float64(n) * math.Pow((ha+hb)/gap, 2)
-			if need <= maxSettleN {
+			if need <= maxSettleFactor*float64(n) {
 				settle = 1 << bits.Len(uint(math.Ceil(need))-1)
 				settle = max(settle, 2*n)
 			}
