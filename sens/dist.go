@@ -151,6 +151,7 @@ func (d lognormalDist) Support() (float64, float64) { return 0, math.Inf(1) }
 type pertDist struct {
 	beta    distuv.Beta
 	a, m, b float64
+	table   *betaTable // fast quantiles for sampling designs
 }
 
 func newPERT(p []float64) (Dist, error) {
@@ -159,7 +160,8 @@ func newPERT(p []float64) (Dist, error) {
 		return nil, fmt.Errorf("pert needs low <= mode <= high and low < high, got %g, %g, %g", a, m, b)
 	}
 	w := b - a
-	return pertDist{distuv.Beta{Alpha: 1 + 4*(m-a)/w, Beta: 1 + 4*(b-m)/w}, a, m, b}, nil
+	beta := distuv.Beta{Alpha: 1 + 4*(m-a)/w, Beta: 1 + 4*(b-m)/w}
+	return pertDist{beta, a, m, b, newBetaTable(beta)}, nil
 }
 func (d pertDist) Name() string                { return "pert" }
 func (d pertDist) Params() []float64           { return []float64{d.a, d.m, d.b} }

@@ -8,6 +8,8 @@ import (
 	"slices"
 	"sort"
 
+	"gonum.org/v1/gonum/floats"
+
 	"github.com/nudge-dev/nudge/sens/qmc"
 )
 
@@ -181,6 +183,16 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		shift[d] = uint32(pcg.Uint64() >> 32)
 	}
 
+	// The quantile function of each input; for n of a few thousand and more,
+	// the PERT's through its table.
+	quantile := make([]func(float64) float64, k)
+	for i, d := range sd.dists {
+		quantile[i] = d.Quantile
+		if n >= betaCells/2 {
+			quantile[i] = fastQuantile(d)
+		}
+	}
+
 	// fa[j], fb[j] and fab[j*k+i] = f(A_B^i)_j.
 	fa, fb := make([]float64, n), make([]float64, n)
 	fab := make([]float64, n*k)
@@ -211,9 +223,9 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		wk.seq.Seek(uint64(base))
 		for j := range m {
 			wk.seq.NextBits(wk.bits)
-			for i, d := range sd.dists {
-				wk.a[j*k+i] = d.Quantile(unitFraction(wk.bits[i] ^ shift[i]))
-				wk.b[j*k+i] = d.Quantile(unitFraction(wk.bits[k+i] ^ shift[k+i]))
+			for i, q := range quantile {
+				wk.a[j*k+i] = q(unitFraction(wk.bits[i] ^ shift[i]))
+				wk.b[j*k+i] = q(unitFraction(wk.bits[k+i] ^ shift[k+i]))
 			}
 		}
 		a, b := wk.a[:m*k], wk.b[:m*k]
@@ -347,17 +359,17 @@ func percentile(sorted []float64, p float64) float64 {
 }
 
 // sobolTerms holds the per-row terms of the Sobol' estimators, so that a
-// bootstrap resample sums them instead of recomputing them:
+// bootstrap resample sums them instead of recomputing them. Row j holds
 //
-//	first[j*k+i] = (f(B)_j - f0) (f(A_B^i)_j - f(A)_j)
-//	total[j*k+i] = (f(A)_j - f(A_B^i)_j)² / 2
+//	terms[j·2k + i]     = (f(B)_j - f0) (f(A_B^i)_j - f(A)_j)
+//	terms[j·2k + k + i] = (f(A)_j - f(A_B^i)_j)² / 2
 //
 // with f0 the mean of f(A) and f(B) over all rows.
 type sobolTerms struct {
-	n, k         int
-	f0           float64
-	fa, fb       []float64 // centred on f0
-	first, total []float64
+	n, k   int
+	f0     float64
+	fa, fb []float64 // centred on f0
+	terms  []float64
 }
 
 func newSobolTerms(fa, fb, fab []float64, k int) *sobolTerms {
@@ -367,14 +379,15 @@ func newSobolTerms(fa, fb, fab []float64, k int) *sobolTerms {
 		sum += fa[j] + fb[j]
 	}
 	t := &sobolTerms{n: n, k: k, f0: sum / float64(2*n),
-		fa: make([]float64, n), fb: make([]float64, n), first: make([]float64, n*k), total: make([]float64, n*k)}
+		fa: make([]float64, n), fb: make([]float64, n), terms: make([]float64, 2*n*k)}
 	for j := range n {
 		a, b := fa[j]-t.f0, fb[j]-t.f0
 		t.fa[j], t.fb[j] = a, b
+		row := t.terms[2*j*k : 2*(j+1)*k]
 		for i := range k {
 			d := fab[j*k+i] - fa[j]
-			t.first[j*k+i] = b * d
-			t.total[j*k+i] = d * d / 2
+			row[i] = b * d
+			row[k+i] = d * d / 2
 		}
 	}
 	return t
@@ -384,17 +397,13 @@ func newSobolTerms(fa, fb, fab []float64, k int) *sobolTerms {
 // over the rows idx (every row once when idx is nil).
 func (t *sobolTerms) indices(idx []int) (first, total []float64, v float64) {
 	k := t.k
-	first, total = make([]float64, k), make([]float64, k)
+	acc := make([]float64, 2*k)
 	var s1, s2 float64
 	add := func(j int) {
 		a, b := t.fa[j], t.fb[j]
 		s1 += a + b
 		s2 += a*a + b*b
-		fr, tr := t.first[j*k:(j+1)*k], t.total[j*k:(j+1)*k]
-		for i := range k {
-			first[i] += fr[i]
-			total[i] += tr[i]
-		}
+		floats.Add(acc, t.terms[2*j*k:2*(j+1)*k])
 	}
 	m := t.n
 	if idx == nil {
@@ -410,11 +419,8 @@ func (t *sobolTerms) indices(idx []int) (first, total []float64, v float64) {
 	nn := float64(2 * m)
 	mean := s1 / nn
 	v = (s2 - nn*mean*mean) / (nn - 1)
-	for i := range k {
-		first[i] /= float64(m) * v
-		total[i] /= float64(m) * v
-	}
-	return first, total, v
+	floats.Scale(1/(float64(m)*v), acc)
+	return acc[:k:k], acc[k:], v
 }
 
 // unitFraction maps a 32-bit fraction to the middle of its cell, strictly

@@ -117,16 +117,20 @@ func TestSobolGFunction(t *testing.T) {
 
 // TestSobolLinear checks a linear model, whose indices are known exactly:
 // S_i = ST_i = b_i² var_i / Σ_j b_j² var_j (Saltelli et al. 2008, ch. 1),
-// with inputs of several distributions.
+// with inputs of several distributions (the PERT through its quantile
+// table, at this n).
 func TestSobolLinear(t *testing.T) {
 	p := problemOf(t, `
 input a = 10 ~ normal(10, 2)
 input b = 5 ~ uniform(2, 8)
 input c = 1 ~ triangular(0, 1, 2)
 input d = 3 (2..4)
-y = 3*a - 2*b + 5*c + 0.5*d
+input e = 1 ~ pert(0, 1, 4)
+y = 3*a - 2*b + 5*c + 0.5*d + 4*e
 `, "y")
-	vars := map[string]float64{"a": 9 * 4, "b": 4 * 36.0 / 12, "c": 25 * (0 + 1 + 4 - 0 - 0 - 2) / 18.0, "d": 0.25 * 4.0 / 12}
+	// PERT(0, 1, 4) is 4·Beta(2, 4): variance 16·8/(36·7).
+	vars := map[string]float64{"a": 9 * 4, "b": 4 * 36.0 / 12, "c": 25 * (0 + 1 + 4 - 0 - 0 - 2) / 18.0, "d": 0.25 * 4.0 / 12,
+		"e": 16 * 16 * 8 / (36 * 7.0)}
 	var sum float64
 	for _, v := range vars {
 		sum += v
