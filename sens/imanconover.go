@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -94,8 +95,11 @@ func ranks(dst, xs []float64) []float64 { return new(ranker).ranks(dst, xs) }
 // next.
 type ranker struct{ a, tmp []keyed }
 
-func (r *ranker) ranks(dst, xs []float64) []float64 {
-	a := r.order(xs)
+func (r *ranker) ranks(dst, xs []float64) []float64 { return midranks(dst, r.order(xs)) }
+
+// midranks writes into dst, for the sorted keys a, the rank of each
+// (1..n, ties given their mean rank) at the index it came from.
+func midranks(dst []float64, a []keyed) []float64 {
 	n := len(a)
 	for i := 0; i < n; {
 		j := i + 1
@@ -144,8 +148,8 @@ func floatKey(x float64) uint64 {
 // radixSort sorts a by key, stably, using tmp (of the same length) as
 // scratch, and returns the sorted slice (a or tmp): a least-significant-
 // digit radix sort on the upper four bytes of the keys, skipping the bytes
-// all keys share, then an insertion sort of each run of keys equal in those
-// bytes (short for samples of a continuous distribution).
+// all keys share, then a sort of each run of keys equal in those bytes
+// (short for samples of a continuous distribution).
 func radixSort(a, tmp []keyed) []keyed {
 	var count [4][256]int
 	for _, x := range a {
@@ -171,14 +175,29 @@ func radixSort(a, tmp []keyed) []keyed {
 		}
 		a, tmp = tmp, a
 	}
-	for i := 1; i < len(a); i++ {
-		x := a[i]
-		j := i
-		for j > 0 && a[j-1].key>>32 == x.key>>32 && a[j-1].key > x.key {
-			a[j] = a[j-1]
-			j--
+	// Runs equal in the upper bytes, in order of the full key: an insertion
+	// sort for a short run, a stable sort for a long one (an output that
+	// barely varies).
+	for i := 0; i < len(a); {
+		j := i + 1
+		for j < len(a) && a[j].key>>32 == a[i].key>>32 {
+			j++
 		}
-		a[j] = x
+		run := a[i:j]
+		if len(run) <= 32 {
+			for p := 1; p < len(run); p++ {
+				x := run[p]
+				q := p
+				for q > 0 && run[q-1].key > x.key {
+					run[q] = run[q-1]
+					q--
+				}
+				run[q] = x
+			}
+		} else {
+			slices.SortStableFunc(run, func(x, y keyed) int { return cmp.Compare(x.key, y.key) })
+		}
+		i = j
 	}
 	return a
 }

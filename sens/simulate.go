@@ -280,10 +280,17 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		return nil, err
 	}
 	res.Baseline = base
-	summariseSamples(res, vals, s.Above)
+	// One sort of the outputs gives both the quantiles and the ranks.
+	var rk ranker
+	order := rk.order(vals)
+	sorted := make([]float64, len(vals))
+	for r, x := range order {
+		sorted[r] = vals[x.i]
+	}
+	summariseSamples(res, vals, sorted, s.Above)
 
 	// What drives the spread: each input's rank correlation with the output.
-	ry := ranks(make([]float64, len(vals)), vals)
+	ry := midranks(make([]float64, len(vals)), order)
 	rc := make([]RankCorrelation, k)
 	perInput := max(1, n/10/k)
 	type rankWorker struct {
@@ -341,13 +348,12 @@ func kept0(kept [][]float64, i int) []float64 {
 	return kept[i]
 }
 
-// summariseSamples fills the statistics of the valid samples vals.
-func summariseSamples(res *SimulationResult, vals []float64, above *float64) {
+// summariseSamples fills the statistics of the valid samples vals, given
+// also sorted.
+func summariseSamples(res *SimulationResult, vals, sorted []float64, above *float64) {
 	nv := float64(len(vals))
 	res.Mean, res.SD = stat.MeanStdDev(vals, nil)
 	res.StderrMean = res.SD / math.Sqrt(nv)
-	sorted := slices.Clone(vals)
-	slices.Sort(sorted)
 	q := func(p float64) float64 { return stat.Quantile(p, stat.LinInterp, sorted, nil) }
 	res.Min, res.Max = sorted[0], sorted[len(sorted)-1]
 	res.P05, res.P10, res.P50, res.P90, res.P95 = q(0.05), q(0.10), q(0.50), q(0.90), q(0.95)

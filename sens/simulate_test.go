@@ -326,3 +326,42 @@ func TestSampledErrors(t *testing.T) {
 		t.Errorf("uniform_from_range %v, min %v, max %v", r.UniformFromRange, r.Min, r.Max)
 	}
 }
+
+// TestRanks checks ranks against their definition (1..n, ties at their mean
+// rank; common practice for Spearman's coefficient) on samples with ties,
+// negative values, values that agree in their upper bytes, and a nearly
+// constant output (one long run of equal upper bytes).
+func TestRanks(t *testing.T) {
+	naive := func(xs []float64) []float64 {
+		r := make([]float64, len(xs))
+		for i, x := range xs {
+			less, eq := 0, 0
+			for _, y := range xs {
+				if y < x {
+					less++
+				} else if y == x {
+					eq++
+				}
+			}
+			r[i] = float64(less) + float64(eq+1)/2
+		}
+		return r
+	}
+	near := make([]float64, 3000)
+	for i := range near {
+		near[i] = 1e9 + float64((i*7919)%3000)*1e-6
+	}
+	for _, xs := range [][]float64{
+		{3, -1, 2, 2, 0, -0.5, 2, 1e300, -1e-300, 0},
+		{1, 1 + 1e-15, 1 - 1e-15, 1, 1 + 2e-15},
+		near,
+	} {
+		got := ranks(make([]float64, len(xs)), xs)
+		want := naive(xs)
+		for i := range xs {
+			if got[i] != want[i] {
+				t.Fatalf("rank of %v = %v, want %v", xs[i], got[i], want[i])
+			}
+		}
+	}
+}
