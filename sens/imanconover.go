@@ -25,13 +25,14 @@ import (
 //
 // The target holds Pearson correlations of normal scores (scoreCorrelation
 // of the wanted Spearman coefficients), so that the rank correlation
-// achieved is close to the one asked for.
+// achieved is close to the one asked for. stop is called between the steps
+// (each linear or n log n in the samples) and its error returned.
 //
 // References:
 //   - R. L. Iman and W. J. Conover, A distribution-free approach to inducing
 //     rank correlation among input variables, Commun. Statist. Simula.
 //     Computa. 11 (1982) 311-334.
-func imanConover(cols [][]float64, target *mat.SymDense, src rand.Source) error {
+func imanConover(cols [][]float64, target *mat.SymDense, src rand.Source, stop func() error) error {
 	c := len(cols)
 	if c == 0 {
 		return nil
@@ -48,9 +49,15 @@ func imanConover(cols [][]float64, target *mat.SymDense, src rand.Source) error 
 	r := mat.NewDense(n, c, nil)
 	col := make([]float64, n)
 	for j := 0; j < c; j++ {
+		if err := stop(); err != nil {
+			return err
+		}
 		copy(col, scores)
 		rnd.Shuffle(n, func(a, b int) { col[a], col[b] = col[b], col[a] })
 		r.SetCol(j, col)
+	}
+	if err := stop(); err != nil {
+		return err
 	}
 	var e mat.SymDense
 	stat.CorrelationMatrix(&e, r, nil)
@@ -64,7 +71,7 @@ func imanConover(cols [][]float64, target *mat.SymDense, src rand.Source) error 
 	var q, p mat.TriDense
 	qc.LTo(&q)
 	pc.LTo(&p)
-	// S = P Q⁻¹, from S Q = P: solve Qᵀ Sᵀ = Pᵀ.
+	// S = P Q⁻¹ (Q is c × c and lower triangular).
 	var qinv mat.TriDense
 	if err := qinv.InverseTri(&q); err != nil {
 		return err
@@ -76,9 +83,16 @@ func imanConover(cols [][]float64, target *mat.SymDense, src rand.Source) error 
 	sorted := make([]float64, n)
 	var rk ranker
 	for j := 0; j < c; j++ {
+		if err := stop(); err != nil {
+			return err
+		}
 		mat.Col(col, j, &t)
-		copy(sorted, cols[j])
-		slices.Sort(sorted)
+		for r, x := range rk.order(cols[j]) {
+			sorted[r] = cols[j][x.i]
+		}
+		if err := stop(); err != nil {
+			return err
+		}
 		for r, x := range rk.order(col) {
 			cols[j][x.i] = sorted[r]
 		}
@@ -206,9 +220,19 @@ func radixSort(a, tmp []keyed) []keyed {
 // correlation of their ranks (gonum has no rank correlation). It is 0 when
 // either is constant.
 func spearman(x, y []float64) float64 {
-	rx := ranks(make([]float64, len(x)), x)
-	ry := ranks(make([]float64, len(y)), y)
-	return pearson(rx, ry)
+	r, _ := spearmanStop(x, y, func() error { return nil })
+	return r
+}
+
+// spearmanStop is spearman, calling stop between its steps.
+func spearmanStop(x, y []float64, stop func() error) (float64, error) {
+	var rk ranker
+	rx := rk.ranks(make([]float64, len(x)), x)
+	if err := stop(); err != nil {
+		return 0, err
+	}
+	ry := rk.ranks(make([]float64, len(y)), y)
+	return pearson(rx, ry), nil
 }
 
 // pearson returns stat.Correlation, or 0 when either side is constant.

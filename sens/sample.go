@@ -236,6 +236,22 @@ func (d *drawer) draw(c, i, m int) []float64 {
 	return col
 }
 
+// drawInto fills dst with input i's values of chunk c, in pieces, calling
+// stop between them; the values are those draw would give.
+func (d *drawer) drawInto(dst []float64, c, i int, stop func() error) error {
+	seedStream(&d.pcg, d.seed, d.purpose, uint64(c), uint64(i))
+	r := d.r[i]
+	for start := 0; start < len(dst); start += 1 << 16 {
+		if err := stop(); err != nil {
+			return err
+		}
+		for j := start; j < min(len(dst), start+1<<16); j++ {
+			dst[j] = r.Rand()
+		}
+	}
+	return nil
+}
+
 // scatter writes col as column i of the rows of k values in xs.
 func scatter(xs, col []float64, i, k int) {
 	for j, v := range col {

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 	"sort"
 
 	"gonum.org/v1/gonum/stat"
@@ -164,6 +163,15 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		UniformFromRange: sd.fromRange, Evaluations: n}
 	pr := &progress{s: &s.Settings, total: n + n/10}
 
+	// stop reports an interrupt between the steps that run on one goroutine.
+	ctx := s.ctx()
+	stop := func() error {
+		if err := ctx.Err(); err != nil {
+			return fmt.Errorf("stopped: %w", err)
+		}
+		return nil
+	}
+
 	// Correlated inputs are drawn whole and rearranged first.
 	corrCol := make([][]float64, k) // nil for an input drawn chunk by chunk
 	if len(p.Correlations) > 0 {
@@ -173,21 +181,31 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 				return nil, err
 			}
 		}
-		d := newDrawer(sd.dists, s.Seed, streamCorrelated, n)
+		d := newDrawer(sd.dists, s.Seed, streamCorrelated, 0)
 		cols := make([][]float64, len(g.members))
 		for gi, i := range g.members {
-			cols[gi] = slices.Clone(d.draw(0, i, n))
+			cols[gi] = make([]float64, n)
+			if err := d.drawInto(cols[gi], 0, i, stop); err != nil {
+				return nil, err
+			}
 			corrCol[i] = cols[gi]
 		}
 		var pcg rand.PCG
 		seedStream(&pcg, s.Seed, streamScores, 0, 0)
-		if err := imanConover(cols, g.target, &pcg); err != nil {
+		if err := imanConover(cols, g.target, &pcg, stop); err != nil {
 			return nil, err
 		}
 		for _, c := range p.Correlations {
+			if err := stop(); err != nil {
+				return nil, err
+			}
+			achieved, err := spearmanStop(corrCol[c.I], corrCol[c.J], stop)
+			if err != nil {
+				return nil, err
+			}
 			res.Correlations = append(res.Correlations, CorrelationCheck{
 				Inputs:    [2]string{p.Inputs[c.I].Name, p.Inputs[c.J].Name},
-				Requested: c.Rho, Achieved: spearman(corrCol[c.I], corrCol[c.J]),
+				Requested: c.Rho, Achieved: achieved,
 			})
 		}
 	}
@@ -280,6 +298,9 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		return nil, err
 	}
 	res.Baseline = base
+	if err := stop(); err != nil {
+		return nil, err
+	}
 	// One sort of the outputs gives both the quantiles and the ranks.
 	var rk ranker
 	order := rk.order(vals)
@@ -289,6 +310,9 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 	}
 	summariseSamples(res, vals, sorted, s.Above)
 
+	if err := stop(); err != nil {
+		return nil, err
+	}
 	// What drives the spread: each input's rank correlation with the output.
 	ry := midranks(make([]float64, len(vals)), order)
 	rc := make([]RankCorrelation, k)
@@ -309,6 +333,9 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 			for c := range nChunks {
 				copy(x[c*cs:], wk.d.draw(c, i, min(cs, n-c*cs)))
 			}
+		}
+		if err := stop(); err != nil {
+			return err
 		}
 		if res.Failed > 0 {
 			xv := make([]float64, 0, len(vals))
