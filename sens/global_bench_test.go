@@ -89,6 +89,16 @@ func BenchmarkSimulateVsBatch(b *testing.B) {
 	tapebench.Pair(b, 1, n, "simulate", "batch", sim, plainBatch(t, x, n))
 }
 
+// The same on a 1,000-node model of 20 inputs, where evaluation outweighs
+// drawing the inputs.
+func BenchmarkSimulateLargeVsBatch(b *testing.B) {
+	t, x := tapebench.GenModel(1000, 20, 5)
+	p := benchProblem(t, x)
+	const n = 20_000
+	sim := func() error { _, err := Simulate(p, &SimulationSettings{N: n, Seed: 1, Workers: 1}); return err }
+	tapebench.Pair(b, 1, n, "simulate", "batch", sim, plainBatch(t, x, n))
+}
+
 // Simulate on one worker against two: the parallel speed-up (ratio).
 func BenchmarkSimulateParallel(b *testing.B) {
 	t, x := tapebench.CostModel(false), tapebench.CostBaseline()
