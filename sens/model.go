@@ -317,9 +317,9 @@ func LoadModel(name string, src []byte) (*Model, error) {
 				m.DefineCorrelation(f, s)
 				continue
 			}
-			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas and scenarios")
+			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas, scenarios and rank correlations")
 		default:
-			errs.Add(f, s.Pos(), "an expression is not a declaration: a model file loaded here holds inputs, formulas and scenarios")
+			errs.Add(f, s.Pos(), "an expression is not a declaration: a model file loaded here holds inputs, formulas, scenarios and rank correlations")
 		}
 	}
 	// Scenarios are checked against the whole file: the order of lines does
