@@ -14,8 +14,9 @@
 //	   v
 //	Problem    one output as a Function of the inputs it depends on, in
 //	   |       the users' own units, with their baselines, ranges and
-//	   |       distributions
-//	   | an analysis: drivers, tornado, spider, sweep, break-even, compare
+//	   |       distributions, and the rank correlations among them
+//	   | an analysis: drivers, tornado, spider, sweep, break-even, compare;
+//	   | from the distributions: simulate, Sobol', Morris, screen
 //	   v
 //	result     a plain struct with JSON tags and a "kind" (package
 //	           kernel/render turns it into text, HTML and a chart)
@@ -38,7 +39,12 @@
 // An analysis needs only a Problem, so it also runs on a function written in
 // Go (FuncOf) with inputs made by hand (NewInput).
 //
+// The sampling analyses (Simulate, Sobol, Morris, Screen) run on every core
+// and give the same result for a seed whatever the number of goroutines;
+// sens/qmc supplies their Sobol' points.
+//
 // sens builds on sens/syntax (tokens, parser, positions), sens/unit (units
-// and dimensions) and sens/tape (the differentiation engine); it imports
+// and dimensions), sens/tape (the differentiation engine) and sens/qmc
+// (quasi-random points); it imports
 // neither the kernel nor the plotting package.
 package sens
