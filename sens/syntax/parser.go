@@ -6,7 +6,10 @@ import (
 )
 
 // The grammar, in EBNF. Newlines end statements except inside parentheses, where
-// they are ignored; a backslash at the end of a line continues it.
+// they are ignored, and after a binary operator (+ - * / ^, a comparison, and,
+// or) at the end of a line, which continues on the next line unless that line
+// starts a statement of its own ("input" or "name ="); a backslash at the end
+// of a line continues it too.
 //
 //	file      = { [ stmt ] NEWLINE } EOF .
 //	stmt      = input | formula | command | expr [ UNIT ] .
@@ -104,6 +107,7 @@ type parser struct {
 	depth    int  // expression nesting
 	stmtUnit bool // a trailing unit at the end of the line belongs to the statement
 	nested   int  // inside parentheses or call arguments
+	unclosed bool // the source ends inside parentheses
 }
 
 type bailout struct{}
@@ -115,6 +119,7 @@ func (p *parser) init(f *File) {
 	var open []Pos // positions of unclosed '('
 	lineStart := true
 	var lastNL Pos
+	last := NEWLINE // the last token kept
 	for {
 		tok, pos, lit := s.Scan()
 		if tok == COMMENT {
@@ -124,6 +129,12 @@ func (p *parser) init(f *File) {
 			lineStart, lastNL = true, pos
 			continue
 		}
+		// A line that ends with a binary operator continues on the next one,
+		// unless nothing follows or the next line starts a statement of its own.
+		if tok == NEWLINE && ContinuesLine(last) && p.nextLineContinues(&s) {
+			continue
+		}
+		last = tok
 		// Inside parentheses, a line that looks like a new statement means a
 		// parenthesis was left open: report it there and start afresh.
 		if lineStart && len(open) > 0 && p.looksLikeStatementStart(&s, tok, lit) {
@@ -143,6 +154,7 @@ func (p *parser) init(f *File) {
 		p.toks = append(p.toks, token{tok, pos, lit})
 		if tok == EOF {
 			if len(open) > 0 {
+				p.unclosed = true
 				p.errs.Add(f, open[len(open)-1], "'(' not closed: expected ')'")
 			}
 			break
@@ -150,6 +162,37 @@ func (p *parser) init(f *File) {
 	}
 	p.i = 0
 	p.load()
+}
+
+// ContinuesLine reports whether a line that ends with tok continues on the
+// next line: tok is a binary operator (+ - * / ^, a comparison, and, or).
+func ContinuesLine(tok Token) bool {
+	switch tok {
+	case ADD, SUB, MUL, QUO, POW, EQL, NEQ, LSS, LEQ, GTR, GEQ, AND, OR:
+		return true
+	}
+	return false
+}
+
+// nextLineContinues reports whether the text after a line that ends with a
+// binary operator continues it: the next line that is not blank or a comment
+// exists and does not start with "input" or "name =". The scanner is left
+// where it was.
+func (p *parser) nextLineContinues(s *Scanner) bool {
+	save, n := s.off, len(p.errs)
+	defer func() { s.off, p.errs = save, p.errs[:n] }()
+	tok, _, _ := s.Scan()
+	for tok == NEWLINE || tok == COMMENT {
+		tok, _, _ = s.Scan()
+	}
+	if tok == EOF || tok == INPUT {
+		return false
+	}
+	if tok == IDENT {
+		next, _, _ := s.Scan()
+		return next != ASSIGN
+	}
+	return true
 }
 
 // looksLikeStatementStart reports whether a line inside open parentheses starts
@@ -665,43 +708,25 @@ func writeExpr(b *strings.Builder, x Expr) {
 	}
 }
 
-// Incomplete reports whether src ends inside open parentheses, an unterminated
-// string, a trailing operator or a line continuation, so that a front end can ask
-// for more lines.
+// Incomplete reports whether the parser would read src together with a line
+// that follows it: src ends inside open parentheses, after a binary operator
+// (ContinuesLine) or with a backslash. A front end asks for another line
+// then; anything else is complete or an error, which Parse tells. It reads
+// the tokens as the parser does, so the two agree.
 func Incomplete(src string) bool {
 	t := strings.TrimRight(src, " \t\r\n")
 	if strings.HasSuffix(t, "\\") {
 		return true
 	}
-	f := NewFile("", []byte(src))
-	var errs ErrorList
-	var s Scanner
-	s.Init(f, &errs)
-	depth := 0
-	last := NEWLINE
-	for {
-		tok, _, _ := s.Scan()
-		switch tok {
-		case EOF:
-			if depth > 0 {
-				return true
-			}
-			switch last {
-			case ADD, SUB, MUL, QUO, POW, ASSIGN, COMMA, AND, OR, NOT, LSS, LEQ, GTR, GEQ, EQL, NEQ, TILDE, DOTDOT, PM:
-				return true
-			}
-			return false
-		case LPAREN:
-			depth++
-		case RPAREN:
-			depth--
-		case COMMENT:
-			continue
-		case NEWLINE:
-			if depth > 0 {
-				continue
-			}
-		}
-		last = tok
+	var p parser
+	p.init(NewFile("", []byte(src)))
+	if p.unclosed {
+		return true
 	}
+	for i := len(p.toks) - 1; i >= 0; i-- {
+		if tok := p.toks[i].tok; tok != EOF && tok != NEWLINE {
+			return ContinuesLine(tok)
+		}
+	}
+	return false
 }
