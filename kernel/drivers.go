@@ -5,7 +5,7 @@ import (
 	"github.com/nudge-dev/nudge/sens"
 )
 
-// topOption keeps the N largest rows of drivers and tornado.
+// topOption keeps the N largest rows of drivers, tornado and spider.
 var topOption = Option{Key: "top", Doc: "keep the N largest", Min: 1}
 
 var driversCommand = &Command{

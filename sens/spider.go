@@ -38,8 +38,17 @@ type SpiderResult struct {
 	// RangePct is P of the range -P%..+P%.
 	RangePct float64 `json:"span_pct"`
 	// Inputs holds one line per input, by spread descending, ties by name.
-	Inputs      []SpiderLine `json:"inputs"`
-	Evaluations int          `json:"evaluations"`
+	Inputs []SpiderLine `json:"inputs"`
+	// Rest summarises the lines left out by SpiderSettings.Top.
+	Rest        *SpiderRest `json:"rest,omitempty"`
+	Evaluations int         `json:"evaluations"`
+}
+
+// SpiderRest summarises the lines left out by SpiderSettings.Top.
+type SpiderRest struct {
+	Count int `json:"count"`
+	// LargestSpread is the largest spread among them.
+	LargestSpread float64 `json:"largest_spread"`
 }
 
 // SpiderSettings are the settings of Spider. A nil *SpiderSettings means the
@@ -53,6 +62,9 @@ type SpiderSettings struct {
 	// (DefaultSpiderPoints when 0); an even number is raised by one so that
 	// 0% is among them, and fewer than 3 are raised to 3.
 	Points int
+	// Top keeps the Top lines of largest spread and summarises the rest;
+	// 0 keeps all.
+	Top int
 }
 
 // DefaultSpiderRangePct and DefaultSpiderPoints are Spider's defaults.
@@ -145,5 +157,9 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 		}
 		return res.Inputs[a].Name < res.Inputs[b].Name
 	})
+	if s.Top > 0 && s.Top < len(res.Inputs) {
+		res.Rest = &SpiderRest{Count: len(res.Inputs) - s.Top, LargestSpread: res.Inputs[s.Top].Spread}
+		res.Inputs = res.Inputs[:s.Top]
+	}
 	return res, nil
 }

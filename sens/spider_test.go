@@ -76,3 +76,24 @@ y = a * x^0.75 + z
 		}
 	}
 }
+
+// Top keeps the lines of largest spread, in the result and so in its JSON,
+// and summarises the rest, as Tornado's Top does.
+func TestSpiderTop(t *testing.T) {
+	p := problemOf(t, "input a = 2\ninput b = 3\ninput c = 4\ny = a + 2*b + 3*c\n", "y")
+	all, err := Spider(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	top, err := Spider(p, &SpiderSettings{Top: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Spreads over ±30% (by hand): a 1.2, b 3.6, c 7.2.
+	if len(top.Inputs) != 2 || top.Inputs[0].Name != "c" || top.Inputs[1].Name != "b" || all.Rest != nil {
+		t.Fatalf("top lines %+v, rest of all %+v", top.Inputs, all.Rest)
+	}
+	if top.Rest == nil || top.Rest.Count != 1 || !scalar.EqualWithinAbsOrRel(top.Rest.LargestSpread, 1.2, 1e-12, 1e-12) {
+		t.Errorf("rest %+v, want 1 line of spread 1.2", top.Rest)
+	}
+}

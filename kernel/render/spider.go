@@ -31,7 +31,11 @@ func Spider(s *sens.SpiderResult, o *Options) *Result {
 	head := fmt.Sprintf("spider of %s: baseline %s; each input from %s to %s of its value, the others at baseline",
 		s.Output, unit.Format(s.Baseline, s.Unit), lo, hi)
 	r := &Result{Kind: "spider", Data: s, Caution: true, text: head + "\n" + tb.text(), html: tb.html(head)}
-	if n := len(s.Inputs) - len(lines); n > 0 {
+	n := len(s.Inputs) - len(lines)
+	if s.Rest != nil {
+		n += s.Rest.Count
+	}
+	if n > 0 {
 		r.note(fmt.Sprintf("… and %s more %s with smaller spreads", count(n), plural(n, "input", "inputs")))
 	}
 	ch := &plotting.Spider{Output: s.Output, Unit: s.Unit, Baseline: s.Baseline}
