@@ -127,11 +127,15 @@ func TestTornadoCommand(t *testing.T) {
 	if !strings.Contains(r.HTML(), "<table") || !strings.Contains(r.HTML(), "$/kg") {
 		t.Errorf("HTML lacks the table with units")
 	}
+	// The bundle stores the chart once, as the HTML's image.
 	b := r.Bundle()
-	for _, mime := range []string{"text/plain", "text/html", "application/json", "image/svg+xml", "image/png"} {
+	for _, mime := range []string{"text/plain", "text/html", render.ResultMIME} {
 		if _, ok := b[mime]; !ok {
 			t.Errorf("bundle lacks %s", mime)
 		}
+	}
+	if len(b) != 3 || strings.Count(b["text/html"].(string), "<img") != 1 {
+		t.Errorf("bundle of %d types, %d images in its HTML", len(b), strings.Count(b["text/html"].(string), "<img"))
 	}
 	// Progress closed with done == total.
 	if len(s.progress) != 1 {

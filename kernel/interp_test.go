@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
 )
 
@@ -53,13 +54,14 @@ func TestPrintAndStepWarning(t *testing.T) {
 		t.Errorf("stderr %q lacks the step warning", s.stderr.String())
 	}
 	b := s.results[0].Bundle()
-	for _, mime := range []string{"text/plain", "text/html", "application/json"} {
+	for _, mime := range []string{"text/plain", "text/html", render.ResultMIME} {
 		if _, ok := b[mime]; !ok {
 			t.Errorf("bundle lacks %s", mime)
 		}
 	}
-	if !strings.Contains(b["text/plain"].(string), "Caution") {
-		t.Errorf("drivers result carries no caution")
+	// The caution is shown once per cell, not in every result's bundle.
+	if !s.results[0].Caution || strings.Contains(b["text/plain"].(string), "Caution") {
+		t.Errorf("drivers result: caution %v, in its text %q", s.results[0].Caution, b["text/plain"])
 	}
 }
 
@@ -173,11 +175,18 @@ func TestChartsSetting(t *testing.T) {
 		if err != nil {
 			t.Fatalf("charts %s: %v", tc.setting, err)
 		}
-		b := s.results[len(s.results)-1].Bundle()
-		_, svg := b["image/svg+xml"]
-		_, png := b["image/png"]
-		if svg != tc.svg || png != tc.png {
-			t.Errorf("charts %s: svg %v png %v", tc.setting, svg, png)
+		// The chart is the HTML's one image: SVG, PNG, or the Unicode
+		// chart of the text.
+		r := s.results[len(s.results)-1]
+		h := r.Bundle()["text/html"].(string)
+		svg := strings.Contains(h, `src="data:image/svg+xml;base64,`)
+		png := strings.Contains(h, `src="data:image/png;base64,`)
+		text := strings.Contains(h, `<pre class="nudge-chart-text"`) && strings.Contains(h, "█")
+		if svg != (tc.svg && !tc.png) || png != tc.png || text != !tc.svg || strings.Count(h, "<img") > 1 {
+			t.Errorf("charts %s: HTML with svg %v, png %v, text chart %v", tc.setting, svg, png, text)
+		}
+		if (len(r.PNG()) > 0) != tc.png || (len(r.SVG()) > 0) != tc.svg {
+			t.Errorf("charts %s: %d bytes of PNG, %d of SVG", tc.setting, len(r.PNG()), len(r.SVG()))
 		}
 	}
 }

@@ -37,8 +37,8 @@ type Chart interface {
 	SVG() string
 	// PNG is like SVG but returns PNG bytes.
 	PNG() []byte
-	// HTML returns a <figure> holding the SVG as an <img> and a caption
-	// that describes the chart in words; text is HTML-escaped.
+	// HTML returns a <figure> holding the SVG as an <img> whose alt text
+	// describes the chart in words; text is HTML-escaped.
 	HTML() string
 	// Text draws the chart with Unicode characters in lines of at most
 	// width columns (80 when width <= 0; narrower widths are widened to
@@ -74,7 +74,7 @@ type chart interface {
 	height(w vg.Length) vg.Length
 	// draw draws the whole figure on c.
 	draw(c draw.Canvas)
-	// caption describes the chart in plain text for HTML.
+	// caption describes the chart in plain text: the end of its alt text.
 	caption() string
 	// frame returns the title, legend and notes drawn around the plot.
 	frame() *frame
@@ -151,42 +151,61 @@ func pngBytes(ch chart) []byte {
 // MathJax 2 and 3 skip.
 func htmlString(ch chart) string {
 	if ch.check() != nil {
-		return figureHTML(ch, "")
+		return figureHTML(ch, "", nil)
 	}
-	return figureHTML(ch, svgString(ch))
+	return figureHTML(ch, "image/svg+xml", []byte(svgString(ch)))
 }
 
 // FigureHTML is c.HTML() around an SVG of c already drawn (c.SVG()), so a
 // caller that wants both draws the chart once.
 func FigureHTML(c Chart, svg string) string {
+	return FigureImageHTML(c, "image/svg+xml", []byte(svg))
+}
+
+// FigureImageHTML is like FigureHTML for an image of c already drawn in the
+// format mime ("image/svg+xml" or "image/png"), such as c.PNG().
+func FigureImageHTML(c Chart, mime string, img []byte) string {
 	ch, ok := c.(chart)
 	if !ok {
 		return c.HTML()
 	}
-	return figureHTML(ch, svg)
+	return figureHTML(ch, mime, img)
 }
 
-func figureHTML(ch chart, svg string) string {
-	title := html.EscapeString(ch.heading())
+// AltText describes c in words, as its figure's alt text does: the title
+// and what the chart shows.
+func AltText(c Chart) string {
+	ch, ok := c.(chart)
+	if !ok {
+		return ""
+	}
+	return altText(ch)
+}
+
+func altText(ch chart) string {
+	alt := ch.heading()
+	if c := ch.caption(); c != "" {
+		alt = strings.TrimRight(alt, ".") + ". " + c
+	}
+	return alt
+}
+
+// figureHTML is the <figure> of a chart: the image as a data URI, described
+// for screen readers by its alt text (the title and what the chart shows), so
+// the description is the image's accessible text rather than a second
+// paragraph under it.
+func figureHTML(ch chart, mime string, img []byte) string {
 	if err := ch.check(); err != nil {
 		return `<div class="nudge-chart nudge-chart-error ` + noMathJax + `" style="color:#9C2B12">` +
-			title + ": " + html.EscapeString(err.Error()) + `</div>`
+			html.EscapeString(ch.heading()) + ": " + html.EscapeString(err.Error()) + `</div>`
 	}
 	var b strings.Builder
 	b.WriteString(`<figure class="nudge-chart ` + noMathJax + `" style="margin:0.5em 0">`)
 	b.WriteString(`<img style="max-width:100%;height:auto" alt="`)
-	b.WriteString(title)
-	b.WriteString(`" src="data:image/svg+xml;base64,`)
-	b.WriteString(base64.StdEncoding.EncodeToString([]byte(svg)))
-	b.WriteString(`">`)
-	if c := ch.caption(); c != "" {
-		b.WriteString(`<figcaption style="font-size:0.85em;color:#5F6670;max-width:`)
-		fmt.Fprintf(&b, "%.0fpx", float64(DefaultWidth.Dots(DefaultDPI)))
-		b.WriteString(`">`)
-		b.WriteString(html.EscapeString(c))
-		b.WriteString(`</figcaption>`)
-	}
-	b.WriteString(`</figure>`)
+	b.WriteString(html.EscapeString(altText(ch)))
+	b.WriteString(`" src="data:` + mime + `;base64,`)
+	b.WriteString(base64.StdEncoding.EncodeToString(img))
+	b.WriteString(`"></figure>`)
 	return b.String()
 }
 

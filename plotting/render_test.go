@@ -73,8 +73,11 @@ func TestNotebookMethods(t *testing.T) {
 			if err != nil || string(svg) != nb.SVG() {
 				t.Errorf("HTML's image is not the chart's SVG (err %v)", err)
 			}
-			if !strings.Contains(html, "<figcaption") {
-				t.Errorf("HTML has no caption")
+			// The description is the image's accessible text, not a
+			// paragraph of its own.
+			alt := regexp.MustCompile(`alt="([^"]*)"`).FindStringSubmatch(html)
+			if alt == nil || len(alt[1]) < 40 || strings.Contains(html, "<figcaption") || strings.Contains(html, "<p") {
+				t.Errorf("HTML's image has no description as its alt text: %.300s", html)
 			}
 			// Captions hold dollar amounts: MathJax must leave them alone.
 			if !strings.Contains(html, `class="nudge-chart tex2jax_ignore mathjax_ignore"`) {
@@ -104,7 +107,7 @@ func TestHTMLEscaping(t *testing.T) {
 	if strings.Contains(html, "<script") || strings.Contains(html, "<b>") || strings.Contains(html, "<i>") {
 		t.Errorf("HTML has unescaped markup: %s", html[:min(len(html), 300)])
 	}
-	if !strings.Contains(html, `alt="Costs &lt;script&gt;alert(&#34;x&#34;)&lt;/script&gt; &amp; &#34;more&#34;"`) {
+	if !strings.Contains(html, `alt="Costs &lt;script&gt;alert(&#34;x&#34;)&lt;/script&gt; &amp; &#34;more&#34;. `) {
 		t.Errorf("alt text not escaped as expected: %s", html[:min(len(html), 300)])
 	}
 	if !strings.Contains(html, "total&lt;i&gt;") {

@@ -32,10 +32,11 @@ const Caution = "Caution: Results describe the model, not the world: they hold o
 type Options struct {
 	// Width is the width of text charts in columns (60 when 0).
 	Width int
-	// PNG adds a PNG image of the chart beside the SVG.
+	// PNG draws the HTML figure as a PNG image rather than an SVG, for
+	// reports and mail readers that show no SVG; Result.PNG returns it.
 	PNG bool
 	// NoCharts leaves out the SVG, the PNG and the HTML figure: charts are
-	// drawn as Unicode text only.
+	// drawn as Unicode text only, in the HTML as in the text.
 	NoCharts bool
 }
 
@@ -75,15 +76,22 @@ type Result struct {
 // caution, which a front end shows once.
 func (r *Result) Text() string { return r.text }
 
-// HTML returns the result as an HTML fragment: its table, notes and chart, and
-// the caution, in a <div> that notebook MathJax leaves alone (a cost report is
-// full of dollar signs).
+// HTML returns the result as an HTML fragment: its table, notes and chart,
+// and the caution, in a <div> that notebook MathJax leaves alone (a cost
+// report is full of dollar signs). It is what a Go notebook kernel shows for
+// the result; a Jupyter bundle (Bundle) leaves the caution to the end of the
+// cell.
 func (r *Result) HTML() string {
 	h := r.html
 	if r.Caution {
 		h += `<p class="nudge-caution" style="font-size:85%;color:#555">` + html.EscapeString(Caution) + `</p>`
 	}
-	return `<div class="nudge-result tex2jax_ignore mathjax_ignore">` + h + `</div>`
+	return wrapHTML(h)
+}
+
+// wrapHTML puts a result's HTML in the <div> every result has.
+func wrapHTML(body string) string {
+	return `<div class="nudge-result tex2jax_ignore mathjax_ignore">` + body + `</div>`
 }
 
 // SVG returns the chart as an SVG document, or "" when the result has none
@@ -102,50 +110,33 @@ func (r *Result) JSON() []byte {
 	return b
 }
 
-// Bundle returns the result as a MIME bundle for Jupyter's display messages:
-// text/plain (with the caution), text/html, image/svg+xml and image/png when
-// drawn, and the JSON object.
-func (r *Result) Bundle() map[string]any {
-	text := r.text
-	if r.Caution {
-		text += "\n" + Caution
-	}
-	b := map[string]any{"text/plain": strings.TrimRight(text, "\n")}
-	if r.html != "" {
-		b["text/html"] = r.HTML()
-	}
-	if len(r.svg) > 0 {
-		b["image/svg+xml"] = string(r.svg)
-	}
-	if len(r.png) > 0 {
-		b["image/png"] = r.png // encoding/json writes []byte as base64, as Jupyter expects
-	}
-	// Already encoded: the message encoder copies it as it is.
-	b["application/json"] = json.RawMessage(r.JSON())
-	return b
-}
-
 // message returns a result that is a line of text, such as a definition.
 func message(kind string, data any, text string) *Result {
 	return &Result{Kind: kind, Data: data, text: text,
 		html: `<p class="nudge-value">` + html.EscapeString(text) + `</p>`}
 }
 
-// attach adds a chart to r: its Unicode form to the text, and unless charts
-// are off, its SVG (and PNG) and its HTML figure after the table, since a
-// notebook shows the richest of text/html and image/svg+xml, not both.
+// attach adds a chart to r: its Unicode form to the text, and to the HTML
+// after the table either the same Unicode chart (charts text) or the chart
+// drawn as an image, SVG or with Options.PNG a PNG. The image is stored once,
+// in the HTML, since a notebook shows one representation of a result.
 func (r *Result) attach(ch plotting.Chart, o *Options) {
 	if ch == nil || ch.Validate() != nil {
 		return
 	}
-	r.text += "\n" + ch.Text(o.width())
+	txt := ch.Text(o.width())
+	r.text += "\n" + txt
 	if o != nil && o.NoCharts {
+		r.html += `<pre class="nudge-chart-text" role="img" aria-label="` + html.EscapeString(plotting.AltText(ch)) + `">` +
+			html.EscapeString(strings.TrimRight(txt, "\n")) + `</pre>`
 		return
 	}
 	svg := ch.SVG()
 	r.svg = []byte(svg)
 	if o != nil && o.PNG {
 		r.png = ch.PNG()
+		r.html += plotting.FigureImageHTML(ch, "image/png", r.png)
+		return
 	}
 	r.html += plotting.FigureHTML(ch, svg)
 }

@@ -1,6 +1,7 @@
 package render
 
 import (
+	"fmt"
 	"html"
 	"math"
 	"sort"
@@ -23,13 +24,26 @@ func (t *table) add(cells ...string) { t.rows = append(t.rows, cells) }
 
 func width(s string) int { return utf8.RuneCountInString(s) }
 
+// shown returns the rows a table shows, at most maxTableRows, and a line
+// that counts the rest ("" when none is left out). Renderers that choose their
+// own rows (the largest bars, evenly spread points) stay under the cap; this
+// bounds any other table, however long its result.
+func (t *table) shown() ([][]string, string) {
+	if len(t.rows) <= maxTableRows {
+		return t.rows, ""
+	}
+	n := len(t.rows) - maxTableRows
+	return t.rows[:maxTableRows], fmt.Sprintf("… and %s more %s (the JSON holds all of them)", count(n), plural(n, "row", "rows"))
+}
+
 // text renders the table with columns padded to their widest cell.
 func (t *table) text() string {
+	rows, more := t.shown()
 	w := make([]int, len(t.head))
 	for i, h := range t.head {
 		w[i] = width(h)
 	}
-	for _, r := range t.rows {
+	for _, r := range rows {
 		for i, c := range r {
 			if i < len(w) && width(c) > w[i] {
 				w[i] = width(c)
@@ -61,8 +75,11 @@ func (t *table) text() string {
 		sep[i] = strings.Repeat("─", w[i])
 	}
 	line(sep)
-	for _, r := range t.rows {
+	for _, r := range rows {
 		line(r)
+	}
+	if more != "" {
+		b.WriteString(more + "\n")
 	}
 	return b.String()
 }
@@ -80,12 +97,16 @@ func (t *table) html(caption string) string {
 		b.WriteString(cellTag("th", i < len(t.right) && t.right[i], h))
 	}
 	b.WriteString("</tr></thead><tbody>")
-	for _, r := range t.rows {
+	rows, more := t.shown()
+	for _, r := range rows {
 		b.WriteString("<tr>")
 		for i, c := range r[:min(n, len(r))] {
 			b.WriteString(cellTag("td", i < len(t.right) && t.right[i], c))
 		}
 		b.WriteString("</tr>")
+	}
+	if more != "" {
+		fmt.Fprintf(&b, `<tr class="nudge-more"><td colspan="%d">%s</td></tr>`, n, html.EscapeString(more))
 	}
 	b.WriteString("</tbody></table>")
 	return b.String()
