@@ -297,7 +297,7 @@ func TestAnalysisErrors(t *testing.T) {
 		{"sweep total over rate 40..40", 1, 23, "is empty"},
 		{"sweep total over rate 40 [kg]..80", 1, 26, "is in [kg] but must be in [$/h]"},
 		{"sweep total over rate 40..80 and rate 1..2", 1, 34, "two different inputs"},
-		{"sweep total over rate 40..80 step=3", 1, 30, "sweep has no option step (options: n, steps, target)"},
+		{"sweep total over rate 40..80 step=3", 1, 30, "sweep has no option step (options: n, steps, target, limit)"},
 		{"sweep total over rate 40..80 n=1", 1, 32, "n must be a whole number from 2"},
 		{"sweep total over rate 40..80 n=3 steps=2", 1, 34, "either n= (points) or steps="},
 		{"tornado total top=0", 1, 19, "top must be a whole number from 1"},

@@ -23,7 +23,7 @@ LONG_MODEL = "\n".join(
     ["input a = 1 (0.5..2)", "input b = 2 (1..3)", "f0 = a * b"]
     + [f"f{i} = f{i-1} * 0.999 + sqrt(a + {i}) * b / (1 + a)" for i in range(1, 900)]
 )
-LONG_SWEEP = "sweep f899 over a 0.5..2 and b 1..3 n=1000"
+LONG_SWEEP = "sweep f899 over a 0.5..2 and b 1..3 n=1000 limit=1000000"
 
 # Every wait is a hang guard, never a budget: the machine running the tests
 # may be busy, and no test asserts how long anything took.
@@ -69,7 +69,7 @@ class LiveKernelTests(unittest.TestCase):
         return reply, collect(self.kc, msg_id, timeout)
 
     def test_progress_updates_in_place(self):
-        reply, msgs = self.run_cell(LONG_MODEL + "\nsweep f899 over a 0.5..2 and b 1..3 n=250")
+        reply, msgs = self.run_cell(LONG_MODEL + "\nsweep f899 over a 0.5..2 and b 1..3 n=250 limit=62500")
         self.assertEqual(reply["content"]["status"], "ok")
         ids = [m["content"]["transient"]["display_id"] for m in msgs
                if m["msg_type"] == "display_data" and m["content"].get("transient", {}).get("display_id")]
