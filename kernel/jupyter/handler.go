@@ -76,6 +76,10 @@ type Output interface {
 	// ClearOutput clears the cell's output; with wait the clearing
 	// happens when the next output arrives, which avoids flicker.
 	ClearOutput(wait bool)
+	// Payload adds an entry to the payload list of the execute_reply,
+	// for example {"source": "ask_exit", "keepkernel": false}, which asks
+	// a console to end the session. Payloads go with an "ok" reply only.
+	Payload(p map[string]any)
 }
 
 // Bundle is a MIME bundle: representations of one value keyed by MIME

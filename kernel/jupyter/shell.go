@@ -212,7 +212,7 @@ func (k *Kernel) execute(m *message) (abort bool) {
 
 		if err == nil {
 			k.reply(m, "execute_reply", map[string]any{
-				"status": "ok", "execution_count": n, "user_expressions": ue, "payload": []any{},
+				"status": "ok", "execution_count": n, "user_expressions": ue, "payload": out.payloads(),
 			})
 			return
 		}
@@ -298,8 +298,29 @@ type cellOutput struct {
 	parent []byte
 	silent bool
 
-	mu   sync.Mutex
-	done bool
+	mu      sync.Mutex
+	done    bool
+	payload []any
+}
+
+func (o *cellOutput) Payload(p map[string]any) {
+	o.mu.Lock()
+	defer o.mu.Unlock()
+	if o.done {
+		o.k.log.Printf("jupyter: payload after its cell finished: dropped")
+		return
+	}
+	o.payload = append(o.payload, p)
+}
+
+// payloads returns the payload list of the reply, never nil.
+func (o *cellOutput) payloads() []any {
+	o.mu.Lock()
+	defer o.mu.Unlock()
+	if o.payload == nil {
+		return []any{}
+	}
+	return o.payload
 }
 
 func (o *cellOutput) finish() {
