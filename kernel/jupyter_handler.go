@@ -2,7 +2,6 @@ package kernel
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"html"
 	"io"
@@ -16,7 +15,6 @@ import (
 	"time"
 
 	"github.com/nudge-dev/nudge/kernel/jupyter"
-	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/syntax"
 	"github.com/nudge-dev/nudge/sens/unit"
@@ -63,11 +61,17 @@ func watchParent(ctx context.Context, logger *log.Logger, every time.Duration) c
 // Handler adapts an Interp to the Jupyter protocol layer.
 type Handler struct {
 	in       *Interp
-	progress atomic.Int64
+	progress atomic.Int64 // numbers the progress lines of the session
+	// console is set once a client asks is_complete: a terminal console
+	// (jupyter console asks before every cell) prints every display and
+	// ignores updates, so the session shows no progress lines.
+	console atomic.Bool
+	// now is the clock of progress lines (time.Now; tests set their own).
+	now func() time.Time
 }
 
 // NewHandler returns a jupyter.Handler running cells in in.
-func NewHandler(in *Interp) *Handler { return &Handler{in: in} }
+func NewHandler(in *Interp) *Handler { return &Handler{in: in, now: time.Now} }
 
 var _ jupyter.Handler = (*Handler)(nil)
 
@@ -83,109 +87,23 @@ func (h *Handler) Info() jupyter.KernelInfo {
 			Version:       Version,
 			MIMEType:      "text/x-nudge",
 			FileExtension: ".nudge",
+			// No front end can load a highlighter of ours without a
+			// package of its own (a Python package for Pygments, an
+			// extension for JupyterLab). Julia's rules are the closest that
+			// every front end has: # comments, numbers with _ and
+			// exponents, double-quoted strings, ^ and Unicode operators
+			// such as ± and ×; they mark no token of a model as an error.
+			PygmentsLexer:  "julia",
+			CodeMirrorMode: "julia",
 		},
 	}
 }
 
-// jupyterSink turns interpreter output into Jupyter messages.
-type jupyterSink struct {
-	h       *Handler
-	out     jupyter.Output
-	opts    render.Options
-	last    *jupyter.Bundle
-	shown   map[string]bool
-	updated map[string]time.Time
-}
-
-func (s *jupyterSink) Stream(name, text string) { s.out.Stream(name, text) }
-
-func (s *jupyterSink) Result(r *render.Result, last bool) {
-	b := &jupyter.Bundle{Data: r.Bundle(), Metadata: map[string]any{}}
-	if last {
-		s.last = b
-		return
-	}
-	s.out.Display(b, "")
-}
-
-// Progress shows a progress line that updates in place, at most ten times a
-// second.
-func (s *jupyterSink) Progress(id, label string, done, total int) {
-	if s.shown == nil {
-		s.shown, s.updated = map[string]bool{}, map[string]time.Time{}
-	}
-	frac := 0.0
-	if total > 0 {
-		frac = float64(done) / float64(total)
-	}
-	bar := render.Bar(frac, 24)
-	text := fmt.Sprintf("%s %s %3.0f%% (%d of %d)", label, bar+strings.Repeat(" ", 24-len([]rune(bar))), 100*frac, done, total)
-	b := &jupyter.Bundle{Data: map[string]any{"text/plain": text}, Metadata: map[string]any{}}
-	if s.updated[id].IsZero() && s.shown[id] {
-		return // finished already
-	}
-	if done >= total && s.shown[id] {
-		// Finished: the progress line gives way, so a report keeps only results.
-		s.out.UpdateDisplay(&jupyter.Bundle{Data: map[string]any{"text/plain": ""}, Metadata: map[string]any{}}, id)
-		s.updated[id] = time.Time{}
-		return
-	}
-	switch {
-	case !s.shown[id]:
-		s.shown[id] = true
-		s.updated[id] = time.Now()
-		s.out.Display(b, id)
-	case done >= total || time.Since(s.updated[id]) > 100*time.Millisecond:
-		s.updated[id] = time.Now()
-		s.out.UpdateDisplay(b, id)
-	}
-}
-
-// Execute runs a cell.
-func (h *Handler) Execute(ctx context.Context, code string, out jupyter.Output, opts jupyter.ExecOptions) (*jupyter.Bundle, error) {
-	sink := &jupyterSink{h: h, out: out, opts: h.in.Opts}
-	name := fmt.Sprintf("cell[%d]", opts.ExecutionCount)
-	err := h.in.Execute(ctx, name, code, &progressIDs{Sink: sink, h: h})
-	if err != nil {
-		var ce *CellError
-		if !errors.As(err, &ce) {
-			ce = asCellError(err)
-		}
-		ename := "ModelError"
-		if ctx.Err() != nil {
-			ename = "Interrupted"
-		}
-		first := ce.First()
-		value := first.Msg
-		if first.Pos.Line > 0 {
-			value = fmt.Sprintf("line %d, column %d: %s", first.Pos.Line, first.Pos.Column, first.Msg)
-		}
-		return sink.last, &jupyter.ExecError{Name: ename, Value: value, Traceback: strings.Split(ce.Detail(), "\n")}
-	}
-	return sink.last, nil
-}
-
-// progressIDs gives each analysis of a session its own display id.
-type progressIDs struct {
-	Sink
-	h   *Handler
-	ids map[string]string
-}
-
-func (p *progressIDs) Progress(id, label string, done, total int) {
-	if p.ids == nil {
-		p.ids = map[string]string{}
-	}
-	uid, ok := p.ids[id]
-	if !ok {
-		uid = fmt.Sprintf("nudge-progress-%d", p.h.progress.Add(1))
-		p.ids[id] = uid
-	}
-	p.Sink.Progress(uid, label, done, total)
-}
-
-// IsComplete tells a console whether the text is ready to run.
+// IsComplete tells a console whether the text is ready to run: incomplete
+// when the parser would read the next line with it (syntax.Incomplete),
+// invalid when it does not parse, else complete. Only consoles ask.
 func (h *Handler) IsComplete(code string) (string, string) {
+	h.console.Store(true)
 	if strings.TrimSpace(code) == "" {
 		return "complete", ""
 	}
