@@ -52,8 +52,17 @@ func TestInspect(t *testing.T) {
 		want   []string
 	}{
 		{"cost", 2, []string{"cost = rate * t", "value: $120", "top drivers: rate (elasticity +1.0000), t (elasticity +1.0000)"}},
-		{"rate", 4, []string{"input rate = 60 $/h", "distribution: normal(60, 5)"}},
-		{"t", 1, []string{"range: 1 h .. 3 h (range)"}},
+		// Ranges and distribution parameters carry the input's unit.
+		{"rate", 4, []string{"input rate = 60 $/h", "distribution: normal(60 $/h, 5 $/h)", "(10th to 90th percentile of the distribution)"}},
+		{"t", 1, []string{"range: 1 h .. 3 h (as declared)"}},
+		// A unit in brackets, under the cursor anywhere in it: its
+		// symbols, dimension and size (1 kWh = 3.6 MJ: SI Brochure, 9th
+		// ed., table 8).
+		{"input e = 2 [kWh]", 14, []string{"unit kWh: kilowatt hour; energy; 1 kWh = 3,600,000 J"}},
+		{"input r = 2 [$/kWh]", 13, []string{"unit $/kWh: $ = currency $", "kWh = kilowatt hour"}},
+		{"x = 3 [min] * t", 9, []string{"unit min: minute; time; 1 min = 60 s"}},
+		// A unit symbol outside brackets that names nothing in the model.
+		{"kWh", 1, []string{"unit kWh: kilowatt hour"}},
 		{"x = recovery(0.1, 5)", 8, []string{"function recovery"}},
 		{"input a = 1 ~ pert(1, 2, 3)", 16, []string{"distribution pert(low, mode, high)"}},
 		{"tornado cost", 3, []string{"command tornado"}},
@@ -88,5 +97,49 @@ func TestIsComplete(t *testing.T) {
 		if got, _ := h.IsComplete(code); got != want {
 			t.Errorf("IsComplete(%q) = %s, want %s", code, got, want)
 		}
+	}
+}
+
+// Completion knows its place on the line: what the grammar lets stand there,
+// and nothing else.
+func TestCompleteByContext(t *testing.T) {
+	h := NewHandler(New())
+	model := "input rate = 60 [$/h] (50..70)\ninput hours = 1.5 [h]\ncost = rate * hours\nprice = cost * 1.2\nscenario lean: hours = 1.2\n"
+	if err := h.in.Execute(context.Background(), "", model, &captureSink{}); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		code string
+		want []string // every match, in order
+	}{
+		{"drivers ", []string{"cost", "price"}},                         // after a verb: outputs only
+		{"tornado c", []string{"cost"}},                                 //
+		{"charts ", []string{"png", "svg", "text"}},                     // charts: its modes
+		{"sweep cost over ", []string{"hours", "rate"}},                 // after over: inputs only
+		{"breakeven price = 100 over r", []string{"rate"}},              //
+		{"sweep cost over rate 50..70 and ", []string{"hours", "rate"}}, // a second axis
+		{"sweep cost ", []string{"over"}},                               // the word that comes next
+		{"compare cost ", []string{"across"}},                           //
+		{"compare cost across ", []string{"base", "lean"}},              // scenarios
+		{"compare cost across base, ", []string{"base", "lean"}},        //
+		{"scenario high: ", []string{"hours", "rate"}},                  // inputs to set
+		{"scenario high: rate = 65, h", []string{"hours"}},              //
+		{"tornado cost ", []string{"top="}},                             // after the output: options
+		{"spider cost (±20%) ", []string{"points=", "top="}},            //
+		{"sweep cost over rate 50..70 ", []string{"and", "limit=", "n=", "steps=", "target="}},
+		{"sweep cost over rate 50..70 n=5 ", []string{"limit=", "steps=", "target="}}, // not given twice
+		{"drivers cost top=3 ", nil},                                                  // nothing left
+		{"input w = 2 [kW", []string{"kW", "kWh"}},                                    // in brackets: units
+		{"x = sqr", []string{"sqrt"}},                                                 // functions in expressions
+		{"reset ", nil},
+	} {
+		c := h.Complete(tc.code, len(tc.code))
+		if !slices.Equal(c.Matches, tc.want) {
+			t.Errorf("%q: matches %q, want %q", tc.code, c.Matches, tc.want)
+		}
+	}
+	// Inside an expression of a command, any name or function may stand.
+	if c := h.Complete("drivers cost * r", 16); !slices.Contains(c.Matches, "rate") || !slices.Contains(c.Matches, "round") {
+		t.Errorf("in an expression: %q", c.Matches)
 	}
 }
