@@ -1,12 +1,14 @@
 package kernel
 
 import (
+	"bufio"
 	"bytes"
 	"encoding/json"
 	"fmt"
 	"image"
 	"image/color"
 	"image/png"
+	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -53,16 +55,9 @@ func SpecDir(scope, prefix string) (string, error) {
 		}
 		return filepath.Join(data, "jupyter", "kernels", Language), nil
 	case "sys-prefix":
-		p := os.Getenv("CONDA_PREFIX")
-		if p == "" {
-			p = os.Getenv("VIRTUAL_ENV")
-		}
-		if p == "" {
-			out, err := exec.Command("python3", "-c", "import sys; print(sys.prefix)").Output()
-			if err != nil {
-				return "", fmt.Errorf("--sys-prefix: no active environment and python3 could not tell sys.prefix: %v", err)
-			}
-			p = strings.TrimSpace(string(out))
+		p, err := JupyterPrefix()
+		if err != nil {
+			return "", err
 		}
 		return filepath.Join(p, "share", "jupyter", "kernels", Language), nil
 	case "prefix":
@@ -74,14 +69,56 @@ func SpecDir(scope, prefix string) (string, error) {
 	return "", fmt.Errorf("unknown install scope %q", scope)
 }
 
-// InstallSpec writes kernel.json and the logos into dir, with exe as the
-// program Jupyter starts.
-func InstallSpec(dir, exe string) error {
+// JupyterPrefix returns sys.prefix of the Python that runs Jupyter: the
+// interpreter named on the first line of the jupyter command found on PATH
+// (a Python script, as pip, conda and Debian install it). Jupyter looks for
+// kernelspecs under PREFIX/share/jupyter, which `jupyter --paths` lists among
+// its data directories. An active environment's python3 can differ from
+// Jupyter's, so the jupyter command is asked, not the first python3.
+func JupyterPrefix() (string, error) {
+	jupyter, err := exec.LookPath("jupyter")
+	if err != nil {
+		return "", fmt.Errorf("--sys-prefix: no jupyter command on PATH to find its Python (install Jupyter first, see the README, or use --prefix DIR)")
+	}
+	f, err := os.Open(jupyter)
+	if err != nil {
+		return "", fmt.Errorf("--sys-prefix: %v", err)
+	}
+	line, _ := bufio.NewReader(io.LimitReader(f, 4096)).ReadString('\n')
+	f.Close()
+	argv := strings.Fields(strings.TrimPrefix(strings.TrimSpace(line), "#!"))
+	if !strings.HasPrefix(line, "#!") || len(argv) == 0 {
+		return "", fmt.Errorf("--sys-prefix: %s is not a Python script, so its Python cannot be told: use --prefix DIR with the prefix of Jupyter's Python", jupyter)
+	}
+	args := append(argv[1:], "-c", "import sys; print(sys.prefix)")
+	out, err := exec.Command(argv[0], args...).Output()
+	prefix := strings.TrimSpace(string(out))
+	if err != nil || prefix == "" || !filepath.IsAbs(prefix) {
+		return "", fmt.Errorf("--sys-prefix: %s (the Python of %s) could not tell its sys.prefix: %v", strings.Join(argv, " "), jupyter, err)
+	}
+	return prefix, nil
+}
+
+// InstallSpec copies exe into dir, as the program Jupyter starts, and writes
+// kernel.json and the logos beside it. It returns the path of the copy. A
+// copy keeps the kernelspec working when the binary it was installed from
+// goes away: `go run` builds into a cache that `go clean` empties, and a
+// build directory is rebuilt or deleted. A kernel still running from an
+// earlier copy keeps running: the new copy replaces the file's name, not its
+// contents.
+func InstallSpec(dir, exe string) (string, error) {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
+		return "", err
+	}
+	prog := filepath.Join(dir, Language)
+	if runtime.GOOS == "windows" {
+		prog += ".exe"
+	}
+	if err := copyProgram(prog, exe); err != nil {
+		return "", err
 	}
 	spec := Spec{
-		Argv:          []string{exe, "kernel", "-f", "{connection_file}"},
+		Argv:          []string{prog, "kernel", "-f", "{connection_file}"},
 		DisplayName:   "nudge (cost-model sensitivity)",
 		Language:      Language,
 		InterruptMode: "message",
@@ -89,17 +126,51 @@ func InstallSpec(dir, exe string) error {
 	}
 	b, err := json.MarshalIndent(spec, "", "  ")
 	if err != nil {
-		return err
+		return "", err
 	}
 	if err := os.WriteFile(filepath.Join(dir, "kernel.json"), append(b, '\n'), 0o644); err != nil {
-		return err
+		return "", err
 	}
 	for _, size := range []int{32, 64} {
 		if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("logo-%dx%d.png", size, size)), Logo(size), 0o644); err != nil {
-			return err
+			return "", err
 		}
 	}
-	return os.WriteFile(filepath.Join(dir, "logo-svg.svg"), []byte(LogoSVG), 0o644)
+	return prog, os.WriteFile(filepath.Join(dir, "logo-svg.svg"), []byte(LogoSVG), 0o644)
+}
+
+// copyProgram copies the executable src to dst through a temporary file
+// renamed into place; it does nothing when both are the same file.
+func copyProgram(dst, src string) error {
+	si, err := os.Stat(src)
+	if err != nil {
+		return err
+	}
+	if di, err := os.Stat(dst); err == nil && os.SameFile(si, di) {
+		return nil
+	}
+	in, err := os.Open(src)
+	if err != nil {
+		return err
+	}
+	defer in.Close()
+	tmp, err := os.CreateTemp(filepath.Dir(dst), "."+filepath.Base(dst)+"-*")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(tmp.Name()) // after a successful rename, nothing is left to remove
+	if _, err := io.Copy(tmp, in); err != nil {
+		tmp.Close()
+		return fmt.Errorf("copying %s: %v", src, err)
+	}
+	if err := tmp.Chmod(0o755); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		return err
+	}
+	return os.Rename(tmp.Name(), dst)
 }
 
 // The logo: three horizontal bars of falling length on a dark teal square, the

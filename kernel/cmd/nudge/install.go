@@ -14,7 +14,7 @@ func installCmd(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("install", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	user := fs.Bool("user", false, "install for the current user (the default)")
-	sysPrefix := fs.Bool("sys-prefix", false, "install into the active Python environment's prefix")
+	sysPrefix := fs.Bool("sys-prefix", false, "install under the prefix of the Python that runs Jupyter")
 	prefix := fs.String("prefix", "", "install under `DIR`/share/jupyter/kernels")
 	if err := fs.Parse(args); err != nil {
 		return 2
@@ -49,10 +49,11 @@ func installCmd(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintln(stderr, "nudge install: cannot find this program's path:", err)
 		return 1
 	}
-	if err := kernel.InstallSpec(dir, exe); err != nil {
+	prog, err := kernel.InstallSpec(dir, exe)
+	if err != nil {
 		fmt.Fprintln(stderr, "nudge install:", err)
 		return 1
 	}
-	fmt.Fprintf(stdout, "installed the nudge kernelspec in %s\n", dir)
+	fmt.Fprintf(stdout, "installed the nudge kernelspec in %s\nJupyter starts %s (a copy of %s)\n", dir, prog, exe)
 	return 0
 }

@@ -26,7 +26,8 @@ usage:
                                    --svg writes each chart into DIR
   nudge kernel -f CONNECTION_FILE  run the Jupyter kernel
   nudge install [--user | --sys-prefix | --prefix DIR]
-                                   write the Jupyter kernelspec
+                                   write the Jupyter kernelspec, with a copy
+                                   of this program that Jupyter starts
   nudge bench                      print the engine's benchmark ratios
   nudge version                    print the version
 `

@@ -121,10 +121,58 @@ func TestInstallPrefix(t *testing.T) {
 	if spec.Language != "nudge" || spec.InterruptMode != "message" || spec.Argv[len(spec.Argv)-1] != "{connection_file}" {
 		t.Errorf("kernelspec %+v", spec)
 	}
+	// Jupyter starts a copy of the program in the kernelspec's directory,
+	// which outlives a `go run` build cache or a build directory.
+	kdir := filepath.Join(dir, "share", "jupyter", "kernels", "nudge")
+	if spec.Argv[0] != filepath.Join(kdir, "nudge") {
+		t.Errorf("argv[0] = %s, want the copy in %s", spec.Argv[0], kdir)
+	}
+	exe, _ := os.Executable()
+	want, _ := os.ReadFile(exe)
+	got, err := os.ReadFile(spec.Argv[0])
+	if fi, serr := os.Stat(spec.Argv[0]); err != nil || serr != nil || !bytes.Equal(got, want) || fi.Mode()&0o111 == 0 {
+		t.Errorf("the copy differs from %s or is not executable: %v %v", exe, err, serr)
+	}
+	// Installing again replaces the copy and leaves no temporary file.
+	if code, out, errs := runNudge([]string{"install", "--prefix", dir}, ""); code != 0 || !strings.Contains(out, "Jupyter starts "+spec.Argv[0]) {
+		t.Fatalf("second install: %d %q %s", code, out, errs)
+	}
+	if names, _ := filepath.Glob(filepath.Join(kdir, ".*")); len(names) != 0 {
+		t.Errorf("left behind: %v", names)
+	}
 	for _, logo := range []string{"logo-32x32.png", "logo-64x64.png", "logo-svg.svg"} {
 		if _, err := os.Stat(filepath.Join(dir, "share", "jupyter", "kernels", "nudge", logo)); err != nil {
 			t.Errorf("missing %s", logo)
 		}
+	}
+}
+
+// --sys-prefix installs under sys.prefix of the Python that runs the jupyter
+// command on PATH (the interpreter on its first line), not the first python3.
+func TestInstallSysPrefix(t *testing.T) {
+	bin, env := t.TempDir(), filepath.Join(t.TempDir(), "env")
+	py := filepath.Join(bin, "jupyter-python")
+	os.WriteFile(py, []byte("#!/bin/sh\n[ \"$1\" = -c ] && echo "+env+"\n"), 0o755)
+	os.WriteFile(filepath.Join(bin, "python3"), []byte("#!/bin/sh\necho /wrong/prefix\n"), 0o755)
+	os.WriteFile(filepath.Join(bin, "jupyter"), []byte("#!"+py+"\nimport sys\n"), 0o755)
+	t.Setenv("PATH", bin)
+	code, out, errs := runNudge([]string{"install", "--sys-prefix"}, "")
+	want := filepath.Join(env, "share", "jupyter", "kernels", "nudge")
+	if code != 0 || !strings.Contains(out, "installed the nudge kernelspec in "+want) {
+		t.Fatalf("exit %d, stdout %q, stderr %q; want the kernelspec in %s", code, out, errs, want)
+	}
+	if _, err := os.Stat(filepath.Join(want, "kernel.json")); err != nil {
+		t.Error(err)
+	}
+	// A jupyter that is not a script, or none at all, is an error that
+	// says what to do.
+	os.WriteFile(filepath.Join(bin, "jupyter"), []byte("\x7fELF"), 0o755)
+	if code, _, errs := runNudge([]string{"install", "--sys-prefix"}, ""); code != 1 || !strings.Contains(errs, "use --prefix DIR") {
+		t.Errorf("binary jupyter: exit %d, %q", code, errs)
+	}
+	os.Remove(filepath.Join(bin, "jupyter"))
+	if code, _, errs := runNudge([]string{"install", "--sys-prefix"}, ""); code != 1 || !strings.Contains(errs, "no jupyter command on PATH") {
+		t.Errorf("no jupyter: exit %d, %q", code, errs)
 	}
 }
 
