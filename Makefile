@@ -4,7 +4,9 @@ PY    ?= /usr/bin/python3
 BIN   := $(CURDIR)/out/nudge
 JP    := $(CURDIR)/out/jupyter
 
-.PHONY: demo build deps test gotest race fuzz jupyter-test notebooks-test bench bench-kernels clean
+RM    := kernel/testdata/rendermime
+
+.PHONY: demo build deps test gotest race fuzz jupyter-test notebooks-test rendermime-test bench bench-kernels clean
 
 demo:
 	go run ./kernel/cmd/nudge exec notebooks/housing.nudge
@@ -14,10 +16,11 @@ build:
 
 # Every test: Go tests, the race detector on the concurrent packages, a short
 # fuzz run of each parser, of the compiler and of the kernel's wire reader
-# (frames, handshake, messages), the Jupyter conformance suite and every notebook
-# executed through nbconvert. The Debian packages they need are installed
-# first when missing (as root; otherwise the command to run is printed).
-test: deps gotest race fuzz jupyter-test notebooks-test
+# (frames, handshake, messages), the Jupyter conformance suite, every notebook
+# executed through nbconvert, and JupyterLab's rendermime registry on the
+# kernel's bundles. The Debian packages they need are installed first when
+# missing (as root; otherwise the command to run is printed).
+test: deps gotest race fuzz jupyter-test notebooks-test rendermime-test
 
 deps:
 	bash .ci/deps
@@ -51,6 +54,16 @@ notebooks-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
 	    --ExecutePreprocessor.kernel_name=nudge --ExecutePreprocessor.timeout=300 \
 	    --output-dir out/notebooks "$$nb" || exit 1; \
 	done
+
+# JupyterLab's own code (from npm, versions pinned by package-lock.json) picks
+# the representation it shows of every output the kernel sends.
+rendermime-test: $(RM)/node_modules/.package-lock.json
+	mkdir -p out
+	NUDGE_BUNDLES=$(CURDIR)/out/bundles.json go test -count=1 -run '^TestFrontEndBundles$$' ./kernel/
+	node --import ./$(RM)/register.mjs $(RM)/check.mjs out/bundles.json notebooks/*.ipynb
+
+$(RM)/node_modules/.package-lock.json: $(RM)/package.json $(RM)/package-lock.json
+	cd $(RM) && npm ci --no-audit --no-fund
 
 bench:
 	go run ./kernel/cmd/nudge bench
