@@ -145,11 +145,10 @@ func TestFrontEndBundles(t *testing.T) {
 	}
 	sort.Strings(list)
 	// Shown while a cell runs and gone from the saved notebook: a progress
-	// line and, for comparison, the caution and the error banner.
+	// line; and the caution, which follows the results.
 	live := []map[string]any{
 		{"what": "progress line", "data": progressBundle("sweep total", 2048, 8000).Data},
 		{"what": "caution", "data": render.CautionBundle()},
-		{"what": "error banner", "data": errorBanner("ModelError", "line 1, column 5: undefined: x").Data},
 	}
 	b, err := json.MarshalIndent(map[string]any{"cells": cells, "kinds": list, "live": live, "language_info": h.Info().Language}, "", " ")
 	if err != nil {

@@ -107,6 +107,12 @@ func JupyterPrefix() (string, error) {
 // earlier copy keeps running: the new copy replaces the file's name, not its
 // contents.
 func InstallSpec(dir, exe string) (string, error) {
+	// Jupyter starts kernels in the notebook's directory: the path must not
+	// be relative.
+	dir, err := filepath.Abs(dir)
+	if err != nil {
+		return "", err
+	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return "", err
 	}

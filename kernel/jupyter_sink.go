@@ -21,9 +21,9 @@ const (
 
 // Execute runs a cell. The results go out as display_data as they come (the
 // value of a bare expression that ends the cell as its execute_result),
-// warnings on stderr, and the caution once after the cell's results. A
-// failed cell adds a banner in HTML above the error message. "exit" or
-// "quit" alone asks a console to end the session.
+// warnings on stderr, and the caution once after the cell's results; an
+// error's first line is its headline. "exit" or "quit" alone asks a console
+// to end the session.
 func (h *Handler) Execute(ctx context.Context, code string, out jupyter.Output, opts jupyter.ExecOptions) (*jupyter.Bundle, error) {
 	if h.isExit(code) {
 		out.Payload(map[string]any{"source": "ask_exit", "keepkernel": false})
@@ -51,8 +51,10 @@ func (h *Handler) Execute(ctx context.Context, code string, out jupyter.Output, 
 		value = fmt.Sprintf("line %d, column %d: %s", first.Pos.Line, first.Pos.Column, first.Msg)
 	}
 	sink.finish()
-	sink.display(errorBanner(ename, value))
-	return sink.last, &jupyter.ExecError{Name: ename, Value: value, Traceback: strings.Split(ce.Detail(), "\n")}
+	// The error's first line is its headline, in bold red: the classic
+	// Notebook prints an uncoloured traceback as plain text, less prominent
+	// than a warning on stderr.
+	return sink.last, &jupyter.ExecError{Name: ename, Value: value, Traceback: strings.Split(ce.Detail(), "\n"), Headline: true}
 }
 
 // isExit reports whether the cell is "exit" or "quit" alone (with or without
@@ -68,23 +70,6 @@ func (h *Handler) isExit(code string) bool {
 		}
 	}
 	return true
-}
-
-// errorBanner is the HTML shown above a failed cell's error message: the
-// classic Notebook prints error messages as plain text, while warnings on
-// stderr get a coloured background, so without it an error would look less
-// serious than a warning. It has no text/plain: a console prints the error
-// message alone.
-func errorBanner(ename, value string) *jupyter.Bundle {
-	what := "Error"
-	if ename == "Interrupted" {
-		what = "Interrupted"
-	}
-	return &jupyter.Bundle{Data: map[string]any{"text/html": `<div class="nudge-error tex2jax_ignore mathjax_ignore" role="alert" ` +
-		`style="border-left:5px solid #B3261E;background:#FCE8E6;color:#5C0F0A;padding:0.4em 0.8em;margin:0.3em 0">` +
-		`<b>` + what + `</b> at ` + html.EscapeString(value) +
-		`<br><span style="font-size:90%">Nothing in this cell was applied: the model is as it was before it.</span></div>`},
-		Metadata: map[string]any{}}
 }
 
 // jupyterSink turns the output of one cell into Jupyter messages.

@@ -75,8 +75,8 @@ func (f *frontEnd) ClearOutput(wait bool) {
 
 func (f *frontEnd) Payload(p map[string]any) { f.payloads = append(f.payloads, p) }
 
-// kindOf names a bundle by its result kind, or as the caution, a progress
-// line or an error banner.
+// kindOf names a bundle by its result kind, or as the caution or a progress
+// line.
 func kindOf(b *jupyter.Bundle) string {
 	h, _ := b.Data["text/html"].(string)
 	switch {
@@ -90,8 +90,6 @@ func kindOf(b *jupyter.Bundle) string {
 		return "caution"
 	case strings.Contains(h, "nudge-progress"):
 		return "progress"
-	case strings.Contains(h, "nudge-error"):
-		return "error-banner"
 	}
 	return "?"
 }
@@ -271,9 +269,10 @@ func TestExitAsksTheConsoleToEnd(t *testing.T) {
 	}
 }
 
-// An error is at least as prominent as a warning: a banner in HTML above the
-// error message, which a console does not print (it has no text/plain).
-func TestErrorBanner(t *testing.T) {
+// An error is at least as prominent as a warning: its first line, the
+// message, is the traceback's headline (bold red), and the cell shows nothing
+// else for it.
+func TestErrorHeadline(t *testing.T) {
 	h := NewHandler(New())
 	fe := &frontEnd{}
 	_, err := h.Execute(context.Background(), sinkModel+"drivers c\nd = c * shop_rat", fe, jupyter.ExecOptions{ExecutionCount: 4})
@@ -281,14 +280,11 @@ func TestErrorBanner(t *testing.T) {
 	if !errors.As(err, &ee) || ee.Name != "ModelError" || !strings.Contains(ee.Value, "line 5, column 9: undefined: shop_rat") {
 		t.Fatalf("error %v", err)
 	}
-	if want := []string{"display drivers ", "display caution ", "display error-banner "}; !reflect.DeepEqual(fe.events, want) {
-		t.Errorf("events %q, want %q", fe.events, want)
+	if !ee.Headline || !strings.HasPrefix(ee.Traceback[0], "cell[4]:5:9: undefined: shop_rat") || len(ee.Traceback) != 3 {
+		t.Errorf("traceback %q, headline %v", ee.Traceback, ee.Headline)
 	}
-	banner := fe.outputs[len(fe.outputs)-1].data
-	h5, _ := banner["text/html"].(string)
-	if len(banner) != 1 || !strings.Contains(h5, `role="alert"`) || !strings.Contains(h5, "line 5, column 9: undefined: shop_rat") ||
-		!strings.Contains(h5, "the model is as it was before it") {
-		t.Errorf("banner %v", banner)
+	if want := []string{"display drivers ", "display caution "}; !reflect.DeepEqual(fe.events, want) {
+		t.Errorf("events %q, want %q", fe.events, want)
 	}
 }
 

@@ -109,6 +109,23 @@ type ExecError struct {
 	Name      string
 	Value     string
 	Traceback []string
+	// Headline shows the first line of the traceback in bold red, with the
+	// ANSI SGR codes that front ends render in tracebacks (as IPython
+	// colours its error lines): the classic Notebook prints a traceback
+	// without them as plain text, less prominent than a warning on stderr.
+	// The codes are added after the text is made safe to print.
+	Headline bool
+}
+
+// headline wraps a traceback's first line in bold red for an *ExecError
+// with Headline set.
+func headline(err error, tb []string) []string {
+	var ee *ExecError
+	if !errors.As(err, &ee) || !ee.Headline || len(tb) == 0 {
+		return tb
+	}
+	out := append([]string{"\x1b[1;31m" + tb[0] + "\x1b[0m"}, tb[1:]...)
+	return out
 }
 
 func (e *ExecError) Error() string {

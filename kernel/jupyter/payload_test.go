@@ -43,3 +43,35 @@ func TestExecutePayload(t *testing.T) {
 		t.Errorf("next reply %v", r.content)
 	}
 }
+
+// headlineHandler fails with an error whose first traceback line is its
+// headline.
+type headlineHandler struct{ *fakeHandler }
+
+func (h headlineHandler) Execute(ctx context.Context, code string, out Output, opts ExecOptions) (*Bundle, error) {
+	return nil, &ExecError{Name: "ModelError", Value: "v", Traceback: []string{"cell[1]:1:5: undefined: x", "y = x", "    ^"}, Headline: true}
+}
+
+// An error's headline is bold red in the error message and the reply, the
+// rest of the traceback as it was.
+func TestErrorHeadline(t *testing.T) {
+	tk := startKernel(t, headlineHandler{newFake()}, nil)
+	c := connect(t, tk)
+	r, io := c.execute("x", nil)
+	want := []any{"\x1b[1;31mcell[1]:1:5: undefined: x\x1b[0m", "y = x", "    ^"}
+	if !reflect.DeepEqual(r.content["traceback"], want) {
+		t.Errorf("reply traceback %q, want %q", r.content["traceback"], want)
+	}
+	errs := 0
+	for _, m := range io {
+		if m.typ() == "error" {
+			errs++
+			if !reflect.DeepEqual(m.content["traceback"], want) {
+				t.Errorf("error traceback %q", m.content["traceback"])
+			}
+		}
+	}
+	if errs != 1 {
+		t.Errorf("%d error messages", errs)
+	}
+}

@@ -221,6 +221,7 @@ func (k *Kernel) execute(m *message) (abort bool) {
 			err = &ExecError{Name: "Interrupted", Value: "the cell was interrupted", Traceback: []string{"Interrupted: the cell was stopped by the user"}}
 		}
 		name, value, tb := errorFields(err)
+		tb = headline(err, tb)
 		if !req.Silent {
 			k.publish(parent, "error", errorContent{name, value, tb})
 		}

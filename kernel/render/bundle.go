@@ -121,13 +121,13 @@ func (r *Result) bundleJSON(limit int) ([]byte, []cut) {
 // it.
 func cutNote(cuts []cut) string {
 	if len(cuts) == 1 && cuts[0].Field == "(all)" {
-		return "This result is too large to keep in a notebook: run the model with nudge exec --json for its JSON, or nudge exec --csv DIR for CSV files."
+		return "This result is too large for Jupyter to keep: run the model with nudge exec --json for its JSON, or nudge exec --csv DIR for CSV files."
 	}
 	var parts []string
 	for _, c := range cuts {
 		parts = append(parts, fmt.Sprintf("%s of the %s %s", count(c.Kept), count(c.Total), c.Field))
 	}
-	return fmt.Sprintf("The notebook keeps the first %s in this result's JSON (at most %s): run the model with nudge exec --json for all of it, or nudge exec --csv DIR for CSV files.",
+	return fmt.Sprintf("Jupyter keeps the first %s in this result's JSON (at most %s): run the model with nudge exec --json for all of it, or nudge exec --csv DIR for CSV files.",
 		strings.Join(parts, ", "), kib(MaxBundleJSON))
 }
 

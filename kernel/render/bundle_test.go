@@ -20,7 +20,7 @@ func TestBundleJSONWhole(t *testing.T) {
 	if got, want := string(r.BundleJSON()), string(r.JSON()); got != want {
 		t.Errorf("bundle JSON %s, want %s", got, want)
 	}
-	if strings.Contains(r.Bundle()["text/plain"].(string), "notebook keeps") {
+	if strings.Contains(r.Bundle()["text/plain"].(string), "Jupyter keeps") {
 		t.Error("a whole result says it was cut")
 	}
 }

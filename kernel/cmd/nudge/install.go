@@ -37,6 +37,9 @@ func installCmd(args []string, stdout, stderr io.Writer) int {
 		scope = "prefix"
 	}
 	dir, err := kernel.SpecDir(scope, *prefix)
+	if err == nil {
+		dir, err = filepath.Abs(dir)
+	}
 	if err != nil {
 		fmt.Fprintln(stderr, "nudge install:", err)
 		return 1

@@ -147,6 +147,20 @@ func TestInstallPrefix(t *testing.T) {
 	}
 }
 
+// A relative prefix gives absolute paths: Jupyter starts kernels in the
+// notebook's directory.
+func TestInstallRelativePrefix(t *testing.T) {
+	t.Chdir(t.TempDir())
+	if code, out, errs := runNudge([]string{"install", "--prefix", "jp"}, ""); code != 0 || !strings.Contains(out, "installed the nudge kernelspec in /") {
+		t.Fatalf("exit %d, %q %s", code, out, errs)
+	}
+	b, err := os.ReadFile(filepath.Join("jp", "share", "jupyter", "kernels", "nudge", "kernel.json"))
+	var spec struct{ Argv []string }
+	if err != nil || json.Unmarshal(b, &spec) != nil || !filepath.IsAbs(spec.Argv[0]) {
+		t.Errorf("kernel.json %s (%v): argv[0] is not absolute", b, err)
+	}
+}
+
 // --sys-prefix installs under sys.prefix of the Python that runs the jupyter
 // command on PATH (the interpreter on its first line), not the first python3.
 func TestInstallSysPrefix(t *testing.T) {

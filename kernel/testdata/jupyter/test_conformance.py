@@ -74,9 +74,12 @@ class NudgeKernelTests(jupyter_kernel_test.KernelTests):
         {"text": "input shop_rate = 60\nsho", "matches": {"shop_rate"}},
         {"text": "x = sqr", "matches": {"sqrt"}},
     ]
-    complete_code_samples = ["input a = 1", "drivers total", "x = (1 +\n 2)"]
-    incomplete_code_samples = ["x = (1 +", "x = max(1,", "y = 2 *"]
-    invalid_code_samples = ["x = )", "input = 3", "q = 3 4"]
+    # is_complete agrees with the parser: a line that ends with a binary
+    # operator continues on the next one; a trailing comma or '=' is an error
+    # at once, not a request for more lines.
+    complete_code_samples = ["input a = 1", "drivers total", "x = (1 +\n 2)", "y = 2 *\n  3", "y = a +  # more\n\n  b"]
+    incomplete_code_samples = ["x = (1 +", "x = max(1,", "y = 2 *", "y = a and", "y = a +  # more\n"]
+    invalid_code_samples = ["x = )", "input = 3", "q = 3 4", "x = a,", "x =", "x = a +\ninput b = 2"]
 
     code_inspect_sample = "sqrt"
 
@@ -88,7 +91,9 @@ class NudgeKernelTests(jupyter_kernel_test.KernelTests):
     ]
 
     code_display_data = [
-        {"code": "input a = 2 [kg]\ninput p = 3 [$/kg]\nc = a * p\ndrivers c", "mime": "application/json"},
+        # A result's JSON travels under a vendor type (a scenario's definition
+        # shows no caution, the one display without it).
+        {"code": "input a = 2 [kg]\nscenario heavy: a = 3", "mime": "application/vnd.nudge.result+json"},
         {"code": "input a = 2 [kg]\ninput p = 3 [$/kg]\nc = a * p\ndrivers c", "mime": "text/html"},
     ]
 

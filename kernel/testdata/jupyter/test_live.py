@@ -1,6 +1,8 @@
-"""Live checks of the nudge kernel through jupyter_client: progress displays
-that update in place, an interrupt of a long-running analysis followed by a cell
-that runs, and a client that reconnects and still receives iopub.
+"""Live checks of the nudge kernel through jupyter_client: a progress line that
+updates in place and gives way, a notebook with a large sweep saved small and
+clean by nbclient and exported by nbconvert without warnings, an interrupt of a
+long-running analysis followed by a cell that runs, and a client that
+reconnects and still receives iopub.
 
 Run with /usr/bin/python3 -m unittest from this directory, with the nudge
 kernelspec on JUPYTER_PATH (make jupyter-test does this).
@@ -28,6 +30,13 @@ LONG_SWEEP = "sweep f899 over a 0.5..2 and b 1..3 n=1000 limit=1000000"
 # Every wait is a hang guard, never a budget: the machine running the tests
 # may be busy, and no test asserts how long anything took.
 GUARD = 300
+
+# The MIME type of a result's JSON object in a bundle (render.ResultMIME).
+RESULT_MIME = "application/vnd.nudge.result+json"
+
+
+def json_kind(msg):
+    return msg["content"]["data"].get(RESULT_MIME, {}).get("kind")
 
 
 def collect(kc, msg_id, timeout=GUARD):
@@ -68,20 +77,88 @@ class LiveKernelTests(unittest.TestCase):
         reply = reply_to(self.kc, msg_id, timeout)
         return reply, collect(self.kc, msg_id, timeout)
 
-    def test_progress_updates_in_place(self):
-        reply, msgs = self.run_cell(LONG_MODEL + "\nsweep f899 over a 0.5..2 and b 1..3 n=250 limit=62500")
+    def test_progress_line_gives_way(self):
+        """A long analysis shows one progress line, HTML only (a text front end
+        prints nothing of it), updated in place; when it ends the cell is cleared
+        with wait and shows its results, so nothing of the line is kept."""
+        reply, msgs = self.run_cell(LONG_MODEL + "\n" + LONG_SWEEP)
         self.assertEqual(reply["content"]["status"], "ok")
-        ids = [m["content"]["transient"]["display_id"] for m in msgs
-               if m["msg_type"] == "display_data" and m["content"].get("transient", {}).get("display_id")]
+        kinds = [m["msg_type"] for m in msgs]
+        shown = [m for m in msgs if m["msg_type"] == "display_data" and m["content"].get("transient", {}).get("display_id")]
         updates = [m for m in msgs if m["msg_type"] == "update_display_data"]
-        self.assertEqual(len(ids), 1, "one progress display")
-        self.assertGreaterEqual(len(updates), 1, "the progress display is updated")
-        self.assertTrue(all(u["content"]["transient"]["display_id"] == ids[0] for u in updates))
-        shown = [m["content"]["data"]["text/plain"] for m in msgs if m["msg_type"] == "display_data"
-                 and m["content"].get("transient", {}).get("display_id")] + \
-            [u["content"]["data"]["text/plain"] for u in updates[:-1]]
-        self.assertTrue(all("%" in t for t in shown), "the progress line shows a percentage: %r" % shown)
-        self.assertEqual(updates[-1]["content"]["data"]["text/plain"], "", "the finished progress line gives way")
+        self.assertEqual(len(shown), 1, "one progress display: %r" % kinds)
+        line = shown[0]["content"]["data"]
+        self.assertEqual(list(line), ["text/html"], "the progress line is HTML alone")
+        self.assertIn("nudge-progress", line["text/html"])
+        self.assertIn("%", line["text/html"])
+        pid = shown[0]["content"]["transient"]["display_id"]
+        self.assertTrue(all(u["content"]["transient"]["display_id"] == pid for u in updates))
+        clear = kinds.index("clear_output")
+        self.assertTrue(msgs[clear]["content"]["wait"], "cleared with wait: no flicker")
+        self.assertGreater(clear, kinds.index("update_display_data") if updates else kinds.index("display_data"))
+        after = [m for m in msgs[clear:] if m["msg_type"] == "display_data"]
+        self.assertEqual(json_kind(after[0]), "sweep", "the result follows the clearing")
+        self.assertFalse([m for m in msgs[clear:] if m["msg_type"] == "update_display_data"], "no update after the line gave way")
+
+    def test_saved_notebook_is_small_and_clean(self):
+        """A 1,000 x 1,000 sweep (it once wrote a 167 MB notebook) run through
+        nbclient, as nbconvert --execute does: the progress line shows while it
+        runs, and the saved notebook keeps no trace of it and stays under 1 MB.
+        nbconvert then exports it to HTML without a warning, highlighting the
+        code with the lexer language_info names."""
+        import logging
+        import nbformat
+        import pygments.lexers
+        from nbclient import NotebookClient
+        from nbconvert import HTMLExporter
+
+        seen = []
+
+        class Recorder(NotebookClient):
+            def process_message(self, msg, cell, cell_index):
+                seen.append((msg["msg_type"], msg["content"]))
+                return super().process_message(msg, cell, cell_index)
+
+        nb = nbformat.v4.new_notebook()
+        nb.cells = [nbformat.v4.new_code_cell(LONG_MODEL), nbformat.v4.new_code_cell(LONG_SWEEP)]
+        Recorder(nb, kernel_name="nudge", timeout=300).execute()
+        self.assertTrue(any(t == "display_data" and "nudge-progress" in c.get("data", {}).get("text/html", "") for t, c in seen),
+                        "no progress line was shown while the sweep ran")
+        with tempfile.TemporaryDirectory() as d:
+            path = os.path.join(d, "big.ipynb")
+            nbformat.write(nb, path)
+            size = os.path.getsize(path)
+            with open(path) as fh:
+                saved = fh.read()
+        print(f"\nnotebook with a 1,000 x 1,000 sweep: {size / 1024:.0f} KiB saved", file=sys.stderr)
+        self.assertLess(size, 1 << 20, "the saved notebook is %d bytes" % size)
+        self.assertNotIn("nudge-progress", saved)
+        outs = nb.cells[1].outputs
+        self.assertEqual([o.output_type for o in outs], ["display_data", "display_data"], "the sweep and the caution, nothing else")
+        obj = outs[0].data["application/vnd.nudge.result+json"]
+        self.assertEqual(obj["kind"], "sweep")
+        self.assertEqual(obj["truncated"][0]["total"], 1000000)
+        self.assertNotIn("application/json", outs[0].data)
+
+        li = nb.metadata.language_info
+        self.assertTrue(pygments.lexers.get_lexer_by_name(li["pygments_lexer"]))
+        records = []
+
+        class Keep(logging.Handler):
+            def emit(self, record):
+                records.append(record)
+
+        handler = Keep(level=logging.WARNING)
+        logging.getLogger().addHandler(handler)
+        exporter = HTMLExporter()
+        exporter.log.addHandler(handler)
+        try:
+            body, _ = exporter.from_notebook_node(nb)
+        finally:
+            logging.getLogger().removeHandler(handler)
+            exporter.log.removeHandler(handler)
+        self.assertEqual([r.getMessage() for r in records], [], "nbconvert warned")
+        self.assertIn("highlight", body)
 
     def test_interrupt_long_analysis_then_next_cell_runs(self):
         reply, _ = self.run_cell(LONG_MODEL)
@@ -127,9 +204,9 @@ class LiveKernelTests(unittest.TestCase):
         from_exec = [o for o in from_exec if o["kind"] != "print"]
         reply, msgs = self.run_cell(src)
         self.assertEqual(reply["content"]["status"], "ok")
-        from_kernel = [m["content"]["data"]["application/json"] for m in msgs
+        from_kernel = [m["content"]["data"][RESULT_MIME] for m in msgs
                        if m["msg_type"] in ("display_data", "execute_result")
-                       and "application/json" in m["content"]["data"]]
+                       and RESULT_MIME in m["content"]["data"]]
         self.assertEqual([o["kind"] for o in from_kernel], [o["kind"] for o in from_exec])
         self.assertEqual(from_kernel, from_exec)
 

@@ -10,8 +10,8 @@
 // BUNDLES.json is written by the kernel's TestFrontEndBundles (make
 // rendermime-test does both): the outputs of cells run through the Jupyter
 // handler, as a saved notebook keeps them. The test checks that
-//   - every output that carries a result, and every live display (progress
-//     line, caution, error banner), is shown as text/html, for trusted
+//   - every output that carries a result, and every other display (progress
+//     line, caution), is shown as text/html, for trusted
 //     outputs (a live session) and untrusted ones (a notebook opened later);
 //   - output on stdout is shown as plain text, by the renderer of text/plain;
 //     warnings (stderr) and errors by one and the same renderer, so that an
