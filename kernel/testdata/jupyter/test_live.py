@@ -210,6 +210,32 @@ class LiveKernelTests(unittest.TestCase):
         self.assertEqual([o["kind"] for o in from_kernel], [o["kind"] for o in from_exec])
         self.assertEqual(from_kernel, from_exec)
 
+    def test_completion_and_inspection_by_context(self):
+        """Through the protocol, completion offers what the grammar lets stand
+        at the cursor (cursor positions in code points), and inspection
+        describes a unit in brackets."""
+        reply, _ = self.run_cell("input rate = 60 [$/h] (50..70)\ninput hours = 2 [h]\ncost = rate * hours\n"
+                                 "scenario lean: hours = 1.5")
+        self.assertEqual(reply["content"]["status"], "ok")
+        for code, want in [
+            ("drivers ", ["cost"]),
+            ("sweep cost over ", ["hours", "rate"]),
+            ("compare cost across ", ["base", "lean"]),
+            ("charts ", ["png", "svg", "text"]),
+            ("tornado cost ", ["top="]),
+            ("input e = 3 [kW", ["kW", "kWh"]),
+            ("x = 2 [€] + 3 [kW", ["kW", "kWh"]),  # a non-ASCII character before the cursor
+        ]:
+            msg_id = self.kc.complete(code, len(code))
+            content = reply_to(self.kc, msg_id)["content"]
+            self.assertEqual(content["matches"], want, code)
+            self.assertEqual(content["cursor_end"], len(code), code)
+        code = "input e = 3 [kWh]"
+        msg_id = self.kc.inspect(code, 14)
+        content = reply_to(self.kc, msg_id)["content"]
+        self.assertTrue(content["found"])
+        self.assertIn("kilowatt hour; energy; 1 kWh = 3,600,000 J", content["data"]["text/plain"])
+
     def test_ten_thousand_executes(self):
         """10,000 executes through the real interpreter: no reply lost, and the
         kernel's resident memory grows by less than 10 MB after a warm-up."""

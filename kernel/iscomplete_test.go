@@ -1,0 +1,158 @@
+package kernel
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
+)
+
+// isCompleteCorpus gathers model text: the shipped models and notebooks'
+// code cells, the front-end test's model, and every error model (valid and
+// invalid text alike).
+func isCompleteCorpus(t *testing.T) []string {
+	corpus := []string{frontEndModel}
+	for _, cells := range shippedCells(t) {
+		for _, c := range cells {
+			if c.CellType == "code" {
+				corpus = append(corpus, source(c.Source))
+			}
+		}
+	}
+	for _, glob := range []string{"../notebooks/*.nudge", "testdata/errors/*.nudge", "../sens/syntax/testdata/errors/*.nudge"} {
+		files, _ := filepath.Glob(glob)
+		for _, f := range files {
+			b, err := os.ReadFile(f)
+			if err != nil {
+				t.Fatal(err)
+			}
+			corpus = append(corpus, string(b))
+		}
+	}
+	if len(corpus) < 60 {
+		t.Fatalf("a corpus of %d texts", len(corpus))
+	}
+	return corpus
+}
+
+// TestIsCompleteAgreesWithParser checks is_complete against the parser on a
+// corpus of models, two ways.
+//
+// Every text cut after any of its lines: "complete" text parses, "invalid"
+// text does not, and "incomplete" text does not parse yet (a front end asks
+// for another line).
+//
+// Every statement that parses, broken after each of its tokens outside
+// parentheses: after a binary operator the first part is "incomplete" and
+// the two lines parse as one statement, as they would on one line; after any
+// other token the first part is not "incomplete" (it is complete or invalid
+// at once, as the parser says), so a console never asks for a line that
+// could not continue it.
+func TestIsCompleteAgreesWithParser(t *testing.T) {
+	h := NewHandler(New())
+	parses := func(s string) bool { _, _, err := syntax.Parse("", []byte(s)); return err == nil }
+	var cuts, breaks int
+	for _, text := range isCompleteCorpus(t) {
+		lines := strings.SplitAfter(text, "\n")
+		for i := range lines {
+			p := strings.Join(lines[:i+1], "")
+			cuts++
+			switch st, _ := h.IsComplete(p); st {
+			case "complete":
+				if !parses(p) {
+					t.Errorf("is_complete says complete, the parser fails:\n%s", p)
+				}
+			case "invalid":
+				if parses(p) {
+					t.Errorf("is_complete says invalid, the parser reads it:\n%s", p)
+				}
+			case "incomplete":
+				if parses(p) && !strings.HasSuffix(strings.TrimRight(p, " \t\r\n"), "\\") {
+					t.Errorf("is_complete says incomplete, the parser reads it as it is:\n%s", p)
+				}
+			default:
+				t.Errorf("is_complete says %q:\n%s", st, p)
+			}
+		}
+		for _, line := range lines {
+			line = strings.TrimRight(line, "\n")
+			_, stmts, err := syntax.Parse("", []byte(line))
+			if err != nil || len(stmts) != 1 {
+				continue
+			}
+			for _, k := range breakPoints(line) {
+				first := line[:k.off]
+				st, _ := h.IsComplete(first)
+				breaks++
+				if k.continues {
+					joined := first + "\n    " + strings.TrimLeft(line[k.off:], " ")
+					_, two, err := syntax.Parse("", []byte(joined))
+					if st != "incomplete" || err != nil || len(two) != 1 {
+						t.Errorf("broken after an operator, %q is %s; the two lines parse as %d statements (%v):\n%s", first, st, len(two), err, joined)
+					}
+				} else if st == "incomplete" {
+					t.Errorf("%q (cut from %q) is incomplete, yet no line can continue it", first, line)
+				}
+			}
+		}
+	}
+	t.Logf("%d texts cut after a line, %d statements broken after a token", cuts, breaks)
+}
+
+// breakPoint is a place to break a line: after a token outside parentheses,
+// and whether the token is a binary operator that continues the line.
+type breakPoint struct {
+	off       int
+	continues bool
+}
+
+func breakPoints(line string) []breakPoint {
+	f := syntax.NewFile("", []byte(line))
+	var errs syntax.ErrorList
+	var sc syntax.Scanner
+	sc.Init(f, &errs)
+	var out []breakPoint
+	depth := 0
+	for {
+		tok, pos, _ := sc.Scan()
+		switch tok {
+		case syntax.EOF, syntax.COMMENT, syntax.NEWLINE:
+			return out
+		case syntax.LPAREN:
+			depth++
+		case syntax.RPAREN:
+			depth--
+		}
+		if depth != 0 {
+			continue
+		}
+		start := int(pos) - 1 // a Pos is an offset plus one
+		end := start + tokenLen(line[start:])
+		if end < len(line) {
+			out = append(out, breakPoint{end, binaryOperators[tok]})
+		}
+	}
+}
+
+// binaryOperators are the tokens after which a line continues, as the
+// README says: + - * / ^, the comparisons, and, or.
+var binaryOperators = map[syntax.Token]bool{
+	syntax.ADD: true, syntax.SUB: true, syntax.MUL: true, syntax.QUO: true, syntax.POW: true,
+	syntax.EQL: true, syntax.NEQ: true, syntax.LSS: true, syntax.LEQ: true, syntax.GTR: true, syntax.GEQ: true,
+	syntax.AND: true, syntax.OR: true,
+}
+
+// tokenLen is the length in bytes of the token at the start of s.
+func tokenLen(s string) int {
+	var errs syntax.ErrorList
+	var sc syntax.Scanner
+	sc.Init(syntax.NewFile("", []byte(s)), &errs)
+	sc.Scan()
+	next := len(s)
+	if t2, pos, _ := sc.Scan(); t2 != syntax.EOF {
+		next = int(pos) - 1
+	}
+	return len(strings.TrimRight(s[:next], " \t"))
+}
