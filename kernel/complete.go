@@ -74,10 +74,12 @@ func (h *Handler) Complete(code string, cursor int) jupyter.Completion {
 	return jupyter.Completion{Matches: matches, Start: start, End: cursor, Metadata: map[string]any{}}
 }
 
-// lexeme is a token of the line before the word being completed.
+// lexeme is a token of the line before the word being completed, and its
+// byte offset.
 type lexeme struct {
 	tok syntax.Token
 	lit string
+	off int
 }
 
 func lexemes(s string) []lexeme {
@@ -87,14 +89,14 @@ func lexemes(s string) []lexeme {
 	sc.Init(f, &errs)
 	var out []lexeme
 	for {
-		tok, _, lit := sc.Scan()
+		tok, pos, lit := sc.Scan()
 		switch tok {
 		case syntax.EOF:
 			return out
 		case syntax.COMMENT:
 			continue
 		}
-		out = append(out, lexeme{tok, lit})
+		out = append(out, lexeme{tok, lit, int(pos) - 1}) // a Pos is an offset plus one
 	}
 }
 

@@ -109,31 +109,26 @@ type breakPoint struct {
 }
 
 func breakPoints(line string) []breakPoint {
-	f := syntax.NewFile("", []byte(line))
-	var errs syntax.ErrorList
-	var sc syntax.Scanner
-	sc.Init(f, &errs)
+	toks := lexemes(line)
 	var out []breakPoint
 	depth := 0
-	for {
-		tok, pos, _ := sc.Scan()
-		switch tok {
-		case syntax.EOF, syntax.COMMENT, syntax.NEWLINE:
+	for i, x := range toks {
+		switch x.tok {
+		case syntax.NEWLINE:
 			return out
 		case syntax.LPAREN:
 			depth++
 		case syntax.RPAREN:
 			depth--
 		}
-		if depth != 0 {
+		if depth != 0 || i+1 == len(toks) {
 			continue
 		}
-		start := int(pos) - 1 // a Pos is an offset plus one
-		end := start + tokenLen(line[start:])
-		if end < len(line) {
-			out = append(out, breakPoint{end, binaryOperators[tok]})
-		}
+		// The token ends where the blanks before the next one begin.
+		end := len(strings.TrimRight(line[:toks[i+1].off], " \t"))
+		out = append(out, breakPoint{end, binaryOperators[x.tok]})
 	}
+	return out
 }
 
 // binaryOperators are the tokens after which a line continues, as the
@@ -142,17 +137,4 @@ var binaryOperators = map[syntax.Token]bool{
 	syntax.ADD: true, syntax.SUB: true, syntax.MUL: true, syntax.QUO: true, syntax.POW: true,
 	syntax.EQL: true, syntax.NEQ: true, syntax.LSS: true, syntax.LEQ: true, syntax.GTR: true, syntax.GEQ: true,
 	syntax.AND: true, syntax.OR: true,
-}
-
-// tokenLen is the length in bytes of the token at the start of s.
-func tokenLen(s string) int {
-	var errs syntax.ErrorList
-	var sc syntax.Scanner
-	sc.Init(syntax.NewFile("", []byte(s)), &errs)
-	sc.Scan()
-	next := len(s)
-	if t2, pos, _ := sc.Scan(); t2 != syntax.EOF {
-		next = int(pos) - 1
-	}
-	return len(strings.TrimRight(s[:next], " \t"))
 }
