@@ -68,3 +68,26 @@ func BenchmarkDistributionSVG(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkHeatMapValidate checks a 1,000 × 1,000 grid, the largest a sweep
+// computes.
+func BenchmarkHeatMapValidate(b *testing.B) {
+	h := &HeatMap{Output: "total", XName: "a", YName: "b"}
+	for i := range 1000 {
+		h.X = append(h.X, float64(i))
+		h.Y = append(h.Y, float64(i))
+	}
+	for _, y := range h.Y {
+		row := make([]float64, len(h.X))
+		for i, x := range h.X {
+			row[i] = x + y
+		}
+		h.Z = append(h.Z, row)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		if err := h.Validate(); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

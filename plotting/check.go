@@ -18,11 +18,12 @@ func finite(what, field string, v float64) error {
 	return nil
 }
 
-// finiteSlice checks every element of vs.
+// finiteSlice checks every element of vs. The name of an element is
+// written only for the one that fails: a heat map has a million.
 func finiteSlice(what, field string, vs []float64) error {
 	for i, v := range vs {
-		if err := finite(what, fmt.Sprintf("%s[%d]", field, i), v); err != nil {
-			return err
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return finite(what, fmt.Sprintf("%s[%d]", field, i), v)
 		}
 	}
 	return nil
