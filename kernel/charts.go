@@ -4,14 +4,15 @@ import "github.com/nudge-dev/nudge/sens/syntax"
 
 var chartsCommand = &Command{
 	Verb:    "charts",
-	Doc:     "how charts are drawn from now on: svg (the default), png (a bitmap beside the SVG) or text",
+	Doc:     "how charts are drawn from now on: svg (the default), png (a bitmap instead of the SVG) or text",
 	Example: "charts png",
 	run:     runCharts,
 }
 
 // runCharts sets how the rest of the session draws charts: "svg" (the
-// default), "png" (image/png beside the SVG, for front ends and reports that
-// want a bitmap) or "text" (Unicode charts only).
+// default), "png" (the notebook's figure is a PNG image, for reports and
+// mail readers that show no SVG) or "text" (Unicode charts only, in the
+// notebook too).
 func runCharts(x *call) error {
 	o := &x.in.Opts
 	switch name := x.c.Name.Name; name {
