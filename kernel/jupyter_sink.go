@@ -100,7 +100,8 @@ type shown struct {
 type progressLine struct {
 	id            string // the display id, unique in the session
 	start, update time.Time
-	visible, done bool
+	visible       bool // shown, and not yet cleared away
+	done          bool // cleared away: the analysis has shown its result
 }
 
 func (s *jupyterSink) Stream(name, text string) {
@@ -110,6 +111,7 @@ func (s *jupyterSink) Stream(name, text string) {
 }
 
 func (s *jupyterSink) Result(r *render.Result, last bool) {
+	s.settle()
 	if r.Caution {
 		s.cautioned = true
 	}
@@ -128,11 +130,14 @@ func (s *jupyterSink) display(b *jupyter.Bundle) {
 }
 
 // Progress shows a progress line, updated in place, for an analysis that
-// has run for half a second, and clears it away when the analysis ends, so
-// that a saved notebook keeps only results. Jupyter cannot remove one output
-// of a cell: the cell is cleared (clear_output with wait, so that nothing
-// flickers) and what it showed before is shown again. The line is HTML
-// alone, so a text front end prints nothing of it; consoles get none at all.
+// has run for half a second, and clears it away when the analysis's result
+// arrives (or the cell ends), so that a saved notebook keeps only results.
+// Jupyter cannot remove one output of a cell: the cell is cleared
+// (clear_output with wait, so that nothing flickers) and what it showed
+// before is shown again. The line is HTML alone, so a text front end prints
+// nothing of it; consoles get none at all. A report of work done is not
+// taken for the end: an analysis of several passes may reach its estimate
+// of the work before it knows there is more.
 func (s *jupyterSink) Progress(id, label string, done, total int) {
 	if s.progress == nil {
 		s.progress = map[string]*progressLine{}
@@ -144,12 +149,7 @@ func (s *jupyterSink) Progress(id, label string, done, total int) {
 		s.progress[id] = p
 	}
 	switch {
-	case p.done:
-	case done >= total:
-		p.done = true
-		if p.visible {
-			s.clearProgress()
-		}
+	case p.done, done >= total:
 	case !p.visible:
 		if s.console || now.Sub(p.start) < progressDelay {
 			return
@@ -162,9 +162,19 @@ func (s *jupyterSink) Progress(id, label string, done, total int) {
 	}
 }
 
-// clearProgress clears the cell and shows again what it had shown before
-// the progress line.
-func (s *jupyterSink) clearProgress() {
+// settle clears away the progress lines on show: the cell is cleared and
+// shows again what it had shown before them.
+func (s *jupyterSink) settle() {
+	cleared := false
+	for _, p := range s.progress {
+		if p.visible {
+			p.visible, p.done = false, true
+			cleared = true
+		}
+	}
+	if !cleared {
+		return
+	}
 	s.out.ClearOutput(true)
 	s.clearing = true
 	for _, o := range s.shown {
@@ -190,6 +200,7 @@ func progressBundle(label string, done, total int) *jupyter.Bundle {
 // finish ends the cell's output: the caution once, after the results that
 // carry it, and the clearing of a progress line that no output has done.
 func (s *jupyterSink) finish() {
+	s.settle()
 	if s.cautioned {
 		s.display(&jupyter.Bundle{Data: render.CautionBundle(), Metadata: map[string]any{}})
 	}

@@ -146,14 +146,17 @@ func TestProgressOnlyForLongWork(t *testing.T) {
 	}
 
 	// A warning and a result before, then forty reports 60 ms apart: the
-	// line appears after half a second, is updated at most every 100 ms,
-	// and when the work ends the cell is cleared and shows again what it
-	// showed, without the line.
+	// line appears after half a second and is updated at most every 100 ms.
+	// A report that the work is done, which an analysis of several passes
+	// may send between them, leaves it as it is.
 	s, fe, _ = progressSink(false, 60*time.Millisecond)
 	s.Stream("stderr", "warning: x\n")
 	s.Result(render.Value(&sens.ValueResult{Kind: "value", Name: "y", Value: 2}, nil), false)
 	for i := 1; i <= 40; i++ {
 		s.Progress("a", "sweep y", i, 40)
+		if i == 20 {
+			s.Progress("a", "sweep y", 20, 20)
+		}
 	}
 	var displays, updates int
 	for _, e := range fe.events {
@@ -162,23 +165,38 @@ func TestProgressOnlyForLongWork(t *testing.T) {
 			displays++
 		case strings.HasPrefix(e, "update"):
 			updates++
+		case strings.HasPrefix(e, "clear"):
+			t.Errorf("cleared before the result: %q", fe.events)
 		}
 	}
 	if displays != 1 || updates < 5 || updates > 20 {
 		t.Errorf("%d progress displays, %d updates: %q", displays, updates, fe.events)
 	}
-	tail := fe.events[len(fe.events)-3:]
-	if want := []string{"clear wait=true", "stream stderr", "display value "}; !reflect.DeepEqual(tail, want) {
+	// The analysis's result clears the line away: the cell is cleared and
+	// shows again what it showed, then the result.
+	s.Result(render.Value(&sens.ValueResult{Kind: "value", Name: "z", Value: 3}, nil), false)
+	tail := fe.events[len(fe.events)-4:]
+	if want := []string{"clear wait=true", "stream stderr", "display value ", "display value "}; !reflect.DeepEqual(tail, want) {
 		t.Errorf("events end %q, want %q", tail, want)
 	}
-	if len(fe.outputs) != 2 || fe.outputs[0].stream != "stderr" || fe.outputs[1].data["text/plain"] != "y = 2" {
+	if len(fe.outputs) != 3 || fe.outputs[0].stream != "stderr" || fe.outputs[1].data["text/plain"] != "y = 2" || fe.outputs[2].data["text/plain"] != "z = 3" {
 		t.Errorf("outputs after the line gave way: %+v", fe.outputs)
 	}
 	// Further reports of a finished line do nothing.
 	n := len(fe.events)
-	s.Progress("a", "sweep y", 40, 40)
+	s.Progress("a", "sweep y", 39, 40)
+	s.finish()
 	if len(fe.events) != n {
 		t.Errorf("a finished line was shown again: %q", fe.events[n:])
+	}
+
+	// A cell that ends without a result (an error) clears the line too.
+	s, fe, _ = progressSink(false, time.Second)
+	s.Progress("a", "sweep y", 1, 4)
+	s.Progress("a", "sweep y", 2, 4)
+	s.finish()
+	if want := []string{"display progress nudge-progress-1", "clear wait=true", "clear wait=false"}; !reflect.DeepEqual(fe.events, want) || len(fe.outputs) != 0 {
+		t.Errorf("events %q, outputs %v", fe.events, fe.outputs)
 	}
 }
 
