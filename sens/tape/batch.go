@@ -184,6 +184,13 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 		if op == opArg {
 			continue
 		}
+		if op == opLoop { // vec.go
+			if t.loopBlock(k, m) {
+				bad = true
+			}
+			k += p.loopWidth(k) - 1
+			continue
+		}
 		a, b := as[k], bs[k]
 		o := t.row(bv, int32(k), m)
 		xs := t.row(bv, a, m)[:len(o)]
@@ -394,7 +401,7 @@ func (t *Tape) reverseBlock(m, out int) {
 	p := t.p
 	w := t.bw
 	bv, bg := t.bvals, t.badj
-	clear(bg[:(out+1)*w])
+	clear(bg[:max(p.endNode(out), p.nIn)*w])
 	g0 := t.row(bg, int32(out), m)
 	for s := range g0 {
 		g0[s] = 1
@@ -403,6 +410,15 @@ func (t *Tape) reverseBlock(m, out int) {
 	isConst := func(s int32) bool { return s >= nIn && s < start }
 	for k := out; k >= p.start; k-- {
 		op := p.ops[k]
+		if op == opLoop || op == opLane { // vec.go
+			h := k
+			if op == opLane {
+				h = int(p.a[k])
+			}
+			t.loopReverseBlock(h, m)
+			k = h
+			continue
+		}
 		if op.IsStep() && op != OpIf || op == opArg {
 			continue
 		}

@@ -45,6 +45,12 @@ type Builder struct {
 	cse    map[cseKey]Slot
 	inputs []Slot
 	pos    int32
+
+	// Vectors and loop nodes (vec.go).
+	vecs    []bvec
+	loops   []loop
+	loopMin int
+	loopCSE map[loopKey]Slot
 }
 
 // NewBuilder returns an empty Builder.
@@ -88,7 +94,9 @@ func (b *Builder) Const(v float64) Slot {
 
 // IsConst reports whether s is a constant, and its value.
 func (b *Builder) IsConst(s Slot) (float64, bool) {
-	b.checkSlot(s)
+	if s < 0 || int(s) >= len(b.nodes) {
+		panic(fmt.Sprintf("tape: slot %d not made by this builder", s))
+	}
 	if n := b.nodes[s]; n.op == OpConst {
 		return n.val, true
 	}
@@ -99,10 +107,13 @@ func (b *Builder) checkSlot(s Slot) {
 	if s < 0 || int(s) >= len(b.nodes) {
 		panic(fmt.Sprintf("tape: slot %d not made by this builder", s))
 	}
+	if b.nodes[s].op == opVec {
+		panic(fmt.Sprintf("tape: slot %d is a vector: use Map, Sum or Elem", s))
+	}
 }
 
 func (b *Builder) checkOp(op Op, n int) {
-	if op >= numOps || op == opArg || opMetas[op].arity == 0 {
+	if op >= numOps || op == opArg || op == opLane || opMetas[op].arity == 0 {
 		panic(fmt.Sprintf("tape: %v is not an operation", op))
 	}
 	if int(opMetas[op].arity) != n {
@@ -252,6 +263,9 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 			continue
 		}
 		nd := &b.nodes[k]
+		if nd.op == opLoop {
+			b.markLoop(k, live)
+		}
 		for i := 0; i < int(opMetas[nd.op].arity); i++ {
 			live[nd.args[i]] = true
 		}
@@ -305,6 +319,10 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 			p.a[t], p.b[t] = t, t
 			if nd.op == OpConst {
 				vals[t] = nd.val
+			}
+			if nd.op == opLoop {
+				p.a[t], p.b[t] = int32(len(p.loops)), int32(len(p.loops))
+				p.loops = append(p.loops, b.loops[nd.args[0]].relocate(idx))
 			}
 		case 1:
 			p.a[t] = idx[nd.args[0]]

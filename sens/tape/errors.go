@@ -15,6 +15,9 @@ type DomainError struct {
 	Msg     string    // "ln of a negative number (-3)", "division by zero", ...
 	Sample  int       // sample index in a batched pass; -1 otherwise
 	Reverse bool      // found by the reverse pass (an unbounded derivative)
+	// Element is, for an operation of a loop node, 1 + the index of the
+	// element where the value arose; 0 otherwise.
+	Element int
 }
 
 func (e *DomainError) Error() string {

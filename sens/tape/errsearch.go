@@ -40,6 +40,12 @@ func (t *Tape) findOrigin(outs []int32, vals []float64, stride, off int) int {
 	}
 	val := func(k int32) float64 { return vals[int(k)*stride+off] }
 	for k := int(top); k >= p.start; k-- {
+		if op := p.ops[k]; op == opLoop || op == opLane { // vec.go: element by element
+			if op == opLoop {
+				p.loopDeps(k, laneNeed(mark, k), func(s int32) { mark[s] = 1 }, val)
+			}
+			continue
+		}
 		if mark[k] == 0 {
 			continue
 		}
@@ -86,6 +92,9 @@ func (t *Tape) args(k int, vals []float64, stride, off int) []float64 {
 func (t *Tape) nodeError(k int, vals []float64, stride, off, sample int) error {
 	p := t.p
 	op := p.ops[k]
+	if op == opLoop || op == opLane {
+		return t.loopError(k, vals, stride, off, sample)
+	}
 	args := t.args(k, vals, stride, off)
 	msg := domainMsg(op, args, vals[k*stride+off])
 	if op == OpInput {
@@ -103,7 +112,13 @@ func (t *Tape) reverseError(i int, vals, adj []float64, stride, off, sample int)
 	for k := out; k >= p.start; k-- {
 		gk := adj[k*stride+off]
 		op := p.ops[k]
-		if gk == 0 || !finite(gk) || op.IsStep() || op == opArg {
+		if op == opLoop {
+			if err := t.loopReverseError(k, vals, adj, stride, off, sample); err != nil {
+				return err
+			}
+			continue
+		}
+		if op == opLane || gk == 0 || !finite(gk) || op.IsStep() || op == opArg {
 			continue
 		}
 		args := t.args(k, vals, stride, off)

@@ -39,14 +39,9 @@ func (t *Tape) Eval(x []float64, i int) (float64, error) {
 }
 
 // end returns the end of the nodes output i needs: one past its node,
-// and past the opArg that follows a three-argument node.
-func (p *tapeProg) end(i int) int {
-	o := int(p.outs[i])
-	if p.ops[o].Arity() == 3 {
-		return o + 2
-	}
-	return o + 1
-}
+// past the opArg that follows a three-argument node, and past the lanes
+// of a loop node (vec.go).
+func (p *tapeProg) end(i int) int { return p.endNode(int(p.outs[i])) }
 
 // run evaluates nodes [start, stop) and reports whether a guard
 // operation saw a non-finite operand.
@@ -168,6 +163,13 @@ func (t *Tape) run(stop int) (bad bool) {
 		}
 		break
 	slow:
+		if ops[k] == opLoop { // a loop node fills its lanes too (vec.go)
+			if p.loopForward(v, k) {
+				bad = true
+			}
+			k += p.loopWidth(k)
+			continue
+		}
 		if t.slowOp(k) {
 			bad = true
 		}

@@ -174,6 +174,13 @@ const (
 	// the three-argument operation just before it.
 	opArg
 
+	// opLoop, opLane and opVec are the loop nodes of vec.go: a loop node
+	// (one operation over a whole vector), an element of its result, and
+	// the Builder's handle of a vector.
+	opLoop
+	opLane
+	opVec
+
 	numOps
 )
 
@@ -238,6 +245,9 @@ var opMetas = [numOps]opMeta{
 	OpLearn:           {name: "learn", arity: 3, guard: true},
 	OpLearnTotal:      {name: "learn_total", arity: 3, guard: true},
 	opArg:             {name: "argument"},
+	opLoop:            {name: "loop"},
+	opLane:            {name: "element", arity: 1},
+	opVec:             {name: "vector"},
 }
 
 // String returns the operator symbol or function name of op.

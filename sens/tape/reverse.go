@@ -20,7 +20,7 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 	end := p.end(i)
 	v := t.vals[:end]
 	g := t.adj[:end]
-	clear(g)
+	clear(t.adj[:max(end, p.nIn)]) // an output that is an input ends below the inputs
 	g[out] = 1
 	ops := p.ops[:end]
 	as := p.a[:end]
@@ -80,6 +80,12 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 				g[as[k+1]] += gk
 			}
 		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
+		case opLoop: // vec.go
+			p.loopReverse(v, t.adj, k)
+		case opLane: // the first lane with an adjoint runs its loop node
+			h := int(a)
+			p.loopReverse(v, t.adj, h)
+			k = h
 		default:
 			op := ops[k]
 			ar := op.Arity()

@@ -12,6 +12,7 @@ type tapeProg struct {
 	a, b       []int32
 	pos        []int32
 	outs       []int32
+	loops      []loop // the loop nodes (vec.go), in tape order
 }
 
 // Tape is a compiled computation: a flat list of operations in

@@ -27,6 +27,9 @@ func (t *Tape) StepOps(i int) []int32 {
 	mark := p.reach(i)
 	var pos []int32
 	for k := p.start; k < len(mark); k++ {
+		if p.ops[k] == opLoop && p.loopStep(k, mark) {
+			pos = append(pos, p.pos[k])
+		}
 		if mark[k] && p.ops[k].IsStep() {
 			pos = append(pos, p.pos[k])
 		}
@@ -42,6 +45,12 @@ func (p *tapeProg) reach(i int) []bool {
 	mark := make([]bool, out+1)
 	mark[out] = true
 	for k := out; k >= p.start; k-- {
+		if op := p.ops[k]; op == opLoop || op == opLane { // vec.go: element by element
+			if op == opLoop {
+				p.loopDeps(k, laneNeed(mark, k), func(s int32) { mark[s] = true }, nil)
+			}
+			continue
+		}
 		if !mark[k] {
 			continue
 		}

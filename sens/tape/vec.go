@@ -1,0 +1,1177 @@
+package tape
+
+import (
+	"fmt"
+	"math"
+)
+
+// Vectors and loop nodes.
+//
+// A vector is a run of slots: the inputs of one column, a run of
+// constants, or the elements of a loop node's result. A loop node is one
+// operation over whole vectors: an element-wise operation with scalars
+// broadcast (a map), a reduction (sum, dot product, min, max), a gather
+// (the elements a filter keeps) or a grouped sum. It occupies the slots
+// of its result, one a element: the first slot is the node (opLoop),
+// the others are its lanes (opLane), which hold values and adjoints but
+// no operation of their own, so the passes dispatch once per loop node,
+// not once per element, and skip the lanes. A reduction occupies one
+// slot. Every element of every vector is a slot of its own, so the
+// partial derivative of an output with respect to each element of an
+// input vector is an ordinary entry of the gradient.
+//
+// The Builder hands a vector to its caller as a Slot of its own (an
+// opVec handle, never laid out on a tape); Elem gives the slot of one
+// element. A vector shorter than the loop threshold (SetLoopMin), or
+// whose elements do not lie in a run of slots, is built from ordinary
+// scalar operations instead: the values and derivatives are the same to
+// the bit, since a loop node evaluates each element with the same
+// expressions as the scalar passes, in the same order, and a reduction
+// adds its elements one after another from the first, as a left fold of
+// additions does.
+
+// loopKind is what a loop node computes.
+type loopKind uint8
+
+const (
+	loopMap    loopKind = iota + 1 // lane j = op(x_j, y_j, z_j), a scalar operand broadcast
+	loopSum                        // Σ x_j, from the first element on
+	loopDot                        // Σ x_j y_j, from the first element on
+	loopMin                        // min_j x_j; a tie goes to the first
+	loopMax                        // max_j x_j; a tie goes to the first
+	loopGather                     // lane j = x[idx[j]]
+	loopGroup                      // lane g = Σ x_i over the i with idx[i] = g, in order
+)
+
+// loop is a loop node. Slots are builder slots in a Builder and tape
+// slots on a Tape.
+type loop struct {
+	kind loopKind
+	op   Op    // loopMap: the element operation
+	n    int32 // elements of the result (map, gather, group) or of the operand (reductions)
+	src  int32 // gather, group: elements of the source vector
+	// arg holds the first slot of each operand, step 1 for a vector
+	// operand and 0 for a scalar one, broadcast to every element. Unused
+	// operands repeat the first.
+	arg   [3]int32
+	step  [3]int32
+	idx   []int32 // gather: source element of each lane; group: group of each source element
+	first []int32 // group: first source element of each group
+}
+
+// width returns the number of slots the loop's result occupies.
+func (l *loop) width() int {
+	switch l.kind {
+	case loopMap, loopGather, loopGroup:
+		return int(l.n)
+	}
+	return 1
+}
+
+// bvec is a vector of a Builder: the slots of its elements, a run
+// first..first+n-1 unless list is set.
+type bvec struct {
+	first Slot
+	n     int
+	list  []Slot
+	neg   Slot // the vector this one negates element-wise, or -1
+	mul   int  // the loop of an element-wise product of two vectors, or -1
+}
+
+// DefaultLoopMin is the shortest vector a Builder makes a loop node for;
+// shorter ones are built from scalar operations. A loop node costs a
+// dispatch, a look-up of its table entry and the first touch of its
+// operands before its first element, about as much as half a dozen
+// scalar operations; BenchmarkLoopMin measures the crossover (between six
+// and eight elements on the development machine).
+const DefaultLoopMin = 8
+
+// SetLoopMin sets the shortest vector made into loop nodes (DefaultLoopMin
+// when n <= 0). A very large n builds every vector from scalar operations,
+// which gives the same values and derivatives to the bit: the reference
+// the loop nodes are tested against.
+func (b *Builder) SetLoopMin(n int) { b.loopMin = n }
+
+func (b *Builder) minLoop() int {
+	if b.loopMin <= 0 {
+		return DefaultLoopMin
+	}
+	return b.loopMin
+}
+
+func (b *Builder) newVec(v bvec) Slot {
+	s := Slot(len(b.nodes))
+	b.nodes = append(b.nodes, bnode{op: opVec, pos: b.pos, args: [3]Slot{Slot(len(b.vecs)), -1, -1}})
+	b.vecs = append(b.vecs, v)
+	return s
+}
+
+// vec returns the vector of handle s, or nil when s is a scalar slot.
+func (b *Builder) vec(s Slot) *bvec {
+	if s < 0 || int(s) >= len(b.nodes) {
+		panic(fmt.Sprintf("tape: slot %d not made by this builder", s))
+	}
+	if n := b.nodes[s]; n.op == opVec {
+		return &b.vecs[n.args[0]]
+	}
+	return nil
+}
+
+// IsVec reports whether s is a vector, and its length.
+func (b *Builder) IsVec(s Slot) (n int, ok bool) {
+	if v := b.vec(s); v != nil {
+		return v.n, true
+	}
+	return 0, false
+}
+
+// VecInput adds n inputs (n >= 1), numbered consecutively, and returns
+// the vector of them.
+func (b *Builder) VecInput(n int) Slot {
+	if n < 1 {
+		panic("tape: VecInput of no elements")
+	}
+	first := b.Input()
+	for range n - 1 {
+		b.Input()
+	}
+	return b.newVec(bvec{first: first, n: n, neg: -1, mul: -1})
+}
+
+// VecConst returns a vector of the constants vs (at least one).
+func (b *Builder) VecConst(vs []float64) Slot {
+	if len(vs) == 0 {
+		panic("tape: VecConst of no elements")
+	}
+	first := Slot(len(b.nodes))
+	for _, v := range vs {
+		b.nodes = append(b.nodes, bnode{op: OpConst, pos: b.pos, val: v, args: [3]Slot{-1, -1, -1}})
+	}
+	return b.newVec(bvec{first: first, n: len(vs), neg: -1, mul: -1})
+}
+
+// Elem returns the slot of element j of the vector v.
+func (b *Builder) Elem(v Slot, j int) Slot {
+	x := b.mustVec(v)
+	if j < 0 || j >= x.n {
+		panic(fmt.Sprintf("tape: element %d of a vector of %d", j, x.n))
+	}
+	if x.list != nil {
+		return x.list[j]
+	}
+	return x.first + Slot(j)
+}
+
+// Elems returns the slots of the elements of v.
+func (b *Builder) Elems(v Slot) []Slot {
+	x := b.mustVec(v)
+	out := make([]Slot, x.n)
+	for j := range out {
+		out[j] = b.Elem(v, j)
+	}
+	return out
+}
+
+// VecConsts returns the values of v when every element is a constant.
+func (b *Builder) VecConsts(v Slot) ([]float64, bool) {
+	x := b.mustVec(v)
+	out := make([]float64, x.n)
+	for j := range out {
+		c, ok := b.IsConst(b.Elem(v, j))
+		if !ok {
+			return nil, false
+		}
+		out[j] = c
+	}
+	return out, true
+}
+
+func (b *Builder) mustVec(v Slot) *bvec {
+	x := b.vec(v)
+	if x == nil {
+		panic(fmt.Sprintf("tape: slot %d is not a vector", v))
+	}
+	return x
+}
+
+// contiguous reports whether every vector among args lies in a run of
+// slots.
+func (b *Builder) contiguous(args ...Slot) bool {
+	for _, a := range args {
+		if x := b.vec(a); x != nil && x.list != nil {
+			return false
+		}
+	}
+	return true
+}
+
+// loopKey identifies a map or a reduction for sharing: the same operation
+// over the same operands is one loop node, as the scalar operations it
+// stands for would be shared.
+type loopKey struct {
+	kind      loopKind
+	op        Op
+	n         int32
+	arg, step [3]int32
+}
+
+// addLoop appends loop node l (its operand slots are builder slots) and
+// returns the vector of its result, or for a reduction its slot. A map or
+// reduction made before on the same operands is returned instead.
+func (b *Builder) addLoop(l loop) Slot {
+	var key loopKey
+	if l.idx == nil {
+		key = loopKey{l.kind, l.op, l.n, l.arg, l.step}
+		if s, ok := b.loopCSE[key]; ok {
+			return s
+		}
+	}
+	r := b.appendLoop(l)
+	if l.idx == nil {
+		if b.loopCSE == nil {
+			b.loopCSE = map[loopKey]Slot{}
+		}
+		b.loopCSE[key] = r
+	}
+	return r
+}
+
+func (b *Builder) appendLoop(l loop) Slot {
+	h := Slot(len(b.nodes))
+	li := len(b.loops)
+	b.nodes = append(b.nodes, bnode{op: opLoop, pos: b.pos, args: [3]Slot{Slot(li), -1, -1}})
+	w := l.width()
+	for range w - 1 {
+		b.nodes = append(b.nodes, bnode{op: opLane, pos: b.pos, args: [3]Slot{h, -1, -1}})
+	}
+	b.loops = append(b.loops, l)
+	switch l.kind {
+	case loopMap, loopGather, loopGroup:
+		return b.newVec(bvec{first: h, n: w, neg: -1, mul: -1})
+	}
+	return h
+}
+
+// Map adds the element-wise operation op over args: each argument is a
+// vector, all of one length, or a scalar, used for every element. At
+// least one argument must be a vector. The result follows the Builder's
+// rules element by element: constants fold, and x + 0, x * 1, x / 1,
+// x ^ 1, -(-x), 0 - x, x ^ 2 and x ^ c simplify as for Binary.
+func (b *Builder) Map(op Op, args ...Slot) Slot {
+	b.checkOp(op, len(args))
+	n := -1
+	for _, a := range args {
+		if x := b.vec(a); x != nil {
+			if n >= 0 && x.n != n {
+				panic(fmt.Sprintf("tape: Map over vectors of %d and %d elements", n, x.n))
+			}
+			n = x.n
+		} else {
+			b.checkSlot(a)
+		}
+	}
+	if n < 0 {
+		panic("tape: Map with no vector argument")
+	}
+	if s, ok := b.simplifyMap(op, args); ok {
+		return s
+	}
+	if s, ok := b.foldMap(op, n, args); ok {
+		return s
+	}
+	if n < b.minLoop() || !b.contiguous(args...) {
+		list := make([]Slot, n)
+		el := make([]Slot, len(args))
+		for j := range list {
+			for i, a := range args {
+				el[i] = a
+				if b.vec(a) != nil {
+					el[i] = b.Elem(a, j)
+				}
+			}
+			list[j] = b.Call(op, el...)
+		}
+		return b.newVec(bvec{list: list, n: n, neg: -1, mul: -1})
+	}
+	if op == OpPow {
+		if _, ok := b.IsConst(args[1]); ok {
+			op = OpPowConst
+		}
+	}
+	l := loop{kind: loopMap, op: op, n: int32(n)}
+	for i := range 3 {
+		a := args[0]
+		if i < len(args) {
+			a = args[i]
+		}
+		if x := b.vec(a); x != nil {
+			l.arg[i], l.step[i] = int32(x.first), 1
+		} else {
+			l.arg[i] = int32(a)
+		}
+	}
+	r := b.addLoop(l)
+	v := b.mustVec(r)
+	switch {
+	case op == OpNeg:
+		v.neg = args[0]
+	case op == OpMul && l.step[0] == 1 && l.step[1] == 1:
+		v.mul = int(b.nodes[v.first].args[0])
+	}
+	return r
+}
+
+// simplifyMap applies Binary's simplifications with a constant scalar
+// operand, and -(-x) = x.
+func (b *Builder) simplifyMap(op Op, args []Slot) (Slot, bool) {
+	if op == OpNeg {
+		if x := b.vec(args[0]); x != nil && x.neg >= 0 {
+			return x.neg, true
+		}
+		return 0, false
+	}
+	if len(args) != 2 {
+		return 0, false
+	}
+	x, y := args[0], args[1]
+	cx, xc := b.IsConst(x)
+	cy, yc := b.IsConst(y)
+	switch op {
+	case OpAdd:
+		if yc && cy == 0 {
+			return x, true
+		}
+		if xc && cx == 0 {
+			return y, true
+		}
+	case OpSub:
+		if yc && cy == 0 {
+			return x, true
+		}
+		if xc && cx == 0 && !math.Signbit(cx) {
+			return b.Map(OpNeg, y), true
+		}
+	case OpMul:
+		if yc && cy == 1 {
+			return x, true
+		}
+		if xc && cx == 1 {
+			return y, true
+		}
+	case OpDiv:
+		if yc && cy == 1 {
+			return x, true
+		}
+	case OpPow:
+		if yc && cy == 1 {
+			return x, true
+		}
+		if yc && cy == 2 && !xc {
+			return b.Map(OpSquare, x), true
+		}
+	}
+	return 0, false
+}
+
+// foldMap computes a map whose arguments are all constants, when every
+// element of the result is finite.
+func (b *Builder) foldMap(op Op, n int, args []Slot) (Slot, bool) {
+	var cs [3][]float64
+	var c [3]float64
+	for i, a := range args {
+		if b.vec(a) != nil {
+			vs, ok := b.VecConsts(a)
+			if !ok {
+				return 0, false
+			}
+			cs[i] = vs
+		} else {
+			v, ok := b.IsConst(a)
+			if !ok {
+				return 0, false
+			}
+			c[i] = v
+		}
+	}
+	out := make([]float64, n)
+	for j := range out {
+		var v [3]float64
+		for i := range args {
+			v[i] = c[i]
+			if cs[i] != nil {
+				v[i] = cs[i][j]
+			}
+		}
+		out[j] = evalOp(op, v[0], v[1], v[2])
+		if !finite(out[j]) {
+			return 0, false
+		}
+	}
+	return b.VecConst(out), true
+}
+
+// Sum adds the sum of the elements of v, added one after another from
+// the first. The sum of an element-wise product of two vectors is their
+// dot product, one loop node.
+func (b *Builder) Sum(v Slot) Slot {
+	x := b.mustVec(v)
+	if x.mul >= 0 {
+		m := b.loops[x.mul]
+		return b.reduce(loopDot, OpAdd, v, Slot(m.arg[0]), Slot(m.arg[1]))
+	}
+	return b.reduce(loopSum, OpAdd, v, -1, -1)
+}
+
+// Dot adds the dot product of the vectors x and y: Σ x_j y_j.
+func (b *Builder) Dot(x, y Slot) Slot { return b.Sum(b.Map(OpMul, x, y)) }
+
+// Reduce adds the smallest (op OpMin) or largest (OpMax) element of v;
+// a tie credits the first, as a left fold of op does.
+func (b *Builder) Reduce(op Op, v Slot) Slot {
+	switch op {
+	case OpMin:
+		return b.reduce(loopMin, op, v, -1, -1)
+	case OpMax:
+		return b.reduce(loopMax, op, v, -1, -1)
+	}
+	panic(fmt.Sprintf("tape: Reduce with %v", op))
+}
+
+// reduce adds a reduction of v: a loop node, or a left fold of the scalar
+// operation fold. x and y, when not -1, are the first slots of the two
+// factors of a dot product.
+func (b *Builder) reduce(kind loopKind, fold Op, v, x, y Slot) Slot {
+	vv := b.mustVec(v)
+	if vv.n == 1 {
+		return b.Elem(v, 0)
+	}
+	if vv.n < b.minLoop() || vv.list != nil {
+		return b.Fold(fold, b.Elems(v)...)
+	}
+	if vs, ok := b.VecConsts(v); ok {
+		r := vs[0]
+		for _, c := range vs[1:] {
+			r = evalOp(fold, r, c, 0)
+		}
+		if finite(r) {
+			return b.Const(r)
+		}
+	}
+	l := loop{kind: kind, n: int32(vv.n)}
+	l.arg = [3]int32{int32(vv.first), int32(vv.first), int32(vv.first)}
+	l.step = [3]int32{1, 1, 1}
+	if kind == loopDot {
+		l.arg[0], l.arg[1] = int32(x), int32(y)
+	}
+	return b.addLoop(l)
+}
+
+// Gather returns the vector of the elements idx[0], idx[1], ... of v (at
+// least one): the rows a filter keeps.
+func (b *Builder) Gather(v Slot, idx []int) Slot {
+	x := b.mustVec(v)
+	if len(idx) == 0 {
+		panic("tape: Gather of no elements")
+	}
+	same := len(idx) == x.n
+	for j, i := range idx {
+		if i < 0 || i >= x.n {
+			panic(fmt.Sprintf("tape: Gather of element %d of a vector of %d", i, x.n))
+		}
+		same = same && i == j
+	}
+	if same {
+		return v
+	}
+	if len(idx) < b.minLoop() || x.list != nil {
+		list := make([]Slot, len(idx))
+		for j, i := range idx {
+			list[j] = b.Elem(v, i)
+		}
+		return b.newVec(bvec{list: list, n: len(list), neg: -1, mul: -1})
+	}
+	if vs, ok := b.VecConsts(v); ok {
+		out := make([]float64, len(idx))
+		for j, i := range idx {
+			out[j] = vs[i]
+		}
+		return b.VecConst(out)
+	}
+	l := loop{kind: loopGather, n: int32(len(idx)), src: int32(x.n), idx: make([]int32, len(idx))}
+	for j, i := range idx {
+		l.idx[j] = int32(i)
+	}
+	l.arg = [3]int32{int32(x.first), int32(x.first), int32(x.first)}
+	l.step = [3]int32{1, 1, 1}
+	return b.addLoop(l)
+}
+
+// GroupSum returns the vector of the sums of the elements of v by group:
+// element g is the sum, in order, of the elements i of v with groups[i]
+// = g. groups has one entry per element of v, each in [0, n), and every
+// group has at least one element.
+func (b *Builder) GroupSum(v Slot, groups []int, n int) Slot {
+	x := b.mustVec(v)
+	if len(groups) != x.n || n < 1 {
+		panic(fmt.Sprintf("tape: GroupSum of %d elements with %d groups for %d", x.n, len(groups), n))
+	}
+	members := make([][]Slot, n)
+	first := make([]int32, n)
+	for i, g := range groups {
+		if g < 0 || g >= n {
+			panic(fmt.Sprintf("tape: group %d of %d", g, n))
+		}
+		if members[g] == nil {
+			first[g] = int32(i)
+		}
+		members[g] = append(members[g], b.Elem(v, i))
+	}
+	for g, m := range members {
+		if m == nil {
+			panic(fmt.Sprintf("tape: group %d has no element", g))
+		}
+	}
+	_, konst := b.VecConsts(v)
+	if n < b.minLoop() || x.list != nil || konst {
+		list := make([]Slot, n)
+		for g, m := range members {
+			list[g] = b.Fold(OpAdd, m...)
+		}
+		return b.newVec(bvec{list: list, n: n, neg: -1, mul: -1})
+	}
+	l := loop{kind: loopGroup, n: int32(n), src: int32(x.n), idx: make([]int32, x.n), first: first}
+	for i, g := range groups {
+		l.idx[i] = int32(g)
+	}
+	l.arg = [3]int32{int32(x.first), int32(x.first), int32(x.first)}
+	l.step = [3]int32{1, 1, 1}
+	return b.addLoop(l)
+}
+
+// ---- freezing
+
+// markLoop marks live, for the loop node at builder slot k, its lanes and
+// every slot of its operands, so that each vector keeps its run of slots.
+func (b *Builder) markLoop(k int, live []bool) {
+	l := &b.loops[b.nodes[k].args[0]]
+	for j := 1; j < l.width(); j++ {
+		live[k+j] = true
+	}
+	l.operands(func(first, n int32) {
+		for s := first; s < first+n; s++ {
+			live[s] = true
+		}
+	})
+}
+
+// operands calls f with the run of slots of each operand of l.
+func (l *loop) operands(f func(first, n int32)) {
+	switch l.kind {
+	case loopMap:
+		for i := range 3 {
+			if l.step[i] == 1 {
+				f(l.arg[i], l.n)
+			} else {
+				f(l.arg[i], 1)
+			}
+		}
+	case loopDot:
+		f(l.arg[0], l.n)
+		f(l.arg[1], l.n)
+	case loopGather, loopGroup:
+		f(l.arg[0], l.src)
+	default:
+		f(l.arg[0], l.n)
+	}
+}
+
+// relocate returns l with its operand slots renumbered by idx.
+func (l loop) relocate(idx []int32) loop {
+	for i := range l.arg {
+		l.arg[i] = idx[l.arg[i]]
+	}
+	return l
+}
+
+// ---- the passes
+
+// loopWidth returns the number of slots of the loop node at k.
+func (p *tapeProg) loopWidth(k int) int { return p.loops[p.a[k]].width() }
+
+// endNode returns one past the slots a pass over output node o needs: its
+// node, the opArg after a three-argument operation, and every lane of a
+// loop node's result.
+func (p *tapeProg) endNode(o int) int {
+	switch op := p.ops[o]; {
+	case op == opLane:
+		h := int(p.a[o])
+		return h + p.loopWidth(h)
+	case op == opLoop:
+		return o + p.loopWidth(o)
+	case op.Arity() == 3:
+		return o + 2
+	}
+	return o + 1
+}
+
+// loopForward evaluates the loop node at k over the values v and reports
+// whether a guard operation saw a non-finite operand.
+func (p *tapeProg) loopForward(v []float64, k int) (bad bool) {
+	l := &p.loops[p.a[k]]
+	n := int(l.n)
+	x := int(l.arg[0])
+	switch l.kind {
+	case loopMap:
+		return l.mapForward(v, k)
+	case loopSum:
+		xs := v[x : x+n]
+		r := xs[0]
+		for _, e := range xs[1:] {
+			r += e
+		}
+		v[k] = r
+	case loopDot:
+		xs, ys := v[x:x+n], v[int(l.arg[1]):int(l.arg[1])+n]
+		r := float64(xs[0] * ys[0])
+		for j := 1; j < len(xs); j++ {
+			r += float64(xs[j] * ys[j]) // the conversion forbids a fused multiply-add
+		}
+		v[k] = r
+	case loopMin, loopMax:
+		xs := v[x : x+n]
+		v[k] = xs[l.best(xs)]
+		return !allFinite(xs)
+	case loopGather:
+		o := v[k : k+n]
+		for j, i := range l.idx {
+			o[j] = v[x+int(i)]
+		}
+	case loopGroup:
+		o := v[k : k+n]
+		for i, g := range l.idx {
+			if l.first[g] == int32(i) {
+				o[g] = v[x+i]
+			} else {
+				o[g] += v[x+i]
+			}
+		}
+	}
+	return false
+}
+
+// best returns the index of the element a min or max loop picks: a left
+// fold of OpMin or OpMax, which keeps the earlier element on a tie.
+func (l *loop) best(xs []float64) int {
+	b := 0
+	for j := 1; j < len(xs); j++ {
+		if l.kind == loopMin && !(xs[b] <= xs[j]) || l.kind == loopMax && !(xs[b] >= xs[j]) {
+			b = j
+		}
+	}
+	return b
+}
+
+// mapForward evaluates a map node at k: the common arithmetic in loops of
+// its own, the rest through evalOp, the reference definition.
+func (l *loop) mapForward(v []float64, k int) (bad bool) {
+	n := int(l.n)
+	o := v[k : k+n]
+	x, y, z := int(l.arg[0]), int(l.arg[1]), int(l.arg[2])
+	sx, sy, sz := int(l.step[0]), int(l.step[1]), int(l.step[2])
+	op := l.op
+	if (op == OpAdd || op == OpMul) && sx == 0 { // commutative: the scalar on the right
+		x, y, sx, sy = y, x, sy, sx
+	}
+	switch {
+	case op == OpAdd && sy == 1:
+		for j, a := range v[x : x+n] {
+			o[j] = a + v[y+j]
+		}
+	case op == OpAdd:
+		c := v[y]
+		for j, a := range v[x : x+n] {
+			o[j] = a + c
+		}
+	case op == OpMul && sy == 1:
+		for j, a := range v[x : x+n] {
+			o[j] = a * v[y+j]
+		}
+	case op == OpMul:
+		c := v[y]
+		for j, a := range v[x : x+n] {
+			o[j] = a * c
+		}
+	case op == OpSub && sx == 1 && sy == 1:
+		for j, a := range v[x : x+n] {
+			o[j] = a - v[y+j]
+		}
+	case op == OpSub && sx == 1:
+		c := v[y]
+		for j, a := range v[x : x+n] {
+			o[j] = a - c
+		}
+	case op == OpDiv && sx == 1 && sy == 0:
+		c := v[y]
+		for j, a := range v[x : x+n] {
+			o[j] = a / c
+		}
+	default:
+		for j := range o {
+			o[j] = evalOp(op, v[x+j*sx], v[y+j*sy], v[z+j*sz])
+		}
+	}
+	if !opMetas[op].guard {
+		return false
+	}
+	ok := true
+	l.operands(func(first, m int32) { ok = ok && allFinite(v[first:first+m]) })
+	return !ok
+}
+
+// adjoint returns what the reverse pass adds to the adjoints of the
+// operands x, y, z of op, whose value is v, for the adjoint gk: the same
+// expressions as Reverse, so that a loop node and the scalar operations
+// it stands for give the same bits.
+func adjoint(op Op, gk, x, y, z, v float64) (da, db, dc float64) {
+	switch op {
+	case OpAdd:
+		return gk, gk, 0
+	case OpSub:
+		return gk, -gk, 0
+	case OpMul:
+		return gk * y, gk * x, 0
+	case OpDiv:
+		q := gk / y
+		return q, -(q * v), 0
+	case OpNeg:
+		return -gk, 0, 0
+	case OpSquare:
+		return 2 * gk * x, 0, 0
+	case OpSqrt:
+		return gk * 0.5 / v, 0, 0
+	case OpExp:
+		return gk * v, 0, 0
+	case OpLn:
+		return gk / x, 0, 0
+	case OpAbs:
+		switch {
+		case x > 0:
+			return gk, 0, 0
+		case x < 0:
+			return -gk, 0, 0
+		}
+		return 0, 0, 0
+	case OpMin:
+		if x <= y {
+			return gk, 0, 0
+		}
+		return 0, gk, 0
+	case OpMax:
+		if x >= y {
+			return gk, 0, 0
+		}
+		return 0, gk, 0
+	case OpIf:
+		if x != 0 {
+			return 0, gk, 0
+		}
+		return 0, 0, gk
+	}
+	if op.IsStep() {
+		return 0, 0, 0
+	}
+	dx, dy, dz := deriv(op, x, y, z, v)
+	da = gk * dx
+	if op.Arity() >= 2 && op != OpPowConst {
+		db = gk * dy
+	}
+	if op.Arity() == 3 {
+		dc = gk * dz
+	}
+	return da, db, dc
+}
+
+// loopReverse runs the reverse pass through the loop node at k: it adds
+// to the adjoints g of its operands what the adjoints of its elements
+// send back. Adding zero changes no adjoint (an adjoint is never -0: it
+// starts at +0), so the amounts are added whatever they are.
+func (p *tapeProg) loopReverse(v, g []float64, k int) {
+	l := &p.loops[p.a[k]]
+	n := int(l.n)
+	x, y := int(l.arg[0]), int(l.arg[1])
+	switch l.kind {
+	case loopMap:
+		z := int(l.arg[2])
+		sx, sy, sz := int(l.step[0]), int(l.step[1]), int(l.step[2])
+		ar := l.op.Arity()
+		for j := n - 1; j >= 0; j-- {
+			gk := g[k+j]
+			if gk == 0 {
+				continue
+			}
+			xi, yi, zi := x+j*sx, y+j*sy, z+j*sz
+			da, db, dc := adjoint(l.op, gk, v[xi], v[yi], v[zi], v[k+j])
+			g[xi] += da
+			if ar >= 2 {
+				g[yi] += db
+			}
+			if ar == 3 {
+				g[zi] += dc
+			}
+		}
+	case loopSum:
+		if gk := g[k]; gk != 0 {
+			for j := n - 1; j >= 0; j-- {
+				g[x+j] += gk
+			}
+		}
+	case loopDot:
+		if gk := g[k]; gk != 0 {
+			for j := n - 1; j >= 0; j-- {
+				g[x+j] += gk * v[y+j]
+				g[y+j] += gk * v[x+j]
+			}
+		}
+	case loopMin, loopMax:
+		if gk := g[k]; gk != 0 {
+			g[x+l.best(v[x:x+n])] += gk
+		}
+	case loopGather:
+		for j := n - 1; j >= 0; j-- {
+			if gk := g[k+j]; gk != 0 {
+				g[x+int(l.idx[j])] += gk
+			}
+		}
+	case loopGroup:
+		for i := len(l.idx) - 1; i >= 0; i-- {
+			if gk := g[k+int(l.idx[i])]; gk != 0 {
+				g[x+i] += gk
+			}
+		}
+	}
+}
+
+// ---- the batched passes
+
+// loopBlock evaluates the loop node at k over the current block of m
+// samples; see loopForward.
+func (t *Tape) loopBlock(k, m int) (bad bool) {
+	l := &t.p.loops[t.p.a[k]]
+	row := func(s int) []float64 { return t.row(t.bvals, int32(s), m) }
+	n, x := int(l.n), int(l.arg[0])
+	switch l.kind {
+	case loopMap:
+		for j := range n {
+			o := row(k + j)
+			xs := row(x + j*int(l.step[0]))
+			ys := row(int(l.arg[1]) + j*int(l.step[1]))
+			var zs []float64
+			if l.op.Arity() == 3 {
+				zs = row(int(l.arg[2]) + j*int(l.step[2]))
+			}
+			rowOp(l.op, o, xs, ys, zs)
+		}
+		if opMetas[l.op].guard {
+			l.operands(func(first, c int32) {
+				for s := first; s < first+c; s++ {
+					bad = bad || !allFinite(row(int(s)))
+				}
+			})
+		}
+	case loopSum, loopDot, loopMin, loopMax:
+		o := row(k)
+		y := int(l.arg[1])
+		for j := range n {
+			xs := row(x + j)
+			for s := range o {
+				e := xs[s]
+				if l.kind == loopDot {
+					e = float64(e * row(y + j)[s])
+				}
+				switch {
+				case j == 0:
+					o[s] = e
+				case l.kind == loopMin && !(o[s] <= e), l.kind == loopMax && !(o[s] >= e):
+					o[s] = e
+				case l.kind == loopSum || l.kind == loopDot:
+					o[s] += e
+				}
+			}
+			if l.kind == loopMin || l.kind == loopMax {
+				bad = bad || !allFinite(xs)
+			}
+		}
+	case loopGather:
+		for j, i := range l.idx {
+			copy(row(k+j), row(x+int(i)))
+		}
+	case loopGroup:
+		for i, g := range l.idx {
+			o, xs := row(k+int(g)), row(x+i)
+			if l.first[g] == int32(i) {
+				copy(o, xs)
+				continue
+			}
+			for s := range o {
+				o[s] += xs[s]
+			}
+		}
+	}
+	return bad
+}
+
+// rowOp sets o[s] = op(x[s], y[s], z[s]) over a block, with the same
+// expressions as the scalar passes; z is nil unless op takes three
+// arguments.
+func rowOp(op Op, o, x, y, z []float64) {
+	x, y = x[:len(o)], y[:len(o)]
+	switch op {
+	case OpAdd:
+		for s := range o {
+			o[s] = x[s] + y[s]
+		}
+	case OpSub:
+		for s := range o {
+			o[s] = x[s] - y[s]
+		}
+	case OpMul:
+		for s := range o {
+			o[s] = x[s] * y[s]
+		}
+	case OpDiv:
+		for s := range o {
+			o[s] = x[s] / y[s]
+		}
+	default:
+		vecOp(op, o, x, y, z)
+	}
+}
+
+// loopReverseBlock runs the reverse pass through the loop node at k over
+// the current block of m samples; see loopReverse.
+func (t *Tape) loopReverseBlock(k, m int) {
+	l := &t.p.loops[t.p.a[k]]
+	val := func(s int) []float64 { return t.row(t.bvals, int32(s), m) }
+	adj := func(s int) []float64 { return t.row(t.badj, int32(s), m) }
+	n, x, y := int(l.n), int(l.arg[0]), int(l.arg[1])
+	switch l.kind {
+	case loopMap:
+		ar := l.op.Arity()
+		z := int(l.arg[2])
+		for j := n - 1; j >= 0; j-- {
+			xi, yi, zi := x+j*int(l.step[0]), y+j*int(l.step[1]), z+j*int(l.step[2])
+			gk, vs, xs, ys, zs := adj(k+j), val(k+j), val(xi), val(yi), val(zi)
+			ga, gb, gc := adj(xi), adj(yi), adj(zi)
+			for s, g := range gk {
+				if g == 0 {
+					continue
+				}
+				da, db, dc := adjoint(l.op, g, xs[s], ys[s], zs[s], vs[s])
+				ga[s] += da
+				if ar >= 2 {
+					gb[s] += db
+				}
+				if ar == 3 {
+					gc[s] += dc
+				}
+			}
+		}
+	case loopSum, loopDot:
+		gk := adj(k)
+		for j := n - 1; j >= 0; j-- {
+			ga := adj(x + j)
+			if l.kind == loopSum {
+				for s, g := range gk {
+					ga[s] += g
+				}
+				continue
+			}
+			gb, xs, ys := adj(y+j), val(x+j), val(y+j)
+			for s, g := range gk {
+				if g != 0 {
+					ga[s] += g * ys[s]
+					gb[s] += g * xs[s]
+				}
+			}
+		}
+	case loopMin, loopMax:
+		for s, g := range adj(k) {
+			if g == 0 {
+				continue
+			}
+			b := 0
+			for j := 1; j < n; j++ {
+				xb, xj := val(x + b)[s], val(x + j)[s]
+				if l.kind == loopMin && !(xb <= xj) || l.kind == loopMax && !(xb >= xj) {
+					b = j
+				}
+			}
+			adj(x + b)[s] += g
+		}
+	case loopGather:
+		for j := n - 1; j >= 0; j-- {
+			ga, gk := adj(x+int(l.idx[j])), adj(k+j)
+			for s, g := range gk {
+				ga[s] += g
+			}
+		}
+	case loopGroup:
+		for i := len(l.idx) - 1; i >= 0; i-- {
+			ga, gk := adj(x+i), adj(k+int(l.idx[i]))
+			for s, g := range gk {
+				ga[s] += g
+			}
+		}
+	}
+}
+
+// ---- tracing and errors
+
+// loopDeps calls mark for every operand slot that the elements of the
+// loop node at k for which need is true depend on. With val set, an
+// element of an if depends only on the branch its condition takes, as in
+// findOrigin; without, on both.
+func (p *tapeProg) loopDeps(k int, need func(j int) bool, mark func(s int32), val func(s int32) float64) {
+	l := &p.loops[p.a[k]]
+	switch l.kind {
+	case loopMap:
+		ar := l.op.Arity()
+		for j := range int(l.n) {
+			if !need(j) {
+				continue
+			}
+			el := func(i int) int32 { return l.arg[i] + int32(j)*l.step[i] }
+			mark(el(0))
+			switch {
+			case ar < 2:
+			case l.op == OpIf && val != nil:
+				if c := val(el(0)); c != 0 || !finite(c) {
+					mark(el(1))
+				} else {
+					mark(el(2))
+				}
+			default:
+				mark(el(1))
+				if ar == 3 {
+					mark(el(2))
+				}
+			}
+		}
+	case loopGather:
+		for j, i := range l.idx {
+			if need(j) {
+				mark(l.arg[0] + i)
+			}
+		}
+	case loopGroup:
+		for i, g := range l.idx {
+			if need(int(g)) {
+				mark(l.arg[0] + int32(i))
+			}
+		}
+	default:
+		if need(0) {
+			l.operands(func(first, n int32) {
+				for s := first; s < first+n; s++ {
+					mark(s)
+				}
+			})
+		}
+	}
+}
+
+// laneNeed returns whether element j of the loop node at k is marked in
+// mark, which may end inside the node's lanes.
+func laneNeed[T bool | float64](mark []T, k int) func(j int) bool {
+	var zero T
+	return func(j int) bool { return k+j < len(mark) && mark[k+j] != zero }
+}
+
+// loopStep reports whether the loop node at k is a map of a step
+// operation with a marked element.
+func (p *tapeProg) loopStep(k int, mark []bool) bool {
+	l := &p.loops[p.a[k]]
+	if l.kind != loopMap || !l.op.IsStep() {
+		return false
+	}
+	need := laneNeed(mark, k)
+	for j := range int(l.n) {
+		if need(j) {
+			return true
+		}
+	}
+	return false
+}
+
+// loopElement returns the loop node of slot k (a loop node or one of its
+// lanes), the element k holds, and its operation and operand values.
+func (p *tapeProg) loopElement(k int, vals []float64, stride, off int) (h, j int, op Op, args []float64) {
+	h = k
+	if p.ops[k] == opLane {
+		h = int(p.a[k])
+	}
+	j = k - h
+	l := &p.loops[p.a[h]]
+	v := func(s int32) float64 { return vals[int(s)*stride+off] }
+	switch l.kind {
+	case loopMap:
+		op = l.op
+		for i := range op.Arity() {
+			args = append(args, v(l.arg[i]+int32(j)*l.step[i]))
+		}
+	case loopGather:
+		args = []float64{v(l.arg[0] + l.idx[j])}
+	}
+	return h, j, op, args
+}
+
+// loopError reports the non-finite value of slot k, a loop node or one of
+// its lanes, whose operands are finite.
+func (t *Tape) loopError(k int, vals []float64, stride, off, sample int) error {
+	p := t.p
+	h, j, op, args := p.loopElement(k, vals, stride, off)
+	l := &p.loops[p.a[h]]
+	e := &DomainError{Pos: p.pos[h], Op: op, Args: args, Sample: sample, Element: j + 1}
+	v := vals[k*stride+off]
+	switch l.kind {
+	case loopMap:
+		e.Msg = domainMsg(op, args, v)
+	default:
+		e.Op = OpAdd
+		what := map[loopKind]string{loopSum: "a sum of", loopDot: "a dot product of", loopMin: "the least of",
+			loopMax: "the greatest of", loopGather: "an element of", loopGroup: "a group sum of"}[l.kind]
+		e.Msg = fmt.Sprintf("%s %d elements is %s", what, l.n, num(v))
+		if l.kind == loopGroup {
+			e.Msg = fmt.Sprintf("a group sum is %s", num(v))
+		}
+		if l.width() == 1 {
+			e.Element = 0
+		}
+	}
+	return e
+}
+
+// loopReverseError returns the error of an element of the map node at k
+// whose local derivative turns a finite, nonzero adjoint into a
+// non-finite amount, or nil.
+func (t *Tape) loopReverseError(k int, vals, adj []float64, stride, off, sample int) error {
+	p := t.p
+	l := &p.loops[p.a[k]]
+	if l.kind != loopMap {
+		return nil
+	}
+	for j := int(l.n) - 1; j >= 0; j-- {
+		gk := adj[(k+j)*stride+off]
+		if gk == 0 || !finite(gk) {
+			continue
+		}
+		_, _, op, args := p.loopElement(k+j, vals, stride, off)
+		var a [3]float64
+		copy(a[:], args)
+		da, db, dc := adjoint(op, gk, a[0], a[1], a[2], vals[(k+j)*stride+off])
+		if !finite(da) || !finite(db) || !finite(dc) {
+			return &DomainError{Pos: p.pos[k], Op: op, Args: args, Msg: derivMsg(op, args), Sample: sample, Reverse: true, Element: j + 1}
+		}
+	}
+	return nil
+}
