@@ -21,10 +21,21 @@ type Stmt interface {
 // ---- Expressions
 
 type (
-	// Ident is a name: an input, a formula, a function or the constant pi.
+	// Ident is a name: an input, a formula, a function or the constant pi;
+	// a column of a table, table.column; or an element of a vector,
+	// name[key], written with no space before the bracket (tables.go).
 	Ident struct {
 		NamePos Pos
-		Name    string
+		Name    string // an element's name is normalised: qty[bracket-12]
+		Rbrack  Pos    // an element: the position of its ']'; NoPos otherwise
+	}
+
+	// StringLit is text in quotes, compared with a text column:
+	// parts.category == "fasteners".
+	StringLit struct {
+		ValuePos Pos
+		Value    string // unquoted
+		Lit      string // as written, with its quotes
 	}
 
 	// NumberLit is a number, optionally with a unit: 1_200, 1.5e3, 90 [min].
@@ -74,6 +85,7 @@ type (
 )
 
 func (x *Ident) Pos() Pos      { return x.NamePos }
+func (x *StringLit) Pos() Pos  { return x.ValuePos }
 func (x *NumberLit) Pos() Pos  { return x.ValuePos }
 func (x *UnitLit) Pos() Pos    { return x.Lbrack }
 func (x *ParenExpr) Pos() Pos  { return x.Lparen }
@@ -81,7 +93,13 @@ func (x *UnaryExpr) Pos() Pos  { return x.OpPos }
 func (x *BinaryExpr) Pos() Pos { return x.X.Pos() }
 func (x *CallExpr) Pos() Pos   { return x.Fun.Pos() }
 
-func (x *Ident) End() Pos { return x.NamePos + Pos(len(x.Name)) }
+func (x *Ident) End() Pos {
+	if x.Rbrack.IsValid() {
+		return x.Rbrack + 1
+	}
+	return x.NamePos + Pos(len(x.Name))
+}
+func (x *StringLit) End() Pos { return x.ValuePos + Pos(len(x.Lit)) }
 func (x *NumberLit) End() Pos {
 	if x.Unit != nil {
 		return x.Unit.End()
@@ -95,6 +113,7 @@ func (x *BinaryExpr) End() Pos { return x.Y.End() }
 func (x *CallExpr) End() Pos   { return x.Rparen + 1 }
 
 func (*Ident) exprNode()      {}
+func (*StringLit) exprNode()  {}
 func (*NumberLit) exprNode()  {}
 func (*UnitLit) exprNode()    {}
 func (*ParenExpr) exprNode()  {}
@@ -104,12 +123,14 @@ func (*CallExpr) exprNode()   {}
 
 // ---- Ranges and distributions
 
-// Bound is one end of a range: a number, possibly a percentage of the baseline.
+// Bound is one end of a range: a number, possibly a percentage of the baseline,
+// or a column of a table, which gives each element of a vector input its own end.
 type Bound struct {
 	ValuePos Pos
 	Value    float64 // signed; for a percentage, the percentage itself (-5 for -5%)
 	Percent  bool
 	Lit      string // as written, with its sign
+	Column   *Ident // a column (table.column) instead of a number; nil for a number
 }
 
 // RangeSpec is a plausible range: (800..1300), (-5%..+8%) or (±20%).
@@ -147,11 +168,36 @@ type (
 	InputStmt struct {
 		Input Pos
 		Name  *Ident
+		Over  *Ident // input NAME[OVER] = ...: a vector over a table or periods; nil otherwise
 		Value Expr
 		Unit  *UnitLit
 		Range *RangeSpec
 		Dist  *DistSpec
 		EndAt Pos
+	}
+
+	// TableStmt loads a table from a CSV file:
+	//
+	//	table NAME = "PATH" [key COLUMN]
+	//
+	// Key is nil when the first column is the key.
+	TableStmt struct {
+		Table Pos
+		Name  *Ident
+		Path  *StringLit
+		Key   *Ident
+		EndAt Pos
+	}
+
+	// PeriodsStmt declares a range of periods, a vector of the period
+	// numbers First..Last:
+	//
+	//	periods NAME = FIRST..LAST
+	PeriodsStmt struct {
+		Periods     Pos
+		Name        *Ident
+		First, Last Expr
+		EndAt       Pos
 	}
 
 	// FormulaStmt defines a formula: NAME = EXPR [UNIT].
@@ -208,11 +254,15 @@ type Option struct {
 }
 
 func (s *InputStmt) Pos() Pos   { return s.Input }
+func (s *TableStmt) Pos() Pos   { return s.Table }
+func (s *PeriodsStmt) Pos() Pos { return s.Periods }
 func (s *FormulaStmt) Pos() Pos { return s.Name.Pos() }
 func (s *ExprStmt) Pos() Pos    { return s.X.Pos() }
 func (s *CommandStmt) Pos() Pos { return s.VerbPos }
 
 func (s *InputStmt) End() Pos   { return s.EndAt }
+func (s *TableStmt) End() Pos   { return s.EndAt }
+func (s *PeriodsStmt) End() Pos { return s.EndAt }
 func (s *FormulaStmt) End() Pos { return s.EndAt }
 func (s *ExprStmt) End() Pos {
 	if s.Unit != nil {
@@ -223,6 +273,8 @@ func (s *ExprStmt) End() Pos {
 func (s *CommandStmt) End() Pos { return s.EndAt }
 
 func (*InputStmt) stmtNode()   {}
+func (*TableStmt) stmtNode()   {}
+func (*PeriodsStmt) stmtNode() {}
 func (*FormulaStmt) stmtNode() {}
 func (*ExprStmt) stmtNode()    {}
 func (*CommandStmt) stmtNode() {}

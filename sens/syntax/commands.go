@@ -142,7 +142,7 @@ func (p *parser) parseSpearman(c *CommandStmt) {
 //
 //	spider = "spider" name [ range ] .
 func (p *parser) parseSpider(c *CommandStmt) {
-	c.Output = p.parseIdent()
+	c.Output = p.parseRef()
 	if p.tok != LPAREN {
 		return
 	}
@@ -196,7 +196,7 @@ func (p *parser) parseScenario(c *CommandStmt) {
 	}
 	p.next()
 	for {
-		a := &Assign{Name: p.parseIdent()}
+		a := &Assign{Name: p.parseRef()}
 		if p.tok != ASSIGN {
 			p.errorExpected("'=' after " + a.Name.Name)
 		}
@@ -257,7 +257,7 @@ func (p *parser) expectWord(word, form string) {
 // parseAxis parses an input and its range; the range is required when need
 // is set.
 func (p *parser) parseAxis(need bool) *Axis {
-	a := &Axis{Name: p.parseIdent()}
+	a := &Axis{Name: p.parseRef()}
 	if !need && (p.atEnd() || p.tok == IDENT && p.peek(1) == ASSIGN) {
 		return a
 	}

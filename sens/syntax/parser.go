@@ -12,10 +12,13 @@ import (
 // of a line continues it too.
 //
 //	file      = { [ stmt ] NEWLINE } EOF .
-//	stmt      = input | formula | command | expr [ UNIT ] .
-//	input     = "input" name "=" expr [ UNIT ] { range | dist } .
+//	stmt      = input | table | periods | formula | command | expr [ UNIT ] .
+//	input     = "input" name [ over ] "=" expr [ UNIT ] { range | dist } .
+//	over      = UNIT .
+//	table     = "table" name "=" STRING [ "key" name ] .
+//	periods   = "periods" name "=" arith ".." arith .
 //	range     = "(" bound ".." bound ")" | "(" "±" bound ")" .
-//	bound     = [ "+" | "-" ] NUMBER [ "%" ] .
+//	bound     = [ "+" | "-" ] NUMBER [ "%" ] | name .
 //	dist      = "~" name "(" [ expr { "," expr } ] ")" .
 //	formula   = name "=" expr [ UNIT ] .
 //	expr      = or .
@@ -27,7 +30,8 @@ import (
 //	product   = unary { ( "*" | "/" ) unary } .
 //	unary     = ( "-" | "+" ) unary | power .
 //	power     = primary [ "^" unary ] .
-//	primary   = NUMBER [ UNIT ] | name | name "(" [ expr { "," expr } ] ")" | "(" expr ")" .
+//	primary   = NUMBER [ UNIT ] | ref | STRING | name "(" [ expr { "," expr } ] ")" | "(" expr ")" .
+//	ref       = name [ UNIT ] .
 //	arith     = sum .
 //
 // A command is a line that starts with its verb (and is not verb = ...); its
@@ -51,6 +55,12 @@ import (
 //	print     = "print" STRING .
 //	reset     = "reset" .
 //	charts    = "charts" name .
+//
+// A name may hold dots between letters (parts.qty, a column of a table). A UNIT
+// right after a name, with no space between, is an element's key, not a unit:
+// qty[bracket-12] in a ref, the table or periods of a vector input in over
+// (input om[year] = ...). Text in quotes (STRING) is compared with a text
+// column.
 //
 // A unit in brackets right after a number belongs to that number (90 [min] * rate),
 // except the last bracket of an input or formula line, which is the line's declared
@@ -106,6 +116,9 @@ type parser struct {
 
 	depth    int  // expression nesting
 	stmtUnit bool // a trailing unit at the end of the line belongs to the statement
+	// inInput: an input's value is being parsed, where a name, a space and
+	// '(' start the range: input qty = parts.qty (±10%).
+	inInput  bool
 	nested   int  // inside parentheses or call arguments
 	unclosed bool // the source ends inside parentheses
 }
@@ -208,7 +221,8 @@ func (p *parser) looksLikeStatementStart(s *Scanner, tok Token, lit string) bool
 	next, _, _ := s.Scan()
 	s.off = save
 	p.errs = p.errs[:n]
-	return next == ASSIGN
+	// table NAME = and periods NAME = (tables.go) start statements too.
+	return next == ASSIGN || next == IDENT && (lit == "table" || lit == "periods")
 }
 
 func (p *parser) load() {
@@ -288,7 +302,7 @@ func (p *parser) parseStmtSafe() (s Stmt) {
 				panic(r)
 			}
 			s = nil
-			p.depth, p.nested, p.stmtUnit = 0, 0, false
+			p.depth, p.nested, p.stmtUnit, p.inInput = 0, 0, false, false
 			for !p.atEnd() {
 				p.next()
 			}
@@ -305,6 +319,8 @@ func (p *parser) parseStmt() Stmt {
 	switch {
 	case p.tok == INPUT:
 		return p.parseInput()
+	case p.tok == IDENT && p.peek(1) == IDENT && (p.lit == "table" || p.lit == "periods"):
+		return p.parseLineItems()
 	case p.tok == IDENT && p.peek(1) == ASSIGN:
 		return p.parseFormula()
 	case p.tok == IDENT && IsVerb(p.lit):
@@ -348,13 +364,16 @@ func (p *parser) parseInput() *InputStmt {
 	s := &InputStmt{Input: p.pos}
 	p.next()
 	s.Name = p.parseIdent()
+	if p.tok == UNIT && p.pos == s.Name.End() {
+		s.Over = p.parseOver(s.Name)
+	}
 	if p.tok != ASSIGN {
 		p.error(p.pos, "expected '=' and a value after input "+s.Name.Name+", found "+p.describe())
 	}
 	p.next()
-	p.stmtUnit = true
+	p.stmtUnit, p.inInput = true, true
 	s.Value = p.parseExpr()
-	p.stmtUnit = false
+	p.stmtUnit, p.inInput = false, false
 	if p.tok == UNIT {
 		s.Unit = p.parseUnit()
 	}
@@ -403,6 +422,9 @@ func (p *parser) parseRange() *RangeSpec {
 		}
 		p.next()
 		r.High = p.parseBound(false)
+		if r.Low.Percent && r.High.Column != nil || r.High.Percent && r.Low.Column != nil {
+			p.error(r.Lparen, "range mixes a percentage and a column: write both ends as columns or both as percentages")
+		}
 		if r.Low.Percent != r.High.Percent {
 			p.error(r.Lparen, "range mixes a percentage and a value: write both ends as percentages or both as values")
 		}
@@ -412,7 +434,7 @@ func (p *parser) parseRange() *RangeSpec {
 	}
 	r.Rparen = p.pos
 	p.next()
-	if r.Low.Value > r.High.Value {
+	if r.Low.Column == nil && r.High.Column == nil && r.Low.Value > r.High.Value {
 		p.error(r.Low.ValuePos, errorf("range is reversed: low end %s is above high end %s", r.Low.Lit, r.High.Lit))
 	}
 	return r
@@ -429,6 +451,14 @@ func (p *parser) parseBound(unsigned bool) Bound {
 			lit = "+"
 		}
 		p.next()
+	}
+	if p.tok == IDENT && lit == "" {
+		b.Column = p.parseIdent()
+		b.Lit = b.Column.Name
+		if p.tok == PERCENT {
+			p.error(p.pos, "a range from columns takes values, not percentages: ("+b.Lit+"..TABLE.COLUMN)")
+		}
+		return b
 	}
 	if p.tok != NUMBER {
 		p.errorExpected("a number")
@@ -581,8 +611,8 @@ func (p *parser) parsePrimary() Expr {
 		}
 		return x
 	case IDENT:
-		id := p.parseIdent()
-		if p.tok == LPAREN {
+		id := p.parseRef()
+		if p.tok == LPAREN && !id.Rbrack.IsValid() && !(p.inInput && p.nested == 0 && p.pos != id.End()) {
 			lp, args, rp := p.parseArgs()
 			return &CallExpr{Fun: id, Lparen: lp, Args: args, Rparen: rp}
 		}
@@ -602,7 +632,9 @@ func (p *parser) parsePrimary() Expr {
 	case UNIT:
 		p.error(p.pos, "a unit must follow a number or end the line: write 5 ["+p.lit+"]")
 	case STRING:
-		p.error(p.pos, "text in quotes is only for print \"...\"")
+		x := &StringLit{ValuePos: p.pos, Value: p.lit, Lit: string(p.file.Src[p.file.Offset(p.pos):p.file.Offset(p.stringEnd())])}
+		p.next()
+		return x
 	case ASSIGN:
 		p.error(p.pos, "unexpected '=': use == to compare")
 	}
@@ -671,6 +703,8 @@ func writeExpr(b *strings.Builder, x Expr) {
 		b.WriteString("?")
 	case *Ident:
 		b.WriteString(x.Name)
+	case *StringLit:
+		b.WriteString(x.Lit)
 	case *NumberLit:
 		b.WriteString(x.Lit)
 		if x.Unit != nil {

@@ -74,6 +74,12 @@ func (s *Scanner) Scan() (tok Token, pos Pos, lit string) {
 	case isLetter(r):
 		for s.off < len(s.src) {
 			r, w := s.peekRune(s.off)
+			if r == '.' { // table.column: a dot between letters joins a name
+				if next, _ := s.peekRune(s.off + 1); isLetter(next) {
+					s.off++
+					continue
+				}
+			}
 			if !isLetter(r) && !isDigit(r) {
 				break
 			}
