@@ -25,17 +25,22 @@ type Command struct {
 }
 
 // Option is a key=value option of a command: a whole number of at least Min,
-// or, with Quantity set, a number in the unit of the command's output.
+// or, with Quantity set, a number in the unit of the command's output, or,
+// with Name set, a name (written as Name says: "COLUMN").
 type Option struct {
 	Key      string
 	Doc      string
 	Min      int
 	Quantity bool
+	Name     string
 }
 
-// Form is how the option is written: "top=N", "target=T".
+// Form is how the option is written: "top=N", "target=T", "group=COLUMN".
 func (o Option) Form() string {
-	if o.Quantity {
+	switch {
+	case o.Name != "":
+		return o.Key + "=" + o.Name
+	case o.Quantity:
 		return o.Key + "=T"
 	}
 	return o.Key + "=N"
@@ -136,6 +141,12 @@ func (x *call) checkOptions() error {
 			return x.errorf(o.Key.Pos(), "%s is given twice", o.Key.Name)
 		}
 		seen[o.Key.Name] = true
+		if spec.Name != "" {
+			if _, ok := o.Value.(*syntax.Ident); !ok {
+				return x.errorf(o.Value.Pos(), "%s takes a name: %s", o.Key.Name, spec.Form())
+			}
+			continue
+		}
 		if !spec.Quantity {
 			if _, _, err := x.whole(o.Key.Name); err != nil {
 				return err

@@ -47,6 +47,7 @@ func TestErrorCorpus(t *testing.T) {
 			}
 			text := strings.TrimSpace(parts[2])
 			in := New()
+			in.Dir = filepath.Dir(file) // tables are read beside the model
 			sink := &captureSink{}
 			err = in.Execute(context.Background(), "model", src, sink)
 			var ce *CellError

@@ -35,6 +35,10 @@ type Interp struct {
 	Model *sens.Model
 	// Opts say how results are drawn; the charts command changes them.
 	Opts render.Options
+	// Dir is the directory a table's file is read relative to: the model
+	// file's (RunFile sets it) or the notebook's, where Jupyter starts the
+	// kernel ("" is the working directory).
+	Dir string
 
 	cells  int
 	warned *sens.Program // the last program whose compile warnings were shown
@@ -135,7 +139,7 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 			return asCellError(err)
 		}
 		switch s := s.(type) {
-		case *syntax.InputStmt, *syntax.FormulaStmt:
+		case *syntax.InputStmt, *syntax.FormulaStmt, *syntax.TableStmt, *syntax.PeriodsStmt:
 			pending = true
 		case *syntax.CommandStmt:
 			pending = s.Verb == "spearman" // a declaration too
@@ -160,8 +164,15 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 
 func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last bool, sink Sink) error {
 	switch s := s.(type) {
-	case *syntax.InputStmt, *syntax.FormulaStmt:
+	case *syntax.InputStmt, *syntax.FormulaStmt, *syntax.PeriodsStmt:
 		in.Model.Define(f, s)
+		return nil
+	case *syntax.TableStmt:
+		r, err := in.Model.DefineTable(f, s, in.Dir)
+		if err != nil {
+			return err
+		}
+		sink.Result(render.Table(r, &in.Opts), false)
 		return nil
 	case *syntax.ExprStmt:
 		r, err := in.value(f, s)
@@ -228,6 +239,14 @@ func (in *Interp) value(f *syntax.File, s *syntax.ExprStmt) (*render.Result, err
 	}
 	if err != nil {
 		return nil, err
+	}
+	if prog.Vector(internal) != nil {
+		vr, err := prog.VectorValue(internal)
+		if err != nil {
+			return nil, err
+		}
+		vr.Name = name
+		return render.Vector(vr, &in.Opts), nil
 	}
 	v, err := prog.Value(internal)
 	if err != nil {

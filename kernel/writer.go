@@ -69,7 +69,10 @@ func (s *WriterSink) Progress(string, string, int, int) {}
 // does. It returns the cell error, if any, after writing it (as text to Err, or
 // as JSON error objects to Out).
 func RunFile(ctx context.Context, in *Interp, name, src string, sink *WriterSink) error {
+	dir := in.Dir
+	in.Dir = filepath.Dir(name) // tables are read relative to the model file
 	err := in.Execute(ctx, name, src, sink)
+	in.Dir = dir
 	if err != nil {
 		var ce *CellError
 		if !errors.As(err, &ce) {

@@ -25,6 +25,8 @@ type Program struct {
 	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
 	tape  *tape.Tape
 	pos   []posEntry // tape position table: SetPos value -> source
+
+	vecProgram // vectors: their inputs, formulas and tables (compile_vec.go)
 }
 
 type posEntry struct {
@@ -58,10 +60,16 @@ type Input struct {
 	Source    RangeSource
 	Dist      Dist // nil when none was given
 	Pos       syntax.Position
+	// Vector is the vector input this input is an element of, Key its
+	// key ("" for a scalar input): qty[bracket-12] is element bracket-12
+	// of qty.
+	Vector string
+	Key    string
 
 	u     unit.Unit
 	index int
 	file  *syntax.File // the file declaring it, for messages
+	elem  int // the element of Vector
 }
 
 // Formula is a compiled formula. Its value is shown in Unit.
@@ -73,7 +81,8 @@ type Formula struct {
 	Pos      syntax.Position
 
 	u    unit.Unit
-	out  int // tape output index
+	out  int        // tape output index
+	tape *tape.Tape // the tape of out; nil for the program's (an element of a vector formula has its own)
 	lazy *formulaLazy
 }
 
@@ -100,8 +109,9 @@ func (p *Program) steps(f *Formula) []int32 {
 
 func (p *Program) trace(f *Formula) {
 	f.lazy.once.Do(func() {
-		f.lazy.deps = p.tape.InputDeps(f.out)
-		f.lazy.steps = p.tape.StepOps(f.out)
+		t := p.tapeOf(f)
+		f.lazy.deps = t.InputDeps(f.out)
+		f.lazy.steps = t.StepOps(f.out)
 	})
 }
 
@@ -110,7 +120,7 @@ func (p *Program) Lookup(name string) (in *Input, f *Formula) {
 	i, ok := p.index[name]
 	switch {
 	case !ok:
-		return nil, nil
+		return p.lookupElement(name), nil
 	case i >= 0:
 		return p.Inputs[i], nil
 	}
@@ -122,6 +132,9 @@ func (p *Program) Names() []string {
 	out := make([]string, 0, len(p.index))
 	for n := range p.index {
 		out = append(out, n)
+	}
+	for _, v := range p.Vectors {
+		out = append(out, v.Name)
 	}
 	sort.Strings(out)
 	return out
@@ -159,6 +172,7 @@ type val struct {
 	konst   bool    // the value is a known constant
 	c       float64 // the constant, in base units
 	bad     bool    // an error was already reported
+	tx      *textVal // text: a text column or text in quotes (compile_vec.go); slot is unused
 }
 
 type state int
@@ -172,7 +186,8 @@ const (
 type compiler struct {
 	m     *Model
 	extra *extraFormula
-	b     *tape.Builder
+	b     *vbuilder // a tape.Builder that lifts operations on vectors (compile_vec.go)
+	vec   vecCompiler
 	errs  syntax.ErrorList
 	warns syntax.ErrorList
 	prog  *Program
@@ -192,10 +207,11 @@ type compiler struct {
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
 	c := &compiler{
-		m: m, extra: extra, b: tape.NewBuilder(),
+		m: m, extra: extra,
 		decls: m.decls, state: map[string]state{}, vals: map[string]val{},
 		prog: &Program{index: map[string]int{}},
 	}
+	c.b = newVBuilder(c)
 	return c.run()
 }
 
@@ -251,6 +267,7 @@ func (c *compiler) run() (*Program, error) {
 		outs[i] = c.vals[f.Name].slot
 	}
 	p.tape = c.b.Tape(outs...)
+	c.finishVectors()
 	c.warns.Sort()
 	p.Warnings = c.warns
 	return p, nil
@@ -260,11 +277,14 @@ func isBuiltinName(name string) bool {
 	if name == "pi" {
 		return true
 	}
-	return lookupFunc(name) != nil
+	return lookupFunc(name) != nil || lookupVecFunc(name) != nil
 }
 
 // compileInput checks an input declaration and adds its slot to the tape.
 func (c *compiler) compileInput(d *Decl) {
+	if c.vectorInput(d) {
+		return
+	}
 	s, f := d.Input, d.File
 	c.cur = d.Name
 	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: unit.One(), file: f}
@@ -379,7 +399,7 @@ func (c *compiler) constant(f *syntax.File, x syntax.Expr, u unit.Unit, what str
 		return 0, false
 	}
 	if !v.konst || v.boolean {
-		c.errorf(f, x.Pos(), "%s must be a constant number", what)
+		c.errorf(f, x.Pos(), "%s must be a constant number%s", what, c.vectorHint(v))
 		return 0, false
 	}
 	switch {
@@ -487,7 +507,7 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 		fm.u = c.display(v)
 		fm.Unit = unitText(fm.u)
 	}
-	if !v.bad {
+	if !v.bad && !c.vectorFormula(fm, &v, s.Value.Pos()) {
 		if v.konst {
 			// Keep a slot of its own so the formula has a position on the tape.
 			c.setPos(f, s.Name.Pos())
@@ -551,12 +571,14 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 		return val{slot: c.b.Const(v), dim: d, konst: true, c: v, hint: hint}
 	case *syntax.ParenExpr:
 		return c.expr(f, x.X, constCtx)
+	case *syntax.StringLit:
+		return val{tx: &textVal{lit: x}}
 	case *syntax.Ident:
 		return c.ident(f, x, constCtx)
 	case *syntax.UnaryExpr:
 		v := c.expr(f, x.X, constCtx)
-		if v.bad {
-			return v
+		if v.bad || c.notText(f, x.X, v) {
+			return val{bad: true}
 		}
 		c.setPos(f, x.OpPos)
 		switch x.Op {
@@ -586,6 +608,9 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 	if x.Name == "pi" {
 		return val{slot: c.b.Const(math.Pi), konst: true, c: math.Pi}
+	}
+	if v, ok := c.vecIdent(f, x, constCtx); ok {
+		return v
 	}
 	if constCtx {
 		msg := fmt.Sprintf("%s must be a number, not the name %s", c.what, x.Name)
@@ -619,6 +644,9 @@ func (c *compiler) undefined(f *syntax.File, x *syntax.Ident) {
 	for _, fn := range Functions {
 		cands = append(cands, fn.Name)
 	}
+	for _, fn := range VectorFunctions {
+		cands = append(cands, fn.Name)
+	}
 	c.errorf(f, x.Pos(), "undefined: %s%s", x.Name, syntax.DidYouMean(x.Name, cands))
 }
 
@@ -629,6 +657,9 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 		return val{bad: true}
 	}
 	c.setPos(f, x.OpPos)
+	if a.tx != nil || b.tx != nil {
+		return c.textBinary(f, x, a, b)
+	}
 	op := x.Op
 	switch op {
 	case syntax.AND, syntax.OR:
@@ -753,6 +784,9 @@ func rational(v float64) (num, den int, ok bool) {
 }
 
 func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
+	if v, ok := c.vecCall(f, x, constCtx); ok {
+		return v
+	}
 	name := x.Fun.Name
 	info := lookupFunc(name)
 	if info == nil {
@@ -779,7 +813,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	args := make([]val, len(x.Args))
 	for i, a := range x.Args {
 		args[i] = c.expr(f, a, constCtx)
-		if args[i].bad {
+		if args[i].bad || c.notText(f, a, args[i]) {
 			return val{bad: true}
 		}
 	}
@@ -908,8 +942,10 @@ func Constant(f *syntax.File, x syntax.Expr, want, what string) (float64, error)
 
 // newScratchCompiler returns a compiler with no model, for constants.
 func newScratchCompiler() *compiler {
-	return &compiler{m: NewModel(), b: tape.NewBuilder(), prog: &Program{index: map[string]int{}},
+	c := &compiler{m: NewModel(), prog: &Program{index: map[string]int{}},
 		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}}
+	c.b = newVBuilder(c)
+	return c
 }
 
 // combinedUnit picks the unit to show a product (or quotient) of quantities

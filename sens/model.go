@@ -2,6 +2,7 @@ package sens
 
 import (
 	"errors"
+	"path/filepath"
 	"slices"
 	"strings"
 
@@ -23,18 +24,28 @@ type Model struct {
 	progErr error
 }
 
-// Decl is one declaration: an input or a formula, with the file it came from.
+// Decl is one declaration: an input, a formula, a table or a range of
+// periods, with the file it came from.
 type Decl struct {
 	Name    string
 	File    *syntax.File
 	Input   *syntax.InputStmt   // set for an input
 	Formula *syntax.FormulaStmt // set for a formula
+	Table   *Table              // set for a table, with TableStmt (table.go)
+	Periods *syntax.PeriodsStmt // set for a range of periods
+
+	TableStmt *syntax.TableStmt
 }
 
 // Pos returns the declaration's position.
 func (d *Decl) Pos() syntax.Position {
-	if d.Input != nil {
+	switch {
+	case d.Input != nil:
 		return d.File.Position(d.Input.Name.Pos())
+	case d.TableStmt != nil:
+		return d.File.Position(d.TableStmt.Name.Pos())
+	case d.Periods != nil:
+		return d.File.Position(d.Periods.Name.Pos())
 	}
 	return d.File.Position(d.Formula.Name.Pos())
 }
@@ -52,9 +63,10 @@ func NewModel() *Model {
 	return &Model{decls: map[string]*Decl{}, scenarios: map[string]*Scenario{}}
 }
 
-// Define adds or replaces the declaration made by s, an *syntax.InputStmt or
-// *syntax.FormulaStmt from file f. It reports whether a declaration of that name
-// existed before.
+// Define adds or replaces the declaration made by s, an *syntax.InputStmt,
+// *syntax.FormulaStmt or *syntax.PeriodsStmt from file f (a table is
+// declared by DefineTable, which reads its file). It reports whether a
+// declaration of that name existed before.
 func (m *Model) Define(f *syntax.File, s syntax.Stmt) (replaced bool) {
 	d := &Decl{File: f}
 	switch s := s.(type) {
@@ -62,9 +74,16 @@ func (m *Model) Define(f *syntax.File, s syntax.Stmt) (replaced bool) {
 		d.Name, d.Input = s.Name.Name, s
 	case *syntax.FormulaStmt:
 		d.Name, d.Formula = s.Name.Name, s
+	case *syntax.PeriodsStmt:
+		d.Name, d.Periods = s.Name.Name, s
 	default:
 		panic("sens: Define of a statement that declares nothing")
 	}
+	return m.define(d)
+}
+
+// define adds or replaces the declaration d.
+func (m *Model) define(d *Decl) (replaced bool) {
 	_, replaced = m.decls[d.Name]
 	if !replaced {
 		m.order = append(m.order, d.Name)
@@ -292,7 +311,8 @@ func (m *Model) Clone() *Model {
 }
 
 // LoadModel parses src as a model file named name and declares its inputs,
-// formulas, scenarios and rank correlations in a new Model: the way for a Go program (or a
+// formulas, scenarios, rank correlations, tables and periods in a new Model (a
+// table's file is read relative to the model file's directory): the way for a Go program (or a
 // gophernotes cell) to load a model without the kernel. Analysis commands and
 // bare expressions are an error here; they belong to a front end such as the
 // kernel's cell interpreter.
@@ -306,8 +326,17 @@ func LoadModel(name string, src []byte) (*Model, error) {
 	var scenarios []*syntax.CommandStmt
 	for _, s := range stmts {
 		switch s := s.(type) {
-		case *syntax.InputStmt, *syntax.FormulaStmt:
+		case *syntax.InputStmt, *syntax.FormulaStmt, *syntax.PeriodsStmt:
 			m.Define(f, s)
+		case *syntax.TableStmt:
+			if _, err := m.DefineTable(f, s, filepath.Dir(name)); err != nil {
+				var el syntax.ErrorList
+				if errors.As(err, &el) {
+					errs = append(errs, el...)
+				} else {
+					errs.Add(f, s.Pos(), err.Error())
+				}
+			}
 		case *syntax.CommandStmt:
 			switch s.Verb {
 			case "scenario":

@@ -8,7 +8,6 @@ import (
 
 	"github.com/nudge-dev/nudge/sens/syntax"
 	"github.com/nudge-dev/nudge/sens/tape"
-	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // Function is a scalar function of the inputs, in the user's units: what every
@@ -107,12 +106,15 @@ type Fn struct {
 func (p *Program) Fn(name string) (*Fn, error) {
 	_, f := p.Lookup(name)
 	if f == nil {
+		if fn, err, ok := p.vectorFn(name); ok {
+			return fn, err
+		}
 		if in, _ := p.Lookup(name); in != nil {
 			return nil, fmt.Errorf("%s is an input: analyse a formula that uses it", name)
 		}
 		return nil, fmt.Errorf("undefined: %s%s", name, syntax.DidYouMean(name, p.Names()))
 	}
-	return &Fn{prog: p, tape: p.tape.Clone(), f: f, scale: 1 / f.u.Factor}, nil
+	return &Fn{prog: p, tape: p.tapeOf(f).Clone(), f: f, scale: 1 / f.u.Factor}, nil
 }
 
 // Problem returns the analysis problem for the formula name.
@@ -237,11 +239,9 @@ func (p *Program) evalError(err error, x []float64) error {
 		e.Pos = pe.file.Position(pe.pos)
 		e.Source = pe.file.Line(e.Pos.Line)
 		e.Formula = pe.formula
+		e.Msg += p.elementOf(de)
 		if _, f := p.Lookup(pe.formula); f != nil && x != nil {
-			for _, i := range p.Deps(f) {
-				in := p.Inputs[i]
-				e.Inputs = append(e.Inputs, in.Name+" = "+unit.Format(x[i], in.Unit))
-			}
+			e.Inputs = p.inputsNamed(p.Deps(f), x)
 		}
 	}
 	return e

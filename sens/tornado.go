@@ -620,6 +620,8 @@ func (p *Problem) Input(name string) (*Input, int, error) {
 			return nil, -1, fmt.Errorf("%s is a formula, not an input: vary one of the inputs it uses", name)
 		case in != nil:
 			return nil, -1, fmt.Errorf("%s does not depend on %s: vary one of the inputs it uses", p.Output, name)
+		case p.prog.Vector(name) != nil:
+			return nil, -1, fmt.Errorf("%s is a vector: vary one of its elements, %s[KEY]", name, name)
 		}
 	}
 	names := make([]string, len(p.Inputs))

@@ -28,6 +28,7 @@ func Drivers(d *sens.DriversResult, o *Options) *Result {
 		r.note(fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %s (all of them are in the JSON; top=N keeps N)",
 			count(rest), el.Format(math.Abs(d.Inputs[len(shown)].Elasticity))))
 	}
+	driverSubtotals(r, d, o)
 	return r
 }
 

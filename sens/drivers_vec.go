@@ -1,0 +1,172 @@
+package sens
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
+)
+
+// DefaultVectorTop is how many inputs drivers keeps, by default, of a
+// model with vector inputs; the subtotals cover them all.
+const DefaultVectorTop = 30
+
+// DriverSubtotal sums the local effects of a set of elements: the elements
+// of one vector input, or those of one group.
+type DriverSubtotal struct {
+	Name  string `json:"name"`
+	Count int    `json:"count"`
+	// Elasticity is the sum of the elements' elasticities: the percentage
+	// change of the output when every one of them changes by 1%.
+	Elasticity float64 `json:"elasticity"`
+	// Effect is the sum of ∂y/∂x_i · x_i, in the output's unit: the first
+	// order change of the output when every element doubles.
+	Effect float64 `json:"effect"`
+	// Share is the elements' part of the sum of |∂y/∂x_i · x_i| over all
+	// inputs (0..1).
+	Share float64 `json:"share"`
+}
+
+// DriverRest summarises the inputs that Top leaves out of a drivers
+// result.
+type DriverRest struct {
+	Count int `json:"count"`
+	// MaxElasticity is the largest |elasticity| among them, Elasticity the
+	// sum of their elasticities.
+	MaxElasticity float64 `json:"max_elasticity"`
+	Elasticity    float64 `json:"elasticity"`
+}
+
+// lineItems is the part of a DriversResult about vector inputs.
+type lineItems struct {
+	// Columns sums the elements of each vector input, every element
+	// counted (those Top leaves out too).
+	Columns []DriverSubtotal `json:"columns,omitempty"`
+	// GroupBy is the column whose values group the elements of the vector
+	// inputs over its table; Groups sums them by value, one group per
+	// value in the order they first appear.
+	GroupBy string           `json:"group_by,omitempty"`
+	Groups  []DriverSubtotal `json:"groups,omitempty"`
+	// Rest summarises the inputs Top leaves out.
+	Rest *DriverRest `json:"rest,omitempty"`
+}
+
+// hasVectors reports whether any input of p is an element of a vector.
+func (p *Problem) hasVectors() bool {
+	for _, in := range p.Inputs {
+		if in.Vector != "" {
+			return true
+		}
+	}
+	return false
+}
+
+// subtotals fills the subtotals of a drivers result from the gradient g
+// at the baseline, where the output is y and sum is Σ |g_i x_i|; rest
+// lists the inputs Top left out.
+func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y, sum float64, rest []int) error {
+	if len(rest) > 0 {
+		r := &DriverRest{Count: len(rest)}
+		for _, i := range rest {
+			if y != 0 {
+				e := g[i] * p.Inputs[i].Value / y
+				r.Elasticity += e
+				r.MaxElasticity = math.Max(r.MaxElasticity, math.Abs(e))
+			}
+		}
+		d.Rest = r
+	}
+	if !p.hasVectors() || p.prog == nil {
+		if s.GroupBy != "" {
+			return fmt.Errorf("group=%s: %s depends on no vector input, so there is nothing to group", s.GroupBy, p.Output)
+		}
+		return nil
+	}
+	add := func(t *DriverSubtotal, i int) {
+		e := g[i] * p.Inputs[i].Value
+		t.Count++
+		t.Effect += e
+		if y != 0 {
+			t.Elasticity += e / y
+		}
+		if sum > 0 {
+			t.Share += math.Abs(e) / sum
+		}
+	}
+	col := map[string]int{}
+	for i, in := range p.Inputs {
+		if in.Vector == "" {
+			continue
+		}
+		k, ok := col[in.Vector]
+		if !ok {
+			k = len(d.Columns)
+			col[in.Vector] = k
+			d.Columns = append(d.Columns, DriverSubtotal{Name: in.Vector})
+		}
+		add(&d.Columns[k], i)
+	}
+	// Groups: by a text column of the table of the first vector input over
+	// one.
+	var table *Table
+	for _, in := range p.Inputs {
+		if v := p.prog.Vector(in.Vector); v != nil && v.Table != nil {
+			table = v.Table
+			break
+		}
+	}
+	by, err := groupColumn(table, s.GroupBy)
+	if err != nil || by == nil {
+		return err
+	}
+	d.GroupBy = table.Name + "." + by.Name
+	group := map[string]int{}
+	for i, in := range p.Inputs {
+		v := p.prog.Vector(in.Vector)
+		if v == nil || v.Table != table {
+			continue
+		}
+		val := strings.TrimSpace(by.Text[v.Row(in.elem)])
+		if val == "" {
+			val = "(blank)"
+		}
+		k, ok := group[val]
+		if !ok {
+			k = len(d.Groups)
+			group[val] = k
+			d.Groups = append(d.Groups, DriverSubtotal{Name: val})
+		}
+		add(&d.Groups[k], i)
+	}
+	return nil
+}
+
+// groupColumn returns the column of t named by (with or without the
+// table's name), or, when by is "", the first text column after the key;
+// nil when there is none.
+func groupColumn(t *Table, by string) (*Column, error) {
+	if t == nil {
+		if by != "" {
+			return nil, fmt.Errorf("group=%s: no vector input of the output is over a table", by)
+		}
+		return nil, nil
+	}
+	if by == "" {
+		for _, c := range t.Columns {
+			if c.IsText() && c.Name != t.Key {
+				return c, nil
+			}
+		}
+		return nil, nil
+	}
+	name := strings.TrimPrefix(by, t.Name+".")
+	c := t.Column(name)
+	switch {
+	case c == nil:
+		return nil, fmt.Errorf("group=%s: table %s has no column %s%s", by, t.Name, name, syntax.DidYouMean(name, t.ColumnNames()))
+	case !c.IsText():
+		return nil, fmt.Errorf("group=%s: %s.%s holds numbers; group by a text column", by, t.Name, name)
+	}
+	return c, nil
+}
