@@ -169,9 +169,9 @@ type val struct {
 	dim     unit.Dim
 	hint    *unit.Unit // a unit the user would expect the value in, or nil
 	boolean bool
-	konst   bool    // the value is a known constant
-	c       float64 // the constant, in base units
-	bad     bool    // an error was already reported
+	konst   bool     // the value is a known constant
+	c       float64  // the constant, in base units
+	bad     bool     // an error was already reported
 	tx      *textVal // text: a text column or text in quotes (compile_vec.go); slot is unused
 }
 
@@ -335,13 +335,8 @@ func (c *compiler) compileInput(d *Decl) {
 		if in.Low == in.High && in.Value != 0 {
 			c.errorf(f, r.Lparen, "range of %s is empty: its low and high ends are equal", d.Name)
 		}
-	case in.Dist != nil:
-		in.Source = RangeDistribution
-		in.Low, in.High = in.Dist.Quantile(0.10), in.Dist.Quantile(0.90)
 	default:
-		in.Source = RangeDefault
-		a, b := in.Value*(1-DefaultRangePct/100.0), in.Value*(1+DefaultRangePct/100.0)
-		in.Low, in.High = math.Min(a, b), math.Max(a, b)
+		in.unstatedRange()
 	}
 	if in.Dist != nil {
 		lo, hi := in.Dist.Support()

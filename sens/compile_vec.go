@@ -752,27 +752,42 @@ func (c *compiler) subtotal(f *syntax.File, x *syntax.CallExpr, v, by val) val {
 		c.errorf(f, x.Args[1].Pos(), "the column is over %s, the vector over %s: group by a column of the vector's table", bdom.describe(), dom.describe())
 		return val{bad: true}
 	}
-	group := map[string]int{}
+	var gr grouper
 	groups := make([]int, dom.size())
 	gdom := &domain{name: syntax.String(x.Args[1]), noun: "group"}
 	if i := strings.LastIndexByte(gdom.name, '.'); i >= 0 {
 		gdom.name = gdom.name[i+1:]
 	}
 	for i := range groups {
-		k := strings.TrimSpace(label(i))
-		if k == "" {
-			k = "(blank)"
-		}
-		g, ok := group[k]
-		if !ok {
-			g = len(gdom.keys)
-			group[k] = g
-			gdom.keys = append(gdom.keys, k)
-		}
-		groups[i] = g
+		groups[i], _ = gr.id(label(i))
 	}
+	gdom.keys = gr.keys
 	s := c.b.GroupSum(v.slot, groups, len(gdom.keys))
 	return val{slot: c.vector(s, gdom), dim: v.dim, hint: v.hint}
+}
+
+// grouper numbers the values of a column in the order they first appear,
+// a blank value as "(blank)".
+type grouper struct {
+	index map[string]int
+	keys  []string
+}
+
+// id returns the group of value v, and whether it is a new one.
+func (g *grouper) id(v string) (int, bool) {
+	k := strings.TrimSpace(v)
+	if k == "" {
+		k = "(blank)"
+	}
+	if i, ok := g.index[k]; ok {
+		return i, false
+	}
+	if g.index == nil {
+		g.index = map[string]int{}
+	}
+	g.index[k] = len(g.keys)
+	g.keys = append(g.keys, k)
+	return len(g.keys) - 1, true
 }
 
 // vectorHint explains why a vector cannot be where one number belongs.
@@ -1033,13 +1048,8 @@ func (c *compiler) elementRanges(d *Decl, ins []Input, dom *domain, u unit.Unit)
 			case in.Low == in.High && in.Value != 0:
 				ok = errAt(r.Lparen, i, "the range of %s is empty: its low and high ends are equal", in.Name)
 			}
-		case in.Dist != nil:
-			in.Source = RangeDistribution
-			in.Low, in.High = in.Dist.Quantile(0.10), in.Dist.Quantile(0.90)
 		default:
-			in.Source = RangeDefault
-			a, b := in.Value*(1-DefaultRangePct/100.0), in.Value*(1+DefaultRangePct/100.0)
-			in.Low, in.High = math.Min(a, b), math.Max(a, b)
+			in.unstatedRange()
 		}
 		if in.Dist != nil {
 			lo, hi := in.Dist.Support()
@@ -1057,6 +1067,19 @@ func (c *compiler) elementRanges(d *Decl, ins []Input, dom *domain, u unit.Unit)
 			map[bool]string{true: "its", false: "their"}[len(tail) == 1], shortList(tail, 5))
 	}
 	return ok
+}
+
+// unstatedRange gives an input with no range its distribution's 10th and
+// 90th percentiles, or with no distribution either, the default ±10%.
+func (in *Input) unstatedRange() {
+	if in.Dist != nil {
+		in.Source = RangeDistribution
+		in.Low, in.High = in.Dist.Quantile(0.10), in.Dist.Quantile(0.90)
+		return
+	}
+	in.Source = RangeDefault
+	a, b := in.Value*(1-DefaultRangePct/100.0), in.Value*(1+DefaultRangePct/100.0)
+	in.Low, in.High = math.Min(a, b), math.Max(a, b)
 }
 
 // boundVec returns one end of a range for every element: a number, read in

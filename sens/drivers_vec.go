@@ -121,21 +121,15 @@ func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y
 		return err
 	}
 	d.GroupBy = table.Name + "." + by.Name
-	group := map[string]int{}
+	var gr grouper
 	for i, in := range p.Inputs {
 		v := p.prog.Vector(in.Vector)
 		if v == nil || v.Table != table {
 			continue
 		}
-		val := strings.TrimSpace(by.Text[v.Row(in.elem)])
-		if val == "" {
-			val = "(blank)"
-		}
-		k, ok := group[val]
-		if !ok {
-			k = len(d.Groups)
-			group[val] = k
-			d.Groups = append(d.Groups, DriverSubtotal{Name: val})
+		k, isNew := gr.id(by.Text[v.Row(in.elem)])
+		if isNew {
+			d.Groups = append(d.Groups, DriverSubtotal{Name: gr.keys[k]})
 		}
 		add(&d.Groups[k], i)
 	}
