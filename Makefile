@@ -15,7 +15,7 @@ build:
 	go build -o $(BIN) ./kernel/cmd/nudge
 
 # Every test: Go tests, the race detector on the concurrent packages, a short
-# fuzz run of each parser, of the compiler and of the kernel's wire reader
+# fuzz run of each parser (the CSV reader's too), of the compiler and of the kernel's wire reader
 # (frames, handshake, messages), the Jupyter conformance suite, every notebook
 # executed through nbconvert, and JupyterLab's rendermime registry on the
 # kernel's bundles. The Debian packages they need are installed first when
@@ -39,6 +39,7 @@ fuzz:
 	go test -run='^$$' -fuzz='^FuzzReadMsg$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
 	go test -run='^$$' -fuzz='^FuzzHandshake$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
 	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=10s ./kernel/jupyter/
+	go test -run='^$$' -fuzz='^FuzzReadTable$$' -fuzztime=10s ./sens/
 
 $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)

@@ -119,8 +119,15 @@ type vbuilder struct {
 
 func newVBuilder(c *compiler) *vbuilder {
 	c.vec.init()
-	return &vbuilder{Builder: tape.NewBuilder(), c: c}
+	b := &vbuilder{Builder: tape.NewBuilder(), c: c}
+	b.SetLoopMin(loopMin)
+	return b
 }
+
+// loopMin is the shortest vector compiled to loop nodes (0:
+// tape.DefaultLoopMin). The tests set it very large to compile the same
+// model from scalar operations and compare.
+var loopMin int
 
 // domainOf returns the domain of a vector handle, or nil for a scalar.
 func (b *vbuilder) domainOf(s tape.Slot) *domain {
@@ -405,7 +412,7 @@ func (c *compiler) domainNamed(f *syntax.File, id *syntax.Ident) *domain {
 }
 
 // maxPeriods bounds a range of periods.
-const maxPeriods = 1_000_000
+const maxPeriods = 100_000
 
 // periods returns the domain of a periods declaration: whole numbers
 // first..last.

@@ -4,6 +4,12 @@ import (
 	"testing"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/tapebench"
+)
+
+var (
+	fuzzTable = []byte("k,c,m [kg],n\na,u,1.5,2\nb,v,\"2,500\",3\nc,u,0,4\nd,w,4,5\ne,u,7,6\nf,v,1,7\ng,u,2,8\nh,w,3,9\n")
+	fuzzBid   = tapebench.BidCSV(20, 5)
 )
 
 // FuzzCompile feeds arbitrary text through the parser, the compiler and one
@@ -18,6 +24,8 @@ func FuzzCompile(f *testing.F) {
 		"input x = -1\ny = ln(x)",
 		"input a = 1 [EUR]\nb = a + 1 [$]",
 		"x = 2^0.5 * pi [m]",
+		lineItemModel,
+		"table t = \"t.csv\"\nperiods y = 1..12\ninput q[y] = 2 (±5%)\nx = sum(q * discount(0.05, y)) + t.m[b] + count(t.c == \"u\")\nv = subtotal(where(t.m, t.c != \"u\"), t.c)",
 	} {
 		f.Add(s)
 	}
@@ -25,9 +33,16 @@ func FuzzCompile(f *testing.F) {
 		file, stmts, _ := syntax.Parse("fuzz", []byte(src))
 		m := NewModel()
 		for _, s := range stmts {
-			switch s.(type) {
-			case *syntax.InputStmt, *syntax.FormulaStmt:
+			switch s := s.(type) {
+			case *syntax.InputStmt, *syntax.FormulaStmt, *syntax.PeriodsStmt:
 				m.Define(file, s)
+			case *syntax.TableStmt:
+				// Every table is one of two small ones held here, never a file.
+				data := fuzzTable
+				if s.Path.Value == "bid.csv" {
+					data = fuzzBid
+				}
+				m.DefineTableData(file, s, data)
 			}
 		}
 		p, err := m.Compile()

@@ -87,9 +87,12 @@ type tableReader struct {
 }
 
 func (r *tableReader) errorAt(line, col int, format string, args ...any) {
-	src := lineText(r.data, line)
-	// encoding/csv counts columns in bytes; a caret counts characters.
-	if col > 0 && col-1 <= len(src) {
+	// encoding/csv reads the file without its byte-order mark.
+	src := strings.TrimPrefix(lineText(r.data, line), "\ufeff")
+	// encoding/csv counts columns in bytes; a caret counts characters. A
+	// column past the end of the line (a quote left open) is its end.
+	col = min(col, len(src)+1)
+	if col > 0 {
 		col = utf8.RuneCountInString(src[:col-1]) + 1
 	}
 	r.errs = append(r.errs, &syntax.Error{Pos: syntax.Position{Filename: r.path, Line: line, Column: col},
@@ -160,7 +163,6 @@ func (r *tableReader) read(name, key string) (*Table, error) {
 		return nil, &errFile{r.path, "the file is empty: a table needs a header line and at least one row"}
 	}
 	data = bytes.TrimPrefix(data, []byte{0xEF, 0xBB, 0xBF})
-	bomCol := len(r.data) - len(data) // the BOM shifts the first line's columns
 	cr := csv.NewReader(bytes.NewReader(data))
 	cr.ReuseRecord = true
 	head, err := cr.Read()
@@ -172,12 +174,12 @@ func (r *tableReader) read(name, key string) (*Table, error) {
 	keyCol := 0
 	for i, h := range head {
 		_, col := cr.FieldPos(i)
-		c := r.header(h, 1, col+bomCol)
+		c := r.header(h, 1, col)
 		if c == nil {
 			continue
 		}
 		if j, dup := t.col[c.Name]; dup {
-			r.errorAt(1, col+bomCol, "column %s appears twice (columns %d and %d)", c.Name, j+1, i+1)
+			r.errorAt(1, col, "column %s appears twice (columns %d and %d)", c.Name, j+1, i+1)
 			continue
 		}
 		t.col[c.Name] = i
