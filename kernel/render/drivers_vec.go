@@ -12,8 +12,8 @@ import (
 func driverSubtotals(r *Result, d *sens.DriversResult, o *Options) {
 	el := unit.Fixed("", 4)
 	if d.Rest != nil {
-		r.note(fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %s, together %s (top=N keeps N)",
-			count(d.Rest.Count), el.Format(d.Rest.MaxElasticity), el.Signed(d.Rest.Elasticity)))
+		r.note(fmt.Sprintf("… and %s more %s, each with |elasticity| at most %s, together %s (top=N keeps N)",
+			count(d.Rest.Count), plural(d.Rest.Count, "input", "inputs"), el.Format(d.Rest.MaxElasticity), el.Signed(d.Rest.Elasticity)))
 	}
 	for _, part := range []struct {
 		title string
