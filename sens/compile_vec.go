@@ -3,6 +3,7 @@ package sens
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -826,8 +827,35 @@ func usesColumn(x syntax.Expr) bool {
 // unit u (a plain number is read in u): a single number is used for every
 // element. ok is false after an error.
 func (c *compiler) constVec(f *syntax.File, x syntax.Expr, u unit.Unit, dom *domain, what string) ([]float64, bool) {
+	if vals, ok := c.plainColumn(f, x, u, dom); ok {
+		return vals, true
+	}
 	c.what = what
 	return c.constVecOf(f, x, c.expr(f, x, true), u, dom, what)
+}
+
+// plainColumn returns the values of x, in unit u, when x is a numeric
+// column of a table over dom whose unit u takes as it is: the common value
+// of a vector input or end of its range, read without building its
+// constants on the tape.
+func (c *compiler) plainColumn(f *syntax.File, x syntax.Expr, u unit.Unit, dom *domain) ([]float64, bool) {
+	id, ok := x.(*syntax.Ident)
+	if !ok {
+		return nil, false
+	}
+	tname, cname, ok := strings.Cut(id.Name, ".")
+	d := c.decls[tname]
+	if !ok || d == nil || d.Table == nil || strings.ContainsRune(cname, '[') {
+		return nil, false
+	}
+	col := d.Table.Column(cname)
+	if col == nil || col.IsText() || !(col.Unit == "" || col.u.Dim.Equal(u.Dim) && col.u.Factor == u.Factor) {
+		return nil, false
+	}
+	if dom != nil && !sameDomain(dom, c.domainNamed(f, &syntax.Ident{NamePos: id.Pos(), Name: tname})) {
+		return nil, false
+	}
+	return slices.Clone(col.Num), true
 }
 
 // constVecOf is constVec of x compiled as v.
@@ -896,12 +924,32 @@ func (c *compiler) vectorInput(d *Decl) bool {
 	var dom *domain
 	what := "the value of input " + d.Name
 	c.what = what
-	v := c.expr(f, s.Value, true)
-	if s.Over != nil {
+	var v val
+	var vals []float64
+	if id, ok := s.Value.(*syntax.Ident); ok && s.Over == nil && strings.Contains(id.Name, ".") {
+		// input qty = bid.qty: the column's unit unless one is declared.
+		if tname, cname, _ := strings.Cut(id.Name, "."); c.decls[tname] != nil && c.decls[tname].Table != nil {
+			if col := c.decls[tname].Table.Column(cname); col != nil && !col.IsText() {
+				if !declared && col.Unit != "" {
+					u = col.u
+				}
+				if dom = c.domainNamed(f, &syntax.Ident{NamePos: id.Pos(), Name: tname}); dom == nil {
+					return true
+				}
+				vals, _ = c.plainColumn(f, s.Value, u, dom)
+			}
+		}
+	}
+	if vals == nil {
+		v = c.expr(f, s.Value, true)
+	}
+	switch {
+	case vals != nil:
+	case s.Over != nil:
 		if dom = c.domainNamed(f, s.Over); dom == nil {
 			return true
 		}
-	} else {
+	default:
 		if v.bad {
 			return true
 		}
@@ -914,9 +962,11 @@ func (c *compiler) vectorInput(d *Decl) bool {
 			u = *v.hint
 		}
 	}
-	vals, ok := c.constVecOf(f, s.Value, v, u, dom, what)
-	if !ok {
-		return true
+	if vals == nil {
+		var ok bool
+		if vals, ok = c.constVecOf(f, s.Value, v, u, dom, what); !ok {
+			return true
+		}
 	}
 	n := dom.size()
 	uText := ""
@@ -954,6 +1004,7 @@ func (c *compiler) vectorInput(d *Decl) bool {
 	if !c.elementRanges(d, ins, dom, u) {
 		return true
 	}
+	c.prog.Inputs = slices.Grow(c.prog.Inputs, n)
 	for i := range ins {
 		c.prog.Inputs = append(c.prog.Inputs, &ins[i])
 	}

@@ -167,8 +167,10 @@ func (fn *Fn) Gradient(dst, x []float64) (float64, error) {
 	if err != nil {
 		return math.NaN(), fn.prog.evalError(err, x)
 	}
-	for i := range dst {
-		dst[i] *= fn.scale
+	if fn.scale != 1 {
+		for i := range dst {
+			dst[i] *= fn.scale
+		}
 	}
 	return y * fn.scale, nil
 }

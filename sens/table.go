@@ -201,15 +201,19 @@ func (r *tableReader) read(name, key string) (*Table, error) {
 	}
 	t.Key = kc.Name
 	ncol := len(t.Columns)
+	// Room for every row at once: a line is at least one row's end.
+	rows := bytes.Count(data, []byte{'\n'}) + 1
 	raw := make([][]string, ncol) // the text of the columns without a unit
 	for i, c := range t.Columns {
 		if c.Unit == "" {
-			raw[i] = []string{}
+			raw[i] = make([]string, 0, rows)
 		} else {
-			c.Num = []float64{}
+			c.Num = make([]float64, 0, rows)
 		}
 	}
-	t.keyRow = map[string]int{}
+	t.keyRow = make(map[string]int, rows)
+	t.Keys = make([]string, 0, rows)
+	t.lines = make([]int, 0, rows)
 	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
@@ -362,6 +366,14 @@ func (r *tableReader) header(h string, line, col int) *Column {
 // exponent. It returns a message saying how to write the cell when it is
 // not such a number.
 func parseCell(v string) (float64, string) {
+	if x, ok := shortDecimal(v); ok {
+		return x, ""
+	}
+	if plainNumber(v) {
+		if x, err := strconv.ParseFloat(v, 64); err == nil {
+			return x, ""
+		}
+	}
 	s := strings.TrimSpace(v)
 	if s == "" {
 		return 0, "the value is empty: write a number (0 if it is nothing)"
@@ -407,6 +419,73 @@ func parseCell(v string) (float64, string) {
 		x = -x
 	}
 	return x, ""
+}
+
+// pow10 holds the powers of ten that are exact in a float64.
+var pow10 = [...]float64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15}
+
+// shortDecimal reads the common cell quickly: an optional minus sign and at
+// most 15 digits with at most one decimal point, such as 1250, -0.016 or
+// 12.25. The digits make an integer m below 2^53 and the point a power of
+// ten p = 10^k with k <= 15, both exact in a float64, so m/p is the
+// correctly rounded value, as strconv.ParseFloat gives it (the fast path
+// of W. D. Clinger, "How to read floating point numbers accurately",
+// PLDI 1990). Anything else is left to strconv.
+func shortDecimal(s string) (float64, bool) {
+	neg := false
+	if s != "" && s[0] == '-' {
+		neg, s = true, s[1:]
+	}
+	if s == "" || len(s) > 16 {
+		return 0, false
+	}
+	var m uint64
+	digits, frac := 0, -1
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c >= '0' && c <= '9':
+			m = m*10 + uint64(c-'0')
+			digits++
+		case c == '.' && frac < 0:
+			frac = i
+		default:
+			return 0, false
+		}
+	}
+	if digits == 0 || digits > 15 {
+		return 0, false
+	}
+	x := float64(m)
+	if frac >= 0 {
+		x /= pow10[len(s)-1-frac]
+	}
+	if neg {
+		x = -x
+	}
+	return x, true
+}
+
+// plainNumber reports whether s is made of the characters of a decimal
+// number only (digits, a point, a sign, an exponent), starting with a
+// digit, a point or a sign: the common cell, which strconv.ParseFloat reads
+// as it is.
+func plainNumber(s string) bool {
+	if s == "" {
+		return false
+	}
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case c >= '0' && c <= '9', c == '.':
+		case c == '-' || c == '+' || c == 'e' || c == 'E':
+			if i == 0 && (c == 'e' || c == 'E') {
+				return false
+			}
+		default:
+			return false
+		}
+	}
+	return true
 }
 
 // resolvePath returns the file a table statement names: as written when
@@ -460,8 +539,13 @@ type TableResult struct {
 	Replaced bool          `json:"replaced"`
 }
 
+// maxDistinct is how many distinct values of a text column a table's
+// description counts; one more means "more than that".
+const maxDistinct = 1000
+
 // TableColumn describes a column: numbers (with their unit, least and
-// greatest value) or text (with the number of distinct values).
+// greatest value) or text (with the number of distinct values, up to
+// maxDistinct + 1 meaning more than maxDistinct).
 type TableColumn struct {
 	Name     string  `json:"name"`
 	Type     string  `json:"type"` // "number" or "text"
@@ -512,7 +596,9 @@ func (m *Model) DefineTableData(f *syntax.File, s *syntax.TableStmt, data []byte
 			tc.Type = "text"
 			seen := map[string]bool{}
 			for _, v := range c.Text {
-				seen[v] = true
+				if seen[v] = true; len(seen) > maxDistinct {
+					break
+				}
 			}
 			tc.Distinct = len(seen)
 		} else {

@@ -228,3 +228,24 @@ func FuzzReadTable(f *testing.F) {
 		}
 	})
 }
+
+// The quick reading of short decimals gives strconv.ParseFloat's value to
+// the bit.
+func TestShortDecimal(t *testing.T) {
+	cases := []string{"0", "1250", "-0.016", "12.25", "0.1", "0.3", "123456789012345", "1.00000000000001", "99999.9999999999", "-7.", ".5", "3.14159265358979"}
+	for i := range 2000 {
+		cases = append(cases, strconv.FormatFloat(float64(i)*0.37-100, 'f', i%7, 64))
+	}
+	for _, s := range cases {
+		want, err := strconv.ParseFloat(s, 64)
+		got, ok := shortDecimal(s)
+		if !ok || err != nil || got != want {
+			t.Errorf("shortDecimal(%q) = %v %v, ParseFloat %v %v", s, got, ok, want, err)
+		}
+	}
+	for _, s := range []string{"", "-", ".", "1e3", "1.2.3", "1234567890123456", "1,2", "+1", " 1"} {
+		if _, ok := shortDecimal(s); ok {
+			t.Errorf("shortDecimal(%q) took it", s)
+		}
+	}
+}

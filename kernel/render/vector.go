@@ -35,6 +35,8 @@ func Table(r *sens.TableResult, o *Options) *Result {
 		switch {
 		case c.Name == r.Key:
 			t.add(c.Name, "key", fmt.Sprintf("%s rows", count(r.Rows)))
+		case c.Type == "text" && c.Distinct > 1000:
+			t.add(c.Name, "text", "more than 1,000 values")
 		case c.Type == "text":
 			t.add(c.Name, "text", fmt.Sprintf("%s %s", count(c.Distinct), plural(c.Distinct, "value", "values")))
 		default:

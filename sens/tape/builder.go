@@ -341,5 +341,6 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 	for i, o := range outputs {
 		p.outs[i] = idx[o]
 	}
+	p.findDirect()
 	return &Tape{p: p, vals: vals, adj: make([]float64, n)}
 }

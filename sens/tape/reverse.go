@@ -20,7 +20,7 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 	end := p.end(i)
 	v := t.vals[:end]
 	g := t.adj[:end]
-	clear(t.adj[:max(end, p.nIn)]) // an output that is an input ends below the inputs
+	p.clearAdjoints(t.adj, dst, end) // the inputs' too: an output that is an input ends below them
 	g[out] = 1
 	ops := p.ops[:end]
 	as := p.a[:end]
@@ -81,10 +81,10 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 			}
 		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
 		case opLoop: // vec.go
-			p.loopReverse(v, t.adj, k)
+			p.loopReverse(v, t.adj, dst, k)
 		case opLane: // the first lane with an adjoint runs its loop node
 			h := int(a)
-			p.loopReverse(v, t.adj, h)
+			p.loopReverse(v, t.adj, dst, h)
 			k = h
 		default:
 			op := ops[k]
@@ -103,7 +103,7 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 			}
 		}
 	}
-	copy(dst, g[:p.nIn])
+	p.inputAdjoints(dst, g)
 	return dst
 }
 
@@ -116,10 +116,8 @@ func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
 		return f, err
 	}
 	t.Reverse(dst, i)
-	for _, d := range dst {
-		if !finite(d) {
-			return f, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
-		}
+	if !allFinite(dst) {
+		return f, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
 	}
 	return f, nil
 }

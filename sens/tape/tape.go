@@ -13,6 +13,12 @@ type tapeProg struct {
 	pos        []int32
 	outs       []int32
 	loops      []loop // the loop nodes (vec.go), in tape order
+	// direct marks the inputs only loop nodes read, whose adjoints the
+	// reverse pass adds straight into its result (vec.go), and runs lists
+	// the runs of inputs [from, to) that are direct (odd entries) or not
+	// (even ones), in order; both nil when none is.
+	direct []bool
+	runs   [][2]int
 }
 
 // Tape is a compiled computation: a flat list of operations in
@@ -49,6 +55,7 @@ type Tape struct {
 	bw    int
 	bvals []float64
 	badj  []float64
+	bsum  []float64 // the partial sums of a sum loop over a block (vec.go)
 }
 
 // NumInputs returns the number of inputs.

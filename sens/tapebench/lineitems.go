@@ -23,13 +23,14 @@ var BidCategories = []struct{ Name, Prefix string }{
 }
 
 // BidHeader is the header line of BidCSV.
-const BidHeader = "item,category,description,qty [each],mass [kg],buyout [$],hours [h],hours_low [h],hours_high [h],steel_factor"
+const BidHeader = "item,category,description,qty [each],mass [kg],buyout [$],hours [h],hours_low [h],hours_high [h],steel_factor,unit_cost [$]"
 
 // BidCSV returns an invented bid of n lines as a CSV file: one line per
 // item, with its category, a description, a quantity, a unit mass, a
 // bought-out price, labour hours per unit with a low and high estimate,
-// and a factor on the market price of steel (fabrication scrap and
-// grade). Descriptions hold commas and quotes (in double quotes), and
+// a factor on the market price of steel (fabrication scrap and grade),
+// and the unit cost the last bid priced it at (steel at $1.35/kg and
+// labour at $95/h, give or take 10%). Descriptions hold commas and quotes (in double quotes), and
 // some quantities are written with thousands separators, as a
 // spreadsheet exports them. The same n and seed give the same file.
 func BidCSV(n int, seed uint64) []byte {
@@ -99,8 +100,9 @@ func BidCSV(n int, seed uint64) []byte {
 			factor = 0
 		}
 		lo, hi := round3(hours*(0.8+0.1*rng.Float64())), round3(hours*(1.2+0.3*rng.Float64()))
-		fmt.Fprintf(&b, "%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\r\n", key, cat.Name, csvQuote(desc), thousands(qty),
-			num(mass), num(buyout), num(hours), num(lo), num(hi), num(factor))
+		last := round2((mass*factor*1.35 + buyout + hours*95) * (0.9 + 0.2*rng.Float64()))
+		fmt.Fprintf(&b, "%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\r\n", key, cat.Name, csvQuote(desc), thousands(qty),
+			num(mass), num(buyout), num(hours), num(lo), num(hi), num(factor), num(last))
 	}
 	return []byte(b.String())
 }

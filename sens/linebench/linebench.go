@@ -1,0 +1,129 @@
+// Package linebench holds the benchmarks of line-item models: the invented
+// bid of package tapebench at 100,000 lines, loaded from its CSV file and
+// compiled, its roll-up evaluated and differentiated, each against a
+// reference: reading the same file with encoding/csv alone, and a
+// hand-written Go loop over the same slices. `nudge bench` and this
+// package's benchmarks run the same bodies. It is not part of the engine:
+// nothing but the benchmarks and `nudge bench` imports it.
+package linebench
+
+import (
+	"bytes"
+	"encoding/csv"
+	"errors"
+	"io"
+	"math"
+
+	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/tapebench"
+)
+
+// Lines is the number of lines of the benchmark's table.
+const Lines = 100_000
+
+// Model is the benchmark's model: the bid's roll-up, the sum over its lines
+// of quantity times unit cost. Every quantity and every unit cost is an
+// input of its own: 200,000 inputs.
+const Model = `table bid = "bid.csv" key item
+input qty       = bid.qty (±5%)
+input unit_cost = bid.unit_cost (±10%)
+total = sum(qty * unit_cost)
+`
+
+// Bench is the loaded benchmark: the table's bytes, the compiled roll-up,
+// the baseline, and the same numbers as plain slices for the Go loop.
+type Bench struct {
+	CSV  []byte
+	Prog *sens.Program
+	Fn   *sens.Fn
+	X    []float64 // the baseline: the quantities, then the unit costs
+	Qty  []float64
+	Cost []float64
+	Grad []float64
+}
+
+// New generates the table of n lines and loads and compiles the model.
+func New(n int) (*Bench, error) {
+	bn := &Bench{CSV: tapebench.BidCSV(n, 2)}
+	p, err := bn.load()
+	if err != nil {
+		return nil, err
+	}
+	bn.Prog = p
+	if bn.Fn, err = p.Fn("total"); err != nil {
+		return nil, err
+	}
+	bn.X = p.Baseline()
+	bn.Qty, bn.Cost = bn.X[:n], bn.X[n:]
+	bn.Grad = make([]float64, len(bn.X))
+	y, err := bn.Fn.Eval(bn.X)
+	if err != nil {
+		return nil, err
+	}
+	if g := bn.goRollup(); math.Abs(y-g) > 1e-9*math.Abs(g) {
+		return nil, errors.New("linebench: the tape and the Go loop disagree")
+	}
+	return bn, nil
+}
+
+// load parses the model, reads the table from memory and compiles.
+func (bn *Bench) load() (*sens.Program, error) {
+	f, stmts, err := syntax.Parse("bid.nudge", []byte(Model))
+	if err != nil {
+		return nil, err
+	}
+	m := sens.NewModel()
+	for _, s := range stmts {
+		if ts, ok := s.(*syntax.TableStmt); ok {
+			if _, err := m.DefineTableData(f, ts, bn.CSV); err != nil {
+				return nil, err
+			}
+			continue
+		}
+		m.Define(f, s)
+	}
+	return m.Compile()
+}
+
+// readCSV reads the table with encoding/csv alone.
+func (bn *Bench) readCSV() error {
+	r := csv.NewReader(bytes.NewReader(bn.CSV))
+	for {
+		if _, err := r.Read(); err == io.EOF {
+			return nil
+		} else if err != nil {
+			return err
+		}
+	}
+}
+
+var sink float64
+
+// goRollup is the roll-up written in Go over the same slices.
+func (bn *Bench) goRollup() float64 {
+	s := 0.0
+	for i, q := range bn.Qty {
+		s += q * bn.Cost[i]
+	}
+	return s
+}
+
+// LoadVsCSV times loading the table and compiling the model against
+// reading the same bytes with encoding/csv alone.
+func (bn *Bench) LoadVsCSV(b tapebench.B) {
+	tapebench.Pair(b, 1, 1, "load", "csv", func() error { _, err := bn.load(); return err }, bn.readCSV)
+}
+
+// ForwardVsGo times the roll-up's forward evaluation against the Go loop.
+func (bn *Bench) ForwardVsGo(b tapebench.B) {
+	tapebench.Pair(b, 4, 1, "tape", "go", func() error { _, err := bn.Fn.Eval(bn.X); return err },
+		func() error { sink += bn.goRollup(); return nil })
+}
+
+// GradientVsForward times the roll-up's gradient (every line's partial
+// derivatives) against its forward evaluation.
+func (bn *Bench) GradientVsForward(b tapebench.B) {
+	tapebench.Pair(b, 4, 1, "gradient", "forward", func() error { _, err := bn.Fn.Gradient(bn.Grad, bn.X); return err },
+		func() error { _, err := bn.Fn.Eval(bn.X); return err })
+}
