@@ -1,9 +1,10 @@
 package sens
 
 import (
+	"cmp"
 	"fmt"
 	"math"
-	"sort"
+	"strings"
 	"sync"
 
 	"github.com/nudge-dev/nudge/sens/unit"
@@ -78,31 +79,24 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 	for i, in := range p.Inputs {
 		sum += math.Abs(g[i] * in.Value)
 	}
-	key := func(i int) float64 {
-		if y == 0 {
-			return math.Abs(g[i] * p.Inputs[i].Value)
+	key := make([]float64, len(p.Inputs))
+	for i, in := range p.Inputs {
+		if key[i] = math.Abs(g[i] * in.Value); y != 0 {
+			key[i] /= math.Abs(y)
 		}
-		return math.Abs(g[i] * p.Inputs[i].Value / y)
 	}
-	order := make([]int, len(p.Inputs))
-	for i := range order {
-		order[i] = i
-	}
-	sort.SliceStable(order, func(a, b int) bool {
-		ka, kb := key(order[a]), key(order[b])
-		if ka != kb {
-			return ka > kb
+	// Names are unique, so the order is total and need not be stable.
+	before := func(a, b int) int {
+		if c := cmp.Compare(key[b], key[a]); c != 0 {
+			return c
 		}
-		return p.Inputs[order[a]].Name < p.Inputs[order[b]].Name
-	})
+		return strings.Compare(p.Inputs[a].Name, p.Inputs[b].Name)
+	}
 	top := s.Top
 	if top == 0 && p.hasVectors() {
 		top = DefaultVectorTop
 	}
-	kept := order
-	if top > 0 && top < len(order) {
-		kept = order[:top]
-	}
+	kept := topInputs(len(key), top, before)
 	partialUnits := map[string]string{}
 	for _, i := range kept {
 		in := p.Inputs[i]
@@ -120,7 +114,7 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 		}
 		d.Inputs = append(d.Inputs, di)
 	}
-	if err := d.subtotals(p, s, g, y, sum, order[len(kept):]); err != nil {
+	if err := d.subtotals(p, s, g, y, sum, kept); err != nil {
 		return nil, err
 	}
 	for _, st := range p.Steps {

@@ -3,6 +3,7 @@ package sens
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
@@ -62,14 +63,45 @@ func (p *Problem) hasVectors() bool {
 	return false
 }
 
+// topInputs returns the first top of n inputs (all of them when top is 0
+// or more than n) in the order cmp gives, keeping only the best top while
+// it looks through them: a model of 100,000 lines keeps 30 without sorting
+// the rest.
+func topInputs(n, top int, cmp func(a, b int) int) []int {
+	if top <= 0 || top >= n {
+		all := make([]int, n)
+		for i := range all {
+			all[i] = i
+		}
+		slices.SortFunc(all, cmp)
+		return all
+	}
+	best := make([]int, 0, top+1)
+	for i := range n {
+		if len(best) == top && cmp(i, best[top-1]) >= 0 {
+			continue
+		}
+		j, _ := slices.BinarySearchFunc(best, i, cmp)
+		best = slices.Insert(best, j, i)
+		if len(best) > top {
+			best = best[:top]
+		}
+	}
+	return best
+}
+
 // subtotals fills the subtotals of a drivers result from the gradient g
-// at the baseline, where the output is y and sum is Σ |g_i x_i|; rest
-// lists the inputs Top left out.
-func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y, sum float64, rest []int) error {
-	if len(rest) > 0 {
-		r := &DriverRest{Count: len(rest)}
-		for _, i := range rest {
-			if y != 0 {
+// at the baseline, where the output is y and sum is Σ |g_i x_i|; kept
+// lists the inputs Top keeps.
+func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y, sum float64, kept []int) error {
+	if len(kept) < len(p.Inputs) {
+		in := make([]bool, len(p.Inputs))
+		for _, i := range kept {
+			in[i] = true
+		}
+		r := &DriverRest{Count: len(p.Inputs) - len(kept)}
+		for i, k := range in {
+			if !k && y != 0 {
 				e := g[i] * p.Inputs[i].Value / y
 				r.Elasticity += e
 				r.MaxElasticity = math.Max(r.MaxElasticity, math.Abs(e))
@@ -95,15 +127,19 @@ func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y
 		}
 	}
 	col := map[string]int{}
+	last, k := "", -1 // the elements of a vector come one after another
 	for i, in := range p.Inputs {
 		if in.Vector == "" {
 			continue
 		}
-		k, ok := col[in.Vector]
-		if !ok {
-			k = len(d.Columns)
-			col[in.Vector] = k
-			d.Columns = append(d.Columns, DriverSubtotal{Name: in.Vector})
+		if in.Vector != last {
+			var ok bool
+			if k, ok = col[in.Vector]; !ok {
+				k = len(d.Columns)
+				col[in.Vector] = k
+				d.Columns = append(d.Columns, DriverSubtotal{Name: in.Vector})
+			}
+			last = in.Vector
 		}
 		add(&d.Columns[k], i)
 	}
@@ -121,17 +157,30 @@ func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y
 		return err
 	}
 	d.GroupBy = table.Name + "." + by.Name
+	// The group of each row, in the order the values first appear among
+	// the inputs.
 	var gr grouper
+	rowGroup := make([]int32, len(table.Keys))
+	for i := range rowGroup {
+		rowGroup[i] = -1
+	}
+	var v *Vector
 	for i, in := range p.Inputs {
-		v := p.prog.Vector(in.Vector)
+		if v == nil || in.Vector != v.Name {
+			v = p.prog.Vector(in.Vector)
+		}
 		if v == nil || v.Table != table {
 			continue
 		}
-		k, isNew := gr.id(by.Text[v.Row(in.elem)])
-		if isNew {
-			d.Groups = append(d.Groups, DriverSubtotal{Name: gr.keys[k]})
+		row := v.Row(in.elem)
+		if rowGroup[row] < 0 {
+			k, isNew := gr.id(by.Text[row])
+			if isNew {
+				d.Groups = append(d.Groups, DriverSubtotal{Name: gr.keys[k]})
+			}
+			rowGroup[row] = int32(k)
 		}
-		add(&d.Groups[k], i)
+		add(&d.Groups[rowGroup[row]], i)
 	}
 	return nil
 }

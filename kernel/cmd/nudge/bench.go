@@ -27,8 +27,9 @@ func benchCmd(args []string, stdout, stderr io.Writer) int {
 // Go (scalar and batched; each pair interleaved so that other load on the
 // machine affects both sides alike), the gradient (forward and reverse passes)
 // against the forward pass on generated models of 1e3 to 1e6 nodes, reverse
-// mode against gonum's central differences on 10,000 inputs, and the tape's
-// bytes per node. It takes about half a minute.
+// mode against gonum's central differences on 10,000 inputs, the tape's
+// bytes per node, and the line-item benchmarks on 100,000 lines
+// (benchLineItems). It takes about a minute.
 func runBench(w io.Writer) error {
 	fmt.Fprintln(w, "nudge bench: the evaluation engine against hand-written Go and finite differences")
 	fmt.Fprintln(w, "(each pair runs interleaved in short chunks; times and ratios are medians over the chunks)")
@@ -75,6 +76,7 @@ func runBench(w io.Writer) error {
 	fmt.Fprintf(tw, "gradient vs gonum fd.Gradient, %d inputs (fd: 20001 evaluations, run once)\t%s\t%s\t1/%.0f\t-\n",
 		t.NumInputs(), fmtNs(r.Extra["reverse-ms"]*1e6), fmtNs(r.Extra["fd-ms"]*1e6), r.Extra["speedup"])
 	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\n", bytesPerNode)
+	check(benchLineItems(row, tw))
 	if err := tw.Flush(); err != nil {
 		return err
 	}
