@@ -403,3 +403,15 @@ func TestLineItemElementOutput(t *testing.T) {
 		t.Errorf("analysing a vector: %v", err)
 	}
 }
+
+// The demo notebook's table is the invented bid the tests price, byte for
+// byte.
+func TestDemoTableIsTheGenerated(t *testing.T) {
+	got, err := os.ReadFile("../notebooks/steel_bid.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got, tapebench.BidCSV(tapebench.BidDemoLines, 1)) {
+		t.Error("notebooks/steel_bid.csv differs from tapebench.BidCSV(BidDemoLines, 1): regenerate it")
+	}
+}
