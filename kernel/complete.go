@@ -125,9 +125,12 @@ func (h *Handler) candidates(code, before string) []string {
 	for _, f := range sens.Functions {
 		cands = append(cands, f.Name)
 	}
+	for _, f := range sens.VectorFunctions {
+		cands = append(cands, f.Name)
+	}
 	if len(toks) == 0 {
 		cands = append(cands, syntax.Verbs...)
-		cands = append(cands, "input")
+		cands = append(cands, "input", "table", "periods")
 	} else {
 		cands = append(cands, "and", "or", "not")
 	}

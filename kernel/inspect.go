@@ -93,6 +93,20 @@ func (h *Handler) describe(word string, detail int) string {
 			return fmt.Sprintf("function %s: %s", fn.Name, fn.Doc)
 		}
 	}
+	for _, fn := range sens.VectorFunctions {
+		if fn.Name == word {
+			return fmt.Sprintf("function %s: %s", fn.Sig, fn.Doc)
+		}
+	}
+	if prog, err := h.in.Model.Compile(); err == nil {
+		if v := prog.Vector(word); v != nil {
+			u := v.Unit
+			if u == "" {
+				u = "plain numbers"
+			}
+			return fmt.Sprintf("vector %s %s: %s %ss over %s, in %s\ndeclared at %s", v.Kind, v.Name, unit.Format(float64(v.Len()), ""), v.Noun, v.Over, u, v.Pos)
+		}
+	}
 	if d := sens.LookupDist(word); d != nil {
 		return fmt.Sprintf("distribution %s(%s): %s\nexample: %s", d.Name, strings.Join(d.Params, ", "), d.Doc, d.Example)
 	}

@@ -128,7 +128,7 @@ func TestCompleteByContext(t *testing.T) {
 		{"spider cost (±20%) ", []string{"points=", "top="}},            //
 		{"sweep cost over rate 50..70 ", []string{"and", "limit=", "n=", "steps=", "target="}},
 		{"sweep cost over rate 50..70 n=5 ", []string{"limit=", "steps=", "target="}}, // not given twice
-		{"drivers cost top=3 ", nil},                                                  // nothing left
+		{"drivers cost top=3 ", []string{"group="}},                                   // the option left
 		{"input w = 2 [kW", []string{"kW", "kWh"}},                                    // in brackets: units
 		{"x = sqr", []string{"sqrt"}},                                                 // functions in expressions
 		{"reset ", nil},

@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -144,5 +145,31 @@ func TestLineItemRunFile(t *testing.T) {
 	}
 	if strings.Join(kinds, " ") != "table value" {
 		t.Errorf("kinds %v", kinds)
+	}
+}
+
+// Completion offers the functions of vectors and the words of the
+// line-item statements; inspection describes a vector.
+func TestLineItemCompleteAndInspect(t *testing.T) {
+	in := New()
+	in.Dir = writeBid(t, 20)
+	h := NewHandler(in)
+	if err := in.Execute(context.Background(), "", bidCell, &captureSink{}); err != nil {
+		t.Fatal(err)
+	}
+	for code, want := range map[string]string{"x = subt": "subtotal", "tab": "table", "peri": "periods", "x = whe": "where"} {
+		if c := h.Complete(code, len(code)); !slices.Contains(c.Matches, want) {
+			t.Errorf("%q: matches %v lack %q", code, c.Matches, want)
+		}
+	}
+	for code, want := range map[string]string{
+		"line_cost":          "vector formula line_cost: 20 rows over bid, in $",
+		"qty":                "vector input qty: 20 rows over bid, in each",
+		"x = subtotal(a, b)": "function subtotal(v, column): the sums of v",
+	} {
+		b, found := h.Inspect(code, 6, 0)
+		if !found || !strings.Contains(b.Data["text/plain"].(string), want) {
+			t.Errorf("%q: %v, want %q", code, b, want)
+		}
 	}
 }

@@ -926,12 +926,16 @@ func (c *compiler) vectorInput(d *Decl) bool {
 	c.what = what
 	var v val
 	var vals []float64
+	uText := "" // the unit as the user wrote it: declared, or in the column's header
+	if declared {
+		uText = s.Unit.Text
+	}
 	if id, ok := s.Value.(*syntax.Ident); ok && s.Over == nil && strings.Contains(id.Name, ".") {
 		// input qty = bid.qty: the column's unit unless one is declared.
 		if tname, cname, _ := strings.Cut(id.Name, "."); c.decls[tname] != nil && c.decls[tname].Table != nil {
 			if col := c.decls[tname].Table.Column(cname); col != nil && !col.IsText() {
 				if !declared && col.Unit != "" {
-					u = col.u
+					u, uText = col.u, col.Unit
 				}
 				if dom = c.domainNamed(f, &syntax.Ident{NamePos: id.Pos(), Name: tname}); dom == nil {
 					return true
@@ -969,10 +973,7 @@ func (c *compiler) vectorInput(d *Decl) bool {
 		}
 	}
 	n := dom.size()
-	uText := ""
-	if declared {
-		uText = s.Unit.Text
-	} else if !u.Dim.IsDimensionless() || u.Factor != 1 {
+	if uText == "" && (!u.Dim.IsDimensionless() || u.Factor != 1) {
 		uText = u.String()
 	}
 	vec := &Vector{Name: d.Name, Kind: "input", Over: dom.name, Noun: dom.noun, Keys: dom.keys, Unit: uText,
