@@ -69,7 +69,7 @@ type Input struct {
 	u     unit.Unit
 	index int
 	file  *syntax.File // the file declaring it, for messages
-	elem  int // the element of Vector
+	elem  int          // the element of Vector
 }
 
 // Formula is a compiled formula. Its value is shown in Unit.
