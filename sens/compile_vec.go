@@ -1154,6 +1154,30 @@ func (c *compiler) boundVec(f *syntax.File, b syntax.Bound, u unit.Unit, dom *do
 	return vals, true
 }
 
+// compactElements writes a run of elements of one vector in a list of
+// input names as one item, "qty[…] (360 elements)", so that a message about
+// the inputs of a model of 100,000 lines stays a line.
+func compactElements(names []string) []string {
+	var out []string
+	for i := 0; i < len(names); {
+		base, _, ok := splitElement(names[i])
+		j := i + 1
+		for ok && j < len(names) {
+			if b, _, ok2 := splitElement(names[j]); !ok2 || b != base {
+				break
+			}
+			j++
+		}
+		if j-i > 1 {
+			out = append(out, fmt.Sprintf("%s[…] (%s elements)", base, unit.Format(float64(j-i), "")))
+		} else {
+			out = append(out, names[i])
+		}
+		i = j
+	}
+	return out
+}
+
 // shortList joins names for a message, the first max of them and a count
 // of the rest.
 func shortList(names []string, max int) string {

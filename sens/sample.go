@@ -5,7 +5,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"strconv"
-	"strings"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
 	"gonum.org/v1/gonum/stat/distuv"
@@ -170,7 +169,7 @@ func RangeNotice(names []string) string {
 	if len(names) == 1 {
 		verb = "has"
 	}
-	return fmt.Sprintf("%s %s a range but no distribution: sampled uniformly over the range", strings.Join(names, ", "), verb)
+	return fmt.Sprintf("%s %s a range but no distribution: sampled uniformly over the range", shortList(compactElements(names), 8), verb)
 }
 
 // ---- random streams

@@ -114,18 +114,18 @@ func (p *parser) parseGlobal(c *CommandStmt) { p.parseOutput(c) }
 // parseSpearman parses the declaration of a rank correlation between two
 // inputs, into c.Names (the inputs) and c.Target (the coefficient):
 //
-//	spearman = "spearman" name "," name "=" arith .
+//	spearman = "spearman" ref "," ref "=" arith .
 func (p *parser) parseSpearman(c *CommandStmt) {
 	const form = "spearman INPUT, INPUT = COEFFICIENT"
 	if p.atEnd() {
 		p.error(p.pos, "spearman needs two inputs and a coefficient: "+form)
 	}
-	a := p.parseIdent()
+	a := p.parseRef()
 	if p.tok != COMMA {
 		p.errorExpected("',' and a second input (write: " + form + ")")
 	}
 	p.next()
-	b := p.parseIdent()
+	b := p.parseRef()
 	if p.tok != ASSIGN {
 		p.errorExpected("'=' and the rank correlation of " + a.Name + " and " + b.Name + " (write: " + form + ")")
 	}

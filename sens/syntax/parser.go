@@ -51,7 +51,7 @@ import (
 //	scenario  = "scenario" name ":" name "=" arith { "," name "=" arith } .
 //	compare   = "compare" arith "across" name { "," name } .
 //	global    = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
-//	spearman  = "spearman" name "," name "=" arith .
+//	spearman  = "spearman" ref "," ref "=" arith .
 //	print     = "print" STRING .
 //	reset     = "reset" .
 //	charts    = "charts" name .
