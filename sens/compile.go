@@ -66,7 +66,7 @@ type Input struct {
 	Vector string
 	Key    string
 
-	u     unit.Unit
+	u     *unit.Unit // shared by the elements of a vector input; nil for an input built by hand
 	index int
 	file  *syntax.File // the file declaring it, for messages
 	elem  int          // the element of Vector
@@ -287,26 +287,27 @@ func (c *compiler) compileInput(d *Decl) {
 	}
 	s, f := d.Input, d.File
 	c.cur = d.Name
-	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: unit.One(), file: f}
+	one := unit.One()
+	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: &one, file: f}
 	c.prog.index[d.Name] = in.index
 	c.prog.Inputs = append(c.prog.Inputs, in)
 	c.state[d.Name] = done
 	if s.Unit != nil {
 		u, ok := c.parseUnit(f, s.Unit)
 		if ok {
-			in.u = u
+			in.u = &u
 			in.Unit = s.Unit.Text
 		}
 	}
 	// The value: a constant, read in the input's unit when written without one.
-	v, ok := c.constant(f, s.Value, in.u, "the value of input "+d.Name)
+	v, ok := c.constant(f, s.Value, *in.u, "the value of input "+d.Name)
 	in.Value = v
 	c.setPos(f, s.Name.Pos())
 	slot := c.b.Input()
 	if in.u.Factor != 1 {
 		slot = c.b.Binary(tape.OpMul, slot, c.b.Const(in.u.Factor))
 	}
-	u := in.u
+	u := *in.u
 	c.vals[d.Name] = val{slot: slot, dim: in.u.Dim, hint: &u, bad: !ok}
 	// Range and distribution.
 	if s.Dist != nil {
@@ -371,7 +372,7 @@ func (c *compiler) compileDist(f *syntax.File, in *Input, ds *syntax.DistSpec) {
 	}
 	params := make([]float64, len(ds.Args))
 	for i, a := range ds.Args {
-		v, ok := c.constant(f, a, in.u, info.Name+" parameter "+info.Params[i])
+		v, ok := c.constant(f, a, *in.u, info.Name+" parameter "+info.Params[i])
 		if !ok {
 			return
 		}

@@ -1000,7 +1000,7 @@ func (c *compiler) vectorInput(d *Decl) bool {
 			start = ends[i-1]
 		}
 		ins[i] = Input{Name: all[start:ends[i]], Value: vals[i], Unit: uText, Pos: pos, Vector: d.Name, Key: dom.keys[i],
-			u: u, index: vec.First + i, elem: i, file: f}
+			u: &u, index: vec.First + i, elem: i, file: f}
 	}
 	if !c.elementRanges(d, ins, dom, u) {
 		return true

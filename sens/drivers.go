@@ -127,7 +127,7 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 // the input's own unit, simplified when that changes nothing ("kg" for $ per
 // $/kg; "$/h" for $ per h).
 func PartialUnit(out, inUnit string, in *Input) string {
-	if in != nil && in.u.Factor != 0 && !in.u.Dim.IsDimensionless() {
+	if in != nil && in.u != nil && in.u.Factor != 0 && !in.u.Dim.IsDimensionless() {
 		if s, ok := simplifyPartial(out, in); ok {
 			return s
 		}
@@ -162,7 +162,7 @@ func simplifyPartial(out string, in *Input) (string, bool) {
 		ou = u
 	}
 	// The same choice as a formula's display unit: $ per ($/h) is h.
-	u := combinedUnit(&ou, &in.u, false)
+	u := combinedUnit(&ou, in.u, false)
 	if u == nil {
 		return "", false
 	}

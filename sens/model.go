@@ -279,7 +279,7 @@ func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 			errs.Add(s.File, a.Name.Pos(), msg)
 			continue
 		}
-		v, ok := c.constant(s.File, a.Value, in.u, "the scenario value of "+in.Name)
+		v, ok := c.constant(s.File, a.Value, *in.u, "the scenario value of "+in.Name)
 		if ok {
 			x[in.index] = v
 		}
