@@ -9,7 +9,7 @@ import (
 
 func TestCompleteContexts(t *testing.T) {
 	h := NewHandler(New())
-	if err := h.in.Execute(context.Background(), "", "input shop_rate = 60 [$/h]\ninput steel = 0.9 [$/kg]\ntotal = shop_rate * 2 [h]", &captureSink{}); err != nil {
+	if err := h.in.Execute(context.Background(), "", "input shop_rate = 60 [$/h]\ninput steel = 0.9 [$/kg]\ntotal = shop_rate * (2 [h])", &captureSink{}); err != nil {
 		t.Fatal(err)
 	}
 	for _, tc := range []struct {

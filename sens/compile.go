@@ -409,10 +409,10 @@ func (c *compiler) constant(f *syntax.File, x syntax.Expr, u unit.Unit, what str
 		pos = n.Unit.Pos()
 	}
 	if u.Dim.IsDimensionless() {
-		c.errorf(f, pos, "%s is in [%s] but must be a plain number (no unit)", what, unitText(c.display(v)))
+		c.errorf(f, pos, "%s is in [%s] but must be a plain number (no unit)", what, unitText(c.shown(x, v)))
 		return 0, false
 	}
-	c.errorf(f, pos, "%s is in [%s] but must be in [%s] (%s vs %s)", what, orOne(unitText(c.display(v))), unitText(u), dimName(v.dim), dimName(u.Dim))
+	c.errorf(f, pos, "%s is in [%s] but must be in [%s] (%s vs %s)", what, orOne(unitText(c.shown(x, v))), unitText(u), dimName(v.dim), dimName(u.Dim))
 	return 0, false
 }
 
@@ -466,25 +466,15 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 	saveFile, saveCur := c.curFile, c.cur
 	c.curFile, c.cur = f, name
 
+	nerrs := len(c.errs)
 	v := c.expr(f, s.Value, false)
 	fm := &Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos()), lazy: &formulaLazy{}}
 	declared := s.Unit
-	if declared != nil && !v.bad && !v.boolean {
-		// The last bracket of a line is the formula's declared unit; but when
-		// that reading fails the dimension check while reading it as the unit
-		// of the number before it passes (x = m * 2 [kg], f = m * a / 1 [h]),
-		// the number's reading is the one that makes sense.
-		if u, err := unit.Parse(declared.Text); err == nil && !u.Dim.Equal(v.dim) {
-			if n := lastNumber(s.Value); n != nil {
-				c.numberUnit = map[*syntax.NumberLit]*syntax.UnitLit{n: declared}
-				nerrs := len(c.errs)
-				if w := c.expr(f, s.Value, false); !w.bad && !w.boolean {
-					v, declared = w, nil
-					fm.Text += " [" + s.Unit.Text + "]"
-				}
-				c.errs = c.errs[:nerrs]
-				c.numberUnit = nil
-			}
+	var numberFix string // the number reading, offered when the declared unit fails
+	if declared != nil && !v.boolean {
+		v, declared, numberFix = c.trailingBracket(f, s, v, nerrs)
+		if declared == nil {
+			fm.Text += " [" + s.Unit.Text + "]"
 		}
 	}
 	switch {
@@ -495,7 +485,7 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 	case declared != nil:
 		u, ok := c.parseUnit(f, declared)
 		if ok && !u.Dim.Equal(v.dim) {
-			c.errorf(f, declared.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)", name, declared.Text, dimName(u.Dim), orPlain(unitText(c.display(v))), dimName(v.dim))
+			c.errorf(f, declared.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)%s", name, declared.Text, dimName(u.Dim), orPlain(unitText(c.shown(s.Value, v))), dimName(v.dim), numberFix)
 			v.bad = true
 		}
 		fm.u, fm.Unit, fm.Declared = u, declared.Text, true
@@ -689,7 +679,7 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 				verb = "compare"
 			}
 			c.errorf(f, x.OpPos, "cannot %s %s and %s: units %s and %s do not match (%s vs %s)",
-				verb, syntax.String(x.X), syntax.String(x.Y), orOne(unitText(c.display(a))), orOne(unitText(c.display(b))), dimName(a.dim), dimName(b.dim))
+				verb, syntax.String(x.X), syntax.String(x.Y), orOne(unitText(c.shown(x.X, a))), orOne(unitText(c.shown(x.Y, b))), dimName(a.dim), dimName(b.dim))
 			return val{bad: true}
 		}
 	}
@@ -726,18 +716,18 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 		return val{slot: c.b.Binary(o, a.slot, b.slot), dim: d, hint: h, konst: a.konst && b.konst, c: cv}
 	case syntax.POW:
 		if !b.dim.IsDimensionless() {
-			c.errorf(f, x.Y.Pos(), "an exponent must be dimensionless, found %s", unitText(c.display(b)))
+			c.errorf(f, x.Y.Pos(), "an exponent must be dimensionless, found %s", unitText(c.shown(x.Y, b)))
 			return val{bad: true}
 		}
 		d := unit.Dim{}
 		if !a.dim.IsDimensionless() {
 			if !b.konst {
-				c.errorf(f, x.Y.Pos(), "the exponent of a quantity with a unit (%s) must be a constant", unitText(c.display(a)))
+				c.errorf(f, x.Y.Pos(), "the exponent of a quantity with a unit (%s) must be a constant", unitText(c.shown(x.X, a)))
 				return val{bad: true}
 			}
 			num, den, ok := rational(b.c)
 			if !ok {
-				c.errorf(f, x.Y.Pos(), "cannot raise %s to the power %s: use a whole number or a simple fraction", unitText(c.display(a)), unit.Format(b.c, ""))
+				c.errorf(f, x.Y.Pos(), "cannot raise %s to the power %s: use a whole number or a simple fraction", unitText(c.shown(x.X, a)), unit.Format(b.c, ""))
 				return val{bad: true}
 			}
 			var err error
@@ -832,7 +822,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		for i, a := range args {
 			if !a.dim.IsDimensionless() {
 				c.errorf(f, x.Args[i].Pos(), "%s needs a dimensionless argument, found %s: divide by a reference value, e.g. %s / 1 [%s]",
-					name, unitText(c.display(a)), syntax.String(x.Args[i]), unitText(c.display(a)))
+					name, unitText(c.shown(x.Args[i], a)), syntax.String(x.Args[i]), unitText(c.shown(x.Args[i], a)))
 				return val{bad: true}
 			}
 		}
@@ -843,7 +833,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		}
 		for i := first + 1; i < len(args); i++ {
 			if !args[i].dim.Equal(args[first].dim) {
-				c.errorf(f, x.Args[i].Pos(), "arguments of %s must share a unit: %s vs %s", name, orOne(unitText(c.display(args[first]))), orOne(unitText(c.display(args[i]))))
+				c.errorf(f, x.Args[i].Pos(), "arguments of %s must share a unit: %s vs %s", name, orOne(unitText(c.shown(x.Args[first], args[first]))), orOne(unitText(c.shown(x.Args[i], args[i]))))
 				return val{bad: true}
 			}
 		}
@@ -854,14 +844,14 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	case UnitsSqrt:
 		d, err := args[0].dim.Pow(1, 2)
 		if err != nil {
-			c.errorf(f, x.Args[0].Pos(), "sqrt of %s: %v", unitText(c.display(args[0])), err)
+			c.errorf(f, x.Args[0].Pos(), "sqrt of %s: %v", unitText(c.shown(x.Args[0], args[0])), err)
 			return val{bad: true}
 		}
 		res.dim = d
 	case UnitsFirst:
 		for i := 1; i < len(args); i++ {
 			if !args[i].dim.IsDimensionless() {
-				c.errorf(f, x.Args[i].Pos(), "argument %d of %s must be dimensionless, found %s", i+1, name, unitText(c.display(args[i])))
+				c.errorf(f, x.Args[i].Pos(), "argument %d of %s must be dimensionless, found %s", i+1, name, unitText(c.shown(x.Args[i], args[i])))
 				return val{bad: true}
 			}
 		}
@@ -968,24 +958,4 @@ func combinedUnit(a, b *unit.Unit, mul bool) *unit.Unit {
 		return &q
 	}
 	return nil
-}
-
-// lastNumber returns the number without a unit that ends x outside any
-// parentheses, or nil: the number a trailing [unit] would have belonged to.
-func lastNumber(x syntax.Expr) *syntax.NumberLit {
-	for {
-		switch e := x.(type) {
-		case *syntax.BinaryExpr:
-			x = e.Y
-		case *syntax.UnaryExpr:
-			x = e.X
-		case *syntax.NumberLit:
-			if e.Unit == nil {
-				return e
-			}
-			return nil
-		default:
-			return nil
-		}
-	}
 }

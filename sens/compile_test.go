@@ -267,31 +267,6 @@ f  = m * x * 1 [m/s^2] / (1 [h])
 	}
 }
 
-// TestTrailingBracket: the last bracket of a line is the declared unit, unless
-// only reading it as the unit of the number before it makes the formula check.
-func TestTrailingBracket(t *testing.T) {
-	p := compileSrc(t, "input x = 3 [h]\ninput m = 2 [kg]\nf = m * x / 1 [h]\nz = m * 2 [kg]\nc = m * 5 [$/kg]\nd = m * 4 [g]\n")
-	for _, tc := range []struct {
-		name, unit string
-		value      float64
-		declared   bool
-	}{
-		{"f", "kg", 6, false},  // 1 [h]: the declared reading (h) fails, the number's passes
-		{"z", "kg", 4, true},   // kg times a plain 2 is kg: declared, as written
-		{"c", "$", 10, false},  // 5 [$/kg]
-		{"d", "g", 8000, true}, // declared [g]: 2 kg * 4 = 8 kg shown in g
-	} {
-		fn, err := p.Fn(tc.name)
-		if err != nil {
-			t.Fatal(err)
-		}
-		y, _ := fn.Eval(p.Baseline())
-		if fm := fn.Formula(); fm.Unit != tc.unit || fm.Declared != tc.declared || !scalar.EqualWithinAbsOrRel(y, tc.value, 1e-12, 1e-12) {
-			t.Errorf("%s = %v %s (declared %v), want %v %s (declared %v)", tc.name, y, fm.Unit, fm.Declared, tc.value, tc.unit, tc.declared)
-		}
-	}
-}
-
 func TestLoadModelRejectsCommands(t *testing.T) {
 	m, err := LoadModel("m", []byte("input a = 1\nb = a\nscenario s: a = 2\ndrivers b\nb + 1\n"))
 	el, ok := err.(syntax.ErrorList)

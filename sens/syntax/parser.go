@@ -65,7 +65,9 @@ import (
 // A unit in brackets right after a number belongs to that number (90 [min] * rate),
 // except the last bracket of an input or formula line, which is the line's declared
 // unit (total = units * price [$]). When a formula's whole value is one number, the
-// declared unit is that number's unit as well (lead_time = 6 [wk]).
+// declared unit is that number's unit as well (lead_time = 6 [wk]). Whether a
+// trailing bracket is instead read as the unit of the number before it is
+// decided by the unit check (sens/unitrule.go), not by the parser.
 
 // MaxDepth is the deepest nesting of expressions the parser accepts.
 const MaxDepth = 200

@@ -159,15 +159,45 @@ func powText(num, den int) string {
 // "1", "kg", "$/kg", "kg*m^2/s^2", "EUR/$".
 func (d Dim) String() string { return format(d.terms(false)) }
 
-// Name is a plain quantity name for d where one is well known ("time", "mass", "energy",
-// "dimensionless", "currency $"), else d.String().
+// Name is a plain quantity name for d: a well-known one where there is one ("time", "mass",
+// "energy", "dimensionless", "currency $"), else the names of its parts, "×" between factors
+// and "per" before the denominator: "currency $ per mass", "mass × time", "currency EUR per
+// energy", "time^2". Names never show a base unit such as s, which the user may not have
+// written.
 func (d Dim) Name() string {
-	s := d.String()
-	if n, ok := quantityNames[s]; ok {
+	if n, ok := quantityNames[d.String()]; ok {
 		return n
 	}
-	if code, ok := d.singleCurrency(); ok {
-		return "currency " + code
+	var num, den []string
+	add := func(name string, e int) {
+		switch {
+		case e > 0:
+			num = append(num, name+expText(e))
+		case e < 0:
+			den = append(den, name+expText(-e))
+		}
+	}
+	cs := currencies(d.cur)
+	for _, code := range sortedCodes(cs) {
+		add("currency "+code, cs[code])
+	}
+	if phys := (Dim{si: d.si}); !phys.IsDimensionless() {
+		if n, ok := quantityNames[phys.String()]; ok {
+			add(n, 1)
+		} else if n, ok := quantityNames[Dim{}.Div(phys).String()]; ok {
+			add(n, -1)
+		} else {
+			for _, b := range displayOrder {
+				add(quantityNames[baseSymbol[b]], d.si[b])
+			}
+		}
+	}
+	s := strings.Join(num, " × ")
+	if s == "" {
+		s = "1"
+	}
+	if len(den) > 0 {
+		s += " per " + strings.Join(den, " × ")
 	}
 	return s
 }

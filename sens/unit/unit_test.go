@@ -142,7 +142,7 @@ func TestConvertIncompatible(t *testing.T) {
 	for _, c := range []struct{ from, to, want string }{
 		{"min", "kg", "cannot convert min to kg: time vs mass"},
 		{"kWh", "kW", "cannot convert kWh to kW: energy vs power"},
-		{"$/h", "$", "cannot convert $/h to $: $/s vs currency $"},
+		{"$/h", "$", "cannot convert $/h to $: currency $ per time vs currency $"},
 		{"m^2", "L", "cannot convert m^2 to L: area vs volume"},
 		{"%", "kg", "cannot convert % to kg: dimensionless vs mass"},
 		{"EUR", "$", "cannot convert EUR to $: different currencies, and there are no exchange rates (multiply by a rate in [$/EUR])"},
@@ -414,10 +414,10 @@ func TestDim(t *testing.T) {
 	for _, c := range []struct{ u, str, name string }{
 		{"kWh", "kg*m^2/s^2", "energy"},
 		{"min", "s", "time"},
-		{"$/kg", "$/kg", "$/kg"},
+		{"$/kg", "$/kg", "currency $ per mass"},
 		{"EUR", "EUR", "currency EUR"},
 		{"1", "1", "dimensionless"},
-		{"$/(EUR*h)", "$/(EUR*s)", "$/(EUR*s)"},
+		{"$/(EUR*h)", "$/(EUR*s)", "currency $ per currency EUR × time"},
 	} {
 		d := MustParse(c.u).Dim
 		if d.String() != c.str || d.Name() != c.name {
