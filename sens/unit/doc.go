@@ -129,16 +129,19 @@
 //
 // # Currencies
 //
-// "$" is the model's default currency, whatever it is in the user's country. Any three
-// upper-case ASCII letters (an ISO 4217-like code: EUR, GBP, JPY, CHF, USD, ...) name another
-// currency, except codes that match a table symbol ignoring case ("BTU" is energy and "KWH" a
-// misspelt kWh). Every currency, "$" and "USD" included, is a separate base dimension: nothing
-// here converts one currency into another, and Convert between two currencies fails with a hint
-// to multiply by an exchange rate input, e.g. one declared in $/EUR.
+// "$" is the model's default currency, whatever it is in the user's country. An ISO 4217 code
+// (EUR, GBP, JPY, CHF, USD, ...; the list is in iso4217.go) names another currency, and so do
+// the signs € (EUR) and £ (GBP). Three capitals that ISO 4217 does not list are an unknown unit
+// ([FTE] is a count, which has no unit, and the message says so). Every currency, "$" and
+// "USD" included, is a separate base dimension: nothing here converts one currency into
+// another unless the model states a rate (Unit.Exchange), and Convert between two currencies
+// fails with a hint to state one.
 //
-// A currency takes two prefixes, k (thousand) and M (million): k$, M$, kEUR, MEUR. In some
-// trades "M$" or "MUSD" is read as a thousand (Roman M) and "MM$" as a million; here M is
-// always the SI mega, and "MM$" is rejected as ambiguous with a message saying so.
+// Thousands and millions of a currency are written as estimators write them: k$, K$, $K, $k,
+// kEUR, KEUR, k€ for a thousand; M$, MM$, $MM, MEUR, MMEUR, M€ for a million. "$M" is rejected:
+// M stands for a thousand (Roman) in some trades and a million in others, so the message asks
+// for M$ or $MM (a million) or k$ (a thousand). Symbols keep the spelling written: 12 [$K]
+// is shown as 12 $K.
 //
 // # Display
 //

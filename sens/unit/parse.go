@@ -40,42 +40,70 @@ func Parse(s string) (Unit, error) {
 	return u, nil
 }
 
-// lookup finds a symbol in the table, or reads it as a currency: "$", a three-letter
-// upper-case code, or either with the prefix k (thousand) or M (million).
+// lookup finds a symbol in the table, or reads it as a currency (see currencySymbol).
 func lookup(sym string) (entry, bool) {
 	if e, ok := bySymbol[sym]; ok {
 		return e, true
 	}
-	if isCurrency(sym) {
-		return entry{sym: sym, factor: 1, dim: currencyDim(sym), meaning: "currency"}, true
-	}
-	if len(sym) > 1 && isCurrency(sym[1:]) {
-		switch sym[0] {
-		case 'k':
-			return entry{sym: sym, factor: 1e3, dim: currencyDim(sym[1:]), meaning: "thousand"}, true
-		case 'M':
-			return entry{sym: sym, factor: 1e6, dim: currencyDim(sym[1:]), meaning: "million"}, true
-		}
+	if code, factor, ok := currencySymbol(sym); ok {
+		meaning := map[float64]string{1: "currency", 1e3: "thousand", 1e6: "million"}[factor]
+		return entry{sym: sym, factor: factor, dim: currencyDim(code), meaning: meaning}, true
 	}
 	return entry{}, false
 }
 
-// isCurrency reports whether code names a currency dimension: "$", or three upper-case ASCII
-// letters that are not, ignoring case, a symbol of the table ("BTU" is energy; "KWH" is a
-// misspelt kWh, not a currency).
+// currencySymbol reads sym as an amount of a currency: the currency's code (its dimension) and
+// the factor of the amount. A currency is "$" (the model's default), "€" (EUR), "£" (GBP) or an
+// ISO 4217 code. Amounts in thousands and millions are written as estimators write them:
+// k$, K$, $K, $k, kEUR, KEUR, k€, €k for a thousand; M$, MM$, $MM, MEUR, MMEUR, M€, €MM for a
+// million. "$M" is not among them: M stands for a thousand in some trades and a million in
+// others, and the message for it says so.
+func currencySymbol(sym string) (code string, factor float64, ok bool) {
+	if c, ok := currencyCode(sym); ok {
+		return c, 1, true
+	}
+	for _, p := range []struct {
+		s string
+		f float64
+	}{{"MM", 1e6}, {"k", 1e3}, {"K", 1e3}, {"M", 1e6}} {
+		if rest, ok := strings.CutPrefix(sym, p.s); ok {
+			if c, ok := currencyCode(rest); ok {
+				return c, p.f, true
+			}
+		}
+		if rest, ok := strings.CutSuffix(sym, p.s); ok && p.s != "M" {
+			if c, ok := currencyCode(rest); ok && isCurrencySymbol(rest) {
+				return c, p.f, true
+			}
+		}
+	}
+	return "", 0, false
+}
+
+// currencyCode returns the dimension code of a currency written as "$", "€", "£" or an ISO 4217
+// code.
+func currencyCode(sym string) (string, bool) {
+	switch sym {
+	case "$":
+		return "$", true
+	case "€":
+		return "EUR", true
+	case "£":
+		return "GBP", true
+	}
+	if isCurrency(sym) {
+		return sym, true
+	}
+	return "", false
+}
+
+// isCurrency reports whether code names a currency dimension: "$", or an ISO 4217 code that is
+// not, ignoring case, a symbol of the table.
 func isCurrency(code string) bool {
 	if code == "$" {
 		return true
 	}
-	if len(code) != 3 || foldedSymbols[strings.ToLower(code)] {
-		return false
-	}
-	for i := 0; i < len(code); i++ {
-		if code[i] < 'A' || code[i] > 'Z' {
-			return false
-		}
-	}
-	return true
+	return iso4217[code] && !foldedSymbols[strings.ToLower(code)]
 }
 
 var foldedSymbols = func() map[string]bool {
@@ -131,7 +159,7 @@ func (t token) describe() string {
 }
 
 func isNameRune(r rune) bool {
-	return unicode.IsLetter(r) || r == '$' || r == '%' || r == '°' || r == '_' || r == '℃' || r == '℉'
+	return unicode.IsLetter(r) || r == '$' || r == '€' || r == '£' || r == '%' || r == '°' || r == '_' || r == '℃' || r == '℉'
 }
 
 // superDigit is the value of a superscript digit, or -1.

@@ -60,8 +60,14 @@ func TestParseErrors(t *testing.T) {
 		{"kgs", 0, `unknown unit "kgs" (did you mean kg?)`},
 		{"kilowat", 0, `unknown unit "kilowat" (did you mean kW?)`},
 		{"xyzzy", 0, `unknown unit "xyzzy"`},
-		{"MM$", 0, `ambiguous prefix in "MM$": write M$ for a million or k$ for a thousand`},
-		{"MMEUR", 0, `ambiguous prefix in "MMEUR": write MEUR for a million or kEUR for a thousand`},
+		{"$M", 0, `ambiguous unit "$M": M stands for a thousand in some trades and a million in others: write M$ (or $MM) for a million, k$ for a thousand`},
+		{"€M", 0, `ambiguous unit "€M": M stands for a thousand in some trades and a million in others: write M€ (or €MM) for a million, k€ for a thousand`},
+		// Three capitals name a currency only when ISO 4217 lists them.
+		{"FTE", 0, `unknown unit "FTE": a count of people has no unit: leave the brackets out or write [1] (person-hours are [h], a cost per person [$])`},
+		{"XYZ", 0, `unknown unit "XYZ": not an ISO 4217 currency code; a count has no unit: leave the brackets out, or write [1]`},
+		{"$/FTE", 2, `unknown unit "FTE": a count of people has no unit: leave the brackets out or write [1] (person-hours are [h], a cost per person [$])`},
+		{"person*h", 0, `unknown unit "person": a count of people has no unit: leave the brackets out or write [1] (person-hours are [h], a cost per person [$])`},
+		{"manhours", 0, `unknown unit "manhours": person-hours are hours: write [h] (a count of people has no unit)`},
 		{"°C", 0, `temperature scale "°C" has an offset and cannot scale a value: use K for temperature differences`},
 		{"ton", 0, `ambiguous unit "ton": write t for the tonne (1000 kg); short and long tons are not supported`},
 	} {

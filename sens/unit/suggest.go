@@ -17,9 +17,18 @@ func unknown(name string) string {
 	case "°C", "degC", "℃", "°F", "degF", "℉":
 		return fmt.Sprintf("temperature scale %q has an offset and cannot scale a value: use K for temperature differences", name)
 	}
-	if strings.HasPrefix(name, "MM") && isCurrency(name[2:]) {
-		c := name[2:]
-		return fmt.Sprintf("ambiguous prefix in %q: write M%s for a million or k%s for a thousand", name, c, c)
+	if c, ok := strings.CutSuffix(name, "M"); ok && isCurrencySymbol(c) {
+		return fmt.Sprintf("ambiguous unit %q: M stands for a thousand in some trades and a million in others: write M%s (or %sMM) for a million, k%s for a thousand", name, c, c, c)
+	}
+	if msg, ok := countWords[strings.ToLower(name)]; ok {
+		return fmt.Sprintf("unknown unit %q: %s", name, msg)
+	}
+	if isCode(name) && !foldedSymbols[strings.ToLower(name)] {
+		msg := fmt.Sprintf("unknown unit %q: not an ISO 4217 currency code", name)
+		if s := suggest(name); len(s) > 0 {
+			msg += fmt.Sprintf(" (did you mean %s?)", orList(s))
+		}
+		return msg + "; a count has no unit: leave the brackets out, or write [1]"
 	}
 	if s := suggest(name); len(s) > 0 {
 		return fmt.Sprintf("unknown unit %q (did you mean %s?)", name, orList(s))
@@ -28,7 +37,8 @@ func unknown(name string) string {
 }
 
 // suggest proposes symbols for a name that is not one, strongest evidence first: the same
-// letters in another case ("KG", "mw", or "eur" for a common currency code), a long name or plural ("hour", "lbs"), else the
+// letters in another case ("KG", "mw"), a long name or plural ("hour", "lbs"), an ISO 4217 code
+// written in lower case ("eur"), else the
 // symbols or long names closest by edit distance (at most 1 for names of 3 to 5 characters,
 // 2 for longer).
 func suggest(name string) []string {
@@ -37,9 +47,6 @@ func suggest(name string) []string {
 		if strings.EqualFold(e.sym, name) {
 			out = append(out, e.sym)
 		}
-	}
-	if up := strings.ToUpper(name); commonCodes[up] && up != name {
-		out = append(out, up)
 	}
 	if len(out) > 0 {
 		return out
@@ -54,6 +61,9 @@ func suggest(name string) []string {
 		if _, ok := bySymbol[sym]; ok {
 			return []string{sym}
 		}
+	}
+	if up := strings.ToUpper(name); isCurrency(up) && up != name {
+		return []string{up}
 	}
 	n := utf8.RuneCountInString(name)
 	limit := 2
@@ -96,14 +106,32 @@ var longNames = map[string]string{
 	"percent": "%", "pct": "%", "dollar": "$", "euro": "EUR", "piece": "pc", "item": "each",
 }
 
-// commonCodes are widely used ISO 4217 currency codes, offered when one is written in lower
-// case. Any three upper-case letters are accepted as a currency; this list only feeds
-// suggestions.
-var commonCodes = map[string]bool{
-	"USD": true, "EUR": true, "GBP": true, "JPY": true, "CHF": true, "CNY": true, "CAD": true,
-	"AUD": true, "NZD": true, "SEK": true, "NOK": true, "DKK": true, "PLN": true, "CZK": true,
-	"HUF": true, "INR": true, "BRL": true, "MXN": true, "ZAR": true, "KRW": true, "SGD": true,
-	"HKD": true,
+// countWords are words for counts of people or things, which have no unit, with what to write
+// instead. Person-hours are hours: a count of people times a time is a time.
+var countWords = func() map[string]string {
+	people := "a count of people has no unit: leave the brackets out or write [1] (person-hours are [h], a cost per person [$])"
+	hours := "person-hours are hours: write [h] (a count of people has no unit)"
+	m := map[string]string{}
+	for _, w := range []string{"fte", "ftes", "person", "persons", "people", "head", "heads", "headcount", "crew", "worker", "workers", "staff", "man", "men", "pax"} {
+		m[w] = people
+	}
+	for _, w := range []string{"manhour", "manhours", "personhour", "personhours", "mh", "mhr", "mhrs", "ph", "phr"} {
+		m[w] = hours
+	}
+	return m
+}()
+
+// isCode reports whether name looks like a currency code: three upper-case ASCII letters.
+func isCode(name string) bool {
+	if len(name) != 3 {
+		return false
+	}
+	for i := 0; i < 3; i++ {
+		if name[i] < 'A' || name[i] > 'Z' {
+			return false
+		}
+	}
+	return true
 }
 
 // orList writes "a", "a or b", "a, b or c".

@@ -23,13 +23,13 @@ type Unit struct {
 // One is the dimensionless unit with factor 1, written "1".
 func One() Unit { return Unit{Factor: 1, text: "1"} }
 
-// Currency is one unit of a currency: "$" (the model's default currency) or a three-letter
-// upper-case code such as "EUR". Each currency is a base dimension of its own; nothing here
-// converts one currency into another. Currency panics on any other code; use Parse for text
-// that comes from a user.
+// Currency is one unit of a currency: "$" (the model's default currency) or an ISO 4217 code
+// such as "EUR". Each currency is a base dimension of its own; nothing here converts one
+// currency into another (see Unit.Exchange). Currency panics on any other code; use Parse for
+// text that comes from a user.
 func Currency(code string) Unit {
 	if !isCurrency(code) {
-		panic(fmt.Sprintf("unit.Currency: %q is not \"$\" or a three-letter upper-case code", code))
+		panic(fmt.Sprintf("unit.Currency: %q is not \"$\" or an ISO 4217 code", code))
 	}
 	return Unit{Factor: 1, Dim: currencyDim(code), text: code}
 }
