@@ -19,7 +19,7 @@ func runBreakeven(x *call) error {
 		return err
 	}
 	s := &sens.BreakevenSettings{Settings: x.settings()}
-	if s.Target, err = sens.Constant(x.f, x.c.Target, pr.Unit, "the target"); err != nil {
+	if s.Target, err = pr.Constant(x.f, x.c.Target, pr.Unit, "the target"); err != nil {
 		return err
 	}
 	a := x.c.Axes[0]
@@ -29,7 +29,7 @@ func runBreakeven(x *call) error {
 	}
 	s.Input = in.Name
 	if a.Low != nil {
-		if s.Low, s.High, err = x.axisRange(a, in); err != nil {
+		if s.Low, s.High, err = x.axisRange(pr, a, in); err != nil {
 			return err
 		}
 		s.Bounded = true

@@ -60,8 +60,9 @@ func (c *Command) Usage() string {
 // registered.
 var commands = table(
 	driversCommand, tornadoCommand, spiderCommand, sweepCommand, breakevenCommand,
-	scenarioCommand, compareCommand, simulateCommand, sobolCommand, morrisCommand,
-	screenCommand, spearmanCommand, printCommand, resetCommand, chartsCommand,
+	scenarioCommand, compareCommand, exchangeCommand, basisCommand, simulateCommand, sobolCommand,
+	morrisCommand, screenCommand, spearmanCommand, printCommand, resetCommand, chartsCommand,
+	helpCommand,
 )
 
 func table(cs ...*Command) map[string]*Command {
@@ -183,14 +184,14 @@ func (x *call) whole(key string) (int, bool, error) {
 	return int(v), true, nil
 }
 
-// quantity reads the option key, a number in unit u, or nil when it is not
-// given.
-func (x *call) quantity(key, u string) (*float64, error) {
+// quantity reads the option key, a number in the unit of the problem's
+// output, or nil when it is not given.
+func (x *call) quantity(pr *sens.Problem, key string) (*float64, error) {
 	o := x.c.Option(key)
 	if o == nil {
 		return nil, nil
 	}
-	v, err := sens.Constant(x.f, o.Value, u, "the "+key)
+	v, err := pr.Constant(x.f, o.Value, pr.Unit, "the "+key)
 	if err != nil {
 		return nil, err
 	}
@@ -242,11 +243,11 @@ func (x *call) input(pr *sens.Problem, a *syntax.Axis) (*sens.Input, error) {
 
 // axisRange reads the range LOW..HIGH written after an axis's input, in the
 // input's unit.
-func (x *call) axisRange(a *syntax.Axis, in *sens.Input) (lo, hi float64, err error) {
-	if lo, err = sens.Constant(x.f, a.Low, in.Unit, "the low end of the range of "+in.Name); err != nil {
+func (x *call) axisRange(pr *sens.Problem, a *syntax.Axis, in *sens.Input) (lo, hi float64, err error) {
+	if lo, err = pr.Constant(x.f, a.Low, in.Unit, "the low end of the range of "+in.Name); err != nil {
 		return 0, 0, err
 	}
-	if hi, err = sens.Constant(x.f, a.High, in.Unit, "the high end of the range of "+in.Name); err != nil {
+	if hi, err = pr.Constant(x.f, a.High, in.Unit, "the high end of the range of "+in.Name); err != nil {
 		return 0, 0, err
 	}
 	low, high := syntax.String(a.Low), syntax.String(a.High)

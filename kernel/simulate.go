@@ -25,7 +25,7 @@ func runSimulate(x *call) error {
 	if err != nil {
 		return err
 	}
-	above, err := x.quantity("above", pr.Unit)
+	above, err := x.quantity(pr, "above")
 	if err != nil {
 		return err
 	}

@@ -42,7 +42,7 @@ func runSweep(x *call) error {
 	if err != nil {
 		return err
 	}
-	target, err := x.quantity("target", pr.Unit)
+	target, err := x.quantity(pr, "target")
 	if err != nil {
 		return err
 	}
@@ -52,7 +52,7 @@ func runSweep(x *call) error {
 		if err != nil {
 			return err
 		}
-		lo, hi, err := x.axisRange(a, in)
+		lo, hi, err := x.axisRange(pr, a, in)
 		if err != nil {
 			return err
 		}

@@ -462,12 +462,12 @@ func (d *Distribution) Text(width int) string {
 	barW := max(8, width-rangeW-2*pctW-noteW-4)
 
 	var b strings.Builder
-	b.WriteString(truncate(d.heading(), width) + "\n")
+	b.WriteString(Wrap(d.heading(), width) + "\n")
 	sum := 0.0
 	for _, x := range xs {
 		sum += x
 	}
-	b.WriteString(truncate(fmt.Sprintf("%s, %s samples, mean %s", axisTitle(orDefault(d.Output, "output"), u),
+	b.WriteString(Wrap(fmt.Sprintf("%s, %s samples, mean %s", axisTitle(orDefault(d.Output, "output"), u),
 		unit.Format(float64(len(xs)), ""), unit.Format(sum/float64(len(xs)), u)), width) + "\n")
 	b.WriteString(padRight("bin", rangeW) + " " + strings.Repeat(" ", barW) + " " + padLeft("share", pctW) + " " + padLeft("cum.", pctW) + " " + strings.Repeat(" ", noteW) + "\n")
 	cum := 0.0
@@ -482,7 +482,7 @@ func (d *Distribution) Text(width int) string {
 		for _, m := range d.Markers {
 			parts = append(parts, orDefault(m.Label, "marker")+" "+unit.Format(m.Value, u))
 		}
-		b.WriteString(truncate(strings.Join(parts, " · "), width) + "\n")
+		b.WriteString(Wrap(strings.Join(parts, " · "), width) + "\n")
 	}
 	return b.String()
 }

@@ -437,8 +437,8 @@ func (h *HeatMap) Text(width int) string {
 	}
 
 	var b strings.Builder
-	b.WriteString(truncate(h.heading(), width) + "\n")
-	b.WriteString(truncate(fmt.Sprintf("%s; across: %s, up: %s", axisTitle(orDefault(h.Output, "output"), u),
+	b.WriteString(Wrap(h.heading(), width) + "\n")
+	b.WriteString(Wrap(fmt.Sprintf("%s; across: %s, up: %s", axisTitle(orDefault(h.Output, "output"), u),
 		axisTitle(orDefault(h.XName, "x"), h.XUnit), axisTitle(orDefault(h.YName, "y"), h.YUnit)), width) + "\n")
 	for jj := rows - 1; jj >= 0; jj-- {
 		rj := rowIdx[jj]
@@ -495,9 +495,9 @@ func (h *HeatMap) Text(width int) string {
 					}
 				}
 			}
-			b.WriteString(truncate(fmt.Sprintf("target %s: reached at %d of %d grid points (%s at or above)", unit.Format(t, u), above, n, unit.Format(100*float64(above)/float64(n), "%")), width) + "\n")
+			b.WriteString(Wrap(fmt.Sprintf("target %s: reached at %d of %d grid points (%s at or above)", unit.Format(t, u), above, n, unit.Format(100*float64(above)/float64(n), "%")), width) + "\n")
 		} else {
-			b.WriteString(truncate(fmt.Sprintf("target %s: not reached on this grid (%s to %s)", unit.Format(t, u), unit.Format(lo, u), unit.Format(hi, u)), width) + "\n")
+			b.WriteString(Wrap(fmt.Sprintf("target %s: not reached on this grid (%s to %s)", unit.Format(t, u), unit.Format(lo, u), unit.Format(hi, u)), width) + "\n")
 		}
 	}
 	return b.String()

@@ -274,7 +274,7 @@ func (ix *Indices) Text(width int) string {
 	valW = colW - barW - 1
 
 	var b strings.Builder
-	b.WriteString(truncate(ix.heading(), width) + "\n")
+	b.WriteString(Wrap(ix.heading(), width) + "\n")
 	head := padRight("input", nameW)
 	for s, name := range ix.Series {
 		head += " " + padRight(orDefault(name, fmt.Sprintf("series %d", s+1)), colW)

@@ -241,12 +241,12 @@ func (s *Scatter) Text(width int) string {
 		top = max(top, counts[r][c])
 	}
 	var b strings.Builder
-	b.WriteString(truncate(s.heading(), width) + "\n")
+	b.WriteString(Wrap(s.heading(), width) + "\n")
 	sub := unit.Format(float64(len(s.X)), "") + " samples"
 	if r := correlation(s.X, s.Y); !math.IsNaN(r) {
 		sub += fmt.Sprintf(", Pearson correlation %.2f", r)
 	}
-	b.WriteString(truncate(sub+"; up: "+axisTitle(orDefault(s.YName, "output"), s.YUnit)+", across: "+axisTitle(orDefault(s.XName, "input"), s.XUnit), width) + "\n")
+	b.WriteString(Wrap(sub+"; up: "+axisTitle(orDefault(s.YName, "output"), s.YUnit)+", across: "+axisTitle(orDefault(s.XName, "input"), s.XUnit), width) + "\n")
 	for r := rows - 1; r >= 0; r-- {
 		label := ""
 		switch r {

@@ -341,8 +341,8 @@ func (s *Spider) Text(width int) string {
 	sparkW := max(8, width-nameW-3*valW-4)
 
 	var b strings.Builder
-	b.WriteString(truncate(s.heading(), width) + "\n")
-	b.WriteString(truncate(fmt.Sprintf("%s, baseline %s; each input alone changed by a percentage of its baseline",
+	b.WriteString(Wrap(s.heading(), width) + "\n")
+	b.WriteString(Wrap(fmt.Sprintf("%s, baseline %s; each input alone changed by a percentage of its baseline",
 		axisTitle(orDefault(s.Output, "output"), u), unit.Format(s.Baseline, u)), width) + "\n")
 	b.WriteString(padRight("input", nameW) + " " + padLeft(loHead, valW) + " " + padLeft(hiHead, valW) + " " + padLeft("max-min", valW) + " " + padRight("shape, common scale", sparkW) + "\n")
 	for i, l := range s.Lines {

@@ -395,14 +395,14 @@ func (s *Sweep) Text(width int) string {
 	barW := max(8, width-xW-yW-noteW-3)
 
 	var b strings.Builder
-	b.WriteString(truncate(s.heading(), width) + "\n")
+	b.WriteString(Wrap(s.heading(), width) + "\n")
 	curve := sparkline(s.Y, lo, hi, width-8)
 	b.WriteString("curve  " + curve + "\n")
 	if s.Target != nil {
 		if len(s.Crossings()) == 0 {
-			b.WriteString(truncate(fmt.Sprintf("target %s not reached: %s runs from %s to %s", unit.Format(*s.Target, u), out, unit.Format(lo, u), unit.Format(hi, u)), width) + "\n")
+			b.WriteString(Wrap(fmt.Sprintf("target %s not reached: %s runs from %s to %s", unit.Format(*s.Target, u), out, unit.Format(lo, u), unit.Format(hi, u)), width) + "\n")
 		} else {
-			b.WriteString(truncate(fmt.Sprintf("target %s reached at the rows marked ◀ target", unit.Format(*s.Target, u)), width) + "\n")
+			b.WriteString(Wrap(fmt.Sprintf("target %s reached at the rows marked ◀ target", unit.Format(*s.Target, u)), width) + "\n")
 		}
 	}
 	b.WriteString(padRight(axisTitle(in, inUnit), xW) + " " + padLeft(axisTitle(out, u), yW) + " " + strings.Repeat(" ", barW) + " " + strings.Repeat(" ", noteW) + "\n")

@@ -179,3 +179,32 @@ func scaleLabels(n int, labels []scaleLabel) []rune {
 	}
 	return row
 }
+
+// Wrap breaks s into lines of at most width columns at spaces, so that a long
+// explanation is never cut mid-word; a word longer than width stands on a
+// line of its own. Lines after the first are indented by two spaces. The
+// lines are joined by newlines, without a final one.
+func Wrap(s string, width int) string {
+	width = textWidth(width)
+	if runeLen(s) <= width {
+		return s
+	}
+	var b strings.Builder
+	line, indent := 0, ""
+	for i, w := range strings.Fields(s) {
+		n := runeLen(w)
+		switch {
+		case i == 0:
+		case line+1+n > width:
+			indent = "  "
+			b.WriteString("\n" + indent)
+			line = len(indent)
+		default:
+			b.WriteByte(' ')
+			line++
+		}
+		b.WriteString(w)
+		line += n
+	}
+	return b.String()
+}

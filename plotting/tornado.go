@@ -592,8 +592,8 @@ func (t *Tornado) Text(width int) string {
 		}
 		sb.WriteString(s + "\n")
 	}
-	sb.WriteString(truncate(t.heading(), width) + "\n")
-	sb.WriteString(truncate(fmt.Sprintf("%s, baseline %s; one input at a time, its low and high values at the bar ends",
+	sb.WriteString(Wrap(t.heading(), width) + "\n")
+	sb.WriteString(Wrap(fmt.Sprintf("%s, baseline %s; one input at a time, its low and high values at the bar ends",
 		axisTitle(orDefault(t.Output, "output"), u), unit.Format(t.Baseline, u)), width) + "\n")
 
 	// Scale: the range ends under the bar area, the baseline above its rule.

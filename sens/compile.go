@@ -21,8 +21,10 @@ type Program struct {
 	// Correlations are the declared rank correlations between inputs.
 	Correlations []Correlation
 	Warnings     []*syntax.Error
+	Rates        []*ExchangeRate // the exchange rates the model states
 
 	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
+	rates *unit.Rates    // the same rates for the unit package; nil when there are none
 	tape  *tape.Tape
 	pos   []posEntry // tape position table: SetPos value -> source
 
@@ -197,8 +199,9 @@ type compiler struct {
 	vals    map[string]val
 	stack   []string
 	curFile *syntax.File
-	cur     string // formula being compiled
-	what    string // the constant being evaluated, for messages
+	cur     string      // formula being compiled
+	rates   *unit.Rates // exchange rates every unit is expressed under
+	what    string      // the constant being evaluated, for messages
 
 	// numberUnit gives a number the unit of its line's last bracket, while a
 	// formula is read the second way (see formula).
@@ -212,6 +215,7 @@ func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
 		prog: &Program{index: map[string]int{}},
 	}
 	c.b = newVBuilder(c)
+	c.exchangeRates()
 	return c.run()
 }
 
@@ -345,6 +349,8 @@ func (c *compiler) compileInput(d *Decl) {
 		case !ok:
 		case in.Value < lo || in.Value > hi:
 			c.errorf(f, s.Dist.Pos(), "the value %s of %s lies outside its distribution's support [%s, %s]", unit.Format(in.Value, in.Unit), d.Name, unit.Format(lo, in.Unit), unit.Format(hi, in.Unit))
+		case in.Source == RangeDistribution && (in.Value < in.Low || in.Value > in.High):
+			c.errorf(f, s.Dist.Pos(), "range %s..%s (the 10th to 90th percentiles of its distribution) does not contain the value %s of %s: check the value and the parameters, or give %s a range of its own", unit.Format(in.Low, in.Unit), unit.Format(in.High, in.Unit), unit.Format(in.Value, in.Unit), d.Name, d.Name)
 		case p < 0.01 || p > 0.99:
 			// Legal, but most often a slip: a baseline far out in the tail.
 			c.warnf(f, s.Dist.Pos(), "the value %s of %s lies in the far tail of its distribution (percentile %s): check the value or the parameters", unit.Format(in.Value, in.Unit), d.Name, unit.Format(100*p, ""))
@@ -443,7 +449,7 @@ func (c *compiler) parseUnit(f *syntax.File, ul *syntax.UnitLit) (unit.Unit, boo
 		c.errorf(f, pos, "%s", msg)
 		return unit.One(), false
 	}
-	return u, true
+	return u.In(c.rates), true
 }
 
 // formula compiles the formula name (and, first, everything it uses). ref is the
@@ -678,8 +684,8 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 			if verb == "" {
 				verb = "compare"
 			}
-			c.errorf(f, x.OpPos, "cannot %s %s and %s: units %s and %s do not match (%s vs %s)",
-				verb, syntax.String(x.X), syntax.String(x.Y), orOne(unitText(c.shown(x.X, a))), orOne(unitText(c.shown(x.Y, b))), dimName(a.dim), dimName(b.dim))
+			c.errorf(f, x.OpPos, "cannot %s %s and %s: units %s and %s do not match (%s vs %s)%s",
+				verb, syntax.String(x.X), syntax.String(x.Y), orOne(unitText(c.shown(x.X, a))), orOne(unitText(c.shown(x.Y, b))), dimName(a.dim), dimName(b.dim), rateHint(a.dim, b.dim))
 			return val{bad: true}
 		}
 	}
@@ -911,13 +917,20 @@ func (p *Program) Check() error {
 // number is read in want; a number with a unit is converted to it. Errors
 // name the line and column; what names the value in messages.
 func Constant(f *syntax.File, x syntax.Expr, want, what string) (float64, error) {
+	return constantIn(nil, f, x, want, what)
+}
+
+// constantIn is Constant under the exchange rates r.
+func constantIn(r *unit.Rates, f *syntax.File, x syntax.Expr, want, what string) (float64, error) {
 	c := newScratchCompiler()
+	c.rates = r
 	u := unit.One()
 	if want != "" {
 		var err error
 		if u, err = unit.Parse(want); err != nil {
 			return 0, fmt.Errorf("%s: %v", what, err)
 		}
+		u = u.In(r)
 	}
 	v, ok := c.constant(f, x, u, what)
 	if !ok {

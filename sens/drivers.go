@@ -159,7 +159,7 @@ func simplifyPartial(out string, in *Input) (string, bool) {
 		if err != nil {
 			return "", false
 		}
-		ou = u
+		ou = u.In(in.u.Rates())
 	}
 	// The same choice as a formula's display unit: $ per ($/h) is h.
 	u := combinedUnit(&ou, in.u, false)

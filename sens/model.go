@@ -2,6 +2,7 @@ package sens
 
 import (
 	"errors"
+	"maps"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -18,7 +19,9 @@ type Model struct {
 	order     []string // names in the order first declared
 	scenarios map[string]*Scenario
 	scenOrder []string
-	corrs     []*CorrDecl // rank correlations, in the order declared
+	corrs     []*CorrDecl              // rank correlations, in the order declared
+	rates     map[string]*ExchangeRate // by currency code
+	rateOrder []string
 
 	prog    *Program // cached compilation, nil when stale
 	progErr error
@@ -60,7 +63,7 @@ type Scenario struct {
 
 // NewModel returns an empty model.
 func NewModel() *Model {
-	return &Model{decls: map[string]*Decl{}, scenarios: map[string]*Scenario{}}
+	return &Model{decls: map[string]*Decl{}, scenarios: map[string]*Scenario{}, rates: map[string]*ExchangeRate{}}
 }
 
 // Define adds or replaces the declaration made by s, an *syntax.InputStmt,
@@ -273,6 +276,7 @@ func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 	x := p.Baseline()
 	var errs syntax.ErrorList
 	c := newScratchCompiler()
+	c.rates = p.rates
 	for _, a := range s.Assigns {
 		in, f := p.Lookup(a.Name.Name)
 		if msg := notAnInput(a.Name.Name, in != nil || f != nil, f != nil, p.Names()); msg != "" {
@@ -298,6 +302,8 @@ func (m *Model) Clone() *Model {
 		scenarios: make(map[string]*Scenario, len(m.scenarios)),
 		scenOrder: slices.Clone(m.scenOrder),
 		corrs:     slices.Clone(m.corrs),
+		rates:     maps.Clone(m.rates),
+		rateOrder: slices.Clone(m.rateOrder),
 		prog:      m.prog,
 		progErr:   m.progErr,
 	}
@@ -323,7 +329,7 @@ func LoadModel(name string, src []byte) (*Model, error) {
 	}
 	m := NewModel()
 	var errs syntax.ErrorList
-	var scenarios []*syntax.CommandStmt
+	var scenarios, rates []*syntax.CommandStmt
 	for _, s := range stmts {
 		switch s := s.(type) {
 		case *syntax.InputStmt, *syntax.FormulaStmt, *syntax.PeriodsStmt:
@@ -345,14 +351,22 @@ func LoadModel(name string, src []byte) (*Model, error) {
 			case "spearman":
 				m.DefineCorrelation(f, s)
 				continue
+			case "exchange":
+				rates = append(rates, s)
+				continue
 			}
-			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas, scenarios and rank correlations")
+			errs.Add(f, s.Pos(), s.Verb+" is a command: a model file loaded here holds inputs, formulas, exchange rates, scenarios and rank correlations")
 		default:
 			errs.Add(f, s.Pos(), "an expression is not a declaration: a model file loaded here holds inputs, formulas, scenarios and rank correlations")
 		}
 	}
-	// Scenarios are checked against the whole file: the order of lines does
-	// not matter in a model file.
+	// Rates, then scenarios, are checked against the whole file: the order
+	// of lines does not matter in a model file.
+	for _, c := range rates {
+		if _, err := m.DefineExchange(f, c); err != nil {
+			errs = appendErr(errs, f, c, err)
+		}
+	}
 	for _, c := range scenarios {
 		if _, err := m.DefineScenario(f, c); err != nil {
 			var el syntax.ErrorList

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"math"
 	"runtime"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -97,6 +98,12 @@ func midOf(decl string) string {
 	f := strings.Split(args, ",")
 	if strings.Contains(decl, "triangular") || strings.Contains(decl, "pert") {
 		return strings.TrimSpace(f[1])
+	}
+	if strings.Contains(decl, "uniform") {
+		// The middle: a baseline at an end lies outside its own P10..P90.
+		a, _ := strconv.ParseFloat(strings.TrimSpace(f[0]), 64)
+		b, _ := strconv.ParseFloat(strings.TrimSpace(f[1]), 64)
+		return strconv.FormatFloat((a+b)/2, 'g', -1, 64)
 	}
 	return strings.TrimSpace(f[0])
 }

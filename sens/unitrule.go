@@ -92,7 +92,7 @@ func lastNumber(x syntax.Expr) *syntax.NumberLit {
 // quietUnit parses unit text as the compiler reads it, reporting nothing.
 func (c *compiler) quietUnit(text string) (unit.Unit, bool) {
 	u, err := unit.Parse(text)
-	return u, err == nil
+	return u.In(c.rates), err == nil
 }
 
 // shown returns the unit in which a message shows v, the value of x: the

@@ -16,7 +16,7 @@ import (
 func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 	head := fmt.Sprintf("breakeven: %s = %s over %s (baseline %s gives %s; stated range %s..%s)", b.Output, unit.Format(b.Target, b.Unit), b.Input,
 		unit.Format(b.BaselineInput, b.InputUnit), unit.Format(b.BaselineOutput, b.Unit), unit.Format(b.Low, b.InputUnit), unit.Format(b.High, b.InputUnit))
-	r := &Result{Kind: "breakeven", Data: b, Caution: true, text: head + "\n"}
+	r := &Result{Kind: "breakeven", Data: b, Caution: true, width: o.width(), text: o.wrap(head) + "\n"}
 	if len(b.Crossings) > 0 {
 		var vs, ds, ss []float64
 		for _, c := range b.Crossings {

@@ -33,5 +33,5 @@ func Compare(c *sens.CompareResult, o *Options) *Result {
 		tb.add(s.Name, out.Format(s.Value), out.Signed(s.Delta), p, changes)
 	}
 	head := fmt.Sprintf("%s across scenarios: Δ against the baseline %s", c.Output, unit.Format(c.Baseline, c.Unit))
-	return &Result{Kind: "compare", Data: c, Caution: true, text: head + "\n" + tb.text(), html: tb.html(head)}
+	return &Result{Kind: "compare", Data: c, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 }

@@ -23,7 +23,7 @@ func Drivers(d *sens.DriversResult, o *Options) *Result {
 	}
 	head := fmt.Sprintf("%s = %s at the baseline; inputs ranked by |elasticity| (%% change of %s per 1%% change of the input)",
 		d.Output, unit.Format(d.Value, d.Unit), d.Output)
-	r := &Result{Kind: "drivers", Data: d, Caution: true, text: head + "\n" + t.text(), html: t.html(head)}
+	r := &Result{Kind: "drivers", Data: d, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
 	if rest := len(d.Inputs) - len(shown); rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %s (all of them are in the JSON; top=N keeps N)",
 			count(rest), el.Format(math.Abs(d.Inputs[len(shown)].Elasticity))))

@@ -87,7 +87,7 @@ func TestSobolRender(t *testing.T) {
 func TestMorrisRender(t *testing.T) {
 	// y = 3x - 2z [$] over x in 0..4, z in 1..2: mu* = |b| × range, 12 and
 	// 2, sigma 0 (Morris 1991, by construction).
-	pr := problem(t, "input x = 1 (0..4)\ninput z = 1.5 (1..2)\ny = (3*x - 2*z) * 1 [$]\n", "y")
+	pr := problem(t, "input x = 1 (0..4)\ninput z = 1.5 (1..2)\ny = (3*x - 2*z) * (1 [$])\n", "y")
 	m, err := sens.Morris(pr, &sens.MorrisSettings{R: 5, Seed: 1})
 	if err != nil {
 		t.Fatal(err)

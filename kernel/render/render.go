@@ -30,7 +30,9 @@ const Caution = "Caution: Results describe the model, not the world: they hold o
 
 // Options say how results are drawn. A nil *Options means the defaults.
 type Options struct {
-	// Width is the width of text charts in columns (60 when 0).
+	// Width is the width of text output in columns (100 when 0): text
+	// charts are drawn to it, and headings and notes wrap at words to it.
+	// Aligned tables are as wide as their cells.
 	Width int
 	// PNG draws the HTML figure as a PNG image rather than an SVG, for
 	// reports and mail readers that show no SVG; Result.PNG returns it.
@@ -42,10 +44,16 @@ type Options struct {
 
 func (o *Options) width() int {
 	if o == nil || o.Width <= 0 {
-		return 60
+		return DefaultWidth
 	}
 	return o.Width
 }
+
+// DefaultWidth is the width of text output when Options say none.
+const DefaultWidth = 100
+
+// wrap breaks an explanation into lines of the text width, at words.
+func (o *Options) wrap(s string) string { return plotting.Wrap(s, o.width()) }
 
 // Display limits: tables and charts show the largest bars or lines and
 // summarise the rest; the JSON object always holds every one.
@@ -65,10 +73,11 @@ type Result struct {
 	// Caution marks results that carry the one-line caution.
 	Caution bool
 
-	text string // text/plain: aligned table, Unicode chart
-	html string // the HTML body: table, notes, figure
-	svg  []byte
-	png  []byte
+	text  string // text/plain: aligned table, Unicode chart
+	width int    // the text width notes wrap at (DefaultWidth when 0)
+	html  string // the HTML body: table, notes, figure
+	svg   []byte
+	png   []byte
 }
 
 // Text returns the result as text for a terminal: a table and, when the
@@ -116,6 +125,13 @@ func message(kind string, data any, text string) *Result {
 		html: `<p class="nudge-value">` + html.EscapeString(text) + `</p>`}
 }
 
+// Preformatted returns a result that is text laid out already, such as the
+// command reference: shown as it is, in a <pre> block in HTML.
+func Preformatted(kind string, data any, text string) *Result {
+	return &Result{Kind: kind, Data: data, text: text,
+		html: `<pre class="nudge-text">` + html.EscapeString(text) + `</pre>`}
+}
+
 // attach adds a chart to r: its Unicode form to the text, and to the HTML
 // after the table either the same Unicode chart (charts text) or the chart
 // drawn as an image, SVG or with Options.PNG a PNG. The image is stored once,
@@ -143,6 +159,10 @@ func (r *Result) attach(ch plotting.Chart, o *Options) {
 
 // note adds a line of text under the table, in the text and the HTML.
 func (r *Result) note(line string) {
-	r.text += line + "\n"
+	w := r.width
+	if w <= 0 {
+		w = DefaultWidth
+	}
+	r.text += plotting.Wrap(line, w) + "\n"
 	r.html += `<p class="nudge-note">` + html.EscapeString(line) + `</p>`
 }

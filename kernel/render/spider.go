@@ -30,7 +30,7 @@ func Spider(s *sens.SpiderResult, o *Options) *Result {
 	}
 	head := fmt.Sprintf("spider of %s: baseline %s; each input from %s to %s of its value, the others at baseline",
 		s.Output, unit.Format(s.Baseline, s.Unit), lo, hi)
-	r := &Result{Kind: "spider", Data: s, Caution: true, text: head + "\n" + tb.text(), html: tb.html(head)}
+	r := &Result{Kind: "spider", Data: s, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 	n := len(s.Inputs) - len(lines)
 	if s.Rest != nil {
 		n += s.Rest.Count

@@ -33,7 +33,7 @@ func Sweep1D(s *sens.Sweep1DResult, o *Options) *Result {
 	}
 	head := fmt.Sprintf("sweep of %s over %s = %s..%s (%d points; baseline %s gives %s)", s.Output, ax.Name,
 		unit.Format(ax.Low, ax.Unit), unit.Format(ax.High, ax.Unit), ax.N, unit.Format(ax.Baseline, ax.Unit), unit.Format(s.Baseline, s.Unit))
-	r := &Result{Kind: "sweep", Data: s, Caution: true, text: head + "\n" + tb.text(), html: tb.html(head)}
+	r := &Result{Kind: "sweep", Data: s, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 	if len(idx) < len(s.Points) {
 		r.note(fmt.Sprintf("(%d of the %d points shown; the JSON holds all of them)", len(idx), len(s.Points)))
 	}
@@ -126,7 +126,7 @@ func Sweep2D(s *sens.Sweep2DResult, o *Options) *Result {
 	if len(cs) < nx || len(rs) < len(ay.Values) {
 		caption += fmt.Sprintf("; %d × %d of the grid points shown, the JSON holds all of them", len(cs), len(rs))
 	}
-	r := &Result{Kind: "sweep", Data: s, Caution: true, text: head + "\n", html: tb.html(caption)}
+	r := &Result{Kind: "sweep", Data: s, Caution: true, width: o.width(), text: o.wrap(head) + "\n", html: tb.html(caption)}
 	for _, l := range lines {
 		r.note(l)
 	}

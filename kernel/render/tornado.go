@@ -36,7 +36,7 @@ func Tornado(t *sens.TornadoResult, o *Options) *Result {
 	}
 	head := fmt.Sprintf("tornado of %s: baseline %s; each input from the low to the high end of its range, the others at baseline",
 		t.Output, unit.Format(t.Baseline, t.Unit))
-	r := &Result{Kind: "tornado", Data: t, Caution: true, text: head + "\n" + tb.text(), html: tb.html(head)}
+	r := &Result{Kind: "tornado", Data: t, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 	if rest != nil {
 		r.note(fmt.Sprintf("… and %s more %s, each with a swing of at most %s", count(rest.Count), plural(rest.Count, "input", "inputs"),
 			unit.Format(rest.LargestSwing, t.Unit)))

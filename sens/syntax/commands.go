@@ -21,11 +21,13 @@ type CommandForm struct {
 var commandForms = []CommandForm{
 	{"drivers", "drivers OUT", (*parser).parseDrivers},
 	{"tornado", "tornado OUT", (*parser).parseTornado},
-	{"spider", "spider OUT [(±P%)]", (*parser).parseSpider},
+	{"spider", "spider OUT [(±P%) | over ranges]", (*parser).parseSpider},
 	{"sweep", "sweep OUT over X a..b [and Y c..d]", (*parser).parseSweep},
 	{"breakeven", "breakeven OUT = T over X [a..b]", (*parser).parseBreakeven},
 	{"scenario", "scenario NAME: X = v, Y = w", (*parser).parseScenario},
 	{"compare", "compare OUT across base, NAME, ...", (*parser).parseCompare},
+	{"exchange", "exchange CODE = RATE [CURRENCY]", (*parser).parseExchange},
+	{"basis", "basis [OUT]", (*parser).parseBasis},
 	{"simulate", "simulate OUT", (*parser).parseGlobal},
 	{"sobol", "sobol OUT", (*parser).parseGlobal},
 	{"morris", "morris OUT", (*parser).parseGlobal},
@@ -34,6 +36,7 @@ var commandForms = []CommandForm{
 	{"print", `print "text"`, (*parser).parsePrint},
 	{"reset", "reset", (*parser).parseReset},
 	{"charts", "charts svg | png | text", (*parser).parseCharts},
+	{"help", "help [COMMAND]", (*parser).parseHelp},
 }
 
 // Verbs are the words that start a command when the next token is not '=',
@@ -63,7 +66,7 @@ func IsVerb(name string) bool { return Command(name) != nil }
 // parseCommand parses a command and its options:
 //
 //	command = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | global | spearman | print | reset | charts ) options .
+//	          | exchange | basis | global | spearman | print | reset | charts | help ) options .
 //	options = { name "=" arith } .
 func (p *parser) parseCommand() *CommandStmt {
 	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
@@ -137,21 +140,30 @@ func (p *parser) parseSpearman(c *CommandStmt) {
 	c.Target = p.parseArith()
 }
 
-// parseSpider parses the output against a percentage change of each input,
-// over a range symmetric about 0% (Percent is nil when none is written):
+// parseSpider parses the output against a change of each input: a
+// percentage over a range symmetric about 0% (Percent is nil when none is
+// written), or each input over its own range (Name is "ranges"):
 //
-//	spider = "spider" name [ range ] .
+//	spider = "spider" name [ range | "over" "ranges" ] .
 func (p *parser) parseSpider(c *CommandStmt) {
 	c.Output = p.parseRef()
+	if p.tok == IDENT && p.lit == "over" {
+		p.next()
+		if p.tok != IDENT || p.lit != "ranges" {
+			p.errorExpected("'ranges' (write: spider " + exprString(c.Output) + " over ranges)")
+		}
+		c.Name = p.parseIdent()
+		return
+	}
 	if p.tok != LPAREN {
 		return
 	}
 	r := p.parseRange()
 	if !r.Low.Percent {
-		p.error(r.Lparen, "spider takes a percentage range such as (±30%)")
+		p.error(r.Lparen, "spider takes a percentage range such as (±30%), or over ranges for each input's own range")
 	}
 	if r.Low.Value >= 0 || r.High.Value <= 0 || r.Low.Value != -r.High.Value {
-		p.error(r.Lparen, "spider takes a range symmetric about 0%, such as (±30%), found ("+r.Low.Lit+".."+r.High.Lit+")")
+		p.error(r.Lparen, "spider takes a range symmetric about 0%, such as (±30%), found ("+r.Low.Lit+".."+r.High.Lit+"); over ranges takes each input's own range")
 	}
 	c.Percent = r
 }
@@ -222,6 +234,45 @@ func (p *parser) parseCompare(c *CommandStmt) {
 			return
 		}
 		p.next()
+	}
+}
+
+// parseExchange parses an exchange rate, the worth of one unit of a currency
+// in another, which lets the two mix:
+//
+//	exchange = "exchange" name "=" arith .
+func (p *parser) parseExchange(c *CommandStmt) {
+	if p.tok != IDENT {
+		p.errorExpected("a currency code: exchange EUR = 1.08 [$]")
+	}
+	a := &Assign{Name: p.parseIdent()}
+	if p.tok != ASSIGN {
+		p.errorExpected("'=' and a rate: exchange " + a.Name.Name + " = 1.08 [$]")
+	}
+	p.next()
+	if p.atEnd() {
+		p.errorExpected("a rate with its currency: exchange " + a.Name.Name + " = 1.08 [$]")
+	}
+	a.Value = p.parseArith()
+	c.Assigns = append(c.Assigns, a)
+}
+
+// parseBasis parses the basis of estimate, every input (or every input of
+// an output) and where its value and range came from:
+//
+//	basis = "basis" [ arith ] .
+func (p *parser) parseBasis(c *CommandStmt) {
+	if !p.atEnd() && !(p.tok == IDENT && p.peek(1) == ASSIGN) {
+		c.Output = p.parseArith()
+	}
+}
+
+// parseHelp parses a request for the command reference, or for one command:
+//
+//	help = "help" [ name ] .
+func (p *parser) parseHelp(c *CommandStmt) {
+	if p.tok == IDENT && p.peek(1) != ASSIGN {
+		c.Name = p.parseIdent()
 	}
 }
 

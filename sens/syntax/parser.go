@@ -40,21 +40,24 @@ import (
 // One parse function per verb carries its production (commands.go).
 //
 //	command   = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | global | spearman | print | reset | charts ) options .
+//	          | exchange | basis | global | spearman | print | reset | charts | help ) options .
 //	options   = { name "=" arith } .
 //	drivers   = "drivers" arith .
 //	tornado   = "tornado" arith .
-//	spider    = "spider" name [ range ] .
+//	spider    = "spider" name [ range | "over" "ranges" ] .
 //	sweep     = "sweep" arith "over" axis [ "and" axis ] .
 //	axis      = name arith ".." arith .
 //	breakeven = "breakeven" arith "=" arith "over" name [ arith ".." arith ] .
 //	scenario  = "scenario" name ":" name "=" arith { "," name "=" arith } .
 //	compare   = "compare" arith "across" name { "," name } .
+//	exchange  = "exchange" name "=" arith .
+//	basis     = "basis" [ arith ] .
 //	global    = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
 //	spearman  = "spearman" ref "," ref "=" arith .
 //	print     = "print" STRING .
 //	reset     = "reset" .
 //	charts    = "charts" name .
+//	help      = "help" [ name ] .
 //
 // A name may hold dots between letters (parts.qty, a column of a table). A UNIT
 // right after a name, with no space between, is an element's key, not a unit:

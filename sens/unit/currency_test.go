@@ -2,8 +2,10 @@ package unit
 
 import (
 	"encoding/json"
+	"math"
 	"os"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -83,5 +85,51 @@ func TestISO4217(t *testing.T) {
 	}
 	if len(want) < 150 {
 		t.Errorf("only %d codes in the reference list", len(want))
+	}
+}
+
+// TestRates: a stated rate lets currencies mix, keeps the text as written, chains, and
+// refuses a cycle. The values are worked by hand: 1 EUR = 1.08 $, 1 GBP = 1.17 EUR, so
+// 1 GBP = 1.2636 $ and 1 EUR/h = 1.08/3600 $/s.
+func TestRates(t *testing.T) {
+	r := NewRates()
+	if err := r.Set("EUR", 1.08, "$"); err != nil {
+		t.Fatal(err)
+	}
+	if err := r.Set("£", 1.17, "EUR"); err != nil {
+		t.Fatal(err)
+	}
+	if to, f := r.Resolve("GBP"); to != "$" || math.Abs(f-1.2636) > 1e-12 {
+		t.Errorf("GBP resolves to %v %s, want 1.2636 $", f, to)
+	}
+	eurh := MustParse("EUR/h").In(r)
+	if eurh.String() != "EUR/h" || eurh.Dim != MustParse("$/h").Dim || math.Abs(eurh.Factor-1.08/3600) > 1e-15 {
+		t.Errorf("EUR/h under the rates: %q %v %s", eurh, eurh.Factor, eurh.Dim)
+	}
+	// A product keeps the rates: EUR/h times h is EUR, still worth 1.08 $.
+	eur := eurh.Mul(MustParse("h"))
+	if eur.String() != "EUR" || eur.Dim != Currency("$").Dim || math.Abs(eur.Factor-1.08) > 1e-12 {
+		t.Errorf("EUR/h × h = %q %v %s", eur, eur.Factor, eur.Dim)
+	}
+	if v, err := Convert(100, MustParse("£").In(r), MustParse("k$").In(r)); err != nil || math.Abs(v-0.12636) > 1e-12 {
+		t.Errorf("100 £ in k$ = %v, %v", v, err)
+	}
+	if err := r.Set("$", 0.9, "GBP"); err == nil || !strings.Contains(err.Error(), "cycle: $ -> GBP -> EUR -> $") {
+		t.Errorf("cycle: %v", err)
+	}
+	if _, f := r.Resolve("$"); f != 1 {
+		t.Error("a refused rate was kept")
+	}
+	for _, bad := range []struct {
+		code, in string
+		per      float64
+	}{{"FTE", "$", 1}, {"EUR", "EUR", 1}, {"CHF", "$", 0}, {"CHF", "$", math.Inf(1)}} {
+		if err := r.Set(bad.code, bad.per, bad.in); err == nil {
+			t.Errorf("Set(%s, %v, %s) accepted", bad.code, bad.per, bad.in)
+		}
+	}
+	// Without a rate nothing changes.
+	if u := MustParse("CHF").In(r); u.Dim != Currency("CHF").Dim || u.Factor != 1 {
+		t.Errorf("CHF changed: %v", u)
 	}
 }

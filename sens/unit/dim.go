@@ -220,6 +220,10 @@ var quantityNames = map[string]string{
 	"kg*m^2/s^3": "power",
 }
 
+// Currency reports the currency code when d is exactly one currency to the first power ("$",
+// "EUR"): the dimension of an amount of money.
+func (d Dim) Currency() (string, bool) { return d.singleCurrency() }
+
 // singleCurrency reports the code when d is exactly one currency to the first power.
 func (d Dim) singleCurrency() (string, bool) {
 	if d.si != ([numBase]int{}) {

@@ -18,6 +18,7 @@ type Unit struct {
 	Factor float64
 	Dim    Dim
 	text   string // canonical text (see format); "" for a Unit built by hand
+	rates  *Rates // the exchange rates the unit is expressed under (see In), or nil
 }
 
 // One is the dimensionless unit with factor 1, written "1".
@@ -66,7 +67,11 @@ func (u Unit) combine(v Unit, sign int) Unit {
 	if err != nil {
 		return r // out of range: keep factor and dimension, drop the text
 	}
-	return w
+	rates := u.rates
+	if rates == nil {
+		rates = v.rates
+	}
+	return w.In(rates)
 }
 
 // Pow raises u to the rational power num/den: Pow(1, 2) is a square root, Pow(-1, 1) a
@@ -101,7 +106,7 @@ func (u Unit) Pow(num, den int) (Unit, error) {
 	if err != nil {
 		return Unit{}, fmt.Errorf("cannot raise %s to the power %s: %v", u, powText(num, den), err)
 	}
-	return w, nil
+	return w.In(u.rates), nil
 }
 
 // String is the unit's canonical text, which Parse reads back to the same Unit: numerator
@@ -142,8 +147,8 @@ func incompatible(from, to Unit) error {
 	a, ok1 := from.Dim.singleCurrency()
 	b, ok2 := to.Dim.singleCurrency()
 	if ok1 && ok2 {
-		return fmt.Errorf("cannot convert %s to %s: different currencies, and there are no exchange rates (multiply by a rate in [%s/%s])",
-			from, to, b, a)
+		return fmt.Errorf("cannot convert %s to %s: different currencies, and no exchange rate is stated (state one, e.g. exchange %s = 1.1 [%s])",
+			from, to, a, b)
 	}
 	return fmt.Errorf("cannot convert %s to %s: %s vs %s", from, to, from.Dim.Name(), to.Dim.Name())
 }

@@ -145,8 +145,8 @@ func TestConvertIncompatible(t *testing.T) {
 		{"$/h", "$", "cannot convert $/h to $: currency $ per time vs currency $"},
 		{"m^2", "L", "cannot convert m^2 to L: area vs volume"},
 		{"%", "kg", "cannot convert % to kg: dimensionless vs mass"},
-		{"EUR", "$", "cannot convert EUR to $: different currencies, and there are no exchange rates (multiply by a rate in [$/EUR])"},
-		{"USD", "$", "cannot convert USD to $: different currencies, and there are no exchange rates (multiply by a rate in [$/USD])"},
+		{"EUR", "$", "cannot convert EUR to $: different currencies, and no exchange rate is stated (state one, e.g. exchange EUR = 1.1 [$])"},
+		{"USD", "$", "cannot convert USD to $: different currencies, and no exchange rate is stated (state one, e.g. exchange USD = 1.1 [$])"},
 	} {
 		_, err := Convert(1, MustParse(c.from), MustParse(c.to))
 		if err == nil || err.Error() != c.want {
