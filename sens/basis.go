@@ -144,4 +144,3 @@ func (m *Model) uses(x syntax.Expr) map[string]bool {
 	walk(x)
 	return seen
 }
-
