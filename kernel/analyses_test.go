@@ -118,7 +118,9 @@ func TestTornadoCommand(t *testing.T) {
 	if !strings.Contains(s.stderr.String(), "tooling has no range or distribution") {
 		t.Errorf("stderr %q lacks the default-range warning", s.stderr.String())
 	}
-	if !strings.Contains(r.Text(), "* default ±10% range") || !strings.Contains(r.Text(), "tornado of total: baseline $150,800") {
+	// Shares of the sum of squared swings: 50,400² / (50,400² + 36,000² +
+	// 19,223² + 10,000²) = 58.9% (swings as above; rate's from its P10-P90).
+	if !strings.Contains(r.Text(), "default ±10%") || !strings.Contains(r.Text(), "$50,400  58.9%") || !strings.Contains(r.Text(), "tornado of total: baseline $150,800") {
 		t.Errorf("text:\n%s", r.Text())
 	}
 	if len(r.SVG()) == 0 || !strings.Contains(string(r.SVG()), "<svg") || len(r.PNG()) == 0 {

@@ -23,6 +23,9 @@ type TornadoBar struct {
 	OutputAtLow  float64     `json:"output_at_low"`
 	OutputAtHigh float64     `json:"output_at_high"`
 	Swing        float64     `json:"swing"` // |output_at_high - output_at_low|
+	// SwingShare is the bar's share of the sum of squared swings (see
+	// swingShares).
+	SwingShare float64 `json:"swing_share"`
 	// OutMin and OutMax are the least and greatest output found over the
 	// input's range (the ends, the baseline and the points sampled inside),
 	// reached at InputAtMin and InputAtMax.
@@ -48,6 +51,8 @@ type TornadoRest struct {
 	// out_max - out_min among them.
 	LargestSwing  float64 `json:"largest_swing"`
 	LargestSpread float64 `json:"largest_spread"`
+	// SwingShare is their share of the sum of squared swings, together.
+	SwingShare float64 `json:"swing_share"`
 	// OutMin and OutMax are the least and greatest output any of them
 	// reaches over its range.
 	OutMin float64 `json:"out_min"`
@@ -58,7 +63,7 @@ type TornadoRest struct {
 func summarise(bars []TornadoBar) *TornadoRest {
 	rest := &TornadoRest{OutMin: math.Inf(1), OutMax: math.Inf(-1)}
 	for _, b := range bars {
-		rest.add(&TornadoRest{Count: 1, LargestSwing: b.Swing, LargestSpread: b.Spread(), OutMin: b.OutMin, OutMax: b.OutMax})
+		rest.add(&TornadoRest{Count: 1, LargestSwing: b.Swing, LargestSpread: b.Spread(), SwingShare: b.SwingShare, OutMin: b.OutMin, OutMax: b.OutMax})
 	}
 	return rest
 }
@@ -66,6 +71,7 @@ func summarise(bars []TornadoBar) *TornadoRest {
 // add merges the summary o into r.
 func (r *TornadoRest) add(o *TornadoRest) {
 	r.Count += o.Count
+	r.SwingShare += o.SwingShare
 	r.LargestSwing = math.Max(r.LargestSwing, o.LargestSwing)
 	r.LargestSpread = math.Max(r.LargestSpread, o.LargestSpread)
 	r.OutMin, r.OutMax = math.Min(r.OutMin, o.OutMin), math.Max(r.OutMax, o.OutMax)
@@ -329,6 +335,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		}
 		return bars[a].Name < bars[c].Name
 	})
+	swingShares(bars)
 	if s.Top > 0 && s.Top < len(bars) {
 		res.Rest = summarise(bars[s.Top:])
 		bars = bars[:s.Top]

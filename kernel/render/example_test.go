@@ -41,10 +41,11 @@ cost = hours * (rate + 10 [$/h])
 	fmt.Print(r.Text())
 	fmt.Println(strings.HasPrefix(r.HTML(), `<div class="nudge-result`), r.Caution)
 	// Output:
-	// cost = $140 at the baseline; inputs ranked by |elasticity| (% change of cost per 1% change of the input)
+	// cost = $140 at the baseline; inputs ranked by |elasticity| (% change of cost per 1% change of the
+	//   input)
 	// input   value  ∂cost/∂input  elasticity
-	// ─────  ──────  ────────────  ──────────  ───────────
-	// hours     2 h        70 $/h     +1.0000  ██████████▊
-	// rate   60 $/h           2 h     +0.8571  █████████▎
+	// ─────  ──────  ────────────  ──────────  ──────────────────
+	// hours     2 h        70 $/h     +1.0000  █████████████████▊
+	// rate   60 $/h           2 h     +0.8571  ███████████████▎
 	// true true
 }

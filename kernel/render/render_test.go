@@ -193,13 +193,14 @@ func TestTornado(t *testing.T) {
 		t.Fatal(err)
 	}
 	r := Tornado(tr, noCharts)
-	doc := checkDoc(t, r, []string{"input", "low", "high", "y at low", "y at high", "swing", "note"}, 2,
+	doc := checkDoc(t, r, []string{"input", "low", "high", "range from", "y at low", "y at high", "swing", "share", "note"}, 2,
 		"tornado of y: baseline 11")
+	// x swings 0, so c has the whole sum of squared swings.
 	x := cell(t, doc, "x")
-	if strings.Join(x[:6], "|") != "x|0|4|14|14|0" || !strings.HasPrefix(x[6], "† not monotone: 10..14 (min at 2, max at ") {
+	if strings.Join(x[:8], "|") != "x|0|4|stated|14|14|0|0%" || !strings.HasPrefix(x[8], "† not monotone: 10..14 (min at 2, max at ") {
 		t.Errorf("x row %q", x)
 	}
-	if c := cell(t, doc, "c"); strings.Join(c, "|") != "c|9|11|10|12|2|* default ±10% range" {
+	if c := cell(t, doc, "c"); strings.Join(c, "|") != "c|9|11|default ±10%|10|12|2|100.0%|" {
 		t.Errorf("c row %q", c)
 	}
 	if !strings.Contains(r.Text(), "Tornado: y") || r.SVG() != "" {
@@ -230,7 +231,7 @@ func TestTornadoRest(t *testing.T) {
 	if len(tr.Bars) != 40 || !strings.Contains(r.Text(), "… and 10 more inputs, each with a swing of at most 2") {
 		t.Errorf("%d bars in the JSON; text:\n%s", len(tr.Bars), r.Text())
 	}
-	checkDoc(t, r, []string{"input", "low", "high", "y at low", "y at high", "swing", "note"}, 30)
+	checkDoc(t, r, []string{"input", "low", "high", "range from", "y at low", "y at high", "swing", "share", "note"}, 30)
 }
 
 func TestSpider(t *testing.T) {

@@ -2,6 +2,7 @@ package render
 
 import (
 	"fmt"
+	"strconv"
 	"strings"
 
 	"github.com/nudge-dev/nudge/plotting"
@@ -20,27 +21,25 @@ func Tornado(t *sens.TornadoResult, o *Options) *Result {
 		outs = append(outs, b.OutputAtLow, b.OutputAtHigh, b.Swing, b.OutMin, b.OutMax)
 	}
 	out := unit.NewColumn(t.Unit, outs...)
-	tb := &table{head: []string{"input", "low", "high", t.Output + " at low", t.Output + " at high", "swing", "note"},
-		right: []bool{false, true, true, true, true, true, false}}
+	tb := &table{head: []string{"input", "low", "high", "range from", t.Output + " at low", t.Output + " at high", "swing", "share", "note"},
+		right: []bool{false, true, true, false, true, true, true, true, false}}
 	for _, b := range bars {
 		var notes []string
-		if b.DefaultRange {
-			notes = append(notes, fmt.Sprintf("* default ±%d%% range", sens.DefaultRangePct))
-		}
 		if b.NonMonotone {
 			notes = append(notes, fmt.Sprintf("† not monotone: %s..%s (min at %s, max at %s)",
 				out.Format(b.OutMin), out.Format(b.OutMax), unit.Format(b.InputAtMin, b.Unit), unit.Format(b.InputAtMax, b.Unit)))
 		}
-		tb.add(b.Name, unit.Format(b.Low, b.Unit), unit.Format(b.High, b.Unit), out.Format(b.OutputAtLow), out.Format(b.OutputAtHigh),
-			out.Format(b.Swing), strings.Join(notes, "; "))
+		tb.add(b.Name, unit.Format(b.Low, b.Unit), unit.Format(b.High, b.Unit), rangeFrom(b.Source), out.Format(b.OutputAtLow), out.Format(b.OutputAtHigh),
+			out.Format(b.Swing), share(b.SwingShare), strings.Join(notes, "; "))
 	}
 	head := fmt.Sprintf("tornado of %s: baseline %s; each input from the low to the high end of its range, the others at baseline",
 		t.Output, unit.Format(t.Baseline, t.Unit))
 	r := &Result{Kind: "tornado", Data: t, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 	if rest != nil {
-		r.note(fmt.Sprintf("… and %s more %s, each with a swing of at most %s", count(rest.Count), plural(rest.Count, "input", "inputs"),
-			unit.Format(rest.LargestSwing, t.Unit)))
+		r.note(fmt.Sprintf("… and %s more %s, each with a swing of at most %s (together %s of the sum of squared swings)", count(rest.Count), plural(rest.Count, "input", "inputs"),
+			unit.Format(rest.LargestSwing, t.Unit), share(rest.SwingShare)))
 	}
+	r.note("share: the swing's share of the sum of squared swings, an approximate share of the variance when ranges span like percentiles and inputs act alone and nearly linearly")
 	ch := &plotting.Tornado{Output: t.Output, Unit: t.Unit, Baseline: t.Baseline}
 	for _, b := range bars {
 		ch.Bars = append(ch.Bars, plotting.Bar{Name: b.Name, Low: b.Low, High: b.High, InputUnit: b.Unit,
@@ -52,4 +51,30 @@ func Tornado(t *sens.TornadoResult, o *Options) *Result {
 	}
 	r.attach(ch, o)
 	return r
+}
+
+// rangeFrom says briefly where a range came from, for a table column.
+func rangeFrom(s sens.RangeSource) string {
+	switch s {
+	case sens.RangeExplicit:
+		return "stated"
+	case sens.RangePercent:
+		return "±% stated"
+	case sens.RangeDistribution:
+		return "P10–P90"
+	case sens.RangeDefault:
+		return fmt.Sprintf("default ±%d%%", sens.DefaultRangePct)
+	}
+	return string(s)
+}
+
+// share writes a fraction 0..1 as a percentage: "41.2%", "<0.1%".
+func share(f float64) string {
+	switch {
+	case f <= 0:
+		return "0%"
+	case f < 0.001:
+		return "<0.1%"
+	}
+	return strconv.FormatFloat(100*f, 'f', 1, 64) + "%"
 }
