@@ -125,7 +125,7 @@ func TestCompleteByContext(t *testing.T) {
 		{"scenario high: ", []string{"hours", "rate"}},                  // inputs to set
 		{"scenario high: rate = 65, h", []string{"hours"}},              //
 		{"tornado cost ", []string{"top="}},                             // after the output: options
-		{"spider cost (±20%) ", []string{"points=", "top="}},            //
+		{"spider cost (±20%) ", []string{"lines=", "points=", "top="}},  //
 		{"sweep cost over rate 50..70 ", []string{"and", "limit=", "n=", "steps=", "target="}},
 		{"sweep cost over rate 50..70 n=5 ", []string{"limit=", "steps=", "target="}}, // not given twice
 		{"drivers cost top=3 ", []string{"group="}},                                   // the option left

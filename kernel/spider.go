@@ -7,17 +7,22 @@ import (
 
 var spiderCommand = &Command{
 	Verb:    "spider",
-	Doc:     "the output against the percentage change of each input",
-	Example: "spider total (±30%)",
-	Options: []Option{{Key: "points", Doc: "the number of percentages from -P% to +P%", Min: 3}, topOption},
-	run:     runSpider,
+	Doc:     "the output against the percentage change of each input, or over each input's own range",
+	Example: "spider total (±30%) lines=5",
+	Options: []Option{
+		{Key: "points", Doc: "the number of points of each line (13 unless given)", Min: 3},
+		{Key: "lines", Doc: "the most lines the chart draws (8 unless given); a note names the rest", Min: 1},
+		topOption,
+	},
+	run: runSpider,
 }
 
-// runSpider runs "spider OUT [(±P%)] [points=N] [top=N]".
+// runSpider runs "spider OUT [(±P%) | over ranges] [points=N] [lines=N] [top=N]".
 func runSpider(x *call) error {
 	points, _, _ := x.whole("points")
+	lines, _, _ := x.whole("lines")
 	top, _, _ := x.whole("top")
-	s := &sens.SpiderSettings{Points: points, Top: top}
+	s := &sens.SpiderSettings{Points: points, Top: top, OwnRanges: x.c.Name != nil}
 	pos := x.c.Output.Pos()
 	if r := x.c.Percent; r != nil {
 		s.RangePct, pos = r.High.Value, r.High.ValuePos
@@ -31,6 +36,8 @@ func runSpider(x *call) error {
 	if err != nil {
 		return x.at(pos, err)
 	}
-	x.show(render.Spider(res, &x.in.Opts))
+	o := x.in.Opts
+	o.Lines = lines
+	x.show(render.Spider(res, &o))
 	return nil
 }

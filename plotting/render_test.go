@@ -214,7 +214,8 @@ func ExampleTornado_Text() {
 	}
 	// Output:
 	// Tornado: unit_cost
-	// unit_cost [$], baseline $100; one input at a time, its low and high val…
+	// unit_cost [$], baseline $100; one input at a time, its low and high
+	//   values at the bar ends
 	//                  88                 100               112
 	//                  ────────────────────┬───────────────────
 	// hours      1.2 h  ███████████████████│███████████████████ 1.8 h    Δ $24

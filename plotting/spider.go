@@ -30,6 +30,12 @@ type Spider struct {
 	Output, Unit string
 	Baseline     float64
 	Lines        []SpiderLine
+	// OwnRanges says each line runs over its input's own range (drawn as
+	// the percentage change from the baseline), not over one percentage
+	// range for all.
+	OwnRanges bool
+	// Notes are drawn under the chart, such as the inputs not drawn.
+	Notes []string
 }
 
 var _ Chart = (*Spider)(nil)
@@ -95,15 +101,20 @@ func (s *Spider) PNG() []byte { return pngBytes(s) }
 func (s *Spider) HTML() string { return htmlString(s) }
 
 func (s *Spider) frame() *frame {
+	s = s.view()
 	f := &frame{
 		title:    s.heading(),
 		subtitle: "Output as each input alone changes by a percentage of its baseline value",
+		notes:    s.Notes,
+	}
+	if s.OwnRanges {
+		f.subtitle = "Output as each input alone moves over its own range, as a percentage change from its baseline"
 	}
 	sl := NewSpiderLines(s.Lines)
 	for i, l := range s.Lines {
 		g := sl.glyph(i)
 		f.legend = append(f.legend, legendEntry{
-			label: truncate(orDefault(l.Name, "(unnamed)"), maxNameRunes),
+			label: truncate(orDefault(l.Name, "(unnamed)"), 2*maxNameRunes),
 			thumb: lineThumb(sl.lineStyle(i), &g),
 		})
 	}
@@ -118,6 +129,7 @@ func (s *Spider) height(w vg.Length) vg.Length {
 
 func (s *Spider) draw(c draw.Canvas) {
 	body := s.frame().draw(c)
+	s = s.view()
 	p := newPlot()
 	grid := plotter.NewGrid()
 	grid.Vertical = lineStyle(colGrid, widthGrid)
@@ -133,6 +145,7 @@ func (s *Spider) draw(c draw.Canvas) {
 }
 
 func (s *Spider) caption() string {
+	s = s.view()
 	u := clean(s.Unit)
 	var b strings.Builder
 	fmt.Fprintf(&b, "Spider chart of %s: one line per input showing the output as that input alone changes by a percentage of its baseline value; all lines pass through the baseline %s at 0%%. ",
@@ -298,6 +311,7 @@ func (s *Spider) Text(width int) string {
 	if err := s.check(); err != nil {
 		return textMessage(s.heading(), err)
 	}
+	s = s.view()
 	width = textWidth(width)
 	u := clean(s.Unit)
 	_, _, ylo, yhi := NewSpiderLines(s.Lines).DataRange()
@@ -342,8 +356,11 @@ func (s *Spider) Text(width int) string {
 
 	var b strings.Builder
 	b.WriteString(Wrap(s.heading(), width) + "\n")
-	b.WriteString(Wrap(fmt.Sprintf("%s, baseline %s; each input alone changed by a percentage of its baseline",
-		axisTitle(orDefault(s.Output, "output"), u), unit.Format(s.Baseline, u)), width) + "\n")
+	how := "each input alone changed by a percentage of its baseline"
+	if s.OwnRanges {
+		how = "each input alone over its own range"
+	}
+	b.WriteString(Wrap(fmt.Sprintf("%s, baseline %s; %s", axisTitle(orDefault(s.Output, "output"), u), unit.Format(s.Baseline, u), how), width) + "\n")
 	b.WriteString(padRight("input", nameW) + " " + padLeft(loHead, valW) + " " + padLeft(hiHead, valW) + " " + padLeft("max-min", valW) + " " + padRight("shape, common scale", sparkW) + "\n")
 	for i, l := range s.Lines {
 		pts := sortedPoints(l)
@@ -360,4 +377,57 @@ func (s *Spider) Text(width int) string {
 		b.WriteString(padRight(r.name, nameW) + " " + padLeft(r.lo, valW) + " " + padLeft(r.hi, valW) + " " + padLeft(r.spread, valW) + " " + padRight(sparkline(ys, ylo, yhi, sparkW), sparkW) + "\n")
 	}
 	return b.String()
+}
+
+// view returns the chart as drawn: lines that coincide (the same points, the
+// outputs equal to 1e-9 of the largest) drawn once, labelled with every name,
+// so that none is hidden under another.
+func (s *Spider) view() *Spider {
+	c := *s
+	c.Lines = GroupSpiderLines(s.Lines)
+	return &c
+}
+
+// GroupSpiderLines merges lines that coincide: the same percentages and
+// outputs equal to within 1e-9 of the largest |output|. A merged line is
+// named by its lines' names joined by " = ", in their order; the others are
+// returned as they are.
+func GroupSpiderLines(lines []SpiderLine) []SpiderLine {
+	scale := 0.0
+	for _, l := range lines {
+		for _, y := range l.Out {
+			scale = math.Max(scale, math.Abs(y))
+		}
+	}
+	tol := 1e-9 * scale
+	same := func(a, b SpiderLine) bool {
+		if len(a.Pct) != len(b.Pct) || len(a.Out) != len(b.Out) {
+			return false
+		}
+		for i := range a.Pct {
+			if a.Pct[i] != b.Pct[i] || math.Abs(a.Out[i]-b.Out[i]) > tol {
+				return false
+			}
+		}
+		return true
+	}
+	out := make([]SpiderLine, 0, len(lines))
+	used := make([]bool, len(lines))
+	for i, l := range lines {
+		if used[i] {
+			continue
+		}
+		names := []string{orDefault(l.Name, "(unnamed)")}
+		for j := i + 1; j < len(lines); j++ {
+			if !used[j] && same(l, lines[j]) {
+				used[j] = true
+				names = append(names, orDefault(lines[j].Name, "(unnamed)"))
+			}
+		}
+		if len(names) > 1 {
+			l.Name = strings.Join(names, " = ")
+		}
+		out = append(out, l)
+	}
+	return out
 }

@@ -25,8 +25,13 @@ type SpiderLine struct {
 	// Spread is the greatest minus the least output on the line.
 	Spread float64 `json:"spread"`
 	// ZeroValue is set when the input's baseline is 0, which no percentage
-	// changes: its line is flat.
+	// changes: its line is flat (over its own range, its percentages are 0).
 	ZeroValue bool `json:"zero_value,omitempty"`
+	// Low, High and Source are the input's own range and where it came
+	// from, set with OwnRanges.
+	Low    float64     `json:"low,omitempty"`
+	High   float64     `json:"high,omitempty"`
+	Source RangeSource `json:"source,omitempty"`
 }
 
 // SpiderResult is the result of the spider analysis.
@@ -35,8 +40,10 @@ type SpiderResult struct {
 	Output   string  `json:"output"`
 	Unit     string  `json:"unit"`
 	Baseline float64 `json:"baseline"`
-	// RangePct is P of the range -P%..+P%.
+	// RangePct is P of the range -P%..+P%; 0 with OwnRanges.
 	RangePct float64 `json:"span_pct"`
+	// OwnRanges is set when each input moved over its own range.
+	OwnRanges bool `json:"own_ranges,omitempty"`
 	// Inputs holds one line per input, by spread descending, ties by name.
 	Inputs []SpiderLine `json:"inputs"`
 	// Rest summarises the lines left out by SpiderSettings.Top.
@@ -65,6 +72,9 @@ type SpiderSettings struct {
 	// Top keeps the Top lines of largest spread and summarises the rest;
 	// 0 keeps all.
 	Top int
+	// OwnRanges moves each input over its own range instead of ±P%
+	// (RangePct is then ignored; see spiderRanges).
+	OwnRanges bool
 }
 
 // DefaultSpiderRangePct and DefaultSpiderPoints are Spider's defaults.
@@ -86,6 +96,9 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 	}
 	if len(p.Inputs) == 0 {
 		return nil, p.errNoInputs()
+	}
+	if s.OwnRanges {
+		return spiderRanges(p, s)
 	}
 	pct, points := s.RangePct, s.Points
 	switch {
@@ -151,15 +164,26 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 		line.ZeroValue = in.Value == 0
 		res.Inputs = append(res.Inputs, line)
 	}
-	sort.SliceStable(res.Inputs, func(a, b int) bool {
-		if sa, sb := sortKey(res.Inputs[a].Spread), sortKey(res.Inputs[b].Spread); sa != sb {
+	sortLines(res.Inputs)
+	keepTop(res, s.Top)
+	return res, nil
+}
+
+// sortLines orders spider lines by spread descending, ties by name.
+func sortLines(ls []SpiderLine) {
+	sort.SliceStable(ls, func(a, b int) bool {
+		if sa, sb := sortKey(ls[a].Spread), sortKey(ls[b].Spread); sa != sb {
 			return sa > sb
 		}
-		return res.Inputs[a].Name < res.Inputs[b].Name
+		return ls[a].Name < ls[b].Name
 	})
-	if s.Top > 0 && s.Top < len(res.Inputs) {
-		res.Rest = &SpiderRest{Count: len(res.Inputs) - s.Top, LargestSpread: res.Inputs[s.Top].Spread}
-		res.Inputs = res.Inputs[:s.Top]
+}
+
+// keepTop keeps the top lines of res (sorted) and summarises the rest; top
+// 0 keeps all.
+func keepTop(res *SpiderResult, top int) {
+	if top > 0 && top < len(res.Inputs) {
+		res.Rest = &SpiderRest{Count: len(res.Inputs) - top, LargestSpread: res.Inputs[top].Spread}
+		res.Inputs = res.Inputs[:top]
 	}
-	return res, nil
 }

@@ -40,6 +40,16 @@ type Options struct {
 	// NoCharts leaves out the SVG, the PNG and the HTML figure: charts are
 	// drawn as Unicode text only, in the HTML as in the text.
 	NoCharts bool
+	// Lines is the most lines a spider chart draws (8 when 0); a note
+	// names the inputs left out.
+	Lines int
+}
+
+func (o *Options) lines() int {
+	if o == nil || o.Lines <= 0 {
+		return maxSpiderLines
+	}
+	return o.Lines
 }
 
 func (o *Options) width() int {
