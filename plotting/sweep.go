@@ -30,7 +30,21 @@ type Sweep struct {
 	BaselineInput, Baseline float64
 	// Target, when not nil, is an output level to reach.
 	Target *float64
+	// Band, when not nil, shades a span of the input, such as its stated
+	// range in a break-even chart.
+	Band *Band
+	// Notes are drawn under the chart.
+	Notes []string
 }
+
+// Band is a span of a chart's x axis, shaded and named in the legend.
+type Band struct {
+	Low, High float64
+	Label     string
+}
+
+// colBand shades a Band: a pale tint of the first series' blue.
+var colBand = rgb(0xDC, 0xE8, 0xF4)
 
 var _ Chart = (*Sweep)(nil)
 
@@ -79,6 +93,11 @@ func (s *Sweep) check() error {
 	}
 	if s.Target != nil {
 		if err := finite(what, "target", *s.Target); err != nil {
+			return err
+		}
+	}
+	if s.Band != nil {
+		if err := finiteSlice(what, "band", []float64{s.Band.Low, s.Band.High}); err != nil {
 			return err
 		}
 	}
@@ -152,6 +171,9 @@ func (s *Sweep) frame() *frame {
 		legendEntry{label: orDefault(s.Output, "output"), thumb: lineThumb(sc.LineStyle, nil)},
 		legendEntry{label: fmt.Sprintf("baseline (%s = %s)", in, unit.Format(s.BaselineInput, inUnit)), thumb: glyphThumb(baselineGlyph())},
 	)
+	if b := s.Band; b != nil {
+		f.legend = append(f.legend, legendEntry{label: fmt.Sprintf("%s %s..%s", orDefault(b.Label, "band"), unit.Format(b.Low, inUnit), unit.Format(b.High, inUnit)), thumb: swatchThumb(colBand)})
+	}
 	if s.Target != nil {
 		t := *s.Target
 		sc.Target = t
@@ -171,6 +193,7 @@ func (s *Sweep) frame() *frame {
 			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached over this range: %s runs from %s to %s.", unit.Format(t, u), orDefault(s.Output, "the output"), unit.Format(lo, u), unit.Format(hi, u)))
 		}
 	}
+	f.notes = append(f.notes, s.Notes...)
 	return f
 }
 
@@ -187,6 +210,9 @@ func (s *Sweep) draw(c draw.Canvas) {
 	grid.Horizontal = lineStyle(colGrid, widthGrid)
 	sc := NewSweepCurve(s.X, s.Y)
 	sc.BaselineInput, sc.Baseline = s.BaselineInput, s.Baseline
+	if s.Band != nil {
+		sc.BandLow, sc.BandHigh = s.Band.Low, s.Band.High
+	}
 	if s.Target != nil {
 		sc.Target = *s.Target
 		sc.CrossingLabel = func(x float64) string { return unit.Format(x, clean(s.InputUnit)) }
@@ -237,6 +263,9 @@ type SweepCurve struct {
 	Target float64
 	// CrossingLabel formats the input value of a crossing; nil writes none.
 	CrossingLabel func(x float64) string
+	// BandLow..BandHigh is a span of the input shaded under the curve; NaN
+	// for none.
+	BandLow, BandHigh float64
 
 	LineStyle  draw.LineStyle
 	LabelStyle text.Style
@@ -255,6 +284,8 @@ func NewSweepCurve(x, y []float64) *SweepCurve {
 		X: x, Y: y,
 		BaselineInput: math.NaN(), Baseline: math.NaN(),
 		Target:     math.NaN(),
+		BandLow:    math.NaN(),
+		BandHigh:   math.NaN(),
 		LineStyle:  lineStyle(colLow, widthLine),
 		LabelStyle: textStyle(sizeLabel, colHighText, false, draw.XCenter, draw.YBottom),
 	}
@@ -287,6 +318,12 @@ func (sc *SweepCurve) DataRange() (xmin, xmax, ymin, ymax float64) {
 // Plot implements plot.Plotter.
 func (sc *SweepCurve) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
+	if !math.IsNaN(sc.BandLow) && !math.IsNaN(sc.BandHigh) {
+		x0, x1 := max(trX(sc.BandLow), c.Min.X), min(trX(sc.BandHigh), c.Max.X)
+		if x1 > x0 {
+			c.FillPolygon(colBand, []vg.Point{{X: x0, Y: c.Min.Y}, {X: x1, Y: c.Min.Y}, {X: x1, Y: c.Max.Y}, {X: x0, Y: c.Max.Y}})
+		}
+	}
 	if !math.IsNaN(sc.Target) && p.Y.Min <= sc.Target && sc.Target <= p.Y.Max {
 		y := trY(sc.Target)
 		c.StrokeLine2(targetLineStyle(), c.Min.X, y, c.Max.X, y)

@@ -24,6 +24,10 @@ type Crossing struct {
 	// Touch is set where the output reaches the target without crossing it
 	// (a tangent, such as the bottom of a valley).
 	Touch bool `json:"touch,omitempty"`
+	// OutsideDomain is set where the input would have to change sign from
+	// its baseline (a negative price for a positive one): a value outside
+	// the input's domain, not only outside its range (see markDomain).
+	OutsideDomain bool `json:"outside_domain,omitempty"`
 }
 
 // Jump is a place where the output passes the target by a jump (a step
@@ -74,6 +78,8 @@ type BreakevenResult struct {
 	Message string `json:"message,omitempty"`
 	// Evaluations counts the evaluations of the search (not those of Curve).
 	Evaluations int `json:"evaluations"`
+	// Method describes the root finder used, for a chart's note.
+	Method string `json:"method"`
 	// SlopeUnit is the unit of each crossing's Slope: the output's unit per
 	// the input's.
 	SlopeUnit string `json:"-"`
@@ -165,7 +171,7 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 	grid := breakevenGrid(in, s)
 	b := min(sort.SearchFloat64s(grid, x0), len(grid)-1) // grid[b] == x0 unless bounded away from it
 
-	res := &BreakevenResult{Kind: "breakeven", Output: p.Output, Unit: p.Unit, Target: target,
+	res := &BreakevenResult{Kind: "breakeven", Method: breakevenMethod(s), Output: p.Output, Unit: p.Unit, Target: target,
 		Input: in.Name, InputUnit: in.Unit, BaselineInput: x0, BaselineOutput: y0,
 		Low: in.Low, High: in.High, Source: in.Source, Crossings: []Crossing{}, SlopeUnit: PartialUnit(p.Unit, in.Unit, in)}
 	bs := &bsearch{p: p, i: i, target: target, ev: newBatcher(p.F, p.Baseline(), set), set: set}
@@ -319,6 +325,7 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 			res.Message += fmt.Sprintf("; it jumps past the target at %s = %s", in.Name, inp(res.Jumps[0].Value))
 		}
 	}
+	markDomain(res)
 	res.Evaluations = bs.ev.done
 	if err := bs.curve(res); err != nil {
 		return nil, err

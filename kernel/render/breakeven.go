@@ -3,6 +3,7 @@ package render
 import (
 	"fmt"
 	"html"
+	"math"
 
 	"github.com/nudge-dev/nudge/plotting"
 	"github.com/nudge-dev/nudge/sens"
@@ -11,8 +12,10 @@ import (
 
 // Breakeven renders a break-even search: every value of the input where the
 // output equals the target, its distance from the baseline, whether it lies in
-// the stated range and the slope there; or why there is none; and the output
-// over the range with the target marked.
+// the stated range (or outside the input's domain, where the input would have
+// to change sign) and the slope there; or why there is none; and a chart
+// titled as a break-even, the output over the range with the target marked
+// and the stated range shaded, whose note names the root finder used.
 func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 	head := fmt.Sprintf("breakeven: %s = %s over %s (baseline %s gives %s; stated range %s..%s)", b.Output, unit.Format(b.Target, b.Unit), b.Input,
 		unit.Format(b.BaselineInput, b.InputUnit), unit.Format(b.BaselineOutput, b.Unit), unit.Format(b.Low, b.InputUnit), unit.Format(b.High, b.InputUnit))
@@ -29,20 +32,18 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 			if c.DistancePct != nil {
 				p = unit.Signed(*c.DistancePct, "%")
 			}
-			where := "no"
-			if c.InRange {
-				where = "yes"
-			}
-			slope := scol.Format(c.Slope)
-			if c.Touch {
-				slope = "touches"
-			}
-			tb.add(vcol.Format(c.Value), dcol.Signed(c.Distance), p, where, slope)
+			tb.add(vcol.Format(c.Value), dcol.Signed(c.Distance), p, whereCrossing(b, c), slopeText(scol, c))
 		}
 		r.text += tb.text()
 		r.html = tb.html(head)
 		if len(b.Crossings) > 1 {
 			r.note(fmt.Sprintf("%d crossings; the nearest to the baseline is %s = %s", len(b.Crossings), b.Input, unit.Format(*b.Value, b.InputUnit)))
+		}
+		for _, c := range b.Crossings {
+			if c.OutsideDomain {
+				r.note(fmt.Sprintf("%s = %s is outside the domain of %s: it would have to change sign from its baseline %s", b.Input,
+					unit.Format(c.Value, b.InputUnit), b.Input, unit.Format(b.BaselineInput, b.InputUnit)))
+			}
 		}
 	} else {
 		r.html = `<p class="nudge-value">` + html.EscapeString(head) + `</p>`
@@ -51,17 +52,24 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		r.note(b.Message)
 	} else {
 		for _, j := range b.Jumps {
-			r.note(fmt.Sprintf("%s jumps past the target at %s = %s (from %s to %s) without equalling it",
-				b.Output, b.Input, unit.Format(j.Value, b.InputUnit), unit.Format(j.Left, b.Unit), unit.Format(j.Right, b.Unit)))
+			r.note(jumpText(b, j))
 		}
 	}
 	if b.DomainNote != "" {
 		r.note("searched " + unit.Format(b.SearchedLow, b.InputUnit) + ".." + unit.Format(b.SearchedHigh, b.InputUnit) + ": " + b.DomainNote)
 	}
+	if b.Method != "" {
+		r.note(b.Method)
+	}
 	if len(b.Curve) > 1 {
 		t := b.Target
 		ch := &plotting.Sweep{Output: b.Output, Unit: b.Unit, Input: b.Input, InputUnit: b.InputUnit,
-			BaselineInput: b.BaselineInput, Baseline: b.BaselineOutput, Target: &t}
+			Title:         fmt.Sprintf("Break-even: %s = %s over %s", b.Output, unit.Format(b.Target, b.Unit), b.Input),
+			BaselineInput: b.BaselineInput, Baseline: b.BaselineOutput, Target: &t,
+			Band: &plotting.Band{Low: b.Low, High: b.High, Label: "stated range of " + b.Input}}
+		if b.Method != "" {
+			ch.Notes = append(ch.Notes, b.Method)
+		}
 		for _, p := range b.Curve {
 			ch.X = append(ch.X, p.X)
 			ch.Y = append(ch.Y, p.Output)
@@ -69,4 +77,53 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		r.attach(ch, o)
 	}
 	return r
+}
+
+// whereCrossing says whether a crossing lies in the stated range, or
+// outside the input's domain.
+func whereCrossing(b *sens.BreakevenResult, c sens.Crossing) string {
+	switch {
+	case c.OutsideDomain && b.BaselineInput > 0:
+		return "no: outside the domain (" + b.Input + " < 0)"
+	case c.OutsideDomain:
+		return "no: outside the domain (" + b.Input + " > 0)"
+	case c.InRange:
+		return "yes"
+	}
+	return "no"
+}
+
+func slopeText(col unit.Column, c sens.Crossing) string {
+	if c.Touch {
+		return "touches"
+	}
+	return col.Format(c.Slope)
+}
+
+// jumpText describes a jump past the target in the units of the output and
+// the input. Where the output runs off by more than a million times the
+// larger of the target and the baseline output on either side, the jump is a
+// pole (a division by a number that passes 0) and is said to be one, rather
+// than quoting numbers such as 2.1e+17 found next to it; a jump location
+// within a billionth of the input's scale of 0 is written as 0.
+func jumpText(b *sens.BreakevenResult, j sens.Jump) string {
+	scale := math.Max(math.Abs(b.Target), math.Abs(b.BaselineOutput))
+	x := j.Value
+	if in := math.Max(math.Abs(b.BaselineInput), b.High-b.Low); math.Abs(x) < 1e-9*in {
+		x = 0
+	}
+	at := fmt.Sprintf("%s = %s", b.Input, unit.Format(x, b.InputUnit))
+	if scale > 0 && (math.Abs(j.Left) > 1e6*scale || math.Abs(j.Right) > 1e6*scale) {
+		return fmt.Sprintf("%s passes the target at %s through a pole, without equalling it: it runs off towards %s on one side and %s on the other",
+			b.Output, at, infinity(j.Left), infinity(j.Right))
+	}
+	return fmt.Sprintf("%s jumps past the target at %s (from %s to %s) without equalling it",
+		b.Output, at, unit.Format(j.Left, b.Unit), unit.Format(j.Right, b.Unit))
+}
+
+func infinity(v float64) string {
+	if v < 0 {
+		return "−∞"
+	}
+	return "+∞"
 }

@@ -337,7 +337,7 @@ func TestBreakeven(t *testing.T) {
 	if got := strings.Join(doc.rows[1], "|"); got != "5 h|+2 h|+66.67%|no|3 h" {
 		t.Errorf("second crossing %q", got)
 	}
-	if !strings.Contains(r.Text(), "Sweep: y over x") {
+	if !strings.Contains(r.Text(), "Break-even: y = 0 h^2 over x") {
 		t.Errorf("no chart of the curve:\n%s", r.Text())
 	}
 
@@ -347,8 +347,8 @@ func TestBreakeven(t *testing.T) {
 		t.Fatal(err)
 	}
 	doc = parseHTML(t, Breakeven(b, noCharts).HTML())
-	if b.Message == "" || len(doc.rows) != 0 || len(doc.notes) != 3 || doc.notes[1] != b.Message {
-		t.Errorf("notes %q, want the head, the message %q and the caution", doc.notes, b.Message)
+	if b.Message == "" || len(doc.rows) != 0 || len(doc.notes) != 4 || doc.notes[1] != b.Message || doc.notes[2] != b.Method {
+		t.Errorf("notes %q, want the head, the message %q, the root finder and the caution", doc.notes, b.Message)
 	}
 }
 

@@ -1,0 +1,48 @@
+package render
+
+import (
+	"strings"
+	"testing"
+
+	"github.com/nudge-dev/nudge/sens"
+)
+
+// TestBreakevenChartAndDomain: the chart is titled as a break-even, shades
+// the stated range and notes the root finder; a crossing at a negative price
+// (cost = 2 kg · price + 10 $ = 5 $ at price = -2.5 $/kg, by hand) is flagged
+// as outside the input's domain.
+func TestBreakevenChartAndDomain(t *testing.T) {
+	p := problem(t, "input price = 3 [$/kg] (2..4)\ninput mass = 2 [kg]\ncost = price * mass + (10 [$])\n", "cost")
+	b, err := sens.Breakeven(p, &sens.BreakevenSettings{Input: "price", Target: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := Breakeven(b, noCharts)
+	doc := checkDoc(t, r, []string{"price", "change", "change %", "in range", "slope"}, 1)
+	if row := doc.rows[0]; row[0] != "-2.5 $/kg" || row[3] != "no: outside the domain (price < 0)" {
+		t.Errorf("row %q", row)
+	}
+	svg := Breakeven(b, nil).SVG()
+	for _, w := range []string{"Break-even: cost = $5 over price", "stated range of price 2 $/kg..4 $/kg", "Root finder"} {
+		if !strings.Contains(svg, w) {
+			t.Errorf("the SVG lacks %q", w)
+		}
+	}
+	if text := Breakeven(b, &Options{NoCharts: true, Width: 300}).Text(); !strings.Contains(text, "outside the domain of price: it would have to change sign from its baseline 3 $/kg") {
+		t.Errorf("text:\n%s", text)
+	}
+}
+
+// TestBreakevenPole: y = 1/q never equals -1 for q > 0 and passes it through
+// the pole at q = 0; the message says so in words instead of quoting the huge
+// values found next to the pole.
+func TestBreakevenPole(t *testing.T) {
+	b, err := sens.Breakeven(problem(t, "input q = 2 (1..3)\ny = 1 / q\n", "y"), &sens.BreakevenSettings{Input: "q", Target: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := Breakeven(b, noCharts).Text()
+	if !strings.Contains(text, "through a pole") || strings.Contains(text, "e+") {
+		t.Errorf("text:\n%s", text)
+	}
+}
