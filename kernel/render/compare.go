@@ -4,12 +4,15 @@ import (
 	"fmt"
 	"strings"
 
+	"github.com/nudge-dev/nudge/plotting"
+
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // Compare renders a comparison of scenarios: the output under each, its
-// change from the baseline, and the inputs each scenario changes.
+// change from the baseline, and the inputs each scenario changes, with a
+// chart of each scenario's bar against the baseline.
 func Compare(c *sens.CompareResult, o *Options) *Result {
 	var vs []float64
 	for _, s := range c.Scenarios {
@@ -33,5 +36,13 @@ func Compare(c *sens.CompareResult, o *Options) *Result {
 		tb.add(s.Name, out.Format(s.Value), out.Signed(s.Delta), p, changes)
 	}
 	head := fmt.Sprintf("%s across scenarios: Δ against the baseline %s", c.Output, unit.Format(c.Baseline, c.Unit))
-	return &Result{Kind: "compare", Data: c, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
+	r := &Result{Kind: "compare", Data: c, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
+	ch := &plotting.Compare{Output: c.Output, Unit: c.Unit, Baseline: c.Baseline}
+	for _, s := range c.Scenarios {
+		if s.Name != sens.BaseName {
+			ch.Scenarios = append(ch.Scenarios, plotting.Scenario{Name: s.Name, Value: s.Value})
+		}
+	}
+	r.attach(ch, o)
+	return r
 }

@@ -390,6 +390,21 @@ func TestCompare(t *testing.T) {
 			t.Errorf("row %q, want %q", got, want)
 		}
 	}
+	// The chart: a bar per scenario (the baseline is its axis), each
+	// labelled with its change, below the baseline in the text form's left
+	// half and above it in the right.
+	r = Compare(c, nil)
+	for _, want := range []string{"Scenarios: cost", "-$24,000", "+$45,000", "below the baseline"} {
+		if !strings.Contains(r.SVG(), want) {
+			t.Errorf("the compare chart lacks %q", want)
+		}
+	}
+	text := r.Text()
+	lean := text[strings.LastIndex(text, "\nlean"):]
+	lean = lean[:strings.Index(lean[1:], "\n")+1]
+	if bar := strings.Index(lean, "█"); bar < 0 || bar > strings.Index(lean, "│") || !strings.HasSuffix(lean, "-$24,000") {
+		t.Errorf("lean's text bar %q should lie left of the baseline", lean)
+	}
 }
 
 func TestBundle(t *testing.T) {
