@@ -260,5 +260,8 @@ func (x *call) axisRange(pr *sens.Problem, a *syntax.Axis, in *sens.Input) (lo, 
 	return lo, hi, nil
 }
 
-// show sends a result to the sink.
-func (x *call) show(r *render.Result) { x.sink.Result(r, false) }
+// show sends a result to the sink, marked with the command's place.
+func (x *call) show(r *render.Result) {
+	r.File, r.Line, r.Command = x.f.Name, x.f.Position(x.c.VerbPos).Line, x.c.Verb
+	x.sink.Result(r, false)
+}

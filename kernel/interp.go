@@ -179,6 +179,7 @@ func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last 
 		if err != nil {
 			return err
 		}
+		r.File, r.Line, r.Command = f.Name, f.Position(s.Pos()).Line, "value"
 		sink.Result(r, last)
 		return nil
 	case *syntax.CommandStmt:

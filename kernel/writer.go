@@ -8,39 +8,73 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/nudge-dev/nudge/kernel/render"
+	"github.com/nudge-dev/nudge/plotting"
 )
 
 // WriterSink writes results to a terminal or a pipe: text tables (or one JSON
-// object per line with JSON set) on Out, warnings and progress on Err.
+// object per line with JSON set) on Out, warnings and progress on Err. Each
+// write to one stream first flushes the other when it buffers (has a Flush
+// method), so a warning appears next to the result it concerns however the
+// two streams are buffered or merged.
 type WriterSink struct {
 	Out, Err io.Writer
 	JSON     bool
 	// SVGDir, when set, receives each chart as an SVG file, numbered in order.
 	SVGDir string
+	// CSVDir, when set, receives each result's tables as CSV files named by
+	// file, line and command: model-12-tornado.csv.
+	CSVDir string
 	// Cautioned is set once a result that carries the caution was written.
 	Cautioned bool
 
 	charts int
+	last   byte // the last byte written to Out, 0 before any
+}
+
+type flusher interface{ Flush() error }
+
+func flush(w io.Writer) {
+	if f, ok := w.(flusher); ok {
+		f.Flush()
+	}
+}
+
+// out writes text to Out after flushing Err.
+func (s *WriterSink) out(text string) {
+	if text == "" {
+		return
+	}
+	flush(s.Err)
+	io.WriteString(s.Out, text)
+	s.last = text[len(text)-1]
+}
+
+// errf writes a line to Err after flushing Out, and flushes it.
+func (s *WriterSink) errf(format string, args ...any) {
+	flush(s.Out)
+	fmt.Fprintf(s.Err, format, args...)
+	flush(s.Err)
 }
 
 // Stream writes stdout text to Out (in JSON mode, as a "print" object) and
 // stderr text to Err.
 func (s *WriterSink) Stream(name, text string) {
 	if name == "stderr" {
-		fmt.Fprint(s.Err, text)
+		s.errf("%s", text)
 		return
 	}
 	if s.JSON {
 		b, _ := json.Marshal(map[string]string{"kind": "print", "text": text})
-		fmt.Fprintf(s.Out, "%s\n", b)
+		s.out(string(b) + "\n")
 		return
 	}
-	fmt.Fprint(s.Out, text)
+	s.out(text)
 }
 
-// Result writes one result.
+// Result writes one result, and its chart and tables into SVGDir and CSVDir.
 func (s *WriterSink) Result(r *render.Result, _ bool) {
 	if r.Caution {
 		s.Cautioned = true
@@ -49,21 +83,77 @@ func (s *WriterSink) Result(r *render.Result, _ bool) {
 		s.charts++
 		path := filepath.Join(s.SVGDir, fmt.Sprintf("%02d-%s.svg", s.charts, r.Kind))
 		if err := os.WriteFile(path, []byte(r.SVG()), 0o644); err != nil {
-			fmt.Fprintf(s.Err, "nudge: %v\n", err)
+			s.errf("nudge: %v\n", err)
 		} else {
-			fmt.Fprintf(s.Err, "chart: %s\n", path)
+			s.errf("chart: %s\n", path)
 		}
 	}
+	if s.CSVDir != "" {
+		s.writeCSV(r)
+	}
 	if s.JSON {
-		fmt.Fprintf(s.Out, "%s\n", r.JSON())
+		s.out(string(r.JSON()) + "\n")
 		return
 	}
-	fmt.Fprintln(s.Out, r.Text())
+	s.out(r.Text() + "\n")
+}
+
+// writeCSV writes each table of r into CSVDir.
+func (s *WriterSink) writeCSV(r *render.Result) {
+	for _, t := range r.Tables() {
+		path := filepath.Join(s.CSVDir, csvName(r, t.Name))
+		f, err := os.Create(path)
+		if err == nil {
+			err = t.WriteCSV(f)
+			if cerr := f.Close(); err == nil {
+				err = cerr
+			}
+		}
+		if err != nil {
+			s.errf("nudge: %v\n", err)
+			continue
+		}
+		s.errf("table: %s\n", path)
+	}
+}
+
+// csvName names a result's table file by the file, line and command it came
+// from: "plant-12-tornado.csv", "plant-30-basis-constants.csv".
+func csvName(r *render.Result, table string) string {
+	base := strings.TrimSuffix(filepath.Base(r.File), filepath.Ext(r.File))
+	base = strings.Map(func(c rune) rune {
+		if c == ' ' || c == '/' || c == '\\' || c == ':' {
+			return '_'
+		}
+		return c
+	}, base)
+	if base == "" || base == "." {
+		base = "stdin"
+	}
+	cmd := r.Command
+	if cmd == "" {
+		cmd = r.Kind
+	}
+	name := fmt.Sprintf("%s-%d-%s", base, r.Line, cmd)
+	if table != "" {
+		name += "-" + table
+	}
+	return name + ".csv"
 }
 
 // Progress is silent for writers: the command line prints no progress bars into
 // pipes.
 func (s *WriterSink) Progress(string, string, int, int) {}
+
+// Finish ends standard output with a newline when text was written to it
+// without one, and flushes both streams.
+func (s *WriterSink) Finish() {
+	if s.last != 0 && s.last != '\n' {
+		s.out("\n")
+	}
+	flush(s.Out)
+	flush(s.Err)
+}
 
 // RunFile runs a whole model file through the interpreter, as `nudge exec`
 // does. It returns the cell error, if any, after writing it (as text to Err, or
@@ -81,15 +171,15 @@ func RunFile(ctx context.Context, in *Interp, name, src string, sink *WriterSink
 		if sink.JSON {
 			for _, o := range ce.ErrorObjects() {
 				b, _ := json.Marshal(o)
-				fmt.Fprintf(sink.Out, "%s\n", b)
+				sink.out(string(b) + "\n")
 			}
 		} else {
-			fmt.Fprintln(sink.Err, "error: "+ce.Detail())
+			sink.errf("%s\n", "error: "+ce.Detail())
 		}
 		return ce
 	}
 	if sink.Cautioned && !sink.JSON {
-		fmt.Fprintln(sink.Out, render.Caution)
+		sink.out(plotting.Wrap(render.Caution, in.Opts.Width) + "\n")
 	}
 	return nil
 }

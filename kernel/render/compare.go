@@ -38,10 +38,18 @@ func Compare(c *sens.CompareResult, o *Options) *Result {
 	head := fmt.Sprintf("%s across scenarios: Δ against the baseline %s", c.Output, unit.Format(c.Baseline, c.Unit))
 	r := &Result{Kind: "compare", Data: c, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 	ch := &plotting.Compare{Output: c.Output, Unit: c.Unit, Baseline: c.Baseline}
-	for _, s := range c.Scenarios {
-		if s.Name != sens.BaseName {
+	left := 0 // scenarios beyond the table's rows, which the chart leaves out too
+	for i, s := range c.Scenarios {
+		switch {
+		case s.Name == sens.BaseName:
+		case i >= maxTableRows:
+			left++
+		default:
 			ch.Scenarios = append(ch.Scenarios, plotting.Scenario{Name: s.Name, Value: s.Value})
 		}
+	}
+	if left > 0 {
+		r.note(fmt.Sprintf("the chart shows the scenarios of the table; %s more are in the JSON", count(left)))
 	}
 	r.attach(ch, o)
 	return r

@@ -82,6 +82,12 @@ type Result struct {
 	Data any
 	// Caution marks results that carry the one-line caution.
 	Caution bool
+	// File and Line say where the statement that made the result stands,
+	// and Command is its verb ("value" for a bare expression): they name
+	// exported files.
+	File    string
+	Line    int
+	Command string
 
 	text  string // text/plain: aligned table, Unicode chart
 	width int    // the text width notes wrap at (DefaultWidth when 0)

@@ -399,6 +399,8 @@ func (p *parser) parseInput() *InputStmt {
 			s.Dist = p.parseDist()
 		case UNIT:
 			p.error(p.pos, "the unit goes right after the value: input "+s.Name.Name+" = VALUE [UNIT] (RANGE)")
+		case IDENT:
+			p.bareUnit(s.Value, false)
 		default:
 			p.errorExpected("a range in parentheses, '~' and a distribution, or end of line")
 		}
@@ -495,7 +497,7 @@ func (p *parser) parseDist() *DistSpec {
 	if p.tok != LPAREN {
 		p.errorExpected("'(' and the parameters of " + d.Name.Name)
 	}
-	d.Lparen, d.Args, d.Rparen = p.parseArgs()
+	d.Lparen, d.Args, d.Rparen = p.parseArgs(d.Name.Name)
 	return d
 }
 
@@ -515,8 +517,39 @@ func (p *parser) parseFormula() *FormulaStmt {
 			lit.Unit = s.Unit
 		}
 	}
+	if p.tok == IDENT {
+		p.bareUnit(s.Value, true)
+	}
 	s.EndAt = p.pos
 	return s
+}
+
+// bareUnit reports a name written after a value where a unit in brackets
+// or an operator was meant: "input m = 12 kg" suggests 12 [kg], and
+// "y = 2 x" also 2 * x (when mul is set: a formula). It does nothing unless
+// x ends in a number without a unit.
+func (p *parser) bareUnit(x Expr, mul bool) {
+	n := x
+	for {
+		switch e := n.(type) {
+		case *BinaryExpr:
+			n = e.Y
+			continue
+		case *UnaryExpr:
+			n = e.X
+			continue
+		}
+		break
+	}
+	lit, ok := n.(*NumberLit)
+	if !ok || lit.Unit != nil {
+		return
+	}
+	msg := "a unit goes in square brackets: write " + lit.Lit + " [" + p.lit + "]"
+	if mul {
+		msg += " (or " + lit.Lit + " * " + p.lit + " to multiply)"
+	}
+	p.error(p.pos, msg)
 }
 
 // ---- Expressions
@@ -618,7 +651,7 @@ func (p *parser) parsePrimary() Expr {
 	case IDENT:
 		id := p.parseRef()
 		if p.tok == LPAREN && !id.Rbrack.IsValid() && !(p.inInput && p.nested == 0 && p.pos != id.End()) {
-			lp, args, rp := p.parseArgs()
+			lp, args, rp := p.parseArgs(id.Name)
 			return &CallExpr{Fun: id, Lparen: lp, Args: args, Rparen: rp}
 		}
 		return id
@@ -663,7 +696,7 @@ func (p *parser) unitEndsStatement() bool {
 	return false
 }
 
-func (p *parser) parseArgs() (lp Pos, args []Expr, rp Pos) {
+func (p *parser) parseArgs(fun string) (lp Pos, args []Expr, rp Pos) {
 	lp = p.pos
 	p.next()
 	p.nested++
@@ -679,6 +712,9 @@ func (p *parser) parseArgs() (lp Pos, args []Expr, rp Pos) {
 			continue
 		}
 		if p.tok == ASSIGN {
+			if id, ok := args[len(args)-1].(*Ident); ok && fun != "if" {
+				p.error(id.Pos(), "the arguments of "+fun+" are positional, not named: drop '"+id.Name+" =' and give the values in order")
+			}
 			p.error(p.pos, "unexpected '=': use == to compare")
 		}
 		if p.tok != RPAREN {

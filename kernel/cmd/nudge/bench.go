@@ -3,6 +3,8 @@ package main
 import (
 	"fmt"
 	"io"
+	"strconv"
+	"strings"
 	"testing"
 	"text/tabwriter"
 
@@ -11,6 +13,10 @@ import (
 
 func benchCmd(args []string, stdout, stderr io.Writer) int {
 	if len(args) > 0 {
+		if isHelp(args[0]) && len(args) == 1 {
+			fmt.Fprintln(stdout, "usage: nudge bench\n  runs the engine's benchmarks (about half a minute) and prints each ratio against its target, marked met or missed")
+			return 0
+		}
 		fmt.Fprintln(stderr, "usage: nudge bench")
 		return 2
 	}
@@ -34,10 +40,10 @@ func runBench(w io.Writer) error {
 	fmt.Fprintln(w, "nudge bench: the evaluation engine against hand-written Go and finite differences")
 	fmt.Fprintln(w, "(each pair runs interleaved in short chunks; times and ratios are medians over the chunks)")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "comparison\ttape\treference\tratio\ttarget")
+	fmt.Fprintln(tw, "comparison\ttape\treference\tratio\ttarget\t")
 	row := func(name string, r testing.BenchmarkResult, a, ref string, target string) {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%.2f\t%s\n", name,
-			fmtNs(r.Extra[a+"-ns"]), fmtNs(r.Extra[ref+"-ns"]), r.Extra["ratio"], target)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%.2f\t%s\t%s\n", name,
+			fmtNs(r.Extra[a+"-ns"]), fmtNs(r.Extra[ref+"-ns"]), r.Extra["ratio"], target, verdict(r.Extra["ratio"], target))
 	}
 	var failed error
 	check := func(err error) {
@@ -73,9 +79,9 @@ func runBench(w io.Writer) error {
 	t, x := tapebench.GenModel(30_000, 10_000, 3)
 	check(t.Forward(x))
 	r := testing.Benchmark(func(b *testing.B) { tapebench.ReverseVsFD(b, t, x) })
-	fmt.Fprintf(tw, "gradient vs gonum fd.Gradient, %d inputs (fd: 20001 evaluations, run once)\t%s\t%s\t1/%.0f\t-\n",
+	fmt.Fprintf(tw, "gradient vs gonum fd.Gradient, %d inputs (fd: 20001 evaluations, run once)\t%s\t%s\t1/%.0f\t-\t\n",
 		t.NumInputs(), fmtNs(r.Extra["reverse-ms"]*1e6), fmtNs(r.Extra["fd-ms"]*1e6), r.Extra["speedup"])
-	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\n", bytesPerNode)
+	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\t%s\n", bytesPerNode, verdict(bytesPerNode, "<= 32"))
 	check(benchLineItems(row, tw))
 	if err := tw.Flush(); err != nil {
 		return err
@@ -94,4 +100,21 @@ func fmtNs(ns float64) string {
 		return fmt.Sprintf("%.1f ms", ns/1e6)
 	}
 	return fmt.Sprintf("%.2f s", ns/1e9)
+}
+
+// verdict marks a measured value against a target written "<= 2.5": "met"
+// or "MISSED"; "" for a row without a target ("none", "-").
+func verdict(v float64, target string) string {
+	t, ok := strings.CutPrefix(strings.TrimSpace(target), "<=")
+	if !ok {
+		return ""
+	}
+	limit, err := strconv.ParseFloat(strings.TrimSpace(t), 64)
+	if err != nil {
+		return ""
+	}
+	if v <= limit {
+		return "met"
+	}
+	return "MISSED"
 }

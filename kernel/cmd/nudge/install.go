@@ -12,12 +12,11 @@ import (
 
 func installCmd(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("install", flag.ContinueOnError)
-	fs.SetOutput(stderr)
 	user := fs.Bool("user", false, "install for the current user (the default)")
 	sysPrefix := fs.Bool("sys-prefix", false, "install under the prefix of the Python that runs Jupyter")
 	prefix := fs.String("prefix", "", "install under `DIR`/share/jupyter/kernels")
-	if err := fs.Parse(args); err != nil {
-		return 2
+	if code, done := parseFlags(fs, args, "nudge install [--user | --sys-prefix | --prefix DIR]", stdout, stderr); done {
+		return code
 	}
 	n := 0
 	for _, b := range []bool{*user, *sysPrefix, *prefix != ""} {

@@ -7,6 +7,7 @@
 package main
 
 import (
+	"bufio"
 	"context"
 	"errors"
 	"flag"
@@ -14,22 +15,30 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strconv"
 
 	"github.com/nudge-dev/nudge/kernel"
+	"github.com/nudge-dev/nudge/kernel/render"
 )
 
 const usage = `nudge: sensitivity analysis of cost models
 
 usage:
-  nudge exec [--json] [--svg DIR] FILE...
+  nudge exec [--json] [--svg DIR] [--csv DIR] [--width N] FILE...
                                    run model files (- reads standard input);
-                                   --svg writes each chart into DIR
+                                   --svg writes each chart into DIR, --csv
+                                   each result table; text is N columns wide
+                                   (else $COLUMNS, else 100)
   nudge kernel -f CONNECTION_FILE  run the Jupyter kernel
   nudge install [--user | --sys-prefix | --prefix DIR]
                                    write the Jupyter kernelspec, with a copy
                                    of this program that Jupyter starts
-  nudge bench                      print the engine's benchmark ratios
+  nudge bench                      print the engine's benchmark ratios, each
+                                   marked met or missed against its target
   nudge version                    print the version
+
+Every command takes --help. Exit codes: 0 success, 1 an error in a model,
+its analyses or a file, 2 a usage error.
 `
 
 func main() {
@@ -46,12 +55,16 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	case "exec":
 		return execCmd(args[1:], stdin, stdout, stderr)
 	case "kernel":
-		return kernelCmd(args[1:], stderr)
+		return kernelCmd(args[1:], stdout, stderr)
 	case "install":
 		return installCmd(args[1:], stdout, stderr)
 	case "bench":
 		return benchCmd(args[1:], stdout, stderr)
 	case "version", "--version", "-version":
+		if len(args) > 1 && isHelp(args[1]) {
+			fmt.Fprintln(stdout, "usage: nudge version")
+			return 0
+		}
 		fmt.Fprintln(stdout, "nudge", kernel.Version)
 		return 0
 	case "help", "-h", "--help", "-help":
@@ -62,33 +75,77 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	return 2
 }
 
-func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
-	fs := flag.NewFlagSet("exec", flag.ContinueOnError)
+// parseFlags parses a subcommand's flags. --help prints the usage to
+// stdout and exits 0; a bad flag prints it to stderr and exits 2. done says
+// whether the command should return code now.
+func parseFlags(fs *flag.FlagSet, args []string, usage string, stdout, stderr io.Writer) (code int, done bool) {
 	fs.SetOutput(stderr)
+	fs.Usage = func() {}
+	err := fs.Parse(args)
+	switch {
+	case errors.Is(err, flag.ErrHelp):
+		fs.SetOutput(stdout)
+		fmt.Fprintln(stdout, "usage: "+usage)
+		fs.PrintDefaults()
+		return 0, true
+	case err != nil:
+		fmt.Fprintln(stderr, "usage: "+usage)
+		fs.PrintDefaults()
+		return 2, true
+	}
+	return 0, false
+}
+
+// textWidth is the width of text output: the --width flag, else $COLUMNS,
+// else render.DefaultWidth.
+func textWidth(flagWidth int) int {
+	if flagWidth > 0 {
+		return flagWidth
+	}
+	if n, err := strconv.Atoi(os.Getenv("COLUMNS")); err == nil && n > 0 {
+		return n
+	}
+	return render.DefaultWidth
+}
+
+func isHelp(a string) bool { return a == "-h" || a == "-help" || a == "--help" }
+
+func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	const use = "nudge exec [--json] [--svg DIR] [--csv DIR] [--width N] FILE..."
+	fs := flag.NewFlagSet("exec", flag.ContinueOnError)
 	asJSON := fs.Bool("json", false, "print one JSON object per result and line")
 	svgDir := fs.String("svg", "", "write each chart as an SVG file into `DIR`")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: nudge exec [--json] [--svg DIR] FILE...")
-		fs.PrintDefaults()
-	}
-	if err := fs.Parse(args); err != nil {
-		return 2
+	csvDir := fs.String("csv", "", "write each result table as a CSV file into `DIR`, named by file, line and command")
+	width := fs.Int("width", 0, "text output `N` columns wide (default $COLUMNS, else 100)")
+	if code, done := parseFlags(fs, args, use, stdout, stderr); done {
+		return code
 	}
 	if fs.NArg() == 0 {
-		fs.Usage()
+		fmt.Fprintln(stderr, "usage: "+use)
+		fs.PrintDefaults()
+		return 2
+	}
+	if *width < 0 {
+		fmt.Fprintln(stderr, "nudge exec: --width must be positive")
 		return 2
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	in := kernel.New()
 	in.Opts.NoCharts = *svgDir == ""
-	if *svgDir != "" {
-		if err := os.MkdirAll(*svgDir, 0o755); err != nil {
+	in.Opts.Width = textWidth(*width)
+	for _, dir := range []string{*svgDir, *csvDir} {
+		if dir == "" {
+			continue
+		}
+		if err := os.MkdirAll(dir, 0o755); err != nil {
 			fmt.Fprintln(stderr, "nudge:", err)
 			return 2
 		}
 	}
-	sink := &kernel.WriterSink{Out: stdout, Err: stderr, JSON: *asJSON, SVGDir: *svgDir}
+	out := bufio.NewWriter(stdout)
+	sink := &kernel.WriterSink{Out: out, Err: stderr, JSON: *asJSON, SVGDir: *svgDir, CSVDir: *csvDir}
+	defer sink.Finish()
 	for _, name := range fs.Args() {
 		var src []byte
 		var err error
@@ -99,8 +156,8 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 			src, err = os.ReadFile(name)
 		}
 		if err != nil {
-			fmt.Fprintln(stderr, "nudge:", err)
-			return 2
+			sink.Stream("stderr", fmt.Sprintf("nudge: cannot read %s: %v\n", name, errors.Unwrap(err)))
+			return 1
 		}
 		if err := kernel.RunFile(ctx, in, name, string(src), sink); err != nil {
 			return 1
@@ -109,15 +166,15 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	return 0
 }
 
-func kernelCmd(args []string, stderr io.Writer) int {
+func kernelCmd(args []string, stdout, stderr io.Writer) int {
+	const use = "nudge kernel -f CONNECTION_FILE"
 	fs := flag.NewFlagSet("kernel", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	conn := fs.String("f", "", "the connection file written by Jupyter")
-	if err := fs.Parse(args); err != nil {
-		return 2
+	conn := fs.String("f", "", "the connection `FILE` written by Jupyter")
+	if code, done := parseFlags(fs, args, use, stdout, stderr); done {
+		return code
 	}
 	if *conn == "" {
-		fmt.Fprintln(stderr, "usage: nudge kernel -f CONNECTION_FILE")
+		fmt.Fprintln(stderr, "usage: "+use)
 		return 2
 	}
 	if err := kernel.Serve(*conn, stderr); err != nil && !errors.Is(err, context.Canceled) {

@@ -93,10 +93,15 @@ func TestExitCodes(t *testing.T) {
 	if code != 1 || json.Unmarshal([]byte(strings.TrimSpace(out)), &obj) != nil || obj["kind"] != "error" || obj["line"] != 2.0 || obj["column"] != 9.0 {
 		t.Errorf("JSON error: exit %d, %q", code, out)
 	}
-	for _, args := range [][]string{{}, {"exec"}, {"frobnicate"}, {"exec", "--nope", bad}, {"exec", filepath.Join(dir, "missing.nudge")}, {"install", "--user", "--sys-prefix"}} {
+	for _, args := range [][]string{{}, {"exec"}, {"frobnicate"}, {"exec", "--nope", bad}, {"install", "--user", "--sys-prefix"}, {"exec", "--width", "-3", bad}} {
 		if code, _, _ := runNudge(args, ""); code != 2 {
 			t.Errorf("%v: exit %d, want 2", args, code)
 		}
+	}
+	// A missing input file is an error in a file (1), named in the message.
+	missing := filepath.Join(dir, "missing.nudge")
+	if code, _, errs := runNudge([]string{"exec", missing}, ""); code != 1 || !strings.Contains(errs, "cannot read "+missing+": no such file or directory") {
+		t.Errorf("missing file: exit %d, stderr %q", code, errs)
 	}
 }
 

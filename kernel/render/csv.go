@@ -1,0 +1,117 @@
+package render
+
+import (
+	"encoding/csv"
+	"io"
+	"strconv"
+
+	"github.com/nudge-dev/nudge/sens"
+)
+
+// CSVTable is one table of a result for export: a name ("" for the result's
+// main table, else a suffix such as "constants") and rows of cells, the
+// first row the header. Numbers are plain ("1234.5", never "$1,234.50"), in
+// the units the result shows, and each quantity column is followed by a
+// column of its unit.
+type CSVTable struct {
+	Name string
+	Rows [][]string
+}
+
+// WriteCSV writes the table with encoding/csv.
+func (t *CSVTable) WriteCSV(w io.Writer) error {
+	cw := csv.NewWriter(w)
+	if err := cw.WriteAll(t.Rows); err != nil {
+		return err
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// Tables returns the tables of a result for export; none for a result
+// without one (a print, a rate, help).
+func (r *Result) Tables() []CSVTable {
+	switch d := r.Data.(type) {
+	case *sens.ValueResult:
+		return []CSVTable{{Rows: [][]string{{"name", "value", "unit"}, {d.Name, num(d.Value), d.Unit}}}}
+	case *sens.DriversResult:
+		rows := [][]string{{"input", "value", "unit", "partial", "partial_unit", "elasticity"}}
+		for _, in := range d.Inputs {
+			rows = append(rows, []string{in.Name, num(in.Value), in.Unit, num(in.Partial), in.PartialUnit, num(in.Elasticity)})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.TornadoResult:
+		rows := [][]string{{"input", "low", "high", "input_unit", "range_from", "output_at_low", "output_at_high", "swing", "output_unit", "swing_share", "non_monotone"}}
+		for _, b := range d.Bars {
+			rows = append(rows, []string{b.Name, num(b.Low), num(b.High), b.Unit, string(b.Source), num(b.OutputAtLow), num(b.OutputAtHigh),
+				num(b.Swing), d.Unit, num(b.SwingShare), strconv.FormatBool(b.NonMonotone)})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.SpiderResult:
+		rows := [][]string{{"input", "pct", "input_value", "input_unit", "output", "output_unit"}}
+		for _, l := range d.Inputs {
+			for _, p := range l.Points {
+				rows = append(rows, []string{l.Name, num(p.Pct), num(p.Input), l.Unit, num(p.Output), d.Unit})
+			}
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.Sweep1DResult:
+		rows := [][]string{{d.Input.Name, "input_unit", d.Output, "output_unit"}}
+		for _, p := range d.Points {
+			rows = append(rows, []string{num(p.X), d.Input.Unit, num(p.Output), d.Unit})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.Sweep2DResult:
+		x, y := d.Inputs[0], d.Inputs[1]
+		rows := [][]string{{x.Name, "x_unit", y.Name, "y_unit", d.Output, "output_unit"}}
+		for _, p := range d.Points {
+			rows = append(rows, []string{num(p.X), x.Unit, num(p.Y), y.Unit, num(p.Output), d.Unit})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.BreakevenResult:
+		rows := [][]string{{d.Input, "input_unit", "change", "change_pct", "in_range", "outside_domain", "slope", "slope_unit"}}
+		for _, c := range d.Crossings {
+			pct := ""
+			if c.DistancePct != nil {
+				pct = num(*c.DistancePct)
+			}
+			rows = append(rows, []string{num(c.Value), d.InputUnit, num(c.Distance), pct, strconv.FormatBool(c.InRange),
+				strconv.FormatBool(c.OutsideDomain), num(c.Slope), d.SlopeUnit})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.CompareResult:
+		rows := [][]string{{"scenario", d.Output, "unit", "delta", "delta_pct"}}
+		for _, s := range d.Scenarios {
+			pct := ""
+			if s.DeltaPct != nil {
+				pct = num(*s.DeltaPct)
+			}
+			rows = append(rows, []string{s.Name, num(s.Value), d.Unit, num(s.Delta), pct})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.ScenarioResult:
+		rows := [][]string{{"input", "value", "baseline", "unit"}}
+		for _, s := range d.Settings {
+			rows = append(rows, []string{s.Name, num(s.Value), num(s.Baseline), s.Unit})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.BasisResult:
+		rows := [][]string{{"input", "value", "low", "high", "unit", "range_from", "range", "distribution", "file", "line"}}
+		for _, in := range d.Inputs {
+			rows = append(rows, []string{in.Name, num(in.Value), num(in.Low), num(in.High), in.Unit, in.RangeFrom, in.Range, in.Distribution, in.File, strconv.Itoa(in.Line)})
+		}
+		out := []CSVTable{{Rows: rows}}
+		if len(d.Constants) > 0 {
+			cs := [][]string{{"constant", "value", "unit", "formula", "file", "line"}}
+			for _, c := range d.Constants {
+				cs = append(cs, []string{c.Name, num(c.Value), c.Unit, c.Formula, c.File, strconv.Itoa(c.Line)})
+			}
+			out = append(out, CSVTable{Name: "constants", Rows: cs})
+		}
+		return out
+	}
+	return nil
+}
+
+// num writes a number for export: the shortest text that reads back to it.
+func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
