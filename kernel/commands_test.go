@@ -3,6 +3,7 @@ package kernel
 import (
 	"context"
 	"os"
+	"regexp"
 	"strings"
 	"testing"
 
@@ -61,6 +62,38 @@ func TestOptionErrors(t *testing.T) {
 		err := New().Execute(context.Background(), "", "input a = 1\ny = 2 * a\n"+tc.src, &captureSink{})
 		if err == nil || !strings.Contains(err.Error(), "3:"+strings.TrimPrefix(tc.want, "1:")) {
 			t.Errorf("%s: %v, want %s", tc.src, err, tc.want)
+		}
+	}
+}
+
+// TestREADMEDocuments: the README names every kind of JSON object the
+// commands produce, and points at no Markdown file the repository lacks.
+func TestREADMEDocuments(t *testing.T) {
+	b, err := os.ReadFile("../README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	readme := string(b)
+	json := readme[strings.Index(readme, "### JSON"):]
+	json = json[:strings.Index(json, "\n## ")]
+	s := &captureSink{}
+	src := "exchange EUR = 1.1 [$]\ninput a = 2 (1..3)\ninput b = 3 [EUR]\ny = a * b\ny\ndrivers y\ntornado y\nspider y\nsweep y over a 1..3\n" +
+		"breakeven y = 7 over a\nscenario s: a = 2.5\ncompare y across base, s\nbasis\nhelp\n"
+	if err := New().Execute(context.Background(), "", src, s); err != nil {
+		t.Fatal(err)
+	}
+	kinds := map[string]bool{"print": true, "error": true}
+	for _, r := range s.results {
+		kinds[r.Kind] = true
+	}
+	for k := range kinds {
+		if !strings.Contains(json, "`"+k+"`") {
+			t.Errorf("the README's JSON section does not name the kind %s", k)
+		}
+	}
+	for _, m := range regexp.MustCompile(`[A-Za-z0-9_./-]+\.md\b`).FindAllString(readme, -1) {
+		if _, err := os.Stat("../" + m); err != nil {
+			t.Errorf("the README points at %s, which the repository lacks", m)
 		}
 	}
 }
