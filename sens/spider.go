@@ -116,24 +116,46 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 	if points%2 == 0 {
 		points++
 	}
-	set := &s.Settings
 	half := points / 2
 	pcts := make([]float64, points)
 	for j := range pcts {
 		pcts[j] = pct * float64(j-half) / float64(half)
 	}
 	pcts[half] = 0
+	grid := make([][]float64, len(p.Inputs))
+	for i, in := range p.Inputs {
+		if in.Value == 0 {
+			continue // no percentage moves it: a flat line
+		}
+		grid[i] = make([]float64, points)
+		for j, q := range pcts {
+			grid[i][j] = in.Value * (1 + q/100)
+		}
+		grid[i][half] = in.Value
+	}
+	res, err := spiderLines(p, &s.Settings, grid, points, s.Top, func(_, j int) float64 { return pcts[j] })
+	if err != nil {
+		return nil, err
+	}
+	res.RangePct = pct
+	return res, nil
+}
 
+// spiderLines evaluates a spider's lines: grid[i] holds the points values of
+// input i, its baseline at the middle (nil for a line that stays at the
+// baseline), and pct(i, j) is the percentage change of point j of line i.
+// Each line is an input moved alone; the baseline output is evaluated once
+// and shared. The lines come sorted by spread, the top kept (all when top
+// is 0) and the rest summarised.
+func spiderLines(p *Problem, set *Settings, grid [][]float64, points, top int, pct func(i, j int) float64) (*SpiderResult, error) {
+	half := points / 2
 	x0 := p.Baseline()
 	ev := newBatcher(p.F, x0, set)
 	pts := []point{{i: -1, j: -1}}
-	for i, in := range p.Inputs {
-		if in.Value == 0 {
-			continue
-		}
-		for j, q := range pcts {
+	for i, g := range grid {
+		for j, v := range g {
 			if j != half {
-				pts = append(pts, point{i: i, vi: in.Value * (1 + q/100), j: -1})
+				pts = append(pts, point{i: i, vi: v, j: -1})
 			}
 		}
 	}
@@ -144,28 +166,28 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 	}
 	ev.finish()
 	base := y[0]
-	res := &SpiderResult{Kind: "spider", Output: p.Output, Unit: p.Unit, Baseline: base, RangePct: pct, Evaluations: ev.done}
+	res := &SpiderResult{Kind: "spider", Output: p.Output, Unit: p.Unit, Baseline: base, Evaluations: ev.done}
 	n := 1
-	for _, in := range p.Inputs {
-		line := SpiderLine{Name: in.Name, Unit: in.Unit, Value: in.Value, Points: make([]SpiderPoint, points)}
+	for i, in := range p.Inputs {
+		line := SpiderLine{Name: in.Name, Unit: in.Unit, Value: in.Value, ZeroValue: in.Value == 0, Points: make([]SpiderPoint, points)}
 		lo, hi := base, base
-		for j, q := range pcts {
-			sp := SpiderPoint{Pct: q, Input: in.Value * (1 + q/100), Output: base}
-			if j == half {
-				sp.Input = in.Value
-			} else if in.Value != 0 {
-				sp.Output = y[n]
-				n++
+		for j := range points {
+			sp := SpiderPoint{Pct: pct(i, j), Input: in.Value, Output: base}
+			if grid[i] != nil {
+				sp.Input = grid[i][j]
+				if j != half {
+					sp.Output = y[n]
+					n++
+				}
 			}
 			line.Points[j] = sp
 			lo, hi = math.Min(lo, sp.Output), math.Max(hi, sp.Output)
 		}
 		line.Spread = hi - lo
-		line.ZeroValue = in.Value == 0
 		res.Inputs = append(res.Inputs, line)
 	}
 	sortLines(res.Inputs)
-	keepTop(res, s.Top)
+	keepTop(res, top)
 	return res, nil
 }
 

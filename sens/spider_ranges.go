@@ -23,9 +23,6 @@ func spiderRanges(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 		points++
 	}
 	half := points / 2
-	x0 := p.Baseline()
-	ev := newBatcher(p.F, x0, &s.Settings)
-	pts := []point{{i: -1, j: -1}}
 	grid := make([][]float64, len(p.Inputs))
 	for i, in := range p.Inputs {
 		g := make([]float64, points)
@@ -35,41 +32,21 @@ func spiderRanges(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 		}
 		g[half] = in.Value
 		grid[i] = g
-		for j, v := range g {
-			if j != half {
-				pts = append(pts, point{i: i, vi: v, j: -1})
-			}
-		}
 	}
-	ev.total = len(pts)
-	y := make([]float64, len(pts))
-	if err := ev.eval(y, pts); err != nil {
+	res, err := spiderLines(p, &s.Settings, grid, points, s.Top, func(i, j int) float64 {
+		if x0 := p.Inputs[i].Value; x0 != 0 {
+			return 100 * (grid[i][j] - x0) / math.Abs(x0)
+		}
+		return 0
+	})
+	if err != nil {
 		return nil, err
 	}
-	ev.finish()
-	base := y[0]
-	res := &SpiderResult{Kind: "spider", Output: p.Output, Unit: p.Unit, Baseline: base, OwnRanges: true, Evaluations: ev.done}
-	n := 1
-	for i, in := range p.Inputs {
-		line := SpiderLine{Name: in.Name, Unit: in.Unit, Value: in.Value, Low: in.Low, High: in.High, Source: in.Source,
-			ZeroValue: in.Value == 0, Points: make([]SpiderPoint, points)}
-		lo, hi := base, base
-		for j, v := range grid[i] {
-			sp := SpiderPoint{Input: v, Output: base}
-			if in.Value != 0 {
-				sp.Pct = 100 * (v - in.Value) / math.Abs(in.Value)
-			}
-			if j != half {
-				sp.Output = y[n]
-				n++
-			}
-			line.Points[j] = sp
-			lo, hi = math.Min(lo, sp.Output), math.Max(hi, sp.Output)
-		}
-		line.Spread = hi - lo
-		res.Inputs = append(res.Inputs, line)
+	res.OwnRanges = true
+	for i := range res.Inputs {
+		l := &res.Inputs[i]
+		in, _, _ := p.Input(l.Name)
+		l.Low, l.High, l.Source = in.Low, in.High, in.Source
 	}
-	sortLines(res.Inputs)
-	keepTop(res, s.Top)
 	return res, nil
 }
