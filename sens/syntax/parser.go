@@ -401,6 +401,7 @@ func (p *parser) parseInput() *InputStmt {
 			p.error(p.pos, "the unit goes right after the value: input "+s.Name.Name+" = VALUE [UNIT] (RANGE)")
 		case IDENT:
 			p.bareUnit(s.Value, false)
+			p.errorExpected("a range in parentheses, '~' and a distribution, or end of line")
 		default:
 			p.errorExpected("a range in parentheses, '~' and a distribution, or end of line")
 		}
