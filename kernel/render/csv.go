@@ -95,6 +95,44 @@ func (r *Result) Tables() []CSVTable {
 			rows = append(rows, []string{s.Name, num(s.Value), num(s.Baseline), s.Unit})
 		}
 		return []CSVTable{{Rows: rows}}
+	case *sens.SimulationResult:
+		u := d.Unit
+		stats := [][]string{{"statistic", "value", "unit"}}
+		for _, r := range []struct {
+			k string
+			v float64
+		}{{"mean", d.Mean}, {"sd", d.SD}, {"stderr_mean", d.StderrMean}, {"min", d.Min}, {"p05", d.P05}, {"p10", d.P10},
+			{"p50", d.P50}, {"p90", d.P90}, {"p95", d.P95}, {"max", d.Max}, {"baseline", d.Baseline}} {
+			stats = append(stats, []string{r.k, num(r.v), u})
+		}
+		stats = append(stats, []string{"baseline_percentile", num(d.BaselinePercentile), "%"})
+		if d.PAbove != nil {
+			stats = append(stats, []string{"p_above", num(*d.PAbove), ""})
+		}
+		rc := [][]string{{"input", "spearman"}}
+		for _, c := range d.RankCorrelations {
+			rc = append(rc, []string{c.Name, num(c.Spearman)})
+		}
+		return []CSVTable{{Rows: stats}, {Name: "rank-correlations", Rows: rc}}
+	case *sens.SobolResult:
+		rows := [][]string{{"input", "first_order", "first_order_lo", "first_order_hi", "total_order", "total_order_lo", "total_order_hi"}}
+		for _, x := range d.Inputs {
+			rows = append(rows, []string{x.Name, num(x.FirstOrder), num(x.FirstOrderCI[0]), num(x.FirstOrderCI[1]),
+				num(x.TotalOrder), num(x.TotalOrderCI[0]), num(x.TotalOrderCI[1])})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.MorrisResult:
+		rows := [][]string{{"input", "low", "high", "input_unit", "mu", "mu_star", "sigma", "output_unit"}}
+		for _, x := range d.Inputs {
+			rows = append(rows, []string{x.Name, num(x.Low), num(x.High), x.Unit, num(x.Mu), num(x.MuStar), num(x.Sigma), d.Unit})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.ScreenResult:
+		rows := [][]string{{"input", "dgsm", "dgsm_unit", "total_order_bound"}}
+		for _, x := range d.Inputs {
+			rows = append(rows, []string{x.Name, num(x.DGSM), x.DGSMUnit, num(x.TotalOrderBound)})
+		}
+		return []CSVTable{{Rows: rows}}
 	case *sens.BasisResult:
 		rows := [][]string{{"input", "value", "low", "high", "unit", "range_from", "range", "distribution", "file", "line"}}
 		for _, in := range d.Inputs {

@@ -61,7 +61,7 @@ func TestWidth(t *testing.T) {
 func TestCSVExport(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "tables")
 	model := filepath.Join(t.TempDir(), "part.nudge")
-	os.WriteFile(model, []byte("input a = 2 [kg] (1..3)\ninput b = 3 [$/kg] (2..4)\ny = a * b\ny\ntornado y\nbasis\ng = 9.81 [m/s^2]\nbasis\n"), 0o644)
+	os.WriteFile(model, []byte("input a = 2 [kg] (1..3)\ninput b = 3 [$/kg] (2..4)\ny = a * b\ny\ntornado y\nbasis\ng = 9.81 [m/s^2]\nbasis\nsimulate y n=200 seed=1\nmorris y r=4 seed=1\n"), 0o644)
 	code, _, errs := runNudge([]string{"exec", "--csv", dir, model}, "")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
@@ -97,6 +97,15 @@ func TestCSVExport(t *testing.T) {
 	}
 	if c := read("part-8-basis-constants.csv"); len(c) != 2 || strings.Join(c[1][:3], ",") != "g,9.81,m/s^2" {
 		t.Errorf("constants table %v", c)
+	}
+	if s := read("part-9-simulate.csv"); s[0][0] != "statistic" || s[1][0] != "mean" || s[1][2] != "$" {
+		t.Errorf("simulation table %v", s)
+	}
+	if rc := read("part-9-simulate-rank-correlations.csv"); len(rc) != 3 {
+		t.Errorf("rank correlations %v", rc)
+	}
+	if m := read("part-10-morris.csv"); len(m) != 3 || m[0][5] != "mu_star" {
+		t.Errorf("morris table %v", m)
 	}
 	if !strings.Contains(errs, filepath.Join(dir, "part-5-tornado.csv")) {
 		t.Errorf("stderr does not name the tables: %s", errs)
