@@ -10,7 +10,7 @@ import (
 // simplest unit of that dimension (coherent SI units, or the currency):
 //
 //	kWh: kilowatt hour; energy; 1 kWh = 3,600,000 J
-//	$/h: $ = currency $, h = hour; dimension $/s; 1 $/h = 0.0002778 $/s
+//	$/h: $ = currency $, h = hour; currency $ per time; 1 $/h = 0.0002778 $/s
 //
 // It returns Parse's error for text that is not a unit.
 func Describe(s string) (string, error) {
@@ -52,11 +52,18 @@ func meaning(sym string) (string, bool) {
 	if !ok {
 		return "", false
 	}
-	switch {
-	case isCurrency(sym):
-		return "currency " + sym + " (a dimension of its own: no exchange rate is assumed)", true
-	case len(sym) > 1 && isCurrency(sym[1:]):
-		return e.meaning + " " + sym[1:], true
+	if code, factor, ok := currencySymbol(sym); ok {
+		switch factor {
+		case 1:
+			what := "currency " + code
+			if code != sym {
+				what = "currency " + code + ", written " + sym
+			}
+			return what + " (a dimension of its own unless the model states an exchange rate)", true
+		case 1e3:
+			return "thousand " + code, true
+		}
+		return "million " + code, true
 	}
 	return e.meaning, true
 }

@@ -11,8 +11,11 @@ func TestDescribe(t *testing.T) {
 		{"min", "min: minute; time; 1 min = 60 s"},
 		{"kg", "kg: kilogram; mass"},
 		{"k$", "k$: thousand $; currency $; 1 k$ = $1,000"},
-		{"EUR", "EUR: currency EUR (a dimension of its own: no exchange rate is assumed); currency EUR"},
-		{"$/h", "$/h: $ = currency $ (a dimension of its own: no exchange rate is assumed), h = hour; dimension $/s; 1 $/h = 0.0002778 $/s"},
+		{"EUR", "EUR: currency EUR (a dimension of its own unless the model states an exchange rate); currency EUR"},
+		{"€", "€: currency EUR, written € (a dimension of its own unless the model states an exchange rate); currency EUR; 1 € = 1 EUR"},
+		{"$K", "$K: thousand $; currency $; 1 $K = $1,000"},
+		{"MM$", "MM$: million $; currency $; 1 MM$ = $1,000,000"},
+		{"$/h", "$/h: $ = currency $ (a dimension of its own unless the model states an exchange rate), h = hour; currency $ per time; 1 $/h = 0.0002778 $/s"},
 		{"1", "1: a pure number; dimensionless"},
 		// 1 lb = 0.45359237 kg exactly (NIST SP 811, appendix B.8).
 		{"lb", "lb: pound (avoirdupois); mass; 1 lb = 0.4536 kg"},
