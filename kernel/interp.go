@@ -172,7 +172,9 @@ func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last 
 		if err != nil {
 			return err
 		}
-		sink.Result(render.Table(r, &in.Opts), false)
+		res := render.Table(r, &in.Opts)
+		res.File, res.Line, res.Command = f.Name, f.Position(s.Pos()).Line, "table"
+		sink.Result(res, false)
 		return nil
 	case *syntax.ExprStmt:
 		r, err := in.value(f, s)

@@ -34,6 +34,18 @@ func (r *Result) Tables() []CSVTable {
 	switch d := r.Data.(type) {
 	case *sens.ValueResult:
 		return []CSVTable{{Rows: [][]string{{"name", "value", "unit"}, {d.Name, num(d.Value), d.Unit}}}}
+	case *sens.VectorResult:
+		rows := [][]string{{v0(d.Noun), d.Name, "unit"}}
+		for i, k := range d.Keys {
+			rows = append(rows, []string{k, num(d.Values[i]), d.Unit})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.TableResult:
+		rows := [][]string{{"column", "type", "unit", "min", "max", "distinct"}}
+		for _, c := range d.Columns {
+			rows = append(rows, []string{c.Name, c.Type, c.Unit, num(c.Min), num(c.Max), strconv.Itoa(c.Distinct)})
+		}
+		return []CSVTable{{Rows: rows}}
 	case *sens.DriversResult:
 		rows := [][]string{{"input", "value", "unit", "partial", "partial_unit", "elasticity"}}
 		for _, in := range d.Inputs {
@@ -153,3 +165,11 @@ func (r *Result) Tables() []CSVTable {
 
 // num writes a number for export: the shortest text that reads back to it.
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// v0 names a vector's key column: its noun, else "key".
+func v0(noun string) string {
+	if noun == "" {
+		return "key"
+	}
+	return noun
+}

@@ -123,3 +123,26 @@ func TestBenchVerdict(t *testing.T) {
 		}
 	}
 }
+
+// TestCSVVector: a vector's value and a table's loading export as CSV too
+// (two rows written here; 2 × 3 kg and 4 × 5 kg, by hand).
+func TestCSVVector(t *testing.T) {
+	src := t.TempDir()
+	os.WriteFile(filepath.Join(src, "parts.csv"), []byte("item,qty [each],mass [kg]\nA,2,3\nB,4,5\n"), 0o644)
+	os.WriteFile(filepath.Join(src, "m.nudge"), []byte("table parts = \"parts.csv\" key item\nw = parts.qty * parts.mass\nw\n"), 0o644)
+	dir := filepath.Join(t.TempDir(), "out")
+	if code, _, errs := runNudge([]string{"exec", "--csv", dir, filepath.Join(src, "m.nudge")}, ""); code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "m-3-value.csv"))
+	if err != nil {
+		entries, _ := os.ReadDir(dir)
+		t.Fatalf("%v (files: %v)", err, entries)
+	}
+	if got := string(b); !strings.Contains(got, "A,6,kg") || !strings.Contains(got, "B,20,kg") {
+		t.Errorf("vector CSV:\n%s", got)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "m-1-table.csv")); err != nil {
+		t.Errorf("no table CSV: %v", err)
+	}
+}
