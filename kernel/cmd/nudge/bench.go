@@ -14,10 +14,16 @@ import (
 func benchCmd(args []string, stdout, stderr io.Writer) int {
 	if len(args) > 0 {
 		if isHelp(args[0]) && len(args) == 1 {
-			fmt.Fprintln(stdout, "usage: nudge bench\n  runs the engine's benchmarks (about half a minute) and prints each ratio against its target, marked met or missed")
+			fmt.Fprintln(stdout, "usage: nudge bench [model | scale] [--lines N] [--if] [--seed S] [--repeat R]\n  with no argument, runs the engine's benchmarks (about half a minute) and prints each ratio against its target, marked met or missed;\n  model prints the generated scale model; scale times parse, compile, evaluation and analyses on it")
 			return 0
 		}
-		fmt.Fprintln(stderr, "usage: nudge bench")
+		switch args[0] {
+		case "model":
+			return benchModel(args[1:], stdout, stderr)
+		case "scale":
+			return benchScale(args[1:], stdout, stderr)
+		}
+		fmt.Fprintln(stderr, "usage: nudge bench [model | scale] [--lines N] [--if] [--seed S] [--repeat R]")
 		return 2
 	}
 	if err := runBench(stdout); err != nil {

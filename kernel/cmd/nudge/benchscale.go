@@ -1,0 +1,183 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"io"
+	"runtime"
+	"slices"
+	"text/tabwriter"
+	"time"
+
+	"github.com/nudge-dev/nudge/kernel"
+	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/tapebench"
+)
+
+// scaleFlags are the flags of `nudge bench model` and `nudge bench scale`.
+type scaleFlags struct {
+	lines  int
+	ifs    bool
+	seed   uint64
+	repeat int
+}
+
+func parseScaleFlags(name string, args []string, stderr io.Writer, repeat bool) (*scaleFlags, bool) {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	sf := &scaleFlags{}
+	fs.IntVar(&sf.lines, "lines", 100_000, "the number of formula lines")
+	fs.BoolVar(&sf.ifs, "if", false, "give about one line item in five an if(...)")
+	fs.Uint64Var(&sf.seed, "seed", 1, "the generator's seed")
+	if repeat {
+		fs.IntVar(&sf.repeat, "repeat", 3, "times to repeat each timing (the median is shown)")
+	}
+	if err := fs.Parse(args); err != nil || fs.NArg() > 0 || sf.lines < 3 {
+		if err == nil {
+			fmt.Fprintf(stderr, "usage: nudge bench %s [--lines N] [--if] [--seed S]\n", name)
+		}
+		return nil, false
+	}
+	sf.repeat = max(sf.repeat, 1)
+	return sf, true
+}
+
+// benchModel prints the scale model (tapebench.ScaleModel) as a model file.
+func benchModel(args []string, stdout, stderr io.Writer) int {
+	sf, ok := parseScaleFlags("model", args, stderr, false)
+	if !ok {
+		return 2
+	}
+	if _, err := stdout.Write(tapebench.ScaleModel(sf.lines, sf.ifs, sf.seed)); err != nil {
+		fmt.Fprintln(stderr, "nudge bench model:", err)
+		return 1
+	}
+	return 0
+}
+
+// benchScale measures the engine on the scale model: parse and compile
+// times, the process's peak memory after compiling, one forward evaluation,
+// drivers and tornado of the total, and `nudge exec` of the model with
+// drivers and tornado commands (through the cell interpreter, output
+// discarded). Times are medians of --repeat runs.
+func benchScale(args []string, stdout, stderr io.Writer) int {
+	sf, ok := parseScaleFlags("scale", args, stderr, true)
+	if !ok {
+		return 2
+	}
+	if err := runScale(sf, stdout); err != nil {
+		fmt.Fprintln(stderr, "nudge bench scale:", err)
+		return 1
+	}
+	return 0
+}
+
+// timeMedian runs f n times and returns the median time.
+func timeMedian(n int, f func() error) (time.Duration, error) {
+	ts := make([]time.Duration, n)
+	for r := range ts {
+		runtime.GC()
+		start := time.Now()
+		if err := f(); err != nil {
+			return 0, err
+		}
+		ts[r] = time.Since(start)
+	}
+	slices.Sort(ts)
+	return ts[n/2], nil
+}
+
+func runScale(sf *scaleFlags, w io.Writer) error {
+	src := tapebench.ScaleModel(sf.lines, sf.ifs, sf.seed)
+	var stmts []syntax.Stmt
+	var file *syntax.File
+	compile := func() (*sens.Program, error) {
+		m := sens.NewModel()
+		for _, s := range stmts {
+			m.Define(file, s)
+		}
+		return m.Compile()
+	}
+	// Memory first, while nothing else has been allocated.
+	var err error
+	if file, stmts, err = syntax.Parse("bid", src); err != nil {
+		return err
+	}
+	prog, err := compile()
+	if err != nil {
+		return err
+	}
+	peak := peakRSS()
+	tParse, err := timeMedian(sf.repeat, func() error { _, _, err := syntax.Parse("bid", src); return err })
+	if err != nil {
+		return err
+	}
+	tCompile, err := timeMedian(sf.repeat, func() error { _, err := compile(); return err })
+	if err != nil {
+		return err
+	}
+	pr, err := prog.Problem("total")
+	if err != nil {
+		return err
+	}
+	x0 := pr.Baseline()
+	evals := 0
+	tEval, err := timeMedian(sf.repeat, func() error {
+		start := time.Now()
+		evals = 0
+		for time.Since(start) < 200*time.Millisecond {
+			if _, err := pr.F.Eval(x0); err != nil {
+				return err
+			}
+			evals++
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	tEval /= time.Duration(evals)
+	tDrivers, err := timeMedian(sf.repeat, func() error { _, err := sens.Drivers(pr, nil); return err })
+	if err != nil {
+		return err
+	}
+	var tr *sens.TornadoResult
+	tTornado, err := timeMedian(sf.repeat, func() error { tr, err = sens.Tornado(pr, &sens.TornadoSettings{Top: 10}); return err })
+	if err != nil {
+		return err
+	}
+	cell := string(src) + "drivers total top=10\ntornado total top=10\n"
+	tExec, err := timeMedian(sf.repeat, func() error {
+		in := kernel.New()
+		in.Opts.NoCharts = true
+		sink := &kernel.WriterSink{Out: io.Discard, Err: io.Discard}
+		return kernel.RunFile(context.Background(), in, "bid", cell, sink)
+	})
+	if err != nil {
+		return err
+	}
+
+	what := "products and max"
+	if sf.ifs {
+		what += ", if"
+	}
+	fmt.Fprintf(w, "nudge bench scale: a generated bid of %d lines (%s), %d inputs, %d tape nodes\n",
+		sf.lines, what, len(prog.Inputs), prog.TapeLen())
+	fmt.Fprintf(w, "(medians of %d runs; ratios from this run)\n", sf.repeat)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "figure\tvalue\tper line or ratio")
+	perLine := func(d time.Duration) string { return fmtNs(float64(d.Nanoseconds()) / float64(sf.lines)) }
+	fmt.Fprintf(tw, "parse\t%s\t%s a line\n", fmtNs(float64(tParse)), perLine(tParse))
+	fmt.Fprintf(tw, "compile (declare and compile)\t%s\t%s a line\n", fmtNs(float64(tCompile)), perLine(tCompile))
+	fmt.Fprintf(tw, "compile / parse\t\t%.2f\n", float64(tCompile)/float64(tParse))
+	if peak > 0 {
+		fmt.Fprintf(tw, "peak memory after parse and compile (max RSS)\t%.0f MB\t\n", float64(peak)/1e6)
+	}
+	fmt.Fprintf(tw, "one forward evaluation of total\t%s\t\n", fmtNs(float64(tEval)))
+	fmt.Fprintf(tw, "drivers total\t%s\t%.1f forward evaluations\n", fmtNs(float64(tDrivers)), float64(tDrivers)/float64(tEval))
+	fmt.Fprintf(tw, "tornado total (%d points)\t%s\t%.1f forward evaluations\n", tr.Evaluations, fmtNs(float64(tTornado)), float64(tTornado)/float64(tEval))
+	fmt.Fprintf(tw, "exec: model, drivers and tornado\t%s\t%.2f compile times\n", fmtNs(float64(tExec)), float64(tExec)/float64(tCompile))
+	return tw.Flush()
+}
