@@ -37,7 +37,7 @@ type TornadoBar struct {
 	// the bar's ends do not show its whole extent.
 	NonMonotone bool `json:"non_monotone"`
 	// Sampled is set when points inside the range were evaluated; inputs in
-	// which the output is shown to be linear are not sampled.
+	// which the output is proven monotone are not sampled.
 	Sampled bool `json:"sampled"`
 }
 
@@ -135,12 +135,14 @@ const DefaultInterior = 9
 // least and greatest output found (out_min, out_max), refining an extreme
 // found inside the range by repeated bisection of its bracket and a final
 // parabolic step; an input over which the output rises and falls is marked
-// non-monotone. Sampling is skipped for an input in which the output is shown
-// to be linear: when the output at the low end, the baseline and the high end
-// lie on one line and the reverse-mode derivative at the baseline equals that
-// line's slope, no polynomial of degree three or less in that input is other
-// than linear. A model with step-shaped operations on the output's path is
-// sampled in every input, since a step inside the range passes this test.
+// non-monotone. Sampling is skipped only for an input in which the output is
+// proven monotone from the model's structure (tape.Cones.Monotone: every
+// operation between the input and the output moves with it or against it
+// in a known direction, such as a sum, a product with a factor that does not
+// depend on the input, max, exp or ceil), since a monotone function is
+// least and greatest at the ends of any range. Values decide nothing there:
+// an output that agrees with a line at three points and in its slope, such
+// as a · (1 − cos(2π · month / 6)) over month 0..12, is still sampled.
 //
 // Bars are sorted by out_max - out_min descending, ties by name. For a
 // monotone input that is its swing, so the order is by swing; an input whose
@@ -168,22 +170,22 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 	ev := newBatcher(p.F, x0, set)
 
 	// Stage 1: the baseline, both ends, and the midpoint of a range whose
-	// baseline is not inside it.
+	// baseline is not inside it, for an input to be sampled.
 	pts := make([]point, 0, 2*k+1)
 	pts = append(pts, point{i: -1, j: -1})
 	for i, in := range p.Inputs {
 		pts = append(pts, point{i: i, vi: in.Low, j: -1}, point{i: i, vi: in.High, j: -1})
 	}
-	mid := make([]int, k) // index into pts of the midpoint check, or 0
+	mid := make([]int, k) // index into pts of the midpoint, or 0
 	if m > 0 {
 		for i, in := range p.Inputs {
-			if in.Low < in.High && !(in.Low < in.Value && in.Value < in.High) {
+			if in.Low < in.High && !(in.Low < in.Value && in.Value < in.High) && !ev.monotone(i) {
 				mid[i] = len(pts)
 				pts = append(pts, point{i: i, vi: (in.Low + in.High) / 2, j: -1})
 			}
 		}
 	}
-	ev.total = len(pts) + 1
+	ev.total = len(pts)
 	if m > 0 {
 		ev.total += m * k / 4 // a guess, corrected once known
 	}
@@ -192,14 +194,6 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		return nil, err
 	}
 	base := y[0]
-	var grad []float64
-	if m > 0 && len(p.Steps) == 0 {
-		grad = make([]float64, k)
-		if _, err := p.F.Gradient(grad, x0); err != nil {
-			return nil, err
-		}
-		ev.done++
-	}
 
 	res := &TornadoResult{Kind: "tornado", Output: p.Output, Unit: p.Unit, Baseline: base, Interior: m}
 	bars := make([]TornadoBar, k)
@@ -215,22 +209,13 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 			res.DefaultRanges = append(res.DefaultRanges, in.Name)
 		}
 		bars[i] = b
-		if m == 0 || in.Low >= in.High {
+		if m == 0 || in.Low >= in.High || ev.monotone(i) {
 			continue
-		}
-		if grad != nil {
-			xm, fm := in.Value, base
-			if mid[i] > 0 {
-				xm, fm = pts[mid[i]].vi, y[mid[i]]
-			}
-			if linearIn(in.Low, xm, in.High, fl, fm, fh, grad[i]) {
-				continue
-			}
 		}
 		sample = append(sample, i)
 	}
 
-	// Stage 2: interior points of the inputs not shown to be linear.
+	// Stage 2: interior points of the inputs not proven monotone.
 	var inner []xy
 	if len(sample) > 0 {
 		pts2 := make([]point, 0, m*len(sample))
@@ -373,18 +358,6 @@ func dedupe(xs []xy) []xy {
 	return out
 }
 
-// linearIn reports whether the output is linear in one input as far as three
-// values (at a < b < c) and the derivative at the baseline can tell.
-func linearIn(a, b, c, fa, fb, fc, slope float64) bool {
-	tol := 1e-9*(math.Abs(fa)+math.Abs(fb)+math.Abs(fc)) + 1e-300
-	chord := fc - fa
-	if math.Abs(slope*(c-a)-chord) > tol {
-		return false
-	}
-	line := fa + chord*(b-a)/(c-a)
-	return math.Abs(fb-line) <= tol
-}
-
 // flatTol is the tolerance below which differences of outputs count as
 // rounding.
 func flatTol(xs []xy) float64 {
@@ -510,100 +483,6 @@ func grow(s []float64, n int) []float64 {
 		return make([]float64, n)
 	}
 	return s[:n]
-}
-
-// ---- batched evaluation of points near the baseline
-
-// point is the baseline with up to two inputs changed: x_i = vi and, when
-// j >= 0, x_j = vj. i = -1 is the baseline itself.
-type point struct {
-	i, j   int
-	vi, vj float64
-}
-
-// batcher evaluates points that differ from the baseline in one or two
-// inputs, in batches through EvalBatch. It keeps a block of rows equal to the
-// baseline and changes only the coordinates each point sets, so preparing a
-// point costs O(1), not O(number of inputs).
-type batcher struct {
-	f     Function
-	base  []float64
-	dim   int
-	rows  []float64
-	chunk int
-	s     *Settings
-
-	done, total int
-}
-
-// maxBatchFloats bounds the memory of one batch of rows (4 MiB); maxBatch
-// bounds its number of points.
-const (
-	maxBatchFloats = 1 << 19
-	maxBatch       = 1024
-)
-
-func newBatcher(f Function, base []float64, s *Settings) *batcher {
-	dim := len(base)
-	chunk := maxBatch
-	if dim > 0 && maxBatchFloats/dim < chunk {
-		chunk = max(1, maxBatchFloats/dim)
-	}
-	return &batcher{f: f, base: base, dim: dim, chunk: chunk, s: s}
-}
-
-// eval writes f at every point into dst, checking for cancellation and
-// reporting progress between batches.
-func (b *batcher) eval(dst []float64, pts []point) error {
-	ctx := b.s.ctx()
-	for start := 0; start < len(pts); start += b.chunk {
-		if err := ctx.Err(); err != nil {
-			return fmt.Errorf("stopped: %w", err)
-		}
-		n := min(b.chunk, len(pts)-start)
-		if len(b.rows) < n*b.dim {
-			old := len(b.rows) / max(1, b.dim)
-			b.rows = append(b.rows, make([]float64, n*b.dim-len(b.rows))...)
-			for r := old; r < n; r++ {
-				copy(b.rows[r*b.dim:(r+1)*b.dim], b.base)
-			}
-		}
-		batch := pts[start : start+n]
-		for r, p := range batch {
-			row := b.rows[r*b.dim : (r+1)*b.dim]
-			if p.i >= 0 {
-				row[p.i] = p.vi
-			}
-			if p.j >= 0 {
-				row[p.j] = p.vj
-			}
-		}
-		err := b.f.EvalBatch(dst[start:start+n], b.rows[:n*b.dim], n)
-		for r, p := range batch {
-			row := b.rows[r*b.dim : (r+1)*b.dim]
-			if p.i >= 0 {
-				row[p.i] = b.base[p.i]
-			}
-			if p.j >= 0 {
-				row[p.j] = b.base[p.j]
-			}
-		}
-		if err != nil {
-			return err
-		}
-		b.done += n
-		if b.total < b.done {
-			b.total = b.done
-		}
-		b.s.progress(b.done, b.total)
-	}
-	return nil
-}
-
-// finish reports the work as complete.
-func (b *batcher) finish() {
-	b.total = b.done
-	b.s.progress(b.done, b.total)
 }
 
 // errNoInputs is the error of a one-at-a-time analysis of an output that

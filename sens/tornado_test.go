@@ -65,8 +65,6 @@ input e = 0.5 (-10%..+30%)
 y = a*b + c*d*e
 `
 	p := problemOf(t, src, "y")
-	cf := &counting{Function: p.F}
-	p.F = cf
 	r, err := Tornado(p, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -97,10 +95,62 @@ y = a*b + c*d*e
 			t.Fatalf("order %v, want %v", names(r), want)
 		}
 	}
-	// Evaluations: the baseline and two ends per input in one batch, plus
-	// one gradient; never one Eval per point.
-	if cf.evals != 0 || cf.batches != 1 || cf.points != 11 || cf.grads != 1 {
-		t.Errorf("evals %d, batches %d, points %d, gradients %d; want 0, 1, 11, 1", cf.evals, cf.batches, cf.points, cf.grads)
+	// Evaluations: the baseline and two ends per input.
+	if r.Evaluations != 11 {
+		t.Errorf("%d evaluations, want 11", r.Evaluations)
+	}
+	// A Function whose structure cannot be seen (here the same function
+	// behind a wrapper) proves nothing: every input is sampled, batched,
+	// never one Eval per point, and the bars are the same.
+	cf := &counting{Function: p.F}
+	p.F = cf
+	r2, err := Tornado(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if cf.evals != 0 || cf.batches != 2 || cf.points != 11+5*DefaultInterior || cf.grads != 0 {
+		t.Errorf("evals %d, batches %d, points %d, gradients %d; want 0, 2, %d, 0", cf.evals, cf.batches, cf.points, cf.grads, 11+5*DefaultInterior)
+	}
+	for i, br := range r2.Bars {
+		if o := r.Bars[i]; br.Name != o.Name || br.OutputAtLow != o.OutputAtLow || br.OutputAtHigh != o.OutputAtHigh || br.OutMin != o.OutMin || br.OutMax != o.OutMax || !br.Sampled {
+			t.Errorf("bar %d through a wrapper: %+v, want %+v sampled", i, br, o)
+		}
+	}
+}
+
+// TestTornadoSeasonal is the regression test of a linearity shortcut that
+// looked at values: y = amp · (1 − cos(2π · month / 6)) over month 0..12 is
+// 0 at both ends and at the baseline 6, and so is its derivative there,
+// yet 1 − cos θ reaches its maximum 2 at θ = π and 3π (months 3 and 9),
+// so y rises to 2 · amp and falls back twice (the cosine's extremes: common
+// practice). amp enters as a factor, which the model's structure proves
+// affine: it is not sampled.
+func TestTornadoSeasonal(t *testing.T) {
+	src := `
+input amp   = 1000 [$] (800..1200)
+input month = 6 (0..12)
+y = amp * (1 - cos(2 * pi * month / 6))
+`
+	p := problemOf(t, src, "y")
+	r, err := Tornado(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := bar(t, r, "month")
+	if !m.Sampled || !m.NonMonotone {
+		t.Errorf("month: sampled %v, non-monotone %v; want both", m.Sampled, m.NonMonotone)
+	}
+	if !scalar.EqualWithinAbsOrRel(m.OutMax, 2000, 1e-6, 1e-9) || math.Abs(m.OutMin) > 1e-9 {
+		t.Errorf("month: out_min %v, out_max %v; want 0 and 2 · amp = 2000", m.OutMin, m.OutMax)
+	}
+	if at := m.InputAtMax; !scalar.EqualWithinAbsOrRel(at, 3, 1e-6, 0) && !scalar.EqualWithinAbsOrRel(at, 9, 1e-6, 0) {
+		t.Errorf("month: maximum at %v, want 3 or 9", at)
+	}
+	if r.Bars[0].Name != "month" {
+		t.Errorf("order %v: month's spread of 2000 should rank first", names(r))
+	}
+	if a := bar(t, r, "amp"); a.Sampled || a.Swing != 0 {
+		t.Errorf("amp: sampled %v, swing %v; want an affine input left unsampled, swing 0 (y = 0 at the baseline month)", a.Sampled, a.Swing)
 	}
 }
 
@@ -147,8 +197,10 @@ func TestTornadoLinear(t *testing.T) {
 		if d := br.OutputAtHigh - br.OutputAtLow; !scalar.EqualWithinAbsOrRel(d, b[i]*(hi[i]-lo[i]), 1e-12, 1e-12) {
 			t.Errorf("x%d output_at_high - output_at_low = %v, want %v", i, d, b[i]*(hi[i]-lo[i]))
 		}
-		if br.Sampled {
-			t.Errorf("x%d sampled; a linear input needs no interior points", i)
+		// A plain Go function shows no structure to prove linearity from,
+		// so every input with a range is sampled, and found monotone.
+		if br.Sampled != (lo[i] < hi[i]) || br.NonMonotone {
+			t.Errorf("x%d: sampled %v, non-monotone %v; want sampled, monotone", i, br.Sampled, br.NonMonotone)
 		}
 	}
 }
@@ -355,15 +407,15 @@ func TestTornadoLargeModelEvaluations(t *testing.T) {
 	if testing.Short() {
 		t.Skip("large model")
 	}
-	// A tornado of a model linear in each input costs the 2k ends, the
-	// baseline and one gradient.
+	// A tornado of a model affine in each input costs the 2k ends and the
+	// baseline.
 	p := problemOf(t, bidModel(2000, false), "total")
 	r, err := Tornado(p, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if r.Evaluations != 2*2000+2 || len(r.Bars) != 2000 {
-		t.Errorf("%d evaluations, %d bars; want %d, 2000", r.Evaluations, len(r.Bars), 2*2000+2)
+	if r.Evaluations != 2*2000+1 || len(r.Bars) != 2000 {
+		t.Errorf("%d evaluations, %d bars; want %d, 2000", r.Evaluations, len(r.Bars), 2*2000+1)
 	}
 }
 

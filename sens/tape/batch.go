@@ -67,32 +67,6 @@ func checkBatch(x []float64, n, nIn int) {
 	}
 }
 
-// ForwardBatch evaluates output i for n samples: x is row-major
-// (n × NumInputs) and out receives the n values. It returns a
-// *DomainError for the first sample whose output would be NaN or ±Inf,
-// with Sample set; out is then filled only up to that sample's block.
-//
-// Samples are evaluated in blocks, each operation running over a block
-// before the next; the block width is chosen so that the block buffers
-// stay within a fixed budget (4 MiB), and a tape too long for a useful
-// block runs sample by sample.
-func (t *Tape) ForwardBatch(out, x []float64, n, i int) error {
-	checkBatch(x, n, t.p.nIn)
-	if len(out) != n {
-		panic("tape: ForwardBatch output length differs from n")
-	}
-	t.ensureBatch(false)
-	if t.bw < minBlock {
-		return t.bySample(out, nil, x, n, i, false)
-	}
-	for base := 0; base < n; base += t.bw {
-		if err := t.forwardBlock(out, x, i, base, min(t.bw, n-base)); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
 // bySample runs a batch sample by sample, through Eval or, with grad,
 // Gradient: the way of a tape too long for a useful block.
 func (t *Tape) bySample(out, grads, x []float64, n, i int, grad bool) error {
@@ -263,70 +237,6 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 			for s := range o {
 				o[s] = xs[s] * xs[s]
 			}
-		case OpSqrt:
-			for s := range o {
-				o[s] = math.Sqrt(xs[s])
-			}
-		case OpExp:
-			for s := range o {
-				o[s] = math.Exp(xs[s])
-			}
-			if computed(a) && !allFinite(xs) {
-				bad = true
-			}
-		case OpLn:
-			for s := range o {
-				o[s] = math.Log(xs[s])
-			}
-		case OpAbs:
-			for s := range o {
-				o[s] = math.Abs(xs[s])
-			}
-		case OpPowConst:
-			c := ys[0]
-			for s := range o {
-				o[s] = math.Pow(xs[s], c)
-			}
-			if computed(a) && !allFinite(xs) {
-				bad = true
-			}
-		case OpMin:
-			for s := range o {
-				x, y := xs[s], ys[s]
-				if x <= y {
-					o[s] = x
-				} else {
-					o[s] = y
-				}
-			}
-			if computed(a) && !allFinite(xs) || computed(b) && !allFinite(ys) {
-				bad = true
-			}
-		case OpMax:
-			for s := range o {
-				x, y := xs[s], ys[s]
-				if x >= y {
-					o[s] = x
-				} else {
-					o[s] = y
-				}
-			}
-			if computed(a) && !allFinite(xs) || computed(b) && !allFinite(ys) {
-				bad = true
-			}
-		case OpIf:
-			c := as[k+1]
-			zs := t.row(bv, c, m)[:len(o)]
-			for s := range o {
-				if xs[s] != 0 {
-					o[s] = ys[s]
-				} else {
-					o[s] = zs[s]
-				}
-			}
-			if computed(a) && !allFinite(xs) || computed(b) && !allFinite(ys) || computed(c) && !allFinite(zs) {
-				bad = true
-			}
 		default:
 			var zs []float64
 			if op.Arity() == 3 {
@@ -337,7 +247,7 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 				}
 			}
 			vecOp(op, o, xs, ys, zs)
-			if opMetas[op].guard && (computed(a) && !allFinite(xs) || computed(b) && !allFinite(ys)) {
+			if opMetas[op].guard && (computed(a) && !allFinite(xs) || op != OpPowConst && computed(b) && !allFinite(ys)) {
 				bad = true
 			}
 		}
@@ -553,11 +463,58 @@ func (t *Tape) reverseBlock(m, out int) {
 	}
 }
 
-// vecOp sets o[s] = op(x[s], y[s], z[s]) for the operations runBlock has
-// no loop of its own for; z is nil unless op takes three arguments.
+// vecOp sets o[s] = op(x[s], y[s], z[s]) for the operations the batched
+// passes have no loop of their own for; z is nil unless op takes three
+// arguments. o may be one of x, y and z.
 func vecOp(op Op, o, x, y, z []float64) {
 	x, y = x[:len(o)], y[:len(o)]
 	switch op {
+	case OpSqrt:
+		for s := range o {
+			o[s] = math.Sqrt(x[s])
+		}
+	case OpExp:
+		for s := range o {
+			o[s] = math.Exp(x[s])
+		}
+	case OpLn:
+		for s := range o {
+			o[s] = math.Log(x[s])
+		}
+	case OpAbs:
+		for s := range o {
+			o[s] = math.Abs(x[s])
+		}
+	case OpPowConst:
+		c := y[0]
+		for s := range o {
+			o[s] = math.Pow(x[s], c)
+		}
+	case OpMin:
+		for s := range o {
+			if a, b := x[s], y[s]; a <= b {
+				o[s] = a
+			} else {
+				o[s] = b
+			}
+		}
+	case OpMax:
+		for s := range o {
+			if a, b := x[s], y[s]; a >= b {
+				o[s] = a
+			} else {
+				o[s] = b
+			}
+		}
+	case OpIf:
+		z = z[:len(o)]
+		for s := range o {
+			if x[s] != 0 {
+				o[s] = y[s]
+			} else {
+				o[s] = z[s]
+			}
+		}
 	case OpFloor:
 		for s := range o {
 			o[s] = math.Floor(x[s])

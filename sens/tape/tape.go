@@ -19,6 +19,7 @@ type tapeProg struct {
 	// (even ones), in order; both nil when none is.
 	direct []bool
 	runs   [][2]int
+	cache  planCache // plans of the batched passes, by output
 }
 
 // Tape is a compiled computation: a flat list of operations in
@@ -56,6 +57,8 @@ type Tape struct {
 	bvals []float64
 	badj  []float64
 	bsum  []float64 // the partial sums of a sum loop over a block (vec.go)
+
+	ps *planState // the batched forward pass's plan and rows
 }
 
 // NumInputs returns the number of inputs.

@@ -505,6 +505,17 @@ func tapeDecisions(tp *Tape, dst []float64) []float64 {
 // forward value against direct evaluation of the tree, and the reverse
 // gradient against gonum central differences, with a tolerance that
 // accounts for the finite differences' own error.
+// tape records e over nIn inputs, its nodes at position pos.
+func (e *rexpr) tape(nIn int, pos int32) *Tape {
+	b := NewBuilder()
+	in := make([]Slot, nIn)
+	for i := range in {
+		in[i] = b.Input()
+	}
+	b.SetPos(pos)
+	return b.Tape(e.build(b, in))
+}
+
 func TestTapeRandomFormulas(t *testing.T) {
 	const total = 1500
 	const nIn = 3
@@ -513,13 +524,7 @@ func TestTapeRandomFormulas(t *testing.T) {
 	grad := make([]float64, nIn)
 	for f := 0; f < total; f++ {
 		e := g.expr(4)
-		b := NewBuilder()
-		in := make([]Slot, nIn)
-		for i := range in {
-			in[i] = b.Input()
-		}
-		b.SetPos(int32(f))
-		tp := b.Tape(e.build(b, in))
+		tp := e.tape(nIn, int32(f))
 		x := make([]float64, nIn)
 		for i := range x {
 			x[i] = math.Round((g.rng.Float64()*6-3)*1000) / 1000

@@ -1,0 +1,237 @@
+package sens
+
+import (
+	"fmt"
+
+	"github.com/nudge-dev/nudge/sens/tape"
+)
+
+// Batched evaluation of points near the baseline: the one-at-a-time
+// analyses (tornado, spider, sweeps, break-even) evaluate points that differ
+// from the baseline in one or two inputs.
+
+// point is the baseline with up to two inputs changed: x_i = vi and, when
+// j >= 0, x_j = vj. i = -1 is the baseline itself.
+type point struct {
+	i, j   int
+	vi, vj float64
+}
+
+// batcher evaluates points that differ from the baseline in one or two
+// inputs. For a compiled model (a Function with cones) it evaluates each
+// run of points that change the same inputs by re-evaluating only the cone
+// of those inputs (tape.Cones), batched; the values are those of Eval to
+// the last bit. Any other Function gets the points as rows through
+// EvalBatch: a block of rows equal to the baseline in which only the
+// coordinates each point sets are changed, so preparing a point costs O(1),
+// not O(number of inputs).
+type batcher struct {
+	f     Function
+	base  []float64
+	dim   int
+	rows  []float64
+	chunk int
+	s     *Settings
+	cones coneSet // nil when f has none, or its baseline fails
+	vi    []float64
+	vj    []float64
+
+	done, total int
+}
+
+// maxBatchFloats bounds the memory of one batch of rows (4 MiB); maxBatch
+// bounds its number of points.
+const (
+	maxBatchFloats = 1 << 19
+	maxBatch       = 1024
+)
+
+func newBatcher(f Function, base []float64, s *Settings) *batcher {
+	dim := len(base)
+	chunk := maxBatch
+	if dim > 0 && maxBatchFloats/dim < chunk {
+		chunk = max(1, maxBatchFloats/dim)
+	}
+	b := &batcher{f: f, base: base, dim: dim, chunk: chunk, s: s}
+	if c, ok := f.(coner); ok {
+		// A baseline that fails leaves the cones off: the points are then
+		// evaluated as rows, and the failure reported as Eval reports it.
+		if cs, err := c.cones(base); err == nil {
+			b.cones = cs
+			b.chunk = maxBatch
+		}
+	}
+	return b
+}
+
+// eval writes f at every point into dst, checking for cancellation and
+// reporting progress between batches.
+func (b *batcher) eval(dst []float64, pts []point) error {
+	ctx := b.s.ctx()
+	for start := 0; start < len(pts); start += b.chunk {
+		if err := ctx.Err(); err != nil {
+			return fmt.Errorf("stopped: %w", err)
+		}
+		n := min(b.chunk, len(pts)-start)
+		var err error
+		if b.cones != nil {
+			err = b.evalCones(dst[start:start+n], pts[start:start+n])
+		} else {
+			err = b.evalRows(dst[start:start+n], pts[start:start+n])
+		}
+		if err != nil {
+			return err
+		}
+		b.done += n
+		if b.total < b.done {
+			b.total = b.done
+		}
+		b.s.progress(b.done, b.total)
+	}
+	return nil
+}
+
+// evalCones evaluates each run of points that change the same inputs
+// through the cone of those inputs.
+func (b *batcher) evalCones(dst []float64, pts []point) error {
+	for r := 0; r < len(pts); {
+		p := pts[r]
+		e := r + 1
+		for e < len(pts) && pts[e].i == p.i && pts[e].j == p.j {
+			e++
+		}
+		switch {
+		case p.i < 0:
+			for s := r; s < e; s++ {
+				dst[s] = b.cones.base()
+			}
+		default:
+			b.vi, b.vj = b.vi[:0], b.vj[:0]
+			for _, q := range pts[r:e] {
+				b.vi = append(b.vi, q.vi)
+				b.vj = append(b.vj, q.vj)
+			}
+			if err := b.cones.eval(dst[r:e], p.i, b.vi, p.j, b.vj); err != nil {
+				return err
+			}
+		}
+		r = e
+	}
+	return nil
+}
+
+// evalRows evaluates points as rows through EvalBatch.
+func (b *batcher) evalRows(dst []float64, batch []point) error {
+	n := len(batch)
+	if len(b.rows) < n*b.dim {
+		old := len(b.rows) / max(1, b.dim)
+		b.rows = append(b.rows, make([]float64, n*b.dim-len(b.rows))...)
+		for r := old; r < n; r++ {
+			copy(b.rows[r*b.dim:(r+1)*b.dim], b.base)
+		}
+	}
+	for r, p := range batch {
+		row := b.rows[r*b.dim : (r+1)*b.dim]
+		if p.i >= 0 {
+			row[p.i] = p.vi
+		}
+		if p.j >= 0 {
+			row[p.j] = p.vj
+		}
+	}
+	err := b.f.EvalBatch(dst, b.rows[:n*b.dim], n)
+	for r, p := range batch {
+		row := b.rows[r*b.dim : (r+1)*b.dim]
+		if p.i >= 0 {
+			row[p.i] = b.base[p.i]
+		}
+		if p.j >= 0 {
+			row[p.j] = b.base[p.j]
+		}
+	}
+	return err
+}
+
+// monotone reports whether the output is proven monotone in input i (see
+// tape.Cones.Monotone); false when that cannot be told.
+func (b *batcher) monotone(i int) bool { return b.cones != nil && b.cones.monotone(i) }
+
+// finish reports the work as complete.
+func (b *batcher) finish() {
+	b.total = b.done
+	b.s.progress(b.done, b.total)
+}
+
+// ---- cones of a compiled output
+
+// coner is a Function that can evaluate points near a base point by
+// re-evaluating only what the changed inputs reach.
+type coner interface {
+	cones(base []float64) (coneSet, error)
+}
+
+// coneSet evaluates a Function at points that differ from its base point in
+// input i and, when j >= 0, input j.
+type coneSet interface {
+	base() float64
+	eval(dst []float64, i int, vi []float64, j int, vj []float64) error
+	monotone(i int) bool
+}
+
+// fnCones are the cones of a compiled formula, over every program input.
+type fnCones struct {
+	fn    *Fn
+	c     *tape.Cones
+	x0    []float64 // the base, every program input
+	index []int     // problem input -> program input (nil: the same)
+}
+
+func (fn *Fn) cones(base []float64) (coneSet, error) {
+	c, err := fn.tape.Cones(base, fn.f.out)
+	if err != nil {
+		return nil, fn.prog.evalError(err, base)
+	}
+	return &fnCones{fn: fn, c: c, x0: base}, nil
+}
+
+func (s *subFn) cones(base []float64) (coneSet, error) {
+	full := append([]float64(nil), s.full...)
+	for i, j := range s.index {
+		full[j] = base[i]
+	}
+	c, err := s.fn.tape.Cones(full, s.fn.f.out)
+	if err != nil {
+		return nil, s.fn.prog.evalError(err, full)
+	}
+	return &fnCones{fn: s.fn, c: c, x0: full, index: s.index}, nil
+}
+
+func (fc *fnCones) input(i int) int {
+	if i < 0 || fc.index == nil {
+		return i
+	}
+	return fc.index[i]
+}
+
+func (fc *fnCones) base() float64 { return fc.c.Base() * fc.fn.scale }
+
+func (fc *fnCones) monotone(i int) bool { return fc.c.Monotone(fc.input(i)) }
+
+func (fc *fnCones) eval(dst []float64, i int, vi []float64, j int, vj []float64) error {
+	pi, pj := fc.input(i), fc.input(j)
+	if err := fc.c.Eval(dst, pi, vi, pj, vj, len(dst)); err != nil {
+		var x []float64
+		if de, ok := err.(*tape.DomainError); ok && de.Sample >= 0 && de.Sample < len(dst) {
+			x = append([]float64(nil), fc.x0...)
+			x[pi] = vi[de.Sample]
+			if pj >= 0 {
+				x[pj] = vj[de.Sample]
+			}
+		}
+		return fc.fn.prog.evalError(err, x)
+	}
+	for s := range dst {
+		dst[s] *= fc.fn.scale
+	}
+	return nil
+}

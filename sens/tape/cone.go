@@ -1,0 +1,354 @@
+package tape
+
+import (
+	"fmt"
+	"slices"
+)
+
+// Cones evaluates one output of a tape at points that differ from a base
+// point in one or two inputs, the way one-at-a-time analyses (tornado,
+// spider, a sweep, a break-even search) move: it evaluates the base once,
+// and for each point re-evaluates only the cone of the inputs that change,
+// the operations that depend on them, reading every other operand from the
+// base. The values are those of Eval at the same points, to the last bit:
+// the same operations on the same operands.
+//
+// A Cones is not safe for concurrent use.
+type Cones struct {
+	t    *Tape // a clone of its own
+	out  int
+	base []float64 // the base inputs
+	vals []float64 // every node's value at the base
+	y0   float64
+
+	// users[ustart[k]:ustart[k+1]] are the nodes, needed by the output,
+	// that read node k.
+	ustart []int32
+	users  []int32
+	needed []bool
+
+	seen    []uint32 // visit stamps of the cone search
+	stamp   uint32
+	scratch []int32 // for newPlan: two -1 a node
+	dir     []int8  // for Monotone: a direction a node
+
+	plans      map[[2]int32]*plan
+	planInstrs int // instructions held by plans, bounded by coneCache
+	buf        []float64
+	rows       [][]float64
+	x          []float64 // a full input vector for the reference pass
+}
+
+// coneCache bounds the instructions of the cone plans a Cones keeps.
+const coneCache = 1 << 20
+
+// Cones returns an evaluator of output i around the base inputs x. It
+// evaluates the base, and returns its error, if any, as Eval would.
+func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
+	c := &Cones{t: t.Clone(), out: i, base: slices.Clone(x), plans: map[[2]int32]*plan{}}
+	y, err := c.t.Eval(x, i)
+	if err != nil {
+		return nil, err
+	}
+	c.y0 = y
+	c.vals = slices.Clone(c.t.vals)
+	p := t.p
+	c.needed = p.reach(i)
+	n := len(c.needed)
+	// Users, in compressed rows: count, then fill.
+	c.ustart = make([]int32, n+2)
+	each := func(k int, f func(a int32)) {
+		a, b := p.a[k], p.b[k]
+		f(a)
+		if b != a {
+			f(b)
+		}
+		if p.ops[k].Arity() == 3 {
+			if z := p.a[k+1]; z != a && z != b {
+				f(z)
+			}
+		}
+	}
+	for k := p.start; k < n; k++ {
+		if c.needed[k] && p.ops[k] != opArg {
+			each(k, func(a int32) { c.ustart[a+2]++ })
+		}
+	}
+	for k := 2; k < len(c.ustart); k++ {
+		c.ustart[k] += c.ustart[k-1]
+	}
+	c.users = make([]int32, c.ustart[n+1])
+	for k := p.start; k < n; k++ {
+		if c.needed[k] && p.ops[k] != opArg {
+			each(k, func(a int32) {
+				c.users[c.ustart[a+1]] = int32(k)
+				c.ustart[a+1]++
+			})
+		}
+	}
+	c.ustart = c.ustart[:n+1]
+	c.seen = make([]uint32, n)
+	c.scratch = make([]int32, 2*len(p.ops))
+	c.dir = make([]int8, n)
+	for k := range c.scratch {
+		c.scratch[k] = -1
+	}
+	return c, nil
+}
+
+// Base returns the output at the base point.
+func (c *Cones) Base() float64 { return c.y0 }
+
+// cone returns the operation nodes, in tape order, that depend on the
+// given inputs and that the output needs.
+func (c *Cones) cone(inputs []int32) []int32 {
+	c.stamp++
+	if c.stamp == 0 {
+		clear(c.seen)
+		c.stamp = 1
+	}
+	var stack, nodes []int32
+	for _, j := range inputs {
+		if int(j) < len(c.seen) && c.seen[j] != c.stamp {
+			c.seen[j] = c.stamp
+			stack = append(stack, j)
+		}
+	}
+	for len(stack) > 0 {
+		k := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		for _, u := range c.users[c.ustart[k]:c.ustart[k+1]] {
+			if c.seen[u] != c.stamp {
+				c.seen[u] = c.stamp
+				stack = append(stack, u)
+				nodes = append(nodes, u)
+			}
+		}
+	}
+	slices.Sort(nodes)
+	return nodes
+}
+
+// plan returns the plan of the cone of inputs (one, or two with j >= 0).
+func (c *Cones) plan(i, j int) *plan {
+	key := [2]int32{int32(i), int32(j)}
+	if pl := c.plans[key]; pl != nil {
+		return pl
+	}
+	inputs := []int32{int32(i)}
+	if j >= 0 {
+		inputs = append(inputs, int32(j))
+	}
+	nodes := c.cone(inputs)
+	pl := c.t.newPlan(planSrc{nodes: nodes, inputs: inputs, value: func(k int32) float64 { return c.vals[k] }},
+		c.t.p.outs[c.out], c.scratch[:len(c.t.p.ops)], c.scratch[len(c.t.p.ops):])
+	if c.planInstrs+len(pl.code) > coneCache {
+		clear(c.plans)
+		c.planInstrs = 0
+	}
+	c.plans[key] = pl
+	c.planInstrs += len(pl.code)
+	return pl
+}
+
+// Size returns the number of operations in the cone of input i (and input
+// j, when j >= 0): the work of one point, in tape nodes.
+func (c *Cones) Size(i, j int) int { return len(c.plan(i, j).code) }
+
+// Monotone reports whether the output is proven monotone in input i alone
+// (the others at the base), rising or falling over the whole line, from
+// the operations in the cone of i and the base values of the operands
+// outside it. Each operation's direction in its cone operands is known:
+// +, max, min, exp, ln, log10, sqrt, atan, asin, floor, ceil and round
+// keep it, unary - and acos reverse it, and so does - in its second
+// operand; a product with one factor outside the cone keeps it or reverses
+// it by that factor's sign, and so does a quotient by a divisor outside
+// the cone; an if whose condition is outside the cone passes the branch it
+// takes. An operation whose operands in the cone move in opposite
+// directions, a product or quotient of two values in the cone, an if whose
+// condition is in it, and every other operation leave the direction
+// unknown. The output is also monotone when it is affine in input i: when
+// every operation in the cone is +, -, unary -, a product with one factor
+// outside the cone, a quotient by a divisor outside it, or an if whose
+// condition is outside it (x·y + (z − 2x) is affine in x whatever the
+// signs). When either holds, the output over any
+// range of input i is least and greatest at the range's ends: rounding
+// keeps +, -, * and / monotone, so this holds of the computed values too
+// (the library functions aside, whose last bit may wobble). The test looks
+// at the model's structure and the base, not at sampled values, so no
+// shape between samples can fool it.
+func (c *Cones) Monotone(i int) bool {
+	p := c.t.p
+	const unknown = 2
+	nodes := c.cone([]int32{int32(i)})
+	// c.seen[k] == c.stamp marks the cone, input i included.
+	in := func(k int32) bool { return c.seen[k] == c.stamp }
+	dir := c.dir
+	d := func(k int32) int8 {
+		if in(k) {
+			return dir[k]
+		}
+		return 0
+	}
+	neg := func(a int8) int8 {
+		if a == unknown {
+			return a
+		}
+		return -a
+	}
+	both := func(a, b int8) int8 {
+		switch {
+		case a == unknown || b == unknown:
+			return unknown
+		case a == 0:
+			return b
+		case b == 0 || a == b:
+			return a
+		}
+		return unknown
+	}
+	times := func(a int8, v float64) int8 {
+		switch {
+		case a == unknown || v != v:
+			return unknown
+		case v > 0:
+			return a
+		case v < 0:
+			return -a
+		}
+		return 0
+	}
+	if int(i) < len(dir) {
+		dir[i] = 1
+	}
+	affine := true
+	for _, k := range nodes {
+		a, b := p.a[k], p.b[k]
+		switch op := p.ops[k]; {
+		case op == OpAdd || op == OpSub || op == OpNeg:
+		case op == OpMul && !(in(a) && in(b)):
+		case op == OpDiv && !in(b):
+		case op == OpIf && !in(a):
+		default:
+			affine = false
+		}
+		var r int8 = unknown
+		switch p.ops[k] {
+		case OpAdd, OpMax, OpMin:
+			r = both(d(a), d(b))
+		case OpSub:
+			r = both(d(a), neg(d(b)))
+		case OpNeg, OpAcos:
+			r = neg(d(a))
+		case OpExp, OpLn, OpLog10, OpSqrt, OpAtan, OpAsin, OpFloor, OpCeil, OpRound:
+			r = d(a)
+		case OpMul:
+			switch {
+			case in(a) && in(b):
+			case in(a):
+				r = times(d(a), c.vals[b])
+			default:
+				r = times(d(b), c.vals[a])
+			}
+		case OpDiv:
+			if !in(b) {
+				r = times(d(a), c.vals[b])
+			}
+		case OpIf:
+			if !in(a) {
+				if c.vals[a] != 0 {
+					r = d(b)
+				} else {
+					r = d(p.a[k+1])
+				}
+			}
+		}
+		dir[k] = r
+	}
+	out := p.outs[c.out]
+	ok := affine || d(out) != unknown
+	for _, k := range nodes {
+		dir[k] = 0
+	}
+	if int(i) < len(dir) {
+		dir[i] = 0
+	}
+	return ok
+}
+
+// Eval writes into dst the output at n points: the base with input i set
+// to vi[s] and, when j >= 0, input j to vj[s]. It returns a *DomainError
+// for the first point whose output would be NaN or ±Inf, with Sample set
+// to the point's index; dst is then filled up to that point's block.
+func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n int) error {
+	nIn := c.t.p.nIn
+	if i < 0 || i >= nIn || j >= nIn || j == i || len(vi) < n || j >= 0 && len(vj) < n || len(dst) < n {
+		panic(fmt.Sprintf("tape: Cones.Eval of inputs %d, %d over %d points", i, j, n))
+	}
+	pl := c.plan(i, j)
+	w := planWidth(pl.nreg)
+	if need := (pl.nreg - pl.nIn) * w; cap(c.buf) < need {
+		c.buf = make([]float64, need)
+	}
+	c.rows = c.rows[:0]
+	for r := 0; r < pl.nreg; r++ {
+		if r < pl.nIn {
+			c.rows = append(c.rows, nil)
+			continue
+		}
+		o := (r - pl.nIn) * w
+		c.rows = append(c.rows, c.buf[o:o+w:o+w])
+	}
+	for k, v := range pl.consts {
+		row := c.rows[pl.nIn+k]
+		for s := range row {
+			row[s] = v
+		}
+	}
+	e := &planExec{pl: pl, w: w, rows: c.rows}
+	for base := 0; base < n; base += w {
+		m := min(w, n-base)
+		e.rows[0] = vi[base : base+m]
+		if j >= 0 {
+			e.rows[1] = vj[base : base+m]
+		}
+		bad := e.run(m)
+		out := e.output(m)
+		copy(dst[base:base+m], out)
+		if bad || pl.alwaysBad || !allFinite(out) {
+			if err := c.reference(dst, i, vi, j, vj, base, m); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// reference evaluates points base..base+m-1 by the tape's scalar pass, to
+// find the error a block's test flagged, and returns it, or nil when the
+// non-finite values lay in branches not taken (the block's values stand).
+func (c *Cones) reference(dst []float64, i int, vi []float64, j int, vj []float64, base, m int) error {
+	if c.x == nil {
+		c.x = slices.Clone(c.base)
+	}
+	x := c.x
+	defer func() {
+		x[i] = c.base[i]
+		if j >= 0 {
+			x[j] = c.base[j]
+		}
+	}()
+	for s := base; s < base+m; s++ {
+		x[i] = vi[s]
+		if j >= 0 {
+			x[j] = vj[s]
+		}
+		y, err := c.t.Eval(x, c.out)
+		if err != nil {
+			err.(*DomainError).Sample = s
+			return err
+		}
+		dst[s] = y
+	}
+	return nil
+}

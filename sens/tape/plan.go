@@ -1,0 +1,274 @@
+package tape
+
+import "math"
+
+// A plan is the batched evaluator's program for one output of a tape: an
+// instruction array holding only the nodes that output needs (or, for a
+// cone, only the nodes that some inputs reach), over registers that are
+// rows of a block of samples.
+//
+// Registers [0, nIn) hold the plan's inputs (read in place from the
+// caller's columns), [nIn, nIn+len(consts)) constant rows, and the rest
+// temporaries. A temporary's register is free again after the last
+// instruction that reads it, so a plan needs about as many rows as values
+// are alive at once, not one a node: the batched passes work for a tape of
+// any size. An operand that is a constant sits in the instruction itself
+// where the operation has a kernel for it (x + c, c - x, x * c, x / c,
+// c / x).
+//
+// Each instruction runs over a whole block of samples in an unrolled lane
+// loop; the finite tests of guard operations are folded into the loops
+// that need them (see run). The values computed are those of the tape's
+// scalar pass to the last bit: the same operations on the same operands in
+// the same order.
+type plan struct {
+	code   []instr
+	nIn    int       // input registers
+	inputs []int32   // the tape input each input register holds
+	consts []float64 // constant rows, registers nIn, nIn+1, ...
+	nreg   int       // registers in all
+	out    int32     // register of the output
+	// alwaysBad is set when a guard operation of the plan has a non-finite
+	// constant operand (a cone's base value in a branch not taken): every
+	// block is then checked by the reference pass.
+	alwaysBad bool
+}
+
+// kind is a plan instruction's kernel.
+type kind uint8
+
+const (
+	kOp     kind = iota // any operation, by vecOp or its own loop
+	kAddRR              // a + b
+	kAddRC              // a + imm
+	kSubRR              // a - b
+	kSubRC              // a - imm
+	kSubCR              // imm - b
+	kMulRR              // a * b
+	kMulRC              // a * imm
+	kDivRR              // a / b
+	kDivRC              // a / imm
+	kDivCR              // imm / b
+	kNeg                // -a
+	kSquare             // a * a
+)
+
+// instr is one plan instruction: dst = op(a, b, c) over a block.
+type instr struct {
+	k       kind
+	op      Op
+	check   uint8 // operands to test for non-finite values: bits 1 (a), 2 (b), 4 (c)
+	dst     int32
+	a, b, c int32
+	imm     float64
+}
+
+// planSrc says how to build a plan: which nodes it computes and where
+// every other operand comes from.
+type planSrc struct {
+	nodes  []int32 // operation nodes to compute, in tape order (no opArg)
+	inputs []int32 // tape inputs that are registers, in register order
+	// value returns the value of an operand that is neither computed nor
+	// an input register: a tape constant, or a base value in a cone.
+	value func(k int32) float64
+}
+
+// newPlan compiles src for output node out. scratch and lastUse hold one
+// int32 per tape node, all -1, and are left so.
+func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
+	p := t.p
+	pl := &plan{nIn: len(src.inputs), inputs: src.inputs}
+	reg := scratch // node -> register while building; -1 otherwise
+	var touched []int32
+	set := func(k, r int32) {
+		if reg[k] < 0 {
+			touched = append(touched, k)
+		}
+		reg[k] = r
+	}
+	for r, k := range src.inputs {
+		set(k, int32(r))
+	}
+	// Last use of each node, as an instruction index (last[k], set for
+	// the nodes in touched); the output is never freed.
+	last := lastUse
+	uses := func(n int, k int32) {
+		if reg[k] == -1 && last[k] == -1 {
+			touched = append(touched, k)
+		}
+		last[k] = int32(n)
+	}
+	for n, k := range src.nodes {
+		set(k, -2) // computed: a register is given below
+		uses(n, p.a[k])
+		uses(n, p.b[k])
+		if p.ops[k].Arity() == 3 {
+			uses(n, p.a[k+1])
+		}
+	}
+	if reg[out] == -1 && last[out] == -1 {
+		touched = append(touched, out)
+	}
+	last[out] = math.MaxInt32
+	isReg := func(k int32) bool { return reg[k] != -1 }
+
+	// Constant rows, shared by value.
+	var constReg map[uint64]int32
+	operand := func(k int32) int32 {
+		if isReg(k) {
+			return reg[k]
+		}
+		v := src.value(k)
+		bits := math.Float64bits(v)
+		r, ok := constReg[bits]
+		if !ok {
+			if constReg == nil {
+				constReg = map[uint64]int32{}
+			}
+			r = int32(-3 - len(pl.consts)) // numbered below, once nIn is known
+			constReg[bits] = r
+			pl.consts = append(pl.consts, v)
+		}
+		return r
+	}
+	var free []int32
+	next := int32(0) // temporaries, numbered from 0 and shifted below
+	alloc := func() int32 {
+		if n := len(free); n > 0 {
+			r := free[n-1]
+			free = free[:n-1]
+			return r
+		}
+		r := next
+		next++
+		return -1000000 - r // marked as a temporary until the shift
+	}
+	release := func(n int, k int32) {
+		if reg[k] <= -1000000 && last[k] == int32(n) {
+			free = append(free, reg[k])
+			last[k] = -1 // an operand used twice is freed once
+		}
+	}
+	pl.code = make([]instr, 0, len(src.nodes))
+	for n, k := range src.nodes {
+		op := p.ops[k]
+		a, b := p.a[k], p.b[k]
+		in := instr{k: kOp, op: op}
+		ar := op.Arity()
+		constA, constB := !isReg(a), !isReg(b)
+		switch {
+		case (op == OpAdd || op == OpMul) && constA && !constB:
+			// x + c and c + x are the same sum to the last bit, and so
+			// are the products.
+			in.a, in.imm = operand(b), src.value(a)
+			in.k = kAddRC
+			if op == OpMul {
+				in.k = kMulRC
+			}
+		case (op == OpAdd || op == OpSub || op == OpMul || op == OpDiv) && constB && !constA:
+			in.a, in.imm = operand(a), src.value(b)
+			switch op {
+			case OpAdd:
+				in.k = kAddRC
+			case OpSub:
+				in.k = kSubRC
+			case OpMul:
+				in.k = kMulRC
+			case OpDiv:
+				in.k = kDivRC
+			}
+		case (op == OpSub || op == OpDiv) && constA && !constB:
+			in.b, in.imm = operand(b), src.value(a)
+			in.k = kSubCR
+			if op == OpDiv {
+				in.k = kDivCR
+			}
+		default:
+			in.a = operand(a)
+			if ar >= 2 {
+				in.b = operand(b)
+			} else {
+				in.b = in.a
+			}
+			if ar == 3 {
+				in.c = operand(p.a[k+1])
+			}
+			if !constA && !constB {
+				switch op {
+				case OpAdd:
+					in.k = kAddRR
+				case OpSub:
+					in.k = kSubRR
+				case OpMul:
+					in.k = kMulRR
+				case OpDiv:
+					in.k = kDivRR
+				case OpNeg:
+					in.k = kNeg
+				case OpSquare:
+					in.k = kSquare
+				}
+			}
+		}
+		if opMetas[op].guard {
+			// Test the operands that are computed; a constant operand
+			// that is not finite (a cone's base value in a branch not
+			// taken) sends every block to the reference pass.
+			test := func(k int32, bit uint8) {
+				if isReg(k) {
+					in.check |= bit
+				} else if v := src.value(k); !finite(v) {
+					pl.alwaysBad = true
+				}
+			}
+			test(a, 1)
+			if ar >= 2 && op != OpPowConst {
+				test(b, 2)
+			}
+			if ar == 3 {
+				test(p.a[k+1], 4)
+			}
+		}
+		release(n, a)
+		if b != a {
+			release(n, b)
+		}
+		if ar == 3 {
+			if c := p.a[k+1]; c != a && c != b {
+				release(n, c)
+			}
+		}
+		r := alloc()
+		reg[k] = r
+		in.dst = r
+		pl.code = append(pl.code, in)
+	}
+	var outReg int32
+	if isReg(out) {
+		outReg = reg[out]
+	} else {
+		outReg = operand(out)
+	}
+	// Number the registers: inputs, constants, temporaries.
+	nConst := int32(len(pl.consts))
+	base := int32(pl.nIn) + nConst
+	fix := func(r int32) int32 {
+		switch {
+		case r <= -1000000:
+			return base + (-1000000 - r)
+		case r <= -3:
+			return int32(pl.nIn) + (-3 - r)
+		}
+		return r
+	}
+	for n := range pl.code {
+		in := &pl.code[n]
+		in.dst, in.a, in.b, in.c = fix(in.dst), fix(in.a), fix(in.b), fix(in.c)
+	}
+	pl.out = fix(outReg)
+	pl.nreg = int(base + next)
+	for _, k := range touched {
+		reg[k], last[k] = -1, -1
+	}
+	return pl
+}

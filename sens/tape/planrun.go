@@ -1,0 +1,178 @@
+package tape
+
+// planExec holds the rows to run a plan over blocks of up to w samples.
+type planExec struct {
+	pl   *plan
+	w    int
+	buf  []float64   // constant and temporary rows
+	rows [][]float64 // each register's row in the current block
+}
+
+// newExec returns the buffers to run pl in blocks of w samples.
+func (pl *plan) newExec(w int) *planExec {
+	e := &planExec{pl: pl, w: w, rows: make([][]float64, pl.nreg)}
+	own := pl.nreg - pl.nIn
+	e.buf = make([]float64, own*w)
+	for r := pl.nIn; r < pl.nreg; r++ {
+		e.rows[r] = e.buf[(r-pl.nIn)*w : (r-pl.nIn+1)*w : (r-pl.nIn+1)*w]
+	}
+	for j, v := range pl.consts {
+		row := e.rows[pl.nIn+j]
+		for s := range row {
+			row[s] = v
+		}
+	}
+	return e
+}
+
+// planWidth returns the block width for a plan of nreg registers: as wide
+// as maxBlock while the rows fit the batch budget, never below 1.
+func planWidth(nreg int) int {
+	w := maxBlock
+	for w > 1 && 8*nreg*w > batchBudget {
+		w /= 2
+	}
+	return w
+}
+
+// output returns the output row of the last run.
+func (e *planExec) output(m int) []float64 { return e.rows[e.pl.out][:m] }
+
+// run evaluates the plan over the first m samples of the block; the input
+// rows (rows[0:nIn]) must hold at least m values. It reports whether a
+// guard operation saw a non-finite operand; non-finite outputs are for the
+// caller to test.
+func (e *planExec) run(m int) (bad bool) {
+	rows := e.rows
+	var chk float64 // x - x summed over tested operands: NaN if any is not finite
+	for n := range e.pl.code {
+		in := &e.pl.code[n]
+		o := rows[in.dst][:m]
+		switch in.k {
+		case kAddRR:
+			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			s := 0
+			for ; s+4 <= len(o); s += 4 {
+				o4, x4, y4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:]), (*[4]float64)(y[s:])
+				o4[0], o4[1], o4[2], o4[3] = x4[0]+y4[0], x4[1]+y4[1], x4[2]+y4[2], x4[3]+y4[3]
+			}
+			for ; s < len(o); s++ {
+				o[s] = x[s] + y[s]
+			}
+		case kAddRC:
+			x, c := rows[in.a][:len(o)], in.imm
+			s := 0
+			for ; s+4 <= len(o); s += 4 {
+				o4, x4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:])
+				o4[0], o4[1], o4[2], o4[3] = x4[0]+c, x4[1]+c, x4[2]+c, x4[3]+c
+			}
+			for ; s < len(o); s++ {
+				o[s] = x[s] + c
+			}
+		case kSubRR:
+			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			s := 0
+			for ; s+4 <= len(o); s += 4 {
+				o4, x4, y4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:]), (*[4]float64)(y[s:])
+				o4[0], o4[1], o4[2], o4[3] = x4[0]-y4[0], x4[1]-y4[1], x4[2]-y4[2], x4[3]-y4[3]
+			}
+			for ; s < len(o); s++ {
+				o[s] = x[s] - y[s]
+			}
+		case kSubRC:
+			x, c := rows[in.a][:len(o)], in.imm
+			for s := range o {
+				o[s] = x[s] - c
+			}
+		case kSubCR:
+			y, c := rows[in.b][:len(o)], in.imm
+			for s := range o {
+				o[s] = c - y[s]
+			}
+		case kMulRR:
+			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			s := 0
+			for ; s+4 <= len(o); s += 4 {
+				o4, x4, y4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:]), (*[4]float64)(y[s:])
+				o4[0], o4[1], o4[2], o4[3] = x4[0]*y4[0], x4[1]*y4[1], x4[2]*y4[2], x4[3]*y4[3]
+			}
+			for ; s < len(o); s++ {
+				o[s] = x[s] * y[s]
+			}
+		case kMulRC:
+			x, c := rows[in.a][:len(o)], in.imm
+			s := 0
+			for ; s+4 <= len(o); s += 4 {
+				o4, x4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:])
+				o4[0], o4[1], o4[2], o4[3] = x4[0]*c, x4[1]*c, x4[2]*c, x4[3]*c
+			}
+			for ; s < len(o); s++ {
+				o[s] = x[s] * c
+			}
+		case kDivRR:
+			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			if in.check&2 != 0 {
+				for s := range o {
+					v := y[s]
+					o[s] = x[s] / v
+					chk += v - v
+				}
+			} else {
+				for s := range o {
+					o[s] = x[s] / y[s]
+				}
+			}
+		case kDivRC:
+			x, c := rows[in.a][:len(o)], in.imm
+			for s := range o {
+				o[s] = x[s] / c
+			}
+		case kDivCR:
+			y, c := rows[in.b][:len(o)], in.imm
+			if in.check&2 != 0 {
+				for s := range o {
+					v := y[s]
+					o[s] = c / v
+					chk += v - v
+				}
+			} else {
+				for s := range o {
+					o[s] = c / y[s]
+				}
+			}
+		case kNeg:
+			x := rows[in.a][:len(o)]
+			for s := range o {
+				o[s] = -x[s]
+			}
+		case kSquare:
+			x := rows[in.a][:len(o)]
+			for s := range o {
+				o[s] = x[s] * x[s]
+			}
+		default:
+			if e.runOp(in, o) {
+				bad = true
+			}
+		}
+	}
+	return bad || chk != 0
+}
+
+// runOp runs an instruction without a kernel of its own in run and tests
+// its operands as in.check asks.
+func (e *planExec) runOp(in *instr, o []float64) (bad bool) {
+	rows := e.rows
+	xs := rows[in.a][:len(o)]
+	ys := rows[in.b][:len(o)]
+	var zs []float64
+	if in.op.Arity() == 3 {
+		zs = rows[in.c][:len(o)]
+	}
+	// Operands first: the output row may be one of them.
+	if in.check&1 != 0 && !allFinite(xs) || in.check&2 != 0 && !allFinite(ys) || in.check&4 != 0 && !allFinite(zs) {
+		bad = true
+	}
+	vecOp(in.op, o, xs, ys, zs)
+	return bad
+}
