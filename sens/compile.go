@@ -203,18 +203,21 @@ type compiler struct {
 	rates   *unit.Rates // exchange rates every unit is expressed under
 	what    string      // the constant being evaluated, for messages
 
+	units map[unit.Unit]*unit.Unit // interned display units (see intern)
+
 	// numberUnit gives a number the unit of its line's last bracket, while a
 	// formula is read the second way (see formula).
 	numberUnit map[*syntax.NumberLit]*syntax.UnitLit
 }
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
+	n := len(m.decls) + 1
 	c := &compiler{
 		m: m, extra: extra,
-		decls: m.decls, state: map[string]state{}, vals: map[string]val{},
-		prog: &Program{index: map[string]int{}},
+		decls: m.decls, state: make(map[string]state, n), vals: make(map[string]val, n),
+		prog: &Program{index: make(map[string]int, n)},
 	}
-	c.b = newVBuilder(c)
+	c.b = newVBuilder(c, 4*n)
 	c.exchangeRates()
 	return c.run()
 }
@@ -311,8 +314,7 @@ func (c *compiler) compileInput(d *Decl) {
 	if in.u.Factor != 1 {
 		slot = c.b.Binary(tape.OpMul, slot, c.b.Const(in.u.Factor))
 	}
-	u := *in.u
-	c.vals[d.Name] = val{slot: slot, dim: in.u.Dim, hint: &u, bad: !ok}
+	c.vals[d.Name] = val{slot: slot, dim: in.u.Dim, hint: c.intern(*in.u), bad: !ok}
 	// Range and distribution.
 	if s.Dist != nil {
 		c.compileDist(f, in, s.Dist)
@@ -507,8 +509,7 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 		fm.out = len(c.prog.Formulas)
 		c.prog.index[name] = -1 - fm.out
 		c.prog.Formulas = append(c.prog.Formulas, fm)
-		u := fm.u
-		v.hint = &u
+		v.hint = c.intern(fm.u)
 	}
 	c.vals[name] = v
 	c.state[name] = done
@@ -522,7 +523,7 @@ func (c *compiler) display(v val) unit.Unit {
 	if v.hint != nil && v.hint.Dim.Equal(v.dim) {
 		return *v.hint
 	}
-	return unit.Simplest(v.dim)
+	return simplest(v.dim)
 }
 
 func unitText(u unit.Unit) string {
@@ -558,7 +559,7 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 			}
 			v *= u.Factor
 			d = u.Dim
-			hint = &u
+			hint = c.intern(u)
 		}
 		return val{slot: c.b.Const(v), dim: d, konst: true, c: v, hint: hint}
 	case *syntax.ParenExpr:
@@ -943,23 +944,23 @@ func constantIn(r *unit.Rates, f *syntax.File, x syntax.Expr, want, what string)
 func newScratchCompiler() *compiler {
 	c := &compiler{m: NewModel(), prog: &Program{index: map[string]int{}},
 		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}}
-	c.b = newVBuilder(c)
+	c.b = newVBuilder(c, 0)
 	return c
 }
 
-// combinedUnit picks the unit to show a product (or quotient) of quantities
+// combineUnits picks the unit to show a product (or quotient) of quantities
 // in, given the units they were written in: the simplest unit of the result's
 // dimension when it has the same scale (h times $/h is $), else a single named
 // unit of that scale (kW times h is kWh), else the units composed when that
 // reads simply (h times h is h^2, km per h is km/h), else nil (the simplest
 // unit, whatever its scale).
-func combinedUnit(a, b *unit.Unit, mul bool) *unit.Unit {
+func combineUnits(a, b *unit.Unit, mul bool) *unit.Unit {
 	q := a.Div(*b)
 	if mul {
 		q = a.Mul(*b)
 	}
 	same := func(u unit.Unit) bool { return math.Abs(u.Factor-q.Factor) <= 1e-12*math.Abs(q.Factor) }
-	if s := unit.Simplest(q.Dim); same(s) {
+	if s := simplest(q.Dim); same(s) {
 		return &s
 	}
 	if name, ok := namedUnit(q); ok {

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
+	"github.com/nudge-dev/nudge/sens/tapebench"
 )
 
 // rollupModel is a bid rolled up from n line items (quantity times rate), in
@@ -70,5 +71,25 @@ func TestDepsOfSubOutput(t *testing.T) {
 	pr, _ = p.Problem("c4")
 	if len(pr.Inputs) != 601 {
 		t.Errorf("c4 depends on %d inputs, want 601", len(pr.Inputs))
+	}
+}
+
+// BenchmarkCompileScale compiles the scale model of `nudge bench scale`
+// (10^4 lines, with if): products of quantities in several units.
+func BenchmarkCompileScale(b *testing.B) {
+	src := tapebench.ScaleModel(10_000, true, 1)
+	f, stmts, err := syntax.Parse("bid", src)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		m := NewModel()
+		for _, s := range stmts {
+			m.Define(f, s)
+		}
+		if _, err := m.Compile(); err != nil {
+			b.Fatal(err)
+		}
 	}
 }

@@ -118,9 +118,10 @@ type vbuilder struct {
 	c *compiler
 }
 
-func newVBuilder(c *compiler) *vbuilder {
+// newVBuilder returns the compiler's builder, with room for about n nodes.
+func newVBuilder(c *compiler, n int) *vbuilder {
 	c.vec.init()
-	b := &vbuilder{Builder: tape.NewBuilder(), c: c}
+	b := &vbuilder{Builder: tape.NewBuilderSize(n), c: c}
 	b.SetLoopMin(loopMin)
 	return b
 }

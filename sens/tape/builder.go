@@ -54,8 +54,11 @@ type Builder struct {
 }
 
 // NewBuilder returns an empty Builder.
-func NewBuilder() *Builder {
-	return &Builder{consts: map[uint64]Slot{}, cse: map[cseKey]Slot{}}
+func NewBuilder() *Builder { return NewBuilderSize(0) }
+
+// NewBuilderSize returns an empty Builder with room for about n nodes.
+func NewBuilderSize(n int) *Builder {
+	return &Builder{nodes: make([]bnode, 0, n), consts: map[uint64]Slot{}, cse: make(map[cseKey]Slot, n)}
 }
 
 // SetPos sets the source position attached to every node added until the

@@ -62,11 +62,18 @@ func (d Dim) combine(e Dim, sign int) Dim {
 	for i := range r.si {
 		r.si[i] = d.si[i] + sign*e.si[i]
 	}
-	cs := currencies(d.cur)
-	for code, n := range currencies(e.cur) {
-		cs[code] += sign * n
+	switch {
+	case e.cur == "":
+		r.cur = d.cur // no currency changes: the common case costs nothing
+	case d.cur == "" && sign > 0:
+		r.cur = e.cur
+	default:
+		cs := currencies(d.cur)
+		for code, n := range currencies(e.cur) {
+			cs[code] += sign * n
+		}
+		r.cur = encodeCurrencies(cs)
 	}
-	r.cur = encodeCurrencies(cs)
 	return r
 }
 
