@@ -4,10 +4,12 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
-	"github.com/nudge-dev/nudge/kernel/render"
+	"fmt"
 	"strings"
 	"testing"
 
+	"github.com/nudge-dev/nudge/kernel/render"
+	"github.com/nudge-dev/nudge/sens"
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
@@ -359,4 +361,26 @@ type cancelSink struct {
 func (s *cancelSink) Progress(id, label string, done, total int) {
 	s.cancel()
 	s.analysisSink.Progress(id, label, done, total)
+}
+
+// A model with steps on many lines names the first few in its warning and
+// its results, and counts the rest, so that a large model's warning stays
+// one line.
+func TestStepWarningSummarised(t *testing.T) {
+	var src strings.Builder
+	src.WriteString("input q = 30 (20..40)\n")
+	for i := 0; i < 8; i++ {
+		fmt.Fprintf(&src, "f%d = if(q > %d, 1, 2) * q\n", i, 21+i)
+	}
+	src.WriteString("total = f0 + f1 + f2 + f3 + f4 + f5 + f6 + f7\ndrivers total\n")
+	in := New()
+	s := run(t, in, src.String())
+	warn := s.stderr.String()
+	if !strings.Contains(warn, "cell 1:2:11, cell 1:3:11, cell 1:4:11, cell 1:5:11, cell 1:6:11 and 3 more lines: a step-shaped operation") || strings.Contains(warn, "cell 1:7:") {
+		t.Errorf("warning %q: want the first %d lines and a count of the rest", warn, sens.StepsShown)
+	}
+	m := object(t, s.results[0])
+	if steps, _ := m["steps"].([]any); len(steps) != sens.StepsShown || m["step_lines"] != 8.0 {
+		t.Errorf("drivers steps %v, step_lines %v; want %d and 8", m["steps"], m["step_lines"], sens.StepsShown)
+	}
 }

@@ -208,18 +208,15 @@ func (in *Interp) compileWarnings(prog *sens.Program, sink Sink) {
 // warnings sends the compile warnings and the step-function warning to stderr.
 func (in *Interp) warnings(prog *sens.Program, pr *sens.Problem, sink Sink) {
 	in.compileWarnings(prog, sink)
-	if len(pr.Steps) > 0 {
-		at := make([]string, 0, len(pr.Steps))
-		seen := map[string]bool{}
-		for _, s := range pr.Steps {
-			// One mention per line: if(x > 5, ...) is one step, not two.
-			key := fmt.Sprintf("%s:%d", s.Filename, s.Line)
-			if !seen[key] {
-				seen[key] = true
-				at = append(at, s.String())
-			}
+	if first, lines := pr.StepSummary(); lines > 0 {
+		at := strings.Join(first, ", ")
+		switch more := lines - len(first); {
+		case more == 1:
+			at += " and 1 more line"
+		case more > 1:
+			at += fmt.Sprintf(" and %d more lines", more)
 		}
-		warn(sink, "%s: a step-shaped operation (floor, ceil, round, if or a comparison) lies on the path of %s: its derivative is taken as 0, so local results can miss a jump", strings.Join(at, ", "), pr.Output)
+		warn(sink, "%s: a step-shaped operation (floor, ceil, round, if or a comparison) lies on the path of %s: its derivative is taken as 0, so local results can miss a jump", at, pr.Output)
 	}
 }
 

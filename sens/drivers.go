@@ -29,9 +29,11 @@ type DriversResult struct {
 	Value  float64       `json:"value"`
 	Unit   string        `json:"unit"`
 	Inputs []DriverInput `json:"inputs"`
-	// Steps lists step-shaped operations on the output's path, whose
-	// derivative is zero ("file:line:col").
-	Steps []string `json:"steps,omitempty"`
+	// Steps lists the first step-shaped operations on the output's path,
+	// whose derivative is zero ("file:line:col", at most StepsShown), and
+	// StepLines counts the lines that hold one.
+	Steps     []string `json:"steps,omitempty"`
+	StepLines int      `json:"step_lines,omitempty"`
 
 	lineItems // subtotals of a model with vector inputs (drivers_vec.go)
 }
@@ -117,9 +119,7 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 	if err := d.subtotals(p, s, g, y, sum, kept); err != nil {
 		return nil, err
 	}
-	for _, st := range p.Steps {
-		d.Steps = append(d.Steps, st.String())
-	}
+	d.Steps, d.StepLines = p.StepSummary()
 	return d, nil
 }
 

@@ -34,6 +34,7 @@ type Problem struct {
 	Inputs []*Input
 	// Steps lists where step-shaped operations (floor, ceil, round, if,
 	// comparisons) lie on the output's path; their derivative is zero.
+	// Results and warnings list the first StepsShown of them and a count.
 	Steps []syntax.Position
 	// Correlations are rank correlations between the inputs, which Simulate
 	// imposes (indices into Inputs).
@@ -44,6 +45,29 @@ type Problem struct {
 	// prog is the program the problem was built from; nil for a problem
 	// built by hand.
 	prog *Program
+}
+
+// StepsShown is how many positions of step-shaped operations a result or a
+// warning lists; the rest are counted.
+const StepsShown = 5
+
+// StepSummary returns the positions of the first StepsShown step-shaped
+// operations on the output's path ("file:line:col", one a line) and how
+// many lines hold one in all.
+func (p *Problem) StepSummary() (first []string, lines int) {
+	seen := map[string]bool{}
+	for _, s := range p.Steps {
+		// One mention per line: if(x > 5, ...) is one step, not two.
+		key := fmt.Sprintf("%s:%d", s.Filename, s.Line)
+		if seen[key] {
+			continue
+		}
+		seen[key] = true
+		if len(first) < StepsShown {
+			first = append(first, s.String())
+		}
+	}
+	return first, len(seen)
 }
 
 // Project picks the problem's inputs out of a vector of every program input

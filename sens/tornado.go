@@ -90,9 +90,12 @@ type TornadoResult struct {
 	DefaultRanges []string `json:"default_ranges,omitempty"`
 	// Interior is the number of points sampled inside the range of each
 	// sampled input.
-	Interior    int      `json:"interior"`
-	Evaluations int      `json:"evaluations"`
-	Steps       []string `json:"steps,omitempty"`
+	Interior    int `json:"interior"`
+	Evaluations int `json:"evaluations"`
+	// Steps lists the first step-shaped operations on the output's path
+	// (at most StepsShown); StepLines counts the lines that hold one.
+	Steps     []string `json:"steps,omitempty"`
+	StepLines int      `json:"step_lines,omitempty"`
 }
 
 // Shown returns what a table or chart of at most n bars shows: the first n
@@ -169,21 +172,11 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 	x0 := p.Baseline()
 	ev := newBatcher(p.F, x0, set)
 
-	// Stage 1: the baseline, both ends, and the midpoint of a range whose
-	// baseline is not inside it, for an input to be sampled.
+	// Stage 1: the baseline and both ends.
 	pts := make([]point, 0, 2*k+1)
 	pts = append(pts, point{i: -1, j: -1})
 	for i, in := range p.Inputs {
 		pts = append(pts, point{i: i, vi: in.Low, j: -1}, point{i: i, vi: in.High, j: -1})
-	}
-	mid := make([]int, k) // index into pts of the midpoint, or 0
-	if m > 0 {
-		for i, in := range p.Inputs {
-			if in.Low < in.High && !(in.Low < in.Value && in.Value < in.High) && !ev.monotone(i) {
-				mid[i] = len(pts)
-				pts = append(pts, point{i: i, vi: (in.Low + in.High) / 2, j: -1})
-			}
-		}
 	}
 	ev.total = len(pts)
 	if m > 0 {
@@ -215,14 +208,21 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		sample = append(sample, i)
 	}
 
-	// Stage 2: interior points of the inputs not proven monotone.
+	// Stage 2: interior points of the inputs not proven monotone, and the
+	// midpoint of a range whose baseline is not inside it.
 	var inner []xy
+	mid := make([]int, k) // index into inner of the midpoint, or -1
 	if len(sample) > 0 {
-		pts2 := make([]point, 0, m*len(sample))
+		pts2 := make([]point, 0, (m+1)*len(sample))
 		for _, i := range sample {
 			in := p.Inputs[i]
 			for j := 1; j <= m; j++ {
 				pts2 = append(pts2, point{i: i, vi: in.Low + (in.High-in.Low)*float64(j)/float64(m+1), j: -1})
+			}
+			mid[i] = -1
+			if !(in.Low < in.Value && in.Value < in.High) {
+				mid[i] = len(pts2)
+				pts2 = append(pts2, point{i: i, vi: (in.Low + in.High) / 2, j: -1})
 			}
 		}
 		ev.total = ev.done + len(pts2)
@@ -238,19 +238,20 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 
 	// The samples of each input, in order along its range.
 	sampled := make(map[int][]xy, len(sample))
-	for n, i := range sample {
+	at := 0
+	for _, i := range sample {
 		in := p.Inputs[i]
 		xs := make([]xy, 0, m+4)
 		xs = append(xs, xy{in.Low, bars[i].OutputAtLow})
-		for j := 0; j < m; j++ {
-			xs = append(xs, xy{inner[n*m+j].x, inner[n*m+j].y})
+		xs = append(xs, inner[at:at+m]...)
+		at += m
+		if mid[i] >= 0 {
+			xs = append(xs, inner[mid[i]])
+			at++
 		}
 		xs = append(xs, xy{in.High, bars[i].OutputAtHigh})
 		if in.Low < in.Value && in.Value < in.High {
 			xs = append(xs, xy{in.Value, base})
-		}
-		if mid[i] > 0 {
-			xs = append(xs, xy{pts[mid[i]].vi, y[mid[i]]})
 		}
 		sampled[i] = xs
 	}
@@ -326,9 +327,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		bars = bars[:s.Top]
 	}
 	res.Bars = bars
-	for _, st := range p.Steps {
-		res.Steps = append(res.Steps, st.String())
-	}
+	res.Steps, res.StepLines = p.StepSummary()
 	return res, nil
 }
 

@@ -2,6 +2,7 @@ package tape
 
 import (
 	"fmt"
+	"math/bits"
 	"slices"
 )
 
@@ -31,6 +32,15 @@ type Cones struct {
 	stamp   uint32
 	scratch []int32 // for newPlan: two -1 a node
 	dir     []int8  // for Monotone: a direction a node
+
+	bits     []uint64 // for cone: a bit a node, all clear between calls
+	stack    []int32  // for cone
+	nodes    []int32  // the buffer of lastCone
+	last     [2]int32 // the inputs of the cone in lastNodes
+	lastOK   bool
+	lastCone []int32
+	work     []float64 // node values for the scalar path: the base, but for a point's cone
+	mono     map[int]bool
 
 	plans      map[[2]int32]*plan
 	planInstrs int // instructions held by plans, bounded by coneCache
@@ -90,6 +100,9 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	c.seen = make([]uint32, n)
 	c.scratch = make([]int32, 2*len(p.ops))
 	c.dir = make([]int8, n)
+	c.bits = make([]uint64, (n+63)/64)
+	c.work = slices.Clone(c.vals)
+	c.mono = map[int]bool{}
 	for k := range c.scratch {
 		c.scratch[k] = -1
 	}
@@ -100,20 +113,23 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 func (c *Cones) Base() float64 { return c.y0 }
 
 // cone returns the operation nodes, in tape order, that depend on the
-// given inputs and that the output needs.
+// given inputs and that the output needs. It leaves c.seen[k] == c.stamp
+// marking them and the inputs.
 func (c *Cones) cone(inputs []int32) []int32 {
 	c.stamp++
 	if c.stamp == 0 {
 		clear(c.seen)
 		c.stamp = 1
 	}
-	var stack, nodes []int32
+	stack, nodes := c.stack[:0], c.nodes[:0]
+	defer func() { c.stack = stack }()
 	for _, j := range inputs {
 		if int(j) < len(c.seen) && c.seen[j] != c.stamp {
 			c.seen[j] = c.stamp
 			stack = append(stack, j)
 		}
 	}
+	lo, hi := int32(len(c.seen)), int32(-1)
 	for len(stack) > 0 {
 		k := stack[len(stack)-1]
 		stack = stack[:len(stack)-1]
@@ -122,11 +138,62 @@ func (c *Cones) cone(inputs []int32) []int32 {
 				c.seen[u] = c.stamp
 				stack = append(stack, u)
 				nodes = append(nodes, u)
+				lo, hi = min(lo, u), max(hi, u)
 			}
 		}
 	}
-	slices.Sort(nodes)
+	c.nodes = nodes
+	if len(nodes) < 128 || int(hi-lo)/64 > 16*len(nodes) {
+		slices.Sort(nodes)
+		return nodes
+	}
+	// A large cone is put in tape order through a bitmap of the nodes,
+	// in time proportional to its span in words.
+	for _, k := range nodes {
+		c.bits[k>>6] |= 1 << (k & 63)
+	}
+	nodes = nodes[:0]
+	for w := lo >> 6; w <= hi>>6; w++ {
+		for b := c.bits[w]; b != 0; b &= b - 1 {
+			nodes = append(nodes, w<<6|int32(bits.TrailingZeros64(b)))
+		}
+		c.bits[w] = 0
+	}
 	return nodes
+}
+
+// coneOf returns the cone of input i (and j, when j >= 0), the last one
+// asked for again without a search, with c.seen marking it.
+func (c *Cones) coneOf(i, j int) []int32 {
+	key := [2]int32{int32(i), int32(j)}
+	if c.lastOK && c.last == key {
+		c.stamp++
+		if c.stamp == 0 {
+			clear(c.seen)
+			c.stamp = 1
+		}
+		for _, k := range key {
+			if k >= 0 && int(k) < len(c.seen) {
+				c.seen[k] = c.stamp
+			}
+		}
+		for _, k := range c.lastCone {
+			c.seen[k] = c.stamp
+		}
+		return c.lastCone
+	}
+	inputs := []int32{int32(i)}
+	if j >= 0 {
+		inputs = append(inputs, int32(j))
+	}
+	c.lastCone = c.cone(inputs)
+	c.last, c.lastOK = key, true
+	if j < 0 {
+		if _, ok := c.mono[i]; !ok {
+			c.mono[i] = c.monotone(i, c.lastCone)
+		}
+	}
+	return c.lastCone
 }
 
 // plan returns the plan of the cone of inputs (one, or two with j >= 0).
@@ -139,7 +206,7 @@ func (c *Cones) plan(i, j int) *plan {
 	if j >= 0 {
 		inputs = append(inputs, int32(j))
 	}
-	nodes := c.cone(inputs)
+	nodes := c.coneOf(i, j)
 	pl := c.t.newPlan(planSrc{nodes: nodes, inputs: inputs, value: func(k int32) float64 { return c.vals[k] }},
 		c.t.p.outs[c.out], c.scratch[:len(c.t.p.ops)], c.scratch[len(c.t.p.ops):])
 	if c.planInstrs+len(pl.code) > coneCache {
@@ -153,7 +220,7 @@ func (c *Cones) plan(i, j int) *plan {
 
 // Size returns the number of operations in the cone of input i (and input
 // j, when j >= 0): the work of one point, in tape nodes.
-func (c *Cones) Size(i, j int) int { return len(c.plan(i, j).code) }
+func (c *Cones) Size(i, j int) int { return len(c.coneOf(i, j)) }
 
 // Monotone reports whether the output is proven monotone in input i alone
 // (the others at the base), rising or falling over the whole line, from
@@ -178,9 +245,17 @@ func (c *Cones) Size(i, j int) int { return len(c.plan(i, j).code) }
 // at the model's structure and the base, not at sampled values, so no
 // shape between samples can fool it.
 func (c *Cones) Monotone(i int) bool {
+	if m, ok := c.mono[i]; ok {
+		return m
+	}
+	c.coneOf(i, -1)
+	return c.mono[i]
+}
+
+// monotone is Monotone of input i, whose cone nodes c.seen marks.
+func (c *Cones) monotone(i int, nodes []int32) bool {
 	p := c.t.p
 	const unknown = 2
-	nodes := c.cone([]int32{int32(i)})
 	// c.seen[k] == c.stamp marks the cone, input i included.
 	in := func(k int32) bool { return c.seen[k] == c.stamp }
 	dir := c.dir
@@ -285,6 +360,9 @@ func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n 
 	if i < 0 || i >= nIn || j >= nIn || j == i || len(vi) < n || j >= 0 && len(vj) < n || len(dst) < n {
 		panic(fmt.Sprintf("tape: Cones.Eval of inputs %d, %d over %d points", i, j, n))
 	}
+	if n <= scalarPoints {
+		return c.evalScalar(dst, i, vi, j, vj, n)
+	}
 	pl := c.plan(i, j)
 	w := planWidth(pl.nreg)
 	if need := (pl.nreg - pl.nIn) * w; cap(c.buf) < need {
@@ -317,6 +395,46 @@ func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n 
 		copy(dst[base:base+m], out)
 		if bad || pl.alwaysBad || !allFinite(out) {
 			if err := c.reference(dst, i, vi, j, vj, base, m); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// scalarPoints is the number of points up to which Eval runs a cone node
+// by node over the base values instead of compiling a plan for it.
+const scalarPoints = 4
+
+// evalScalar is Eval for a few points: the cone's nodes are run in tape
+// order over a copy of the base values, one point after another, and
+// restored after each.
+func (c *Cones) evalScalar(dst []float64, i int, vi []float64, j int, vj []float64, n int) error {
+	nodes := c.coneOf(i, j)
+	p := c.t.p
+	v := c.work
+	out := p.outs[c.out]
+	for s := 0; s < n; s++ {
+		v[i] = vi[s]
+		if j >= 0 {
+			v[j] = vj[s]
+		}
+		bad := false
+		for _, k := range nodes {
+			if p.step(v, k) {
+				bad = true
+			}
+		}
+		dst[s] = v[out]
+		for _, k := range nodes {
+			v[k] = c.vals[k]
+		}
+		v[i] = c.vals[i]
+		if j >= 0 {
+			v[j] = c.vals[j]
+		}
+		if bad || !finite(dst[s]) {
+			if err := c.reference(dst, i, vi, j, vj, s, 1); err != nil {
 				return err
 			}
 		}

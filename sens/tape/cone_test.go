@@ -111,6 +111,14 @@ func TestPlanAgreesWithTape(t *testing.T) {
 				if d := agree(out, c.Eval(out, i, vi, j, vj, n), want, bad, wantErr); d != "" {
 					t.Errorf("formula %d, cone of inputs %d, %d: %s", f, i, j, d)
 				}
+				// A few points at a time take the scalar path.
+				for s0 := 0; s0 < 30; s0 += 3 {
+					want, bad, wantErr := evalRef(tp, pts[s0:s0+3], 0)
+					out := make([]float64, 3)
+					if d := agree(out, c.Eval(out, i, vi[s0:], j, vj[s0:], 3), want, bad, wantErr); d != "" {
+						t.Errorf("formula %d, cone of inputs %d, %d, points %d..: %s", f, i, j, s0, d)
+					}
+				}
 			}
 		}
 	}

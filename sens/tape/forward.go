@@ -194,3 +194,32 @@ func (t *Tape) slowOp(k int) (bad bool) {
 	v[k] = evalOp(op, x, y, z)
 	return opMetas[op].guard && (!finite(x) || !finite(y) || !finite(z))
 }
+
+// step evaluates node k over the values v, as run does, and reports
+// whether it is a guard operation that saw a non-finite operand. It is the
+// scalar pass of a cone (Cones), which runs a few nodes of a long tape.
+func (p *tapeProg) step(v []float64, k int32) (bad bool) {
+	op := p.ops[k]
+	x, y := v[p.a[k]], v[p.b[k]]
+	switch op {
+	case OpAdd:
+		v[k] = x + y
+	case OpSub:
+		v[k] = x - y
+	case OpMul:
+		v[k] = x * y
+	case OpDiv:
+		v[k] = x / y
+		return !finite(y)
+	case OpNeg:
+		v[k] = -x
+	default:
+		var z float64
+		if op.Arity() == 3 {
+			z = v[p.a[k+1]]
+		}
+		v[k] = evalOp(op, x, y, z)
+		return opMetas[op].guard && (!finite(x) || !finite(y) || !finite(z))
+	}
+	return false
+}
