@@ -30,7 +30,7 @@ type Cones struct {
 
 	seen    []uint32 // visit stamps of the cone search
 	stamp   uint32
-	scratch []int32 // for newPlan: two -1 a node
+	scratch []int32 // for newPlan: three -1 a node
 	dir     []int8  // for Monotone: a direction a node
 
 	bits     []uint64 // for cone: a bit a node, all clear between calls
@@ -98,7 +98,7 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	}
 	c.ustart = c.ustart[:n+1]
 	c.seen = make([]uint32, n)
-	c.scratch = make([]int32, 2*len(p.ops))
+	c.scratch = make([]int32, 3*len(p.ops))
 	c.dir = make([]int8, n)
 	c.bits = make([]uint64, (n+63)/64)
 	c.work = slices.Clone(c.vals)
@@ -208,7 +208,7 @@ func (c *Cones) plan(i, j int) *plan {
 	}
 	nodes := c.coneOf(i, j)
 	pl := c.t.newPlan(planSrc{nodes: nodes, inputs: inputs, value: func(k int32) float64 { return c.vals[k] }},
-		c.t.p.outs[c.out], c.scratch[:len(c.t.p.ops)], c.scratch[len(c.t.p.ops):])
+		c.t.p.outs[c.out], c.scratch)
 	if c.planInstrs+len(pl.code) > coneCache {
 		clear(c.plans)
 		c.planInstrs = 0

@@ -1,5 +1,7 @@
 package tape
 
+//go:generate go run genfused.go
+
 import "math"
 
 // A plan is the batched evaluator's program for one output of a tape: an
@@ -51,6 +53,16 @@ const (
 	kDivCR              // imm / b
 	kNeg                // -a
 	kSquare             // a * a
+	kMax                // max(a, b)
+	kMin                // min(a, b)
+	kCmp                // a comparison of a and b (in.op)
+	kIf                 // if(a, b, c)
+	kCeil               // ceil(a)
+	kFloor              // floor(a)
+
+	// kFused and on: fused pairs of + - * / (fused_gen.go), after every Op
+	// so that the scalar code can use an Op as its own kind.
+	kFused kind = 64
 )
 
 // instr is one plan instruction: dst = op(a, b, c) over a block.
@@ -73,10 +85,13 @@ type planSrc struct {
 	value func(k int32) float64
 }
 
-// newPlan compiles src for output node out. scratch and lastUse hold one
-// int32 per tape node, all -1, and are left so.
-func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
+// newPlan compiles src for output node out. scratch holds three int32 a
+// tape node, all -1, and is left so.
+func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	p := t.p
+	nn := len(p.ops)
+	lastUse, count := scratch[nn:2*nn], scratch[2*nn:3*nn]
+	scratch = scratch[:nn]
 	pl := &plan{nIn: len(src.inputs), inputs: src.inputs}
 	reg := scratch // node -> register while building; -1 otherwise
 	var touched []int32
@@ -93,10 +108,11 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
 	// the nodes in touched); the output is never freed.
 	last := lastUse
 	uses := func(n int, k int32) {
-		if reg[k] == -1 && last[k] == -1 {
+		if reg[k] == -1 && last[k] == -1 && count[k] == -1 {
 			touched = append(touched, k)
 		}
 		last[k] = int32(n)
+		count[k]++ // from -1: 0 is one use
 	}
 	for n, k := range src.nodes {
 		set(k, -2) // computed: a register is given below
@@ -106,10 +122,11 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
 			uses(n, p.a[k+1])
 		}
 	}
-	if reg[out] == -1 && last[out] == -1 {
+	if reg[out] == -1 && last[out] == -1 && count[out] == -1 {
 		touched = append(touched, out)
 	}
 	last[out] = math.MaxInt32
+	count[out] = 1 // an output is never fused away
 	isReg := func(k int32) bool { return reg[k] != -1 }
 
 	// Constant rows, shared by value.
@@ -149,9 +166,45 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
 			last[k] = -1 // an operand used twice is freed once
 		}
 	}
+	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
 	pl.code = make([]instr, 0, len(src.nodes))
+	skip := false
 	for n, k := range src.nodes {
+		if skip {
+			skip = false
+			continue
+		}
 		op := p.ops[k]
+		// A + - * / whose one use is the next instruction, another of
+		// them, runs with it as one fused instruction.
+		if n+1 < len(src.nodes) && arith(op) && count[k] == 0 {
+			k2 := src.nodes[n+1]
+			if op2 := p.ops[k2]; arith(op2) && (p.a[k2] == k) != (p.b[k2] == k) {
+				a, b := p.a[k], p.b[k]
+				left := p.a[k2] == k
+				c := p.a[k2]
+				if left {
+					c = p.b[k2]
+				}
+				in := instr{k: fusedKind(op, op2, left), op: op2, a: operand(a), b: operand(b), c: operand(c)}
+				for _, d := range []int32{b, c} {
+					if !isReg(d) && !finite(src.value(d)) {
+						pl.alwaysBad = true
+					}
+				}
+				release(n, a)
+				if b != a {
+					release(n, b)
+				}
+				release(n+1, c)
+				r := alloc()
+				reg[k2] = r
+				in.dst = r
+				pl.code = append(pl.code, in)
+				skip = true
+				continue
+			}
+		}
 		a, b := p.a[k], p.b[k]
 		in := instr{k: kOp, op: op}
 		ar := op.Arity()
@@ -208,6 +261,20 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
 				case OpSquare:
 					in.k = kSquare
 				}
+			}
+			switch op {
+			case OpMax:
+				in.k = kMax
+			case OpMin:
+				in.k = kMin
+			case OpLt, OpLe, OpGt, OpGe, OpEq, OpNe:
+				in.k = kCmp
+			case OpIf:
+				in.k = kIf
+			case OpCeil:
+				in.k = kCeil
+			case OpFloor:
+				in.k = kFloor
 			}
 		}
 		if opMetas[op].guard {
@@ -268,7 +335,7 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch, lastUse []int32) *plan {
 	pl.out = fix(outReg)
 	pl.nreg = int(base + next)
 	for _, k := range touched {
-		reg[k], last[k] = -1, -1
+		reg[k], last[k], count[k] = -1, -1, -1
 	}
 	return pl
 }

@@ -31,13 +31,13 @@ func (t *Tape) outputPlan(i int) *plan {
 			nodes = append(nodes, int32(k))
 		}
 	}
-	scratch := make([]int32, 2*len(p.ops))
+	scratch := make([]int32, 3*len(p.ops))
 	for k := range scratch {
 		scratch[k] = -1
 	}
 	vals := t.vals
 	pl := t.newPlan(planSrc{nodes: nodes, inputs: inputs, value: func(k int32) float64 { return vals[k] }},
-		p.outs[i], scratch[:len(p.ops)], scratch[len(p.ops):])
+		p.outs[i], scratch)
 	if p.cache.plans == nil {
 		p.cache.plans = map[int]*plan{}
 	}

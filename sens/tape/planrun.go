@@ -1,5 +1,7 @@
 package tape
 
+import "math"
+
 // planExec holds the rows to run a plan over blocks of up to w samples.
 type planExec struct {
 	pl   *plan
@@ -115,7 +117,9 @@ func (e *planExec) run(m int) (bad bool) {
 				for s := range o {
 					v := y[s]
 					o[s] = x[s] / v
-					chk += v - v
+					if v-v != 0 { // a branch, not a running sum: no chain of adds
+						bad = true
+					}
 				}
 			} else {
 				for s := range o {
@@ -133,7 +137,9 @@ func (e *planExec) run(m int) (bad bool) {
 				for s := range o {
 					v := y[s]
 					o[s] = c / v
-					chk += v - v
+					if v-v != 0 { // a branch, not a running sum: no chain of adds
+						bad = true
+					}
 				}
 			} else {
 				for s := range o {
@@ -150,8 +156,55 @@ func (e *planExec) run(m int) (bad bool) {
 			for s := range o {
 				o[s] = x[s] * x[s]
 			}
+		case kMax, kMin:
+			// Operands are tested first: o may be one of them.
+			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			chk += testRows(in.check, x, y, nil)
+			if in.k == kMax {
+				for s := range o {
+					if a, b := x[s], y[s]; a >= b {
+						o[s] = a
+					} else {
+						o[s] = b
+					}
+				}
+			} else {
+				for s := range o {
+					if a, b := x[s], y[s]; a <= b {
+						o[s] = a
+					} else {
+						o[s] = b
+					}
+				}
+			}
+		case kCmp:
+			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			chk += testRows(in.check, x, y, nil)
+			vecOp(in.op, o, x, y, nil)
+		case kIf:
+			x, y, z := rows[in.a][:len(o)], rows[in.b][:len(o)], rows[in.c][:len(o)]
+			chk += testRows(in.check, x, y, z)
+			for s := range o {
+				if x[s] != 0 {
+					o[s] = y[s]
+				} else {
+					o[s] = z[s]
+				}
+			}
+		case kCeil:
+			x := rows[in.a][:len(o)]
+			for s := range o {
+				o[s] = math.Ceil(x[s])
+			}
+		case kFloor:
+			x := rows[in.a][:len(o)]
+			for s := range o {
+				o[s] = math.Floor(x[s])
+			}
 		default:
-			if e.runOp(in, o) {
+			if in.k >= kFused {
+				chk += runFused(in.k, o, rows[in.a], rows[in.b], rows[in.c])
+			} else if e.runOp(in, o) {
 				bad = true
 			}
 		}
@@ -175,4 +228,25 @@ func (e *planExec) runOp(in *instr, o []float64) (bad bool) {
 	}
 	vecOp(in.op, o, xs, ys, zs)
 	return bad
+}
+
+// testRows returns the sum of v - v over the rows that check names (1: x,
+// 2: y, 4: z): NaN when one of their values is not finite.
+func testRows(check uint8, x, y, z []float64) (chk float64) {
+	for bit, r := range [3][]float64{x, y, z} {
+		if check&(1<<bit) == 0 {
+			continue
+		}
+		var s0, s1 float64
+		s := 0
+		for ; s+2 <= len(r); s += 2 {
+			s0 += r[s] - r[s]
+			s1 += r[s+1] - r[s+1]
+		}
+		for ; s < len(r); s++ {
+			s0 += r[s] - r[s]
+		}
+		chk += s0 + s1
+	}
+	return chk
 }
