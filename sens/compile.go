@@ -85,6 +85,7 @@ type Formula struct {
 	u    unit.Unit
 	out  int        // tape output index
 	tape *tape.Tape // the tape of out; nil for the program's (an element of a vector formula has its own)
+	sc   float64    // the output's value in base units is the tape's times sc (0 means 1)
 	lazy *formulaLazy
 }
 
@@ -175,6 +176,10 @@ type val struct {
 	c       float64  // the constant, in base units
 	bad     bool     // an error was already reported
 	tx      *textVal // text: a text column or text in quotes (compile_vec.go); slot is unused
+	// sc is a unit factor not yet multiplied in: the value in base units
+	// is the slot's value times sc (0 means 1). Products and quotients
+	// fold factors together instead of adding a node for each (see scaled).
+	sc float64
 }
 
 type state int
@@ -204,6 +209,10 @@ type compiler struct {
 	what    string      // the constant being evaluated, for messages
 
 	units map[unit.Unit]*unit.Unit // interned display units (see intern)
+	// noFold multiplies every input by its unit factor where it is
+	// declared, as the compiler did before factors were folded: the
+	// reference of the folding tests.
+	noFold bool
 
 	// numberUnit gives a number the unit of its line's last bracket, while a
 	// formula is read the second way (see formula).
@@ -211,6 +220,17 @@ type compiler struct {
 }
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
+	return newCompiler(m, extra).run()
+}
+
+// compileNoFold compiles m without folding unit factors (see noFold).
+func compileNoFold(m *Model) (*Program, error) {
+	c := newCompiler(m, nil)
+	c.noFold = true
+	return c.run()
+}
+
+func newCompiler(m *Model, extra *extraFormula) *compiler {
 	n := len(m.decls) + 1
 	c := &compiler{
 		m: m, extra: extra,
@@ -219,7 +239,7 @@ func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
 	}
 	c.b = newVBuilder(c, 4*n)
 	c.exchangeRates()
-	return c.run()
+	return c
 }
 
 func (c *compiler) errorf(f *syntax.File, pos syntax.Pos, format string, args ...any) {
@@ -311,10 +331,13 @@ func (c *compiler) compileInput(d *Decl) {
 	in.Value = v
 	c.setPos(f, s.Name.Pos())
 	slot := c.b.Input()
-	if in.u.Factor != 1 {
-		slot = c.b.Binary(tape.OpMul, slot, c.b.Const(in.u.Factor))
+	// The input's unit factor is folded into the products that use it
+	// (val.sc), or multiplied in where a sum or a function needs base units.
+	iv := val{slot: slot, dim: in.u.Dim, hint: c.intern(*in.u), bad: !ok, sc: in.u.Factor}
+	if c.noFold {
+		iv.slot, iv.sc = c.base(iv), 1
 	}
-	c.vals[d.Name] = val{slot: slot, dim: in.u.Dim, hint: c.intern(*in.u), bad: !ok}
+	c.vals[d.Name] = iv
 	// Range and distribution.
 	if s.Dist != nil {
 		c.compileDist(f, in, s.Dist)
@@ -507,6 +530,7 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 			c.setPos(f, s.Name.Pos())
 		}
 		fm.out = len(c.prog.Formulas)
+		fm.sc = v.scale()
 		c.prog.index[name] = -1 - fm.out
 		c.prog.Formulas = append(c.prog.Formulas, fm)
 		v.hint = c.intern(fm.u)
@@ -586,7 +610,7 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 				c.errorf(f, x.OpPos, "cannot negate a condition: use not")
 				return val{bad: true}
 			}
-			return val{slot: c.b.Unary(tape.OpNeg, v.slot), dim: v.dim, hint: v.hint, konst: v.konst, c: -v.c}
+			return val{slot: c.b.Unary(tape.OpNeg, v.slot), dim: v.dim, hint: v.hint, konst: v.konst, c: -v.c, sc: v.sc}
 		}
 		return v
 	case *syntax.BinaryExpr:
@@ -695,10 +719,14 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 		hint = b.hint
 	}
 	switch op {
-	case syntax.ADD:
-		return val{slot: c.b.Binary(tape.OpAdd, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c + b.c}
-	case syntax.SUB:
-		return val{slot: c.b.Binary(tape.OpSub, a.slot, b.slot), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: a.c - b.c}
+	case syntax.ADD, syntax.SUB:
+		o := tape.OpAdd
+		cv := a.c + b.c
+		if op == syntax.SUB {
+			o, cv = tape.OpSub, a.c-b.c
+		}
+		sa, sb, sc := c.alike(a, b)
+		return val{slot: c.b.Binary(o, sa, sb), dim: a.dim, hint: hint, konst: a.konst && b.konst, c: cv, sc: sc}
 	case syntax.MUL, syntax.QUO:
 		d := a.dim.Mul(b.dim)
 		o, cv := tape.OpMul, a.c*b.c
@@ -720,7 +748,8 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 		case a.hint != nil && b.hint != nil:
 			h = combinedUnit(a.hint, b.hint, op == syntax.MUL)
 		}
-		return val{slot: c.b.Binary(o, a.slot, b.slot), dim: d, hint: h, konst: a.konst && b.konst, c: cv}
+		sa, sb, sc := c.product(a, b, op == syntax.MUL)
+		return val{slot: c.b.Binary(o, sa, sb), dim: d, hint: h, konst: a.konst && b.konst, c: cv, sc: sc}
 	case syntax.POW:
 		if !b.dim.IsDimensionless() {
 			c.errorf(f, x.Y.Pos(), "an exponent must be dimensionless, found %s", unitText(c.shown(x.Y, b)))
@@ -743,10 +772,11 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 				return val{bad: true}
 			}
 		}
-		return val{slot: c.b.Binary(tape.OpPow, a.slot, b.slot), dim: d, konst: a.konst && b.konst, c: math.Pow(a.c, b.c)}
+		return val{slot: c.b.Binary(tape.OpPow, c.base(a), c.base(b)), dim: d, konst: a.konst && b.konst, c: math.Pow(a.c, b.c)}
 	}
 	cmp := map[syntax.Token]tape.Op{syntax.EQL: tape.OpEq, syntax.NEQ: tape.OpNe, syntax.LSS: tape.OpLt, syntax.LEQ: tape.OpLe, syntax.GTR: tape.OpGt, syntax.GEQ: tape.OpGe}
-	return val{slot: c.b.Binary(cmp[op], a.slot, b.slot), boolean: true}
+	sa, sb, _ := c.alike(a, b)
+	return val{slot: c.b.Binary(cmp[op], sa, sb), boolean: true}
 }
 
 // orPlain names the unit of a value for messages: "a plain number" when
@@ -864,15 +894,38 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		}
 		res.dim, res.hint = args[0].dim, args[0].hint
 	}
+	// Arguments in base units, except where one factor common to every
+	// numeric argument can pass through (min, max, the branches of if).
+	ss := make([]tape.Slot, len(args))
+	for i, a := range args {
+		ss[i] = c.base(a)
+	}
+	if rule == UnitsSame || rule == UnitsIf {
+		first := 0
+		if rule == UnitsIf {
+			first = 1
+		}
+		sc := args[first].scale()
+		common := true
+		for _, a := range args[first:] {
+			common = common && a.scale() == sc
+		}
+		if common {
+			for i := first; i < len(args); i++ {
+				ss[i] = args[i].slot
+			}
+			res.sc = sc
+		}
+	}
 	switch {
 	case variadic:
-		res.slot = c.b.Fold(info.Op, slots(args)...)
+		res.slot = c.b.Fold(info.Op, ss...)
 	case len(args) == 1:
-		res.slot = c.b.Unary(info.Op, args[0].slot)
+		res.slot = c.b.Unary(info.Op, ss[0])
 	case len(args) == 2:
-		res.slot = c.b.Binary(info.Op, args[0].slot, args[1].slot)
+		res.slot = c.b.Binary(info.Op, ss[0], ss[1])
 	default:
-		res.slot = c.b.Call(info.Op, slots(args)...)
+		res.slot = c.b.Call(info.Op, ss...)
 	}
 	if v, ok := c.b.IsConst(res.slot); ok {
 		res.konst, res.c = true, v
@@ -880,13 +933,64 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 	return res
 }
 
-// slots returns the tape slots of vs.
-func slots(vs []val) []tape.Slot {
-	s := make([]tape.Slot, len(vs))
-	for i, v := range vs {
-		s[i] = v.slot
+// scale returns the unit factor v's slot still has to be multiplied by.
+func (v val) scale() float64 {
+	if v.sc == 0 {
+		return 1
 	}
-	return s
+	return v.sc
+}
+
+// base returns v's slot in base units: the slot itself, or the slot times
+// its pending unit factor.
+func (c *compiler) base(v val) tape.Slot {
+	if sc := v.scale(); sc != 1 && !v.boolean {
+		return c.b.Binary(tape.OpMul, v.slot, c.b.Const(sc))
+	}
+	return v.slot
+}
+
+// product returns the slots to multiply (mul) or divide, and the factor
+// their result still needs, folding pending unit factors where that saves
+// nodes: factors that cancel (hours times $/h) cost nothing, and a factor
+// beside a constant is multiplied into the constant. Otherwise each side is
+// taken in base units: for an input or a formula, one multiplication that
+// every use shares, fewer nodes than a factor carried into every product
+// that uses it and multiplied in at every sum.
+func (c *compiler) product(a, b val, mul bool) (x, y tape.Slot, sc float64) {
+	sc = a.scale() * b.scale()
+	if !mul {
+		sc = a.scale() / b.scale()
+	}
+	switch {
+	case sc == 1 || math.Abs(sc-1) <= 4e-16:
+		// A product of factors that cancel to the last bit or two: the
+		// stated tolerance of folding.
+		return a.slot, b.slot, 1
+	case b.konst && !a.konst:
+		k := b.c / a.scale()
+		if mul {
+			k = b.c * a.scale()
+		}
+		return a.slot, c.b.Const(k), 1
+	case a.konst && !b.konst:
+		k := a.c * b.scale()
+		if !mul {
+			k = a.c / b.scale()
+		}
+		return c.b.Const(k), b.slot, 1
+	}
+	return c.base(a), c.base(b), 1
+}
+
+// alike returns the slots of a and b in one scale, for a sum, a difference
+// or a comparison: as they are when their pending factors are equal (the
+// factor, positive, passes through), else both in base units.
+func (c *compiler) alike(a, b val) (x, y tape.Slot, sc float64) {
+	if a.scale() == b.scale() {
+		return a.slot, b.slot, a.scale()
+	}
+	return c.base(a), c.base(b), 1
 }
 
 func lookupFunc(name string) *FuncInfo {

@@ -123,7 +123,7 @@ type Fn struct {
 	prog  *Program
 	tape  *tape.Tape
 	f     *Formula
-	scale float64 // 1 / display factor
+	scale float64 // from the tape's output to the display unit: sc / display factor
 }
 
 // Fn returns the formula name as a Function.
@@ -138,7 +138,11 @@ func (p *Program) Fn(name string) (*Fn, error) {
 		}
 		return nil, fmt.Errorf("undefined: %s%s", name, syntax.DidYouMean(name, p.Names()))
 	}
-	return &Fn{prog: p, tape: p.tapeOf(f).Clone(), f: f, scale: 1 / f.u.Factor}, nil
+	sc := f.sc
+	if sc == 0 {
+		sc = 1 // a formula the scalar compiler did not make (compile_vec.go)
+	}
+	return &Fn{prog: p, tape: p.tapeOf(f).Clone(), f: f, scale: sc / f.u.Factor}, nil
 }
 
 // Problem returns the analysis problem for the formula name.
