@@ -67,6 +67,22 @@ func checkBatch(x []float64, n, nIn int) {
 	}
 }
 
+// forwardBlocks is ForwardBatch by the node-major block pass (runBlock),
+// for a tape whose operations plans do not know (see plannable): a tape too
+// long for a useful block runs sample by sample.
+func (t *Tape) forwardBlocks(out, x []float64, n, i int) error {
+	t.ensureBatch(false)
+	if t.bw < minBlock {
+		return t.bySample(out, nil, x, n, i, false)
+	}
+	for base := 0; base < n; base += t.bw {
+		if err := t.forwardBlock(out, x, i, base, min(t.bw, n-base)); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // bySample runs a batch sample by sample, through Eval or, with grad,
 // Gradient: the way of a tape too long for a useful block.
 func (t *Tape) bySample(out, grads, x []float64, n, i int, grad bool) error {

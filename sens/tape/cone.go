@@ -1,6 +1,7 @@
 package tape
 
 import (
+	"errors"
 	"fmt"
 	"math/bits"
 	"slices"
@@ -49,12 +50,22 @@ type Cones struct {
 	x          []float64 // a full input vector for the reference pass
 }
 
+// ErrNoCones is the error of Cones for a tape whose operations cones do
+// not know.
+var ErrNoCones = errors.New("tape: this tape's operations have no cones")
+
 // coneCache bounds the instructions of the cone plans a Cones keeps.
 const coneCache = 1 << 20
 
 // Cones returns an evaluator of output i around the base inputs x. It
 // evaluates the base, and returns its error, if any, as Eval would.
+//
+// A tape with operations that cones do not know (see plannable) has none:
+// Cones returns ErrNoCones, and the caller evaluates its points otherwise.
 func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
+	if !t.p.plannable() {
+		return nil, ErrNoCones
+	}
 	c := &Cones{t: t.Clone(), out: i, base: slices.Clone(x), plans: map[[2]int32]*plan{}}
 	y, err := c.t.Eval(x, i)
 	if err != nil {

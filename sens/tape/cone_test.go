@@ -81,6 +81,11 @@ func TestPlanAgreesWithTape(t *testing.T) {
 		if d := agree(out, tp.ForwardBatch(out, flat, n, 0), want, bad, wantErr); d != "" {
 			t.Errorf("formula %d, ForwardBatch: %s", f, d)
 		}
+		// The node-major block pass, kept for tapes plans do not know.
+		out = make([]float64, n)
+		if d := agree(out, tp.Clone().forwardBlocks(out, flat, n, 0), want, bad, wantErr); d != "" {
+			t.Errorf("formula %d, forwardBlocks: %s", f, d)
+		}
 		out = make([]float64, n)
 		if d := agree(out, tp.ForwardColumns(out, cols, n, 0), want, bad, wantErr); d != "" {
 			t.Errorf("formula %d, ForwardColumns: %s", f, d)

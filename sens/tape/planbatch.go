@@ -78,6 +78,9 @@ func (t *Tape) ForwardBatch(out, x []float64, n, i int) error {
 	if len(out) != n {
 		panic("tape: ForwardBatch output length differs from n")
 	}
+	if !t.p.plannable() {
+		return t.forwardBlocks(out, x, n, i)
+	}
 	ps := t.planFor(i)
 	e := ps.e
 	pl, w := e.pl, e.w
@@ -119,6 +122,15 @@ func (t *Tape) ForwardColumns(out []float64, cols [][]float64, n, i int) error {
 	}
 	if len(out) < n {
 		panic("tape: ForwardColumns output shorter than n")
+	}
+	if !t.p.plannable() {
+		x := make([]float64, n*nIn)
+		for j, c := range cols {
+			for s := 0; s < n; s++ {
+				x[s*nIn+j] = c[s]
+			}
+		}
+		return t.forwardBlocks(out[:n], x, n, i)
 	}
 	ps := t.planFor(i)
 	e := ps.e
@@ -167,4 +179,21 @@ func (t *Tape) planBlock(out []float64, base, m int, row func(s int) []float64) 
 		out[s] = y
 	}
 	return nil
+}
+
+// plannable reports whether every operation of the program is one that
+// plans, cones and the scalar pass of a cone know: those up to opArg.
+// Operations added after it (nodes spanning several tape slots) take the
+// node-major passes, which know every operation.
+func (p *tapeProg) plannable() bool {
+	p.planOnce.Do(func() {
+		p.canPlan = true
+		for _, op := range p.ops {
+			if op > opArg {
+				p.canPlan = false
+				return
+			}
+		}
+	})
+	return p.canPlan
 }

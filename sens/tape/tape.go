@@ -1,5 +1,7 @@
 package tape
 
+import "sync"
+
 // tapeProg is the immutable program of a Tape, shared by its clones.
 //
 // Layout: slots [0, nIn) are the inputs, [nIn, start) the constants and
@@ -17,9 +19,11 @@ type tapeProg struct {
 	// reverse pass adds straight into its result (vec.go), and runs lists
 	// the runs of inputs [from, to) that are direct (odd entries) or not
 	// (even ones), in order; both nil when none is.
-	direct []bool
-	runs   [][2]int
-	cache  planCache // plans of the batched passes, by output
+	direct   []bool
+	runs     [][2]int
+	cache    planCache // plans of the batched passes, by output
+	planOnce sync.Once
+	canPlan  bool // see plannable
 }
 
 // Tape is a compiled computation: a flat list of operations in
