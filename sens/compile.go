@@ -614,6 +614,9 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 		}
 		return v
 	case *syntax.BinaryExpr:
+		if v, ok := c.longSum(f, x, constCtx); ok {
+			return v
+		}
 		return c.binary(f, x, constCtx)
 	case *syntax.CallExpr:
 		return c.call(f, x, constCtx)
