@@ -8,17 +8,18 @@ import (
 	"testing"
 )
 
-// evalRef evaluates output i at each row of xs by Eval, the reference
-// pass: the values, and the first failing sample with its error.
+// evalRef evaluates output i at each row of xs by run, the reference
+// pass (a loop over the tape's nodes): the values, and the first failing
+// sample with its error.
 func evalRef(tp *Tape, xs [][]float64, i int) ([]float64, int, *DomainError) {
 	out := make([]float64, len(xs))
 	for s, x := range xs {
-		y, err := tp.Eval(x, i)
-		if err != nil {
-			de := err.(*DomainError)
-			return out, s, de
+		tp.loadInputs(x)
+		bad := tp.run(tp.p.end(i))
+		if err := tp.check(bad, tp.p.outs[i:i+1], tp.vals, 1, 0, -1); err != nil {
+			return out, s, err.(*DomainError)
 		}
-		out[s] = y
+		out[s] = tp.vals[tp.p.outs[i]]
 	}
 	return out, -1, nil
 }
@@ -48,8 +49,9 @@ func agree(got []float64, err error, want []float64, bad int, wantErr *DomainErr
 	return ""
 }
 
-// TestPlanAgreesWithTape checks the batched evaluator (ForwardBatch and
-// ForwardColumns) and the cones against Eval, the tape's reference pass,
+// TestPlanAgreesWithTape checks the scalar code (Eval), the batched
+// evaluator (ForwardBatch and ForwardColumns) and the cones against run,
+// the tape's reference pass (a plain loop over its nodes),
 // to the last bit, on random formulas at points that include domain
 // errors: the same values, and the same error (operation, position,
 // operands, message) at the same sample.
@@ -76,6 +78,21 @@ func TestPlanAgreesWithTape(t *testing.T) {
 		want, bad, wantErr := evalRef(tp, rows, 0)
 		if bad >= 0 {
 			failing++
+		}
+		// Eval, by the scalar code with its fused instructions.
+		got := make([]float64, n)
+		var errE error
+		for s, x := range rows {
+			y, err := tp.Eval(x, 0)
+			if err != nil {
+				err.(*DomainError).Sample = s
+				errE = err
+				break
+			}
+			got[s] = y
+		}
+		if d := agree(got, errE, want, bad, wantErr); d != "" {
+			t.Errorf("formula %d, Eval: %s", f, d)
 		}
 		out := make([]float64, n)
 		if d := agree(out, tp.ForwardBatch(out, flat, n, 0), want, bad, wantErr); d != "" {

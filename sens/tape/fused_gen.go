@@ -253,124 +253,257 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 	return chk
 }
 
-// stepFused runs a fused pair of the scalar pass: v[k1] = x op1 y and
-// v[k2] = v[k1] op2 z or z op2 v[k1]. It reports whether a divisor it
-// tests is not finite.
-func stepFused(k kind, v []float64, k1, k2, a, b, c int32) (bad bool) {
-	x, y, z := v[a], v[b], v[c]
-	var t, r float64
-	switch k {
-	case kFAddAddL:
-		t = x + y
-		r = float64(t) + z
-	case kFAddAddR:
-		t = x + y
-		r = z + float64(t)
-	case kFAddSubL:
-		t = x + y
-		r = float64(t) - z
-	case kFAddSubR:
-		t = x + y
-		r = z - float64(t)
-	case kFAddMulL:
-		t = x + y
-		r = float64(t) * z
-	case kFAddMulR:
-		t = x + y
-		r = z * float64(t)
-	case kFAddDivL:
-		t = x + y
-		r = float64(t) / z
-		bad = !finite(z)
-	case kFAddDivR:
-		t = x + y
-		r = z / float64(t)
-		bad = !finite(t)
-	case kFSubAddL:
-		t = x - y
-		r = float64(t) + z
-	case kFSubAddR:
-		t = x - y
-		r = z + float64(t)
-	case kFSubSubL:
-		t = x - y
-		r = float64(t) - z
-	case kFSubSubR:
-		t = x - y
-		r = z - float64(t)
-	case kFSubMulL:
-		t = x - y
-		r = float64(t) * z
-	case kFSubMulR:
-		t = x - y
-		r = z * float64(t)
-	case kFSubDivL:
-		t = x - y
-		r = float64(t) / z
-		bad = !finite(z)
-	case kFSubDivR:
-		t = x - y
-		r = z / float64(t)
-		bad = !finite(t)
-	case kFMulAddL:
-		t = x * y
-		r = float64(t) + z
-	case kFMulAddR:
-		t = x * y
-		r = z + float64(t)
-	case kFMulSubL:
-		t = x * y
-		r = float64(t) - z
-	case kFMulSubR:
-		t = x * y
-		r = z - float64(t)
-	case kFMulMulL:
-		t = x * y
-		r = float64(t) * z
-	case kFMulMulR:
-		t = x * y
-		r = z * float64(t)
-	case kFMulDivL:
-		t = x * y
-		r = float64(t) / z
-		bad = !finite(z)
-	case kFMulDivR:
-		t = x * y
-		r = z / float64(t)
-		bad = !finite(t)
-	case kFDivAddL:
-		t = x / y
-		r = float64(t) + z
-		bad = !finite(y)
-	case kFDivAddR:
-		t = x / y
-		r = z + float64(t)
-		bad = !finite(y)
-	case kFDivSubL:
-		t = x / y
-		r = float64(t) - z
-		bad = !finite(y)
-	case kFDivSubR:
-		t = x / y
-		r = z - float64(t)
-		bad = !finite(y)
-	case kFDivMulL:
-		t = x / y
-		r = float64(t) * z
-		bad = !finite(y)
-	case kFDivMulR:
-		t = x / y
-		r = z * float64(t)
-		bad = !finite(y)
-	case kFDivDivL:
-		t = x / y
-		r = float64(t) / z
-		bad = !finite(y) || !finite(z)
-	case kFDivDivR:
-		t = x / y
-		r = z / float64(t)
-		bad = !finite(y) || !finite(t)
+// runCode evaluates the nodes of code below stop, as run evaluates them,
+// to the last bit, and reports whether a guard operation saw a non-finite
+// operand. A fused instruction computes two nodes, in.n and in.n+1.
+func (t *Tape) runCode(code []sinstr, stop int) (bad bool) {
+	v := t.vals
+	for i := range code {
+		in := &code[i]
+		if int(in.n) >= stop {
+			break
+		}
+		switch in.k {
+		case kind(OpAdd):
+			v[in.n] = v[in.a] + v[in.b]
+		case kind(OpSub):
+			v[in.n] = v[in.a] - v[in.b]
+		case kind(OpMul):
+			v[in.n] = v[in.a] * v[in.b]
+		case kind(OpDiv):
+			y := v[in.b]
+			v[in.n] = v[in.a] / y
+			if !finite(y) {
+				bad = true
+			}
+		case kind(OpNeg):
+			v[in.n] = -v[in.a]
+		case kind(OpSquare):
+			x := v[in.a]
+			v[in.n] = x * x
+		case kind(OpMin), kind(OpMax), kind(OpLt), kind(OpGt), kind(OpLe), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = evalOp(Op(in.k), x, y, 0)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpIf):
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			r := z
+			if x != 0 {
+				r = y
+			}
+			v[in.n] = r
+			if !finite(x) || !finite(y) || !finite(z) {
+				bad = true
+			}
+		case kFAddAddL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = float64(t) + z
+		case kFAddAddR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = z + float64(t)
+		case kFAddSubL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = float64(t) - z
+		case kFAddSubR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = z - float64(t)
+		case kFAddMulL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = float64(t) * z
+		case kFAddMulR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = z * float64(t)
+		case kFAddDivL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = float64(t) / z
+			if !finite(z) {
+				bad = true
+			}
+		case kFAddDivR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x + y
+			v[in.n] = t
+			v[in.n+1] = z / float64(t)
+			if !finite(t) {
+				bad = true
+			}
+		case kFSubAddL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = float64(t) + z
+		case kFSubAddR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = z + float64(t)
+		case kFSubSubL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = float64(t) - z
+		case kFSubSubR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = z - float64(t)
+		case kFSubMulL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = float64(t) * z
+		case kFSubMulR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = z * float64(t)
+		case kFSubDivL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = float64(t) / z
+			if !finite(z) {
+				bad = true
+			}
+		case kFSubDivR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x - y
+			v[in.n] = t
+			v[in.n+1] = z / float64(t)
+			if !finite(t) {
+				bad = true
+			}
+		case kFMulAddL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = float64(t) + z
+		case kFMulAddR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = z + float64(t)
+		case kFMulSubL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = float64(t) - z
+		case kFMulSubR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = z - float64(t)
+		case kFMulMulL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = float64(t) * z
+		case kFMulMulR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = z * float64(t)
+		case kFMulDivL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = float64(t) / z
+			if !finite(z) {
+				bad = true
+			}
+		case kFMulDivR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x * y
+			v[in.n] = t
+			v[in.n+1] = z / float64(t)
+			if !finite(t) {
+				bad = true
+			}
+		case kFDivAddL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = float64(t) + z
+			if !finite(y) {
+				bad = true
+			}
+		case kFDivAddR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = z + float64(t)
+			if !finite(y) {
+				bad = true
+			}
+		case kFDivSubL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = float64(t) - z
+			if !finite(y) {
+				bad = true
+			}
+		case kFDivSubR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = z - float64(t)
+			if !finite(y) {
+				bad = true
+			}
+		case kFDivMulL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = float64(t) * z
+			if !finite(y) {
+				bad = true
+			}
+		case kFDivMulR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = z * float64(t)
+			if !finite(y) {
+				bad = true
+			}
+		case kFDivDivL:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = float64(t) / z
+			if !finite(y) || !finite(z) {
+				bad = true
+			}
+		case kFDivDivR:
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			t := x / y
+			v[in.n] = t
+			v[in.n+1] = z / float64(t)
+			if !finite(y) || !finite(t) {
+				bad = true
+			}
+		default:
+			if t.slowOp(int(in.n)) {
+				bad = true
+			}
+		}
 	}
-	v[k1], v[k2] = t, r
 	return bad
 }

@@ -12,6 +12,7 @@ import (
 	"go/format"
 	"log"
 	"os"
+	"strings"
 )
 
 var ops = []struct{ name, sym string }{{"Add", "+"}, {"Sub", "-"}, {"Mul", "*"}, {"Div", "/"}}
@@ -78,19 +79,17 @@ func main() {
 	}
 	p("\t}\n\treturn chk\n}\n\n")
 
-	// Scalar kernel.
-	p("// stepFused runs a fused pair of the scalar pass: v[k1] = x op1 y and\n")
-	p("// v[k2] = v[k1] op2 z or z op2 v[k1]. It reports whether a divisor it\n// tests is not finite.\n")
-	p("func stepFused(k kind, v []float64, k1, k2, a, b, c int32) (bad bool) {\n")
-	p("\tx, y, z := v[a], v[b], v[c]\n\tvar t, r float64\n\tswitch k {\n")
+	// The scalar pass over code.
+	p("%s", scalarHead)
 	for _, o1 := range ops {
 		for _, o2 := range ops {
 			for _, side := range []string{"L", "R"} {
-				p("\tcase kF%s%s%s:\n\t\tt = x %s y\n", o1.name, o2.name, side, o1.sym)
+				p("\t\tcase kF%s%s%s:\n", o1.name, o2.name, side)
+				p("\t\t\tx, y, z := v[in.a], v[in.b], v[in.c]\n\t\t\tt := x %s y\n\t\t\tv[in.n] = t\n", o1.sym)
 				if side == "L" {
-					p("\t\tr = float64(t) %s z\n", o2.sym)
+					p("\t\t\tv[in.n+1] = float64(t) %s z\n", o2.sym)
 				} else {
-					p("\t\tr = z %s float64(t)\n", o2.sym)
+					p("\t\t\tv[in.n+1] = z %s float64(t)\n", o2.sym)
 				}
 				var conds []string
 				if o1.sym == "/" {
@@ -103,15 +102,13 @@ func main() {
 						conds = append(conds, "!finite(t)")
 					}
 				}
-				if len(conds) == 1 {
-					p("\t\tbad = %s\n", conds[0])
-				} else if len(conds) == 2 {
-					p("\t\tbad = %s || %s\n", conds[0], conds[1])
+				if len(conds) > 0 {
+					p("\t\t\tif %s {\n\t\t\t\tbad = true\n\t\t\t}\n", strings.Join(conds, " || "))
 				}
 			}
 		}
 	}
-	p("\t}\n\tv[k1], v[k2] = t, r\n\treturn bad\n}\n")
+	p("%s", scalarTail)
 
 	src, err := format.Source(b.Bytes())
 	if err != nil {
@@ -121,3 +118,124 @@ func main() {
 		log.Fatal(err)
 	}
 }
+
+// scalarHead and scalarTail frame the scalar pass: the operations that run
+// has loops of its own for, written once here for code (see scode.go).
+const scalarHead = `
+// runCode evaluates the nodes of code below stop, as run evaluates them,
+// to the last bit, and reports whether a guard operation saw a non-finite
+// operand. A fused instruction computes two nodes, in.n and in.n+1.
+func (t *Tape) runCode(code []sinstr, stop int) (bad bool) {
+	v := t.vals
+	for i := range code {
+		in := &code[i]
+		if int(in.n) >= stop {
+			break
+		}
+		switch in.k {
+		case kind(OpAdd):
+			v[in.n] = v[in.a] + v[in.b]
+		case kind(OpSub):
+			v[in.n] = v[in.a] - v[in.b]
+		case kind(OpMul):
+			v[in.n] = v[in.a] * v[in.b]
+		case kind(OpDiv):
+			y := v[in.b]
+			v[in.n] = v[in.a] / y
+			if !finite(y) {
+				bad = true
+			}
+		case kind(OpNeg):
+			v[in.n] = -v[in.a]
+		case kind(OpSquare):
+			x := v[in.a]
+			v[in.n] = x * x
+		case kind(OpMin):
+			x, y := v[in.a], v[in.b]
+			r := y
+			if x <= y {
+				r = x
+			}
+			v[in.n] = r
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpMax):
+			x, y := v[in.a], v[in.b]
+			r := y
+			if x >= y {
+				r = x
+			}
+			v[in.n] = r
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpLt):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x < y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpGt):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x > y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpLe):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x <= y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpGe):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x >= y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpEq):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x == y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpNe):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x != y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpAnd):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x != 0 && y != 0)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpOr):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x != 0 || y != 0)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpIf):
+			x, y, z := v[in.a], v[in.b], v[in.c]
+			r := z
+			if x != 0 {
+				r = y
+			}
+			v[in.n] = r
+			if !finite(x) || !finite(y) || !finite(z) {
+				bad = true
+			}
+`
+
+const scalarTail = `		default:
+			if t.slowOp(int(in.n)) {
+				bad = true
+			}
+		}
+	}
+	return bad
+}
+`

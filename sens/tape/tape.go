@@ -23,7 +23,8 @@ type tapeProg struct {
 	runs     [][2]int
 	cache    planCache // plans of the batched passes, by output
 	planOnce sync.Once
-	canPlan  bool // see plannable
+	canPlan  bool       // see plannable
+	sc       scalarCode // the scalar pass's code
 }
 
 // Tape is a compiled computation: a flat list of operations in

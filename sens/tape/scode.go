@@ -1,0 +1,93 @@
+package tape
+
+import "sync"
+
+// The scalar pass's code: the tape's operations as an instruction array in
+// evaluation order, built on first use and shared by every clone, in which
+// a + - * / whose one use is the next node, another of them, runs with it
+// as one fused instruction (both nodes' values are still written, for the
+// reverse pass). runCode (fused_gen.go) runs it.
+
+// sinstr is an instruction of the scalar code: node n = k(a, b, c), or, for
+// a fused kind, node n = a op1 b and node n+1 = n op2 c (or c op2 n).
+type sinstr struct {
+	k       kind // an Op as a kind, or a fused kind
+	n       int32
+	a, b, c int32
+}
+
+// scalarCode is a program's scalar code, built once.
+type scalarCode struct {
+	once sync.Once
+	code []sinstr
+}
+
+// scode returns the scalar code of the program.
+func (p *tapeProg) scode() []sinstr {
+	p.sc.once.Do(func() { p.sc.code = p.buildCode() })
+	return p.sc.code
+}
+
+func (p *tapeProg) buildCode() []sinstr {
+	n := len(p.ops)
+	// Uses of each node: as an operand, and as an output.
+	uses := make([]uint8, n)
+	use := func(k int32) {
+		if uses[k] < 2 {
+			uses[k]++
+		}
+	}
+	for k := p.start; k < n; k++ {
+		if p.ops[k] == opArg {
+			use(p.a[k])
+			continue
+		}
+		use(p.a[k])
+		if p.ops[k].Arity() >= 2 && p.b[k] != p.a[k] {
+			use(p.b[k])
+		}
+	}
+	for _, o := range p.outs {
+		uses[o] = 2
+	}
+	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
+	code := make([]sinstr, 0, n-p.start)
+	for k := p.start; k < n; k++ {
+		op := p.ops[k]
+		if op == opArg {
+			continue
+		}
+		k32 := int32(k)
+		if arith(op) && uses[k] == 1 && k+1 < n {
+			if op2 := p.ops[k+1]; arith(op2) && (p.a[k+1] == k32) != (p.b[k+1] == k32) {
+				left := p.a[k+1] == k32
+				c := p.a[k+1]
+				if left {
+					c = p.b[k+1]
+				}
+				code = append(code, sinstr{k: fusedKind(op, op2, left), n: k32, a: p.a[k], b: p.b[k], c: c})
+				k++
+				continue
+			}
+		}
+		in := sinstr{k: kind(op), n: k32, a: p.a[k], b: p.b[k]}
+		if op.Arity() == 3 {
+			in.c = p.a[k+1]
+		}
+		code = append(code, in)
+	}
+	return code
+}
+
+// CodeBytes returns the memory of the compiled forms of the tape, shared by
+// its clones: the scalar code and the batched plans built so far.
+func (t *Tape) CodeBytes() int {
+	p := t.p
+	b := 20 * len(p.sc.code)
+	p.cache.mu.Lock()
+	for _, pl := range p.cache.plans {
+		b += 40*len(pl.code) + 8*len(pl.consts) + 4*len(pl.inputs)
+	}
+	p.cache.mu.Unlock()
+	return b
+}
