@@ -22,6 +22,7 @@ func TestTapeNoAllocs(t *testing.T) {
 	g := make([]float64, len(x))
 	const n = 1000
 	xs := tapebench.Samples(n, 3)
+	cols := tapebench.Columns(xs, n)
 	out, grads := make([]float64, n), make([]float64, n*len(x))
 	big, xb := tapebench.GenModel(40_000, 1000, 5) // runs sample by sample
 	xbs := make([]float64, 0, 10*len(xb))
@@ -38,6 +39,7 @@ func TestTapeNoAllocs(t *testing.T) {
 		{"Reverse", func() error { tp.Reverse(g, 0); return nil }},
 		{"Gradient", func() error { _, err := tp.Gradient(g, x, 0); return err }},
 		{"ForwardBatch", func() error { return tp.ForwardBatch(out, xs, n, 0) }},
+		{"ForwardColumns", func() error { return tp.ForwardColumns(out, cols, n, 0) }},
 		{"GradientBatch", func() error { return tp.GradientBatch(out, grads, xs, n, 0) }},
 		{"ForwardBatch long tape", func() error { return big.ForwardBatch(outb, xbs, 10, 0) }},
 		{"GradientBatch long tape", func() error { return big.GradientBatch(outb, gradsb, xbs, 10, 0) }},

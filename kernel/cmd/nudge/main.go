@@ -35,6 +35,10 @@ usage:
                                    of this program that Jupyter starts
   nudge bench                      print the engine's benchmark ratios, each
                                    marked met or missed against its target
+  nudge bench model [--lines N] [--if] [--seed S]
+                                   print the generated scale model
+  nudge bench scale [--lines N] [--if] [--seed S] [--repeat R]
+                                   time parse, compile and analyses of it
   nudge version                    print the version
 
 Every command takes --help. Exit codes: 0 success, 1 an error in a model,
