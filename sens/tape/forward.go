@@ -21,7 +21,7 @@ func (t *Tape) loadInputs(x []float64) {
 // returns nil, or a *DomainError if any output would be NaN or ±Inf.
 func (t *Tape) Forward(x []float64) error {
 	t.loadInputs(x)
-	bad := t.exec(len(t.vals))
+	bad := t.exec(-1, len(t.vals))
 	return t.check(bad, t.p.outs, t.vals, 1, 0, -1)
 }
 
@@ -31,7 +31,7 @@ func (t *Tape) Forward(x []float64) error {
 func (t *Tape) Eval(x []float64, i int) (float64, error) {
 	t.loadInputs(x)
 	out := t.p.outs[i]
-	bad := t.exec(t.p.end(i))
+	bad := t.exec(i, t.p.end(i))
 	if err := t.check(bad, t.p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
 		return math.NaN(), err
 	}
@@ -43,11 +43,12 @@ func (t *Tape) Eval(x []float64, i int) (float64, error) {
 // of a loop node (vec.go).
 func (p *tapeProg) end(i int) int { return p.endNode(int(p.outs[i])) }
 
-// exec evaluates nodes [start, stop): by the scalar code (runCode) when
-// the tape's operations are all ones it knows, else by run.
-func (t *Tape) exec(stop int) bool {
+// exec evaluates the nodes output i needs, or every node for i < 0, up to
+// stop (len(vals) or end(i)): by the scalar code (runCode) when the
+// tape's operations are all ones it knows, else by run.
+func (t *Tape) exec(i, stop int) bool {
 	if t.p.plannable() {
-		return t.runCode(t.p.scode(), stop)
+		return t.runCode(t.p.scode(i))
 	}
 	return t.run(stop)
 }

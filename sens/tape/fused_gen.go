@@ -253,16 +253,13 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 	return chk
 }
 
-// runCode evaluates the nodes of code below stop, as run evaluates them,
-// to the last bit, and reports whether a guard operation saw a non-finite
-// operand. A fused instruction computes two nodes, in.n and in.n+1.
-func (t *Tape) runCode(code []sinstr, stop int) (bad bool) {
+// runCode evaluates the nodes of code, as run evaluates them, to the last
+// bit, and reports whether a guard operation saw a non-finite operand. A
+// fused instruction computes two nodes, in.n and in.n+1.
+func (t *Tape) runCode(code []sinstr) (bad bool) {
 	v := t.vals
 	for i := range code {
 		in := &code[i]
-		if int(in.n) >= stop {
-			break
-		}
 		switch in.k {
 		case kind(OpAdd):
 			v[in.n] = v[in.a] + v[in.b]
@@ -281,9 +278,71 @@ func (t *Tape) runCode(code []sinstr, stop int) (bad bool) {
 		case kind(OpSquare):
 			x := v[in.a]
 			v[in.n] = x * x
-		case kind(OpMin), kind(OpMax), kind(OpLt), kind(OpGt), kind(OpLe), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr):
+		case kind(OpMin):
 			x, y := v[in.a], v[in.b]
-			v[in.n] = evalOp(Op(in.k), x, y, 0)
+			r := y
+			if x <= y {
+				r = x
+			}
+			v[in.n] = r
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpMax):
+			x, y := v[in.a], v[in.b]
+			r := y
+			if x >= y {
+				r = x
+			}
+			v[in.n] = r
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpLt):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x < y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpGt):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x > y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpLe):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x <= y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpGe):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x >= y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpEq):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x == y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpNe):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x != y)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpAnd):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x != 0 && y != 0)
+			if !finite(x) || !finite(y) {
+				bad = true
+			}
+		case kind(OpOr):
+			x, y := v[in.a], v[in.b]
+			v[in.n] = b2f(x != 0 || y != 0)
 			if !finite(x) || !finite(y) {
 				bad = true
 			}

@@ -122,16 +122,13 @@ func main() {
 // scalarHead and scalarTail frame the scalar pass: the operations that run
 // has loops of its own for, written once here for code (see scode.go).
 const scalarHead = `
-// runCode evaluates the nodes of code below stop, as run evaluates them,
-// to the last bit, and reports whether a guard operation saw a non-finite
-// operand. A fused instruction computes two nodes, in.n and in.n+1.
-func (t *Tape) runCode(code []sinstr, stop int) (bad bool) {
+// runCode evaluates the nodes of code, as run evaluates them, to the last
+// bit, and reports whether a guard operation saw a non-finite operand. A
+// fused instruction computes two nodes, in.n and in.n+1.
+func (t *Tape) runCode(code []sinstr) (bad bool) {
 	v := t.vals
 	for i := range code {
 		in := &code[i]
-		if int(in.n) >= stop {
-			break
-		}
 		switch in.k {
 		case kind(OpAdd):
 			v[in.n] = v[in.a] + v[in.b]

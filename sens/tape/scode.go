@@ -20,12 +20,28 @@ type sinstr struct {
 type scalarCode struct {
 	once sync.Once
 	code []sinstr
+	ends []int32 // ends[i]: the instructions output i needs are code[:ends[i]]
 }
 
-// scode returns the scalar code of the program.
-func (p *tapeProg) scode() []sinstr {
-	p.sc.once.Do(func() { p.sc.code = p.buildCode() })
-	return p.sc.code
+// scode returns the scalar code of every node (i < 0), or of the nodes up
+// to output i's.
+func (p *tapeProg) scode(i int) []sinstr {
+	p.sc.once.Do(func() {
+		p.sc.code = p.buildCode()
+		p.sc.ends = make([]int32, len(p.outs))
+		for o := range p.outs {
+			e := p.end(o)
+			n := len(p.sc.code)
+			for n > 0 && int(p.sc.code[n-1].n) >= e {
+				n--
+			}
+			p.sc.ends[o] = int32(n)
+		}
+	})
+	if i < 0 {
+		return p.sc.code
+	}
+	return p.sc.code[:p.sc.ends[i]]
 }
 
 func (p *tapeProg) buildCode() []sinstr {
