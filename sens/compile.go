@@ -235,7 +235,7 @@ func newCompiler(m *Model, extra *extraFormula) *compiler {
 	c := &compiler{
 		m: m, extra: extra,
 		decls: m.decls, state: make(map[string]state, n), vals: make(map[string]val, n),
-		prog: &Program{index: make(map[string]int, n)},
+		prog: &Program{index: make(map[string]int, n), pos: make([]posEntry, 0, 4*n)},
 	}
 	c.b = newVBuilder(c, 4*n)
 	c.exchangeRates()

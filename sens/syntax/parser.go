@@ -132,6 +132,9 @@ type bailout struct{}
 
 func (p *parser) init(f *File) {
 	p.file = f
+	// About one token in four bytes of model text: room for them all at
+	// once, so that a large file's tokens are not copied while they grow.
+	p.toks = make([]token, 0, len(f.Src)/4+16)
 	var s Scanner
 	s.Init(f, &p.errs)
 	var open []Pos // positions of unclosed '('
