@@ -32,7 +32,7 @@ func parseScaleFlags(name string, args []string, stderr io.Writer, repeat bool) 
 	fs.BoolVar(&sf.ifs, "if", false, "give about one line item in five an if(...)")
 	fs.Uint64Var(&sf.seed, "seed", 1, "the generator's seed")
 	if repeat {
-		fs.IntVar(&sf.repeat, "repeat", 3, "times to repeat each timing (the median is shown)")
+		fs.IntVar(&sf.repeat, "repeat", 3, "rounds of timings (medians are shown)")
 	}
 	if err := fs.Parse(args); err != nil || fs.NArg() > 0 || sf.lines < 3 {
 		if err == nil {
@@ -74,21 +74,6 @@ func benchScale(args []string, stdout, stderr io.Writer) int {
 	return 0
 }
 
-// timeMedian runs f n times and returns the median time.
-func timeMedian(n int, f func() error) (time.Duration, error) {
-	ts := make([]time.Duration, n)
-	for r := range ts {
-		runtime.GC()
-		start := time.Now()
-		if err := f(); err != nil {
-			return 0, err
-		}
-		ts[r] = time.Since(start)
-	}
-	slices.Sort(ts)
-	return ts[n/2], nil
-}
-
 func runScale(sf *scaleFlags, w io.Writer) error {
 	src := tapebench.ScaleModel(sf.lines, sf.ifs, sf.seed)
 	var stmts []syntax.Stmt
@@ -110,53 +95,75 @@ func runScale(sf *scaleFlags, w io.Writer) error {
 		return err
 	}
 	peak := peakRSS()
-	tParse, err := timeMedian(sf.repeat, func() error { _, _, err := syntax.Parse("bid", src); return err })
-	if err != nil {
-		return err
-	}
-	tCompile, err := timeMedian(sf.repeat, func() error { _, err := compile(); return err })
-	if err != nil {
-		return err
-	}
 	pr, err := prog.Problem("total")
 	if err != nil {
 		return err
 	}
 	x0 := pr.Baseline()
-	evals := 0
-	tEval, err := timeMedian(sf.repeat, func() error {
-		start := time.Now()
-		evals = 0
-		for time.Since(start) < 200*time.Millisecond {
-			if _, err := pr.F.Eval(x0); err != nil {
-				return err
-			}
-			evals++
-		}
-		return nil
-	})
-	if err != nil {
-		return err
-	}
-	tEval /= time.Duration(evals)
-	tDrivers, err := timeMedian(sf.repeat, func() error { _, err := sens.Drivers(pr, nil); return err })
-	if err != nil {
-		return err
-	}
-	var tr *sens.TornadoResult
-	tTornado, err := timeMedian(sf.repeat, func() error { tr, err = sens.Tornado(pr, &sens.TornadoSettings{Top: 10}); return err })
-	if err != nil {
-		return err
-	}
 	cell := string(src) + "drivers total top=10\ntornado total top=10\n"
-	tExec, err := timeMedian(sf.repeat, func() error {
-		in := kernel.New()
-		in.Opts.NoCharts = true
-		sink := &kernel.WriterSink{Out: io.Discard, Err: io.Discard}
-		return kernel.RunFile(context.Background(), in, "bid", cell, sink)
-	})
-	if err != nil {
+
+	// Each round times every step in turn, so that a change of load on the
+	// machine falls on a whole round; a ratio is the median of the rounds'
+	// ratios.
+	var tParse, tCompile, tEval, tDrivers, tTornado, tExec []time.Duration
+	var tr *sens.TornadoResult
+	timed := func(ts *[]time.Duration, f func() error) error {
+		runtime.GC()
+		start := time.Now()
+		err := f()
+		*ts = append(*ts, time.Since(start))
 		return err
+	}
+	for r := 0; r < sf.repeat; r++ {
+		if err := timed(&tParse, func() error { _, _, err := syntax.Parse("bid", src); return err }); err != nil {
+			return err
+		}
+		if err := timed(&tCompile, func() error { _, err := compile(); return err }); err != nil {
+			return err
+		}
+		evals := 0
+		err := timed(&tEval, func() error {
+			start := time.Now()
+			for evals == 0 || time.Since(start) < 100*time.Millisecond {
+				if _, err := pr.F.Eval(x0); err != nil {
+					return err
+				}
+				evals++
+			}
+			return nil
+		})
+		if err != nil {
+			return err
+		}
+		tEval[r] /= time.Duration(evals)
+		if err := timed(&tDrivers, func() error { _, err := sens.Drivers(pr, nil); return err }); err != nil {
+			return err
+		}
+		if err := timed(&tTornado, func() error { tr, err = sens.Tornado(pr, &sens.TornadoSettings{Top: 10}); return err }); err != nil {
+			return err
+		}
+		err = timed(&tExec, func() error {
+			in := kernel.New()
+			in.Opts.NoCharts = true
+			sink := &kernel.WriterSink{Out: io.Discard, Err: io.Discard}
+			return kernel.RunFile(context.Background(), in, "bid", cell, sink)
+		})
+		if err != nil {
+			return err
+		}
+	}
+	med := func(ts []time.Duration) float64 {
+		s := slices.Clone(ts)
+		slices.Sort(s)
+		return float64(s[len(s)/2])
+	}
+	ratio := func(a, b []time.Duration) float64 {
+		rs := make([]float64, len(a))
+		for r := range a {
+			rs[r] = float64(a[r]) / float64(b[r])
+		}
+		slices.Sort(rs)
+		return rs[len(rs)/2]
 	}
 
 	what := "products and max"
@@ -165,19 +172,19 @@ func runScale(sf *scaleFlags, w io.Writer) error {
 	}
 	fmt.Fprintf(w, "nudge bench scale: a generated bid of %d lines (%s), %d inputs, %d tape nodes\n",
 		sf.lines, what, len(prog.Inputs), prog.TapeLen())
-	fmt.Fprintf(w, "(medians of %d runs; ratios from this run)\n", sf.repeat)
+	fmt.Fprintf(w, "(%d rounds; times are medians, ratios medians of each round's ratio)\n", sf.repeat)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "figure\tvalue\tper line or ratio")
-	perLine := func(d time.Duration) string { return fmtNs(float64(d.Nanoseconds()) / float64(sf.lines)) }
-	fmt.Fprintf(tw, "parse\t%s\t%s a line\n", fmtNs(float64(tParse)), perLine(tParse))
-	fmt.Fprintf(tw, "compile (declare and compile)\t%s\t%s a line\n", fmtNs(float64(tCompile)), perLine(tCompile))
-	fmt.Fprintf(tw, "compile / parse\t\t%.2f\n", float64(tCompile)/float64(tParse))
+	perLine := func(d float64) string { return fmtNs(d / float64(sf.lines)) }
+	fmt.Fprintf(tw, "parse\t%s\t%s a line\n", fmtNs(med(tParse)), perLine(med(tParse)))
+	fmt.Fprintf(tw, "compile (declare and compile)\t%s\t%s a line\n", fmtNs(med(tCompile)), perLine(med(tCompile)))
+	fmt.Fprintf(tw, "compile / parse\t\t%.2f\n", ratio(tCompile, tParse))
 	if peak > 0 {
 		fmt.Fprintf(tw, "peak memory after parse and compile (max RSS)\t%.0f MB\t\n", float64(peak)/1e6)
 	}
-	fmt.Fprintf(tw, "one forward evaluation of total\t%s\t\n", fmtNs(float64(tEval)))
-	fmt.Fprintf(tw, "drivers total\t%s\t%.1f forward evaluations\n", fmtNs(float64(tDrivers)), float64(tDrivers)/float64(tEval))
-	fmt.Fprintf(tw, "tornado total (%d points)\t%s\t%.1f forward evaluations\n", tr.Evaluations, fmtNs(float64(tTornado)), float64(tTornado)/float64(tEval))
-	fmt.Fprintf(tw, "exec: model, drivers and tornado\t%s\t%.2f compile times\n", fmtNs(float64(tExec)), float64(tExec)/float64(tCompile))
+	fmt.Fprintf(tw, "one forward evaluation of total\t%s\t\n", fmtNs(med(tEval)))
+	fmt.Fprintf(tw, "drivers total\t%s\t%.1f forward evaluations\n", fmtNs(med(tDrivers)), ratio(tDrivers, tEval))
+	fmt.Fprintf(tw, "tornado total (%d points)\t%s\t%.1f forward evaluations\n", tr.Evaluations, fmtNs(med(tTornado)), ratio(tTornado, tEval))
+	fmt.Fprintf(tw, "exec: model, drivers and tornado\t%s\t%.2f compile times\n", fmtNs(med(tExec)), ratio(tExec, tCompile))
 	return tw.Flush()
 }
