@@ -1,6 +1,9 @@
 package tape
 
-import "sync"
+import (
+	"sort"
+	"sync"
+)
 
 // The scalar pass's code: the tape's operations as an instruction array in
 // evaluation order, built on first use and shared by every clone, in which
@@ -29,13 +32,12 @@ func (p *tapeProg) scode(i int) []sinstr {
 	p.sc.once.Do(func() {
 		p.sc.code = p.buildCode()
 		p.sc.ends = make([]int32, len(p.outs))
+		code := p.sc.code
 		for o := range p.outs {
-			e := p.end(o)
-			n := len(p.sc.code)
-			for n > 0 && int(p.sc.code[n-1].n) >= e {
-				n--
-			}
-			p.sc.ends[o] = int32(n)
+			e := int32(p.end(o))
+			// The code is in node order: the first instruction at or past
+			// the output's end.
+			p.sc.ends[o] = int32(sort.Search(len(code), func(j int) bool { return code[j].n >= e }))
 		}
 	})
 	if i < 0 {
