@@ -57,7 +57,10 @@ func (fn *Fn) GradientBatch(dst, grads, xs []float64, n int) error {
 // GradientBatch evaluates at n points of the sub-function's inputs.
 func (s *subFn) GradientBatch(dst, grads, xs []float64, n int) error {
 	k, all := len(s.index), len(s.full)
-	rows := make([]float64, n*all)
+	if cap(s.gbatch) < n*all {
+		s.gbatch, s.gfull = make([]float64, n*all), make([]float64, n*all)
+	}
+	rows, full := s.gbatch[:n*all], s.gfull[:n*all]
 	for r := 0; r < n; r++ {
 		row := rows[r*all : (r+1)*all]
 		copy(row, s.full)
@@ -65,7 +68,6 @@ func (s *subFn) GradientBatch(dst, grads, xs []float64, n int) error {
 			row[j] = xs[r*k+i]
 		}
 	}
-	full := make([]float64, n*all)
 	if err := s.fn.GradientBatch(dst, full, rows, n); err != nil {
 		return err
 	}

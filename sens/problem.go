@@ -348,6 +348,8 @@ type subFn struct {
 	full  []float64 // a full input vector: baselines plus the sub inputs
 	grad  []float64 // full gradient
 	batch []float64 // full rows for EvalBatch
+
+	gbatch, gfull []float64 // full rows and gradients for GradientBatch
 }
 
 func (s *subFn) Clone() Function {

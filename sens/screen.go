@@ -137,11 +137,17 @@ func Screen(p *Problem, s *ScreenSettings) (*ScreenResult, error) {
 		f  Function
 		d  *drawer
 		xs []float64
-		g  []float64
+		g  []float64 // gradients of a batch, row by row
+		v  []float64 // values of a batch
 	}
+	// Gradients are taken screenBatch samples at a time through
+	// GradientBatch (the tape's batched reverse pass), with a check for
+	// cancellation between batches.
+	const screenBatch = 16
 	workers := make([]*worker, min(workerCount(s.Workers), groups))
 	for w := range workers {
-		workers[w] = &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamScreen, cs), xs: make([]float64, cs*k), g: make([]float64, k)}
+		workers[w] = &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamScreen, cs), xs: make([]float64, cs*k),
+			g: make([]float64, screenBatch*k), v: make([]float64, screenBatch)}
 	}
 	ctx := s.ctx()
 	err = runChunks(pr, len(workers), groups, func(w, gi int) error {
@@ -156,21 +162,24 @@ func Screen(p *Problem, s *ScreenSettings) (*ScreenResult, error) {
 			for i := range k {
 				scatter(wk.xs, wk.d.draw(c, i, m), i, k)
 			}
-			for j := range m {
-				if j%16 == 15 && ctx.Err() != nil {
+			for j0 := 0; j0 < m; j0 += screenBatch {
+				if j0 > 0 && ctx.Err() != nil {
 					return ctx.Err()
 				}
-				x := wk.xs[j*k : (j+1)*k]
-				v, err := wk.f.Gradient(wk.g, x)
-				if err != nil {
+				nb := min(screenBatch, m-j0)
+				if err := GradientBatch(wk.f, wk.v[:nb], wk.g[:nb*k], wk.xs[j0*k:(j0+nb)*k], nb); err != nil {
 					return err
 				}
-				y[base+j] = v
-				for i, d := range wk.g {
-					acc[i] += d * d
-					if lnSD[i] != 0 {
-						dz := x[i] * d
-						accLn[i] += dz * dz
+				for b := range nb {
+					j := j0 + b
+					x := wk.xs[j*k : (j+1)*k]
+					y[base+j] = wk.v[b]
+					for i, d := range wk.g[b*k : (b+1)*k] {
+						acc[i] += d * d
+						if lnSD[i] != 0 {
+							dz := x[i] * d
+							accLn[i] += dz * dz
+						}
 					}
 				}
 			}
