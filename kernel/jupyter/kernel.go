@@ -94,13 +94,18 @@ type Kernel struct {
 
 	info []byte // kernel_info_reply content, built once
 
-	root    context.Context
-	cancel  context.CancelFunc
-	shellQ  chan *message
-	stopped chan struct{}
-	stopReq sync.Once
-	serving atomic.Bool
-	served  chan struct{} // closed when Serve has returned
+	root   context.Context
+	cancel context.CancelFunc
+	shellQ chan *message
+	// shellSeq counts the shell requests received (shellLoop numbers each
+	// one); abortBefore, touched only by shellWorker, is the last number
+	// of those to abort after a failed cell with stop_on_error.
+	shellSeq    atomic.Uint64
+	abortBefore uint64
+	stopped     chan struct{}
+	stopReq     sync.Once
+	serving     atomic.Bool
+	served      chan struct{} // closed when Serve has returned
 
 	// Owned by the shell worker goroutine.
 	count int
@@ -430,6 +435,7 @@ func (k *Kernel) shellLoop() {
 		if !ok {
 			return
 		}
+		m.seq = k.shellSeq.Add(1)
 		select {
 		case k.shellQ <- m:
 		case <-k.root.Done():
@@ -470,33 +476,21 @@ func (k *Kernel) shellWorker() {
 			if k.stopping() {
 				continue
 			}
+			if m.header.MsgType == "execute_request" && m.seq <= k.abortBefore {
+				k.abortExecute(m)
+				continue
+			}
 			if k.handleShell(m) {
-				k.abortQueued()
+				// Every execute_request received up to now was sent
+				// expecting this cell to succeed: answer those without
+				// running them. One received later runs, however soon
+				// after the failure it arrives (a front end that saw the
+				// aborted replies may send the next cell at once).
+				k.abortBefore = k.shellSeq.Load()
 			}
 		case <-k.stopped:
 			return
 		case <-k.root.Done():
-			return
-		}
-	}
-}
-
-// abortQueued answers the execute_requests already received when a cell
-// failed with stop_on_error, without running them. Other queued requests
-// are handled normally, in order.
-func (k *Kernel) abortQueued() {
-	for {
-		select {
-		case m := <-k.shellQ:
-			if k.stopping() {
-				return
-			}
-			if m.header.MsgType == "execute_request" {
-				k.abortExecute(m)
-			} else {
-				k.handleShell(m)
-			}
-		default:
 			return
 		}
 	}

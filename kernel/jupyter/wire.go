@@ -99,6 +99,10 @@ type message struct {
 	content   []byte
 	buffers   [][]byte
 	channel   string
+	// seq numbers shell requests in the order the kernel received them, so
+	// that a failed cell with stop_on_error aborts exactly the requests
+	// received before it failed (see Kernel.abortBefore).
+	seq uint64
 }
 
 var (
