@@ -125,7 +125,7 @@ func InstallSpec(dir, exe string) (string, error) {
 	}
 	spec := Spec{
 		Argv:          []string{prog, "kernel", "-f", "{connection_file}"},
-		DisplayName:   "nudge (cost-model sensitivity)",
+		DisplayName:   KernelDisplayName,
 		Language:      Language,
 		InterruptMode: "message",
 		Metadata:      map[string]any{},

@@ -63,6 +63,9 @@ type Handler struct {
 	console atomic.Bool
 	// now is the clock of progress lines (time.Now; tests set their own).
 	now func() time.Time
+	// onProgress, when set, receives every progress report instead of the
+	// notebook's progress lines (the headless runner's terminal bar).
+	onProgress func(label string, done, total int)
 }
 
 // NewHandler returns a jupyter.Handler running cells in in.

@@ -139,6 +139,10 @@ func (s *jupyterSink) display(b *jupyter.Bundle) {
 // taken for the end: an analysis of several passes may reach its estimate
 // of the work before it knows there is more.
 func (s *jupyterSink) Progress(id, label string, done, total int) {
+	if f := s.h.onProgress; f != nil {
+		f(label, done, total)
+		return
+	}
 	if s.progress == nil {
 		s.progress = map[string]*progressLine{}
 	}

@@ -2,7 +2,9 @@ package sens
 
 import (
 	"bytes"
+	"crypto/sha256"
 	"encoding/csv"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -537,6 +539,9 @@ type TableResult struct {
 	Key      string        `json:"key"`
 	Columns  []TableColumn `json:"columns"`
 	Replaced bool          `json:"replaced"`
+	// SHA256 is the hex SHA-256 of the file's bytes as read, so a report
+	// can say which data its numbers came from.
+	SHA256 string `json:"sha256"`
 }
 
 // maxDistinct is how many distinct values of a text column a table's
@@ -589,7 +594,8 @@ func (m *Model) DefineTableData(f *syntax.File, s *syntax.TableStmt, data []byte
 	if err != nil {
 		return nil, err
 	}
-	res := &TableResult{Kind: "table", Name: t.Name, Path: t.Path, Rows: len(t.Keys), Key: t.Key}
+	sum := sha256.Sum256(data)
+	res := &TableResult{Kind: "table", Name: t.Name, Path: t.Path, Rows: len(t.Keys), Key: t.Key, SHA256: hex.EncodeToString(sum[:])}
 	for _, c := range t.Columns {
 		tc := TableColumn{Name: c.Name, Unit: c.Unit, Type: "number"}
 		if c.IsText() {

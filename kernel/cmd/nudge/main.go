@@ -1,7 +1,8 @@
 // Command nudge runs cost models: `nudge exec FILE` runs a model file and its
-// analysis commands, `nudge kernel -f CONNECTION_FILE` serves Jupyter, `nudge
-// install` writes the Jupyter kernelspec, and `nudge bench` prints the engine's
-// benchmark ratios.
+// analysis commands, `nudge run NOTEBOOK` executes a notebook headless and
+// writes its HTML report, `nudge demo` runs the bundled notebooks, `nudge
+// kernel -f CONNECTION_FILE` serves Jupyter, `nudge install` writes the
+// Jupyter kernelspec, and `nudge bench` prints the engine's benchmark ratios.
 //
 // Exit codes: 0 success, 1 an error in the model or its analyses, 2 a usage error.
 package main
@@ -24,6 +25,14 @@ import (
 const usage = `nudge: sensitivity analysis of cost models
 
 usage:
+  nudge demo [--json] [DIR]        run the bundled notebooks into DIR (default
+                                   ./nudge-demo): executed notebooks and HTML
+                                   reports, and a summary
+  nudge run [-o OUT.ipynb] [--html FILE] [--timestamp] [--json] NOTEBOOK
+                                   execute a notebook (or a .nudge model file)
+                                   headless; write the executed notebook to
+                                   OUT.ipynb and a self-contained HTML report
+                                   to FILE (default NOTEBOOK with .html)
   nudge exec [--json] [--svg DIR] [--csv DIR] [--width N] FILE...
                                    run model files (- reads standard input);
                                    --svg writes each chart into DIR, --csv
@@ -41,7 +50,8 @@ usage:
                                    time parse, compile and analyses of it
   nudge version                    print the version
 
-Every command takes --help. Exit codes: 0 success, 1 an error in a model,
+Every command takes --help; flags may come before or after the file names.
+Progress bars show on a terminal for work longer than half a second. Exit codes: 0 success, 1 an error in a model,
 its analyses or a file, 2 a usage error.
 `
 
@@ -58,6 +68,10 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	switch args[0] {
 	case "exec":
 		return execCmd(args[1:], stdin, stdout, stderr)
+	case "run":
+		return runCmd(args[1:], stdout, stderr)
+	case "demo":
+		return demoCmd(args[1:], stdout, stderr)
 	case "kernel":
 		return kernelCmd(args[1:], stdout, stderr)
 	case "install":
@@ -79,13 +93,34 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	return 2
 }
 
-// parseFlags parses a subcommand's flags. --help prints the usage to
-// stdout and exits 0; a bad flag prints it to stderr and exits 2. done says
-// whether the command should return code now.
+// parseFlags parses a subcommand's flags, before and after its other
+// arguments ("nudge run model.ipynb -o out.ipynb"); after "--" everything is
+// an argument. fs.Args() holds the arguments afterwards. --help prints the
+// usage to stdout and exits 0; a bad flag prints it to stderr and exits 2.
+// done says whether the command should return code now.
 func parseFlags(fs *flag.FlagSet, args []string, usage string, stdout, stderr io.Writer) (code int, done bool) {
 	fs.SetOutput(stderr)
 	fs.Usage = func() {}
-	err := fs.Parse(args)
+	var pos []string
+	var err error
+	for {
+		if err = fs.Parse(args); err != nil {
+			break
+		}
+		rest := fs.Args()
+		if len(rest) == 0 {
+			break
+		}
+		if used := len(args) - len(rest); used > 0 && args[used-1] == "--" {
+			pos = append(pos, rest...)
+			break
+		}
+		pos, args = append(pos, rest[0]), rest[1:]
+	}
+	if err == nil {
+		// Leave the arguments in fs.Args(): "--" ends the flags.
+		err = fs.Parse(append([]string{"--"}, pos...))
+	}
 	switch {
 	case errors.Is(err, flag.ErrHelp):
 		fs.SetOutput(stdout)

@@ -1,0 +1,126 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"sync"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"golang.org/x/term"
+)
+
+// barDelay is how long work runs before its progress bar shows: shorter
+// work shows none.
+const barDelay = 500 * time.Millisecond
+
+// progress draws one progress bar on standard error for work of known
+// size, once the work has run for barDelay, and only when standard error is
+// a terminal (and the command was not asked for JSON). The bar counts the
+// code cells of a notebook; a long analysis inside a cell shows its own
+// progress in the bar's description. A nil *progress draws nothing.
+type progress struct {
+	w io.Writer
+
+	mu      sync.Mutex
+	bar     *progressbar.ProgressBar
+	timer   *time.Timer
+	max     int
+	value   int
+	name    string // what runs: "housing.ipynb cell 3 of 12"
+	detail  string // the analysis and its share done: "simulate 45%"
+	stopped bool
+}
+
+// newProgress returns a progress for w when w is a terminal and quiet is
+// false; else nil.
+func newProgress(w io.Writer, quiet bool) *progress {
+	f, ok := w.(*os.File)
+	if quiet || !ok || !term.IsTerminal(int(f.Fd())) {
+		return nil
+	}
+	return &progress{w: w}
+}
+
+// start begins work of max steps.
+func (p *progress) start(max int, name string) {
+	if p == nil {
+		return
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	p.max, p.value, p.name, p.detail, p.stopped = max, 0, name, "", false
+	p.timer = time.AfterFunc(barDelay, p.show)
+}
+
+func (p *progress) show() {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if p.stopped || p.bar != nil {
+		return
+	}
+	p.bar = progressbar.NewOptions(p.max,
+		progressbar.OptionSetWriter(p.w),
+		progressbar.OptionSetWidth(24),
+		progressbar.OptionShowCount(),
+		progressbar.OptionThrottle(100*time.Millisecond),
+		progressbar.OptionClearOnFinish(),
+		progressbar.OptionSetDescription(p.description()),
+	)
+	p.bar.Set(p.value)
+}
+
+func (p *progress) description() string {
+	if p.detail == "" {
+		return p.name
+	}
+	return p.name + ": " + p.detail
+}
+
+// step sets the number of steps done and what runs now.
+func (p *progress) step(value int, name string) {
+	if p == nil {
+		return
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	p.value, p.name, p.detail = value, name, ""
+	if p.bar != nil {
+		p.bar.Describe(p.description())
+		p.bar.Set(value)
+	}
+}
+
+// analysis shows the progress of an analysis inside the current step.
+func (p *progress) analysis(label string, done, total int) {
+	if p == nil {
+		return
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	p.detail = ""
+	if total > 0 && done < total {
+		p.detail = fmt.Sprintf("%s %d%%", label, 100*done/total)
+	}
+	if p.bar != nil {
+		p.bar.Describe(p.description())
+	}
+}
+
+// stop clears the bar away.
+func (p *progress) stop() {
+	if p == nil {
+		return
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	p.stopped = true
+	if p.timer != nil {
+		p.timer.Stop()
+	}
+	if p.bar != nil {
+		p.bar.Clear()
+		p.bar = nil
+	}
+}

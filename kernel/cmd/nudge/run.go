@@ -1,0 +1,252 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/nudge-dev/nudge/kernel"
+	"github.com/nudge-dev/nudge/kernel/notebook"
+	"github.com/nudge-dev/nudge/kernel/report"
+)
+
+const runUse = "nudge run [-o OUT.ipynb] [--html FILE] [--timestamp] [--json] NOTEBOOK.ipynb|MODEL.nudge"
+
+// runCmd executes a notebook (or a model file, as a notebook of one cell)
+// headless and writes its report.
+func runCmd(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	out := fs.String("o", "", "write the executed notebook to `OUT.ipynb` (nbformat 4.5)")
+	htmlOut := fs.String("html", "", "write the HTML report to `FILE` (default: the input's name with .html, beside it)")
+	stamp := fs.Bool("timestamp", false, "add the time of the run to the report (without it, two runs give the same bytes)")
+	asJSON := fs.Bool("json", false, "print one JSON object describing the run, and no progress bar")
+	if code, done := parseFlags(fs, args, runUse, stdout, stderr); done {
+		return code
+	}
+	if fs.NArg() != 1 {
+		fmt.Fprintln(stderr, "usage: "+runUse)
+		fs.PrintDefaults()
+		return 2
+	}
+	input := fs.Arg(0)
+	report := *htmlOut
+	if report == "" {
+		report = strings.TrimSuffix(input, filepath.Ext(input)) + ".html"
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	bar := newProgress(stderr, *asJSON)
+	res, err := runNotebook(ctx, input, runOptions{notebook: *out, report: report, timestamp: *stamp}, bar)
+	if err != nil {
+		fmt.Fprintln(stderr, "nudge run:", err)
+		return 1
+	}
+	if *asJSON {
+		b, _ := json.Marshal(res)
+		fmt.Fprintln(stdout, string(b))
+	} else {
+		res.print(stdout, stderr)
+	}
+	if res.FailedCell != nil {
+		return 1
+	}
+	return 0
+}
+
+// runOptions say where a run's files go.
+type runOptions struct {
+	notebook  string // the executed notebook; "" writes none
+	report    string // the HTML report; "" writes none
+	timestamp bool
+}
+
+// runResult describes a run: what `nudge run --json` prints.
+type runResult struct {
+	Kind     string `json:"kind"` // "run"
+	Source   string `json:"source"`
+	Notebook string `json:"notebook,omitempty"`
+	Report   string `json:"report,omitempty"`
+	// Cells is the number of code cells that ran.
+	Cells int `json:"cells"`
+	// FailedCell is the execution count of the cell that failed, and
+	// Error its error's first line.
+	FailedCell *int          `json:"failed_cell"`
+	Error      string        `json:"error,omitempty"`
+	Files      []report.File `json:"files"`
+	Seeds      []report.Seed `json:"seeds"`
+
+	nb        *notebook.Notebook
+	traceback []string
+}
+
+func (r *runResult) print(stdout, stderr io.Writer) {
+	if r.FailedCell != nil {
+		fmt.Fprintf(stderr, "%s: cell [%d] failed: %s\n", r.Source, *r.FailedCell, r.Error)
+		for _, line := range r.traceback {
+			fmt.Fprintln(stderr, "  "+line)
+		}
+	}
+	if r.Notebook != "" {
+		fmt.Fprintln(stdout, "notebook:", r.Notebook)
+	}
+	if r.Report != "" {
+		fmt.Fprintln(stdout, "report:", r.Report)
+	}
+}
+
+// loadInput reads a notebook, or a model file as a notebook of one code
+// cell.
+func loadInput(name string, data []byte) (*notebook.Notebook, error) {
+	if strings.EqualFold(filepath.Ext(name), ".ipynb") {
+		return notebook.Read(data)
+	}
+	nb := notebook.New()
+	nb.Cells = []*notebook.Cell{{ID: "model", Type: "code", Source: string(data), Metadata: map[string]any{}}}
+	return nb, nil
+}
+
+// runNotebook runs one notebook or model file and writes its files. A cell
+// that fails is not an error here (the result says which); a file that
+// cannot be read or written is.
+func runNotebook(ctx context.Context, input string, opts runOptions, bar *progress) (*runResult, error) {
+	data, err := os.ReadFile(input)
+	if err != nil {
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return nil, fmt.Errorf("cannot read %s: %v", input, err)
+	}
+	nb, err := loadInput(input, data)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", input, err)
+	}
+	base := filepath.Base(input)
+	isModel := !strings.EqualFold(filepath.Ext(input), ".ipynb")
+	bar.start(codeCells(nb), base)
+	failed, xerr := kernel.RunNotebook(ctx, nb, &kernel.NotebookRun{
+		Dir: filepath.Dir(input),
+		Cell: func(_, n, of int) {
+			bar.step(n-1, fmt.Sprintf("%s cell %d of %d", base, n, of))
+		},
+		Progress: bar.analysis,
+	})
+	bar.stop()
+	files, seeds := report.Collect(nb)
+	res := &runResult{Kind: "run", Source: input, Files: files, Seeds: seeds, nb: nb}
+	if files == nil {
+		res.Files = []report.File{}
+	}
+	if seeds == nil {
+		res.Seeds = []report.Seed{}
+	}
+	for _, c := range nb.Cells {
+		if c.Type == "code" && c.ExecutionCount != nil {
+			res.Cells++
+		}
+	}
+	if xerr != nil {
+		c := nb.Cells[failed]
+		n := *c.ExecutionCount
+		res.FailedCell = &n
+		for _, o := range c.Outputs {
+			if o.Type == "error" {
+				res.Error = o.Ename + ": " + o.Evalue
+				for _, line := range o.Traceback {
+					res.traceback = append(res.traceback, stripSGR(line))
+				}
+			}
+		}
+	}
+	if opts.notebook != "" {
+		b, err := nb.Marshal()
+		if err == nil {
+			err = writeFile(opts.notebook, b)
+		}
+		if err != nil {
+			return nil, err
+		}
+		res.Notebook = opts.notebook
+	}
+	if opts.report != "" {
+		facts := &report.Facts{
+			Tool:         "nudge " + kernel.Version,
+			Source:       base,
+			SourceSHA256: report.SHA256(data),
+			Files:        files,
+			Seeds:        seeds,
+			Rerun:        "nudge run " + base,
+			Dir:          filepath.Dir(input),
+		}
+		if isModel {
+			facts.Title = base
+			facts.Model, facts.ModelSHA256 = "the model file itself", report.SHA256(data)
+		} else {
+			n := codeCells(nb)
+			facts.Model = fmt.Sprintf("the %d code cells, in order, each ending with a newline", n)
+			if n == 1 {
+				facts.Model = "the one code cell, ending with a newline"
+			}
+			facts.ModelSHA256 = report.SHA256([]byte(nb.CodeText()))
+		}
+		if opts.timestamp {
+			facts.Generated = time.Now().UTC().Format(time.RFC3339)
+		}
+		var b strings.Builder
+		if err := report.Write(&b, nb, facts); err != nil {
+			return nil, err
+		}
+		if err := writeFile(opts.report, []byte(b.String())); err != nil {
+			return nil, err
+		}
+		res.Report = opts.report
+	}
+	return res, nil
+}
+
+// codeCells counts the code cells that are not empty: those that run.
+func codeCells(nb *notebook.Notebook) int {
+	n := 0
+	for _, c := range nb.Cells {
+		if c.Type == "code" && strings.TrimSpace(c.Source) != "" {
+			n++
+		}
+	}
+	return n
+}
+
+// writeFile writes data to name, creating its directory.
+func writeFile(name string, data []byte) error {
+	if dir := filepath.Dir(name); dir != "." {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return err
+		}
+	}
+	return os.WriteFile(name, data, 0o644)
+}
+
+// stripSGR removes terminal colour codes from an error line.
+func stripSGR(s string) string {
+	for {
+		i := strings.Index(s, "\x1b[")
+		if i < 0 {
+			return s
+		}
+		j := i + 2
+		for j < len(s) && (s[j] >= '0' && s[j] <= '9' || s[j] == ';') {
+			j++
+		}
+		if j < len(s) {
+			j++
+		}
+		s = s[:i] + s[j:]
+	}
+}
