@@ -34,7 +34,9 @@ type NotebookRun struct {
 // the Jupyter kernel does when nbconvert or nbclient runs the notebook, and
 // stores the outputs in the cells exactly as the kernel sends them (the same
 // bundles, execution counts, streams and errors, with clear_output and
-// update_display_data applied as nbclient applies them). Empty code cells
+// update_display_data applied as nbclient applies them, and consecutive
+// pieces of one stream joined as nbconvert and the notebook front ends save
+// them). Empty code cells
 // are skipped, as nbclient skips them. It stops at the first cell that fails:
 // that cell keeps its outputs and its error output, and the cells after it
 // are left without outputs. It returns the index of the failed cell and its
@@ -104,7 +106,7 @@ func RunNotebook(ctx context.Context, nb *notebook.Notebook, opts *NotebookRun) 
 			ename, evalue, tb := jupyter.ErrorContent(xerr)
 			rec.add(&notebook.Output{Type: "error", Ename: ename, Evalue: evalue, Traceback: tb})
 		}
-		c.Outputs = rec.outs
+		c.Outputs = coalesceStreams(rec.outs)
 		if xerr != nil {
 			return i, xerr
 		}
@@ -222,3 +224,41 @@ func (r *recorder) ClearOutput(wait bool) {
 }
 
 func (r *recorder) Payload(map[string]any) {}
+
+// coalesceStreams joins consecutive outputs of one stream and drops the text
+// that a carriage return overwrites, as nbconvert's coalesce_streams does
+// (and as the notebook front ends show streams): a stream that arrives in
+// several messages is one output in a saved notebook.
+func coalesceStreams(outs []*notebook.Output) []*notebook.Output {
+	var merged []*notebook.Output
+	for _, o := range outs {
+		if n := len(merged); n > 0 && o.Type == "stream" && merged[n-1].Type == "stream" && merged[n-1].Name == o.Name {
+			merged[n-1] = &notebook.Output{Type: "stream", Name: o.Name, Text: merged[n-1].Text + o.Text}
+			continue
+		}
+		merged = append(merged, o)
+	}
+	for _, o := range merged {
+		if o.Type == "stream" && strings.Contains(o.Text, "\r") {
+			o.Text = dropOverwritten(o.Text)
+		}
+	}
+	return merged
+}
+
+// dropOverwritten removes, from each line, the text before the last carriage
+// return that some character of the line follows (nbconvert's pattern
+// `.*\r(?=[^\n])`).
+func dropOverwritten(s string) string {
+	lines := strings.SplitAfter(s, "\n")
+	for i, line := range lines {
+		body := strings.TrimSuffix(line, "\n")
+		for j := len(body) - 2; j >= 0; j-- {
+			if body[j] == '\r' {
+				lines[i] = line[j+1:]
+				break
+			}
+		}
+	}
+	return strings.Join(lines, "")
+}

@@ -14,7 +14,9 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"sort"
+	"strconv"
 	"strings"
 )
 
@@ -197,13 +199,30 @@ func multiline(v any) (string, error) {
 		for _, s := range v {
 			str, ok := s.(string)
 			if !ok {
-				return "", fmt.Errorf("a list of lines holds %T", s)
+				return "", fmt.Errorf("a list of lines holds %s", jsonKind(s))
 			}
 			b.WriteString(str)
 		}
 		return b.String(), nil
 	}
-	return "", fmt.Errorf("text is %T, not a string or a list of lines", v)
+	return "", fmt.Errorf("text is %s, not a string or a list of lines", jsonKind(v))
+}
+
+// jsonKind names the JSON kind of a decoded value for messages.
+func jsonKind(v any) string {
+	switch v.(type) {
+	case json.Number, float64:
+		return "a number"
+	case bool:
+		return "a boolean"
+	case map[string]any:
+		return "an object"
+	case []any:
+		return "a list"
+	case nil:
+		return "null"
+	}
+	return "a string"
 }
 
 // isJSONType reports whether a MIME type's data is JSON, kept as it is
@@ -240,7 +259,7 @@ func (nb *Notebook) Marshal() ([]byte, error) {
 	if meta == nil {
 		meta = map[string]any{}
 	}
-	doc := map[string]any{"cells": cells, "metadata": meta, "nbformat": nb.Nbformat, "nbformat_minor": nb.NbformatMinor}
+	doc := pyNumbers(map[string]any{"cells": cells, "metadata": meta, "nbformat": nb.Nbformat, "nbformat_minor": nb.NbformatMinor})
 	var buf bytes.Buffer
 	enc := json.NewEncoder(&buf)
 	enc.SetEscapeHTML(false)
@@ -347,4 +366,64 @@ func (nb *Notebook) CodeText() string {
 		}
 	}
 	return b.String()
+}
+
+// pyNumber is a number written as Python's json module writes it.
+type pyNumber string
+
+func (n pyNumber) MarshalJSON() ([]byte, error) { return []byte(n), nil }
+
+// pyNumbers returns v with every number as nbformat writes it through
+// Python's json module: an integer as written, any other number as
+// Python's repr of the float: the shortest digits that read back to the
+// same float, in fixed notation with at least one decimal when its decimal
+// exponent e is -5 < e < 16, else in scientific notation with a signed
+// exponent of at least two digits (1.5e-05, 1e+16).
+func pyNumbers(v any) any {
+	switch v := v.(type) {
+	case map[string]any:
+		out := make(map[string]any, len(v))
+		for k, x := range v {
+			out[k] = pyNumbers(x)
+		}
+		return out
+	case []any:
+		out := make([]any, len(v))
+		for i, x := range v {
+			out[i] = pyNumbers(x)
+		}
+		return out
+	case json.Number:
+		if !strings.ContainsAny(string(v), ".eE") {
+			return v
+		}
+		f, err := strconv.ParseFloat(string(v), 64)
+		if err != nil {
+			return v
+		}
+		return pyNumber(pyRepr(f))
+	case float64:
+		return pyNumber(pyRepr(v))
+	}
+	return v
+}
+
+// pyRepr formats f as Python's repr(float) does.
+func pyRepr(f float64) string {
+	if f == 0 {
+		if math.Signbit(f) {
+			return "-0.0"
+		}
+		return "0.0"
+	}
+	e := strconv.FormatFloat(f, 'e', -1, 64)
+	exp, _ := strconv.Atoi(e[strings.IndexByte(e, 'e')+1:])
+	if exp < -4 || exp >= 16 {
+		return e
+	}
+	s := strconv.FormatFloat(f, 'f', -1, 64)
+	if !strings.Contains(s, ".") {
+		s += ".0"
+	}
+	return s
 }
