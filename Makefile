@@ -9,13 +9,13 @@ RM    := kernel/testdata/rendermime
 .PHONY: demo build deps test gotest race fuzz jupyter-test notebooks-test rendermime-test bench bench-kernels clean
 
 demo:
-	go run ./kernel/cmd/nudge exec notebooks/housing.nudge
+	go run ./kernel/cmd/nudge demo
 
 build:
 	go build -o $(BIN) ./kernel/cmd/nudge
 
 # Every test: Go tests, the race detector on the concurrent packages, a short
-# fuzz run of each parser (the CSV reader's too), of the compiler and of the kernel's wire reader
+# fuzz run of each parser (the CSV and notebook readers too), of the compiler and of the kernel's wire reader
 # (frames, handshake, messages), the Jupyter conformance suite, every notebook
 # executed through nbconvert, and JupyterLab's rendermime registry on the
 # kernel's bundles. The Debian packages they need are installed first when
@@ -40,6 +40,7 @@ fuzz:
 	go test -run='^$$' -fuzz='^FuzzHandshake$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
 	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=10s ./kernel/jupyter/
 	go test -run='^$$' -fuzz='^FuzzReadTable$$' -fuzztime=10s ./sens/
+	go test -run='^$$' -fuzz='^FuzzRead$$' -fuzztime=10s ./kernel/notebook/
 
 $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)
