@@ -1,7 +1,6 @@
 package main
 
 import (
-	"fmt"
 	"io"
 	"os"
 	"sync"
@@ -18,18 +17,20 @@ const barDelay = 500 * time.Millisecond
 // progress draws one progress bar on standard error for work of known
 // size, once the work has run for barDelay, and only when standard error is
 // a terminal (and the command was not asked for JSON). The bar counts the
-// code cells of a notebook; a long analysis inside a cell shows its own
-// progress in the bar's description. A nil *progress draws nothing.
+// code cells of a notebook, each a step; a long analysis inside a cell
+// fills its step as it goes and names itself in the description. A nil
+// *progress draws nothing.
 type progress struct {
 	w io.Writer
 
 	mu      sync.Mutex
 	bar     *progressbar.ProgressBar
 	timer   *time.Timer
-	max     int
-	value   int
+	max     int    // steps
+	value   int    // steps done
+	frac    int    // thousandths of the current step done
 	name    string // what runs: "housing.ipynb cell 3 of 12"
-	detail  string // the analysis and its share done: "simulate 45%"
+	detail  string // the analysis: "simulate unit_cost"
 	stopped bool
 }
 
@@ -50,7 +51,7 @@ func (p *progress) start(max int, name string) {
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	p.max, p.value, p.name, p.detail, p.stopped = max, 0, name, "", false
+	p.max, p.value, p.frac, p.name, p.detail, p.stopped = max, 0, 0, name, "", false
 	p.timer = time.AfterFunc(barDelay, p.show)
 }
 
@@ -60,16 +61,20 @@ func (p *progress) show() {
 	if p.stopped || p.bar != nil {
 		return
 	}
-	p.bar = progressbar.NewOptions(p.max,
+	p.bar = progressbar.NewOptions(p.max*stepUnits,
 		progressbar.OptionSetWriter(p.w),
 		progressbar.OptionSetWidth(24),
-		progressbar.OptionShowCount(),
 		progressbar.OptionThrottle(100*time.Millisecond),
 		progressbar.OptionClearOnFinish(),
 		progressbar.OptionSetDescription(p.description()),
 	)
-	p.bar.Set(p.value)
+	p.bar.Set(p.position())
 }
+
+// stepUnits is the resolution of a step in the bar.
+const stepUnits = 1000
+
+func (p *progress) position() int { return p.value*stepUnits + p.frac }
 
 func (p *progress) description() string {
 	if p.detail == "" {
@@ -85,10 +90,10 @@ func (p *progress) step(value int, name string) {
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	p.value, p.name, p.detail = value, name, ""
+	p.value, p.frac, p.name, p.detail = value, 0, name, ""
 	if p.bar != nil {
 		p.bar.Describe(p.description())
-		p.bar.Set(value)
+		p.bar.Set(p.position())
 	}
 }
 
@@ -99,12 +104,13 @@ func (p *progress) analysis(label string, done, total int) {
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	p.detail = ""
+	p.detail, p.frac = "", 0
 	if total > 0 && done < total {
-		p.detail = fmt.Sprintf("%s %d%%", label, 100*done/total)
+		p.detail, p.frac = label, stepUnits*done/total
 	}
 	if p.bar != nil {
 		p.bar.Describe(p.description())
+		p.bar.Set(p.position())
 	}
 }
 

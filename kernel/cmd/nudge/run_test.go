@@ -415,15 +415,17 @@ func TestReportImages(t *testing.T) {
 }
 
 // TestFlagsAfterArguments: flags parse the same before and after the file
-// name; after "--" everything is a file name.
+// name; after "--" everything is a file name; a run into a pipe writes
+// nothing on standard error.
 func TestFlagsAfterArguments(t *testing.T) {
 	dir := copyNotebooks(t)
 	for _, args := range [][]string{
 		{"run", "--html", filepath.Join(dir, "a.html"), filepath.Join(dir, "housing.ipynb")},
 		{"run", filepath.Join(dir, "housing.ipynb"), "--html", filepath.Join(dir, "a.html")},
 	} {
-		if code, _, errs := runNudge(args, ""); code != 0 {
-			t.Errorf("%v: exit %d %s", args, code, errs)
+		// Standard error is no terminal here: no progress bar, nothing at all.
+		if code, _, errs := runNudge(args, ""); code != 0 || errs != "" {
+			t.Errorf("%v: exit %d, stderr %q", args, code, errs)
 		}
 	}
 	if code, _, errs := runNudge([]string{"run", "--", "--html"}, ""); code != 1 || !strings.Contains(errs, "cannot read --html") {
