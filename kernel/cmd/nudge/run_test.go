@@ -380,6 +380,18 @@ func TestDemoReportsLoadNothing(t *testing.T) {
 			t.Errorf("%s has no inline chart", r)
 		}
 	}
+	// --json: one object per notebook, nothing else.
+	code, out, errs = runNudge([]string{"demo", "--json", filepath.Join(t.TempDir(), "j")}, "")
+	lines := strings.Split(strings.TrimSpace(out), "\n")
+	if code != 0 || errs != "" || len(lines) != 4 {
+		t.Fatalf("--json: exit %d, %d lines, stderr %q", code, len(lines), errs)
+	}
+	for _, line := range lines {
+		var res runResult
+		if err := json.Unmarshal([]byte(line), &res); err != nil || res.Kind != "run" || res.FailedCell != nil || res.Cells == 0 {
+			t.Errorf("--json line %s: %v", line, err)
+		}
+	}
 	// The pattern catches what it is meant to.
 	for _, bad := range []string{`<img src="https://x.test/a.png">`, `<script src="//cdn.test/x.js">`, `<link rel="stylesheet" href="http://x.test/s.css">`, `a { background: url("https://x.test/i.png") }`} {
 		if !externalRef.MatchString(bad) {
