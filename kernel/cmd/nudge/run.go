@@ -190,7 +190,12 @@ func runNotebook(ctx context.Context, input string, opts runOptions, bar *progre
 			facts.Title = base
 			facts.Model, facts.ModelSHA256 = "the model file itself", report.SHA256(data)
 		} else {
-			n := codeCells(nb)
+			n := 0
+			for _, c := range nb.Cells {
+				if c.Type == "code" {
+					n++
+				}
+			}
 			facts.Model = fmt.Sprintf("the %d code cells, in order, each ending with a newline", n)
 			if n == 1 {
 				facts.Model = "the one code cell, ending with a newline"

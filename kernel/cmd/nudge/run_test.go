@@ -182,6 +182,19 @@ func TestRunReproducible(t *testing.T) {
 		if !strings.Contains(rep, "nudge ") || !strings.Contains(rep, sha256Of(t, filepath.Join(dir, base+".ipynb"))) {
 			t.Errorf("%s: the report lacks the tool or the notebook's SHA-256", base)
 		}
+		// The model text: the code cells joined, each ending with a newline,
+		// hashed here by sha256sum on the text written out.
+		code := ""
+		for _, c := range readNotebook(t, filepath.Join(dir, base+".ipynb")).Cells {
+			if c.Type == "code" {
+				code += strings.TrimSuffix(c.Source, "\n") + "\n"
+			}
+		}
+		codeFile := filepath.Join(t.TempDir(), "code.txt")
+		os.WriteFile(codeFile, []byte(code), 0o644)
+		if !strings.Contains(rep, "Model text</th><td>the ") || !strings.Contains(rep, sha256Of(t, codeFile)) {
+			t.Errorf("%s: the report lacks the model text's SHA-256", base)
+		}
 		if strings.Contains(rep, "Generated") {
 			t.Errorf("%s: a time stamp without --timestamp", base)
 		}
