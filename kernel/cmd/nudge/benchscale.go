@@ -24,31 +24,37 @@ type scaleFlags struct {
 	repeat int
 }
 
-func parseScaleFlags(name string, args []string, stderr io.Writer, repeat bool) (*scaleFlags, bool) {
+// parseScaleFlags parses the flags of `nudge bench model` and `nudge bench
+// scale` with parseFlags, as every command does. done says whether the
+// command should return code now (--help, or a usage error).
+func parseScaleFlags(name string, args []string, stdout, stderr io.Writer, repeat bool) (sf *scaleFlags, code int, done bool) {
 	fs := flag.NewFlagSet(name, flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	sf := &scaleFlags{}
+	sf = &scaleFlags{}
 	fs.IntVar(&sf.lines, "lines", 100_000, "the number of formula lines")
 	fs.BoolVar(&sf.ifs, "if", false, "give about one line item in five an if(...)")
 	fs.Uint64Var(&sf.seed, "seed", 1, "the generator's seed")
+	use := "nudge bench " + name + " [--lines N] [--if] [--seed S]"
 	if repeat {
 		fs.IntVar(&sf.repeat, "repeat", 3, "rounds of timings (medians are shown)")
+		use += " [--repeat R]"
 	}
-	if err := fs.Parse(args); err != nil || fs.NArg() > 0 || sf.lines < 3 {
-		if err == nil {
-			fmt.Fprintf(stderr, "usage: nudge bench %s [--lines N] [--if] [--seed S]\n", name)
-		}
-		return nil, false
+	if code, done := parseFlags(fs, args, use, stdout, stderr); done {
+		return nil, code, true
+	}
+	if fs.NArg() > 0 || sf.lines < 3 {
+		fmt.Fprintln(stderr, "usage: "+use)
+		fs.PrintDefaults()
+		return nil, 2, true
 	}
 	sf.repeat = max(sf.repeat, 1)
-	return sf, true
+	return sf, 0, false
 }
 
 // benchModel prints the scale model (tapebench.ScaleModel) as a model file.
 func benchModel(args []string, stdout, stderr io.Writer) int {
-	sf, ok := parseScaleFlags("model", args, stderr, false)
-	if !ok {
-		return 2
+	sf, code, done := parseScaleFlags("model", args, stdout, stderr, false)
+	if done {
+		return code
 	}
 	if _, err := stdout.Write(tapebench.ScaleModel(sf.lines, sf.ifs, sf.seed)); err != nil {
 		fmt.Fprintln(stderr, "nudge bench model:", err)
@@ -63,9 +69,9 @@ func benchModel(args []string, stdout, stderr io.Writer) int {
 // drivers and tornado commands (through the cell interpreter, output
 // discarded). Times are medians of --repeat runs.
 func benchScale(args []string, stdout, stderr io.Writer) int {
-	sf, ok := parseScaleFlags("scale", args, stderr, true)
-	if !ok {
-		return 2
+	sf, code, done := parseScaleFlags("scale", args, stdout, stderr, true)
+	if done {
+		return code
 	}
 	if err := runScale(sf, stdout); err != nil {
 		fmt.Fprintln(stderr, "nudge bench scale:", err)

@@ -13,7 +13,7 @@ import (
 // TestHelpFlags: --help (and -h) on every subcommand prints its usage to
 // standard output and exits 0.
 func TestHelpFlags(t *testing.T) {
-	for _, args := range [][]string{{"--help"}, {"exec", "--help"}, {"exec", "-h"}, {"kernel", "--help"}, {"install", "--help"}, {"bench", "--help"}, {"version", "--help"}, {"run", "--help"}, {"demo", "--help"}, {"demo", "-h"}} {
+	for _, args := range [][]string{{"--help"}, {"exec", "--help"}, {"exec", "-h"}, {"kernel", "--help"}, {"install", "--help"}, {"bench", "--help"}, {"version", "--help"}, {"run", "--help"}, {"demo", "--help"}, {"demo", "-h"}, {"bench", "model", "--help"}, {"bench", "scale", "-h"}} {
 		code, out, errs := runNudge(args, "")
 		if code != 0 || !strings.Contains(out, "usage:") || errs != "" {
 			t.Errorf("%v: exit %d, stdout %q, stderr %q", args, code, out, errs)
