@@ -76,8 +76,9 @@ func TestInterruptedCell(t *testing.T) {
 
 // TestImportDirection checks the layering: sens never imports plotting, zmq4 or
 // kernel; plotting imports no nudge package but the quantity formatter
-// (sens/unit); the renderer nothing of the kernel or Jupyter; syntax, unit and
-// tape only the standard library; nothing but the binary imports kernel; and no
+// (sens/unit); the renderer nothing of the kernel or Jupyter; the report
+// nothing of the engine, the renderer or Jupyter; syntax, unit, tape and the
+// notebook format only the standard library; nothing but the binary imports kernel; and no
 // package under sens brings testing into the binaries that use it.
 func TestImportDirection(t *testing.T) {
 	deps := func(pkg string) []string {
@@ -95,6 +96,8 @@ func TestImportDirection(t *testing.T) {
 		{"github.com/nudge-dev/nudge/plotting", []string{"nudge-dev/nudge/sens/syntax", "/kernel", "zmq4"}},
 		{"github.com/nudge-dev/nudge/kernel/render", []string{"/kernel/jupyter", "zmq4"}},
 		{"github.com/nudge-dev/nudge/kernel/jupyter", []string{"nudge-dev/nudge/sens", "/plotting"}},
+		// The report is built from a notebook alone.
+		{"github.com/nudge-dev/nudge/kernel/report", []string{"nudge-dev/nudge/sens", "/plotting", "/kernel/jupyter", "/kernel/render", "zmq4"}},
 	} {
 		for _, d := range deps(tc.pkg) {
 			for _, f := range tc.forbidden {
@@ -107,7 +110,7 @@ func TestImportDirection(t *testing.T) {
 			}
 		}
 	}
-	for _, pkg := range []string{"github.com/nudge-dev/nudge/sens/syntax", "github.com/nudge-dev/nudge/sens/unit", "github.com/nudge-dev/nudge/sens/tape"} {
+	for _, pkg := range []string{"github.com/nudge-dev/nudge/sens/syntax", "github.com/nudge-dev/nudge/sens/unit", "github.com/nudge-dev/nudge/sens/tape", "github.com/nudge-dev/nudge/kernel/notebook"} {
 		for _, d := range deps(pkg) {
 			if strings.Contains(d, ".") && d != pkg {
 				t.Errorf("%s imports %s, not only the standard library", pkg, d)
