@@ -29,6 +29,11 @@ type WriterSink struct {
 	CSVDir string
 	// Cautioned is set once a result that carries the caution was written.
 	Cautioned bool
+	// OnProgress, when set, receives the progress reports of long analyses
+	// (the command line's progress bar on a terminal), and Pause is called
+	// before anything is written, so that such a bar is cleared first.
+	OnProgress func(id, label string, done, total int)
+	Pause      func()
 
 	charts int
 	last   byte // the last byte written to Out, 0 before any
@@ -47,6 +52,9 @@ func (s *WriterSink) out(text string) {
 	if text == "" {
 		return
 	}
+	if s.Pause != nil {
+		s.Pause()
+	}
 	flush(s.Err)
 	io.WriteString(s.Out, text)
 	s.last = text[len(text)-1]
@@ -54,6 +62,9 @@ func (s *WriterSink) out(text string) {
 
 // errf writes a line to Err after flushing Out, and flushes it.
 func (s *WriterSink) errf(format string, args ...any) {
+	if s.Pause != nil {
+		s.Pause()
+	}
 	flush(s.Out)
 	fmt.Fprintf(s.Err, format, args...)
 	flush(s.Err)
@@ -141,9 +152,14 @@ func csvName(r *render.Result, table string) string {
 	return name + ".csv"
 }
 
-// Progress is silent for writers: the command line prints no progress bars into
-// pipes.
-func (s *WriterSink) Progress(string, string, int, int) {}
+// Progress passes a progress report to OnProgress, if set: the command line
+// draws a bar on a terminal, and nothing into pipes.
+func (s *WriterSink) Progress(id, label string, done, total int) {
+	if s.OnProgress != nil {
+		flush(s.Out) // the results so far show above the bar
+		s.OnProgress(id, label, done, total)
+	}
+}
 
 // Finish ends standard output with a newline when text was written to it
 // without one, and flushes both streams.

@@ -184,6 +184,10 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	}
 	out := bufio.NewWriter(stdout)
 	sink := &kernel.WriterSink{Out: out, Err: stderr, JSON: *asJSON, SVGDir: *svgDir, CSVDir: *csvDir}
+	if bar := newProgress(stderr, *asJSON); bar != nil {
+		sink.OnProgress, sink.Pause = bar.track, bar.pause
+		defer bar.stop()
+	}
 	defer sink.Finish()
 	for _, name := range fs.Args() {
 		var src []byte

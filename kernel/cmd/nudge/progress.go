@@ -31,6 +31,7 @@ type progress struct {
 	frac    int    // thousandths of the current step done
 	name    string // what runs: "housing.ipynb cell 3 of 12"
 	detail  string // the analysis: "simulate unit_cost"
+	id      string // the analysis tracked by track
 	stopped bool
 }
 
@@ -92,8 +93,9 @@ func (p *progress) step(value int, name string) {
 	defer p.mu.Unlock()
 	p.value, p.frac, p.name, p.detail = value, 0, name, ""
 	if p.bar != nil {
-		p.bar.Describe(p.description())
+		// Set first: Describe draws at once, Set only every 100 ms.
 		p.bar.Set(p.position())
+		p.bar.Describe(p.description())
 	}
 }
 
@@ -109,8 +111,9 @@ func (p *progress) analysis(label string, done, total int) {
 		p.detail, p.frac = label, stepUnits*done/total
 	}
 	if p.bar != nil {
-		p.bar.Describe(p.description())
+		// Set first: Describe draws at once, Set only every 100 ms.
 		p.bar.Set(p.position())
+		p.bar.Describe(p.description())
 	}
 }
 
@@ -121,12 +124,58 @@ func (p *progress) stop() {
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	p.stopped = true
+	p.stopped, p.id = true, ""
 	if p.timer != nil {
 		p.timer.Stop()
 	}
 	if p.bar != nil {
 		p.bar.Clear()
 		p.bar = nil
+	}
+}
+
+// track shows the progress of one analysis as a bar of its own (for `nudge
+// exec`, which has no cells): a new id starts a new bar, done == total ends
+// it.
+func (p *progress) track(id, label string, done, total int) {
+	if p == nil {
+		return
+	}
+	p.mu.Lock()
+	same := p.id == id && !p.stopped
+	p.mu.Unlock()
+	if done >= total {
+		if same {
+			p.stop()
+		}
+		return
+	}
+	if !same {
+		p.stop()
+		p.start(1, label)
+		p.mu.Lock()
+		p.id = id
+		p.mu.Unlock()
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if total > 0 {
+		p.frac = stepUnits * done / total
+	}
+	if p.bar != nil {
+		p.bar.Set(p.position())
+	}
+}
+
+// pause clears the bar from the terminal before other output is written
+// there; the next update draws it again.
+func (p *progress) pause() {
+	if p == nil {
+		return
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if p.bar != nil {
+		p.bar.Clear()
 	}
 }
