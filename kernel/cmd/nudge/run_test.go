@@ -78,8 +78,10 @@ func TestRunMatchesNbconvert(t *testing.T) {
 	if err := exec.Command(py, "-c", "import nbconvert, nbformat").Run(); err != nil {
 		t.Skipf("skipped: %s cannot import nbconvert and nbformat (%v); on Debian: apt install jupyter-nbconvert", py, err)
 	}
-	if testing.Short() {
-		t.Skip("skipped in -short: it starts Jupyter")
+	if testing.Short() || raceEnabled {
+		// Under the race detector the other run tests cover the same code
+		// in this process; Jupyter's side has no Go to check.
+		t.Skip("skipped in -short and under -race: it starts Jupyter")
 	}
 	tmp := t.TempDir()
 	bin := filepath.Join(tmp, "nudge")
