@@ -117,19 +117,24 @@ func TestHessianOpsAgainstFD(t *testing.T) {
 // rules of differentiation (common practice), written out here
 // independently of second().
 var closedHessian = map[Op]func(x, y, z float64) [3][3]float64{
-	OpAdd:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{} },
-	OpSub:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{} },
-	OpMul:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{{0, 1}, {1, 0}} },
-	OpDiv:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{{0, -1 / (y * y)}, {-1 / (y * y), 2 * x / (y * y * y)}} },
-	OpSquare:   func(x, y, z float64) [3][3]float64 { return [3][3]float64{{2}} },
-	OpNeg:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{} },
-	OpSqrt:     func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-0.25 * math.Pow(x, -1.5)}} },
-	OpExp:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{{math.Exp(x)}} },
-	OpLn:       func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-1 / (x * x)}} },
-	OpLog10:    func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-1 / (x * x * math.Log(10))}} },
-	OpSin:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-math.Sin(x)}} },
-	OpCos:      func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-math.Cos(x)}} },
-	OpTan:      func(x, y, z float64) [3][3]float64 { c := math.Cos(x); return [3][3]float64{{2 * math.Sin(x) / (c * c * c)}} },
+	OpAdd: func(x, y, z float64) [3][3]float64 { return [3][3]float64{} },
+	OpSub: func(x, y, z float64) [3][3]float64 { return [3][3]float64{} },
+	OpMul: func(x, y, z float64) [3][3]float64 { return [3][3]float64{{0, 1}, {1, 0}} },
+	OpDiv: func(x, y, z float64) [3][3]float64 {
+		return [3][3]float64{{0, -1 / (y * y)}, {-1 / (y * y), 2 * x / (y * y * y)}}
+	},
+	OpSquare: func(x, y, z float64) [3][3]float64 { return [3][3]float64{{2}} },
+	OpNeg:    func(x, y, z float64) [3][3]float64 { return [3][3]float64{} },
+	OpSqrt:   func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-0.25 * math.Pow(x, -1.5)}} },
+	OpExp:    func(x, y, z float64) [3][3]float64 { return [3][3]float64{{math.Exp(x)}} },
+	OpLn:     func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-1 / (x * x)}} },
+	OpLog10:  func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-1 / (x * x * math.Log(10))}} },
+	OpSin:    func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-math.Sin(x)}} },
+	OpCos:    func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-math.Cos(x)}} },
+	OpTan: func(x, y, z float64) [3][3]float64 {
+		c := math.Cos(x)
+		return [3][3]float64{{2 * math.Sin(x) / (c * c * c)}}
+	},
 	OpAsin:     func(x, y, z float64) [3][3]float64 { return [3][3]float64{{x * math.Pow(1-x*x, -1.5)}} },
 	OpAcos:     func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-x * math.Pow(1-x*x, -1.5)}} },
 	OpAtan:     func(x, y, z float64) [3][3]float64 { return [3][3]float64{{-2 * x / ((1 + x*x) * (1 + x*x))}} },
