@@ -73,3 +73,15 @@ func BenchmarkReverseVsFD(b *testing.B) {
 	t, x := tapebench.GenModel(30_000, 10_000, 3)
 	tapebench.ReverseVsFD(b, t, x)
 }
+
+// A Hessian-vector product (forward-over-reverse) against a gradient on
+// the generated models of 1e3 and 1e5 nodes.
+func BenchmarkHVPSmall(b *testing.B) {
+	t, x := genSized(0)
+	tapebench.HVPVsGradient(b, t, x)
+}
+
+func BenchmarkHVPMedium(b *testing.B) {
+	t, x := genSized(1)
+	tapebench.HVPVsGradient(b, t, x)
+}

@@ -33,6 +33,7 @@ type Hessian struct {
 	m        int       // lanes of the buffers
 	dv, dg   []float64 // tangents of values and adjoints, node-major: [k*m+s]
 	g        []float64 // adjoints
+	d        []float64 // the local partials of generic operations, from the tangent pass: [3k+j]
 	kinks    []Kink
 	cand     []int32 // nodes that may be kinks, found by the tangent pass
 	live     []bool
@@ -96,6 +97,7 @@ func (h *Hessian) Vectors(hv, grad, x, dirs []float64, m, i int) (float64, error
 		h.dv = make([]float64, n*m)
 		h.dg = make([]float64, n*m)
 		h.g = make([]float64, n)
+		h.d = make([]float64, 3*n)
 	}
 	h.kinks = h.kinks[:0]
 	h.cand = h.cand[:0]
@@ -131,9 +133,20 @@ func (h *Hessian) Vectors(hv, grad, x, dirs []float64, m, i int) (float64, error
 // tangents runs the tangent pass over nodes [start, end): dv[k] = Σ
 // ∂φ_k/∂a dv[a]. It notes the nodes that may be kinks.
 func (h *Hessian) tangents(v, dv []float64, end int) {
+	if h.m == 1 {
+		h.tangents1(v, dv, end)
+		return
+	}
+	for k := h.t.p.start; k < end; k++ {
+		h.tangentNode(v, dv, k)
+	}
+}
+
+// tangentNode runs the tangent pass through node k.
+func (h *Hessian) tangentNode(v, dv []float64, k int) {
 	p := h.t.p
 	m := h.m
-	for k := p.start; k < end; k++ {
+	{
 		op := p.ops[k]
 		a, b := int(p.a[k]), int(p.b[k])
 		o := dv[k*m : k*m+m]
@@ -187,10 +200,27 @@ func (h *Hessian) tangents(v, dv []float64, end int) {
 				if kinkCand(op, v[a], v[b]) {
 					h.cand = append(h.cand, int32(k))
 				}
-				continue
+				return
 			}
-			if (op == OpAbs || op == OpMin || op == OpMax) && kinkCand(op, v[a], v[b]) {
+			// min(x, x) and max(x, x) are x: no kink.
+			if (op == OpAbs || (op == OpMin || op == OpMax) && a != b) && kinkCand(op, v[a], v[b]) {
 				h.cand = append(h.cand, int32(k))
+			}
+			switch op {
+			case OpMin, OpMax:
+				src := da
+				if op == OpMin && !(v[a] <= v[b]) || op == OpMax && !(v[a] >= v[b]) {
+					src = db
+				}
+				copy(o, src)
+				return
+			case OpExp:
+				e := v[k]
+				h.d[3*k] = e
+				for s := range o {
+					o[s] = e * da[s]
+				}
+				return
 			}
 			ar := op.Arity()
 			var z float64
@@ -204,6 +234,7 @@ func (h *Hessian) tangents(v, dv []float64, end int) {
 			if ar < 2 || op == OpPowConst {
 				dy = 0
 			}
+			h.d[3*k], h.d[3*k+1], h.d[3*k+2] = dx, dy, dz
 			for s := range o {
 				r := dx * da[s]
 				if dy != 0 {
@@ -234,20 +265,37 @@ func (h *Hessian) reverse(v, dv []float64, out, end int) {
 	clear(g)
 	clear(dg)
 	g[out] = 1
+	if m == 1 {
+		h.reverse1(v, dv, out)
+		return
+	}
 	for k := out; k >= p.start; k-- {
 		op := p.ops[k]
 		if op == opLane || op == opArg {
 			continue
 		}
-		gk := g[k]
-		dk := dg[k*m : k*m+m]
 		if op == opLoop { // its lanes' adjoints are its own (the first is k's)
 			h.loopReverse(v, dv, k)
 			continue
 		}
-		if gk == 0 && allZero(dk) {
+		dk := dg[k*m : k*m+m]
+		if g[k] == 0 && allZero(dk) {
 			continue
 		}
+		h.reverseNode(v, dv, k)
+	}
+}
+
+// reverseNode runs the reverse pass of adjoints and their tangents
+// through node k, an operation other than a loop node.
+func (h *Hessian) reverseNode(v, dv []float64, k int) {
+	p := h.t.p
+	m := h.m
+	g, dg := h.g, h.dg
+	op := p.ops[k]
+	gk := g[k]
+	dk := dg[k*m : k*m+m]
+	{
 		a, b := int(p.a[k]), int(p.b[k])
 		ga, gb := dg[a*m:a*m+m], dg[b*m:b*m+m]
 		switch op {
@@ -280,6 +328,44 @@ func (h *Hessian) reverse(v, dv []float64, out, end int) {
 			for s, d := range dk {
 				gb[s] += d*x + gk*ta[s]
 			}
+		case OpDiv:
+			// x/y: partials 1/y and -v/y; second -1/y² (xy) and 2v/y² (yy).
+			y, q := v[b], v[k]
+			ry := 1 / y
+			g[a] += gk * ry
+			g[b] -= gk * q * ry
+			ta, tb := dv[a*m:a*m+m], dv[b*m:b*m+m]
+			c := gk * ry * ry
+			for s, d := range dk {
+				ga[s] += d*ry - c*tb[s]
+			}
+			for s, d := range dk {
+				gb[s] += -d*q*ry + c*(2*q*tb[s]-ta[s])
+			}
+		case OpSquare:
+			x2 := 2 * v[a]
+			g[a] += gk * x2
+			ta := dv[a*m : a*m+m]
+			for s, d := range dk {
+				ga[s] += d*x2 + 2*gk*ta[s]
+			}
+		case OpMin, OpMax:
+			c := a
+			if op == OpMin && !(v[a] <= v[b]) || op == OpMax && !(v[a] >= v[b]) {
+				c = b
+			}
+			g[c] += gk
+			gc := dg[c*m : c*m+m]
+			for s, d := range dk {
+				gc[s] += d
+			}
+		case OpExp:
+			e := v[k]
+			g[a] += gk * e
+			ta := dv[a*m : a*m+m]
+			for s, d := range dk {
+				ga[s] += (d + gk*ta[s]) * e
+			}
 		case OpNeg:
 			g[a] -= gk
 			for s, d := range dk {
@@ -297,7 +383,7 @@ func (h *Hessian) reverse(v, dv []float64, out, end int) {
 			}
 		default:
 			if op.IsStep() {
-				continue
+				return
 			}
 			ar := op.Arity()
 			args := [3]int{a, b, a}
@@ -306,18 +392,17 @@ func (h *Hessian) reverse(v, dv []float64, out, end int) {
 				args[2] = int(p.a[k+1])
 				z = v[args[2]]
 			}
-			h.generic(op, ar, args, v[a], v[b], z, v[k], gk, dk, dv, dg, g)
+			h.generic(op, ar, args, [3]float64(h.d[3*k:3*k+3]), v[a], v[b], z, v[k], gk, dk, dv, dg, g)
 		}
 	}
 }
 
 // generic sends back the adjoint gk and its tangents dk through an
 // operation op of ar arguments at slots args with values x, y, z and
-// value val, from its first derivatives (deriv) and second (second).
-func (h *Hessian) generic(op Op, ar int, args [3]int, x, y, z, val, gk float64, dk, dv, dg, g []float64) {
+// value val, from its first derivatives d (deriv, kept by the tangent
+// pass) and second (second).
+func (h *Hessian) generic(op Op, ar int, args [3]int, d [3]float64, x, y, z, val, gk float64, dk, dv, dg, g []float64) {
 	m := h.m
-	dx, dy, dz := deriv(op, x, y, z, val)
-	d := [3]float64{dx, dy, dz}
 	nArg := ar
 	if op == OpPowConst {
 		nArg = 1 // the exponent is a constant
@@ -627,7 +712,8 @@ func (h *Hessian) loopReverse(v, dv []float64, k int) {
 				addTo(src, gk, dk)
 			case op.IsStep():
 			default:
-				h.generic(op, ar, [3]int{xi, yi, zi}, v[xi], v[yi], v[zi], v[k+j], gk, dk, dv, dg, g)
+				dx, dy, dz := deriv(op, v[xi], v[yi], v[zi], v[k+j])
+				h.generic(op, ar, [3]int{xi, yi, zi}, [3]float64{dx, dy, dz}, v[xi], v[yi], v[zi], v[k+j], gk, dk, dv, dg, g)
 			}
 		}
 	case loopSum:
