@@ -41,6 +41,7 @@ func allCharts() map[string]Chart {
 		"indices":      sampleIndices(),
 		"scatter":      &Scatter{XName: "rate", YName: "total", X: xs, Y: ys},
 		"effects":      sampleEffects(20),
+		"pair map":     samplePairMap(),
 	}
 }
 

@@ -32,6 +32,7 @@ var commandForms = []CommandForm{
 	{"sobol", "sobol OUT", (*parser).parseGlobal},
 	{"morris", "morris OUT", (*parser).parseGlobal},
 	{"screen", "screen OUT", (*parser).parseGlobal},
+	{"interactions", "interactions OUT", (*parser).parseInteractions},
 	{"spearman", "spearman X, Y = RHO", (*parser).parseSpearman},
 	{"print", `print "text"`, (*parser).parsePrint},
 	{"reset", "reset", (*parser).parseReset},
@@ -66,7 +67,8 @@ func IsVerb(name string) bool { return Command(name) != nil }
 // parseCommand parses a command and its options:
 //
 //	command = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | exchange | basis | global | spearman | print | reset | charts | help ) options .
+//	          | exchange | basis | global | spearman | print | reset | charts | help
+//	          | interactions ) options .
 //	options = { name "=" arith } .
 func (p *parser) parseCommand() *CommandStmt {
 	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
@@ -113,6 +115,12 @@ func (p *parser) parseTornado(c *CommandStmt) { p.parseOutput(c) }
 //
 //	global = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
 func (p *parser) parseGlobal(c *CommandStmt) { p.parseOutput(c) }
+
+// parseInteractions parses the ranking of pairs of inputs by their mixed
+// second derivatives:
+//
+//	interactions = "interactions" arith .
+func (p *parser) parseInteractions(c *CommandStmt) { p.parseOutput(c) }
 
 // parseSpearman parses the declaration of a rank correlation between two
 // inputs, into c.Names (the inputs) and c.Target (the coefficient):

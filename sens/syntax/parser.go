@@ -40,7 +40,8 @@ import (
 // One parse function per verb carries its production (commands.go).
 //
 //	command   = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | exchange | basis | global | spearman | print | reset | charts | help ) options .
+//	          | exchange | basis | global | spearman | print | reset | charts | help
+//	          | interactions ) options .
 //	options   = { name "=" arith } .
 //	drivers   = "drivers" arith .
 //	tornado   = "tornado" arith .
@@ -53,6 +54,7 @@ import (
 //	exchange  = "exchange" name "=" arith .
 //	basis     = "basis" [ arith ] .
 //	global    = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
+//	interactions = "interactions" arith .
 //	spearman  = "spearman" ref "," ref "=" arith .
 //	print     = "print" STRING .
 //	reset     = "reset" .
