@@ -96,9 +96,9 @@ func (m *PairMap) most() float64 {
 
 func (m *PairMap) frame() *frame {
 	return &frame{
-		title: m.heading(),
+		title:    m.heading(),
 		subtitle: "Mixed second derivative times both inputs' range widths" + unitSuffix(m.Unit) + "; the diagonal is each input's curvature",
-		notes: []string{"Darker is a stronger interaction, of either sign; the number in a cell is signed."},
+		notes:    []string{"Darker is a stronger interaction, of either sign; the number in a cell is signed."},
 	}
 }
 

@@ -19,13 +19,13 @@ func samplePairMap() *PairMap {
 func TestPairMap(t *testing.T) {
 	m := samplePairMap()
 	svg := m.SVG()
-	for _, want := range []string{"Interactions: total", "hours", "units", "9000"} {
+	for _, want := range []string{"Interactions: total", "hours", "units", "9,000"} {
 		if !strings.Contains(svg, want) {
 			t.Errorf("SVG lacks %q", want)
 		}
 	}
 	alt := AltText(m)
-	if !strings.Contains(alt, "The strongest pair is hours and rate (9,000 $)") && !strings.Contains(alt, "hours and rate") {
+	if !strings.Contains(alt, "The strongest pair is hours and rate ($9,000)") {
 		t.Errorf("alt text %q does not name the strongest pair", alt)
 	}
 	txt := m.Text(80)
