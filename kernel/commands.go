@@ -62,7 +62,7 @@ var commands = table(
 	driversCommand, tornadoCommand, spiderCommand, sweepCommand, breakevenCommand,
 	scenarioCommand, compareCommand, exchangeCommand, basisCommand, simulateCommand, sobolCommand,
 	morrisCommand, screenCommand, spearmanCommand, printCommand, resetCommand, chartsCommand,
-	helpCommand,
+	helpCommand, interactionsCommand,
 )
 
 func table(cs ...*Command) map[string]*Command {

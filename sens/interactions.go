@@ -396,11 +396,12 @@ func (e *hessianEval) columns(x []float64, batch []int) ([]float64, []string, er
 	return out, kinks, nil
 }
 
-// secondError is evalError for the second-derivative pass.
+// secondError is evalError for the second-derivative pass: an error of
+// the first derivatives says it was met taking second ones.
 func (p *Program) secondError(err error, x []float64) error {
 	e := p.evalError(err, x)
 	if ee, ok := e.(*EvalError); ok && !strings.HasPrefix(ee.Msg, "second derivative") {
-		ee.Msg = "second derivative: " + ee.Msg
+		ee.Msg += " (taking second derivatives)"
 	}
 	return e
 }

@@ -145,6 +145,8 @@ func (r *Result) Tables() []CSVTable {
 			rows = append(rows, []string{x.Name, num(x.DGSM), x.DGSMUnit, num(x.TotalOrderBound)})
 		}
 		return []CSVTable{{Rows: rows}}
+	case *sens.InteractionsResult:
+		return interactionsTables(d)
 	case *sens.BasisResult:
 		rows := [][]string{{"input", "value", "low", "high", "unit", "range_from", "range", "distribution", "file", "line"}}
 		for _, in := range d.Inputs {

@@ -1,6 +1,9 @@
 package tape
 
-import "fmt"
+import (
+	"fmt"
+	"strings"
+)
 
 // Hessian computes Hessian-vector products of a tape's outputs by
 // forward-over-reverse differentiation: the forward pass carries, beside
@@ -558,13 +561,34 @@ func (h *Hessian) error(v, g, dg []float64, out int) error {
 		}
 		dx, dy, dz := deriv(op, v[a], v[b], z, v[k])
 		hs := second(op, v[a], v[b], z, v[k])
-		if finite(dx) && finite(dy) && finite(dz) && finite(hs.xx) && finite(hs.xy) && finite(hs.xz) && finite(hs.yy) && finite(hs.yz) && finite(hs.zz) {
+		firstOK := finite(dx) && finite(dy) && finite(dz)
+		if firstOK && finite(hs.xx) && finite(hs.xy) && finite(hs.xz) && finite(hs.yy) && finite(hs.yz) && finite(hs.zz) {
 			continue
 		}
 		msg := derivMsg(op, args)
-		return &DomainError{Pos: p.pos[k], Op: op, Args: args, Msg: "second derivative: " + msg, Sample: -1, Reverse: true}
+		if firstOK {
+			msg = secondMsg(op, args)
+		}
+		return &DomainError{Pos: p.pos[k], Op: op, Args: args, Msg: msg, Sample: -1, Reverse: true}
 	}
 	return &DomainError{Pos: p.pos[out], Op: p.ops[out], Msg: "second derivative is not finite", Sample: -1, Reverse: true}
+}
+
+// secondMsg explains an operation whose first derivatives are finite at
+// args but whose second are not.
+func secondMsg(op Op, args []float64) string {
+	var xs []string
+	for _, a := range args {
+		xs = append(xs, num(a))
+	}
+	at := strings.Join(xs, ", ")
+	switch op {
+	case OpPow, OpPowConst:
+		return fmt.Sprintf("second derivative of x^y is infinite at x = %s (y = %s)", xs[0], xs[1])
+	case OpAsin, OpAcos, OpSqrt:
+		return fmt.Sprintf("second derivative of %s is infinite at %s", op, at)
+	}
+	return fmt.Sprintf("second derivative of %s is not finite at (%s)", op, at)
 }
 
 // ---- loop nodes (vec.go), element by element

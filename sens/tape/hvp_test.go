@@ -455,7 +455,7 @@ func TestHessianDomainError(t *testing.T) {
 	hv := make([]float64, 1)
 	_, err := h.Vectors(hv, nil, []float64{0}, []float64{1}, 1, 0)
 	var de *DomainError
-	if !errorsAs(err, &de) || de.Pos != 3 {
+	if !errorsAs(err, &de) || de.Pos != 3 || de.Msg != "second derivative of x^y is infinite at x = 0 (y = 1.5)" {
 		t.Fatalf("x^1.5 at 0: %v, want a domain error at position 3", err)
 	}
 }
