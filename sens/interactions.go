@@ -187,7 +187,73 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 		slices.Sort(cols)
 	}
 	res.Columns = len(cols)
-	hcol := make([][]float64, k) // hcol[i]: column i of the Hessian (nil if not computed)
+	// pos[i] is input i's place in cols, -1 for an input without a column;
+	// sub holds the Hessian among the columns, for the map (400² at most).
+	pos := make([]int, k)
+	for i := range pos {
+		pos[i] = -1
+	}
+	for c, i := range cols {
+		pos[i] = c
+	}
+	sub := make([]float64, len(cols)*len(cols))
+
+	// Pairs are counted and summed as their columns come, and only the
+	// Top strongest kept: a model of 200,000 inputs has 80 million pairs
+	// against 400 columns, and no column is kept whole.
+	type pair struct {
+		i, j  int
+		h, sc float64
+	}
+	stronger := func(a, b pair) int { // descending |scaled|, |mixed|, then by names
+		if c := cmp.Compare(math.Abs(b.sc), math.Abs(a.sc)); c != 0 {
+			return c
+		}
+		if c := cmp.Compare(math.Abs(b.h), math.Abs(a.h)); c != 0 {
+			return c
+		}
+		if c := strings.Compare(p.Inputs[a.i].Name, p.Inputs[b.i].Name); c != 0 {
+			return c
+		}
+		return strings.Compare(p.Inputs[a.j].Name, p.Inputs[b.j].Name)
+	}
+	var best []pair
+	var sum float64
+	weight := make([]float64, k) // each input's total |I| over its pairs and curvature, for the map
+	diag := make([]float64, k)
+	addColumn := func(i int, col []float64) {
+		for j, h := range col {
+			if pj := pos[j]; pj >= 0 {
+				sub[pos[i]*len(cols)+pj] = h
+			}
+			if j == i {
+				diag[i] = h
+				weight[i] += math.Abs(h * width[i] * width[i])
+				continue
+			}
+			if pos[j] >= 0 && j < i {
+				continue // the pair was taken with column j
+			}
+			if h == 0 {
+				res.PairsZero++
+			} else {
+				res.PairsNonzero++
+			}
+			a, b := min(i, j), max(i, j)
+			pr := pair{a, b, h, h * width[a] * width[b]}
+			sum += math.Abs(pr.sc)
+			weight[a] += math.Abs(pr.sc)
+			weight[b] += math.Abs(pr.sc)
+			if len(best) == top && stronger(pr, best[top-1]) >= 0 {
+				continue
+			}
+			at, _ := slices.BinarySearchFunc(best, pr, stronger)
+			best = slices.Insert(best, at, pr)
+			if len(best) > top {
+				best = best[:top]
+			}
+		}
+	}
 	m := tape.Lanes(ev.tapeLen(), 16)
 	kinks := map[string]bool{}
 	for start := 0; start < len(cols); start += m {
@@ -200,7 +266,7 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 			return nil, err
 		}
 		for b, i := range batch {
-			hcol[i] = hv[b*k : (b+1)*k]
+			addColumn(i, hv[b*k:(b+1)*k])
 		}
 		for _, kk := range ks {
 			if !kinks[kk] {
@@ -210,61 +276,7 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 		}
 		s.progress(start+len(batch), len(cols))
 	}
-	mixed := func(i, j int) (float64, bool) {
-		switch {
-		case hcol[i] != nil && hcol[j] != nil:
-			return (hcol[i][j] + hcol[j][i]) / 2, true // equal but for rounding
-		case hcol[i] != nil:
-			return hcol[i][j], true
-		case hcol[j] != nil:
-			return hcol[j][i], true
-		}
-		return 0, false
-	}
 
-	// Pairs and curvatures.
-	var pairs []InteractionPair
-	var sum float64
-	type ij struct{ i, j int }
-	var idx []ij
-	for _, i := range cols {
-		for j := range k {
-			if j == i || hcol[j] != nil && j < i {
-				continue // each pair once
-			}
-			h, _ := mixed(i, j)
-			if h == 0 {
-				res.PairsZero++
-			} else {
-				res.PairsNonzero++
-			}
-			a, b := i, j
-			if b < a {
-				a, b = b, a
-			}
-			idx = append(idx, ij{a, b})
-			sc := h * width[a] * width[b]
-			sum += math.Abs(sc)
-			pairs = append(pairs, InteractionPair{A: p.Inputs[a].Name, B: p.Inputs[b].Name, Mixed: h, Scaled: sc})
-		}
-	}
-	order := make([]int, len(pairs))
-	for i := range order {
-		order[i] = i
-	}
-	slices.SortFunc(order, func(a, b int) int {
-		pa, pb := &pairs[a], &pairs[b]
-		if c := cmp.Compare(math.Abs(pb.Scaled), math.Abs(pa.Scaled)); c != 0 {
-			return c
-		}
-		if c := cmp.Compare(math.Abs(pb.Mixed), math.Abs(pa.Mixed)); c != 0 {
-			return c
-		}
-		if c := strings.Compare(pa.A, pb.A); c != 0 {
-			return c
-		}
-		return strings.Compare(pa.B, pb.B)
-	})
 	units := map[[2]string]string{}
 	mixedUnit := func(a, b int) string {
 		ia, ib := p.Inputs[a], p.Inputs[b]
@@ -276,17 +288,16 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 		}
 		return u
 	}
-	for _, o := range order[:min(top, len(order))] {
-		pr := pairs[o]
+	for _, pr := range best {
+		ip := InteractionPair{A: p.Inputs[pr.i].Name, B: p.Inputs[pr.j].Name, Mixed: pr.h, MixedUnit: mixedUnit(pr.i, pr.j), Scaled: pr.sc}
 		if sum > 0 {
-			pr.Share = math.Abs(pr.Scaled) / sum
+			ip.Share = math.Abs(pr.sc) / sum
 		}
-		pr.MixedUnit = mixedUnit(idx[o].i, idx[o].j)
-		res.Pairs = append(res.Pairs, pr)
+		res.Pairs = append(res.Pairs, ip)
 	}
 	var curv []Curvature
 	for _, i := range cols {
-		h := hcol[i][i]
+		h := diag[i]
 		curv = append(curv, Curvature{Name: p.Inputs[i].Name, Second: h, SecondUnit: mixedUnit(i, i), Scaled: h * width[i] * width[i]})
 	}
 	slices.SortFunc(curv, func(a, b Curvature) int {
@@ -297,17 +308,8 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 	})
 	res.Curvatures = curv[:min(top, len(curv))]
 
-	// The heat map: the inputs of largest total |I_ij| over their pairs
-	// (curvature included), in that order.
-	weight := make([]float64, k)
-	for o := range pairs {
-		w := math.Abs(pairs[o].Scaled)
-		weight[idx[o].i] += w
-		weight[idx[o].j] += w
-	}
-	for _, c := range cols {
-		weight[c] += math.Abs(hcol[c][c] * width[c] * width[c])
-	}
+	// The map: the inputs of largest total |I| over their pairs and
+	// curvature, in that order.
 	shown := slices.Clone(cols)
 	slices.SortFunc(shown, func(a, b int) int {
 		if c := cmp.Compare(weight[b], weight[a]); c != 0 {
@@ -320,8 +322,7 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 		res.Map.Inputs = append(res.Map.Inputs, p.Inputs[i].Name)
 		row := make([]float64, len(shown))
 		for c, j := range shown {
-			h, _ := mixed(i, j)
-			row[c] = h * width[i] * width[j]
+			row[c] = sub[pos[min(i, j)]*len(cols)+pos[max(i, j)]] * width[i] * width[j]
 		}
 		res.Map.Scaled = append(res.Map.Scaled, row)
 	}
