@@ -2,6 +2,7 @@ package tape
 
 import (
 	"fmt"
+	"math"
 	"strings"
 )
 
@@ -86,10 +87,7 @@ func (h *Hessian) Vectors(hv, grad, x, dirs []float64, m, i int) (float64, error
 	if len(dirs) != m*nIn || len(hv) != m*nIn || grad != nil && len(grad) != nIn {
 		panic(fmt.Sprintf("tape: Hessian-vector products of %d directions need %d entries, got dirs %d, hv %d", m, m*nIn, len(dirs), len(hv)))
 	}
-	f, err := t.Eval(x, i)
-	if err != nil {
-		return f, err
-	}
+	t.loadInputs(x)
 	// The passes run to the output's end, and over every input even when
 	// the output is one of them.
 	end := max(p.end(i), p.start)
@@ -113,7 +111,14 @@ func (h *Hessian) Vectors(hv, grad, x, dirs []float64, m, i int) (float64, error
 		}
 	}
 	clear(dv[nIn*m : p.start*m])
-	h.tangents(v, dv, end)
+	if h.tangents(v, dv, end) || !finite(v[out]) {
+		// A guard saw a NaN or Inf, or the output is one: the scalar pass
+		// finds where it arose (its values are the same to the bit).
+		if _, err := t.Eval(x, i); err != nil {
+			return math.NaN(), err
+		}
+	}
+	f := v[out]
 	h.reverse(v, dv, out, end)
 	g, dg := h.g, h.dg
 	for j := range nIn {
@@ -133,16 +138,34 @@ func (h *Hessian) Vectors(hv, grad, x, dirs []float64, m, i int) (float64, error
 	return f, nil
 }
 
-// tangents runs the tangent pass over nodes [start, end): dv[k] = Σ
-// ∂φ_k/∂a dv[a]. It notes the nodes that may be kinks.
-func (h *Hessian) tangents(v, dv []float64, end int) {
+// tangents runs the forward pass over nodes [start, end), values and
+// tangents together: v[k] = φ_k(v[a], ...) and dv[k] = Σ ∂φ_k/∂a dv[a].
+// It notes the nodes that may be kinks, and reports whether a guard
+// operation saw a non-finite operand (see Tape.run).
+func (h *Hessian) tangents(v, dv []float64, end int) (bad bool) {
 	if h.m == 1 {
-		h.tangents1(v, dv, end)
-		return
+		return h.tangents1(v, dv, end)
 	}
 	for k := h.t.p.start; k < end; k++ {
+		if h.value(v, k) {
+			bad = true
+		}
 		h.tangentNode(v, dv, k)
 	}
+	return bad
+}
+
+// value evaluates node k as the scalar pass does (Tape.run), and reports
+// whether it is a guard operation that saw a non-finite operand.
+func (h *Hessian) value(v []float64, k int) bool {
+	p := h.t.p
+	switch p.ops[k] {
+	case opArg, opLane:
+		return false
+	case opLoop:
+		return p.loopForward(v, k)
+	}
+	return p.step(v, int32(k))
 }
 
 // tangentNode runs the tangent pass through node k.

@@ -5,7 +5,7 @@ package tape
 // code, everything else through the lane passes' node functions.
 
 // tangents1 is tangents for one direction.
-func (h *Hessian) tangents1(v, dv []float64, end int) {
+func (h *Hessian) tangents1(v, dv []float64, end int) (bad bool) {
 	p := h.t.p
 	ops := p.ops[:end]
 	as, bs := p.a[:end], p.b[:end]
@@ -13,22 +13,39 @@ func (h *Hessian) tangents1(v, dv []float64, end int) {
 		a, b := as[k], bs[k]
 		switch ops[k] {
 		case OpAdd:
+			v[k] = v[a] + v[b]
 			dv[k] = dv[a] + dv[b]
 		case OpSub:
+			v[k] = v[a] - v[b]
 			dv[k] = dv[a] - dv[b]
 		case OpMul:
-			dv[k] = dv[a]*v[b] + v[a]*dv[b]
+			x, y := v[a], v[b]
+			v[k] = x * y
+			dv[k] = dv[a]*y + x*dv[b]
 		case OpDiv:
-			dv[k] = (dv[a] - v[k]*dv[b]) / v[b]
+			y := v[b]
+			q := v[a] / y
+			v[k] = q
+			dv[k] = (dv[a] - q*dv[b]) / y
+			if !finite(y) {
+				bad = true
+			}
 		case OpNeg:
+			v[k] = -v[a]
 			dv[k] = -dv[a]
 		case OpSquare:
-			dv[k] = 2 * v[a] * dv[a]
+			x := v[a]
+			v[k] = x * x
+			dv[k] = 2 * x * dv[a]
 		case opArg, opLane:
 		default:
+			if h.value(v, k) {
+				bad = true
+			}
 			h.tangentNode(v, dv, k)
 		}
 	}
+	return bad
 }
 
 // reverse1 is the loop of reverse for one direction; g and dg are

@@ -467,3 +467,25 @@ func errorsAs(err error, de **DomainError) bool {
 	}
 	return ok
 }
+
+// A domain error of the values (ln of a negative number) is the scalar
+// pass's error, with its position: the Hessian pass computes values
+// itself and defers to Eval for the message.
+func TestHessianForwardDomainError(t *testing.T) {
+	b := NewBuilder()
+	x, y := b.Input(), b.Input()
+	b.SetPos(9)
+	tp := b.Tape(b.Binary(OpMul, b.Unary(OpLn, x), y))
+	h := NewHessian(tp)
+	hv := make([]float64, 2)
+	_, err := h.Vectors(hv, nil, []float64{-1, 2}, []float64{1, 0}, 1, 0)
+	_, want := tp.Eval([]float64{-1, 2}, 0)
+	if err == nil || want == nil || err.Error() != want.Error() {
+		t.Fatalf("ln(-1): %v, want Eval's %v", err, want)
+	}
+	// And at a good point afterwards the values are right again.
+	f, err := h.Vectors(hv, nil, []float64{math.E, 2}, []float64{1, 0}, 1, 0)
+	if err != nil || !scalar.EqualWithinAbsOrRel(f, 2, 1e-15, 1e-15) || !scalar.EqualWithinAbsOrRel(hv[0], -2/(math.E*math.E), 1e-15, 1e-14) || !scalar.EqualWithinAbsOrRel(hv[1], 1/math.E, 1e-15, 1e-14) {
+		t.Errorf("ln(e)·2: f %v, H·e1 %v, err %v; want 2, [-2/e², 1/e]", f, hv, err)
+	}
+}

@@ -38,7 +38,8 @@ func benchCmd(args []string, stdout, stderr io.Writer) int {
 // of ratios to w: the tape interpreter against the same cost model written in
 // Go (scalar and batched; each pair interleaved so that other load on the
 // machine affects both sides alike), the gradient (forward and reverse passes)
-// against the forward pass on generated models of 1e3 to 1e6 nodes, reverse
+// against the forward pass on generated models of 1e3 to 1e6 nodes, a
+// Hessian-vector product against a gradient on 1e5 nodes, reverse
 // mode against gonum's central differences on 10,000 inputs, the tape's
 // bytes per node, and the line-item benchmarks on 100,000 lines
 // (benchLineItems). It takes about a minute.
@@ -86,9 +87,14 @@ func runBench(w io.Writer) error {
 		bytesPerNode = max(bytesPerNode, float64(t.Bytes())/float64(t.Len()))
 	}
 
+	// A Hessian-vector product (interactions) against a gradient, 1e5 nodes.
+	ht, hx := tapebench.GenModel(tapebench.Sizes[1].Nodes, tapebench.Sizes[1].Inputs, 1)
+	r := testing.Benchmark(func(b *testing.B) { tapebench.HVPVsGradient(b, ht, hx) })
+	row(fmt.Sprintf("Hessian-vector product vs gradient, %d nodes", ht.Len()), r, "hvp", "gradient", "<= 4")
+
 	t, x := tapebench.GenModel(30_000, 10_000, 3)
 	check(t.Forward(x))
-	r := testing.Benchmark(func(b *testing.B) { tapebench.ReverseVsFD(b, t, x) })
+	r = testing.Benchmark(func(b *testing.B) { tapebench.ReverseVsFD(b, t, x) })
 	fmt.Fprintf(tw, "gradient vs gonum fd.Gradient, %d inputs (fd: 20001 evaluations, run once)\t%s\t%s\t1/%.0f\t-\t\n",
 		t.NumInputs(), fmtNs(r.Extra["reverse-ms"]*1e6), fmtNs(r.Extra["fd-ms"]*1e6), r.Extra["speedup"])
 	fmt.Fprintf(tw, "tape bytes per node (largest model)\t%.1f\t\t\t<= 32\t%s\n", bytesPerNode, verdict(bytesPerNode, "<= 32"))
