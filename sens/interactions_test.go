@@ -55,6 +55,21 @@ func TestInteractionsIshigami(t *testing.T) {
 		if pr := got["x1-x3"]; !scalar.EqualWithinAbsOrRel(pr.Mixed, want, 1e-13, 1e-12) || !scalar.EqualWithinAbsOrRel(pr.Scaled, want*w*w, 1e-12, 1e-12) {
 			t.Errorf("x1-x3: mixed %v scaled %v, want %v and %v", pr.Mixed, pr.Scaled, want, want*w*w)
 		}
+		// Each input interacts with another exactly when its published
+		// total-order index exceeds its first-order one (Ishigami & Homma
+		// 1990: total 0.5576, 0.4424, 0.2437; first 0.3139, 0.4424, 0).
+		interactsGlobally := map[string]bool{"x1": 0.5576-0.3139 > 0.001, "x2": 0.4424-0.4424 > 0.001, "x3": 0.2437-0 > 0.001}
+		interactsHere := map[string]bool{}
+		for _, pr := range res.Pairs {
+			if pr.Mixed != 0 {
+				interactsHere[pr.A], interactsHere[pr.B] = true, true
+			}
+		}
+		for _, in := range []string{"x1", "x2", "x3"} {
+			if interactsHere[in] != interactsGlobally[in] {
+				t.Errorf("%s: interacts at the baseline %v, by the published indices %v", in, interactsHere[in], interactsGlobally[in])
+			}
+		}
 		if res.Pairs[0].A != "x1" || res.Pairs[0].B != "x3" {
 			t.Errorf("first pair %s-%s, want x1-x3", res.Pairs[0].A, res.Pairs[0].B)
 		}
