@@ -12,8 +12,9 @@ var (
 	fuzzBid   = tapebench.BidCSV(20, 5)
 )
 
-// FuzzCompile feeds arbitrary text through the parser, the compiler and one
-// evaluation of every formula at the baseline: errors are fine, panics are not.
+// FuzzCompile feeds arbitrary text through the parser, the compiler, one
+// evaluation of every formula at the baseline and its second derivatives:
+// errors are fine, panics are not.
 func FuzzCompile(f *testing.F) {
 	for _, s := range []string{
 		designModel,
@@ -66,6 +67,11 @@ func FuzzCompile(f *testing.F) {
 			if _, err := Drivers(pr, nil); err != nil {
 				if _, ok := err.(*EvalError); !ok {
 					t.Fatalf("drivers error of type %T: %v", err, err)
+				}
+			}
+			if _, err := Interactions(pr, &InteractionsSettings{MaxColumns: 8}); err != nil {
+				if _, ok := err.(*EvalError); !ok && len(pr.Inputs) > 0 {
+					t.Fatalf("interactions error of type %T: %v", err, err)
 				}
 			}
 		}
