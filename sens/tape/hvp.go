@@ -217,19 +217,19 @@ func (h *Hessian) tangentNode(v, dv []float64, k int) {
 				src = dv[c*m : c*m+m]
 			}
 			copy(o, src)
-			if v[a] == 0 {
+			if v[a] == 0 && p.continuous(int32(a)) {
 				h.cand = append(h.cand, int32(k))
 			}
 		default:
 			if op.IsStep() {
 				clear(o)
-				if kinkCand(op, v[a], v[b]) {
+				if p.isKink(op, int32(a), int32(b), v) {
 					h.cand = append(h.cand, int32(k))
 				}
 				return
 			}
 			// min(x, x) and max(x, x) are x: no kink.
-			if (op == OpAbs || (op == OpMin || op == OpMax) && a != b) && kinkCand(op, v[a], v[b]) {
+			if (op == OpAbs || (op == OpMin || op == OpMax) && a != b) && p.isKink(op, int32(a), int32(b), v) {
 				h.cand = append(h.cand, int32(k))
 			}
 			switch op {
@@ -275,10 +275,20 @@ func (h *Hessian) tangentNode(v, dv []float64, k int) {
 	}
 }
 
-// kinkCand reports whether op at (x, y) may be a kink (before the
-// continuity of its operands is known).
-func kinkCand(op Op, x, y float64) bool {
-	return kink(op, x, y, func(int) bool { return true }) != ""
+// isKink reports whether op over the slots a and b is at a kink or jump
+// at the values v.
+func (p *tapeProg) isKink(op Op, a, b int32, v []float64) bool {
+	args := [2]int32{a, b}
+	return kink(op, v[a], v[b], func(j int) bool { return p.continuous(args[j]) }) != ""
+}
+
+// continuous reports whether slot s holds a value that varies
+// continuously: not a constant, and not the 0 or 1 of a step.
+func (p *tapeProg) continuous(s int32) bool {
+	if s >= int32(p.nIn) && s < int32(p.start) {
+		return false
+	}
+	return s < int32(p.start) || !p.ops[s].IsStep()
 }
 
 // reverse runs the reverse pass of adjoints and their tangents from
@@ -518,14 +528,7 @@ func (h *Hessian) findKinks(v []float64, out int) {
 			live[p.a[k+1]] = true
 		}
 	}
-	// cont reports whether slot s holds a continuous value: not a
-	// constant and not the result of a step.
-	cont := func(s int32) bool {
-		if s >= int32(p.nIn) && s < int32(p.start) {
-			return false
-		}
-		return s < int32(p.start) || !p.ops[s].IsStep()
-	}
+	cont := p.continuous
 	for _, k := range h.cand {
 		if int(k) > out || !live[k] {
 			continue
@@ -634,7 +637,7 @@ func (h *Hessian) loopTangents(v, dv []float64, k int) {
 			o := row(k + j)
 			if op.IsStep() && op != OpIf {
 				clear(o)
-				if kinkCand(op, v[xi], v[yi]) {
+				if p.isKink(op, int32(xi), int32(yi), v) {
 					h.addCand(k)
 				}
 				continue
@@ -643,12 +646,14 @@ func (h *Hessian) loopTangents(v, dv []float64, k int) {
 				src := yi
 				if v[xi] == 0 {
 					src = zi
-					h.addCand(k)
+					if p.continuous(int32(xi)) {
+						h.addCand(k)
+					}
 				}
 				copy(o, row(src))
 				continue
 			}
-			if (op == OpAbs || op == OpMin || op == OpMax) && kinkCand(op, v[xi], v[yi]) {
+			if (op == OpAbs || op == OpMin || op == OpMax) && p.isKink(op, int32(xi), int32(yi), v) {
 				h.addCand(k)
 			}
 			dx, dy, dz := deriv(op, v[xi], v[yi], v[zi], v[k+j])
