@@ -62,11 +62,11 @@ func NewHessian(t *Tape) *Hessian {
 func (h *Hessian) Tape() *Tape { return h.t }
 
 // Kinks returns the operations of the last call where the output is not
-// twice differentiable, in tape order (nil when there are none).
+// twice differentiable, in tape order (empty when there are none).
 func (h *Hessian) Kinks() []Kink { return h.kinks }
 
 // Lanes returns how many directions one pass should carry on a tape of n
-// nodes, at most max: as many as fit a budget of about 32 MB of tangents.
+// nodes, at most most: as many as fit a budget of about 32 MB of tangents.
 func Lanes(n, most int) int {
 	const budget = 32 << 20 / 16 // two tangent buffers of 8 bytes a lane
 	m := budget / (n + 1)
