@@ -58,7 +58,7 @@ func Interactions(d *sens.InteractionsResult, o *Options) *Result {
 		}
 	}
 	if len(cs) > 0 {
-		r.note("curvature, ∂²" + d.Output + "/∂x² × width²: " + strings.Join(cs, ", ") + "; the other inputs enter linearly")
+		r.note("curvature, ∂²" + wrapExpr(d.Output) + "/∂x² × width²: " + strings.Join(cs, ", ") + "; the other inputs enter linearly")
 	} else {
 		r.note("no input has curvature of its own: the output is linear in each input taken alone")
 	}
