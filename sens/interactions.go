@@ -134,7 +134,8 @@ const (
 //
 // References:
 //   - A. Griewank and A. Walther, Evaluating Derivatives, 2nd ed., SIAM
-//     2008, chapter 5 (second-order adjoints, forward over reverse).
+//     2008, chapter 5 (second-order adjoints, forward over reverse; the
+//     chapter number from memory).
 func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, error) {
 	if s == nil {
 		s = &InteractionsSettings{}

@@ -12,7 +12,7 @@ import (
 // value, both first partials and the exact mixed second partial in d,
 // with no step and no truncation error (Fike & Alonso, "The development
 // of hyper-dual numbers for exact second-derivative calculations", AIAA
-// 2011-886). With both seeds on one variable, d is the second derivative
+// 2011-886; cited from memory). With both seeds on one variable, d is the second derivative
 // in it.
 type hd struct{ a, b, c, d float64 }
 
