@@ -1,0 +1,674 @@
+package sens
+
+import (
+	"cmp"
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/nudge-dev/nudge/sens/tape"
+	"gonum.org/v1/gonum/integrate/quad"
+)
+
+// AttributeSettings are the settings of Attribute. A nil *AttributeSettings
+// is an error: attribution needs two points.
+type AttributeSettings struct {
+	Settings
+	// From and To are the scenarios at the ends of the path; nil (or a
+	// scenario named BaseName) is the baseline.
+	From, To *Scenario
+	// FromPoint and ToPoint, when set, are the ends themselves, one value
+	// per input of the problem in its own unit, in place of From and To
+	// (which then only name them, if set).
+	FromPoint, ToPoint []float64
+	// Top keeps the Top largest contributions and sums the rest (0: all).
+	Top int
+	// Target is the relative residual to reach (DefaultAttributeTarget when
+	// 0): see AttributeResult.ResidualRel.
+	Target float64
+}
+
+// DefaultAttributeTarget is the relative residual attribution refines its
+// quadrature to.
+const DefaultAttributeTarget = 1e-9
+
+// Contribution is one input's share of a change of the output.
+type Contribution struct {
+	Name string `json:"name"`
+	Unit string `json:"unit"`
+	// From and To are the input's values at the ends of the path, in its
+	// unit.
+	From float64 `json:"from"`
+	To   float64 `json:"to"`
+	// Value is the input's contribution, in the output's unit; SharePct is
+	// it as a percentage of the change (absent when the change is 0).
+	Value    float64  `json:"contribution"`
+	SharePct *float64 `json:"share_pct,omitempty"`
+}
+
+// ContributionRest sums the contributions a Top setting leaves out.
+type ContributionRest struct {
+	Count    int      `json:"count"`
+	Value    float64  `json:"contribution"`
+	SharePct *float64 `json:"share_pct,omitempty"`
+}
+
+// PathBreak is a point of the path where the output is not differentiable:
+// a piecewise operation (abs, min, max, if, a comparison, floor...)
+// changes piece there.
+type PathBreak struct {
+	// T is where it lies, as the fraction of the way from From to To.
+	T float64 `json:"t"`
+	// Kind is "kink" (the output bends: its derivative jumps, and the
+	// quadrature is split there) or "step" (the output itself jumps, by
+	// Jump, which no input's derivative sees).
+	Kind string  `json:"kind"`
+	Jump float64 `json:"jump"`
+	// At names the operations that change piece there ("model.nudge:4:9
+	// max in cost"), at most StepsShown of them; Count counts them all.
+	At    []string `json:"at"`
+	Count int      `json:"count"`
+}
+
+// AttributeQuadrature describes how the integrals were computed.
+type AttributeQuadrature struct {
+	Rule      string `json:"rule"`      // "Gauss-Legendre"
+	Nodes     int    `json:"nodes"`     // points per panel
+	Panels    int    `json:"panels"`    // panels of the path in the accepted sums
+	Gradients int    `json:"gradients"` // gradients evaluated, in batches
+	Converged bool   `json:"converged"` // every panel met its tolerance
+}
+
+// AttributeResult attributes the change of an output between two points to
+// its inputs.
+type AttributeResult struct {
+	Kind   string `json:"kind"` // "attribution"
+	Output string `json:"output"`
+	Unit   string `json:"unit"`
+	From   string `json:"from"`
+	To     string `json:"to"`
+	// ValueFrom and ValueTo are the output at the ends; Change is their
+	// difference, ValueTo - ValueFrom.
+	ValueFrom float64 `json:"value_from"`
+	ValueTo   float64 `json:"value_to"`
+	Change    float64 `json:"change"`
+	// Inputs are the inputs the two points set differently, sorted by
+	// |contribution| descending, ties by name.
+	Inputs []Contribution    `json:"inputs"`
+	Rest   *ContributionRest `json:"rest,omitempty"`
+	// Unchanged counts the inputs of the output the two points set alike:
+	// each contributes exactly 0.
+	Unchanged int `json:"unchanged"`
+	// Residual is Change minus the sum of every contribution: what the
+	// attribution leaves unexplained. ResidualRel is |Residual| over the
+	// larger of |Change| and the largest |contribution|; Met says whether
+	// it is within Target (or within the rounding of the output's value,
+	// RoundingLevel, when that is larger).
+	Residual      float64 `json:"residual"`
+	ResidualRel   float64 `json:"residual_rel"`
+	Target        float64 `json:"target"`
+	RoundingLevel float64 `json:"rounding_level"`
+	Met           bool    `json:"met"`
+	// Jumps is the sum of the output's jumps at the steps of the path
+	// (Breaks of kind "step"), the part of Residual that no derivative sees.
+	Jumps      float64             `json:"jumps"`
+	Breaks     []PathBreak         `json:"breaks"`
+	Quadrature AttributeQuadrature `json:"quadrature"`
+}
+
+// ErrNoChange is returned by Attribute when the two points set every input
+// of the output alike.
+var ErrNoChange = errors.New("nothing changes")
+
+// Attribute splits the change of the output between two points a and b
+// among the inputs by the path integral of each input's partial derivative
+// along the straight line from a to b (the Aumann–Shapley attribution):
+//
+//	c_i = (b_i - a_i) ∫₀¹ ∂f/∂x_i(a + t(b - a)) dt,   Σ c_i = f(b) - f(a)
+//
+// The contributions add up to the change wherever f is continuous on the
+// path. They are exact for a linear f (c_i = coefficient × Δx_i), give a
+// product x·y the share (x1 − x0)(y0 + y1)/2 for x, and for a multilinear
+// f (sums of products of distinct inputs) equal the Shapley values of the
+// game whose players switch their inputs from a to b (Owen 1972).
+//
+// The integrals are taken by Gauss–Legendre quadrature on batched reverse
+// sweeps (GradientBatch), refined by halving panels until each panel's
+// halves agree with the whole to a tolerance set by Target. Where a
+// piecewise operation (abs, min, max, if, a comparison, floor...) changes
+// piece on the path, the path is split there (found by bisection, to about
+// 1e-13 of its length), so the quadrature never straddles a kink; a jump
+// of the output at a step is reported in Breaks and left in Residual,
+// since no input's derivative sees it. The residual is always reported.
+//
+// References:
+//   - R. J. Aumann and L. S. Shapley, Values of Non-Atomic Games,
+//     Princeton University Press, 1974.
+//   - G. Owen, "Multilinear extensions of games", Management Science 18(5),
+//     1972, P64–P79.
+func Attribute(p *Problem, s *AttributeSettings) (*AttributeResult, error) {
+	if s == nil {
+		return nil, errors.New("attribute needs two points: the settings are nil")
+	}
+	k := len(p.Inputs)
+	a, b, err := attributeEnds(p, s)
+	if err != nil {
+		return nil, err
+	}
+	target := s.Target
+	if target <= 0 {
+		target = DefaultAttributeTarget
+	}
+	res := &AttributeResult{
+		Kind: "attribution", Output: p.Output, Unit: p.Unit,
+		From: scenarioName(s.From), To: scenarioName(s.To),
+		Inputs: []Contribution{}, Breaks: []PathBreak{}, Target: target,
+	}
+	var changed []int
+	for i := range k {
+		if a[i] != b[i] {
+			changed = append(changed, i)
+		}
+	}
+	if len(changed) == 0 {
+		return nil, fmt.Errorf("%s and %s set every input of %s alike: %w", res.From, res.To, p.Output, ErrNoChange)
+	}
+	res.Unchanged = k - len(changed)
+
+	w := &pathWalk{p: p, s: s, a: a, b: b, changed: changed, k: k, nodes: attributeNodes}
+	w.init()
+	if err := w.run(); err != nil {
+		return nil, err
+	}
+	res.ValueFrom, res.ValueTo = w.f0, w.f1
+	res.Change = w.f1 - w.f0
+	res.Breaks = append(res.Breaks, mergeBreaks(w.breaks)...)
+	for _, br := range res.Breaks {
+		if br.Kind == "step" {
+			res.Jumps += br.Jump
+		}
+	}
+	res.Quadrature = AttributeQuadrature{Rule: "Gauss-Legendre", Nodes: w.nodes, Panels: w.accepted, Gradients: w.grads, Converged: w.converged}
+
+	sum, largest := 0.0, 0.0
+	for j, i := range changed {
+		in := p.Inputs[i]
+		c := Contribution{Name: in.Name, Unit: in.Unit, From: a[i], To: b[i], Value: w.total[j]}
+		if res.Change != 0 {
+			pct := 100 * c.Value / res.Change
+			c.SharePct = &pct
+		}
+		sum += c.Value
+		largest = max(largest, math.Abs(c.Value))
+		res.Inputs = append(res.Inputs, c)
+	}
+	res.Residual = res.Change - sum
+	if den := max(math.Abs(res.Change), largest); den > 0 {
+		res.ResidualRel = math.Abs(res.Residual) / den
+	}
+	res.RoundingLevel = 8 * 0x1p-52 * max(math.Abs(w.f0), math.Abs(w.f1))
+	res.Met = res.ResidualRel <= target || math.Abs(res.Residual) <= res.RoundingLevel
+	slices.SortStableFunc(res.Inputs, func(x, y Contribution) int {
+		if c := cmp.Compare(math.Abs(y.Value), math.Abs(x.Value)); c != 0 {
+			return c
+		}
+		return cmp.Compare(x.Name, y.Name)
+	})
+	if s.Top > 0 && len(res.Inputs) > s.Top {
+		rest := &ContributionRest{Count: len(res.Inputs) - s.Top}
+		for _, c := range res.Inputs[s.Top:] {
+			rest.Value += c.Value
+		}
+		if res.Change != 0 {
+			pct := 100 * rest.Value / res.Change
+			rest.SharePct = &pct
+		}
+		res.Inputs, res.Rest = res.Inputs[:s.Top], rest
+	}
+	return res, nil
+}
+
+func scenarioName(sc *Scenario) string {
+	if sc == nil {
+		return BaseName
+	}
+	return sc.Name
+}
+
+// attributeEnds returns the two ends of the path.
+func attributeEnds(p *Problem, s *AttributeSettings) (a, b []float64, err error) {
+	end := func(pt []float64, sc *Scenario) ([]float64, error) {
+		if pt != nil {
+			if len(pt) != len(p.Inputs) {
+				return nil, fmt.Errorf("attribute: a point of %d values for %d inputs", len(pt), len(p.Inputs))
+			}
+			return pt, nil
+		}
+		x, err := p.scenarioValues(sc)
+		if x == nil && err == nil {
+			x = p.Baseline()
+		}
+		return x, err
+	}
+	if a, err = end(s.FromPoint, s.From); err != nil {
+		return nil, nil, err
+	}
+	if b, err = end(s.ToPoint, s.To); err != nil {
+		return nil, nil, err
+	}
+	for i := range a {
+		if !finiteF(a[i]) || !finiteF(b[i]) {
+			return nil, nil, fmt.Errorf("attribute: input %s is not finite at an end of the path", p.Inputs[i].Name)
+		}
+	}
+	return a, b, nil
+}
+
+func finiteF(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// The quadrature's constants.
+const (
+	// attributeNodes is the Gauss–Legendre rule of a panel: exact for
+	// polynomials of degree 15, so a multilinear model of up to 16 changed
+	// inputs is integrated exactly on one panel.
+	attributeNodes = 8
+	// attributeGrid is the number of equal panels on which the pieces of
+	// piecewise operations are first compared.
+	attributeGrid = 8
+	// attributeGap is the width of the interval a break is narrowed to.
+	attributeGap = 0x1p-44
+	// attributeMinPanel is the narrowest panel the refinement halves.
+	attributeMinPanel = 0x1p-30
+	// attributeBatch is the most gradients evaluated in one batch.
+	attributeBatch = 256
+)
+
+// piecewiseFn is a Function that can say which piece of each piecewise
+// operation it takes at a point (a compiled formula).
+type piecewiseFn interface {
+	pieces() []tape.Branch
+	pieceCodes(dst, x []float64) (float64, error)
+	piecePlace(b tape.Branch) string
+}
+
+func (fn *Fn) pieces() []tape.Branch { return fn.tape.Branches(fn.f.out) }
+
+func (fn *Fn) pieceCodes(dst, x []float64) (float64, error) {
+	y, err := fn.tape.BranchCodes(dst, x, fn.f.out)
+	if err != nil {
+		return math.NaN(), fn.prog.evalError(err, x)
+	}
+	return y * fn.scale, nil
+}
+
+// piecePlace names a piecewise operation: "file:line:col max in cost".
+func (fn *Fn) piecePlace(b tape.Branch) string {
+	name := b.Op.String()
+	if int(b.Pos) < 0 || int(b.Pos) >= len(fn.prog.pos) {
+		return name
+	}
+	pe := fn.prog.pos[b.Pos]
+	s := pe.file.Position(pe.pos).String() + " " + name
+	if pe.formula != "" {
+		s += " in " + pe.formula
+	}
+	if b.Elem >= 0 {
+		s += fmt.Sprintf(" (element %d)", b.Elem+1)
+	}
+	return s
+}
+
+func (s *subFn) pieces() []tape.Branch { return s.fn.pieces() }
+
+func (s *subFn) pieceCodes(dst, x []float64) (float64, error) {
+	s.scatter(s.full, x)
+	return s.fn.pieceCodes(dst, s.full)
+}
+
+func (s *subFn) piecePlace(b tape.Branch) string { return s.fn.piecePlace(b) }
+
+// pathWalk integrates the gradient along the path from a to b.
+type pathWalk struct {
+	p       *Problem
+	s       *AttributeSettings
+	a, b    []float64
+	changed []int
+	k       int
+	nodes   int
+
+	pw       piecewiseFn // nil when f cannot tell its pieces
+	branches []tape.Branch
+	gx, gw   []float64 // the rule's nodes and weights on [0, 1]
+
+	f0, f1    float64
+	total     []float64 // the accepted contributions, per changed input
+	breaks    []PathBreak
+	accepted  int
+	grads     int
+	converged bool
+	tol       float64 // a panel's tolerance per unit of width
+	codeBuf   []float64
+}
+
+// panel is an interval of the path with the pieces at its ends and, once
+// computed, the rule's estimate of each contribution over it.
+type panel struct {
+	t0, t1 float64
+	f0, f1 float64   // f at the ends
+	c0, c1 []float64 // piece codes at the ends (nil without pieces)
+	q      []float64 // estimate over the whole panel, or nil
+}
+
+func (w *pathWalk) init() {
+	w.gx, w.gw = make([]float64, w.nodes), make([]float64, w.nodes)
+	quad.Legendre{}.FixedLocations(w.gx, w.gw, 0, 1)
+	if pw, ok := w.p.F.(piecewiseFn); ok {
+		w.pw = pw
+		w.branches = pw.pieces()
+	}
+	w.total = make([]float64, len(w.changed))
+	w.converged = true
+}
+
+// point writes the point at fraction t of the path into x. Each end is
+// reproduced exactly: t is measured from the nearer one.
+func (w *pathWalk) point(x []float64, t float64) {
+	copy(x, w.a)
+	for _, i := range w.changed {
+		d := w.b[i] - w.a[i]
+		if t <= 0.5 {
+			x[i] = w.a[i] + t*d
+		} else {
+			x[i] = w.b[i] - (1-t)*d
+		}
+	}
+}
+
+// at evaluates f and the piece codes at t.
+func (w *pathWalk) at(t float64) (float64, []float64, error) {
+	x := make([]float64, w.k)
+	w.point(x, t)
+	if w.pw == nil || len(w.branches) == 0 {
+		y, err := w.p.F.Eval(x)
+		return y, nil, err
+	}
+	c := make([]float64, len(w.branches))
+	y, err := w.pw.pieceCodes(c, x)
+	return y, c, err
+}
+
+func (w *pathWalk) run() error {
+	// The pieces on a coarse grid, then every break narrowed down.
+	var err error
+	grid := make([]*panel, 0, attributeGrid)
+	var prevF float64
+	var prevC []float64
+	for j := 0; j <= attributeGrid; j++ {
+		t := float64(j) / attributeGrid
+		f, c, e := w.at(t)
+		if e != nil {
+			return w.pathError(e)
+		}
+		if j == 0 {
+			w.f0 = f
+		} else {
+			grid = append(grid, &panel{t0: float64(j-1) / attributeGrid, t1: t, f0: prevF, f1: f, c0: prevC, c1: c})
+		}
+		if j == attributeGrid {
+			w.f1 = f
+		}
+		prevF, prevC = f, c
+	}
+	var smooth []*panel
+	for _, pn := range grid {
+		if smooth, err = w.resolve(pn, smooth); err != nil {
+			return err
+		}
+	}
+	smooth = merge(smooth)
+	// A panel's tolerance per unit of width, from a first estimate of the
+	// scale of the contributions.
+	scale := math.Abs(w.f1 - w.f0)
+	if err := w.estimate(smooth); err != nil {
+		return err
+	}
+	for _, pn := range smooth {
+		for _, v := range pn.q {
+			scale = max(scale, math.Abs(v))
+		}
+	}
+	if scale == 0 {
+		scale = 1
+	}
+	target := w.s.Target
+	if target <= 0 {
+		target = DefaultAttributeTarget
+	}
+	w.tol = target / 20 * scale
+	return w.refine(smooth)
+}
+
+// resolve narrows down the breaks in pn, a panel whose ends may take
+// different pieces, and appends the panels between them to smooth.
+func (w *pathWalk) resolve(pn *panel, smooth []*panel) ([]*panel, error) {
+	if slices.Equal(pn.c0, pn.c1) {
+		return append(smooth, pn), nil
+	}
+	if pn.t1-pn.t0 <= attributeGap {
+		w.addBreak(pn)
+		return smooth, nil
+	}
+	m := (pn.t0 + pn.t1) / 2
+	f, c, err := w.at(m)
+	if err != nil {
+		return nil, w.pathError(err)
+	}
+	if err := w.s.ctx().Err(); err != nil {
+		return nil, fmt.Errorf("stopped: %w", err)
+	}
+	smooth, err = w.resolve(&panel{t0: pn.t0, t1: m, f0: pn.f0, f1: f, c0: pn.c0, c1: c}, smooth)
+	if err != nil {
+		return nil, err
+	}
+	return w.resolve(&panel{t0: m, t1: pn.t1, f0: f, f1: pn.f1, c0: c, c1: pn.c1}, smooth)
+}
+
+// addBreak records the break inside the narrow panel pn.
+func (w *pathWalk) addBreak(pn *panel) {
+	br := PathBreak{T: (pn.t0 + pn.t1) / 2, Kind: "kink", Jump: pn.f1 - pn.f0, At: []string{}}
+	// A step operation whose pieces meet (if(x > 5, x, 5)) only bends the
+	// output: it is a step of the path when the output jumps by more than
+	// its slope moves it across the gap, with a wide margin.
+	floor := 1e-11 * max(math.Abs(w.f1-w.f0), 8*0x1p-52*max(math.Abs(w.f0), math.Abs(w.f1)))
+	for j, b := range w.branches {
+		if pn.c0[j] == pn.c1[j] {
+			continue
+		}
+		if b.Step && math.Abs(br.Jump) > floor {
+			br.Kind = "step"
+		}
+		if br.Count < StepsShown {
+			br.At = append(br.At, w.pw.piecePlace(b))
+		}
+		br.Count++
+	}
+	if br.Kind == "kink" {
+		br.Jump = 0 // the output is continuous: what it moves across the gap is the slope's, not a jump
+	}
+	w.breaks = append(w.breaks, br)
+}
+
+// mergeBreaks sorts the breaks along the path and joins those that lie
+// within a few gaps of each other: one point where several operations
+// change piece, found in neighbouring gaps.
+func mergeBreaks(bs []PathBreak) []PathBreak {
+	slices.SortStableFunc(bs, func(x, y PathBreak) int { return cmp.Compare(x.T, y.T) })
+	var out []PathBreak
+	for _, br := range bs {
+		if n := len(out); n > 0 && br.T-out[n-1].T <= 4*attributeGap {
+			last := &out[n-1]
+			if br.Kind == "step" {
+				last.Kind = "step"
+			}
+			last.Jump += br.Jump
+			for _, at := range br.At {
+				if len(last.At) < StepsShown && !slices.Contains(last.At, at) {
+					last.At = append(last.At, at)
+				}
+			}
+			last.Count += br.Count
+			continue
+		}
+		out = append(out, br)
+	}
+	return out
+}
+
+// merge joins adjacent panels that take the same pieces (no break between
+// them), so a smooth stretch starts as one panel.
+func merge(ps []*panel) []*panel {
+	var out []*panel
+	for _, pn := range ps {
+		if n := len(out); n > 0 && out[n-1].t1 == pn.t0 && slices.Equal(out[n-1].c1, pn.c0) {
+			out[n-1].t1, out[n-1].f1, out[n-1].c1 = pn.t1, pn.f1, pn.c1
+			continue
+		}
+		out = append(out, pn)
+	}
+	return out
+}
+
+// estimate fills the rule's estimate of each panel that has none.
+func (w *pathWalk) estimate(ps []*panel) error {
+	var need []*panel
+	for _, pn := range ps {
+		if pn.q == nil {
+			need = append(need, pn)
+		}
+	}
+	qs, err := w.quadrature(need)
+	for i, pn := range need {
+		if err == nil {
+			pn.q = qs[i]
+		}
+	}
+	return err
+}
+
+// quadrature returns the rule's estimate of the contributions over each
+// panel, from gradients evaluated in batches.
+func (w *pathWalk) quadrature(ps []*panel) ([][]float64, error) {
+	n := w.nodes
+	out := make([][]float64, len(ps))
+	for i := range out {
+		out[i] = make([]float64, len(w.changed))
+	}
+	per := max(1, attributeBatch/n) // panels a batch
+	xs := make([]float64, per*n*w.k)
+	grads := make([]float64, per*n*w.k)
+	ys := make([]float64, per*n)
+	for lo := 0; lo < len(ps); lo += per {
+		if err := w.s.ctx().Err(); err != nil {
+			return nil, fmt.Errorf("stopped: %w", err)
+		}
+		hi := min(len(ps), lo+per)
+		m := (hi - lo) * n
+		for r, pn := range ps[lo:hi] {
+			for j := range n {
+				w.point(xs[(r*n+j)*w.k:(r*n+j+1)*w.k], pn.t0+w.gx[j]*(pn.t1-pn.t0))
+			}
+		}
+		if err := GradientBatch(w.p.F, ys, grads[:m*w.k], xs[:m*w.k], m); err != nil {
+			return nil, w.pathError(err)
+		}
+		w.grads += m
+		w.s.progress(w.grads, w.grads+len(ps[hi:])*n)
+		for r, pn := range ps[lo:hi] {
+			width := pn.t1 - pn.t0
+			q := out[lo+r]
+			for j := range n {
+				g := grads[(r*n+j)*w.k : (r*n+j+1)*w.k]
+				for c, i := range w.changed {
+					q[c] += w.gw[j] * g[i]
+				}
+			}
+			for c, i := range w.changed {
+				q[c] *= width * (w.b[i] - w.a[i])
+			}
+		}
+	}
+	return out, nil
+}
+
+// refine halves the panels until each panel's halves agree with the whole,
+// then adds up the accepted halves.
+func (w *pathWalk) refine(ps []*panel) error {
+	for len(ps) > 0 {
+		var halves []*panel
+		var parents []*panel
+		var next []*panel
+		for _, pn := range ps {
+			m := (pn.t0 + pn.t1) / 2
+			f, c, err := w.at(m)
+			if err != nil {
+				return w.pathError(err)
+			}
+			l := &panel{t0: pn.t0, t1: m, f0: pn.f0, f1: f, c0: pn.c0, c1: c}
+			r := &panel{t0: m, t1: pn.t1, f0: f, f1: pn.f1, c0: c, c1: pn.c1}
+			if !slices.Equal(c, pn.c0) {
+				// A piece changes and changes back inside the panel:
+				// narrow down both breaks and start again on the pieces.
+				var sm []*panel
+				if sm, err = w.resolve(l, sm); err == nil {
+					sm, err = w.resolve(r, sm)
+				}
+				if err != nil {
+					return err
+				}
+				next = append(next, merge(sm)...)
+				continue
+			}
+			parents = append(parents, pn)
+			halves = append(halves, l, r)
+		}
+		if err := w.estimate(append(halves, next...)); err != nil {
+			return err
+		}
+		for i, pn := range parents {
+			l, r := halves[2*i], halves[2*i+1]
+			ok := true
+			lim := w.tol * (pn.t1 - pn.t0)
+			for c := range w.changed {
+				if math.Abs(pn.q[c]-(l.q[c]+r.q[c])) > lim {
+					ok = false
+					break
+				}
+			}
+			if !ok && pn.t1-pn.t0 > attributeMinPanel {
+				next = append(next, l, r)
+				continue
+			}
+			if !ok {
+				w.converged = false
+			}
+			for c := range w.changed {
+				w.total[c] += l.q[c] + r.q[c]
+			}
+			w.accepted += 2
+		}
+		ps = next
+	}
+	return nil
+}
+
+// pathError says that an evaluation on the path failed.
+func (w *pathWalk) pathError(err error) error {
+	var ee *EvalError
+	if errors.As(err, &ee) {
+		c := *ee
+		c.Msg += " on the path from " + scenarioName(w.s.From) + " to " + scenarioName(w.s.To)
+		return &c
+	}
+	return err
+}
