@@ -26,6 +26,7 @@ var commandForms = []CommandForm{
 	{"breakeven", "breakeven OUT = T over X [a..b]", (*parser).parseBreakeven},
 	{"scenario", "scenario NAME: X = v, Y = w", (*parser).parseScenario},
 	{"compare", "compare OUT across base, NAME, ...", (*parser).parseCompare},
+	{"attribute", "attribute OUT from A to B", (*parser).parseAttribute},
 	{"exchange", "exchange CODE = RATE [CURRENCY]", (*parser).parseExchange},
 	{"basis", "basis [OUT]", (*parser).parseBasis},
 	{"simulate", "simulate OUT", (*parser).parseGlobal},
@@ -67,8 +68,8 @@ func IsVerb(name string) bool { return Command(name) != nil }
 // parseCommand parses a command and its options:
 //
 //	command = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | exchange | basis | global | spearman | print | reset | charts | help
-//	          | interactions ) options .
+//	          | attribute | exchange | basis | global | spearman | print | reset | charts
+//	          | help | interactions ) options .
 //	options = { name "=" arith } .
 func (p *parser) parseCommand() *CommandStmt {
 	c := &CommandStmt{Verb: p.lit, VerbPos: p.pos}
@@ -243,6 +244,25 @@ func (p *parser) parseCompare(c *CommandStmt) {
 		}
 		p.next()
 	}
+}
+
+// parseAttribute parses the change of an output from one scenario to
+// another ("base" the baseline), into c.Names (the two scenarios):
+//
+//	attribute = "attribute" arith "from" name "to" name .
+func (p *parser) parseAttribute(c *CommandStmt) {
+	p.parseOutput(c)
+	out := exprString(c.Output)
+	p.expectWord("from", "attribute "+out+" from base to NAME")
+	if p.tok != IDENT {
+		p.error(p.pos, "expected a scenario or base after 'from', found "+p.describe()+" (write: attribute "+out+" from base to NAME)")
+	}
+	from := p.parseIdent()
+	p.expectWord("to", "attribute "+out+" from "+from.Name+" to NAME")
+	if p.tok != IDENT {
+		p.error(p.pos, "expected a scenario or base after 'to', found "+p.describe()+" (write: attribute "+out+" from "+from.Name+" to NAME)")
+	}
+	c.Names = []*Ident{from, p.parseIdent()}
 }
 
 // parseExchange parses an exchange rate, the worth of one unit of a currency

@@ -40,8 +40,8 @@ import (
 // One parse function per verb carries its production (commands.go).
 //
 //	command   = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
-//	          | exchange | basis | global | spearman | print | reset | charts | help
-//	          | interactions ) options .
+//	          | attribute | exchange | basis | global | spearman | print | reset | charts
+//	          | help | interactions ) options .
 //	options   = { name "=" arith } .
 //	drivers   = "drivers" arith .
 //	tornado   = "tornado" arith .
@@ -51,6 +51,7 @@ import (
 //	breakeven = "breakeven" arith "=" arith "over" name [ arith ".." arith ] .
 //	scenario  = "scenario" name ":" name "=" arith { "," name "=" arith } .
 //	compare   = "compare" arith "across" name { "," name } .
+//	attribute = "attribute" arith "from" name "to" name .
 //	exchange  = "exchange" name "=" arith .
 //	basis     = "basis" [ arith ] .
 //	global    = ( "simulate" | "sobol" | "morris" | "screen" ) arith .
