@@ -196,7 +196,9 @@ var (
 	_ plot.DataRanger = (*WaterfallBars)(nil)
 )
 
-func (wb *WaterfallBars) parts() []Step { return append(append([]Step(nil), wb.Steps...), wb.Summed...) }
+func (wb *WaterfallBars) parts() []Step {
+	return append(append([]Step(nil), wb.Steps...), wb.Summed...)
+}
 
 // DataRange implements plot.DataRanger.
 func (wb *WaterfallBars) DataRange() (xmin, xmax, ymin, ymax float64) {
