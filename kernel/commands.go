@@ -60,7 +60,7 @@ func (c *Command) Usage() string {
 // registered.
 var commands = table(
 	driversCommand, tornadoCommand, spiderCommand, sweepCommand, breakevenCommand,
-	scenarioCommand, compareCommand, exchangeCommand, basisCommand, simulateCommand, sobolCommand,
+	scenarioCommand, compareCommand, attributeCommand, exchangeCommand, basisCommand, simulateCommand, sobolCommand,
 	morrisCommand, screenCommand, spearmanCommand, printCommand, resetCommand, chartsCommand,
 	helpCommand, interactionsCommand,
 )

@@ -78,7 +78,7 @@ func TestREADMEDocuments(t *testing.T) {
 	json = json[:strings.Index(json, "\n## ")]
 	s := &captureSink{}
 	src := "exchange EUR = 1.1 [$]\ninput a = 2 (1..3)\ninput b = 3 [EUR]\ny = a * b\ny\ndrivers y\ntornado y\nspider y\nsweep y over a 1..3\n" +
-		"breakeven y = 7 over a\nscenario s: a = 2.5\ncompare y across base, s\nbasis\nhelp\n"
+		"breakeven y = 7 over a\nscenario s: a = 2.5\ncompare y across base, s\nattribute y from base to s\nbasis\nhelp\n"
 	if err := New().Execute(context.Background(), "", src, s); err != nil {
 		t.Fatal(err)
 	}

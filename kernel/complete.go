@@ -35,9 +35,10 @@ func wordAt(code string, cursor int) (start, end int) {
 //   - after ~: distributions;
 //   - after a command's verb: the outputs (formulas), or for charts its
 //     modes; after sweep's or breakeven's output, over; after compare's,
-//     across;
+//     across; after attribute's, from, and after its first scenario, to;
 //   - after over, and a sweep's and: inputs; after across or a comma
-//     there: scenarios; after scenario NAME: or a comma there: inputs;
+//     there, and after attribute's from and to: scenarios; after scenario
+//     NAME: or a comma there: inputs;
 //   - after a whole command: its options (top=) that are not given yet;
 //   - elsewhere: names, functions and pi, and at the start of a line the
 //     command verbs and input.
@@ -158,6 +159,10 @@ func (h *Handler) commandCandidates(toks []lexeme, before string, names names) (
 		return names.inputs, true
 	case verb == "compare" && (word("across") || prev.tok == syntax.COMMA):
 		return append([]string{sens.BaseName}, names.scenarios...), true
+	case verb == "attribute" && (word("from") || word("to")) && len(toks) > 2:
+		return append([]string{sens.BaseName}, names.scenarios...), true
+	case verb == "attribute" && len(toks) == 4 && prev.tok == syntax.IDENT:
+		return []string{"to"}, true
 	case verb == "scenario" && (prev.tok == syntax.COLON || prev.tok == syntax.COMMA):
 		return names.inputs, true
 	case len(toks) == 2 && prev.tok == syntax.IDENT:
@@ -170,6 +175,8 @@ func (h *Handler) commandCandidates(toks []lexeme, before string, names names) (
 			return nil, true // breakeven OUT = T
 		case "compare":
 			return []string{"across"}, true
+		case "attribute":
+			return []string{"from"}, true
 		}
 	}
 	// After a whole command: its options not yet given (and a sweep's

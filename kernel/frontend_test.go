@@ -168,6 +168,8 @@ func kindOfVerb(v string) string {
 		return "simulation"
 	case "screen":
 		return "screening"
+	case "attribute":
+		return "attribution"
 	}
 	return v
 }

@@ -122,6 +122,11 @@ func TestCompleteByContext(t *testing.T) {
 		{"compare cost ", []string{"across"}},                           //
 		{"compare cost across ", []string{"base", "lean"}},              // scenarios
 		{"compare cost across base, ", []string{"base", "lean"}},        //
+		{"attribute cost ", []string{"from"}},                           //
+		{"attribute cost from ", []string{"base", "lean"}},              // scenarios at both ends
+		{"attribute cost from base ", []string{"to"}},                   //
+		{"attribute cost from base to l", []string{"lean"}},             //
+		{"attribute cost from base to lean ", []string{"top="}},         //
 		{"scenario high: ", []string{"hours", "rate"}},                  // inputs to set
 		{"scenario high: rate = 65, h", []string{"hours"}},              //
 		{"tornado cost ", []string{"top="}},                             // after the output: options

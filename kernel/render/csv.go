@@ -2,6 +2,7 @@ package render
 
 import (
 	"encoding/csv"
+	"fmt"
 	"io"
 	"strconv"
 
@@ -99,6 +100,21 @@ func (r *Result) Tables() []CSVTable {
 				pct = num(*s.DeltaPct)
 			}
 			rows = append(rows, []string{s.Name, num(s.Value), d.Unit, num(s.Delta), pct})
+		}
+		return []CSVTable{{Rows: rows}}
+	case *sens.AttributeResult:
+		rows := [][]string{{"input", "from", "to", "input_unit", "contribution", "share_pct", "output_unit"}}
+		pct := func(p *float64) string {
+			if p == nil {
+				return ""
+			}
+			return num(*p)
+		}
+		for _, c := range d.Inputs {
+			rows = append(rows, []string{c.Name, num(c.From), num(c.To), c.Unit, num(c.Value), pct(c.SharePct), d.Unit})
+		}
+		if d.Rest != nil {
+			rows = append(rows, []string{fmt.Sprintf("(%d others)", d.Rest.Count), "", "", "", num(d.Rest.Value), pct(d.Rest.SharePct), d.Unit})
 		}
 		return []CSVTable{{Rows: rows}}
 	case *sens.ScenarioResult:
