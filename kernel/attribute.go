@@ -12,7 +12,7 @@ import (
 
 var attributeCommand = &Command{
 	Verb:    "attribute",
-	Doc:     "splits the change of an output between two scenarios among the inputs, exactly (path integral of each partial derivative), with a waterfall",
+	Doc:     "the change of an output from scenario A to B (either may be base) split among the inputs so that the parts add up, with a waterfall",
 	Example: "attribute total from base to lean",
 	Options: []Option{topOption},
 	run:     runAttribute,

@@ -75,6 +75,7 @@ type PathBreak struct {
 type AttributeQuadrature struct {
 	Rule      string `json:"rule"`      // "Gauss-Legendre"
 	Nodes     int    `json:"nodes"`     // points per panel
+	Check     int    `json:"check"`     // points of the rule that estimates its error
 	Panels    int    `json:"panels"`    // panels of the path in the accepted sums
 	Gradients int    `json:"gradients"` // gradients evaluated, in batches
 	Converged bool   `json:"converged"` // every panel met its tolerance
@@ -176,7 +177,7 @@ func Attribute(p *Problem, s *AttributeSettings) (*AttributeResult, error) {
 	}
 	res.Unchanged = k - len(changed)
 
-	w := &pathWalk{p: p, s: s, a: a, b: b, changed: changed, k: k, nodes: attributeNodes}
+	w := &pathWalk{p: p, s: s, a: a, b: b, changed: changed, k: k}
 	w.init()
 	if err := w.run(); err != nil {
 		return nil, err
@@ -189,7 +190,7 @@ func Attribute(p *Problem, s *AttributeSettings) (*AttributeResult, error) {
 			res.Jumps += br.Jump
 		}
 	}
-	res.Quadrature = AttributeQuadrature{Rule: "Gauss-Legendre", Nodes: w.nodes, Panels: w.accepted, Gradients: w.grads, Converged: w.converged}
+	res.Quadrature = AttributeQuadrature{Rule: "Gauss-Legendre", Nodes: attributeNodes, Check: attributeCheck, Panels: w.accepted, Gradients: w.grads, Converged: w.converged}
 
 	sum, largest := 0.0, 0.0
 	for j, i := range changed {
@@ -238,7 +239,7 @@ func scenarioName(sc *Scenario) string {
 
 // attributeEnds returns the two ends of the path.
 func attributeEnds(p *Problem, s *AttributeSettings) (a, b []float64, err error) {
-	end := func(pt []float64, sc *Scenario) ([]float64, error) {
+	point := func(pt []float64, sc *Scenario) ([]float64, error) {
 		if pt != nil {
 			if len(pt) != len(p.Inputs) {
 				return nil, fmt.Errorf("attribute: a point of %d values for %d inputs", len(pt), len(p.Inputs))
@@ -251,10 +252,10 @@ func attributeEnds(p *Problem, s *AttributeSettings) (a, b []float64, err error)
 		}
 		return x, err
 	}
-	if a, err = end(s.FromPoint, s.From); err != nil {
+	if a, err = point(s.FromPoint, s.From); err != nil {
 		return nil, nil, err
 	}
-	if b, err = end(s.ToPoint, s.To); err != nil {
+	if b, err = point(s.ToPoint, s.To); err != nil {
 		return nil, nil, err
 	}
 	for i := range a {
@@ -270,9 +271,14 @@ func finiteF(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // The quadrature's constants.
 const (
 	// attributeNodes is the Gauss–Legendre rule of a panel: exact for
-	// polynomials of degree 15, so a multilinear model of up to 16 changed
-	// inputs is integrated exactly on one panel.
+	// polynomials of degree 15. The rule of attributeCheck nodes (exact to
+	// degree 7) beside it estimates its error: a multilinear model whose
+	// terms change at most 8 inputs each is accepted on one panel. A panel
+	// is first tried with the 3- and 2-point rules (exact to degrees 5 and
+	// 3), which settle the products of up to three changed inputs that
+	// cost models are mostly made of in 5 gradients, not 12.
 	attributeNodes = 8
+	attributeCheck = 4
 	// attributeGrid is the number of equal panels on which the pieces of
 	// piecewise operations are first compared.
 	attributeGrid = 8
@@ -280,22 +286,27 @@ const (
 	attributeGap = 0x1p-44
 	// attributeMinPanel is the narrowest panel the refinement halves.
 	attributeMinPanel = 0x1p-30
-	// attributeBatch is the most gradients evaluated in one batch.
-	attributeBatch = 256
+	// attributeBatch is the most gradients evaluated in one batch, and
+	// attributeBatchFloats the most values of their points and gradients.
+	attributeBatch       = 240
+	attributeBatchFloats = 1 << 21
+	// attributeTries is how many interpolated guesses the search for a
+	// break makes in a row before it bisects.
+	attributeTries = 4
 )
 
 // piecewiseFn is a Function that can say which piece of each piecewise
 // operation it takes at a point (a compiled formula).
 type piecewiseFn interface {
 	pieces() []tape.Branch
-	pieceCodes(dst, x []float64) (float64, error)
+	pieceCodes(codes, sw, x []float64, bs []tape.Branch) (float64, error)
 	piecePlace(b tape.Branch) string
 }
 
 func (fn *Fn) pieces() []tape.Branch { return fn.tape.Branches(fn.f.out) }
 
-func (fn *Fn) pieceCodes(dst, x []float64) (float64, error) {
-	y, err := fn.tape.BranchCodes(dst, x, fn.f.out)
+func (fn *Fn) pieceCodes(codes, sw, x []float64, bs []tape.Branch) (float64, error) {
+	y, err := fn.tape.BranchCodes(codes, sw, x, bs, fn.f.out)
 	if err != nil {
 		return math.NaN(), fn.prog.evalError(err, x)
 	}
@@ -321,9 +332,9 @@ func (fn *Fn) piecePlace(b tape.Branch) string {
 
 func (s *subFn) pieces() []tape.Branch { return s.fn.pieces() }
 
-func (s *subFn) pieceCodes(dst, x []float64) (float64, error) {
+func (s *subFn) pieceCodes(codes, sw, x []float64, bs []tape.Branch) (float64, error) {
 	s.scatter(s.full, x)
-	return s.fn.pieceCodes(dst, s.full)
+	return s.fn.pieceCodes(codes, sw, s.full, bs)
 }
 
 func (s *subFn) piecePlace(b tape.Branch) string { return s.fn.piecePlace(b) }
@@ -335,11 +346,10 @@ type pathWalk struct {
 	a, b    []float64
 	changed []int
 	k       int
-	nodes   int
 
 	pw       piecewiseFn // nil when f cannot tell its pieces
 	branches []tape.Branch
-	gx, gw   []float64 // the rule's nodes and weights on [0, 1]
+	rules    [2]rulePair // the first try and the rules after it
 
 	f0, f1    float64
 	total     []float64 // the accepted contributions, per changed input
@@ -348,27 +358,49 @@ type pathWalk struct {
 	grads     int
 	converged bool
 	tol       float64 // a panel's tolerance per unit of width
-	codeBuf   []float64
+	x         []float64
 }
 
-// panel is an interval of the path with the pieces at its ends and, once
-// computed, the rule's estimate of each contribution over it.
-type panel struct {
-	t0, t1 float64
-	f0, f1 float64   // f at the ends
-	c0, c1 []float64 // piece codes at the ends (nil without pieces)
-	q      []float64 // estimate over the whole panel, or nil
+// end is a point of the path: its place t, f there, and the piece codes
+// and switching values there (nil without pieces).
+type end struct {
+	t, f  float64
+	c, sw []float64
 }
+
+// rulePair is a Gauss–Legendre rule and a lower one that checks it: their
+// nodes and weights on [0, 1].
+type rulePair struct {
+	x, w []float64 // the rule's nodes, then the checking rule's
+	n    int       // the rule's own nodes: x[:n]
+}
+
+func newRulePair(n, check int) rulePair {
+	r := rulePair{x: make([]float64, n+check), w: make([]float64, n+check), n: n}
+	quad.Legendre{}.FixedLocations(r.x[:n], r.w[:n], 0, 1)
+	quad.Legendre{}.FixedLocations(r.x[n:], r.w[n:], 0, 1)
+	return r
+}
+
+// panel is an interval of the path and, once computed, the two rules'
+// estimates of each contribution over it.
+type panel struct {
+	lo, hi end
+	level  int       // the rule pair: 0 the first try, 1 the rules after it
+	q, e   []float64 // the rule's estimate and the checking rule's, or nil
+}
+
+func (pn *panel) width() float64 { return pn.hi.t - pn.lo.t }
 
 func (w *pathWalk) init() {
-	w.gx, w.gw = make([]float64, w.nodes), make([]float64, w.nodes)
-	quad.Legendre{}.FixedLocations(w.gx, w.gw, 0, 1)
+	w.rules = [2]rulePair{newRulePair(3, 2), newRulePair(attributeNodes, attributeCheck)}
 	if pw, ok := w.p.F.(piecewiseFn); ok {
 		w.pw = pw
 		w.branches = pw.pieces()
 	}
 	w.total = make([]float64, len(w.changed))
 	w.converged = true
+	w.x = make([]float64, w.k)
 }
 
 // point writes the point at fraction t of the path into x. Each end is
@@ -385,54 +417,61 @@ func (w *pathWalk) point(x []float64, t float64) {
 	}
 }
 
-// at evaluates f and the piece codes at t.
-func (w *pathWalk) at(t float64) (float64, []float64, error) {
-	x := make([]float64, w.k)
-	w.point(x, t)
-	if w.pw == nil || len(w.branches) == 0 {
-		y, err := w.p.F.Eval(x)
-		return y, nil, err
+// at evaluates f, the piece codes and the switching values at t.
+func (w *pathWalk) at(t float64) (end, error) {
+	if err := w.s.ctx().Err(); err != nil {
+		return end{}, fmt.Errorf("stopped: %w", err)
 	}
-	c := make([]float64, len(w.branches))
-	y, err := w.pw.pieceCodes(c, x)
-	return y, c, err
+	w.point(w.x, t)
+	if w.pw == nil || len(w.branches) == 0 {
+		y, err := w.p.F.Eval(w.x)
+		return end{t: t, f: y}, w.pathError(err)
+	}
+	e := end{t: t, c: make([]float64, len(w.branches)), sw: make([]float64, len(w.branches))}
+	var err error
+	e.f, err = w.pw.pieceCodes(e.c, e.sw, w.x, w.branches)
+	return e, w.pathError(err)
 }
 
 func (w *pathWalk) run() error {
-	// The pieces on a coarse grid, then every break narrowed down.
-	var err error
-	grid := make([]*panel, 0, attributeGrid)
-	var prevF float64
-	var prevC []float64
-	for j := 0; j <= attributeGrid; j++ {
-		t := float64(j) / attributeGrid
-		f, c, e := w.at(t)
-		if e != nil {
-			return w.pathError(e)
-		}
-		if j == 0 {
-			w.f0 = f
-		} else {
-			grid = append(grid, &panel{t0: float64(j-1) / attributeGrid, t1: t, f0: prevF, f1: f, c0: prevC, c1: c})
-		}
-		if j == attributeGrid {
-			w.f1 = f
-		}
-		prevF, prevC = f, c
+	// The pieces on a coarse grid (the ends alone when there are none),
+	// then every break narrowed down.
+	nGrid := attributeGrid
+	if len(w.branches) == 0 {
+		nGrid = 1
 	}
 	var smooth []*panel
-	for _, pn := range grid {
-		if smooth, err = w.resolve(pn, smooth); err != nil {
+	var prev end
+	for j := 0; j <= nGrid; j++ {
+		e, err := w.at(float64(j) / float64(nGrid))
+		if err != nil {
+			return err
+		}
+		switch j {
+		case 0:
+			w.f0 = e.f
+		case nGrid:
+			w.f1 = e.f
+		}
+		if j > 0 {
+			smooth = append(smooth, &panel{lo: prev, hi: e})
+		}
+		prev = e
+	}
+	var err error
+	var resolved []*panel
+	for _, pn := range smooth {
+		if resolved, err = w.resolve(pn, attributeTries, resolved); err != nil {
 			return err
 		}
 	}
-	smooth = merge(smooth)
-	// A panel's tolerance per unit of width, from a first estimate of the
-	// scale of the contributions.
-	scale := math.Abs(w.f1 - w.f0)
+	smooth = merge(resolved)
 	if err := w.estimate(smooth); err != nil {
 		return err
 	}
+	// A panel's tolerance per unit of width, from the scale of the change
+	// and of the first estimates of the contributions.
+	scale := math.Abs(w.f1 - w.f0)
 	for _, pn := range smooth {
 		for _, v := range pn.q {
 			scale = max(scale, math.Abs(v))
@@ -450,39 +489,68 @@ func (w *pathWalk) run() error {
 }
 
 // resolve narrows down the breaks in pn, a panel whose ends may take
-// different pieces, and appends the panels between them to smooth.
-func (w *pathWalk) resolve(pn *panel, smooth []*panel) ([]*panel, error) {
-	if slices.Equal(pn.c0, pn.c1) {
-		return append(smooth, pn), nil
+// different pieces, and appends the panels between them to out. Where an
+// operation that changes piece has a switching value at both ends of
+// opposite signs, it guesses the break by linear interpolation of that
+// value and tests the guess with two points a quarter gap either side of
+// it (tries such guesses in a row), else it bisects.
+func (w *pathWalk) resolve(pn *panel, tries int, out []*panel) ([]*panel, error) {
+	lo, hi := pn.lo, pn.hi
+	if slices.Equal(lo.c, hi.c) {
+		return append(out, pn), nil
 	}
-	if pn.t1-pn.t0 <= attributeGap {
+	width := hi.t - lo.t
+	if width <= attributeGap {
 		w.addBreak(pn)
-		return smooth, nil
+		return out, nil
 	}
-	m := (pn.t0 + pn.t1) / 2
-	f, c, err := w.at(m)
-	if err != nil {
-		return nil, w.pathError(err)
+	var cuts []float64
+	if tries > 0 {
+		for j := range lo.c {
+			s0, s1 := lo.sw[j], hi.sw[j]
+			if lo.c[j] == hi.c[j] || !(s0*s1 <= 0) || s0 == s1 {
+				continue
+			}
+			m := lo.t + width*s0/(s0-s1)
+			a, b := m-attributeGap/4, m+attributeGap/4
+			if a > lo.t && b < hi.t {
+				cuts = []float64{a, b}
+			}
+			break
+		}
 	}
-	if err := w.s.ctx().Err(); err != nil {
-		return nil, fmt.Errorf("stopped: %w", err)
+	if cuts == nil {
+		cuts, tries = []float64{lo.t + width/2}, 1
+	} else {
+		tries--
 	}
-	smooth, err = w.resolve(&panel{t0: pn.t0, t1: m, f0: pn.f0, f1: f, c0: pn.c0, c1: c}, smooth)
-	if err != nil {
-		return nil, err
+	ends := []end{lo}
+	for _, t := range cuts {
+		e, err := w.at(t)
+		if err != nil {
+			return nil, err
+		}
+		ends = append(ends, e)
 	}
-	return w.resolve(&panel{t0: m, t1: pn.t1, f0: f, f1: pn.f1, c0: c, c1: pn.c1}, smooth)
+	ends = append(ends, hi)
+	var err error
+	for i := 1; i < len(ends); i++ {
+		if out, err = w.resolve(&panel{lo: ends[i-1], hi: ends[i]}, tries, out); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
 }
 
 // addBreak records the break inside the narrow panel pn.
 func (w *pathWalk) addBreak(pn *panel) {
-	br := PathBreak{T: (pn.t0 + pn.t1) / 2, Kind: "kink", Jump: pn.f1 - pn.f0, At: []string{}}
+	br := PathBreak{T: (pn.lo.t + pn.hi.t) / 2, Kind: "kink", Jump: pn.hi.f - pn.lo.f, At: []string{}}
 	// A step operation whose pieces meet (if(x > 5, x, 5)) only bends the
 	// output: it is a step of the path when the output jumps by more than
 	// its slope moves it across the gap, with a wide margin.
 	floor := 1e-11 * max(math.Abs(w.f1-w.f0), 8*0x1p-52*max(math.Abs(w.f0), math.Abs(w.f1)))
 	for j, b := range w.branches {
-		if pn.c0[j] == pn.c1[j] {
+		if pn.lo.c[j] == pn.hi.c[j] {
 			continue
 		}
 		if b.Step && math.Abs(br.Jump) > floor {
@@ -530,8 +598,8 @@ func mergeBreaks(bs []PathBreak) []PathBreak {
 func merge(ps []*panel) []*panel {
 	var out []*panel
 	for _, pn := range ps {
-		if n := len(out); n > 0 && out[n-1].t1 == pn.t0 && slices.Equal(out[n-1].c1, pn.c0) {
-			out[n-1].t1, out[n-1].f1, out[n-1].c1 = pn.t1, pn.f1, pn.c1
+		if n := len(out); n > 0 && out[n-1].hi.t == pn.lo.t && slices.Equal(out[n-1].hi.c, pn.lo.c) {
+			out[n-1].hi = pn.hi
 			continue
 		}
 		out = append(out, pn)
@@ -539,7 +607,8 @@ func merge(ps []*panel) []*panel {
 	return out
 }
 
-// estimate fills the rule's estimate of each panel that has none.
+// estimate fills both rules' estimates of each panel that has none, from
+// gradients evaluated in batches.
 func (w *pathWalk) estimate(ps []*panel) error {
 	var need []*panel
 	for _, pn := range ps {
@@ -547,115 +616,113 @@ func (w *pathWalk) estimate(ps []*panel) error {
 			need = append(need, pn)
 		}
 	}
-	qs, err := w.quadrature(need)
-	for i, pn := range need {
-		if err == nil {
-			pn.q = qs[i]
-		}
-	}
-	return err
-}
-
-// quadrature returns the rule's estimate of the contributions over each
-// panel, from gradients evaluated in batches.
-func (w *pathWalk) quadrature(ps []*panel) ([][]float64, error) {
-	n := w.nodes
-	out := make([][]float64, len(ps))
-	for i := range out {
-		out[i] = make([]float64, len(w.changed))
-	}
-	per := max(1, attributeBatch/n) // panels a batch
-	xs := make([]float64, per*n*w.k)
-	grads := make([]float64, per*n*w.k)
-	ys := make([]float64, per*n)
-	for lo := 0; lo < len(ps); lo += per {
+	most := max(1, min(attributeBatch, attributeBatchFloats/(2*w.k))) // gradients a batch
+	var xs, grads, ys []float64 // as long as the largest batch needs
+	for lo := 0; lo < len(need); {
 		if err := w.s.ctx().Err(); err != nil {
-			return nil, fmt.Errorf("stopped: %w", err)
+			return fmt.Errorf("stopped: %w", err)
 		}
-		hi := min(len(ps), lo+per)
-		m := (hi - lo) * n
-		for r, pn := range ps[lo:hi] {
-			for j := range n {
-				w.point(xs[(r*n+j)*w.k:(r*n+j+1)*w.k], pn.t0+w.gx[j]*(pn.t1-pn.t0))
+		// As many panels as fit, and at least one.
+		hi, m := lo, 0
+		for hi < len(need) && (hi == lo || m+len(w.rules[need[hi].level].x) <= most) {
+			m += len(w.rules[need[hi].level].x)
+			hi++
+		}
+		if m*w.k > cap(xs) {
+			xs, grads, ys = make([]float64, 0, m*w.k), make([]float64, m*w.k), make([]float64, m)
+		}
+		xs = xs[:m*w.k]
+		row := 0
+		for _, pn := range need[lo:hi] {
+			for _, t := range w.rules[pn.level].x {
+				w.point(xs[row*w.k:(row+1)*w.k], pn.lo.t+t*pn.width())
+				row++
 			}
 		}
-		if err := GradientBatch(w.p.F, ys, grads[:m*w.k], xs[:m*w.k], m); err != nil {
-			return nil, w.pathError(err)
+		if err := GradientBatch(w.p.F, ys[:m], grads[:m*w.k], xs, m); err != nil {
+			return w.pathError(err)
 		}
 		w.grads += m
-		w.s.progress(w.grads, w.grads+len(ps[hi:])*n)
-		for r, pn := range ps[lo:hi] {
-			width := pn.t1 - pn.t0
-			q := out[lo+r]
-			for j := range n {
-				g := grads[(r*n+j)*w.k : (r*n+j+1)*w.k]
-				for c, i := range w.changed {
-					q[c] += w.gw[j] * g[i]
+		w.s.progress(w.grads, w.grads+(len(need)-hi)*len(w.rules[1].x))
+		row = 0
+		for _, pn := range need[lo:hi] {
+			r := w.rules[pn.level]
+			pn.q, pn.e = make([]float64, len(w.changed)), make([]float64, len(w.changed))
+			for j := range r.x {
+				dst := pn.q
+				if j >= r.n {
+					dst = pn.e
 				}
+				g := grads[row*w.k : (row+1)*w.k]
+				for c, i := range w.changed {
+					dst[c] += r.w[j] * g[i]
+				}
+				row++
 			}
 			for c, i := range w.changed {
-				q[c] *= width * (w.b[i] - w.a[i])
+				f := pn.width() * (w.b[i] - w.a[i])
+				pn.q[c] *= f
+				pn.e[c] *= f
 			}
 		}
+		lo = hi
 	}
-	return out, nil
+	return nil
 }
 
-// refine halves the panels until each panel's halves agree with the whole,
-// then adds up the accepted halves.
+// refine accepts each panel whose rules agree, input by input, within
+// its tolerance, and halves the others, then adds up the accepted
+// estimates.
 func (w *pathWalk) refine(ps []*panel) error {
 	for len(ps) > 0 {
-		var halves []*panel
-		var parents []*panel
 		var next []*panel
 		for _, pn := range ps {
-			m := (pn.t0 + pn.t1) / 2
-			f, c, err := w.at(m)
-			if err != nil {
-				return w.pathError(err)
-			}
-			l := &panel{t0: pn.t0, t1: m, f0: pn.f0, f1: f, c0: pn.c0, c1: c}
-			r := &panel{t0: m, t1: pn.t1, f0: f, f1: pn.f1, c0: c, c1: pn.c1}
-			if !slices.Equal(c, pn.c0) {
-				// A piece changes and changes back inside the panel:
-				// narrow down both breaks and start again on the pieces.
-				var sm []*panel
-				if sm, err = w.resolve(l, sm); err == nil {
-					sm, err = w.resolve(r, sm)
-				}
-				if err != nil {
-					return err
-				}
-				next = append(next, merge(sm)...)
-				continue
-			}
-			parents = append(parents, pn)
-			halves = append(halves, l, r)
-		}
-		if err := w.estimate(append(halves, next...)); err != nil {
-			return err
-		}
-		for i, pn := range parents {
-			l, r := halves[2*i], halves[2*i+1]
 			ok := true
-			lim := w.tol * (pn.t1 - pn.t0)
+			lim := w.tol * pn.width()
 			for c := range w.changed {
-				if math.Abs(pn.q[c]-(l.q[c]+r.q[c])) > lim {
+				if math.Abs(pn.q[c]-pn.e[c]) > lim {
 					ok = false
 					break
 				}
 			}
-			if !ok && pn.t1-pn.t0 > attributeMinPanel {
+			if !ok && pn.level == 0 {
+				// The first try's rules disagree: the higher ones.
+				pn.level, pn.q, pn.e = 1, nil, nil
+				next = append(next, pn)
+				continue
+			}
+			if ok || pn.width() <= attributeMinPanel {
+				if !ok {
+					w.converged = false
+				}
+				for c := range w.changed {
+					w.total[c] += pn.q[c]
+				}
+				w.accepted++
+				continue
+			}
+			mid, err := w.at(pn.lo.t + pn.width()/2)
+			if err != nil {
+				return err
+			}
+			l, r := &panel{lo: pn.lo, hi: mid, level: 1}, &panel{lo: mid, hi: pn.hi, level: 1}
+			if slices.Equal(mid.c, pn.lo.c) {
 				next = append(next, l, r)
 				continue
 			}
-			if !ok {
-				w.converged = false
+			// A piece changes and changes back inside the panel: narrow
+			// down both breaks and start again on the pieces.
+			var sm []*panel
+			if sm, err = w.resolve(l, attributeTries, sm); err == nil {
+				sm, err = w.resolve(r, attributeTries, sm)
 			}
-			for c := range w.changed {
-				w.total[c] += l.q[c] + r.q[c]
+			if err != nil {
+				return err
 			}
-			w.accepted += 2
+			next = append(next, merge(sm)...)
+		}
+		if err := w.estimate(next); err != nil {
+			return err
 		}
 		ps = next
 	}
