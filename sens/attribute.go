@@ -617,7 +617,7 @@ func (w *pathWalk) estimate(ps []*panel) error {
 		}
 	}
 	most := max(1, min(attributeBatch, attributeBatchFloats/(2*w.k))) // gradients a batch
-	var xs, grads, ys []float64 // as long as the largest batch needs
+	var xs, grads, ys []float64                                       // as long as the largest batch needs
 	for lo := 0; lo < len(need); {
 		if err := w.s.ctx().Err(); err != nil {
 			return fmt.Errorf("stopped: %w", err)
