@@ -74,7 +74,7 @@ type PathBreak struct {
 // AttributeQuadrature describes how the integrals were computed.
 type AttributeQuadrature struct {
 	Rule      string `json:"rule"`      // "Gauss-Legendre"
-	Nodes     int    `json:"nodes"`     // points per panel
+	Nodes     int    `json:"nodes"`     // points of the highest rule
 	Check     int    `json:"check"`     // points of the rule that estimates its error
 	Panels    int    `json:"panels"`    // panels of the path in the accepted sums
 	Gradients int    `json:"gradients"` // gradients evaluated, in batches
@@ -135,13 +135,15 @@ var ErrNoChange = errors.New("nothing changes")
 // game whose players switch their inputs from a to b (Owen 1972).
 //
 // The integrals are taken by Gauss–Legendre quadrature on batched reverse
-// sweeps (GradientBatch), refined by halving panels until each panel's
-// halves agree with the whole to a tolerance set by Target. Where a
-// piecewise operation (abs, min, max, if, a comparison, floor...) changes
-// piece on the path, the path is split there (found by bisection, to about
-// 1e-13 of its length), so the quadrature never straddles a kink; a jump
-// of the output at a step is reported in Breaks and left in Residual,
-// since no input's derivative sees it. The residual is always reported.
+// sweeps (GradientBatch): on each panel a rule and a lower one (3 and 2
+// points, then 8 and 4), accepted when they agree input by input to a
+// tolerance set by Target, else the panel is halved. Where a piecewise
+// operation (abs, min, max, if, a comparison, floor...) changes piece on
+// the path, the path is split there (found by interpolation and bisection,
+// to about 1e-13 of its length), so the quadrature never straddles a
+// kink; a jump of the output at a step is reported in Breaks and left in
+// Residual, since no input's derivative sees it. The residual is always
+// reported.
 //
 // References:
 //   - R. J. Aumann and L. S. Shapley, Values of Non-Atomic Games,

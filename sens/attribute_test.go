@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -474,5 +475,31 @@ func TestAttributeVectorMax(t *testing.T) {
 	// change (a check by hand of the piecewise-linear path).
 	if got := contribution(t, r, moved); !scalar.EqualWithinAbsOrRel(got, r.Change, 1e-9, 1e-9) {
 		t.Errorf("%s contributes %v of a change of %v", moved, got, r.Change)
+	}
+}
+
+// A function of plain Go (no pieces to compare) and a stopped context.
+func TestAttributeFuncAndStop(t *testing.T) {
+	// f = x² y: along x = 1 + t, y = 2 + 2t, ∂f/∂x·dx = 2xy = 4(1+t)², and
+	// ∂f/∂y·dy = 2x² = 2(1+t)²; integrated (closed form): c_x = 4·7/3 = 28/3,
+	// c_y = 2·7/3 = 14/3, adding up to f(2, 4) − f(1, 2) = 16 − 2 = 14.
+	f := FuncOf(2, func(x []float64) float64 { return x[0] * x[0] * x[1] },
+		func(dst, x []float64) { dst[0], dst[1] = 2*x[0]*x[1], x[0]*x[0] })
+	pr := &Problem{Output: "f", F: f, Inputs: []*Input{NewInput("x", 1, 0, 2, nil), NewInput("y", 2, 1, 3, nil)}}
+	r, err := Attribute(pr, &AttributeSettings{FromPoint: []float64{1, 2}, ToPoint: []float64{2, 4}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := contribution(t, r, "x"); !scalar.EqualWithinAbsOrRel(got, 28.0/3, 1e-12, 1e-12) {
+		t.Errorf("x: %v, want 28/3", got)
+	}
+	if got := contribution(t, r, "y"); !scalar.EqualWithinAbsOrRel(got, 14.0/3, 1e-12, 1e-12) {
+		t.Errorf("y: %v, want 14/3", got)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	_, err = Attribute(pr, &AttributeSettings{Settings: Settings{Ctx: ctx}, FromPoint: []float64{1, 2}, ToPoint: []float64{2, 4}})
+	if !errors.Is(err, context.Canceled) {
+		t.Errorf("stopped: %v", err)
 	}
 }

@@ -108,7 +108,7 @@ func residualNote(a *sens.AttributeResult, out unit.Column) string {
 	default:
 		s += "not met"
 	}
-	return s + fmt.Sprintf("; %d-point Gauss–Legendre on %s %s, %s gradients", a.Quadrature.Nodes, count(a.Quadrature.Panels),
+	return s + fmt.Sprintf("; Gauss–Legendre quadrature on %s %s of the path, %s gradients", count(a.Quadrature.Panels),
 		plural(a.Quadrature.Panels, "panel", "panels"), count(a.Quadrature.Gradients))
 }
 
