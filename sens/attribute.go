@@ -78,6 +78,7 @@ type AttributeQuadrature struct {
 	Check     int    `json:"check"`     // points of the rule that estimates its error
 	Panels    int    `json:"panels"`    // panels of the path in the accepted sums
 	Gradients int    `json:"gradients"` // gradients evaluated, in batches
+	Points    int    `json:"points"`    // values evaluated to compare pieces and find breaks
 	Converged bool   `json:"converged"` // every panel met its tolerance
 }
 
@@ -192,7 +193,7 @@ func Attribute(p *Problem, s *AttributeSettings) (*AttributeResult, error) {
 			res.Jumps += br.Jump
 		}
 	}
-	res.Quadrature = AttributeQuadrature{Rule: "Gauss-Legendre", Nodes: attributeNodes, Check: attributeCheck, Panels: w.accepted, Gradients: w.grads, Converged: w.converged}
+	res.Quadrature = AttributeQuadrature{Rule: "Gauss-Legendre", Nodes: attributeNodes, Check: attributeCheck, Panels: w.accepted, Gradients: w.grads, Points: w.points, Converged: w.converged}
 
 	sum, largest := 0.0, 0.0
 	for j, i := range changed {
@@ -294,7 +295,7 @@ const (
 	attributeBatchFloats = 1 << 21
 	// attributeTries is how many interpolated guesses the search for a
 	// break makes in a row before it bisects.
-	attributeTries = 4
+	attributeTries = 16
 )
 
 // piecewiseFn is a Function that can say which piece of each piecewise
@@ -358,6 +359,7 @@ type pathWalk struct {
 	breaks    []PathBreak
 	accepted  int
 	grads     int
+	points    int
 	converged bool
 	tol       float64 // a panel's tolerance per unit of width
 	x         []float64
@@ -425,6 +427,7 @@ func (w *pathWalk) at(t float64) (end, error) {
 		return end{}, fmt.Errorf("stopped: %w", err)
 	}
 	w.point(w.x, t)
+	w.points++
 	if w.pw == nil || len(w.branches) == 0 {
 		y, err := w.p.F.Eval(w.x)
 		return end{t: t, f: y}, w.pathError(err)
@@ -463,7 +466,7 @@ func (w *pathWalk) run() error {
 	var err error
 	var resolved []*panel
 	for _, pn := range smooth {
-		if resolved, err = w.resolve(pn, attributeTries, resolved); err != nil {
+		if resolved, err = w.resolve(pn, attributeTries, 1, 1, 0, resolved); err != nil {
 			return err
 		}
 	}
@@ -494,9 +497,15 @@ func (w *pathWalk) run() error {
 // different pieces, and appends the panels between them to out. Where an
 // operation that changes piece has a switching value at both ends of
 // opposite signs, it guesses the break by linear interpolation of that
-// value and tests the guess with two points a quarter gap either side of
-// it (tries such guesses in a row), else it bisects.
-func (w *pathWalk) resolve(pn *panel, tries int, out []*panel) ([]*panel, error) {
+// value (tries such guesses in a row), else it bisects.
+//
+// A guess leaves one end of the bracket in place, and guesses from an end
+// kept again and again would creep up on the break (regula falsi); as in
+// the Illinois method, the switching value of an end kept twice in a row
+// (kept says which end the last guess kept: -1 lo, 1 hi) is halved for
+// the next interpolation (wLo, wHi), so the guesses close in from both
+// sides.
+func (w *pathWalk) resolve(pn *panel, tries int, wLo, wHi float64, kept int, out []*panel) ([]*panel, error) {
 	lo, hi := pn.lo, pn.hi
 	if slices.Equal(lo.c, hi.c) {
 		return append(out, pn), nil
@@ -509,22 +518,34 @@ func (w *pathWalk) resolve(pn *panel, tries int, out []*panel) ([]*panel, error)
 	var cuts []float64
 	if tries > 0 {
 		for j := range lo.c {
-			s0, s1 := lo.sw[j], hi.sw[j]
+			s0, s1 := wLo*lo.sw[j], wHi*hi.sw[j]
 			if lo.c[j] == hi.c[j] || !(s0*s1 <= 0) || s0 == s1 {
 				continue
 			}
 			m := lo.t + width*s0/(s0-s1)
-			a, b := m-attributeGap/4, m+attributeGap/4
-			if a > lo.t && b < hi.t {
-				cuts = []float64{a, b}
-			}
+			// A quarter gap inside the ends at least, so the bracket
+			// shrinks.
+			cuts = []float64{min(max(m, lo.t+attributeGap/4), hi.t-attributeGap/4)}
 			break
 		}
 	}
+	// The weights of the ends of each part, and which end each keeps:
+	// an end kept twice in a row is halved (Illinois); bisection starts
+	// afresh.
+	wts := [][2]float64{{1, 1}, {1, 1}}
+	keeps := []int{0, 0}
 	if cuts == nil {
 		cuts, tries = []float64{lo.t + width/2}, 1
 	} else {
 		tries--
+		l, h := wLo, wHi
+		if kept == -1 {
+			l /= 2
+		}
+		if kept == 1 {
+			h /= 2
+		}
+		wts, keeps = [][2]float64{{l, 1}, {1, h}}, []int{-1, 1}
 	}
 	ends := []end{lo}
 	for _, t := range cuts {
@@ -537,7 +558,7 @@ func (w *pathWalk) resolve(pn *panel, tries int, out []*panel) ([]*panel, error)
 	ends = append(ends, hi)
 	var err error
 	for i := 1; i < len(ends); i++ {
-		if out, err = w.resolve(&panel{lo: ends[i-1], hi: ends[i]}, tries, out); err != nil {
+		if out, err = w.resolve(&panel{lo: ends[i-1], hi: ends[i]}, tries, wts[i-1][0], wts[i-1][1], keeps[i-1], out); err != nil {
 			return nil, err
 		}
 	}
@@ -715,8 +736,8 @@ func (w *pathWalk) refine(ps []*panel) error {
 			// A piece changes and changes back inside the panel: narrow
 			// down both breaks and start again on the pieces.
 			var sm []*panel
-			if sm, err = w.resolve(l, attributeTries, sm); err == nil {
-				sm, err = w.resolve(r, attributeTries, sm)
+			if sm, err = w.resolve(l, attributeTries, 1, 1, 0, sm); err == nil {
+				sm, err = w.resolve(r, attributeTries, 1, 1, 0, sm)
 			}
 			if err != nil {
 				return err

@@ -44,6 +44,7 @@ func benchmarkAttribute(b *testing.B, lines int) {
 	tapebench.Pair(b, 1, 1, "attribute", "gradient", attr, grad)
 	b.ReportMetric(float64(res.Quadrature.Gradients), "gradients")
 	b.ReportMetric(float64(len(res.Breaks)), "kinks")
+	b.ReportMetric(float64(res.Quadrature.Points), "points")
 	if !res.Met {
 		b.Errorf("residual %v not met", res.ResidualRel)
 	}
