@@ -329,7 +329,7 @@ func zeroPos(v reflect.Value) {
 func FuzzParse(f *testing.F) {
 	for _, s := range []string{designModel, "x = (1 +\n", "input a = 1 [kg] (±5%) ~ normal(1, 0.1)", "sweep a over b 1..2 and c 3..4 target=5",
 		"x = if(a<b and not c, 1, -2^2)", "scenario s: a = 1 [h], b = 2", "print \"a\\\"b\"", "\xff\xfe", "x = 1e400", "(((((", lineItemModel,
-		"input q[t] = t.a (t.b..t.c) ~ pert(t.b, t.a, t.c)\nx = where(q, t.k != \"a\")[k]", "q[x]y", "table t = \"\\"} {
+		"input q[t] = t.a (t.b..t.c) ~ pert(t.b, t.a, t.c)\nx = where(q, t.k != \"a\")[k]", "q[x]y", "table t = \"\\", "attribute total from base to lean top=3", "attribute t from"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, src string) {
