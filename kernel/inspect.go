@@ -3,6 +3,7 @@ package kernel
 import (
 	"fmt"
 	"html"
+	"math"
 	"strings"
 
 	"github.com/nudge-dev/nudge/kernel/jupyter"
@@ -73,7 +74,7 @@ func (h *Handler) describe(word string, detail int) string {
 					el := unit.Fixed("", 4)
 					var top []string
 					for i, x := range d.Inputs {
-						if i >= n || x.Elasticity == 0 {
+						if i >= n || x.Elasticity == 0 || math.IsNaN(x.Elasticity) { // NaN: undefined, the output is 0
 							break
 						}
 						top = append(top, fmt.Sprintf("%s (elasticity %s)", x.Name, el.Signed(x.Elasticity)))

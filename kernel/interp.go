@@ -9,6 +9,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
 	"runtime/debug"
 	"strings"
 
@@ -39,6 +40,11 @@ type Interp struct {
 	// file's (RunFile sets it) or the notebook's, where Jupyter starts the
 	// kernel ("" is the working directory).
 	Dir string
+	// DebugLog, when set, receives the Go stack of an internal error (a
+	// panic inside the engine, recovered); the user sees one line that says
+	// what failed. The Jupyter kernel logs to its stderr, the command line
+	// to the file NUDGE_DEBUG_LOG names.
+	DebugLog io.Writer
 
 	cells  int
 	warned *sens.Program // the last program whose compile warnings were shown
@@ -113,15 +119,19 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 	// A cell applies as a whole: when it fails, or the engine panics, the
 	// session is as it was before: the model and every setting (charts).
 	saved, savedOpts, savedWarned := in.Model.Clone(), in.Opts, in.warned
+	var f *syntax.File
+	var running syntax.Stmt // the statement being run, for an internal error
 	defer func() {
 		if r := recover(); r != nil {
-			err = &CellError{Errors: []*syntax.Error{{Msg: fmt.Sprintf("internal error: %v (please report this with the cell that caused it)\n%s", r, debug.Stack())}}}
+			err = in.internalError(r, f, running, debug.Stack())
 		}
 		if err != nil {
 			in.Model, in.Opts, in.warned = saved, savedOpts, savedWarned
 		}
 	}()
-	f, stmts, perr := syntax.Parse(name, []byte(src))
+	var stmts []syntax.Stmt
+	var perr error
+	f, stmts, perr = syntax.Parse(name, []byte(src))
 	if perr != nil {
 		return asCellError(perr)
 	}
@@ -132,6 +142,7 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		if ctx.Err() != nil {
 			return interrupted
 		}
+		running = s
 		if err := in.stmt(ctx, f, s, i == len(stmts)-1, sink); err != nil {
 			if ctx.Err() != nil {
 				return interrupted
@@ -147,6 +158,7 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 			pending = false
 		}
 	}
+	running = nil
 	if pending {
 		// A cell that ends with declarations is checked at once: names, cycles,
 		// units, ranges, and every formula at the baseline.
@@ -160,6 +172,32 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		in.compileWarnings(prog, sink)
 	}
 	return nil
+}
+
+// internalError turns a panic recovered while running statement s of file f
+// (nil: outside any statement) into a one-line error that says what failed,
+// placed at the statement; the stack goes to DebugLog only.
+func (in *Interp) internalError(r any, f *syntax.File, s syntax.Stmt, stack []byte) *CellError {
+	what := "the cell"
+	e := &syntax.Error{}
+	if f != nil && s != nil {
+		e.Pos = f.Position(s.Pos())
+		e.Source = f.Line(e.Pos.Line)
+		switch s := s.(type) {
+		case *syntax.CommandStmt:
+			what = "the command " + s.Verb
+		case *syntax.ExprStmt:
+			what = "the expression"
+		default:
+			what = "the declaration"
+		}
+	}
+	msg := strings.Join(strings.Fields(fmt.Sprint(r)), " ") // one line
+	e.Msg = fmt.Sprintf("internal error: %s failed (%s); this is a bug in nudge: please report it with the cell that caused it", what, msg)
+	if in.DebugLog != nil {
+		fmt.Fprintf(in.DebugLog, "nudge: %s: %s\n%s\n", e.Error(), r, stack)
+	}
+	return &CellError{Errors: []*syntax.Error{e}}
 }
 
 func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last bool, sink Sink) error {

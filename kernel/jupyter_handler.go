@@ -24,7 +24,9 @@ func Serve(connFile string, logw io.Writer) error {
 	if os.Getenv("JPY_PARENT_PID") != "" {
 		ctx = watchParent(ctx, logger, time.Second)
 	}
-	return jupyter.Run(ctx, connFile, NewHandler(New()), logger)
+	in := New()
+	in.DebugLog = logw
+	return jupyter.Run(ctx, connFile, NewHandler(in), logger)
 }
 
 // watchParent returns a context that ends when the process that started the

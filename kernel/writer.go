@@ -34,6 +34,10 @@ type WriterSink struct {
 	// before anything is written, so that such a bar is cleared first.
 	OnProgress func(id, label string, done, total int)
 	Pause      func()
+	// Failed is set once a result could not be written whole (its JSON
+	// does not encode: a number that is not finite); the command line then
+	// exits with a failure status.
+	Failed bool
 
 	charts int
 	last   byte // the last byte written to Out, 0 before any
@@ -102,8 +106,19 @@ func (s *WriterSink) Result(r *render.Result, _ bool) {
 	if s.CSVDir != "" {
 		s.writeCSV(r)
 	}
+	b, err := r.EncodeJSON()
+	if err != nil {
+		s.Failed = true
+		if !s.JSON {
+			where := ""
+			if r.Line > 0 {
+				where = fmt.Sprintf("%s:%d: ", r.File, r.Line)
+			}
+			s.errf("error: %sthe %s result holds a number that is not finite (%v)\n", where, r.Kind, err)
+		}
+	}
 	if s.JSON {
-		s.out(string(r.JSON()) + "\n")
+		s.out(string(b) + "\n")
 		return
 	}
 	s.out(r.Text() + "\n")

@@ -2,6 +2,7 @@ package sens
 
 import (
 	"fmt"
+	"math"
 
 	"github.com/nudge-dev/nudge/sens/tape"
 )
@@ -191,6 +192,9 @@ func (fn *Fn) cones(base []float64) (coneSet, error) {
 	if err != nil {
 		return nil, fn.prog.evalError(err, base)
 	}
+	if _, err := fn.scaled(c.Base(), base); err != nil {
+		return nil, err
+	}
 	return &fnCones{fn: fn, c: c, x0: base}, nil
 }
 
@@ -202,6 +206,9 @@ func (s *subFn) cones(base []float64) (coneSet, error) {
 	c, err := s.fn.tape.Cones(full, s.fn.f.out)
 	if err != nil {
 		return nil, s.fn.prog.evalError(err, full)
+	}
+	if _, err := s.fn.scaled(c.Base(), full); err != nil {
+		return nil, err
 	}
 	return &fnCones{fn: s.fn, c: c, x0: full, index: s.index}, nil
 }
@@ -231,7 +238,16 @@ func (fc *fnCones) eval(dst []float64, i int, vi []float64, j int, vj []float64)
 		return fc.fn.prog.evalError(err, x)
 	}
 	for s := range dst {
-		dst[s] *= fc.fn.scale
+		v := dst[s] * fc.fn.scale
+		if math.IsInf(v, 0) && !math.IsInf(dst[s], 0) {
+			x := append([]float64(nil), fc.x0...)
+			x[pi] = vi[s]
+			if pj >= 0 {
+				x[pj] = vj[s]
+			}
+			return fc.fn.overflow(x, "")
+		}
+		dst[s] = v
 	}
 	return nil
 }

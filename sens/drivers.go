@@ -2,6 +2,7 @@ package sens
 
 import (
 	"cmp"
+	"encoding/json"
 	"fmt"
 	"math"
 	"strings"
@@ -17,7 +18,9 @@ type DriverInput struct {
 	Unit        string  `json:"unit"`
 	Partial     float64 `json:"partial"`
 	PartialUnit string  `json:"partial_unit"`
-	Elasticity  float64 `json:"elasticity"`
+	// Elasticity is NaN where it is undefined (the output is 0 at the
+	// baseline), which JSON writes as null.
+	Elasticity float64 `json:"elasticity"`
 	// Share is this input's part of the sum of |elasticity| (0..1), for bars.
 	Share float64 `json:"share"`
 }
@@ -60,7 +63,10 @@ type DriversSettings struct {
 //
 // ranked by |e_i| descending, ties by name. An elasticity is the percentage
 // change of the output per percent change of the input; when y = 0 it is
-// undefined and reported as 0, and the ranking falls back to |∂y/∂x_i · x_i|.
+// undefined and reported as NaN (null in JSON, "n/a" in tables), and the
+// ranking falls back to |∂y/∂x_i · x_i|. The product and quotient are formed
+// without an intermediate overflow (mulDiv), so an input near 1e154 with an
+// output near 1e308 still gets its elasticity.
 func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 	if s == nil {
 		s = &DriversSettings{}
@@ -77,15 +83,31 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 	d := &DriversResult{Kind: "drivers", Output: p.Output, Value: y, Unit: p.Unit}
 	// Rank by index, then describe only the inputs kept: a model of
 	// 100,000 elements keeps 30.
-	var sum float64
-	for i, in := range p.Inputs {
-		sum += math.Abs(g[i] * in.Value)
+	// key ranks the inputs: |e_i|, or |∂y/∂x_i · x_i| where y = 0; its sum
+	// gives the shares (the shares of |∂y/∂x_i · x_i| are the same either
+	// way, and |e_i| overflows less).
+	div := math.Abs(y)
+	if y == 0 {
+		div = 1
 	}
 	key := make([]float64, len(p.Inputs))
+	var sum float64
 	for i, in := range p.Inputs {
-		if key[i] = math.Abs(g[i] * in.Value); y != 0 {
-			key[i] /= math.Abs(y)
+		key[i] = math.Abs(mulDiv(g[i], in.Value, div))
+		sum += key[i]
+	}
+	if math.IsInf(sum, 0) {
+		// Sum the keys scaled by the largest, then scale back: the shares
+		// come out of the ratios.
+		big := 0.0
+		for _, k := range key {
+			big = math.Max(big, k)
 		}
+		sum = 0
+		for _, k := range key {
+			sum += k / big
+		}
+		sum *= big
 	}
 	// Names are unique, so the order is total and need not be stable.
 	before := func(a, b int) int {
@@ -108,19 +130,52 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 			partialUnits[in.Unit] = pu
 		}
 		di := DriverInput{Name: in.Name, Value: in.Value, Unit: in.Unit, Partial: g[i], PartialUnit: pu}
+		di.Elasticity = math.NaN()
 		if y != 0 {
-			di.Elasticity = g[i] * in.Value / y
+			di.Elasticity = mulDiv(g[i], in.Value, y)
 		}
 		if sum > 0 {
-			di.Share = math.Abs(g[i]*in.Value) / sum
+			di.Share = key[i] / sum
 		}
 		d.Inputs = append(d.Inputs, di)
 	}
-	if err := d.subtotals(p, s, g, y, sum, kept); err != nil {
+	if err := d.subtotals(p, s, g, y, div, sum, kept); err != nil {
 		return nil, err
 	}
 	d.Steps, d.StepLines = p.StepSummary()
 	return d, nil
+}
+
+// MarshalJSON writes an undefined elasticity (NaN) as null.
+func (d DriverInput) MarshalJSON() ([]byte, error) {
+	v := struct {
+		Name        string   `json:"name"`
+		Value       float64  `json:"value"`
+		Unit        string   `json:"unit"`
+		Partial     float64  `json:"partial"`
+		PartialUnit string   `json:"partial_unit"`
+		Elasticity  *float64 `json:"elasticity"`
+		Share       float64  `json:"share"`
+	}{d.Name, d.Value, d.Unit, d.Partial, d.PartialUnit, nil, d.Share}
+	if !math.IsNaN(d.Elasticity) {
+		v.Elasticity = &d.Elasticity
+	}
+	return json.Marshal(v)
+}
+
+// mulDiv returns a·b/c without overflowing or underflowing in between: the
+// product is formed on the numbers' fractions and their binary exponents
+// added apart, so only a result beyond the float64 range is ±Inf or 0.
+func mulDiv(a, b, c float64) float64 {
+	if q := a * b; !math.IsInf(q, 0) && (q != 0 || a == 0 || b == 0) {
+		if r := q / c; !math.IsInf(r, 0) && (r != 0 || q == 0) {
+			return r
+		}
+	}
+	fa, ea := math.Frexp(a)
+	fb, eb := math.Frexp(b)
+	fc, ec := math.Frexp(c)
+	return math.Ldexp(fa*fb/fc, ea+eb-ec)
 }
 
 // PartialUnit returns the unit of ∂out/∂in, in the output's display unit per

@@ -91,9 +91,9 @@ func topInputs(n, top int, cmp func(a, b int) int) []int {
 }
 
 // subtotals fills the subtotals of a drivers result from the gradient g
-// at the baseline, where the output is y and sum is Σ |g_i x_i|; kept
+// at the baseline, where the output is y and sum is Σ |g_i x_i| / div; kept
 // lists the inputs Top keeps.
-func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y, sum float64, kept []int) error {
+func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y, div, sum float64, kept []int) error {
 	if len(kept) < len(p.Inputs) {
 		in := make([]bool, len(p.Inputs))
 		for _, i := range kept {
@@ -102,7 +102,7 @@ func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y
 		r := &DriverRest{Count: len(p.Inputs) - len(kept)}
 		for i, k := range in {
 			if !k && y != 0 {
-				e := g[i] * p.Inputs[i].Value / y
+				e := mulDiv(g[i], p.Inputs[i].Value, y)
 				r.Elasticity += e
 				r.MaxElasticity = math.Max(r.MaxElasticity, math.Abs(e))
 			}
@@ -123,7 +123,7 @@ func (d *DriversResult) subtotals(p *Problem, s *DriversSettings, g []float64, y
 			t.Elasticity += e / y
 		}
 		if sum > 0 {
-			t.Share += math.Abs(e) / sum
+			t.Share += math.Abs(mulDiv(g[i], p.Inputs[i].Value, div)) / sum
 		}
 	}
 	col := map[string]int{}

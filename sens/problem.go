@@ -186,7 +186,43 @@ func (fn *Fn) Eval(x []float64) (float64, error) {
 	if err != nil {
 		return math.NaN(), fn.prog.evalError(err, x)
 	}
-	return y * fn.scale, nil
+	return fn.scaled(y, x)
+}
+
+// scaled returns the tape's output y in the formula's display unit, or an
+// error where that overflows: the tape checks values in base units, and a
+// value finite there (1e303 kg) can be beyond the float64 range in the
+// display unit (1e309 mg).
+func (fn *Fn) scaled(y float64, x []float64) (float64, error) {
+	v := y * fn.scale
+	if math.IsInf(v, 0) && !math.IsInf(y, 0) {
+		return math.NaN(), fn.overflow(x, "")
+	}
+	return v, nil
+}
+
+// overflow is the error of a value, or of its partial derivative with
+// respect to input (when not ""), that overflows in the display unit, placed
+// at the formula, with the inputs that led there.
+func (fn *Fn) overflow(x []float64, input string) error {
+	f, p := fn.f, fn.prog
+	u := f.Unit
+	if u == "" {
+		u = "its unit"
+	}
+	what := "the value"
+	if input != "" {
+		what = "the partial derivative with respect to " + input
+		u += " per the unit of " + input
+	}
+	e := &EvalError{Pos: f.Pos, Formula: f.Name, Msg: what + " overflows when written in " + u + " (beyond about 1.8e+308)"}
+	if k := int(fn.tape.OutputPos(f.out)); k >= 0 && k < len(p.pos) && p.pos[k].file != nil {
+		e.Source = p.pos[k].file.Line(f.Pos.Line)
+	}
+	if x != nil && len(x) == len(p.Inputs) {
+		e.Inputs = p.inputsNamed(p.Deps(f), x)
+	}
+	return e
 }
 
 // Gradient writes the partial derivatives into dst and returns the value.
@@ -197,10 +233,14 @@ func (fn *Fn) Gradient(dst, x []float64) (float64, error) {
 	}
 	if fn.scale != 1 {
 		for i := range dst {
-			dst[i] *= fn.scale
+			g := dst[i] * fn.scale
+			if math.IsInf(g, 0) && !math.IsInf(dst[i], 0) {
+				return math.NaN(), fn.overflow(x, fn.prog.Inputs[i].Name)
+			}
+			dst[i] = g
 		}
 	}
-	return y * fn.scale, nil
+	return fn.scaled(y, x)
 }
 
 // EvalBatch evaluates n points.
@@ -213,8 +253,29 @@ func (fn *Fn) EvalBatch(dst, xs []float64, n int) error {
 		}
 		return fn.prog.evalError(err, x)
 	}
-	for i := range dst[:n] {
-		dst[i] *= fn.scale
+	if err := fn.scaleAll(dst[:n], xs); err != nil {
+		return err
+	}
+	return nil
+}
+
+// scaleAll scales the tape's outputs of a batch of rows xs (one per value,
+// every input of the program) to the display unit, or returns the overflow
+// error of the first value that overflows there.
+func (fn *Fn) scaleAll(dst, xs []float64) error {
+	if fn.scale == 1 {
+		return nil
+	}
+	for i, y := range dst {
+		v := y * fn.scale
+		if math.IsInf(v, 0) && !math.IsInf(y, 0) {
+			var x []float64
+			if k := len(fn.prog.Inputs); xs != nil && (i+1)*k <= len(xs) {
+				x = xs[i*k : (i+1)*k]
+			}
+			return fn.overflow(x, "")
+		}
+		dst[i] = v
 	}
 	return nil
 }

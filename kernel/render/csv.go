@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 
 	"github.com/nudge-dev/nudge/sens"
@@ -50,7 +51,7 @@ func (r *Result) Tables() []CSVTable {
 	case *sens.DriversResult:
 		rows := [][]string{{"input", "value", "unit", "partial", "partial_unit", "elasticity"}}
 		for _, in := range d.Inputs {
-			rows = append(rows, []string{in.Name, num(in.Value), in.Unit, num(in.Partial), in.PartialUnit, num(in.Elasticity)})
+			rows = append(rows, []string{in.Name, num(in.Value), in.Unit, num(in.Partial), in.PartialUnit, optNum(in.Elasticity)})
 		}
 		return []CSVTable{{Rows: rows}}
 	case *sens.TornadoResult:
@@ -183,6 +184,14 @@ func (r *Result) Tables() []CSVTable {
 
 // num writes a number for export: the shortest text that reads back to it.
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// optNum writes a number that may be undefined (NaN) as an empty cell.
+func optNum(v float64) string {
+	if math.IsNaN(v) {
+		return ""
+	}
+	return num(v)
+}
 
 // v0 names a vector's key column: its noun, else "key".
 func v0(noun string) string {

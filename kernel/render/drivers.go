@@ -19,11 +19,14 @@ func Drivers(d *sens.DriversResult, o *Options) *Result {
 	shown := d.Inputs[:min(len(d.Inputs), maxTableRows)]
 	el := unit.Fixed("", 4)
 	for _, x := range shown {
-		t.add(x.Name, unit.Format(x.Value, x.Unit), unit.Format(x.Partial, x.PartialUnit), el.Signed(x.Elasticity), bar(x.Share, bw))
+		t.add(x.Name, unit.Format(x.Value, x.Unit), unit.Format(x.Partial, x.PartialUnit), elasticityText(el, x.Elasticity), bar(x.Share, bw))
 	}
 	head := fmt.Sprintf("%s = %s at the baseline; inputs ranked by |elasticity| (%% change of %s per 1%% change of the input)",
 		d.Output, unit.Format(d.Value, d.Unit), d.Output)
 	r := &Result{Kind: "drivers", Data: d, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
+	if d.Value == 0 {
+		r.note(fmt.Sprintf("the elasticities are undefined (n/a): %s is 0 at the baseline, so a percentage change of it is not; the inputs are ranked by |∂%s/∂input × input| instead", d.Output, d.Output))
+	}
 	if rest := len(d.Inputs) - len(shown); rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %s (all of them are in the JSON; top=N keeps N)",
 			count(rest), el.Format(math.Abs(d.Inputs[len(shown)].Elasticity))))
@@ -34,3 +37,12 @@ func Drivers(d *sens.DriversResult, o *Options) *Result {
 
 // count writes a number of things: "4,997".
 func count(n int) string { return unit.Format(float64(n), "") }
+
+// elasticityText writes an elasticity, or "n/a" where it is undefined (NaN:
+// the output is 0).
+func elasticityText(el unit.Column, e float64) string {
+	if math.IsNaN(e) {
+		return "n/a"
+	}
+	return el.Signed(e)
+}

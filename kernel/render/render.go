@@ -126,13 +126,25 @@ func (r *Result) SVG() string { return string(r.svg) }
 // PNG returns the chart as a PNG image when Options.PNG asked for one.
 func (r *Result) PNG() []byte { return r.png }
 
-// JSON returns the result's JSON object on one line.
+// JSON returns the result's JSON object on one line, or an error object
+// where the result cannot be encoded (a number that is not finite).
 func (r *Result) JSON() []byte {
+	b, _ := r.EncodeJSON()
+	return b
+}
+
+// EncodeJSON is JSON with the encoding error, if any: a front that counts
+// failures (the command line's exit status) fails on it.
+func (r *Result) EncodeJSON() ([]byte, error) {
 	b, err := json.Marshal(r.Data)
 	if err != nil {
-		b, _ = json.Marshal(map[string]any{"kind": "error", "message": "cannot encode result: " + err.Error()})
+		obj := map[string]any{"kind": "error", "message": "cannot encode result: " + err.Error()}
+		if r.Line > 0 {
+			obj["line"] = r.Line
+		}
+		b, _ = json.Marshal(obj)
 	}
-	return b
+	return b, err
 }
 
 // message returns a result that is a line of text, such as a definition.

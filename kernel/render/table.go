@@ -122,7 +122,10 @@ func cellTag(tag string, right bool, s string) string {
 
 // bar draws a fraction 0..1 as Unicode block characters, eighths included.
 func bar(frac float64, width int) string {
-	frac = math.Max(0, math.Min(frac, 1))
+	if !(frac > 0) { // NaN too
+		return ""
+	}
+	frac = math.Min(frac, 1)
 	eighths := int(frac*float64(width)*8 + 0.5)
 	s := strings.Repeat("█", eighths/8)
 	if r := eighths % 8; r > 0 {

@@ -171,6 +171,16 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	in := kernel.New()
+	if name := os.Getenv("NUDGE_DEBUG_LOG"); name != "" {
+		// The stack of an internal error goes here, never to the user.
+		f, err := os.OpenFile(name, os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
+		if err != nil {
+			fmt.Fprintln(stderr, "nudge:", err)
+			return 2
+		}
+		defer f.Close()
+		in.DebugLog = f
+	}
 	in.Opts.NoCharts = *svgDir == ""
 	in.Opts.Width = textWidth(*width)
 	for _, dir := range []string{*svgDir, *csvDir} {
@@ -205,6 +215,9 @@ func execCmd(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		if err := kernel.RunFile(ctx, in, name, string(src), sink); err != nil {
 			return 1
 		}
+	}
+	if sink.Failed {
+		return 1
 	}
 	return 0
 }
