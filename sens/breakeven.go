@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 
 	"github.com/nudge-dev/nudge/sens/unit"
 )
@@ -39,6 +40,20 @@ type Jump struct {
 	// of the input.
 	Left  float64 `json:"output_left"`
 	Right float64 `json:"output_right"`
+	// Pole is set where the output runs off towards infinity on approaching
+	// Value (a division by a number that passes 0), rather than stepping
+	// between two values.
+	Pole bool `json:"pole,omitempty"`
+}
+
+// Unresolved is a part of the input's domain where the search failed (the
+// model could not be evaluated there) and a crossing may have been missed;
+// the crossings found elsewhere stand.
+type Unresolved struct {
+	Low  float64 `json:"low"`
+	High float64 `json:"high"`
+	// Reason says what failed, in a sentence.
+	Reason string `json:"reason"`
 }
 
 // BreakevenResult is the result of the break-even analysis.
@@ -61,6 +76,8 @@ type BreakevenResult struct {
 	InRange   *bool      `json:"in_range,omitempty"`
 	Crossings []Crossing `json:"crossings"`
 	Jumps     []Jump     `json:"jumps,omitempty"`
+	// Unresolved lists the brackets whose search failed.
+	Unresolved []Unresolved `json:"unresolved,omitempty"`
 	// SearchedLow..SearchedHigh is the part of the input's domain searched;
 	// a side that ended at a domain error says why in DomainNote.
 	SearchedLow  float64 `json:"searched_low"`
@@ -112,28 +129,48 @@ const SearchReach = 1e6
 // Breakeven finds every value of one input at which the output equals target,
 // the other inputs at their baselines. It scans the input's whole domain:
 // a uniform grid across the stated range, then geometric steps outward on
-// both sides (each 1.25 times the last) to SearchReach times the input's
-// scale, stopping a side at the first domain error, which bounds the domain
-// there. Each sign change of
+// both sides (each 1.25 times the last, at most maxOutward of them) to
+// SearchReach times the input's scale or the end of the float64 range. Every
+// point of the grid is evaluated; where the model fails at one point and not
+// at its neighbour, the gap between them is bisected towards the failure
+// (edge), so the domain's edges are found to the last representable value
+// and a crossing between the last point of the grid that succeeds and an
+// edge (ln(x) = -3 near 0, exp(x) = 1e300 below its overflow) is found too.
+// Each sign change of
 //
 //	g(x) = f(x) - target
 //
-// between grid points is a bracket, and where |g| dips between grid points
-// without a sign change the dip is searched for a hidden pair of crossings or
-// a touch. Each bracket is refined by Newton's method on the reverse-mode
-// derivative,
+// between neighbouring points is a bracket, and where |g| dips between
+// points without a sign change the dip is searched for a hidden pair of
+// crossings or a touch. Each bracket is refined by Newton's method on the
+// reverse-mode derivative,
 //
 //	x ← x - g(x) / g'(x)
 //
-// falling back to bisection whenever the Newton step leaves the bracket or
-// fails to halve it, so it converges wherever the bracket holds a crossing. A
-// bracket that closes on a jump instead of a zero is reported as a Jump.
+// falling back to bisection (geometric between numbers of one sign and
+// widely different sizes) whenever the Newton step leaves the bracket or
+// fails to halve it, until the bracket is a few units in the last place
+// wide. A crossing is reported only when it is verified: g is 0 there, or at
+// both ends of the final bracket g is within rounding of 0 or within eight
+// times what the slope there allows over the bracket's width, and the slope
+// has the sign of the change (a pole changes sign against its slope). A sign
+// change that fails this is a Jump: a pole where |g| grew as the bracket
+// closed, a step otherwise. A touch is reported only where g at the bottom of
+// the dip is within what the output varies over the final bracket, or within
+// rounding of 0. Where the model fails inside a bracket or a dip, the failure
+// is bisected towards from both sides and the new points searched again (at
+// most breakevenRounds times); what still fails is reported as Unresolved,
+// and the crossings found elsewhere stand.
+//
 // Crossings are reported with their distance from the baseline and whether
 // they lie in the stated range; when there is none, Message says what the
 // output reached instead.
 //
 // Two crossings closer together than the grid spacing, where |g| does not dip
 // at a grid point, can be missed; so can a crossing beyond the search reach.
+// The work is bounded: at most maxOutward grid steps a side, maxEdgeSteps
+// bisections an edge and maxEdgeTotal in all, maxRefine steps a bracket; the
+// context is checked before every evaluation outside a batch.
 //
 // References:
 //   - W. H. Press, S. A. Teukolsky, W. T. Vetterling and B. P. Flannery,
@@ -169,35 +206,46 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 		return nil, err
 	}
 	grid := breakevenGrid(in, s)
-	b := min(sort.SearchFloat64s(grid, x0), len(grid)-1) // grid[b] == x0 unless bounded away from it
 
 	res := &BreakevenResult{Kind: "breakeven", Method: breakevenMethod(s), Output: p.Output, Unit: p.Unit, Target: target,
 		Input: in.Name, InputUnit: in.Unit, BaselineInput: x0, BaselineOutput: y0,
 		Low: in.Low, High: in.High, Source: in.Source, Crossings: []Crossing{}, SlopeUnit: PartialUnit(p.Unit, in.Unit, in)}
-	bs := &bsearch{p: p, i: i, target: target, ev: newBatcher(p.F, p.Baseline(), set), set: set}
+	bs := &bsearch{p: p, i: i, in: in, target: target, ev: newBatcher(p.F, p.Baseline(), set), set: set,
+		grad: make([]float64, len(p.Inputs)), x: p.Baseline()}
 	bs.ev.total = len(grid) + 40
 	bs.ev.done++ // the baseline
-	xs, ys, note, err := bs.scan(grid, b)
-	if err != nil {
+	if err := bs.scan(grid); err != nil {
 		return nil, err
 	}
-	res.DomainNote = note
-	res.SearchedLow, res.SearchedHigh = xs[0], xs[len(xs)-1]
+	var valid []sample
+	for _, v := range bs.smp {
+		if v.err == nil {
+			valid = append(valid, v)
+		}
+	}
+	if len(valid) == 0 {
+		return nil, fmt.Errorf("the model fails at every value of %s searched, %s..%s: %s", in.Name, inp(grid[0]), inp(grid[len(grid)-1]), evalSentence(bs.smp[0].err))
+	}
+	res.DomainNote = bs.domainNote()
+	res.SearchedLow, res.SearchedHigh = valid[0].x, valid[len(valid)-1].x
 	// The least and greatest outputs, and the output closest to the target;
 	// of equal values, the one nearest the baseline.
-	closest, closestAt := ys[0], xs[0]
-	res.MinOutput, res.MinAt, res.MaxOutput, res.MaxAt = ys[0], xs[0], ys[0], xs[0]
+	closest, closestAt := valid[0].y, valid[0].x
+	res.MinOutput, res.MinAt, res.MaxOutput, res.MaxAt = valid[0].y, valid[0].x, valid[0].y, valid[0].x
 	nearer := func(x, than float64) bool { return math.Abs(x-x0) < math.Abs(than-x0) }
-	for j := range xs {
-		if ys[j] < res.MinOutput || ys[j] == res.MinOutput && nearer(xs[j], res.MinAt) {
-			res.MinOutput, res.MinAt = ys[j], xs[j]
+	seen := func(x, y float64) {
+		if y < res.MinOutput || y == res.MinOutput && nearer(x, res.MinAt) {
+			res.MinOutput, res.MinAt = y, x
 		}
-		if ys[j] > res.MaxOutput || ys[j] == res.MaxOutput && nearer(xs[j], res.MaxAt) {
-			res.MaxOutput, res.MaxAt = ys[j], xs[j]
+		if y > res.MaxOutput || y == res.MaxOutput && nearer(x, res.MaxAt) {
+			res.MaxOutput, res.MaxAt = y, x
 		}
-		if d, dc := math.Abs(ys[j]-target), math.Abs(closest-target); d < dc || d == dc && nearer(xs[j], closestAt) {
-			closest, closestAt = ys[j], xs[j]
+		if d, dc := math.Abs(y-target), math.Abs(closest-target); d < dc || d == dc && nearer(x, closestAt) {
+			closest, closestAt = y, x
 		}
+	}
+	for _, v := range valid {
+		seen(v.x, v.y)
 	}
 	ytol := 1e-12 * math.Max(math.Abs(res.MinOutput), math.Abs(res.MaxOutput))
 	res.Flat = res.MaxOutput-res.MinOutput <= ytol
@@ -205,7 +253,7 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 		if res.MaxOutput == target {
 			res.Message = fmt.Sprintf("%s does not change with %s: it equals the target %s at every value searched", p.Output, in.Name, out(target))
 		} else {
-			res.Message = fmt.Sprintf("%s does not change with %s over %s..%s: it stays at %s, so it never reaches %s", p.Output, in.Name, inp(xs[0]), inp(xs[len(xs)-1]), out(res.MaxOutput), out(target))
+			res.Message = fmt.Sprintf("%s does not change with %s over %s..%s: it stays at %s, so it never reaches %s", p.Output, in.Name, inp(res.SearchedLow), inp(res.SearchedHigh), out(res.MaxOutput), out(target))
 		}
 		res.Evaluations = bs.ev.done
 		if err := bs.curve(res); err != nil {
@@ -215,84 +263,103 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 		return res, nil
 	}
 
-	// Brackets: sign changes between grid points, zeros at grid points, and
-	// dips of |g| searched for hidden crossings.
-	type bracket struct{ a, b, ga, gb float64 }
-	var brs []bracket
 	var zeros []Crossing
-	g := make([]float64, len(ys))
-	for j := range ys {
-		g[j] = ys[j] - target
-	}
-	var dips []*extreme
-	for j := range xs {
-		if g[j] == 0 {
-			zeros = append(zeros, Crossing{Value: xs[j]})
-			continue
-		}
-		if j+1 < len(xs) && g[j+1] != 0 && (g[j] < 0) != (g[j+1] < 0) {
-			brs = append(brs, bracket{xs[j], xs[j+1], g[j], g[j+1]})
-		}
-		if j > 0 && j+1 < len(xs) && g[j-1] != 0 && g[j+1] != 0 &&
-			(g[j-1] < 0) == (g[j] < 0) && (g[j+1] < 0) == (g[j] < 0) &&
-			math.Abs(g[j]) < math.Abs(g[j-1]) && math.Abs(g[j]) < math.Abs(g[j+1]) {
-			sign := -1.0 // g > 0: look for a minimum of the output
-			if g[j] < 0 {
-				sign = 1
+	doneBr := map[[2]float64]bool{}
+	doneDip := map[float64]bool{}
+	for round := 0; round < breakevenRounds; round++ {
+		last := round == breakevenRounds-1
+		var fails []failure
+		fail := func(f failure) {
+			if last {
+				res.Unresolved = append(res.Unresolved, Unresolved{Low: f.a.x, High: f.b.x,
+					Reason: fmt.Sprintf("the model fails at %s = %s: %s", in.Name, inp(f.x), evalSentence(f.err))})
+				return
 			}
-			dips = append(dips, &extreme{input: i, sign: sign, a: xy{xs[j-1], ys[j-1]}, b: xy{xs[j], ys[j]}, c: xy{xs[j+1], ys[j+1]},
-				tol: 1e-9 * (xs[j+1] - xs[j-1])})
+			fails = append(fails, f)
 		}
-	}
-	if len(dips) > 0 {
-		outer := make([][2]xy, len(dips)) // the grid neighbours of each dip
-		for n, d := range dips {
-			outer[n] = [2]xy{d.a, d.c}
-		}
-		if err := refineExtremes(bs.ev, dips); err != nil {
-			return nil, err
-		}
-		for n, d := range dips {
-			if d.b.y < res.MinOutput {
-				res.MinOutput, res.MinAt = d.b.y, d.b.x
+		solve := func(a, b bpt) error {
+			r, err := bs.refine(a, b)
+			if err != nil {
+				return err
 			}
-			if d.b.y > res.MaxOutput {
-				res.MaxOutput, res.MaxAt = d.b.y, d.b.x
-			}
-			if math.Abs(d.b.y-target) < math.Abs(closest-target) {
-				closest, closestAt = d.b.y, d.b.x
-			}
-			gd := d.b.y - target
 			switch {
-			case math.Abs(gd) <= 1e-9*max(math.Abs(outer[n][0].y), math.Abs(outer[n][1].y), math.Abs(target)):
+			case r.fail != nil:
+				fail(*r.fail)
+			case r.jump != nil:
+				res.Jumps = append(res.Jumps, *r.jump)
+			case r.unresolved != nil:
+				res.Unresolved = append(res.Unresolved, *r.unresolved)
+			default:
+				res.Crossings = append(res.Crossings, r.crossing)
+				seen(r.crossing.Value, target)
+			}
+			return nil
+		}
+		brs, dips := bs.candidates(doneBr, doneDip, &zeros, &res.Jumps)
+		if len(brs)+len(dips) == 0 {
+			break
+		}
+		for _, d := range dips {
+			l, r := d.a, d.c // the neighbours of the dip
+			fx, ferr, err := bs.extreme(d)
+			if err != nil {
+				return nil, err
+			}
+			if ferr != nil {
+				fail(failure{a: l, b: r, x: fx, err: ferr})
+				continue
+			}
+			seen(d.b.x, d.b.y)
+			gd := d.b.y - target
+			vary := math.Abs(d.a.y-d.b.y) + math.Abs(d.c.y-d.b.y)
+			// A touch: the target is reached within rounding, or within
+			// what the output varies over the final bracket where that is
+			// small beside what it varies across the dip (near a pole it
+			// is not).
+			smooth := vary <= 1e-3*(math.Abs(l.y-d.b.y)+math.Abs(r.y-d.b.y))
+			switch {
+			case gd == 0 || math.Abs(gd) <= roundoff(d.b.y, target) || smooth && math.Abs(gd) <= 4*vary:
 				zeros = append(zeros, Crossing{Value: d.b.x, Touch: true})
 			case (gd < 0) == (d.sign < 0):
 				// The extreme lies across the target: a crossing on each
 				// side of it.
-				l, r := outer[n][0], outer[n][1]
-				brs = append(brs, bracket{l.x, d.b.x, l.y - target, gd}, bracket{d.b.x, r.x, gd, r.y - target})
+				m := bpt{x: d.b.x, y: d.b.y, g: gd, s: math.NaN()}
+				if err := solve(bpt{x: l.x, y: l.y, g: l.y - target, s: math.NaN()}, m); err != nil {
+					return nil, err
+				}
+				if err := solve(m, bpt{x: r.x, y: r.y, g: r.y - target, s: math.NaN()}); err != nil {
+					return nil, err
+				}
+			}
+		}
+		for _, br := range brs {
+			if err := solve(br[0], br[1]); err != nil {
+				return nil, err
+			}
+		}
+		if len(fails) == 0 {
+			break
+		}
+		// Search towards each failure from both sides; the next round looks
+		// at the points found.
+		for _, f := range fails {
+			if err := bs.around(f); err != nil {
+				return nil, err
+			}
+		}
+		res.DomainNote = bs.domainNote()
+		for _, v := range bs.smp {
+			if v.err == nil {
+				seen(v.x, v.y)
+				res.SearchedLow, res.SearchedHigh = math.Min(res.SearchedLow, v.x), math.Max(res.SearchedHigh, v.x)
 			}
 		}
 	}
-
-	for _, br := range brs {
-		c, jump, err := bs.refine(br.a, br.b, br.ga, br.gb)
-		if err != nil {
-			return nil, err
-		}
-		if jump != nil {
-			res.Jumps = append(res.Jumps, *jump)
-			continue
-		}
-		res.Crossings = append(res.Crossings, c)
-	}
 	for _, z := range zeros {
 		if !z.Touch {
-			grad := make([]float64, len(p.Inputs))
-			x := p.Baseline()
-			x[i] = z.Value
-			if _, err := p.F.Gradient(grad, x); err == nil {
-				z.Slope = grad[i]
+			bs.x[i] = z.Value
+			if _, err := p.F.Gradient(bs.grad, bs.x); err == nil {
+				z.Slope = bs.grad[i]
 			}
 			bs.ev.done++
 		}
@@ -300,6 +367,7 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 	}
 	sort.Slice(res.Crossings, func(a, b int) bool { return res.Crossings[a].Value < res.Crossings[b].Value })
 	sort.Slice(res.Jumps, func(a, b int) bool { return res.Jumps[a].Value < res.Jumps[b].Value })
+	sort.Slice(res.Unresolved, func(a, b int) bool { return res.Unresolved[a].Low < res.Unresolved[b].Low })
 	best := -1
 	for j := range res.Crossings {
 		c := &res.Crossings[j]
@@ -322,7 +390,14 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 			out(res.MinOutput), in.Name, inp(res.MinAt), out(res.MaxOutput), in.Name, inp(res.MaxAt),
 			out(closest), in.Name, inp(closestAt))
 		if len(res.Jumps) > 0 {
-			res.Message += fmt.Sprintf("; it jumps past the target at %s = %s", in.Name, inp(res.Jumps[0].Value))
+			how := "jumps past the target"
+			if res.Jumps[0].Pole {
+				how = "passes the target through a pole"
+			}
+			res.Message += fmt.Sprintf("; it %s at %s = %s", how, in.Name, inp(res.Jumps[0].Value))
+		}
+		if len(res.Unresolved) > 0 {
+			res.Message += fmt.Sprintf("; the search failed between %s = %s and %s, where a crossing may lie", in.Name, inp(res.Unresolved[0].Low), inp(res.Unresolved[0].High))
 		}
 	}
 	markDomain(res)
@@ -334,7 +409,26 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 	return res, nil
 }
 
-// breakevenGrid returns the sorted points to scan, the baseline among them.
+// Bounds on the work of a break-even search.
+const (
+	// maxOutward bounds the geometric steps of the grid on each side.
+	maxOutward = 200
+	// maxEdgeSteps bounds the bisections towards one failure: enough to
+	// reach the neighbouring float64 from any distance.
+	maxEdgeSteps = 2200
+	// maxEdgeTotal bounds the evaluations of every edge search together;
+	// past it, each edge gets edgeStepsLate bisections.
+	maxEdgeTotal  = 40000
+	edgeStepsLate = 60
+	// maxRefine bounds the steps of one bracket's refinement.
+	maxRefine = 2400
+	// breakevenRounds bounds the rounds of searching towards failures met
+	// inside brackets and dips.
+	breakevenRounds = 3
+)
+
+// breakevenGrid returns the sorted points to scan, the baseline among them:
+// finite numbers only, however large or small the input's values are.
 func breakevenGrid(in *Input, s *BreakevenSettings) []float64 {
 	x0 := in.Value
 	var g []float64
@@ -346,21 +440,46 @@ func breakevenGrid(in *Input, s *BreakevenSettings) []float64 {
 		return sortUnique(g)
 	}
 	lo, hi := math.Min(in.Low, x0), math.Max(in.High, x0)
-	scale := math.Max(math.Abs(x0), hi-lo)
+	w := hi - lo
+	scale := math.Max(math.Abs(x0), w)
+	if math.IsInf(w, 0) {
+		scale = math.Max(math.Abs(lo), math.Abs(hi))
+	}
 	if scale == 0 || math.IsNaN(scale) {
 		scale = 1
 	}
-	step := (hi - lo) / 40
-	if step <= 0 {
+	step := w / 40
+	if !(step > 0) || math.IsInf(step, 0) {
 		step = scale / 40
+	}
+	if step == 0 {
+		step = math.SmallestNonzeroFloat64
 	}
 	g = append(g, x0)
 	if hi > lo {
 		g = append(g, linspace(lo, hi, 41)...)
 	}
-	reach := SearchReach * scale
-	for d, st := step, step; d <= reach*1.25; st *= 1.25 {
-		g = append(g, hi+d, lo-d)
+	reach := SearchReach * scale // +Inf past the float64 range: the loop ends on its own
+	d, st := step, step
+	for k := 0; k < maxOutward && d <= reach*1.25; k++ {
+		u, l := hi+d, lo-d
+		if !math.IsInf(u, 0) {
+			g = append(g, u)
+		}
+		if !math.IsInf(l, 0) {
+			g = append(g, l)
+		}
+		if math.IsInf(u, 0) && math.IsInf(l, 0) {
+			break
+		}
+		if next := st * 1.25; next > st {
+			st = next
+		} else {
+			st = math.Nextafter(st, math.Inf(1)) // a subnormal step that 1.25 does not grow
+		}
+		if d+st == d {
+			break
+		}
 		d += st
 	}
 	return sortUnique(g)
@@ -377,147 +496,512 @@ func sortUnique(g []float64) []float64 {
 	return out
 }
 
+// sample is one point evaluated: the output y at x, or the error there.
+type sample struct {
+	x, y float64
+	err  error
+}
+
+// bpt is a point of a bracket: the output y, g = y - target, and the slope
+// ∂y/∂x (NaN when not known).
+type bpt struct{ x, y, g, s float64 }
+
+// failure is an evaluation that failed at x inside the bracket a..b.
+type failure struct {
+	a, b xy
+	x    float64
+	err  error
+}
+
 // bsearch holds the state of one break-even search.
 type bsearch struct {
 	p      *Problem
 	i      int
+	in     *Input
 	target float64
 	ev     *batcher
 	set    *Settings
 	grad   []float64
 	x      []float64
+	smp    []sample // every point evaluated by the scan and the edge searches, sorted
+	edgeN  int      // evaluations spent on edges
 }
 
-// scan evaluates the grid, batched. When a point fails (a domain error), each
-// side is walked outward from the baseline grid[b] point by point and stops
-// at its first failure, which bounds the domain there.
-func (bs *bsearch) scan(grid []float64, b int) (xs, ys []float64, note string, err error) {
+// value evaluates the output at x (the other inputs at baseline), checking
+// for cancellation first.
+func (bs *bsearch) value(x float64) (float64, error, error) {
+	if err := bs.set.ctx().Err(); err != nil {
+		return 0, nil, fmt.Errorf("stopped: %w", err)
+	}
+	bs.x[bs.i] = x
+	bs.ev.done++
+	y, err := bs.p.F.Eval(bs.x)
+	return y, err, nil
+}
+
+// point evaluates the output and its slope at x. A derivative that fails
+// (one that is not finite) leaves the value, with the slope unknown (NaN);
+// only a value that fails is an error (the second result). The third is
+// cancellation.
+func (bs *bsearch) point(x float64) (bpt, error, error) {
+	if err := bs.set.ctx().Err(); err != nil {
+		return bpt{}, nil, fmt.Errorf("stopped: %w", err)
+	}
+	bs.x[bs.i] = x
+	bs.ev.done++
+	y, err := bs.p.F.Gradient(bs.grad, bs.x)
+	s := bs.grad[bs.i]
+	if err != nil {
+		bs.ev.done++
+		if y, err = bs.p.F.Eval(bs.x); err != nil {
+			return bpt{x: x}, err, nil
+		}
+		s = math.NaN()
+	}
+	if math.IsInf(s, 0) {
+		s = math.NaN()
+	}
+	return bpt{x: x, y: y, g: y - bs.target, s: s}, nil, nil
+}
+
+// scan evaluates the grid, batched; when the batch fails, point by point,
+// keeping every failure. Between each point that succeeds and a neighbour
+// that fails, it searches towards the failure (edge).
+func (bs *bsearch) scan(grid []float64) error {
 	pts := make([]point, len(grid))
 	for j, v := range grid {
 		pts[j] = point{i: bs.i, vi: v, j: -1}
 	}
 	y := make([]float64, len(grid))
-	err = bs.ev.eval(y, pts)
+	err := bs.ev.eval(y, pts)
+	bs.smp = make([]sample, len(grid))
 	if err == nil {
-		return grid, y, "", nil
-	}
-	if bs.set.ctx().Err() != nil {
-		return nil, nil, "", err
-	}
-	in := bs.p.Inputs[bs.i]
-	x := bs.p.Baseline()
-	eval := func(j int) (float64, error) {
-		x[bs.i] = grid[j]
-		bs.ev.done++
-		return bs.p.F.Eval(x)
-	}
-	y0, err := eval(b)
-	if err != nil {
-		return nil, nil, "", err
-	}
-	lo, hi := b, b
-	y[b] = y0
-	var notes []string
-	for j := b + 1; j < len(grid); j++ {
-		if err := bs.set.ctx().Err(); err != nil {
-			return nil, nil, "", fmt.Errorf("stopped: %w", err)
-		}
-		v, err := eval(j)
-		if err != nil {
-			notes = append(notes, fmt.Sprintf("above %s = %s the model fails at %s (%v)", in.Name, unit.Format(grid[j-1], in.Unit), unit.Format(grid[j], in.Unit), err))
-			break
-		}
-		y[j], hi = v, j
-	}
-	for j := b - 1; j >= 0; j-- {
-		if err := bs.set.ctx().Err(); err != nil {
-			return nil, nil, "", fmt.Errorf("stopped: %w", err)
-		}
-		v, err := eval(j)
-		if err != nil {
-			notes = append(notes, fmt.Sprintf("below %s = %s the model fails at %s (%v)", in.Name, unit.Format(grid[j+1], in.Unit), unit.Format(grid[j], in.Unit), err))
-			break
-		}
-		y[j], lo = v, j
-	}
-	for j, n := range notes {
-		if j > 0 {
-			note += "; "
-		}
-		note += n
-	}
-	return grid[lo : hi+1], y[lo : hi+1], note, nil
-}
-
-// refine finds the crossing in [a, b] (a < b), where g = f - target has
-// opposite signs ga and gb at the ends, by Newton's method on the reverse-mode
-// derivative safeguarded by bisection (Numerical Recipes' rtsafe): a Newton
-// step that would leave the bracket, or that is not less than half the step
-// before last, is replaced by a bisection.
-func (bs *bsearch) refine(a, b, ga, gb float64) (Crossing, *Jump, error) {
-	if bs.grad == nil {
-		bs.grad = make([]float64, len(bs.p.Inputs))
-		bs.x = bs.p.Baseline()
-	}
-	ctx := bs.set.ctx()
-	gmax := math.Max(math.Abs(ga), math.Abs(gb))
-	best, gbest, slope := a, math.Inf(1), 0.0
-	var gx, dx float64
-	eval := func(x float64) error {
-		if err := ctx.Err(); err != nil {
-			return fmt.Errorf("stopped: %w", err)
-		}
-		bs.x[bs.i] = x
-		y, err := bs.p.F.Gradient(bs.grad, bs.x)
-		bs.ev.done++
-		if err != nil {
-			return err
-		}
-		gx, dx = y-bs.target, bs.grad[bs.i]
-		if math.Abs(gx) < gbest {
-			best, gbest, slope = x, math.Abs(gx), dx
-		}
-		if gx != 0 {
-			if (gx < 0) == (ga < 0) {
-				a, ga = x, gx
-			} else {
-				b, gb = x, gx
-			}
+		for j, v := range grid {
+			bs.smp[j] = sample{x: v, y: y[j]}
 		}
 		return nil
 	}
-	// Start from the secant point.
-	x := a - ga*(b-a)/(gb-ga)
-	if !(x > a && x < b) {
-		x = a + (b-a)/2
+	if e := bs.set.ctx().Err(); e != nil {
+		return err
 	}
-	if err := eval(x); err != nil {
-		return Crossing{}, nil, err
+	for j, v := range grid {
+		y, ferr, err := bs.value(v)
+		if err != nil {
+			return err
+		}
+		bs.smp[j] = sample{x: v, y: y, err: ferr}
 	}
-	dxold, step := b-a, b-a
-	for it := 0; it < 200 && gx != 0; it++ {
-		var next float64
-		if dx == 0 || ((x-b)*dx-gx)*((x-a)*dx-gx) > 0 || math.Abs(2*gx) > math.Abs(dxold*dx) {
-			dxold, step = step, (b-a)/2
-			next = a + step
-		} else {
-			dxold, step = step, gx/dx
-			next = x - step
+	grid0 := bs.smp
+	bs.smp = append([]sample(nil), grid0...)
+	for j := 0; j+1 < len(grid0); j++ {
+		a, b := grid0[j], grid0[j+1]
+		var err error
+		switch {
+		case a.err == nil && b.err != nil:
+			err = bs.edge(xy{a.x, a.y}, b.x, b.err)
+		case a.err != nil && b.err == nil:
+			err = bs.edge(xy{b.x, b.y}, a.x, a.err)
 		}
-		done := next == x || math.Abs(step) <= 4e-16*math.Abs(next)+1e-300
-		x = next
-		if err := eval(x); err != nil {
-			return Crossing{}, nil, err
+		if err != nil {
+			return err
 		}
-		if done || b-a <= 4e-16*math.Max(math.Abs(a), math.Abs(b)) {
+	}
+	bs.sortSamples()
+	return nil
+}
+
+func (bs *bsearch) sortSamples() {
+	sort.SliceStable(bs.smp, func(a, b int) bool { return bs.smp[a].x < bs.smp[b].x })
+	out := bs.smp[:0]
+	for j, v := range bs.smp {
+		if j > 0 && v.x == out[len(out)-1].x {
+			continue
+		}
+		out = append(out, v)
+	}
+	bs.smp = out
+}
+
+// edge bisects between v, where the model succeeds, and f, where it fails
+// with ferr, adding every point evaluated to the samples (unsorted), until
+// the two are neighbouring numbers or the step budget is spent.
+func (bs *bsearch) edge(v xy, f float64, ferr error) error {
+	steps := maxEdgeSteps
+	if bs.edgeN >= maxEdgeTotal {
+		steps = edgeStepsLate
+	}
+	for k := 0; k < steps; k++ {
+		m := midpoint(math.Min(v.x, f), math.Max(v.x, f))
+		if m == v.x || m == f {
 			break
 		}
+		y, merr, err := bs.value(m)
+		if err != nil {
+			return err
+		}
+		bs.edgeN++
+		bs.smp = append(bs.smp, sample{x: m, y: y, err: merr})
+		if merr != nil {
+			f, ferr = m, merr
+		} else {
+			v = xy{m, y}
+		}
 	}
-	// A bracket that closed on a jump leaves |g| large on both sides.
-	if gbest > 1e-6*gmax && gbest > 1e-9*math.Abs(bs.target) {
-		return Crossing{}, &Jump{Value: a + (b-a)/2, Left: ga + bs.target, Right: gb + bs.target}, nil
+	_ = ferr
+	return nil
+}
+
+// around searches towards a failure met inside a bracket or a dip from
+// both of its ends.
+func (bs *bsearch) around(f failure) error {
+	bs.smp = append(bs.smp, sample{x: f.x, err: f.err})
+	if err := bs.edge(f.a, f.x, f.err); err != nil {
+		return err
 	}
-	return Crossing{Value: best, Slope: slope}, nil, nil
+	if err := bs.edge(f.b, f.x, f.err); err != nil {
+		return err
+	}
+	bs.sortSamples()
+	return nil
+}
+
+// midpoint returns a point between a < b: the geometric mean where both
+// have one sign and differ more than fourfold (so a bracket from 1e-300 to
+// 1e300 closes in a few hundred steps, not thousands), else the arithmetic
+// mean, formed so that it cannot overflow.
+func midpoint(a, b float64) float64 {
+	switch {
+	case a > 0 && b > 4*a:
+		return math.Sqrt(a) * math.Sqrt(b)
+	case b < 0 && a < 4*b:
+		return -math.Sqrt(-a) * math.Sqrt(-b)
+	}
+	return a/2 + b/2
+}
+
+// roundoff is the difference of an output y from the target that counts as
+// rounding.
+func roundoff(y, target float64) float64 {
+	return 64 * 0x1p-52 * math.Max(math.Abs(y), math.Abs(target))
+}
+
+// candidates returns the brackets (sign changes of g between neighbouring
+// points that succeed) and dips of |g| not searched before, adds the points
+// where g is 0 to zeros, and the sign changes across a gap where the model
+// fails to jumps.
+func (bs *bsearch) candidates(doneBr map[[2]float64]bool, doneDip map[float64]bool, zeros *[]Crossing, jumps *[]Jump) (brs [][2]bpt, dips []*extreme) {
+	t := bs.target
+	var run []sample // consecutive points that succeed
+	flush := func() {
+		for j, v := range run {
+			g := v.y - t
+			if g == 0 {
+				if !doneDip[v.x] { // a zero is found once
+					doneDip[v.x] = true
+					*zeros = append(*zeros, Crossing{Value: v.x})
+				}
+				continue
+			}
+			if j+1 < len(run) {
+				w := run[j+1]
+				if gw := w.y - t; gw != 0 && (g < 0) != (gw < 0) && !doneBr[[2]float64{v.x, w.x}] {
+					doneBr[[2]float64{v.x, w.x}] = true
+					brs = append(brs, [2]bpt{{x: v.x, y: v.y, g: g, s: math.NaN()}, {x: w.x, y: w.y, g: gw, s: math.NaN()}})
+				}
+			}
+			if j > 0 && j+1 < len(run) && !doneDip[v.x] {
+				u, w := run[j-1], run[j+1]
+				gu, gw := u.y-t, w.y-t
+				if gu != 0 && gw != 0 && (gu < 0) == (g < 0) && (gw < 0) == (g < 0) && math.Abs(g) < math.Abs(gu) && math.Abs(g) < math.Abs(gw) {
+					doneDip[v.x] = true
+					sign := -1.0 // g > 0: look for a minimum of the output
+					if g < 0 {
+						sign = 1
+					}
+					dips = append(dips, &extreme{input: bs.i, sign: sign, a: xy{u.x, u.y}, b: xy{v.x, v.y}, c: xy{w.x, w.y},
+						tol: 1e-9 * (w.x - u.x)})
+				}
+			}
+		}
+		run = run[:0]
+	}
+	// Across a gap where the model fails, a sign change is a jump: a pole
+	// where |g| grows towards the gap.
+	prev := -1 // the last point that succeeds
+	gap := false
+	for k, v := range bs.smp {
+		if v.err != nil {
+			flush()
+			gap = true
+			continue
+		}
+		if gap && prev >= 0 {
+			u := bs.smp[prev]
+			gu, gv := u.y-t, v.y-t
+			key := [2]float64{u.x, v.x}
+			if gu != 0 && gv != 0 && (gu < 0) != (gv < 0) && !doneBr[key] {
+				doneBr[key] = true
+				c := midpoint(u.x, v.x)
+				*jumps = append(*jumps, Jump{Value: c, Left: u.y, Right: v.y, Pole: bs.grows(prev, -1, c) && bs.grows(k, 1, c)})
+			}
+		}
+		gap = false
+		prev = k
+		run = append(run, v)
+	}
+	flush()
+	return brs, dips
+}
+
+// grows reports whether |g| grows towards the gap at c next to sample k,
+// as towards a pole: at the first point that succeeds at least 16 times as
+// far from c (walking away from the gap, dir -1 to smaller x), |g| is less
+// than a quarter of |g| at k.
+func (bs *bsearch) grows(k, dir int, c float64) bool {
+	gk := math.Abs(bs.smp[k].y - bs.target)
+	dk := math.Abs(bs.smp[k].x - c)
+	for j := k + dir; j >= 0 && j < len(bs.smp) && bs.smp[j].err == nil; j += dir {
+		if math.Abs(bs.smp[j].x-c) >= 16*dk {
+			return 4*math.Abs(bs.smp[j].y-bs.target) < gk
+		}
+	}
+	return false
+}
+
+// extreme narrows the dip e point by point as refineExtremes does (halving
+// rounds, then the vertex of a parabola). A failing evaluation ends it with
+// the point and its error; the third result is cancellation.
+func (bs *bsearch) extreme(e *extreme) (float64, error, error) {
+	for r := 0; r < 60 && e.c.x-e.a.x > e.tol; r++ {
+		pm, qm := (e.a.x+e.b.x)/2, (e.b.x+e.c.x)/2
+		py, ferr, err := bs.value(pm)
+		if err != nil || ferr != nil {
+			return pm, ferr, err
+		}
+		qy, ferr, err := bs.value(qm)
+		if err != nil || ferr != nil {
+			return qm, ferr, err
+		}
+		p, q := xy{pm, py}, xy{qm, qy}
+		switch {
+		case e.better(p, e.b) && !e.better(q, p):
+			e.b, e.c = p, e.b
+		case e.better(q, e.b):
+			e.a, e.b = e.b, q
+		default:
+			e.a, e.c = p, q
+		}
+	}
+	if v, ok := parabolaVertex(e.a, e.b, e.c); ok && v > e.a.x && v < e.c.x && v != e.b.x {
+		y, ferr, err := bs.value(v)
+		if err != nil {
+			return 0, nil, err
+		}
+		if ferr == nil {
+			if p := (xy{v, y}); e.better(p, e.b) || p.y == e.b.y {
+				e.b = p
+			}
+		}
+	}
+	return 0, nil, nil
+}
+
+// refined is the outcome of refining one bracket: a verified crossing, a
+// jump, a failure inside the bracket, or a bracket that did not close.
+type refined struct {
+	crossing   Crossing
+	jump       *Jump
+	fail       *failure
+	unresolved *Unresolved
+}
+
+// tight reports whether a < b are close enough that no point between them
+// is worth evaluating.
+func tight(a, b float64) bool {
+	m := midpoint(a, b)
+	return m <= a || m >= b || b-a <= 4*0x1p-52*math.Max(math.Abs(a), math.Abs(b))
+}
+
+// refine finds the crossing in [a, b] (a.x < b.x), where g = f - target has
+// opposite signs at the ends, by Newton's method on the reverse-mode
+// derivative safeguarded by bisection (Numerical Recipes' rtsafe): a Newton
+// step that would leave the bracket, or that is not less than half the step
+// before last, is replaced by a bisection. A Newton step too small to move
+// is followed by a probe just past it towards the far end, so the bracket
+// closes around the root from both sides. Then it verifies the crossing (see
+// Breakeven). The error is cancellation only.
+func (bs *bsearch) refine(a, b bpt) (refined, error) {
+	a0, b0 := a, b
+	var c bpt
+	x := a.x - a.g*(b.x-a.x)/(b.g-a.g) // the secant point
+	if !(x > a.x && x < b.x) {
+		x = midpoint(a.x, b.x)
+	}
+	dxold, step := b.x-a.x, b.x-a.x
+	closed := false
+	for it := 0; it < maxRefine; it++ {
+		var ferr, err error
+		c, ferr, err = bs.point(x)
+		if err != nil {
+			return refined{}, err
+		}
+		if ferr != nil {
+			return refined{fail: &failure{a: xy{a0.x, a0.y}, b: xy{b0.x, b0.y}, x: x, err: ferr}}, nil
+		}
+		if c.g == 0 {
+			return refined{crossing: Crossing{Value: c.x, Slope: nanTo0(c.s)}}, nil
+		}
+		if (c.g < 0) == (a.g < 0) {
+			a = c
+		} else {
+			b = c
+		}
+		if tight(a.x, b.x) {
+			closed = true
+			break
+		}
+		next := math.NaN()
+		if c.s != 0 && !math.IsNaN(c.s) {
+			n := c.x - c.g/c.s
+			if n > a.x && n < b.x && math.Abs(2*c.g) <= math.Abs(dxold*c.s) {
+				next = n
+				dxold, step = step, c.g/c.s
+			}
+		}
+		if math.IsNaN(next) {
+			next = midpoint(a.x, b.x)
+			dxold, step = step, (b.x-a.x)/2
+		}
+		if next == c.x {
+			// Newton has converged from one side: probe just past it.
+			far := b.x
+			if c.x == b.x {
+				far = a.x
+			}
+			h := math.Max(4*math.Abs(step), 4*0x1p-52*math.Abs(c.x))
+			if h == 0 {
+				h = math.SmallestNonzeroFloat64
+			}
+			next = c.x + math.Copysign(h, far-c.x)
+			if !(next > a.x && next < b.x) {
+				next = midpoint(a.x, b.x)
+			}
+		}
+		x = next
+	}
+	if !closed {
+		best := a
+		if math.Abs(b.g) < math.Abs(a.g) {
+			best = b
+		}
+		if math.Abs(best.g) <= roundoff(best.y, bs.target) {
+			return refined{crossing: Crossing{Value: best.x, Slope: nanTo0(best.s)}}, nil
+		}
+		return refined{unresolved: &Unresolved{Low: a.x, High: b.x,
+			Reason: fmt.Sprintf("the search did not close on a crossing within %d steps", maxRefine)}}, nil
+	}
+	// The slopes at the final ends, where not yet known.
+	for _, e := range []*bpt{&a, &b} {
+		if math.IsNaN(e.s) {
+			p, ferr, err := bs.point(e.x)
+			if err != nil {
+				return refined{}, err
+			}
+			if ferr == nil {
+				e.s = p.s
+			}
+		}
+	}
+	w := b.x - a.x
+	dir := 1.0 // the sign of the change of g from a to b
+	if b.g < 0 {
+		dir = -1
+	}
+	ok := func(p bpt) bool {
+		noise := roundoff(p.y, bs.target)
+		if math.Abs(p.g) <= noise {
+			return true
+		}
+		return !math.IsNaN(p.s) && p.s*dir > 0 && math.Abs(p.g) <= 8*math.Abs(p.s)*w+noise
+	}
+	if ok(a) && ok(b) {
+		best := a
+		if math.Abs(b.g) < math.Abs(a.g) {
+			best = b
+		}
+		return refined{crossing: Crossing{Value: best.x, Slope: nanTo0(best.s)}}, nil
+	}
+	// A jump: a pole where |g| grew as the bracket closed.
+	pole := math.Min(math.Abs(a.g), math.Abs(b.g)) > 4*math.Max(math.Abs(a0.g), math.Abs(b0.g))
+	return refined{jump: &Jump{Value: midpoint(a.x, b.x), Left: a.y, Right: b.y, Pole: pole}}, nil
+}
+
+func nanTo0(v float64) float64 {
+	if math.IsNaN(v) {
+		return 0
+	}
+	return v
+}
+
+// domainNote describes, in sentences, where the model could not be
+// evaluated: below or above the part searched, or in gaps inside it, each
+// with the value where it failed and why.
+func (bs *bsearch) domainNote() string {
+	in := bs.in
+	inp := func(v float64) string { return unit.Format(v, in.Unit) }
+	var notes []string
+	gaps := 0
+	for j := 0; j < len(bs.smp); {
+		if bs.smp[j].err == nil {
+			j++
+			continue
+		}
+		k := j
+		for k < len(bs.smp) && bs.smp[k].err != nil {
+			k++
+		}
+		// smp[j:k] fail; smp[j-1] and smp[k] (where they exist) succeed.
+		switch {
+		case j == 0 && k == len(bs.smp):
+		case j == 0:
+			f := bs.smp[k-1]
+			notes = append(notes, fmt.Sprintf("below %s = %s the model cannot be evaluated (at %s = %s: %s)", in.Name, inp(bs.smp[k].x), in.Name, inp(f.x), evalSentence(f.err)))
+		case k == len(bs.smp):
+			f := bs.smp[j]
+			notes = append(notes, fmt.Sprintf("above %s = %s the model cannot be evaluated (at %s = %s: %s)", in.Name, inp(bs.smp[j-1].x), in.Name, inp(f.x), evalSentence(f.err)))
+		default:
+			gaps++
+			if gaps <= 3 {
+				f := bs.smp[j]
+				notes = append(notes, fmt.Sprintf("between %s = %s and %s the model cannot be evaluated (at %s = %s: %s)", in.Name, inp(bs.smp[j-1].x), inp(bs.smp[k].x), in.Name, inp(f.x), evalSentence(f.err)))
+			}
+		}
+		j = k
+	}
+	if gaps > 3 {
+		notes = append(notes, fmt.Sprintf("and in %d more gaps", gaps-3))
+	}
+	return strings.Join(notes, "; ")
+}
+
+// evalSentence writes an evaluation error as a clause: what failed, in which
+// formula, at which line and column.
+func evalSentence(err error) string {
+	var ee *EvalError
+	if errors.As(err, &ee) {
+		s := ee.Msg
+		if ee.Formula != "" {
+			s += " in " + ee.Formula
+		}
+		if ee.Pos.Line > 0 {
+			s += fmt.Sprintf(", line %d, column %d", ee.Pos.Line, ee.Pos.Column)
+		}
+		return s
+	}
+	if err == nil {
+		return "no value"
+	}
+	return err.Error()
 }
 
 // curve fills res.Curve: the output at curvePoints equally spaced values over

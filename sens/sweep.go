@@ -269,8 +269,15 @@ func checkRange(in *Input, lo, hi float64) error {
 // linspace returns n equally spaced values from lo to hi, both included.
 func linspace(lo, hi float64, n int) []float64 {
 	v := make([]float64, n)
+	w := hi - lo
 	for j := range v {
-		v[j] = lo + (hi-lo)*float64(j)/float64(n-1)
+		t := float64(j) / float64(n-1)
+		if math.IsInf(w, 0) {
+			// The width overflows (-1e308..1e308): weight the ends instead.
+			v[j] = lo*(1-t) + hi*t
+		} else {
+			v[j] = lo + w*float64(j)/float64(n-1)
+		}
 	}
 	v[n-1] = hi
 	return v

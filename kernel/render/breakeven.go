@@ -51,9 +51,17 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 	if b.Message != "" {
 		r.note(b.Message)
 	} else {
-		for _, j := range b.Jumps {
+		for n, j := range b.Jumps {
+			if n == maxJumpNotes {
+				r.note(fmt.Sprintf("… and %d more jumps past the target (all of them are in the JSON)", len(b.Jumps)-n))
+				break
+			}
 			r.note(jumpText(b, j))
 		}
+	}
+	for _, u := range b.Unresolved {
+		r.note(fmt.Sprintf("between %s = %s and %s the search failed, so a crossing there may be missing: %s", b.Input,
+			unit.Format(u.Low, b.InputUnit), unit.Format(u.High, b.InputUnit), u.Reason))
 	}
 	if b.DomainNote != "" {
 		r.note("searched " + unit.Format(b.SearchedLow, b.InputUnit) + ".." + unit.Format(b.SearchedHigh, b.InputUnit) + ": " + b.DomainNote)
@@ -100,20 +108,22 @@ func slopeText(col unit.Column, c sens.Crossing) string {
 	return col.Format(c.Slope)
 }
 
+// maxJumpNotes is how many jumps a break-even's notes describe (tan(x) has
+// a pole every π).
+const maxJumpNotes = 5
+
 // jumpText describes a jump past the target in the units of the output and
-// the input. Where the output runs off by more than a million times the
-// larger of the target and the baseline output on either side, the jump is a
-// pole (a division by a number that passes 0) and is said to be one, rather
-// than quoting numbers such as 2.1e+17 found next to it; a jump location
-// within a billionth of the input's scale of 0 is written as 0.
+// the input. Where the search found the output running off towards infinity
+// (Jump.Pole), the jump is said to be a pole, rather than quoting numbers
+// such as 2.1e+17 found next to it; a jump location within a billionth of
+// the input's scale of 0 is written as 0.
 func jumpText(b *sens.BreakevenResult, j sens.Jump) string {
-	scale := math.Max(math.Abs(b.Target), math.Abs(b.BaselineOutput))
 	x := j.Value
 	if in := math.Max(math.Abs(b.BaselineInput), b.High-b.Low); math.Abs(x) < 1e-9*in {
 		x = 0
 	}
 	at := fmt.Sprintf("%s = %s", b.Input, unit.Format(x, b.InputUnit))
-	if scale > 0 && (math.Abs(j.Left) > 1e6*scale || math.Abs(j.Right) > 1e6*scale) {
+	if j.Pole {
 		return fmt.Sprintf("%s passes the target at %s through a pole, without equalling it: it runs off towards %s on one side and %s on the other",
 			b.Output, at, infinity(j.Left), infinity(j.Right))
 	}
