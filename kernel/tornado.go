@@ -35,6 +35,11 @@ func runTornado(x *call) error {
 		warn(x.sink, "tornado %s: %s %s no range or distribution: the default ±%d%% of the value was used (marked *)",
 			t.Output, nameList(t.DefaultRanges, 8), verb, sens.DefaultRangePct)
 	}
+	if n := len(t.NoRange); n > 0 {
+		warn(x.sink, "tornado %s: %s %s 0 with no range or distribution, and ±%d%% of 0 is no range: %s no swing whatever %s effect; state a range, as in `input %s = 0 (-1..1)`",
+			t.Output, nameList(t.NoRange, 8), map[bool]string{true: "is", false: "are"}[n == 1], sens.DefaultRangePct,
+			map[bool]string{true: "it shows", false: "they show"}[n == 1], map[bool]string{true: "its", false: "their"}[n == 1], t.NoRange[0])
+	}
 	x.show(render.Tornado(t, &x.in.Opts))
 	return nil
 }

@@ -377,11 +377,51 @@ func TestHeatMapFlat(t *testing.T) {
 			row[i] = 5
 		}
 	}
-	parseSVG(t, renderSVGBytes(t, h))
+	doc := parseSVG(t, renderSVGBytes(t, h))
 	renderPNGImage(t, h, nil)
-	if !strings.Contains(h.Text(80), "not reached") {
-		t.Errorf("flat grid at the target should not claim a contour")
+	// A grid level at the target reaches it everywhere, without a contour
+	// line (issue 8, item 17: it used to say "not reached").
+	n := fmt.Sprint(len(h.X) * len(h.Y))
+	if text := h.Text(80); strings.Contains(text, "not reached") || !strings.Contains(text, "reached at "+n+" of "+n+" grid points") {
+		t.Errorf("flat grid at the target:\n%s", text)
 	}
+	if n := len(contourPaths(doc)); n != 0 || strings.Contains(doc.allText(), "not reached") || !strings.Contains(doc.allText(), "level at it") {
+		t.Errorf("flat grid: %d contour strokes; text %s", n, doc.allText())
+	}
+}
+
+// TestHeatMapNearFloatLimit: inputs and outputs near the end of the float64
+// range (issue 8, item 17) are drawn without a coordinate that overflows to
+// ±Inf or is NaN, with the axes labelled in the inputs' own values.
+func TestHeatMapNearFloatLimit(t *testing.T) {
+	xs := []float64{-1.7e308, -8.5e307, 0, 8.5e307, 1.7e308}
+	ys := []float64{1e300, 4.25e307, 8.5e307, 1.275e308, 1.7e308}
+	h := &HeatMap{Output: "z", XName: "a", YName: "b", X: xs, Y: ys, BaselineX: 0, BaselineY: 1e300}
+	target := 0.0
+	h.Target = &target
+	for _, y := range ys {
+		row := make([]float64, len(xs))
+		for c, x := range xs {
+			row[c] = x/2 + y/4 - 2e307 // from about -1e308 to 1.2e308
+		}
+		h.Z = append(h.Z, row)
+	}
+	svg := string(renderSVGBytes(t, h))
+	for _, bad := range []string{"Inf", "NaN"} {
+		if strings.Contains(svg, bad) {
+			t.Errorf("the SVG holds %s", bad)
+		}
+	}
+	doc := parseSVG(t, []byte(svg))
+	for _, want := range []string{"1e+308", "-1e+308"} {
+		if len(doc.find(want)) == 0 {
+			t.Errorf("no tick labelled %s: %s", want, doc.allText())
+		}
+	}
+	if n := len(contourPaths(doc)); n != 1 {
+		t.Errorf("%d contour strokes, want 1", n)
+	}
+	renderPNGImage(t, h, nil)
 }
 
 func TestQuantileAndBins(t *testing.T) {

@@ -152,6 +152,17 @@ func (h *HeatMap) targetInRange() bool {
 	return lo < *h.Target && *h.Target < hi
 }
 
+// targetReached reports whether the target lies between the grid's
+// smallest and largest output, ends included: an output level at the
+// target (a plateau) reaches it without a contour.
+func (h *HeatMap) targetReached() bool {
+	if h.Target == nil {
+		return false
+	}
+	lo, hi := gridXYZ{z: h.Z}.zRange()
+	return lo <= *h.Target && *h.Target <= hi
+}
+
 func (h *HeatMap) baselineInside() bool {
 	return h.X[0] <= h.BaselineX && h.BaselineX <= h.X[len(h.X)-1] &&
 		h.Y[0] <= h.BaselineY && h.BaselineY <= h.Y[len(h.Y)-1]
@@ -171,6 +182,9 @@ func (h *HeatMap) frame() *frame {
 		t := *h.Target
 		if h.targetInRange() {
 			f.legend = append(f.legend, legendEntry{label: "target " + unit.Format(t, u), thumb: contourThumb()})
+		} else if h.targetReached() {
+			f.notes = append(f.notes, fmt.Sprintf("The target %s is reached only where %s is level at it, so no contour line is drawn.",
+				unit.Format(t, u), orDefault(h.Output, "the output")))
 		} else {
 			lo, hi := gridXYZ{z: h.Z}.zRange()
 			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached on this grid: %s runs from %s to %s.",
@@ -204,12 +218,26 @@ const (
 
 func (h *HeatMap) draw(c draw.Canvas) {
 	body := h.frame().draw(c)
-	zlo, zhi := widen(gridXYZ{z: h.Z}.zRange())
+	// Inputs and outputs near the end of the float64 range (1e300 and up)
+	// are drawn divided by a power of ten and labelled with their own
+	// values: half a cell beyond the grid, or the width of an axis, would
+	// otherwise overflow to +Inf in the chart's coordinates.
+	sx, sy := drawScale(h.X), drawScale(h.Y)
+	var zall []float64
+	for _, row := range h.Z {
+		zall = append(zall, row...)
+	}
+	sz := drawScale(zall)
+	z := make([][]float64, len(h.Z))
+	for r, row := range h.Z {
+		z[r] = scaled(row, sz)
+	}
+	zlo, zhi := widen(gridXYZ{z: z}.zRange())
 	cmap := newRamp(zlo, zhi)
 
 	// The colour bar's column: the bar, its tick labels, and its title on
 	// top, which must not be cut.
-	ticks := niceTicks{N: 6}.Ticks(zlo, zhi)
+	ticks := niceTicks{N: 6, Format: scaledFormat(sz)}.Ticks(zlo, zhi)
 	tickSty := textStyle(sizeTick, colMuted, false, draw.XLeft, draw.YCenter)
 	var labelW vg.Length
 	for _, t := range ticks {
@@ -224,12 +252,14 @@ func (h *HeatMap) draw(c draw.Canvas) {
 	heatC.Max.Y -= styColorBarTitle.Height(barTitle) + 6
 
 	p := newPlot()
-	hg := NewHeatGrid(h.Grid(), cmap)
+	p.X.Tick.Marker = niceTicks{Format: scaledFormat(sx)}
+	p.Y.Tick.Marker = niceTicks{Format: scaledFormat(sy)}
+	hg := NewHeatGrid(gridXYZ{x: scaled(h.X, sx), y: scaled(h.Y, sy), z: z}, cmap)
 	if h.Target != nil {
-		hg.Target = *h.Target
+		hg.Target = *h.Target / sz
 	}
 	if h.baselineInside() {
-		hg.BaselineX, hg.BaselineY = h.BaselineX, h.BaselineY
+		hg.BaselineX, hg.BaselineY = h.BaselineX/sx, h.BaselineY/sy
 	}
 	p.Add(hg)
 	p.X.Padding, p.Y.Padding = 0, 0
@@ -246,6 +276,49 @@ func (h *HeatMap) draw(c draw.Canvas) {
 	}
 	drawColorBar(c, bar, cmap, ticks, tickSty, hg.Target)
 	c.FillText(styColorBarTitle, vg.Point{X: bar.Min.X, Y: bar.Max.Y + 6}, barTitle)
+}
+
+// drawScale returns the power of ten the values vs are divided by to be
+// drawn: 1 unless the largest |v| is 1e100 or more, else 10^k with
+// 10^k <= max |v| < 10^(k+1).
+func drawScale(vs []float64) float64 {
+	m := 0.0
+	for _, v := range vs {
+		if !math.IsInf(v, 0) {
+			m = math.Max(m, math.Abs(v))
+		}
+	}
+	if !(m >= 1e100) {
+		return 1
+	}
+	return math.Pow(10, math.Floor(math.Log10(m)))
+}
+
+// scaled returns vs divided by s (vs itself when s is 1).
+func scaled(vs []float64, s float64) []float64 {
+	if s == 1 {
+		return vs
+	}
+	out := make([]float64, len(vs))
+	for i, v := range vs {
+		out[i] = v / s
+	}
+	return out
+}
+
+// scaledFormat labels a tick at v drawn divided by s with its own value, v·s
+// (no label where that overflows); nil, the default format, when s is 1.
+func scaledFormat(s float64) func(float64) string {
+	if s == 1 {
+		return nil
+	}
+	return func(v float64) string {
+		w := v * s
+		if math.IsInf(w, 0) {
+			return ""
+		}
+		return unit.Format(w, "")
+	}
 }
 
 // fitText truncates s with an ellipsis until it is no wider than w.
@@ -307,6 +380,8 @@ func (h *HeatMap) caption() string {
 	if h.Target != nil {
 		if h.targetInRange() {
 			fmt.Fprintf(&b, "The black contour is where the output equals the target %s. ", unit.Format(*h.Target, u))
+		} else if h.targetReached() {
+			fmt.Fprintf(&b, "The output reaches the target %s only where it is level at it. ", unit.Format(*h.Target, u))
 		} else {
 			fmt.Fprintf(&b, "The target %s is not reached on this grid. ", unit.Format(*h.Target, u))
 		}
@@ -485,7 +560,7 @@ func (h *HeatMap) Text(width int) string {
 	}
 	if h.Target != nil {
 		t := *h.Target
-		if h.targetInRange() {
+		if h.targetReached() {
 			n, above := 0, 0
 			for _, row := range h.Z {
 				for _, z := range row {

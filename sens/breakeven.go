@@ -295,7 +295,7 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 			}
 			return nil
 		}
-		brs, dips := bs.candidates(doneBr, doneDip, &zeros, &res.Jumps)
+		brs, dips := bs.candidates(doneBr, doneDip, &zeros, &res.Jumps, &res.Unresolved)
 		if len(brs)+len(dips) == 0 {
 			break
 		}
@@ -688,8 +688,9 @@ func roundoff(y, target float64) float64 {
 // candidates returns the brackets (sign changes of g between neighbouring
 // points that succeed) and dips of |g| not searched before, adds the points
 // where g is 0 to zeros, and the sign changes across a gap where the model
-// fails to jumps.
-func (bs *bsearch) candidates(doneBr map[[2]float64]bool, doneDip map[float64]bool, zeros *[]Crossing, jumps *[]Jump) (brs [][2]bpt, dips []*extreme) {
+// fails to jumps where |g| grows towards the gap from both sides (a pole),
+// else to unres.
+func (bs *bsearch) candidates(doneBr map[[2]float64]bool, doneDip map[float64]bool, zeros *[]Crossing, jumps *[]Jump, unres *[]Unresolved) (brs [][2]bpt, dips []*extreme) {
 	t := bs.target
 	var run []sample // consecutive points that succeed
 	flush := func() {
@@ -742,7 +743,16 @@ func (bs *bsearch) candidates(doneBr map[[2]float64]bool, doneDip map[float64]bo
 			if gu != 0 && gv != 0 && (gu < 0) != (gv < 0) && !doneBr[key] {
 				doneBr[key] = true
 				c := midpoint(u.x, v.x)
-				*jumps = append(*jumps, Jump{Value: c, Left: u.y, Right: v.y, Pole: bs.grows(prev, -1, c) && bs.grows(k, 1, c)})
+				if bs.grows(prev, -1, c) && bs.grows(k, 1, c) {
+					*jumps = append(*jumps, Jump{Value: c, Left: u.y, Right: v.y, Pole: true})
+				} else {
+					// Not a pole: the output may cross the target where it
+					// cannot be evaluated.
+					f := bs.smp[prev+1]
+					*unres = append(*unres, Unresolved{Low: u.x, High: v.x,
+						Reason: fmt.Sprintf("the output changes sign across values where the model fails (at %s = %s: %s)",
+							bs.in.Name, unit.Format(f.x, bs.in.Unit), evalSentence(f.err))})
+				}
 			}
 		}
 		gap = false

@@ -70,6 +70,10 @@ type Sweep2DResult struct {
 	// of polylines, each closed when its first and last points coincide.
 	Target  *float64 `json:"target,omitempty"`
 	Contour [][]XY   `json:"contour,omitempty"`
+	// AtTarget counts the grid points where the output equals the target
+	// exactly: where it is level at the target (a plateau, such as a cap by
+	// min or max), no contour crosses, yet the target is reached.
+	AtTarget int `json:"at_target,omitempty"`
 }
 
 // Default numbers of points of sweeps.
@@ -226,6 +230,11 @@ func Sweep2D(p *Problem, s *Sweep2DSettings) (*Sweep2DResult, error) {
 		t := *s.Target
 		res.Target = &t
 		res.Contour = Contour(xs, ys, z, t)
+		for _, v := range z {
+			if v == t {
+				res.AtTarget++
+			}
+		}
 	}
 	return res, nil
 }
@@ -270,12 +279,16 @@ func checkRange(in *Input, lo, hi float64) error {
 func linspace(lo, hi float64, n int) []float64 {
 	v := make([]float64, n)
 	w := hi - lo
+	wide := math.IsInf(w*float64(n-1), 0) // w·j would overflow (1e300..1.7e308)
 	for j := range v {
 		t := float64(j) / float64(n-1)
-		if math.IsInf(w, 0) {
-			// The width overflows (-1e308..1e308): weight the ends instead.
+		switch {
+		case math.IsInf(w, 0):
+			// The width itself overflows (-1e308..1e308): weight the ends.
 			v[j] = lo*(1-t) + hi*t
-		} else {
+		case wide:
+			v[j] = lo + w*t
+		default:
 			v[j] = lo + w*float64(j)/float64(n-1)
 		}
 	}
@@ -427,5 +440,11 @@ func interp(a, b, fa, fb, t float64) float64 {
 	if fa == fb {
 		return (a + b) / 2
 	}
-	return a + (b-a)*(t-fa)/(fb-fa)
+	if v := a + (b-a)*(t-fa)/(fb-fa); !math.IsInf(v, 0) && !math.IsNaN(v) {
+		return v
+	}
+	// Near the end of the float64 range the product or a difference
+	// overflows: halve the outputs and weight the ends instead.
+	f := (t/2 - fa/2) / (fb/2 - fa/2)
+	return a*(1-f) + b*f
 }

@@ -88,6 +88,10 @@ type TornadoResult struct {
 	// DefaultRanges names every input (shown or summarised) whose range is
 	// the default ±10%.
 	DefaultRanges []string `json:"default_ranges,omitempty"`
+	// NoRange names the inputs among DefaultRanges whose value is 0: ±10% of
+	// 0 is no range at all, so their swing is 0 whatever their effect; they
+	// need a stated range.
+	NoRange []string `json:"no_range,omitempty"`
 	// Interior is the number of points sampled inside the range of each
 	// sampled input.
 	Interior    int `json:"interior"`
@@ -200,6 +204,9 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		}
 		if b.DefaultRange {
 			res.DefaultRanges = append(res.DefaultRanges, in.Name)
+			if in.Value == 0 {
+				res.NoRange = append(res.NoRange, in.Name)
+			}
 		}
 		bars[i] = b
 		if m == 0 || in.Low >= in.High || ev.monotone(i) {

@@ -46,3 +46,22 @@ func TestBreakevenPole(t *testing.T) {
 		t.Errorf("text:\n%s", text)
 	}
 }
+
+// TestBreakevenJumpsAndUnresolved (issue 8, items 11 and 12): a step is said
+// to jump with the values on either side, a pole to run off to infinity;
+// a bracket where the search failed is named with its reason.
+func TestBreakevenJumpsAndUnresolved(t *testing.T) {
+	b, err := sens.Breakeven(problem(t, "input x = 1 (0..3)\ny = if(x < 2, 1, 1e9)\n", "y"), &sens.BreakevenSettings{Input: "x", Target: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := Breakeven(b, &Options{NoCharts: true, Width: 300}).Text()
+	if !strings.Contains(text, "jumps past the target at x = 2") || strings.Contains(text, "through a pole") {
+		t.Errorf("step:\n%s", text)
+	}
+	b.Unresolved = []sens.Unresolved{{Low: 1.5, High: 2.5, Reason: "the model fails at x = 2: division by zero in y, line 2, column 7"}}
+	text = Breakeven(b, &Options{NoCharts: true, Width: 300}).Text()
+	if !strings.Contains(text, "between x = 1.5 and 2.5 the search failed, so a crossing there may be missing: the model fails at x = 2: division by zero") {
+		t.Errorf("unresolved:\n%s", text)
+	}
+}

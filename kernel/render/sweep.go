@@ -89,9 +89,13 @@ func Sweep2D(s *sens.Sweep2DResult, o *Options) *Result {
 		for _, l := range s.Contour {
 			npts += len(l)
 		}
-		if len(s.Contour) == 0 {
+		switch {
+		case len(s.Contour) == 0 && s.AtTarget > 0:
+			lines = append(lines, fmt.Sprintf("%s equals %s at %s of the %s grid points, where it is level at the target (no contour line crosses it)",
+				s.Output, unit.Format(*s.Target, s.Unit), count(s.AtTarget), count(len(s.Points))))
+		case len(s.Contour) == 0:
 			lines = append(lines, fmt.Sprintf("%s does not reach %s on this grid", s.Output, unit.Format(*s.Target, s.Unit)))
-		} else {
+		default:
 			lines = append(lines, fmt.Sprintf("%s = %s along %d contour %s (%d points in the JSON)", s.Output, unit.Format(*s.Target, s.Unit),
 				len(s.Contour), plural(len(s.Contour), "line", "lines"), npts))
 		}

@@ -39,6 +39,10 @@ func Tornado(t *sens.TornadoResult, o *Options) *Result {
 		r.note(fmt.Sprintf("… and %s more %s, each with a swing of at most %s (together %s of the sum of squared swings)", count(rest.Count), plural(rest.Count, "input", "inputs"),
 			unit.Format(rest.LargestSwing, t.Unit), share(rest.SwingShare)))
 	}
+	if len(t.NoRange) > 0 {
+		r.note(fmt.Sprintf("no range: %s %s 0 with no range or distribution, so ±%d%% of the value is no range and the swing is 0; state a range to see its effect",
+			strings.Join(t.NoRange, ", "), map[bool]string{true: "is", false: "are"}[len(t.NoRange) == 1], sens.DefaultRangePct))
+	}
 	r.note("share: the swing's share of the sum of squared swings, an approximate share of the variance when ranges span like percentiles and inputs act alone and nearly linearly")
 	ch := &plotting.Tornado{Output: t.Output, Unit: t.Unit, Baseline: t.Baseline}
 	for _, b := range bars {

@@ -1,5 +1,7 @@
 package kernel
 
+// Regression tests of issue 8 in the interpreter and the fronts.
+
 import (
 	"context"
 	"errors"
@@ -109,5 +111,40 @@ func TestWriterFailsOnNonFinite(t *testing.T) {
 		if !s.Failed {
 			t.Errorf("json %v: not failed; out %q err %q", asJSON, out.String(), errw.String())
 		}
+	}
+}
+
+// TestTornadoZeroNoRange (issue 8, item 17): an input of value 0 with no
+// range gets no range from ±10%; the tornado says so, as a warning and a
+// note, instead of showing a silent zero swing.
+func TestTornadoZeroNoRange(t *testing.T) {
+	in := New()
+	sink := &captureSink{}
+	if err := in.Execute(context.Background(), "cell", "input a = 0\ninput b = 2 (1..3)\ny = a + b*b\ntornado y\n", sink); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(sink.stderr.String(), "a is 0 with no range or distribution, and ±10% of 0 is no range") {
+		t.Errorf("warnings: %q", sink.stderr.String())
+	}
+	if text := sink.results[0].Text(); !strings.Contains(text, "no range: a is 0") {
+		t.Errorf("text:\n%s", text)
+	}
+	if !strings.Contains(string(sink.results[0].JSON()), `"no_range":["a"]`) {
+		t.Errorf("JSON %s", sink.results[0].JSON())
+	}
+}
+
+// TestSweepPlateauReached (issue 8, item 17): max(a + b, 3) is level at the
+// target 3 on 22 of the 25 grid points (a + b <= 3, by hand); the result
+// says it is reached there, not that it does not reach it.
+func TestSweepPlateauReached(t *testing.T) {
+	in := New()
+	sink := &captureSink{}
+	if err := in.Execute(context.Background(), "cell", "input a = 1 (0..2)\ninput b = 1 (0..2)\ny = max(a + b, 3)\nsweep y over a 0..2 and b 0..2 n=5 target=3\n", sink); err != nil {
+		t.Fatal(err)
+	}
+	text := sink.results[0].Text()
+	if !strings.Contains(text, "y equals 3 at 22 of the 25 grid points") || strings.Contains(text, "not reached") || strings.Contains(text, "does not reach") {
+		t.Errorf("text:\n%s", text)
 	}
 }
