@@ -147,9 +147,10 @@ const SearchReach = 1e6
 //
 //	x ← x - g(x) / g'(x)
 //
-// falling back to bisection (geometric between numbers of one sign and
-// widely different sizes) whenever the Newton step leaves the bracket or
-// fails to halve it, until the bracket is a few units in the last place
+// falling back to bisection (between numbers of one sign and widely
+// different sizes, at the midpoint of their bit patterns, so that any bracket
+// closes within about 130 steps) whenever the Newton step leaves the bracket
+// or fails to halve it, until the bracket is a few units in the last place
 // wide. A crossing is reported only when it is verified: g is 0 there, or at
 // both ends of the final bracket g is within rounding of 0 or within eight
 // times what the slope there allows over the bracket's width, and the slope
@@ -413,15 +414,19 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 const (
 	// maxOutward bounds the geometric steps of the grid on each side.
 	maxOutward = 200
-	// maxEdgeSteps bounds the bisections towards one failure: enough to
-	// reach the neighbouring float64 from any distance.
-	maxEdgeSteps = 2200
+	// edgeHalvings is the number of halvings of the distance to a failure
+	// before the search closes on it by the bit patterns' midpoint;
+	// maxEdgeSteps bounds both together: enough to reach the neighbouring
+	// float64 from any distance.
+	edgeHalvings = 60
+	maxEdgeSteps = edgeHalvings + 80
 	// maxEdgeTotal bounds the evaluations of every edge search together;
 	// past it, each edge gets edgeStepsLate bisections.
-	maxEdgeTotal  = 40000
-	edgeStepsLate = 60
-	// maxRefine bounds the steps of one bracket's refinement.
-	maxRefine = 2400
+	maxEdgeTotal  = 20000
+	edgeStepsLate = 40
+	// maxRefine bounds the steps of one bracket's refinement (bisection
+	// alone closes any bracket in about 130).
+	maxRefine = 400
 	// breakevenRounds bounds the rounds of searching towards failures met
 	// inside brackets and dips.
 	breakevenRounds = 3
@@ -631,7 +636,14 @@ func (bs *bsearch) edge(v xy, f float64, ferr error) error {
 		steps = edgeStepsLate
 	}
 	for k := 0; k < steps; k++ {
-		m := midpoint(math.Min(v.x, f), math.Max(v.x, f))
+		// Halving the distance first samples every scale near the edge;
+		// then the bit patterns' midpoint closes the rest in at most 64
+		// steps.
+		lo, hi := math.Min(v.x, f), math.Max(v.x, f)
+		m := lo/2 + hi/2
+		if k >= edgeHalvings {
+			m = midpoint(lo, hi)
+		}
 		if m == v.x || m == f {
 			break
 		}
@@ -665,18 +677,30 @@ func (bs *bsearch) around(f failure) error {
 	return nil
 }
 
-// midpoint returns a point between a < b: the geometric mean where both
-// have one sign and differ more than fourfold (so a bracket from 1e-300 to
-// 1e300 closes in a few hundred steps, not thousands), else the arithmetic
-// mean, formed so that it cannot overflow.
+// midpoint returns a point between a < b: where both have one sign (or
+// one is 0) and they differ more than fourfold, the midpoint of their bit
+// patterns, which halves the number of representable values between them
+// (about the geometric mean for normal numbers), so that any such bracket
+// closes in at most 64 steps, from 1e-300..1e300 as from 0..1; 0 where they
+// straddle it at different scales; else the arithmetic mean, formed so
+// that it cannot overflow.
 func midpoint(a, b float64) float64 {
 	switch {
-	case a > 0 && b > 4*a:
-		return math.Sqrt(a) * math.Sqrt(b)
-	case b < 0 && a < 4*b:
-		return -math.Sqrt(-a) * math.Sqrt(-b)
+	case a >= 0 && b > 4*a:
+		return bitsMid(a, b)
+	case b <= 0 && a < 4*b:
+		return -bitsMid(-b, -a)
+	case a < 0 && b > 0 && (b > -4*a || -a > 4*b):
+		return 0
 	}
 	return a/2 + b/2
+}
+
+// bitsMid returns the number whose bit pattern is midway between those of
+// 0 <= a < b (-0 counts as 0).
+func bitsMid(a, b float64) float64 {
+	ua, ub := math.Float64bits(math.Abs(a)), math.Float64bits(math.Abs(b))
+	return math.Float64frombits(ua/2 + ub/2 + ua&ub&1)
 }
 
 // roundoff is the difference of an output y from the target that counts as

@@ -215,3 +215,34 @@ func (c *cancelAfter) EvalBatch(d, xs []float64, n int) error {
 	return c.Function.EvalBatch(d, xs, n)
 }
 func (c *cancelAfter) Clone() Function { return c }
+
+// TestMidpoint: the bisection point lies in [a, b], is never NaN, and
+// repeated bisection closes any bracket, of any sign and scale, with -0 and
+// subnormal ends, in a bounded number of steps.
+func TestMidpoint(t *testing.T) {
+	ends := []float64{math.Copysign(0, -1), 0, 5e-324, 1e-310, 1e-300, 0.05, 1, 3, 1e10, 1e300, math.MaxFloat64}
+	var vals []float64
+	for _, e := range ends {
+		vals = append(vals, e, -e)
+	}
+	for _, a := range vals {
+		for _, b := range vals {
+			if !(a < b) {
+				continue
+			}
+			lo, hi := a, b
+			steps := 0
+			for ; !tight(lo, hi); steps++ {
+				m := midpoint(lo, hi)
+				if math.IsNaN(m) || m < lo || m > hi {
+					t.Fatalf("midpoint(%g, %g) = %g", lo, hi, m)
+				}
+				// Keep the half nearer to a, the hardest way in.
+				hi = m
+				if steps > 200 {
+					t.Fatalf("%g..%g: no closing after %d steps (at %g..%g)", a, b, steps, lo, hi)
+				}
+			}
+		}
+	}
+}
