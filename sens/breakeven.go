@@ -170,7 +170,8 @@ const SearchReach = 1e6
 // Two crossings closer together than the grid spacing, where |g| does not dip
 // at a grid point, can be missed; so can a crossing beyond the search reach.
 // The work is bounded: at most maxOutward grid steps a side, maxEdgeSteps
-// bisections an edge and maxEdgeTotal in all, maxRefine steps a bracket; the
+// bisections an edge and maxEdgeTotal in all, maxRefine steps a bracket,
+// maxSearchEvals evaluations in all (what is left is reported unresolved); the
 // context is checked before every evaluation outside a batch.
 //
 // References:
@@ -300,8 +301,19 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 		if len(brs)+len(dips) == 0 {
 			break
 		}
+		spent := func(lo, hi float64) bool {
+			if bs.ev.done < maxSearchEvals {
+				return false
+			}
+			res.Unresolved = append(res.Unresolved, Unresolved{Low: lo, High: hi,
+				Reason: fmt.Sprintf("not searched: the search reached its limit of %s evaluations", unit.Format(maxSearchEvals, ""))})
+			return true
+		}
 		for _, d := range dips {
 			l, r := d.a, d.c // the neighbours of the dip
+			if spent(l.x, r.x) {
+				continue
+			}
 			fx, ferr, err := bs.extreme(d)
 			if err != nil {
 				return nil, err
@@ -334,6 +346,9 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 			}
 		}
 		for _, br := range brs {
+			if spent(br[0].x, br[1].x) {
+				continue
+			}
 			if err := solve(br[0], br[1]); err != nil {
 				return nil, err
 			}
@@ -344,6 +359,9 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 		// Search towards each failure from both sides; the next round looks
 		// at the points found.
 		for _, f := range fails {
+			if spent(f.a.x, f.b.x) {
+				continue
+			}
 			if err := bs.around(f); err != nil {
 				return nil, err
 			}
@@ -430,6 +448,10 @@ const (
 	// breakevenRounds bounds the rounds of searching towards failures met
 	// inside brackets and dips.
 	breakevenRounds = 3
+	// maxSearchEvals bounds the evaluations of a whole search: past it, a
+	// bracket, dip or failure not yet searched is reported as Unresolved
+	// (one already begun finishes: at most maxRefine + 2 more).
+	maxSearchEvals = 50000
 )
 
 // breakevenGrid returns the sorted points to scan, the baseline among them:
@@ -632,7 +654,7 @@ func (bs *bsearch) sortSamples() {
 // the two are neighbouring numbers or the step budget is spent.
 func (bs *bsearch) edge(v xy, f float64, ferr error) error {
 	steps := maxEdgeSteps
-	if bs.edgeN >= maxEdgeTotal {
+	if bs.edgeN >= maxEdgeTotal || bs.ev.done >= maxSearchEvals {
 		steps = edgeStepsLate
 	}
 	for k := 0; k < steps; k++ {

@@ -59,7 +59,11 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 			r.note(jumpText(b, j))
 		}
 	}
-	for _, u := range b.Unresolved {
+	for n, u := range b.Unresolved {
+		if n == maxJumpNotes {
+			r.note(fmt.Sprintf("… and %d more parts where the search failed (all of them are in the JSON)", len(b.Unresolved)-n))
+			break
+		}
 		r.note(fmt.Sprintf("between %s = %s and %s the search failed, so a crossing there may be missing: %s", b.Input,
 			unit.Format(u.Low, b.InputUnit), unit.Format(u.High, b.InputUnit), u.Reason))
 	}
