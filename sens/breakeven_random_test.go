@@ -90,7 +90,7 @@ func TestBreakevenRandomModels(t *testing.T) {
 			if math.Abs(c.Value) > 1e15 && (strings.Contains(expr, "sin") || strings.Contains(expr, "tan")) {
 				continue
 			}
-			h := 16 * 0x1p-52 * math.Abs(c.Value) // 16 units in the last place
+			h := 16 * 0x1p-52 * math.Abs(c.Value)           // 16 units in the last place
 			h = math.Max(h, 16*math.SmallestNonzeroFloat64) // subnormal c
 			gl, okl := f(c.Value - h)
 			gr, okr := f(c.Value + h)
