@@ -137,7 +137,7 @@ func TestExecuteErrors(t *testing.T) {
 	}{
 		{"fail", "ModelError", "undefined: shop_rat", "line 1, column 5"},
 		{"plainerr", "Error", "plain failure", "Error: plain failure"},
-		{"panic", "InternalError", "assignment to entry in nil map", "InternalError: assignment to entry in nil map"},
+		{"panic", "InternalError", "Execute failed: assignment to entry in nil map", "InternalError: Execute failed: assignment to entry in nil map"},
 		{"nanresult", "EncodingError", "", "EncodingError: "},
 	}
 	for i, tc := range cases {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"runtime/debug"
+	"strings"
 	"sync"
 	"unicode/utf8"
 )
@@ -94,7 +95,7 @@ func (k *Kernel) safe(what string, f func()) (err error) {
 	defer func() {
 		if r := recover(); r != nil {
 			k.log.Printf("jupyter: panic in Handler.%s: %v\n%s", what, r, debug.Stack())
-			v := fmt.Sprint(r)
+			v := what + " failed: " + strings.Join(strings.Fields(fmt.Sprint(r)), " ") // one line
 			err = &ExecError{
 				Name:  "InternalError",
 				Value: v,
