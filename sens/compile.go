@@ -1017,6 +1017,20 @@ func (p *Program) Check() error {
 	if err := t.Forward(x); err != nil {
 		return p.evalError(err, x)
 	}
+	// A value finite in base units can overflow in its display unit.
+	for _, f := range p.Formulas {
+		if f.tape != nil || f.u.Factor == 0 {
+			continue
+		}
+		sc := f.sc
+		if sc == 0 {
+			sc = 1
+		}
+		fn := &Fn{prog: p, tape: t, f: f, scale: sc / f.u.Factor}
+		if _, err := fn.scaled(t.Output(f.out), x); err != nil {
+			return err
+		}
+	}
 	return nil
 }
 

@@ -1,6 +1,10 @@
 package sens
 
-import "github.com/nudge-dev/nudge/sens/tape"
+import (
+	"math"
+
+	"github.com/nudge-dev/nudge/sens/tape"
+)
 
 // GradientBatcher is a Function that evaluates its gradient at many points
 // in one call, faster than one Gradient a point. A compiled formula (Fn) is
@@ -45,11 +49,20 @@ func (fn *Fn) GradientBatch(dst, grads, xs []float64, n int) error {
 		}
 		return fn.prog.evalError(err, x)
 	}
-	for i := range dst[:n] {
-		dst[i] *= fn.scale
+	if err := fn.scaleAll(dst[:n], xs); err != nil {
+		return err
 	}
-	for i := range grads {
-		grads[i] *= fn.scale
+	k := len(fn.prog.Inputs)
+	for i, g := range grads {
+		v := g * fn.scale
+		if math.IsInf(v, 0) && !math.IsInf(g, 0) {
+			var x []float64
+			if r := i / k; k > 0 && (r+1)*k <= len(xs) {
+				x = xs[r*k : (r+1)*k]
+			}
+			return fn.overflow(x, fn.prog.Inputs[i%k].Name)
+		}
+		grads[i] = v
 	}
 	return nil
 }
