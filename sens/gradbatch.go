@@ -60,7 +60,8 @@ func (fn *Fn) GradientBatch(dst, grads, xs []float64, n int) error {
 			if r := i / k; k > 0 && (r+1)*k <= len(xs) {
 				x = xs[r*k : (r+1)*k]
 			}
-			return fn.overflow(x, fn.prog.Inputs[i%k].Name)
+			name := fn.prog.Inputs[i%k].Name
+			return fn.overflow(x, "the partial derivative with respect to "+name, name)
 		}
 		grads[i] = v
 	}

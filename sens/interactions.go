@@ -354,6 +354,15 @@ func newHessianEval(p *Problem) (*hessianEval, error) {
 
 func (e *hessianEval) tapeLen() int { return e.fn.tape.Len() }
 
+// dirInput is the program input of problem input i (index maps them; nil:
+// the same).
+func dirInput(index []int, i int) int {
+	if index == nil {
+		return i
+	}
+	return index[i]
+}
+
 // columns returns the Hessian columns of the problem inputs batch, each
 // of the problem's k inputs (len(batch) × k, in the output's display
 // unit), and where the output is not twice differentiable.
@@ -388,7 +397,14 @@ func (e *hessianEval) columns(x []float64, batch []int) ([]float64, []string, er
 			if e.index != nil {
 				j = e.index[i]
 			}
-			out[b*k+i] = hv[b*n+j] * e.fn.scale
+			v := hv[b*n+j] * e.fn.scale
+			if math.IsInf(v, 0) && !math.IsInf(hv[b*n+j], 0) {
+				// Finite in base units, beyond the float64 range in the
+				// display unit (issue 8, item 15).
+				a, c := e.fn.prog.Inputs[j].Name, e.fn.prog.Inputs[dirInput(e.index, batch[b])].Name
+				return nil, nil, e.fn.overflow(full, "the second derivative in "+a+" and "+c, a, c)
+			}
+			out[b*k+i] = v
 		}
 	}
 	var kinks []string

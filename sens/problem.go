@@ -201,19 +201,21 @@ func (fn *Fn) scaled(y float64, x []float64) (float64, error) {
 	return v, nil
 }
 
-// overflow is the error of a value, or of its partial derivative with
-// respect to input (when not ""), that overflows in the display unit, placed
-// at the formula, with the inputs that led there.
-func (fn *Fn) overflow(x []float64, input string) error {
+// overflow is the error of a value, or of a derivative (what, such as "the
+// partial derivative with respect to rate", when not ""), that overflows in
+// the display unit (per the unit of each input named in per), placed at the
+// formula, with the inputs that led there.
+func (fn *Fn) overflow(x []float64, what string, per ...string) error {
 	f, p := fn.f, fn.prog
 	u := f.Unit
 	if u == "" {
 		u = "its unit"
 	}
-	what := "the value"
-	if input != "" {
-		what = "the partial derivative with respect to " + input
-		u += " per the unit of " + input
+	if what == "" {
+		what = "the value"
+	}
+	for _, in := range per {
+		u += " per the unit of " + in
 	}
 	e := &EvalError{Pos: f.Pos, Formula: f.Name, Msg: what + " overflows when written in " + u + " (beyond about 1.8e+308)"}
 	if k := int(fn.tape.OutputPos(f.out)); k >= 0 && k < len(p.pos) && p.pos[k].file != nil {
@@ -235,7 +237,7 @@ func (fn *Fn) Gradient(dst, x []float64) (float64, error) {
 		for i := range dst {
 			g := dst[i] * fn.scale
 			if math.IsInf(g, 0) && !math.IsInf(dst[i], 0) {
-				return math.NaN(), fn.overflow(x, fn.prog.Inputs[i].Name)
+				return math.NaN(), fn.overflow(x, "the partial derivative with respect to "+fn.prog.Inputs[i].Name, fn.prog.Inputs[i].Name)
 			}
 			dst[i] = g
 		}
