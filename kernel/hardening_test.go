@@ -148,3 +148,22 @@ func TestSweepPlateauReached(t *testing.T) {
 		t.Errorf("text:\n%s", text)
 	}
 }
+
+// TestSubtotalElasticityUndefinedAtZero: with vector inputs and an output of
+// 0 at the baseline, the subtotals' sums of elasticities are undefined too:
+// n/a in the text, null in JSON (issue 8, item 17).
+func TestSubtotalElasticityUndefinedAtZero(t *testing.T) {
+	in := New()
+	in.Dir = writeBid(t, 40)
+	sink := &captureSink{}
+	src := bidCell + "input offset = 1 [$] (0..2)\nnet = total - total * offset / (1 [$])\ndrivers net top=3\n"
+	if err := in.Execute(context.Background(), "cell", src, sink); err != nil {
+		t.Fatal(err)
+	}
+	r := sink.results[len(sink.results)-1]
+	text, j := r.Text(), string(r.JSON())
+	if strings.Contains(text, "NaN") || !strings.Contains(text, "… and 79 more inputs (top=N keeps N)") || !strings.Contains(text, "qty                    40           n/a") || !strings.Contains(j, `"max_elasticity":null`) ||
+		strings.Contains(j, `"elasticity":0,`) {
+		t.Errorf("text:\n%s\nJSON %s", text, j)
+	}
+}

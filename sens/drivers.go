@@ -142,6 +142,18 @@ func Drivers(p *Problem, s *DriversSettings) (*DriversResult, error) {
 	if err := d.subtotals(p, s, g, y, div, sum, kept); err != nil {
 		return nil, err
 	}
+	if y == 0 {
+		// Elasticities are undefined at an output of 0: the subtotals'
+		// sums of them too.
+		if d.Rest != nil {
+			d.Rest.Elasticity, d.Rest.MaxElasticity = math.NaN(), math.NaN()
+		}
+		for _, ts := range [][]DriverSubtotal{d.Columns, d.Groups} {
+			for i := range ts {
+				ts[i].Elasticity = math.NaN()
+			}
+		}
+	}
 	d.Steps, d.StepLines = p.StepSummary()
 	return d, nil
 }
@@ -156,11 +168,36 @@ func (d DriverInput) MarshalJSON() ([]byte, error) {
 		PartialUnit string   `json:"partial_unit"`
 		Elasticity  *float64 `json:"elasticity"`
 		Share       float64  `json:"share"`
-	}{d.Name, d.Value, d.Unit, d.Partial, d.PartialUnit, nil, d.Share}
-	if !math.IsNaN(d.Elasticity) {
-		v.Elasticity = &d.Elasticity
-	}
+	}{d.Name, d.Value, d.Unit, d.Partial, d.PartialUnit, orNull(d.Elasticity), d.Share}
 	return json.Marshal(v)
+}
+
+// MarshalJSON writes an undefined elasticity (NaN) as null.
+func (t DriverSubtotal) MarshalJSON() ([]byte, error) {
+	return json.Marshal(struct {
+		Name       string   `json:"name"`
+		Count      int      `json:"count"`
+		Elasticity *float64 `json:"elasticity"`
+		Effect     float64  `json:"effect"`
+		Share      float64  `json:"share"`
+	}{t.Name, t.Count, orNull(t.Elasticity), t.Effect, t.Share})
+}
+
+// MarshalJSON writes an undefined elasticity (NaN) as null.
+func (r DriverRest) MarshalJSON() ([]byte, error) {
+	return json.Marshal(struct {
+		Count         int      `json:"count"`
+		MaxElasticity *float64 `json:"max_elasticity"`
+		Elasticity    *float64 `json:"elasticity"`
+	}{r.Count, orNull(r.MaxElasticity), orNull(r.Elasticity)})
+}
+
+// orNull returns nil for NaN, which JSON writes as null, else &v.
+func orNull(v float64) *float64 {
+	if math.IsNaN(v) {
+		return nil
+	}
+	return &v
 }
 
 // mulDiv returns a·b/c without overflowing or underflowing in between: the

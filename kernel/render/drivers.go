@@ -27,9 +27,11 @@ func Drivers(d *sens.DriversResult, o *Options) *Result {
 	if d.Value == 0 {
 		r.note(fmt.Sprintf("the elasticities are undefined (n/a): %s is 0 at the baseline, so a percentage change of it is not; the inputs are ranked by |∂%s/∂input × input| instead", d.Output, d.Output))
 	}
-	if rest := len(d.Inputs) - len(shown); rest > 0 {
+	if rest := len(d.Inputs) - len(shown); rest > 0 && d.Value == 0 {
+		r.note(fmt.Sprintf("… and %s more inputs (all of them are in the JSON; top=N keeps N)", count(rest)))
+	} else if rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with |elasticity| at most %s (all of them are in the JSON; top=N keeps N)",
-			count(rest), el.Format(math.Abs(d.Inputs[len(shown)].Elasticity))))
+			count(rest), elasticityAbs(el, math.Abs(d.Inputs[len(shown)].Elasticity))))
 	}
 	driverSubtotals(r, d, o)
 	return r
@@ -45,4 +47,13 @@ func elasticityText(el unit.Column, e float64) string {
 		return "n/a"
 	}
 	return el.Signed(e)
+}
+
+// elasticityAbs writes |elasticity| unsigned, or "n/a" where it is
+// undefined.
+func elasticityAbs(el unit.Column, e float64) string {
+	if math.IsNaN(e) {
+		return "n/a"
+	}
+	return el.Format(e)
 }

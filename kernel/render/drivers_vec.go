@@ -2,6 +2,7 @@ package render
 
 import (
 	"fmt"
+	"math"
 
 	"github.com/nudge-dev/nudge/sens"
 	"github.com/nudge-dev/nudge/sens/unit"
@@ -11,9 +12,11 @@ import (
 // the subtotals of a model with vector inputs: by vector, and by group.
 func driverSubtotals(r *Result, d *sens.DriversResult, o *Options) {
 	el := unit.Fixed("", 4)
-	if d.Rest != nil {
+	if d.Rest != nil && math.IsNaN(d.Rest.Elasticity) {
+		r.note(fmt.Sprintf("… and %s more %s (top=N keeps N)", count(d.Rest.Count), plural(d.Rest.Count, "input", "inputs")))
+	} else if d.Rest != nil {
 		r.note(fmt.Sprintf("… and %s more %s, each with |elasticity| at most %s, together %s (top=N keeps N)",
-			count(d.Rest.Count), plural(d.Rest.Count, "input", "inputs"), el.Format(d.Rest.MaxElasticity), el.Signed(d.Rest.Elasticity)))
+			count(d.Rest.Count), plural(d.Rest.Count, "input", "inputs"), elasticityAbs(el, d.Rest.MaxElasticity), elasticityText(el, d.Rest.Elasticity)))
 	}
 	for _, part := range []struct {
 		title string
@@ -34,7 +37,7 @@ func driverSubtotals(r *Result, d *sens.DriversResult, o *Options) {
 		}
 		eff := unit.NewColumn(d.Unit, vals...)
 		for _, s := range part.rows {
-			t.add(s.Name, count(s.Count), el.Signed(s.Elasticity), eff.Signed(s.Effect), bar(s.Share, bw))
+			t.add(s.Name, count(s.Count), elasticityText(el, s.Elasticity), eff.Signed(s.Effect), bar(s.Share, bw))
 		}
 		head := fmt.Sprintf("%s: subtotals %s (every element counted; Σ elasticity is the %% change of %s when all of them change by 1%%)", d.Output, part.title, d.Output)
 		r.text += "\n" + head + "\n" + t.text()
