@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"html"
 	"math"
+	"strconv"
+	"strings"
 
 	"github.com/nudge-dev/nudge/plotting"
 	"github.com/nudge-dev/nudge/sens"
@@ -32,7 +34,7 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 			if c.DistancePct != nil {
 				p = unit.Signed(*c.DistancePct, "%")
 			}
-			tb.add(vcol.Format(c.Value), dcol.Signed(c.Distance), p, whereCrossing(b, c), slopeText(scol, c))
+			tb.add(distinctText(vcol, c.Value, b), dcol.Signed(c.Distance), p, whereCrossing(b, c), slopeText(scol, c))
 		}
 		r.text += tb.text()
 		r.html = tb.html(head)
@@ -140,4 +142,38 @@ func infinity(v float64) string {
 		return "−∞"
 	}
 	return "+∞"
+}
+
+// distinctText writes a crossing's value by the column's rule, with more
+// significant digits where that would print it the same as a jump or
+// another crossing of a different value: 1/(price - 5) = 1e6 crosses at
+// 5.000001, next to its pole at 5, and "5" would hide the difference.
+func distinctText(col unit.Column, v float64, b *sens.BreakevenResult) string {
+	s := col.Format(v)
+	var clash []float64
+	for _, j := range b.Jumps {
+		if col.Format(j.Value) == s && j.Value != v {
+			clash = append(clash, j.Value)
+		}
+	}
+	for _, c := range b.Crossings {
+		if c.Value != v && col.Format(c.Value) == s {
+			clash = append(clash, c.Value)
+		}
+	}
+	num := unit.Format(v, "")
+	if len(clash) == 0 || !strings.Contains(s, num) {
+		return s
+	}
+	for p := 5; p <= 17; p++ {
+		t := strconv.FormatFloat(v, 'g', p, 64)
+		apart := true
+		for _, w := range clash {
+			apart = apart && strconv.FormatFloat(w, 'g', p, 64) != t
+		}
+		if apart {
+			return strings.Replace(s, num, t, 1)
+		}
+	}
+	return s
 }

@@ -65,3 +65,17 @@ func TestBreakevenJumpsAndUnresolved(t *testing.T) {
 		t.Errorf("unresolved:\n%s", text)
 	}
 }
+
+// TestBreakevenCrossingBesidePole: 1/(price - 5) = 1e6 at price = 5 + 1/1e6
+// (solved by hand), next to the pole at 5; the crossing is written with the
+// digits that tell it from the pole.
+func TestBreakevenCrossingBesidePole(t *testing.T) {
+	b, err := sens.Breakeven(problem(t, "input price = 4 (3..6)\ny = 1/(price - 5)\n", "y"), &sens.BreakevenSettings{Input: "price", Target: 1e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := Breakeven(b, noCharts).Text()
+	if !strings.Contains(text, "5.000001 ") || !strings.Contains(text, "through a pole") {
+		t.Errorf("text:\n%s", text)
+	}
+}
