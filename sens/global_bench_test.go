@@ -2,6 +2,7 @@ package sens
 
 import (
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/nudge-dev/nudge/sens/tape"
@@ -14,7 +15,35 @@ import (
 //
 //	go test ./sens/ -run '^$' -bench 'Simulate|SobolIndices|Screen' -benchtime=3x
 
-// tapeFunction is a Tape's output 0 as a Function.
+// cpuPair is tapebench.Pair, reporting also "cpu-ratio": the median over
+// the pairs of calls of the ratio of the process's CPU time (every thread,
+// the garbage collector's included) spent in a to that spent in ref. Run
+// on one worker, it measures the work done, which other processes on a
+// loaded machine do not inflate as they do the time.
+func cpuPair(b *testing.B, per float64, aName, refName string, a, ref func() error) {
+	var ta, tr []float64
+	timed := func(f func() error, acc *[]float64) func() error {
+		return func() error {
+			start := processCPU()
+			err := f()
+			*acc = append(*acc, float64(processCPU()-start))
+			return err
+		}
+	}
+	tapebench.Pair(b, 1, per, aName, refName, timed(a, &ta), timed(ref, &tr))
+	if processCPU() < 0 {
+		return
+	}
+	ratio := make([]float64, min(len(ta), len(tr)))
+	for i := range ratio {
+		ratio[i] = ta[i] / tr[i]
+	}
+	slices.Sort(ratio)
+	b.ReportMetric(ratio[len(ratio)/2], "cpu-ratio")
+}
+
+// tapeFunction is a Tape's output 0 as a Function, reading columns in
+// place as a compiled model's Fn does.
 type tapeFunction struct{ t *tape.Tape }
 
 func (f *tapeFunction) Eval(x []float64) (float64, error) { return f.t.Eval(x, 0) }
@@ -23,6 +52,9 @@ func (f *tapeFunction) Gradient(dst, x []float64) (float64, error) {
 }
 func (f *tapeFunction) EvalBatch(dst, xs []float64, n int) error {
 	return f.t.ForwardBatch(dst, xs, n, 0)
+}
+func (f *tapeFunction) EvalColumns(dst []float64, cols [][]float64, n int) error {
+	return f.t.ForwardColumns(dst[:n], cols, n, 0)
 }
 func (f *tapeFunction) Clone() Function { return &tapeFunction{f.t.Clone()} }
 
@@ -86,7 +118,7 @@ func BenchmarkSimulateVsBatch(b *testing.B) {
 	p := benchProblem(t, x)
 	const n = 20_000
 	sim := func() error { _, err := Simulate(p, &SimulationSettings{N: n, Seed: 1, Workers: 1}); return err }
-	tapebench.Pair(b, 1, n, "simulate", "batch", sim, plainBatch(t, x, n))
+	cpuPair(b, n, "simulate", "batch", sim, plainBatch(t, x, n))
 }
 
 // The same on a 1,000-node model of 20 inputs, where evaluation outweighs
@@ -96,7 +128,7 @@ func BenchmarkSimulateLargeVsBatch(b *testing.B) {
 	p := benchProblem(t, x)
 	const n = 20_000
 	sim := func() error { _, err := Simulate(p, &SimulationSettings{N: n, Seed: 1, Workers: 1}); return err }
-	tapebench.Pair(b, 1, n, "simulate", "batch", sim, plainBatch(t, x, n))
+	cpuPair(b, n, "simulate", "batch", sim, plainBatch(t, x, n))
 }
 
 // Simulate on one worker against two: the parallel speed-up (ratio).
@@ -118,7 +150,7 @@ func BenchmarkSobolIndicesVsBatch(b *testing.B) {
 	const n = 8192
 	evals := n * (len(x) + 2)
 	sob := func() error { _, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1}); return err }
-	tapebench.Pair(b, 1, float64(evals), "sobol", "batch", sob, plainBatch(t, x, evals))
+	cpuPair(b, float64(evals), "sobol", "batch", sob, plainBatch(t, x, evals))
 }
 
 // Screening of a 100,000-input, 1e6-node model at n = 1000 on one worker
@@ -137,4 +169,21 @@ func BenchmarkScreenVsForward(b *testing.B) {
 		return nil
 	}
 	tapebench.Pair(b, 1, n, "screen", "forward", scr, fwd)
+}
+
+// Ranking 20,000 samples of a normal distribution (the rank correlations of
+// Simulate sort every input's samples), per sample.
+func BenchmarkRanks(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	xs := make([]float64, 20_000)
+	for i := range xs {
+		xs[i] = 100 + 20*rng.NormFloat64()
+	}
+	var rk ranker
+	dst := make([]float64, len(xs))
+	b.ReportAllocs()
+	for b.Loop() {
+		rk.ranks(dst, xs)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(xs)), "ns/sample")
 }

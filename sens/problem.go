@@ -413,6 +413,12 @@ type subFn struct {
 	batch []float64 // full rows for EvalBatch
 
 	gbatch, gfull []float64 // full rows and gradients for GradientBatch
+
+	// For EvalColumns: a column per program input, those of the other
+	// inputs in fixed, fixedLen samples long, holding their baselines.
+	cols     [][]float64
+	fixed    []float64
+	fixedLen int
 }
 
 func (s *subFn) Clone() Function {

@@ -227,12 +227,18 @@ func newDrawer(dists []Dist, seed, purpose uint64, rows int) *drawer {
 // draw returns the m values of input i in chunk c, in a buffer that the
 // next call reuses.
 func (d *drawer) draw(c, i, m int) []float64 {
+	col := d.column[:m]
+	d.drawTo(col, c, i)
+	return col
+}
+
+// drawTo fills col with the first len(col) values of input i in chunk c.
+func (d *drawer) drawTo(col []float64, c, i int) {
 	seedStream(&d.pcg, d.seed, d.purpose, uint64(c), uint64(i))
-	col, r := d.column[:m], d.r[i]
+	r := d.r[i]
 	for j := range col {
 		col[j] = r.Rand()
 	}
-	return col
 }
 
 // drawInto fills dst with input i's values of chunk c, in pieces, calling

@@ -223,13 +223,21 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		}
 	}
 	type worker struct {
-		f  Function
-		d  *drawer
-		xs []float64
+		f    Function
+		d    *drawer
+		cols [][]float64 // the chunk's column of each input
+		buf  []float64   // columns of the inputs not kept, cs apart
+		rows []float64   // for a Function that takes rows only
+		row  []float64   // one sample, to find failures
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), nChunks))
 	for w := range workers {
-		workers[w] = &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamSimulate, cs), xs: make([]float64, cs*k)}
+		wk := &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamSimulate, cs),
+			cols: make([][]float64, k), row: make([]float64, k)}
+		if !keep {
+			wk.buf = make([]float64, cs*k)
+		}
+		workers[w] = wk
 	}
 	y := make([]float64, n)
 	failed := make([]bool, n)
@@ -238,24 +246,31 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		wk := workers[w]
 		base := c * cs
 		m := min(cs, n-base)
+		// Each input's values are drawn into the column they are kept in,
+		// and the model reads the columns in place.
 		for i := range k {
 			var col []float64
-			if corrCol[i] != nil {
+			switch {
+			case corrCol[i] != nil:
 				col = corrCol[i][base : base+m]
-			} else {
-				col = wk.d.draw(c, i, m)
-				if keep {
-					copy(kept[i][base:], col)
-				}
+			case keep:
+				col = kept[i][base : base+m]
+				wk.d.drawTo(col, c, i)
+			default:
+				col = wk.buf[i*cs : i*cs+m]
+				wk.d.drawTo(col, c, i)
 			}
-			scatter(wk.xs, col, i, k)
+			wk.cols[i] = col
 		}
 		yc := y[base : base+m]
-		if err := wk.f.EvalBatch(yc, wk.xs[:m*k], m); err != nil {
+		if err := columnEval(wk.f, yc, wk.cols, m, &wk.rows); err != nil {
 			// Some sample failed: evaluate the chunk sample by sample to
 			// find every failure and keep every other result.
+			row := wk.row
 			for j := range m {
-				row := wk.xs[j*k : (j+1)*k]
+				for i, col := range wk.cols {
+					row[i] = col[j]
+				}
 				v, err := wk.f.Eval(row)
 				if err != nil {
 					failed[base+j] = true

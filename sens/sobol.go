@@ -202,9 +202,10 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		f    Function
 		seq  *qmc.Sobol
 		bits []uint32
-		a, b []float64 // rows of A and B in the inputs' units
+		a, b [][]float64 // columns of A and B in the inputs' units
+		cols [][]float64 // A with one column from B
 		y    []float64
-		save []float64
+		rows []float64 // for a Function that takes rows only
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), nChunks))
 	for w := range workers {
@@ -212,8 +213,14 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		if err != nil {
 			return nil, err
 		}
-		workers[w] = &worker{f: p.F.Clone(), seq: seq, bits: make([]uint32, 2*k),
-			a: make([]float64, cs*k), b: make([]float64, cs*k), y: make([]float64, cs), save: make([]float64, cs)}
+		wk := &worker{f: p.F.Clone(), seq: seq, bits: make([]uint32, 2*k),
+			a: make([][]float64, k), b: make([][]float64, k), cols: make([][]float64, k), y: make([]float64, cs)}
+		buf := make([]float64, 2*k*cs)
+		for i := range k {
+			wk.a[i] = buf[2*i*cs : (2*i+1)*cs : (2*i+1)*cs]
+			wk.b[i] = buf[(2*i+1)*cs : (2*i+2)*cs : (2*i+2)*cs]
+		}
+		workers[w] = wk
 	}
 	ctx := s.ctx()
 	err = runChunks(pr, len(workers), nChunks, func(w, c int) error {
@@ -224,31 +231,29 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		for j := range m {
 			wk.seq.NextBits(wk.bits)
 			for i, q := range quantile {
-				wk.a[j*k+i] = q(unitFraction(wk.bits[i] ^ shift[i]))
-				wk.b[j*k+i] = q(unitFraction(wk.bits[k+i] ^ shift[k+i]))
+				wk.a[i][j] = q(unitFraction(wk.bits[i] ^ shift[i]))
+				wk.b[i][j] = q(unitFraction(wk.bits[k+i] ^ shift[k+i]))
 			}
 		}
-		a, b := wk.a[:m*k], wk.b[:m*k]
-		if err := wk.f.EvalBatch(fa[base:base+m], a, m); err != nil {
+		if err := columnEval(wk.f, fa[base:base+m], wk.a, m, &wk.rows); err != nil {
 			return err
 		}
-		if err := wk.f.EvalBatch(fb[base:base+m], b, m); err != nil {
+		if err := columnEval(wk.f, fb[base:base+m], wk.b, m, &wk.rows); err != nil {
 			return err
 		}
-		// A_B^i: A with column i from B, one column at a time.
+		// A_B^i: A with column i from B, read in place.
+		copy(wk.cols, wk.a)
 		for i := range k {
 			if err := ctx.Err(); err != nil {
 				return err
 			}
-			for j := range m {
-				wk.save[j], a[j*k+i] = a[j*k+i], b[j*k+i]
-			}
-			if err := wk.f.EvalBatch(wk.y[:m], a, m); err != nil {
+			wk.cols[i] = wk.b[i]
+			if err := columnEval(wk.f, wk.y[:m], wk.cols, m, &wk.rows); err != nil {
 				return err
 			}
+			wk.cols[i] = wk.a[i]
 			for j, v := range wk.y[:m] {
 				fab[(base+j)*k+i] = v
-				a[j*k+i] = wk.save[j]
 			}
 		}
 		pr.add(m * (k + 2))
@@ -260,26 +265,36 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 
 	est := newSobolTerms(fa, fb, fab, k)
 	res.Mean = est.f0
-	first, total, v := est.indices(nil)
+	first, total, v := est.indices()
 	res.Variance = v
 	if !(v > 0) {
 		return nil, fmt.Errorf("sobol %s: the output does not vary over the samples (variance %g), so it has no indices", p.Output, v)
 	}
 
-	// Bootstrap: resample the N rows with replacement.
+	// Bootstrap: resample the N rows with replacement, a block of
+	// resamples at a time: each resample draws its rows from a stream of
+	// its own, and the block sums every row's terms into each resample
+	// that drew it, as often as it drew it, in one pass over the rows.
 	bf := make([][]float64, nboot) // first-order indices of each resample
 	bt := make([][]float64, nboot)
+	per := bootBlock(n)
 	perBoot := max(1, n*k/(4*(k+2)))
-	err = runChunks(pr, len(workers), nboot, func(w, r int) error {
+	err = runChunks(pr, len(workers), (nboot+per-1)/per, func(w, blk int) error {
+		r0 := blk * per
+		r1 := min(nboot, r0+per)
+		cnt := make([]uint16, n*(r1-r0))
 		var pcg rand.PCG
-		seedStream(&pcg, s.Seed, streamBootstrap, uint64(r), 0)
-		rnd := rand.New(&pcg)
-		idx := make([]int, n)
-		for j := range idx {
-			idx[j] = rnd.IntN(n)
+		for r := r0; r < r1; r++ {
+			seedStream(&pcg, s.Seed, streamBootstrap, uint64(r), 0)
+			rnd := rand.New(&pcg)
+			for range n {
+				cnt[rnd.IntN(n)*(r1-r0)+r-r0]++
+			}
 		}
-		bf[r], bt[r], _ = est.indices(idx)
-		pr.add(perBoot)
+		f, t, _ := est.resampled(cnt, r1-r0)
+		copy(bf[r0:r1], f)
+		copy(bt[r0:r1], t)
+		pr.add(perBoot * (r1 - r0))
 		return nil
 	})
 	if err != nil {
@@ -394,34 +409,67 @@ func newSobolTerms(fa, fb, fab []float64, k int) *sobolTerms {
 }
 
 // indices returns the first-order and total-order indices and the variance
-// over the rows idx (every row once when idx is nil).
-func (t *sobolTerms) indices(idx []int) (first, total []float64, v float64) {
+// over every row.
+func (t *sobolTerms) indices() (first, total []float64, v float64) {
 	k := t.k
 	acc := make([]float64, 2*k)
 	var s1, s2 float64
-	add := func(j int) {
+	for j := range t.n {
 		a, b := t.fa[j], t.fb[j]
 		s1 += a + b
 		s2 += a*a + b*b
 		floats.Add(acc, t.terms[2*j*k:2*(j+1)*k])
 	}
-	m := t.n
-	if idx == nil {
-		for j := range t.n {
-			add(j)
-		}
-	} else {
-		m = len(idx)
-		for _, j := range idx {
-			add(j)
+	return t.normalise(acc, s1, s2, t.n)
+}
+
+// resampled returns the indices and variance of each of r resamples of
+// the rows: cnt[j·r + q] is how often resample q drew row j (the counts
+// of each resample sum to n). Each resample adds a row's terms once for
+// every draw of it, in the order of the rows.
+func (t *sobolTerms) resampled(cnt []uint16, r int) (first, total [][]float64, v []float64) {
+	k := t.k
+	acc := make([]float64, r*2*k)
+	s1, s2 := make([]float64, r), make([]float64, r)
+	for j := range t.n {
+		a, b := t.fa[j], t.fb[j]
+		sa, sb := a+b, a*a+b*b
+		row := t.terms[2*j*k : 2*(j+1)*k]
+		for q, c := range cnt[j*r : (j+1)*r] {
+			if c == 0 {
+				continue
+			}
+			dst := acc[q*2*k : (q+1)*2*k]
+			for ; c > 0; c-- {
+				s1[q] += sa
+				s2[q] += sb
+				floats.Add(dst, row) // gonum's vector kernel
+			}
 		}
 	}
+	first, total, v = make([][]float64, r), make([][]float64, r), make([]float64, r)
+	for q := range r {
+		first[q], total[q], v[q] = t.normalise(acc[q*2*k:(q+1)*2*k], s1[q], s2[q], t.n)
+	}
+	return first, total, v
+}
+
+// normalise turns the sums of m rows' terms in acc (s1 and s2 the sums of
+// the centred outputs and of their squares) into the indices and the
+// variance.
+func (t *sobolTerms) normalise(acc []float64, s1, s2 float64, m int) (first, total []float64, v float64) {
+	k := t.k
 	nn := float64(2 * m)
 	mean := s1 / nn
 	v = (s2 - nn*mean*mean) / (nn - 1)
 	floats.Scale(1/(float64(m)*v), acc)
-	return acc[:k:k], acc[k:], v
+	return acc[:k:k], acc[k : 2*k : 2*k], v
 }
+
+// bootBlock returns how many bootstrap resamples of n rows are summed in
+// one pass over the rows: 16, fewer for a large n, so that their draw
+// counts (2 bytes a row and resample) stay within 4 MiB.
+func bootBlock(n int) int { return max(1, min(16, (1<<21)/max(n, 1))) }
 
 // unitFraction maps a 32-bit fraction to the middle of its cell, strictly
 // inside (0, 1), so that every quantile function is finite there.

@@ -4,9 +4,12 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"runtime"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
 )
 
 func sobolRun(t testing.TB, p *Problem, s *SobolSettings) *SobolResult {
@@ -207,5 +210,58 @@ func TestSobolErrors(t *testing.T) {
 	_, err := Sobol(problemOf(t, src.String(), "y"), nil)
 	if err == nil || !strings.Contains(err.Error(), "21202 dimensions, beyond the 21201 of the Joe & Kuo table: rank the inputs with screen y") {
 		t.Errorf("got %v", err)
+	}
+}
+
+// TestSobolResampled checks the block bootstrap's sums against the
+// estimators' definition (Saltelli et al. 2010, first order; Jansen 1999,
+// total) summed directly over each resample's rows in the order drawn: the
+// same numbers, but for the order of the additions (relative 1e-12).
+func TestSobolResampled(t *testing.T) {
+	const n, k, r = 300, 3, 5
+	rng := rand.New(rand.NewPCG(7, 8))
+	fa, fb, fab := make([]float64, n), make([]float64, n), make([]float64, n*k)
+	for j := range n {
+		fa[j], fb[j] = rng.NormFloat64(), rng.NormFloat64()
+		for i := range k {
+			fab[j*k+i] = fa[j] + float64(i+1)*rng.NormFloat64()
+		}
+	}
+	est := newSobolTerms(fa, fb, fab, k)
+	cnt := make([]uint16, n*r)
+	draws := make([][]int, r)
+	for q := range r {
+		for range n {
+			j := rng.IntN(n)
+			draws[q] = append(draws[q], j)
+			cnt[j*r+q]++
+		}
+	}
+	first, total, v := est.resampled(cnt, r)
+	for q, rows := range draws {
+		// The estimators over the rows drawn, from the centred outputs.
+		var s1, s2 float64
+		num1, num2 := make([]float64, k), make([]float64, k)
+		for _, j := range rows {
+			a, b := est.fa[j], est.fb[j]
+			s1 += a + b
+			s2 += a*a + b*b
+			for i := range k {
+				d := fab[j*k+i] - fa[j]
+				num1[i] += b * d
+				num2[i] += d * d / 2
+			}
+		}
+		nn := float64(2 * n)
+		want := (s2 - nn*(s1/nn)*(s1/nn)) / (nn - 1)
+		if !scalar.EqualWithinRel(v[q], want, 1e-12) {
+			t.Fatalf("resample %d: variance %v, want %v", q, v[q], want)
+		}
+		for i := range k {
+			w1, w2 := num1[i]/(n*want), num2[i]/(n*want)
+			if !scalar.EqualWithinRel(first[q][i], w1, 1e-12) || !scalar.EqualWithinRel(total[q][i], w2, 1e-12) {
+				t.Fatalf("resample %d, input %d: first %v total %v, want %v %v", q, i, first[q][i], total[q][i], w1, w2)
+			}
+		}
 	}
 }
