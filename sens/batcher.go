@@ -3,6 +3,7 @@ package sens
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"github.com/nudge-dev/nudge/sens/tape"
 )
@@ -31,6 +32,8 @@ type batcher struct {
 	base  []float64
 	dim   int
 	rows  []float64
+	fs    []Function  // evalPoints: the Function and clones, one a goroutine
+	xs    [][]float64 // evalPoints: the baseline of each, changed in place
 	chunk int
 	s     *Settings
 	cones coneSet // nil when f has none, or its baseline fails
@@ -54,6 +57,9 @@ func newBatcher(f Function, base []float64, s *Settings) *batcher {
 		chunk = max(1, maxBatchFloats/dim)
 	}
 	b := &batcher{f: f, base: base, dim: dim, chunk: chunk, s: s}
+	if dim >= pointwiseDim {
+		b.chunk = maxBatch // points, not rows: see evalPoints
+	}
 	if c, ok := f.(coner); ok {
 		// A baseline that fails leaves the cones off: the points are then
 		// evaluated as rows, and the failure reported as Eval reports it.
@@ -75,9 +81,12 @@ func (b *batcher) eval(dst []float64, pts []point) error {
 		}
 		n := min(b.chunk, len(pts)-start)
 		var err error
-		if b.cones != nil {
+		switch {
+		case b.cones != nil:
 			err = b.evalCones(dst[start:start+n], pts[start:start+n])
-		} else {
+		case b.dim >= pointwiseDim:
+			err = b.evalPoints(dst[start:start+n], pts[start:start+n])
+		default:
 			err = b.evalRows(dst[start:start+n], pts[start:start+n])
 		}
 		if err != nil {
@@ -117,6 +126,75 @@ func (b *batcher) evalCones(dst []float64, pts []point) error {
 			}
 		}
 		r = e
+	}
+	return nil
+}
+
+// pointwiseDim is the number of inputs from which a Function without
+// cones evaluates the points one at a time, through Eval on one vector
+// changed in place: a batch of rows that wide fits few points, and its
+// batched pass moves every input of every row (a model of vectors, whose
+// loop nodes have no cones). A variable, for the tests.
+var pointwiseDim = 1 << 12
+
+// pointsPerWorker is the fewest points evalPoints gives a goroutine.
+const pointsPerWorker = 16
+
+// evalPoints evaluates points one at a time through Eval on the baseline
+// changed in place, on up to GOMAXPROCS goroutines, each with a clone of
+// the Function and a contiguous share of the points. The error is that of
+// the first point that fails, whatever the number of goroutines.
+func (b *batcher) evalPoints(dst []float64, pts []point) error {
+	w := max(1, min(workerCount(0), len(pts)/pointsPerWorker))
+	for len(b.fs) < w {
+		f := b.f
+		if len(b.fs) > 0 {
+			f = b.f.Clone()
+		}
+		b.fs = append(b.fs, f)
+		b.xs = append(b.xs, append([]float64(nil), b.base...))
+	}
+	if w == 1 {
+		return b.evalShare(0, dst, pts)
+	}
+	errs := make([]error, w)
+	var wg sync.WaitGroup
+	per := (len(pts) + w - 1) / w
+	for g := range w {
+		lo, hi := min(g*per, len(pts)), min((g+1)*per, len(pts))
+		wg.Go(func() { errs[g] = b.evalShare(g, dst[lo:hi], pts[lo:hi]) })
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// evalShare evaluates points through the Function and vector of
+// goroutine g.
+func (b *batcher) evalShare(g int, dst []float64, pts []point) error {
+	f, x := b.fs[g], b.xs[g]
+	for s, p := range pts {
+		if p.i >= 0 {
+			x[p.i] = p.vi
+		}
+		if p.j >= 0 {
+			x[p.j] = p.vj
+		}
+		y, err := f.Eval(x)
+		if p.i >= 0 {
+			x[p.i] = b.base[p.i]
+		}
+		if p.j >= 0 {
+			x[p.j] = b.base[p.j]
+		}
+		if err != nil {
+			return err
+		}
+		dst[s] = y
 	}
 	return nil
 }

@@ -3,6 +3,7 @@ package sens
 import (
 	"bytes"
 	"encoding/csv"
+	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -413,5 +414,36 @@ func TestDemoTableIsTheGenerated(t *testing.T) {
 	}
 	if !bytes.Equal(got, tapebench.BidCSV(tapebench.BidDemoLines, 1)) {
 		t.Error("notebooks/steel_bid.csv differs from tapebench.BidCSV(BidDemoLines, 1): regenerate it")
+	}
+}
+
+// TestPointwiseAgreesWithRows checks that the one-at-a-time analyses of a
+// model of vectors (whose loop nodes have no cones) give the same results,
+// to the last bit, whether the batcher evaluates their points one at a
+// time through Eval or as rows through EvalBatch: tornado and spider of a
+// roll-up, a maximum and a grouped subtotal.
+func TestPointwiseAgreesWithRows(t *testing.T) {
+	p, _ := loadBid(t, 150, lineItemModel)
+	defer func(d int) { pointwiseDim = d }(pointwiseDim)
+	for _, out := range []string{"total", "most", "beams"} {
+		pr, err := p.Problem(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		run := func(dim int) string {
+			pointwiseDim = dim
+			tor, err := Tornado(pr, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			sp, err := Spider(pr, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			return string(must[[]byte](t)(json.Marshal(tor))) + string(must[[]byte](t)(json.Marshal(sp)))
+		}
+		if rows, points := run(math.MaxInt), run(0); rows != points {
+			t.Errorf("%s: rows and points differ", out)
+		}
 	}
 }
