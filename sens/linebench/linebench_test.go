@@ -3,6 +3,9 @@ package linebench
 import (
 	"sync"
 	"testing"
+
+	"github.com/nudge-dev/nudge/sens"
+	"github.com/nudge-dev/nudge/sens/tapebench"
 )
 
 // Run them with
@@ -42,4 +45,21 @@ func TestSmallBench(t *testing.T) {
 			t.Fatalf("line %d: partials %v %v", i, bn.Grad[i], bn.Grad[len(bn.Qty)+i])
 		}
 	}
+}
+
+// The tornado of the roll-up on a table of 10,000 lines (20,000 inputs,
+// whose loop nodes have no cones, so every point is a whole evaluation)
+// against one forward evaluation: "ratio" is the tornado's cost in forward
+// evaluations, at least the 40,001 points it evaluates.
+func BenchmarkTornadoVsForward(b *testing.B) {
+	bn, err := New(10_000)
+	if err != nil {
+		b.Fatal(err)
+	}
+	p, err := bn.Prog.Problem("total")
+	if err != nil {
+		b.Fatal(err)
+	}
+	tapebench.Pair(b, 1, 1, "tornado", "forward", func() error { _, err := sens.Tornado(p, nil); return err },
+		func() error { _, err := bn.Fn.Eval(bn.X); return err })
 }
