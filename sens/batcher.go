@@ -28,17 +28,16 @@ type point struct {
 // coordinates each point sets are changed, so preparing a point costs O(1),
 // not O(number of inputs).
 type batcher struct {
-	f     Function
-	base  []float64
-	dim   int
-	rows  []float64
-	fs    []Function  // evalPoints: the Function and clones, one a goroutine
-	xs    [][]float64 // evalPoints: the baseline of each, changed in place
-	chunk int
-	s     *Settings
-	cones coneSet // nil when f has none, or its baseline fails
-	vi    []float64
-	vj    []float64
+	f      Function
+	base   []float64
+	dim    int
+	rows   []float64
+	movers []mover // evalPoints: one a goroutine
+	chunk  int
+	s      *Settings
+	cones  coneSet // nil when f has none, or its baseline fails
+	vi     []float64
+	vj     []float64
 
 	done, total int
 }
@@ -140,29 +139,28 @@ var pointwiseDim = 1 << 12
 // pointsPerWorker is the fewest points evalPoints gives a goroutine.
 const pointsPerWorker = 16
 
-// evalPoints evaluates points one at a time through Eval on the baseline
-// changed in place, on up to GOMAXPROCS goroutines, each with a clone of
-// the Function and a contiguous share of the points. The error is that of
-// the first point that fails, whatever the number of goroutines.
+// evalPoints evaluates points one at a time on the baseline changed in
+// place, on up to GOMAXPROCS goroutines, each with an evaluator of its own
+// (mover) and a contiguous share of the points. The error is that of the
+// first point that fails, whatever the number of goroutines.
 func (b *batcher) evalPoints(dst []float64, pts []point) error {
 	w := max(1, min(workerCount(0), len(pts)/pointsPerWorker))
-	for len(b.fs) < w {
+	for len(b.movers) < w {
 		f := b.f
-		if len(b.fs) > 0 {
+		if len(b.movers) > 0 {
 			f = b.f.Clone()
 		}
-		b.fs = append(b.fs, f)
-		b.xs = append(b.xs, append([]float64(nil), b.base...))
+		b.movers = append(b.movers, newMover(f, b.base))
 	}
 	if w == 1 {
-		return b.evalShare(0, dst, pts)
+		return evalShare(b.movers[0], dst, pts)
 	}
 	errs := make([]error, w)
 	var wg sync.WaitGroup
 	per := (len(pts) + w - 1) / w
 	for g := range w {
 		lo, hi := min(g*per, len(pts)), min((g+1)*per, len(pts))
-		wg.Go(func() { errs[g] = b.evalShare(g, dst[lo:hi], pts[lo:hi]) })
+		wg.Go(func() { errs[g] = evalShare(b.movers[g], dst[lo:hi], pts[lo:hi]) })
 	}
 	wg.Wait()
 	for _, err := range errs {
@@ -173,30 +171,96 @@ func (b *batcher) evalPoints(dst []float64, pts []point) error {
 	return nil
 }
 
-// evalShare evaluates points through the Function and vector of
-// goroutine g.
-func (b *batcher) evalShare(g int, dst []float64, pts []point) error {
-	f, x := b.fs[g], b.xs[g]
+// evalShare evaluates points through m.
+func evalShare(m mover, dst []float64, pts []point) error {
 	for s, p := range pts {
-		if p.i >= 0 {
-			x[p.i] = p.vi
-		}
-		if p.j >= 0 {
-			x[p.j] = p.vj
-		}
-		y, err := f.Eval(x)
-		if p.i >= 0 {
-			x[p.i] = b.base[p.i]
-		}
-		if p.j >= 0 {
-			x[p.j] = b.base[p.j]
-		}
+		y, err := m.eval(p.i, p.vi, p.j, p.vj)
 		if err != nil {
 			return err
 		}
 		dst[s] = y
 	}
 	return nil
+}
+
+// mover evaluates a Function at points that differ from a base point in
+// input i and, when j >= 0, input j, one point at a time; the values and
+// errors are those of Eval.
+type mover interface {
+	eval(i int, vi float64, j int, vj float64) (float64, error)
+}
+
+// newMover returns a mover of f around base: through tape.Moves for a
+// compiled formula, which loads the base once, else through Eval on the
+// base changed in place.
+func newMover(f Function, base []float64) mover {
+	switch f := f.(type) {
+	case *Fn:
+		return &fnMover{fn: f, m: f.tape.Moves(base, f.f.out), x0: base}
+	case *subFn:
+		full := append([]float64(nil), f.full...)
+		for i, j := range f.index {
+			full[j] = base[i]
+		}
+		return &fnMover{fn: f.fn, m: f.fn.tape.Moves(full, f.fn.f.out), x0: full, index: f.index}
+	}
+	return &evalMover{f: f, base: base, x: append([]float64(nil), base...)}
+}
+
+// evalMover moves the inputs of a vector and calls Eval.
+type evalMover struct {
+	f       Function
+	base, x []float64
+}
+
+func (e *evalMover) eval(i int, vi float64, j int, vj float64) (float64, error) {
+	x := e.x
+	if i >= 0 {
+		x[i] = vi
+	}
+	if j >= 0 {
+		x[j] = vj
+	}
+	y, err := e.f.Eval(x)
+	if i >= 0 {
+		x[i] = e.base[i]
+	}
+	if j >= 0 {
+		x[j] = e.base[j]
+	}
+	return y, err
+}
+
+// fnMover evaluates a compiled formula through tape.Moves.
+type fnMover struct {
+	fn    *Fn
+	m     *tape.Moves
+	x0    []float64 // the base, every program input
+	index []int     // problem input -> program input (nil: the same)
+}
+
+func (fm *fnMover) eval(i int, vi float64, j int, vj float64) (float64, error) {
+	pi, pj := i, j
+	if fm.index != nil {
+		if i >= 0 {
+			pi = fm.index[i]
+		}
+		if j >= 0 {
+			pj = fm.index[j]
+		}
+	}
+	y, err := fm.m.Eval(pi, vi, pj, vj)
+	if err != nil {
+		x := append([]float64(nil), fm.x0...)
+		if pi >= 0 {
+			x[pi] = vi
+		}
+		if pj >= 0 {
+			x[pj] = vj
+		}
+		return math.NaN(), fm.fn.prog.evalError(err, x)
+	}
+	return y * fm.fn.scale, nil
 }
 
 // evalRows evaluates points as rows through EvalBatch.
