@@ -249,8 +249,7 @@ func (fm *fnMover) eval(i int, vi float64, j int, vj float64) (float64, error) {
 			pj = fm.index[j]
 		}
 	}
-	y, err := fm.m.Eval(pi, vi, pj, vj)
-	if err != nil {
+	point := func() []float64 {
 		x := append([]float64(nil), fm.x0...)
 		if pi >= 0 {
 			x[pi] = vi
@@ -258,9 +257,18 @@ func (fm *fnMover) eval(i int, vi float64, j int, vj float64) (float64, error) {
 		if pj >= 0 {
 			x[pj] = vj
 		}
-		return math.NaN(), fm.fn.prog.evalError(err, x)
+		return x
 	}
-	return y * fm.fn.scale, nil
+	y, err := fm.m.Eval(pi, vi, pj, vj)
+	if err != nil {
+		return math.NaN(), fm.fn.prog.evalError(err, point())
+	}
+	// As Fn.Eval: a value that overflows in the display unit is an error.
+	v := y * fm.fn.scale
+	if math.IsInf(v, 0) && !math.IsInf(y, 0) {
+		return math.NaN(), fm.fn.overflow(point(), "")
+	}
+	return v, nil
 }
 
 // evalRows evaluates points as rows through EvalBatch.

@@ -1,6 +1,10 @@
 package sens
 
-import "github.com/nudge-dev/nudge/sens/tape"
+import (
+	"math"
+
+	"github.com/nudge-dev/nudge/sens/tape"
+)
 
 // Evaluation of points given column by column: the sampling analyses draw
 // each input's values of a block of samples as a column, and a compiled
@@ -51,8 +55,17 @@ func (fn *Fn) EvalColumns(dst []float64, cols [][]float64, n int) error {
 		}
 		return fn.prog.evalError(err, x)
 	}
-	for i := range dst[:n] {
-		dst[i] *= fn.scale
+	if fn.scale == 1 {
+		return nil
+	}
+	// As scaleAll: the first value that overflows in the display unit is
+	// an error.
+	for i, y := range dst[:n] {
+		v := y * fn.scale
+		if math.IsInf(v, 0) && !math.IsInf(y, 0) {
+			return fn.overflow(columnRow(cols, i), "")
+		}
+		dst[i] = v
 	}
 	return nil
 }

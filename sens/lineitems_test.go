@@ -451,28 +451,38 @@ func TestPointwiseAgreesWithRows(t *testing.T) {
 // TestPointwiseErrorsAgree checks that a point that fails reports the same
 // error, formula, column and input values included, whether the batcher
 // evaluates the points one at a time or as rows: sqrt(k) at the low end of
-// k's range (-1..2).
+// k's range (-1..2), and a total that overflows in its display unit (mg)
+// at the high end of m's range.
 func TestPointwiseErrorsAgree(t *testing.T) {
-	p, _ := loadBid(t, 40, `table bid = "bid.csv" key item
+	for _, c := range []struct{ model, want string }{
+		{`table bid = "bid.csv" key item
 input qty = bid.qty (±5%)
 input k   = 1 (-1..2)
 total = sum(qty) * sqrt(k)
-`)
-	pr, err := p.Problem("total")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer func(d int) { pointwiseDim = d }(pointwiseDim)
-	run := func(dim int) string {
-		pointwiseDim = dim
-		_, err := Tornado(pr, nil)
-		if err == nil {
-			t.Fatal("tornado of sqrt(k) over k = -1..2 did not fail")
+`, "square root of a negative number"},
+		{`table bid = "bid.csv" key item
+input qty = bid.qty (±5%)
+input m   = 1e290 [kg] (1e289..1e300)
+total = sum(qty) * m [mg]
+`, "overflows when written in mg"},
+	} {
+		p, _ := loadBid(t, 40, c.model)
+		pr, err := p.Problem("total")
+		if err != nil {
+			t.Fatal(err)
 		}
-		return err.Error()
-	}
-	rows, points := run(math.MaxInt), run(0)
-	if rows != points || !strings.Contains(points, "sqrt") && !strings.Contains(points, "square root") {
-		t.Errorf("rows: %s\npoints: %s", rows, points)
+		defer func(d int) { pointwiseDim = d }(pointwiseDim)
+		run := func(dim int) string {
+			pointwiseDim = dim
+			_, err := Tornado(pr, nil)
+			if err == nil {
+				t.Fatalf("tornado did not fail: want %q", c.want)
+			}
+			return err.Error()
+		}
+		rows, points := run(math.MaxInt), run(0)
+		if rows != points || !strings.Contains(points, c.want) {
+			t.Errorf("rows: %s\npoints: %s", rows, points)
+		}
 	}
 }
