@@ -19,9 +19,9 @@ func runBasis(x *call) error {
 	var err error
 	out := x.c.Output
 	if _, ok := out.(*syntax.Ident); ok || out == nil {
-		prog, err = x.in.Model.Compile()
+		prog, err = x.in.Model.CompileContext(x.ctx)
 	} else {
-		prog, err = x.in.Model.CompileExpr(syntax.String(out), x.f, out, nil)
+		prog, err = x.in.Model.CompileExprContext(x.ctx, syntax.String(out), x.f, out, nil)
 	}
 	if err != nil {
 		return err

@@ -104,7 +104,7 @@ func (x *call) errorf(pos syntax.Pos, format string, args ...any) error {
 
 func posErr(f *syntax.File, pos syntax.Pos, format string, args ...any) error {
 	p := f.Position(pos)
-	return &syntax.Error{Pos: p, Msg: fmt.Sprintf(format, args...), Source: f.Line(p.Line)}
+	return syntax.ErrorAt(f, p, fmt.Sprintf(format, args...))
 }
 
 // at places an error of the engine that names no position at pos; errors
@@ -217,9 +217,9 @@ func (x *call) problem() (*sens.Problem, error) {
 	var prog *sens.Program
 	var err error
 	if _, ok := out.(*syntax.Ident); ok {
-		prog, err = x.in.Model.Compile()
+		prog, err = x.in.Model.CompileContext(x.ctx)
 	} else {
-		prog, err = x.in.Model.CompileExpr(name, x.f, out, nil)
+		prog, err = x.in.Model.CompileExprContext(x.ctx, name, x.f, out, nil)
 	}
 	if err != nil {
 		return nil, err

@@ -137,15 +137,16 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 	}
 	pending := false // declarations not yet checked by a compile
 	for i, s := range stmts {
-		interrupted := &CellError{Errors: []*syntax.Error{{Pos: f.Position(s.Pos()), Msg: "interrupted: the cell stopped here; the model is as it was before the cell",
-			Source: f.Line(f.Position(s.Pos()).Line)}}}
+		interrupted := func() error {
+			return &CellError{Errors: []*syntax.Error{syntax.ErrorAt(f, f.Position(s.Pos()), "interrupted: the cell stopped here; the model is as it was before the cell")}}
+		}
 		if ctx.Err() != nil {
-			return interrupted
+			return interrupted()
 		}
 		running = s
 		if err := in.stmt(ctx, f, s, i == len(stmts)-1, sink); err != nil {
 			if ctx.Err() != nil {
-				return interrupted
+				return interrupted()
 			}
 			return asCellError(err)
 		}
@@ -162,9 +163,12 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 	if pending {
 		// A cell that ends with declarations is checked at once: names, cycles,
 		// units, ranges, and every formula at the baseline.
-		prog, err := in.Model.Compile()
+		prog, err := in.Model.CompileContext(ctx)
 		if err == nil {
 			err = prog.Check()
+		}
+		if err != nil && ctx.Err() != nil {
+			return &CellError{Errors: []*syntax.Error{{Msg: "interrupted while the model was checked; the model is as it was before the cell"}}}
 		}
 		if err != nil {
 			return asCellError(err)
@@ -215,7 +219,7 @@ func (in *Interp) stmt(ctx context.Context, f *syntax.File, s syntax.Stmt, last 
 		sink.Result(res, false)
 		return nil
 	case *syntax.ExprStmt:
-		r, err := in.value(f, s)
+		r, err := in.value(ctx, f, s)
 		if err != nil {
 			return err
 		}
@@ -262,18 +266,18 @@ func (in *Interp) warnings(prog *sens.Program, pr *sens.Problem, sink Sink) {
 // an expression becomes a formula of its own, and with a unit to show it in,
 // its name carries the unit, so that it never clashes with a formula of the
 // model ("price [k$]" beside price).
-func (in *Interp) value(f *syntax.File, s *syntax.ExprStmt) (*render.Result, error) {
+func (in *Interp) value(ctx context.Context, f *syntax.File, s *syntax.ExprStmt) (*render.Result, error) {
 	name := syntax.String(s.X)
 	internal := name
 	var prog *sens.Program
 	var err error
 	if _, ok := s.X.(*syntax.Ident); ok && s.Unit == nil {
-		prog, err = in.Model.Compile()
+		prog, err = in.Model.CompileContext(ctx)
 	} else {
 		if s.Unit != nil {
 			internal += " [" + s.Unit.Text + "]"
 		}
-		prog, err = in.Model.CompileExpr(internal, f, s.X, s.Unit)
+		prog, err = in.Model.CompileExprContext(ctx, internal, f, s.X, s.Unit)
 	}
 	if err != nil {
 		return nil, err

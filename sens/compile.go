@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"sort"
@@ -217,6 +218,11 @@ type compiler struct {
 	// numberUnit gives a number the unit of its line's last bracket, while a
 	// formula is read the second way (see formula).
 	numberUnit map[*syntax.NumberLit]*syntax.UnitLit
+
+	ctx       context.Context          // stops the compile when done; nil: never
+	ticks     int                      // calls of canceled
+	cycleRefs map[*syntax.Ident]bool   // references that close a cycle, reported (formulaOrder)
+	undef     map[*syntax.Error]string // undefined-name errors, by the name, for their hints (undefinedHints)
 }
 
 func compile(m *Model, extra *extraFormula) (prog *Program, err error) {
@@ -263,7 +269,7 @@ func (c *compiler) run() (*Program, error) {
 		if isBuiltinName(name) {
 			id := d.Name
 			pos := d.Pos()
-			c.errs = append(c.errs, &syntax.Error{Pos: pos, Msg: fmt.Sprintf("%s is a built-in name: choose another name", id), Source: d.File.Line(pos.Line)})
+			c.errs = append(c.errs, syntax.ErrorAt(d.File, pos, fmt.Sprintf("%s is a built-in name: choose another name", id)))
 		}
 	}
 	// Inputs first, in declaration order, so input indices are stable.
@@ -274,19 +280,25 @@ func (c *compiler) run() (*Program, error) {
 	}
 	c.compileCorrelations()
 	// Formulas in dependency order.
-	for _, name := range c.m.order {
-		if d := c.decls[name]; d.Formula != nil {
-			c.formula(name, d.File, d.Formula, nil)
+	for _, name := range c.formulaOrder() {
+		if c.canceled() {
+			return nil, c.ctx.Err()
 		}
+		d := c.decls[name]
+		c.formula(name, d.File, d.Formula, nil)
 	}
 	if c.extra != nil {
 		c.formula(c.extra.name, c.extra.file, c.extra.stmt, nil)
+	}
+	if c.ctx != nil && c.ctx.Err() != nil {
+		return nil, c.ctx.Err()
 	}
 	if len(c.errs) > 0 {
 		c.errs.Sort()
 		if len(c.errs) > 10 {
 			c.errs = c.errs[:10]
 		}
+		c.undefinedHints()
 		return nil, c.errs
 	}
 	outs := make([]tape.Slot, len(p.Formulas))
@@ -626,6 +638,9 @@ func (c *compiler) expr(f *syntax.File, x syntax.Expr, constCtx bool) val {
 }
 
 func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
+	if c.cycleRefs[x] {
+		return val{bad: true} // reported by formulaOrder
+	}
 	if x.Name == "pi" {
 		return val{slot: c.b.Const(math.Pi), konst: true, c: math.Pi}
 	}
@@ -659,15 +674,14 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 	return v
 }
 
+// undefined reports x as undefined; the "did you mean" is added to the
+// errors that are kept, at the end (undefinedHints).
 func (c *compiler) undefined(f *syntax.File, x *syntax.Ident) {
-	cands := append(c.m.Names(), "pi")
-	for _, fn := range Functions {
-		cands = append(cands, fn.Name)
+	c.errorf(f, x.Pos(), "undefined: %s", x.Name)
+	if c.undef == nil {
+		c.undef = map[*syntax.Error]string{}
 	}
-	for _, fn := range VectorFunctions {
-		cands = append(cands, fn.Name)
-	}
-	c.errorf(f, x.Pos(), "undefined: %s%s", x.Name, syntax.DidYouMean(x.Name, cands))
+	c.undef[c.errs[len(c.errs)-1]] = x.Name
 }
 
 func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) val {

@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"context"
 	"errors"
 	"maps"
 	"path/filepath"
@@ -254,8 +255,18 @@ func (m *Model) Reset() {
 
 // Compile compiles the model, caching the result until the next change.
 func (m *Model) Compile() (*Program, error) {
+	return m.CompileContext(context.Background())
+}
+
+// CompileContext is Compile, stopped with ctx's error when ctx is done
+// (which is not cached).
+func (m *Model) CompileContext(ctx context.Context) (*Program, error) {
 	if m.prog == nil && m.progErr == nil {
-		m.prog, m.progErr = compile(m, nil)
+		prog, err := compileContext(ctx, m, nil)
+		if ctx.Err() != nil && prog == nil {
+			return nil, ctx.Err()
+		}
+		m.prog, m.progErr = prog, err
 	}
 	return m.prog, m.progErr
 }
@@ -264,7 +275,13 @@ func (m *Model) Compile() (*Program, error) {
 // becomes a formula named name (not visible to other formulas). declared, when
 // not nil, is the unit to show its value in.
 func (m *Model) CompileExpr(name string, f *syntax.File, x syntax.Expr, declared *syntax.UnitLit) (*Program, error) {
-	return compile(m, &extraFormula{name: name, file: f, stmt: &syntax.FormulaStmt{
+	return m.CompileExprContext(context.Background(), name, f, x, declared)
+}
+
+// CompileExprContext is CompileExpr, stopped with ctx's error when ctx is
+// done.
+func (m *Model) CompileExprContext(ctx context.Context, name string, f *syntax.File, x syntax.Expr, declared *syntax.UnitLit) (*Program, error) {
+	return compileContext(ctx, m, &extraFormula{name: name, file: f, stmt: &syntax.FormulaStmt{
 		Name: &syntax.Ident{NamePos: x.Pos(), Name: name}, Assign: x.Pos(), Value: x, Unit: declared, EndAt: x.End(),
 	}})
 }

@@ -78,6 +78,20 @@ import (
 // MaxDepth is the deepest nesting of expressions the parser accepts.
 const MaxDepth = 200
 
+// MaxHeight is the tallest expression tree the parser accepts: the most
+// operations on a path from a term to the whole, where each operator of a
+// chain a * b * c counts as one (the parser reads a chain as nested pairs,
+// ((a * b) * c)), except the additions of a chain a + b + c + ..., which
+// the compiler adds pairwise without recursion and which count as one
+// operation however long the chain (up to MaxTerms terms). Every stage
+// after the parser walks expressions recursively; these bounds keep their
+// stacks to a few tens of megabytes, where a chain of 200,000 products on
+// one line would exhaust the runtime's 1 GB stack and end the process.
+const MaxHeight = 10000
+
+// MaxTerms is the most terms of one chain of additions, a + b + c + ....
+const MaxTerms = 100000
+
 // Parse parses src as a model file or notebook cell named name. It returns every
 // statement it could parse and the errors it found (an ErrorList, or nil).
 func Parse(name string, src []byte) (*File, []Stmt, error) {
@@ -123,6 +137,7 @@ type parser struct {
 	lit string
 
 	depth    int  // expression nesting
+	height   int  // the height of the expression parsed last (MaxHeight)
 	stmtUnit bool // a trailing unit at the end of the line belongs to the statement
 	// inInput: an input's value is being parsed, where a name, a space and
 	// '(' start the range: input qty = parts.qty (±10%).
@@ -203,8 +218,8 @@ func ContinuesLine(tok Token) bool {
 // exists and does not start with "input" or "name =". The scanner is left
 // where it was.
 func (p *parser) nextLineContinues(s *Scanner) bool {
-	save, n := s.off, len(p.errs)
-	defer func() { s.off, p.errs = save, p.errs[:n] }()
+	save, n := *s, len(p.errs)
+	defer func() { *s, p.errs = save, p.errs[:n] }()
 	tok, _, _ := s.Scan()
 	for tok == NEWLINE || tok == COMMENT {
 		tok, _, _ = s.Scan()
@@ -228,9 +243,9 @@ func (p *parser) looksLikeStatementStart(s *Scanner, tok Token, lit string) bool
 	if tok != IDENT {
 		return false
 	}
-	save, n := s.off, len(p.errs)
+	save, n := *s, len(p.errs)
 	next, _, _ := s.Scan()
-	s.off = save
+	*s = save
 	p.errs = p.errs[:n]
 	// table NAME = and periods NAME = (tables.go) start statements too.
 	return next == ASSIGN || next == IDENT && (lit == "table" || lit == "periods")
@@ -313,7 +328,7 @@ func (p *parser) parseStmtSafe() (s Stmt) {
 				panic(r)
 			}
 			s = nil
-			p.depth, p.nested, p.stmtUnit, p.inInput = 0, 0, false, false
+			p.depth, p.height, p.nested, p.stmtUnit, p.inInput = 0, 0, 0, false, false
 			for !p.atEnd() {
 				p.next()
 			}
@@ -581,6 +596,16 @@ func (p *parser) enter() {
 
 func (p *parser) leave() { p.depth-- }
 
+// grow sets the height of an operation at pos whose operands are the
+// expression parsed last and one of height h, and stops the statement when
+// it passes MaxHeight.
+func (p *parser) grow(pos Pos, h int) {
+	p.height = max(p.height, h) + 1
+	if p.height > MaxHeight {
+		p.error(pos, errorf("expression too long: more than %d operations in a chain (or nested); split it into formulas of partial sums, or sum a table's column with sum()", MaxHeight))
+	}
+}
+
 func (p *parser) parseBinary(prec1 int) Expr {
 	p.enter()
 	defer p.leave()
@@ -589,20 +614,38 @@ func (p *parser) parseBinary(prec1 int) Expr {
 		pos := p.pos
 		p.next()
 		x = &UnaryExpr{OpPos: pos, Op: NOT, X: p.parseBinary(3)}
+		p.grow(pos, 0)
 	} else {
 		x = p.parseUnary()
 	}
+	terms := 1 // the terms of x, a chain of additions
 	for {
 		op, oprec := p.tok, p.tok.Precedence()
 		if oprec < prec1 || op == POW {
 			return x
 		}
+		hx := p.height
 		pos := p.pos
 		p.next()
 		if p.atEnd() {
 			p.error(p.pos, "expected an operand after '"+op.String()+"', found "+p.describe())
 		}
 		y := p.parseBinary(oprec + 1)
+		if op == ADD && terms > 1 {
+			// Another term of a chain of additions: the chain's height is
+			// its tallest term's plus one.
+			terms++
+			p.height = max(p.height+1, hx)
+			if terms > MaxTerms {
+				p.error(pos, errorf("expression too long: more than %d terms in one sum; split it into formulas of partial sums, or sum a table's column with sum()", MaxTerms))
+			}
+		} else {
+			p.grow(pos, hx)
+			terms = 1
+			if op == ADD {
+				terms = 2
+			}
+		}
 		if op.IsComparison() {
 			if b, ok := x.(*BinaryExpr); ok && b.Op.IsComparison() {
 				p.error(pos, "comparisons do not chain: write a < b and b < c")
@@ -619,7 +662,9 @@ func (p *parser) parseUnary() Expr {
 		p.next()
 		p.enter()
 		defer p.leave()
-		return &UnaryExpr{OpPos: pos, Op: op, X: p.parseUnary()}
+		x := &UnaryExpr{OpPos: pos, Op: op, X: p.parseUnary()}
+		p.grow(pos, 0)
+		return x
 	case NOT:
 		p.error(p.pos, "'not' applies to a condition: use it inside if(...)")
 	}
@@ -630,16 +675,19 @@ func (p *parser) parsePower() Expr {
 	x := p.parsePrimary()
 	if p.tok == POW {
 		pos := p.pos
+		hx := p.height
 		p.next()
 		p.enter()
 		defer p.leave()
 		y := p.parseUnary() // right-associative: 2^3^2 = 2^(3^2); 2^-1 allowed
+		p.grow(pos, hx)
 		return &BinaryExpr{X: x, OpPos: pos, Op: POW, Y: y}
 	}
 	return x
 }
 
 func (p *parser) parsePrimary() Expr {
+	p.height = 0
 	switch p.tok {
 	case NUMBER:
 		v, err := ParseNumber(p.lit)
@@ -673,6 +721,7 @@ func (p *parser) parsePrimary() Expr {
 		}
 		rp := p.pos
 		p.next()
+		p.grow(lp, 0)
 		return &ParenExpr{Lparen: lp, X: x, Rparen: rp}
 	case UNIT:
 		p.error(p.pos, "a unit must follow a number or end the line: write 5 ["+p.lit+"]")
@@ -709,8 +758,10 @@ func (p *parser) parseArgs(fun string) (lp Pos, args []Expr, rp Pos) {
 	p.nested++
 	saveUnit := p.stmtUnit
 	p.stmtUnit = false
+	h := 0 // the tallest argument
 	for p.tok != RPAREN {
 		args = append(args, p.parseExpr())
+		h = max(h, p.height)
 		if p.tok == COMMA {
 			p.next()
 			if p.tok == RPAREN {
@@ -732,6 +783,8 @@ func (p *parser) parseArgs(fun string) (lp Pos, args []Expr, rp Pos) {
 	p.nested--
 	rp = p.pos
 	p.next()
+	p.height = h
+	p.grow(lp, 0)
 	return lp, args, rp
 }
 

@@ -1,6 +1,7 @@
 package syntax
 
 import (
+	"bytes"
 	"strconv"
 	"strings"
 	"unicode"
@@ -14,18 +15,36 @@ type Scanner struct {
 	src  []byte
 	off  int // current reading offset
 	errs *ErrorList
+
+	// The scanner reports the first error of a line only, and stops
+	// reporting after maxErrors lines with errors: a list keeps no more
+	// (ErrorList.Sort keeps the first error per line, Parse the first
+	// maxErrors), and a long line of stray characters would otherwise
+	// cost an error, and a search for its column, per character.
+	errEnd   int // errors before this offset (the end of the last error's line) are dropped
+	errLines int // lines with an error reported
 }
 
 // Init prepares s to scan f, reporting errors into errs.
 func (s *Scanner) Init(f *File, errs *ErrorList) {
-	s.file, s.src, s.off, s.errs = f, f.Src, 0, errs
+	*s = Scanner{file: f, src: f.Src, errs: errs}
 	// Skip a UTF-8 byte order mark.
 	if len(s.src) >= 3 && s.src[0] == 0xEF && s.src[1] == 0xBB && s.src[2] == 0xBF {
 		s.off = 3
 	}
 }
 
-func (s *Scanner) error(off int, msg string) { s.errs.Add(s.file, s.file.Pos(off), msg) }
+func (s *Scanner) error(off int, msg string) {
+	if off < s.errEnd || s.errLines >= maxErrors {
+		return
+	}
+	s.errLines++
+	s.errEnd = len(s.src)
+	if i := bytes.IndexByte(s.src[off:], '\n'); i >= 0 {
+		s.errEnd = off + i
+	}
+	s.errs.Add(s.file, s.file.Pos(off), msg)
+}
 
 func (s *Scanner) peekRune(off int) (rune, int) {
 	if off >= len(s.src) {

@@ -1,0 +1,167 @@
+package sens
+
+import (
+	"context"
+	"fmt"
+	"strings"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
+)
+
+// formulaOrder returns the model's formulas in the order they are compiled:
+// every formula after the formulas it uses, in the order a depth-first walk
+// from each formula in declaration order, through its references from left
+// to right, finishes them. The walk keeps its own stack, so 100,000
+// formulas each written before the one it uses cost no recursion: compiling
+// in this order, every reference finds its formula done.
+//
+// A reference that closes a cycle is reported here ("cycle: a -> b -> a",
+// at the reference) and remembered in c.cycleRefs, where ident finds it
+// and stops instead of following it.
+func (c *compiler) formulaOrder() []string {
+	const (
+		unseen = iota
+		open
+		closed
+	)
+	mark := make(map[string]uint8, len(c.decls))
+	order := make([]string, 0, len(c.decls))
+	type frame struct {
+		name string
+		d    *Decl
+		refs []*syntax.Ident // references to formulas, left to right
+		next int
+	}
+	var stack []frame
+	push := func(name string, d *Decl) {
+		mark[name] = open
+		stack = append(stack, frame{name: name, d: d, refs: c.formulaRefs(d.Formula.Value)})
+	}
+	for _, root := range c.m.order {
+		d := c.decls[root]
+		if d.Formula == nil || mark[root] != unseen {
+			continue
+		}
+		push(root, d)
+		for len(stack) > 0 {
+			top := &stack[len(stack)-1]
+			if top.next == len(top.refs) {
+				mark[top.name] = closed
+				order = append(order, top.name)
+				stack = stack[:len(stack)-1]
+				continue
+			}
+			ref := top.refs[top.next]
+			top.next++
+			name := refBase(ref.Name)
+			switch mark[name] {
+			case unseen:
+				push(name, c.decls[name])
+			case open:
+				i := len(stack) - 1
+				for stack[i].name != name {
+					i--
+				}
+				path := make([]string, 0, len(stack)-i+1)
+				for _, fr := range stack[i:] {
+					path = append(path, fr.name)
+				}
+				path = append(path, name)
+				c.errorf(top.d.File, ref.Pos(), "cycle: %s", cyclePath(path))
+				if c.cycleRefs == nil {
+					c.cycleRefs = map[*syntax.Ident]bool{}
+				}
+				c.cycleRefs[ref] = true
+			}
+		}
+	}
+	return order
+}
+
+// formulaRefs returns the references in x to formulas of the model, left to
+// right.
+func (c *compiler) formulaRefs(x syntax.Expr) []*syntax.Ident {
+	var refs []*syntax.Ident
+	syntax.Walk(x, func(e syntax.Expr) bool {
+		if id, ok := e.(*syntax.Ident); ok {
+			if d := c.decls[refBase(id.Name)]; d != nil && d.Formula != nil {
+				refs = append(refs, id)
+			}
+		}
+		return true
+	})
+	return refs
+}
+
+// refBase returns the name a reference reaches: name for name[key], else
+// the reference itself.
+func refBase(ref string) string {
+	if base, _, ok := splitElement(ref); ok {
+		return base
+	}
+	return ref
+}
+
+// maxCyclePath is the most names a cycle message lists.
+const maxCyclePath = 12
+
+// cyclePath joins a cycle's names with arrows, leaving out the middle of a
+// long one.
+func cyclePath(path []string) string {
+	if len(path) <= maxCyclePath {
+		return strings.Join(path, " -> ")
+	}
+	head, tail := path[:maxCyclePath/2], path[len(path)-maxCyclePath/2:]
+	return fmt.Sprintf("%s -> … (%d more) -> %s", strings.Join(head, " -> "), len(path)-len(head)-len(tail), strings.Join(tail, " -> "))
+}
+
+// canceled reports whether the compile's context is done, checking it every
+// checkEvery calls.
+func (c *compiler) canceled() bool {
+	if c.ctx == nil {
+		return false
+	}
+	c.ticks++
+	if c.ticks%checkEvery != 0 {
+		return false
+	}
+	return c.ctx.Err() != nil
+}
+
+// checkEvery is how many formulas the compiler compiles between looks at
+// its context.
+const checkEvery = 64
+
+// undefinedHints adds "did you mean" to the undefined names among the
+// errors kept, once they are known: a model of thousands of formulas with
+// one input renamed has thousands of undefined references, and only the
+// first ten errors are shown.
+func (c *compiler) undefinedHints() {
+	if len(c.undef) == 0 {
+		return
+	}
+	var cands []string
+	for _, e := range c.errs {
+		name, ok := c.undef[e]
+		if !ok {
+			continue
+		}
+		if cands == nil {
+			cands = append(c.m.Names(), "pi")
+			for _, fn := range Functions {
+				cands = append(cands, fn.Name)
+			}
+			for _, fn := range VectorFunctions {
+				cands = append(cands, fn.Name)
+			}
+		}
+		e.Msg += syntax.DidYouMean(name, cands)
+	}
+}
+
+// compileContext compiles m, stopping with ctx's error when ctx is done.
+func compileContext(ctx context.Context, m *Model, extra *extraFormula) (*Program, error) {
+	c := newCompiler(m, extra)
+	c.ctx = ctx
+	return c.run()
+}
