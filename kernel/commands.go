@@ -28,11 +28,27 @@ type Command struct {
 // or, with Quantity set, a number in the unit of the command's output, or,
 // with Name set, a name (written as Name says: "COLUMN").
 type Option struct {
-	Key      string
-	Doc      string
-	Min      int
+	Key string
+	Doc string
+	// Min and Max bound a whole-number option; Max is MaxWhole when 0. A
+	// count that sizes what an analysis keeps (samples, points, resamples)
+	// has a Max of its own, so that a value the language accepts cannot
+	// exhaust the kernel's memory; help and the README show it.
+	Min, Max int
 	Quantity bool
 	Name     string
+}
+
+// MaxWhole is the largest value of a whole-number option without a Max of
+// its own.
+const MaxWhole = 10_000_000
+
+// Most returns the largest value the option takes.
+func (o Option) Most() int {
+	if o.Max > 0 {
+		return o.Max
+	}
+	return MaxWhole
 }
 
 // Form is how the option is written: "top=N", "target=T", "group=COLUMN".
@@ -173,13 +189,14 @@ func (x *call) whole(key string) (int, bool, error) {
 	if o == nil {
 		return 0, false, nil
 	}
-	lo := x.option(key).Min
+	spec := x.option(key)
+	lo, hi := spec.Min, spec.Most()
 	v, err := sens.Constant(x.f, o.Value, "", key)
 	if err != nil {
 		return 0, true, err
 	}
-	if v != math.Trunc(v) || v < float64(lo) || v > 1e7 {
-		return 0, true, x.errorf(o.Value.Pos(), "%s must be a whole number from %d to 10,000,000, found %s", key, lo, syntax.String(o.Value))
+	if v != math.Trunc(v) || v < float64(lo) || v > float64(hi) {
+		return 0, true, x.errorf(o.Value.Pos(), "%s must be a whole number from %d to %s, found %s", key, lo, count(hi), syntax.String(o.Value))
 	}
 	return int(v), true, nil
 }

@@ -137,7 +137,7 @@ func TestGlobalSameJSONAnyProcs(t *testing.T) {
 // TestGlobalInterrupted cancels each analysis at its first progress report:
 // it stops with an interruption, shows nothing, and the model is as before.
 func TestGlobalInterrupted(t *testing.T) {
-	for _, cmd := range []string{"simulate total n=2000000", "sobol total n=1000000", "morris total r=200000", "screen total n=2000000"} {
+	for _, cmd := range []string{"simulate total n=1000000", "sobol total n=1000000", "morris total r=100000", "screen total n=1000000"} {
 		in := newUncertain(t)
 		before, _ := json.Marshal(in.Model.Names())
 		ctx, cancel := context.WithCancel(context.Background())

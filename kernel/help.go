@@ -73,7 +73,11 @@ func runHelp(x *call) error {
 func helpOf(c *Command) HelpCommand {
 	h := HelpCommand{Verb: c.Verb, Usage: c.Usage(), Doc: c.Doc, Example: c.Example}
 	for _, o := range c.Options {
-		h.Options = append(h.Options, HelpOption{Form: o.Form(), Doc: o.Doc})
+		doc := o.Doc
+		if o.Max > 0 {
+			doc += "; at most " + count(o.Max)
+		}
+		h.Options = append(h.Options, HelpOption{Form: o.Form(), Doc: doc})
 	}
 	return h
 }

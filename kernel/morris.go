@@ -10,9 +10,9 @@ var morrisCommand = &Command{
 	Doc:     "elementary effects (mu, mu*, sigma) of each input over its range, and the mu*–sigma chart",
 	Example: "morris total r=40 seed=7",
 	Options: []Option{
-		{Key: "r", Doc: "the number of trajectories (20 when not given)", Min: 2},
+		{Key: "r", Doc: "the number of trajectories (20 when not given)", Min: 2, Max: 100_000},
 		seedOption,
-		{Key: "levels", Doc: "the number of levels of the grid, even (4 when not given)", Min: 2},
+		{Key: "levels", Doc: "the number of levels of the grid, even (4 when not given)", Min: 2, Max: 1000},
 	},
 	run: runMorris,
 }

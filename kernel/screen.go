@@ -10,7 +10,7 @@ var screenCommand = &Command{
 	Doc:     "derivative-based screening: an upper bound on each input's total-order index from one gradient per sample, for models of many inputs",
 	Example: "screen total n=2000 seed=7",
 	Options: []Option{
-		{Key: "n", Doc: "the number of samples (1,000 when not given)", Min: 2},
+		{Key: "n", Doc: "the number of samples (1,000 when not given)", Min: 2, Max: 1_000_000},
 		seedOption,
 	},
 	run: runScreen,

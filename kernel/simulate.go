@@ -11,7 +11,7 @@ var simulateCommand = &Command{
 	Doc:     "Monte Carlo simulation of an output from its inputs' distributions: statistics, percentiles, the chance of exceeding a value, and what drives the spread",
 	Example: "simulate total n=20000 seed=7 above=160000",
 	Options: []Option{
-		{Key: "n", Doc: "the number of samples (10,000 when not given)", Min: 2},
+		{Key: "n", Doc: "the number of samples (10,000 when not given)", Min: 2, Max: 1_000_000},
 		seedOption,
 		{Key: "above", Doc: "a threshold T, in the output's unit: the chance that the output exceeds it", Quantity: true},
 	},

@@ -10,9 +10,9 @@ var sobolCommand = &Command{
 	Doc:     "first-order and total-order Sobol' indices, with bootstrap intervals",
 	Example: "sobol total n=8192 seed=7",
 	Options: []Option{
-		{Key: "n", Doc: "the number of base samples; the output is evaluated n·(k+2) times (4,096 when not given)", Min: 2},
+		{Key: "n", Doc: "the number of base samples; the output is evaluated n·(k+2) times (4,096 when not given)", Min: 2, Max: 1 << 20},
 		seedOption,
-		{Key: "bootstrap", Doc: "the number of bootstrap resamples for the intervals (500 when not given)", Min: 10},
+		{Key: "bootstrap", Doc: "the number of bootstrap resamples for the intervals (500 when not given)", Min: 10, Max: 10_000},
 	},
 	run: runSobol,
 }

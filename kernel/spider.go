@@ -10,8 +10,8 @@ var spiderCommand = &Command{
 	Doc:     "the output against the percentage change of each input, or over each input's own range",
 	Example: "spider total (±30%) lines=5",
 	Options: []Option{
-		{Key: "points", Doc: "the number of points of each line (13 unless given)", Min: 3},
-		{Key: "lines", Doc: "the most lines the chart draws (8 unless given); a note names the rest", Min: 1},
+		{Key: "points", Doc: "the number of points of each line (13 unless given)", Min: 3, Max: 1000},
+		{Key: "lines", Doc: "the most lines the chart draws (8 unless given); a note names the rest", Min: 1, Max: 1000},
 		topOption,
 	},
 	run: runSpider,

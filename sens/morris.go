@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+
+	"github.com/nudge-dev/nudge/sens/unit"
 )
 
 // MorrisSettings are the settings of Morris. A nil *MorrisSettings means
@@ -104,6 +106,9 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 		return nil, err
 	}
 	k := len(p.Inputs)
+	if err := checkKept("morris", p.Output, r, k+1, fmt.Sprintf("r = %s trajectories of %s points", unit.Format(float64(r), ""), unit.Format(float64(k+1), "")), "lower r, or rank the inputs with screen "+p.Output); err != nil {
+		return nil, err
+	}
 	half := levels / 2 // the step in grid levels
 	delta := float64(levels) / float64(2*(levels-1))
 	res := &MorrisResult{Kind: "morris", Output: p.Output, Unit: p.Unit, R: r, Levels: levels, Delta: delta,

@@ -116,6 +116,9 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 	if points%2 == 0 {
 		points++
 	}
+	if err := checkKept("spider", p.Output, points, len(p.Inputs), fmt.Sprintf("%s points on each of %s inputs", unit.Format(float64(points), ""), unit.Format(float64(len(p.Inputs)), "")), "lower points="); err != nil {
+		return nil, err
+	}
 	half := points / 2
 	pcts := make([]float64, points)
 	for j := range pcts {

@@ -1,6 +1,11 @@
 package sens
 
-import "math"
+import (
+	"fmt"
+	"math"
+
+	"github.com/nudge-dev/nudge/sens/unit"
+)
 
 // spiderRanges is Spider over each input's own range: input i runs from its
 // low to its high end, the others at their baselines,
@@ -21,6 +26,9 @@ func spiderRanges(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 	points = max(points, 3)
 	if points%2 == 0 {
 		points++
+	}
+	if err := checkKept("spider", p.Output, points, len(p.Inputs), fmt.Sprintf("%s points on each of %s inputs", unit.Format(float64(points), ""), unit.Format(float64(len(p.Inputs)), "")), "lower points="); err != nil {
+		return nil, err
 	}
 	half := points / 2
 	grid := make([][]float64, len(p.Inputs))
