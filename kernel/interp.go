@@ -135,6 +135,9 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 	if perr != nil {
 		return asCellError(perr)
 	}
+	if err := sens.CheckDuplicates(f, stmts); err != nil {
+		return asCellError(err)
+	}
 	pending := false // declarations not yet checked by a compile
 	for i, s := range stmts {
 		interrupted := func() error {

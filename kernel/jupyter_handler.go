@@ -6,6 +6,7 @@ import (
 	"log"
 	"os"
 	"os/signal"
+	"strconv"
 	"strings"
 	"sync/atomic"
 	"syscall"
@@ -21,21 +22,32 @@ func Serve(connFile string, logw io.Writer) error {
 	ctx, stop := signal.NotifyContext(context.Background(), syscall.SIGTERM)
 	defer stop()
 	logger := log.New(logw, "nudge: ", log.LstdFlags)
-	if os.Getenv("JPY_PARENT_PID") != "" {
-		ctx = watchParent(ctx, logger, time.Second)
+	if env := os.Getenv("JPY_PARENT_PID"); env != "" {
+		ctx = watchParent(ctx, logger, time.Second, parentPID(env))
 	}
 	in := New()
 	in.DebugLog = logw
 	return jupyter.Run(ctx, connFile, NewHandler(in), logger)
 }
 
-// watchParent returns a context that ends when the process that started the
-// kernel exits. A Jupyter launcher sets JPY_PARENT_PID; a front end that dies,
-// or exits before its shutdown_request leaves its socket, must not leave an
-// orphaned kernel behind.
-func watchParent(ctx context.Context, logger *log.Logger, every time.Duration) context.Context {
+// parentPID returns the process JPY_PARENT_PID names: the Jupyter process
+// that launched the kernel, which need not be the kernel's parent (a
+// launcher may start it through a shell or a wrapper script). A value that
+// is not a process id names the kernel's parent.
+func parentPID(env string) int {
+	if pid, err := strconv.Atoi(strings.TrimSpace(env)); err == nil && pid > 1 {
+		return pid
+	}
+	return os.Getppid()
+}
+
+// watchParent returns a context that ends when process pid, the one that
+// started the kernel (JPY_PARENT_PID), exits, checking every interval. A
+// front end that dies, or exits before its shutdown_request leaves its
+// socket, must not leave an orphaned kernel behind.
+func watchParent(ctx context.Context, logger *log.Logger, every time.Duration, pid int) context.Context {
 	ctx, cancel := context.WithCancel(ctx)
-	parent := os.Getppid()
+	direct := pid == os.Getppid() // the parent: when it exits, the kernel is reparented
 	go func() {
 		t := time.NewTicker(every)
 		defer t.Stop()
@@ -44,8 +56,8 @@ func watchParent(ctx context.Context, logger *log.Logger, every time.Duration) c
 			case <-ctx.Done():
 				return
 			case <-t.C:
-				if os.Getppid() != parent {
-					logger.Printf("the process that started this kernel (pid %d) has exited; shutting down", parent)
+				if gone(pid) || direct && os.Getppid() != pid {
+					logger.Printf("the process that started this kernel (pid %d) has exited; shutting down", pid)
 					cancel()
 					return
 				}

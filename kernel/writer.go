@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"github.com/nudge-dev/nudge/kernel/jupyter"
 	"github.com/nudge-dev/nudge/kernel/render"
 	"github.com/nudge-dev/nudge/plotting"
 )
@@ -205,7 +206,9 @@ func RunFile(ctx context.Context, in *Interp, name, src string, sink *WriterSink
 				sink.out(string(b) + "\n")
 			}
 		} else {
-			sink.errf("%s\n", "error: "+ce.Detail())
+			// The source line an error quotes may hold escape sequences:
+			// a terminal must not run them.
+			sink.errf("%s\n", jupyter.PlainText("error: "+ce.Detail()))
 		}
 		return ce
 	}

@@ -344,6 +344,9 @@ func LoadModel(name string, src []byte) (*Model, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := CheckDuplicates(f, stmts); err != nil {
+		return nil, err
+	}
 	m := NewModel()
 	var errs syntax.ErrorList
 	var scenarios, rates []*syntax.CommandStmt

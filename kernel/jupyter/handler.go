@@ -202,16 +202,17 @@ func errorFields(err error) (name, value string, tb []string) {
 	}
 	clean := make([]string, len(tb))
 	for i, line := range tb {
-		clean[i] = plainText(line)
+		clean[i] = PlainText(line)
 	}
-	return plainText(name), plainText(value), clean
+	return PlainText(name), PlainText(value), clean
 }
 
-// plainText makes s safe to print on a terminal: C0 controls other than
+// PlainText makes s safe to print on a terminal (the kernel's tracebacks,
+// and the command line's error lines, which quote the source): C0 controls other than
 // tab and newline, and DEL, become their control pictures (U+2400 to
 // U+2421); C1 controls and invalid UTF-8 become U+FFFD. Text without any
 // of them is returned as it is.
-func plainText(s string) string {
+func PlainText(s string) string {
 	clean := true
 	for _, r := range s {
 		if unsafeRune(r) {

@@ -230,13 +230,13 @@ func TestPlainText(t *testing.T) {
 		{"bad \xff\xfe utf-8", "bad \ufffd\ufffd utf-8"},
 	}
 	for _, tc := range cases {
-		got := plainText(tc.in)
+		got := PlainText(tc.in)
 		if got != tc.want {
-			t.Errorf("plainText(%q) = %q, want %q", tc.in, got, tc.want)
+			t.Errorf("PlainText(%q) = %q, want %q", tc.in, got, tc.want)
 		}
 		// One character for one: a caret under the line keeps its column.
 		if utf8.ValidString(tc.in) && utf8.RuneCountInString(got) != utf8.RuneCountInString(tc.in) {
-			t.Errorf("plainText(%q) changed the width: %d runes from %d", tc.in, utf8.RuneCountInString(got), utf8.RuneCountInString(tc.in))
+			t.Errorf("PlainText(%q) changed the width: %d runes from %d", tc.in, utf8.RuneCountInString(got), utf8.RuneCountInString(tc.in))
 		}
 	}
 }
