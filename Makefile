@@ -15,8 +15,9 @@ build:
 	go build -o $(BIN) ./kernel/cmd/nudge
 
 # Every test: Go tests, the race detector on the concurrent packages, a short
-# fuzz run of each parser (the CSV and notebook readers too), of the compiler and of the kernel's wire reader
-# (frames, handshake, messages), the Jupyter conformance suite, every notebook
+# fuzz run of each parser (the CSV and notebook readers too), of the compiler,
+# of the interpreter on whole cells and of the kernel's wire reader (frames,
+# handshake, messages), the Jupyter conformance suite, every notebook
 # executed through nbconvert, and JupyterLab's rendermime registry on the
 # kernel's bundles. The Debian packages they need are installed first when
 # missing (as root; otherwise the command to run is printed).
@@ -36,6 +37,7 @@ fuzz:
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=15s ./sens/syntax/
 	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=10s ./sens/unit/
 	go test -run='^$$' -fuzz='^FuzzCompile$$' -fuzztime=15s ./sens/
+	go test -run='^$$' -fuzz='^FuzzExecute$$' -fuzztime=15s ./kernel/
 	go test -run='^$$' -fuzz='^FuzzReadMsg$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
 	go test -run='^$$' -fuzz='^FuzzHandshake$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
 	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=10s ./kernel/jupyter/

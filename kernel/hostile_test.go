@@ -95,6 +95,7 @@ func hostileCells() []hostileCell {
 		{name: "sobol bootstrap=10000000", before: []string{model}, src: "sobol cost bootstrap=10000000", want: "bootstrap must be a whole number from 10 to 10,000"},
 		{name: "morris r=10000000", before: []string{model}, src: "morris cost r=10000000", want: "r must be a whole number from 2 to 100,000"},
 		{name: "screen n=10000000", before: []string{model}, src: "screen cost n=10000000", want: "n must be a whole number from 2 to 1,000,000"},
+		{name: "a table read from /dev/zero", src: "table t = \"/dev/zero\"", want: "cannot read /dev/zero: it is not a regular file"},
 		{name: "tornado top=1e300", before: []string{model}, src: "tornado cost top=1e300", want: "top must be a whole number from 1 to 10,000,000"},
 	}
 }

@@ -504,11 +504,16 @@ func resolvePath(dir, path string) string {
 // statement's file name when it cannot.
 func readTableFile(f *syntax.File, s *syntax.TableStmt, dir string) ([]byte, error) {
 	full := resolvePath(dir, s.Path.Value)
-	data, err := os.ReadFile(full)
+	data, err := readRegular(full, MaxTableBytes)
 	if err == nil {
 		return data, nil
 	}
 	var errs syntax.ErrorList
+	var te *tableFileError
+	if errors.As(err, &te) {
+		errs.Add(f, s.Path.Pos(), "cannot read "+s.Path.Value+": "+te.msg)
+		return nil, errs
+	}
 	where := ""
 	if abs, aerr := filepath.Abs(full); aerr == nil && abs != s.Path.Value {
 		where = " (looked for " + abs + ")"
@@ -528,6 +533,43 @@ func readTableFile(f *syntax.File, s *syntax.TableStmt, dir string) ([]byte, err
 	}
 	errs.Add(f, s.Path.Pos(), msg)
 	return nil, errs
+}
+
+// MaxTableBytes is the largest file a table statement reads: 512 MiB,
+// several million lines. A file that is not a regular file (a device such
+// as /dev/zero, a pipe) is refused: it could send bytes without end, or
+// none.
+const MaxTableBytes = 512 << 20
+
+// tableFileError is a file a table statement will not read.
+type tableFileError struct{ msg string }
+
+func (e *tableFileError) Error() string { return e.msg }
+
+// readRegular reads the regular file path of at most max bytes.
+func readRegular(path string, max int64) ([]byte, error) {
+	fh, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer fh.Close()
+	st, err := fh.Stat()
+	if err != nil {
+		return nil, err
+	}
+	switch {
+	case st.IsDir():
+		return nil, &tableFileError{"it is a directory, not a file"}
+	case !st.Mode().IsRegular():
+		return nil, &tableFileError{"it is not a regular file (a device or a pipe)"}
+	case st.Size() > max:
+		return nil, &tableFileError{fmt.Sprintf("the file is %s bytes, more than the %s a table reads", unit.Format(float64(st.Size()), ""), unit.Format(float64(max), ""))}
+	}
+	data, err := io.ReadAll(io.LimitReader(fh, max+1))
+	if err == nil && int64(len(data)) > max {
+		return nil, &tableFileError{fmt.Sprintf("the file grew past the %s bytes a table reads", unit.Format(float64(max), ""))}
+	}
+	return data, err
 }
 
 // TableResult is the result of loading a table: its size and its columns.
