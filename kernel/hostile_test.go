@@ -68,7 +68,7 @@ func hostileCells() []hostileCell {
 		fmt.Fprintf(&reversed, "f%d = f%d + 1\n", i, i+1)
 		fmt.Fprintf(&cycle, "f%d = f%d + a\n", i, i+1)
 	}
-	fmt.Fprintf(&reversed, "f%d = a\nf0\n", n-1)
+	fmt.Fprintf(&reversed, "f%d = a\nf0\nbasis f0\ndrivers f0\n", n-1)
 	fmt.Fprintf(&cycle, "f%d = f0\n", n-1)
 	renamed.WriteString("input shop_rate = 60 [$/h]\n")
 	for i := range 8000 {

@@ -99,8 +99,9 @@ func (m *Model) Basis(prog *Program, output syntax.Expr) (*BasisResult, error) {
 		res.Inputs = append(res.Inputs, b)
 	}
 	x := prog.Baseline()
-	for _, f := range prog.Formulas {
-		if len(prog.Deps(f)) > 0 || used != nil && !used[f.Name] || m.decls[f.Name] == nil {
+	konst := prog.constants()
+	for i, f := range prog.Formulas {
+		if !konst[i] || used != nil && !used[f.Name] || m.decls[f.Name] == nil {
 			continue
 		}
 		fn, err := prog.Fn(f.Name)
@@ -124,11 +125,15 @@ func rangeText(r *syntax.RangeSpec) string {
 	return "(" + r.Low.Lit + ".." + r.High.Lit + ")"
 }
 
-// uses returns the names x refers to, directly or through formulas.
+// uses returns the names x refers to, directly or through formulas. It
+// keeps its own list of formulas to visit: a chain of 100,000 formulas
+// costs no recursion.
 func (m *Model) uses(x syntax.Expr) map[string]bool {
 	seen := map[string]bool{}
-	var walk func(syntax.Expr)
-	walk = func(x syntax.Expr) {
+	todo := []syntax.Expr{x}
+	for len(todo) > 0 {
+		x := todo[len(todo)-1]
+		todo = todo[:len(todo)-1]
 		syntax.Walk(x, func(e syntax.Expr) bool {
 			id, ok := e.(*syntax.Ident)
 			if !ok || seen[id.Name] {
@@ -136,11 +141,29 @@ func (m *Model) uses(x syntax.Expr) map[string]bool {
 			}
 			seen[id.Name] = true
 			if d := m.decls[id.Name]; d != nil && d.Formula != nil {
-				walk(d.Formula.Value)
+				todo = append(todo, d.Formula.Value)
 			}
 			return true
 		})
 	}
-	walk(x)
 	return seen
+}
+
+// constants reports, for each formula, whether it depends on no input,
+// with one pass over the program's tape (tape.Constant) for the formulas
+// on it.
+func (p *Program) constants() []bool {
+	var onTape []bool
+	out := make([]bool, len(p.Formulas))
+	for i, f := range p.Formulas {
+		if f.tape != nil {
+			out[i] = len(p.Deps(f)) == 0
+			continue
+		}
+		if onTape == nil {
+			onTape = p.tape.Constant()
+		}
+		out[i] = onTape[f.out]
+	}
+	return out
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math/rand/v2"
 	"runtime/debug"
 	"strings"
 	"testing"
@@ -169,5 +170,47 @@ func TestTallExpressionsCompile(t *testing.T) {
 			t.Errorf("%.20s…: y = %v, want %v", c.src[19:], v.Value, c.want)
 		}
 		driversOf(t, p, "y")
+	}
+}
+
+// The one-pass test of which formulas are constant (tape.Constant) agrees
+// with tracing each formula (Program.Deps) on random models with constant
+// formulas among them, and on the line-item model's loops.
+func TestConstantsAgreeWithDeps(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	seen := map[bool]int{}
+	check := func(p *Program, what string) {
+		t.Helper()
+		got := p.constants()
+		for i, f := range p.Formulas {
+			if want := len(p.Deps(f)) == 0; got[i] != want {
+				t.Fatalf("%s: formula %s constant %v, traced %v", what, f.Name, got[i], want)
+			}
+			seen[got[i]]++
+		}
+	}
+	for trial := range 100 {
+		var src strings.Builder
+		names := []string{"x0", "x1", "k0"}
+		src.WriteString("input x0 = 1.5 (1..2)\ninput x1 = 0.5 (0..1)\nk0 = 2.5 * 0\n")
+		for i := range 12 {
+			name := fmt.Sprintf("f%d", i)
+			pool := names
+			if rng.IntN(3) == 0 {
+				pool = []string{"k0"} // a constant formula, maybe of other constants
+			}
+			expr := randExpr(rng, pool, 3)
+			if rng.IntN(4) == 0 {
+				expr = "0 * (" + expr + ")" // folded away: constant though it names inputs
+			}
+			fmt.Fprintf(&src, "%s = %s\n", name, expr)
+			names = append(names, name)
+		}
+		check(compileSrc(t, src.String()), fmt.Sprintf("trial %d", trial))
+	}
+	p, _ := loadBid(t, 40, lineItemModel+"\nfixed = 1200 [$] + sum(bid.buyout) * 0\nmix = fixed + sum(qty * bid.buyout) * 0\nbeam_qty = qty[PL-0001] * 0 [$] + by_cat[beam]\n")
+	check(p, "line items")
+	if seen[true] < 100 || seen[false] < 100 {
+		t.Errorf("%d constant and %d other formulas: the test does not exercise both", seen[true], seen[false])
 	}
 }

@@ -18,6 +18,45 @@ func (t *Tape) InputDeps(i int) []int {
 	return deps
 }
 
+// Constant returns, for each output, whether it depends on no input: the
+// outputs whose InputDeps are empty, found in one pass over the tape
+// instead of a trace per output (which costs the square of the tape on a
+// chain of formulas). A loop node counts as depending on an input when any
+// of its operands does; an output it reaches is then traced exactly.
+func (t *Tape) Constant() []bool {
+	p := t.p
+	dep := make([]bool, len(p.ops))
+	for k := range min(p.nIn, len(dep)) {
+		dep[k] = true
+	}
+	loops, loopDep := false, false
+	for k := p.start; k < len(p.ops); k++ {
+		switch op := p.ops[k]; op {
+		case opLoop: // vec.go: the union of its operands, for every lane
+			loops, loopDep = true, false
+			p.loops[p.a[k]].operands(func(first, n int32) {
+				for s := first; s < first+n && !loopDep; s++ {
+					loopDep = dep[s]
+				}
+			})
+			dep[k] = loopDep
+		case opLane:
+			dep[k] = loopDep
+		default: // the operands reach marks
+			d := dep[p.a[k]] || dep[p.b[k]]
+			if op.Arity() == 3 {
+				d = d || dep[p.a[k+1]]
+			}
+			dep[k] = d
+		}
+	}
+	out := make([]bool, len(p.outs))
+	for i, o := range p.outs {
+		out[i] = !dep[o] || loops && len(t.InputDeps(i)) == 0
+	}
+	return out
+}
+
 // StepOps returns the source positions, sorted and without repeats, of
 // the step operations (floor, ceil, round, comparisons, and, or, not,
 // if) that output i depends on: where one of them flips, the output
