@@ -64,7 +64,8 @@ func TestExchangeRates(t *testing.T) {
 		{"exchange EUR = 1.08", "the rate of EUR must be a constant amount of another currency"},
 		{"exchange FTE = 1 [$]", "FTE is not a currency"},
 		{"exchange EUR = 1.08 [$]\nexchange $ = 1 [EUR]", "2:10: unexpected character '$'"},
-		{"exchange EUR = 1.08 [$]\nexchange USD = 0.9 [EUR]\nexchange EUR = 1 [USD]", "3:16: exchange rates form a cycle: USD -> EUR -> USD"},
+		{"exchange EUR = 1.08 [$]\nexchange USD = 0.9 [EUR]\nexchange EUR = 1 [USD]", "3:10: the exchange rate of EUR is stated twice: first at line 1, column 10"},
+		{"exchange USD = 0.9 [EUR]\nexchange EUR = 1 [USD]", "2:16: exchange rates form a cycle: EUR -> USD -> EUR"},
 		{"exchange EUR = -1 [$]", "the rate of EUR must be a positive amount of $"},
 	} {
 		if _, err := runCell(t, tc.src); err == nil || !strings.Contains(err.Error(), tc.want) {

@@ -3,6 +3,7 @@ package kernel
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"runtime"
 	"strings"
 	"testing"
@@ -137,12 +138,23 @@ func TestGlobalSameJSONAnyProcs(t *testing.T) {
 // TestGlobalInterrupted cancels each analysis at its first progress report:
 // it stops with an interruption, shows nothing, and the model is as before.
 func TestGlobalInterrupted(t *testing.T) {
-	for _, cmd := range []string{"simulate total n=1000000", "sobol total n=1000000", "morris total r=100000", "screen total n=1000000"} {
+	// Progress is reported every 100 ms: each analysis must run longer than
+	// that at its largest count, so the output sums 40 more inputs.
+	var wide strings.Builder
+	wide.WriteString("input extra = 1\nwide = total")
+	for i := range 40 {
+		fmt.Fprintf(&wide, " + e%d", i)
+	}
+	wide.WriteString("\n")
+	for i := range 40 {
+		fmt.Fprintf(&wide, "input e%d = 1 [$] (0..2)\n", i)
+	}
+	for _, cmd := range []string{"simulate wide n=1000000", "sobol wide n=500000", "morris wide r=100000", "screen wide n=1000000"} {
 		in := newUncertain(t)
 		before, _ := json.Marshal(in.Model.Names())
 		ctx, cancel := context.WithCancel(context.Background())
 		s := &analysisSink{}
-		err := in.Execute(ctx, "", "input extra = 1\n"+cmd, &cancelSink{analysisSink: s, cancel: cancel})
+		err := in.Execute(ctx, "", wide.String()+cmd, &cancelSink{analysisSink: s, cancel: cancel})
 		if err == nil || !strings.Contains(err.Error(), "interrupted") {
 			t.Errorf("%s: error %v, want an interruption", cmd, err)
 		}

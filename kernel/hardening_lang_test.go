@@ -36,6 +36,8 @@ func TestDuplicateDeclarations(t *testing.T) {
 		{"input a = 1\ny = a\ny = 2 * a\n", "cell 1:3:1: y is declared twice: first as a formula at line 2, column 1"},
 		{"input a = 1\na = 2\n", "cell 1:2:1: a is declared twice: first as an input at line 1, column 7"},
 		{"input a = 1\nscenario s: a = 2\nscenario s: a = 3\n", "cell 1:3:10: scenario s is defined twice: first at line 2, column 10"},
+		{"exchange EUR = 1.08 [$]\nexchange EUR = 1.2 [$]\n", "cell 1:2:10: the exchange rate of EUR is stated twice: first at line 1, column 10"},
+		{"input a = 1 ~ normal(1, 0.1)\ninput b = 1 ~ normal(1, 0.1)\nspearman a, b = 0.5\nspearman b, a = 0.7\n", "cell 1:4:10: the rank correlation of a and b is declared twice: first at line 3, column 10"},
 	} {
 		in := New()
 		got := cellErr(in, c.src)
@@ -48,7 +50,7 @@ func TestDuplicateDeclarations(t *testing.T) {
 	}
 	// Across cells a name is redefined, as a notebook changes a model.
 	in := New()
-	for _, src := range []string{"input a = 1\ny = a\nscenario s: a = 2", "input a = 3\ny = 2 * a\nscenario s: a = 4"} {
+	for _, src := range []string{"input a = 1\ny = a\nscenario s: a = 2\nexchange EUR = 1.08 [$]", "input a = 3\ny = 2 * a\nscenario s: a = 4\nexchange EUR = 1.1 [$]"} {
 		if got := cellErr(in, src); got != "" {
 			t.Fatalf("%q: %s", src, got)
 		}

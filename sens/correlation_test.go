@@ -6,6 +6,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 const corrInputs = `input a = 1 ~ normal(1, 1)
@@ -61,9 +63,24 @@ func TestCorrelationInconsistent(t *testing.T) {
 	if err := compileErr(t, corrInputs+strings.Join(decls, "\n")+"\n"); err != "" {
 		t.Errorf("with the suggested %q: %s", fix, err)
 	}
-	// Consistent correlations compile, and a pair declared again (in either
-	// order) replaces the first.
-	p := compileSrc(t, corrInputs+"spearman a, b = 0.9\nspearman b, a = 0.2\n")
+	// A pair declared again (in either order) in one file is an error; in
+	// a later cell it replaces the first.
+	if _, err := LoadModel("test", []byte(corrInputs+"spearman a, b = 0.9\nspearman b, a = 0.2\n")); err == nil || !strings.Contains(err.Error(), "the rank correlation of a and b is declared twice") {
+		t.Errorf("a pair declared twice in one file: %v", err)
+	}
+	model, err := LoadModel("test", []byte(corrInputs+"spearman a, b = 0.9\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, stmts, err := syntax.Parse("cell 2", []byte("spearman b, a = 0.2\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	model.DefineCorrelation(f, stmts[0].(*syntax.CommandStmt))
+	p, err := model.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
 	if len(p.Correlations) != 1 || p.Correlations[0].Rho != 0.2 {
 		t.Errorf("correlations %+v", p.Correlations)
 	}

@@ -7,8 +7,9 @@ import (
 )
 
 // CheckDuplicates reports every name that stmts, one cell or model file,
-// declare twice: an input, formula, table or range of periods, or a
-// scenario (scenarios have names of their own). A later cell may redefine
+// declare twice: an input, formula, table or range of periods; a scenario
+// (scenarios have names of their own), an exchange rate of one currency,
+// a rank correlation of one pair of inputs. A later cell may redefine
 // a name (the notebook way of changing a model); within one cell or file a
 // second declaration is a slip, and silently keeping the last would hide
 // it. Each error sits at the second declaration and names the first.
@@ -18,7 +19,7 @@ func CheckDuplicates(f *syntax.File, stmts []syntax.Stmt) error {
 		what string
 	}
 	decls := map[string]first{}
-	scenarios := map[string]*syntax.Ident{}
+	stated := map[string]*syntax.Ident{} // scenarios, exchange rates, rank correlations
 	var errs syntax.ErrorList
 	for _, s := range stmts {
 		var id *syntax.Ident
@@ -33,13 +34,30 @@ func CheckDuplicates(f *syntax.File, stmts []syntax.Stmt) error {
 		case *syntax.PeriodsStmt:
 			id, what = s.Name, "periods"
 		case *syntax.CommandStmt:
-			if s.Verb == "scenario" && s.Name != nil {
-				if prev, ok := scenarios[s.Name.Name]; ok {
-					p := f.Position(prev.Pos())
-					errs.Add(f, s.Name.Pos(), fmt.Sprintf("scenario %s is defined twice: first at line %d, column %d; a cell or file defines each scenario once (a later cell may redefine it)", s.Name.Name, p.Line, p.Column))
-				} else {
-					scenarios[s.Name.Name] = s.Name
+			// Scenarios, exchange rates and rank correlations are stated
+			// once a cell too, each in a space of its own.
+			var key, what string
+			var at *syntax.Ident
+			switch {
+			case s.Verb == "scenario" && s.Name != nil:
+				key, what, at = "scenario "+s.Name.Name, "scenario "+s.Name.Name+" is defined", s.Name
+			case s.Verb == "exchange" && len(s.Assigns) == 1:
+				a := s.Assigns[0].Name
+				key, what, at = "exchange "+a.Name, "the exchange rate of "+a.Name+" is stated", a
+			case s.Verb == "spearman" && len(s.Names) == 2:
+				x, y := s.Names[0].Name, s.Names[1].Name
+				if y < x {
+					x, y = y, x
 				}
+				key, what, at = "spearman "+x+" "+y, "the rank correlation of "+x+" and "+y+" is declared", s.Names[0]
+			default:
+				continue
+			}
+			if prev, ok := stated[key]; ok {
+				p := f.Position(prev.Pos())
+				errs.Add(f, at.Pos(), fmt.Sprintf("%s twice: first at line %d, column %d; a cell or file states it once (a later cell may change it)", what, p.Line, p.Column))
+			} else {
+				stated[key] = at
 			}
 			continue
 		default:
