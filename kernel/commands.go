@@ -196,7 +196,7 @@ func (x *call) whole(key string) (int, bool, error) {
 		return 0, true, err
 	}
 	if v != math.Trunc(v) || v < float64(lo) || v > float64(hi) {
-		return 0, true, x.errorf(o.Value.Pos(), "%s must be a whole number from %d to %s, found %s", key, lo, count(hi), syntax.String(o.Value))
+		return 0, true, x.errorf(o.Value.Pos(), "%s must be a whole number from %d to %s, found %s", key, lo, count(hi), syntax.Brief(o.Value))
 	}
 	return int(v), true, nil
 }

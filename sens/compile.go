@@ -727,7 +727,7 @@ func (c *compiler) binary(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) v
 				verb = "compare"
 			}
 			c.errorf(f, x.OpPos, "cannot %s %s and %s: units %s and %s do not match (%s vs %s)%s",
-				verb, syntax.String(x.X), syntax.String(x.Y), orOne(unitText(c.shown(x.X, a))), orOne(unitText(c.shown(x.Y, b))), dimName(a.dim), dimName(b.dim), rateHint(a.dim, b.dim))
+				verb, syntax.Brief(x.X), syntax.Brief(x.Y), orOne(unitText(c.shown(x.X, a))), orOne(unitText(c.shown(x.Y, b))), dimName(a.dim), dimName(b.dim), rateHint(a.dim, b.dim))
 			return val{bad: true}
 		}
 	}
@@ -876,7 +876,7 @@ func (c *compiler) call(f *syntax.File, x *syntax.CallExpr, constCtx bool) val {
 		for i, a := range args {
 			if !a.dim.IsDimensionless() {
 				c.errorf(f, x.Args[i].Pos(), "%s needs a dimensionless argument, found %s: divide by a reference value, e.g. %s / 1 [%s]",
-					name, unitText(c.shown(x.Args[i], a)), syntax.String(x.Args[i]), unitText(c.shown(x.Args[i], a)))
+					name, unitText(c.shown(x.Args[i], a)), syntax.Brief(x.Args[i]), unitText(c.shown(x.Args[i], a)))
 				return val{bad: true}
 			}
 		}

@@ -429,7 +429,7 @@ func (c *compiler) periods(d *Decl) *domain {
 		c.errorf(f, s.First.Pos(), "periods are whole numbers: periods %s = 1..20", d.Name)
 		return nil
 	case last < first:
-		c.errorf(f, s.First.Pos(), "the periods %s..%s are reversed: write %s..%s", syntax.String(s.First), syntax.String(s.Last), syntax.String(s.Last), syntax.String(s.First))
+		c.errorf(f, s.First.Pos(), "the periods %s..%s are reversed: write %s..%s", syntax.Brief(s.First), syntax.Brief(s.Last), syntax.Brief(s.Last), syntax.Brief(s.First))
 		return nil
 	case last-first+1 > maxPeriods:
 		c.errorf(f, s.First.Pos(), "%s periods are too many (at most %s)", unit.Format(last-first+1, ""), unit.Format(maxPeriods, ""))
@@ -702,7 +702,7 @@ func (c *compiler) where(f *syntax.File, x *syntax.CallExpr, v, cond val) val {
 	}
 	mask, ok := c.b.VecConsts(cond.slot)
 	if !ok {
-		c.errorf(f, x.Args[1].Pos(), "the condition of where picks rows once, from data: %s depends on inputs (for a condition on inputs use if(condition, value, 0))", syntax.String(x.Args[1]))
+		c.errorf(f, x.Args[1].Pos(), "the condition of where picks rows once, from data: %s depends on inputs (for a condition on inputs use if(condition, value, 0))", syntax.Brief(x.Args[1]))
 		return val{bad: true}
 	}
 	var idx []int
@@ -712,7 +712,7 @@ func (c *compiler) where(f *syntax.File, x *syntax.CallExpr, v, cond val) val {
 		}
 	}
 	if len(idx) == 0 {
-		c.errorf(f, x.Args[1].Pos(), "no row of %s meets %s", dom.name, syntax.String(x.Args[1]))
+		c.errorf(f, x.Args[1].Pos(), "no row of %s meets %s", dom.name, syntax.Brief(x.Args[1]))
 		return val{bad: true}
 	}
 	sub := dom
@@ -742,7 +742,7 @@ func (c *compiler) subtotal(f *syntax.File, x *syntax.CallExpr, v, by val) val {
 	} else {
 		cs, ok := c.b.VecConsts(by.slot)
 		if !ok {
-			c.errorf(f, x.Args[1].Pos(), "subtotal groups by a column of data: %s depends on inputs", syntax.String(x.Args[1]))
+			c.errorf(f, x.Args[1].Pos(), "subtotal groups by a column of data: %s depends on inputs", syntax.Brief(x.Args[1]))
 			return val{bad: true}
 		}
 		bdom = c.b.domainOf(by.slot)

@@ -89,7 +89,7 @@ func (c *compiler) compileCorrelations() {
 		}
 		rho, vok := c.constant(f, s.Target, unit.One(), "the rank correlation of "+s.Names[0].Name+" and "+s.Names[1].Name)
 		if vok && !(rho > -1 && rho < 1) {
-			c.errorf(f, s.Target.Pos(), "a rank correlation lies strictly between -1 and 1, found %s", syntax.String(s.Target))
+			c.errorf(f, s.Target.Pos(), "a rank correlation lies strictly between -1 and 1, found %s", syntax.Brief(s.Target))
 			vok = false
 		}
 		if ok && vok {

@@ -68,7 +68,7 @@ func (c *compiler) longSum(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) 
 		}
 		if !a.dim.Equal(b.dim) {
 			c.errorf(f, e.OpPos, "cannot add %s and %s: units %s and %s do not match (%s vs %s)",
-				syntax.String(e.X), syntax.String(e.Y), orOne(unitText(c.display(a))), orOne(unitText(c.display(b))), dimName(a.dim), dimName(b.dim))
+				syntax.Brief(e.X), syntax.Brief(e.Y), orOne(unitText(c.display(a))), orOne(unitText(c.display(b))), dimName(a.dim), dimName(b.dim))
 			return val{bad: true}, true
 		}
 		if sum.hint == nil {

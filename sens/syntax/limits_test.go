@@ -201,3 +201,22 @@ func TestDidYouMeanChoices(t *testing.T) {
 		}
 	}
 }
+
+// Brief quotes an expression as String does, cut after MaxBrief bytes.
+func TestBrief(t *testing.T) {
+	x, err := ParseExpr("a * (b + 2 [kg]) - max(c, d)")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := Brief(x), String(x); got != want {
+		t.Errorf("Brief = %q, want %q", got, want)
+	}
+	long, err := ParseExpr("a" + strings.Repeat(" + abc", 50_000))
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := Brief(long)
+	if !strings.HasSuffix(got, "…") || len(got) > MaxBrief+16 || !strings.HasPrefix(String(long), strings.TrimSuffix(got, "…")) {
+		t.Errorf("Brief of a long sum: %d bytes, %.100q", len(got), got)
+	}
+}

@@ -790,15 +790,58 @@ func (p *parser) parseArgs(fun string) (lp Pos, args []Expr, rp Pos) {
 
 // exprString renders x compactly, for messages.
 func exprString(x Expr) string {
-	var b strings.Builder
-	writeExpr(&b, x)
+	var b fullBuilder
+	writeExprTo(&b, x)
 	return b.String()
 }
 
 // String returns x as source text with canonical spacing.
 func String(x Expr) string { return exprString(x) }
 
-func writeExpr(b *strings.Builder, x Expr) {
+// MaxBrief is the length, in bytes, past which Brief cuts an expression.
+const MaxBrief = 60
+
+// Brief returns x as String does, cut after about MaxBrief bytes with "…":
+// for messages, which quote an expression to point at it, and must not
+// quote a sum of 100,000 terms whole.
+func Brief(x Expr) string {
+	b := limitedBuilder{limit: MaxBrief}
+	writeExprTo(&b, x)
+	if b.cut {
+		return b.String() + "…"
+	}
+	return b.String()
+}
+
+// exprWriter is where writeExprTo writes: a strings.Builder, or a
+// limitedBuilder that stops taking text past its limit.
+type exprWriter interface {
+	WriteString(string) (int, error)
+	WriteByte(byte) error
+	full() bool
+}
+
+type fullBuilder struct{ strings.Builder }
+
+func (*fullBuilder) full() bool { return false }
+
+type limitedBuilder struct {
+	strings.Builder
+	limit int
+	cut   bool
+}
+
+func (b *limitedBuilder) full() bool {
+	if b.Len() >= b.limit {
+		b.cut = true
+	}
+	return b.cut
+}
+
+func writeExprTo(b exprWriter, x Expr) {
+	if b.full() {
+		return
+	}
 	switch x := x.(type) {
 	case nil:
 		b.WriteString("?")
@@ -813,29 +856,35 @@ func writeExpr(b *strings.Builder, x Expr) {
 		}
 	case *ParenExpr:
 		b.WriteByte('(')
-		writeExpr(b, x.X)
+		writeExprTo(b, x.X)
 		b.WriteByte(')')
 	case *UnaryExpr:
 		b.WriteString(x.Op.String())
 		if x.Op == NOT {
 			b.WriteByte(' ')
 		}
-		writeExpr(b, x.X)
+		writeExprTo(b, x.X)
 	case *BinaryExpr:
-		writeExpr(b, x.X)
+		writeExprTo(b, x.X)
+		if b.full() {
+			return
+		}
 		if x.Op == POW {
 			b.WriteString("^")
 		} else {
 			b.WriteString(" " + x.Op.String() + " ")
 		}
-		writeExpr(b, x.Y)
+		writeExprTo(b, x.Y)
 	case *CallExpr:
 		b.WriteString(x.Fun.Name + "(")
 		for i, a := range x.Args {
+			if b.full() {
+				return
+			}
 			if i > 0 {
 				b.WriteString(", ")
 			}
-			writeExpr(b, a)
+			writeExprTo(b, a)
 		}
 		b.WriteByte(')')
 	case *UnitLit:
