@@ -85,9 +85,26 @@ func (l *ErrorList) Add(f *File, pos Pos, msg string) {
 }
 
 // ErrorAt returns the error msg at p in f, with an excerpt of its line.
+// A message longer than MaxMessage bytes (one that quotes a name or number
+// a megabyte long) is cut there, with "…".
 func ErrorAt(f *File, p Position, msg string) *Error {
 	src, col := Excerpt(f.Line(p.Line), p.Column)
-	return &Error{Pos: p, Msg: msg, Source: src, SourceCol: col}
+	return &Error{Pos: p, Msg: cutMessage(msg), Source: src, SourceCol: col}
+}
+
+// MaxMessage is the longest message, in bytes, an error made by ErrorAt
+// or ErrorList.Add keeps.
+const MaxMessage = 1000
+
+func cutMessage(msg string) string {
+	if len(msg) <= MaxMessage {
+		return msg
+	}
+	cut := MaxMessage
+	for cut > 0 && !utf8.RuneStart(msg[cut]) {
+		cut--
+	}
+	return msg[:cut] + "…"
 }
 
 // MaxExcerpt is the longest source line, in characters, that an error

@@ -220,3 +220,20 @@ func TestBrief(t *testing.T) {
 		t.Errorf("Brief of a long sum: %d bytes, %.100q", len(got), got)
 	}
 }
+
+// A message that quotes a name or a number a megabyte long is cut.
+func TestLongMessagesCut(t *testing.T) {
+	for _, src := range []string{
+		"y = " + strings.Repeat("1", 1<<20) + "\n",
+		"input " + strings.Repeat("é", 1<<19) + "\n",
+	} {
+		_, _, err := Parse("m", []byte(src))
+		el, ok := err.(ErrorList)
+		if !ok {
+			t.Fatalf("got %v", err)
+		}
+		if m := el[0].Msg; len(m) > MaxMessage+len("…") || !strings.HasSuffix(m, "…") || !utf8.ValidString(m) {
+			t.Errorf("message of %d bytes: %.80q", len(m), m)
+		}
+	}
+}
