@@ -75,7 +75,7 @@ func (c *Command) Usage() string {
 // commands is the table of commands, by verb: the one place a command is
 // registered.
 var commands = table(
-	driversCommand, tornadoCommand, spiderCommand, sweepCommand, breakevenCommand,
+	driversCommand, tornadoCommand, exploreCommand, spiderCommand, sweepCommand, breakevenCommand,
 	scenarioCommand, compareCommand, attributeCommand, exchangeCommand, basisCommand, simulateCommand, sobolCommand,
 	morrisCommand, screenCommand, spearmanCommand, printCommand, resetCommand, chartsCommand,
 	helpCommand, interactionsCommand,

@@ -21,6 +21,7 @@ type CommandForm struct {
 var commandForms = []CommandForm{
 	{"drivers", "drivers OUT", (*parser).parseDrivers},
 	{"tornado", "tornado OUT", (*parser).parseTornado},
+	{"explore", "explore OUT", (*parser).parseExplore},
 	{"spider", "spider OUT [(±P%) | over ranges]", (*parser).parseSpider},
 	{"sweep", "sweep OUT over X a..b [and Y c..d]", (*parser).parseSweep},
 	{"breakeven", "breakeven OUT = T over X [a..b]", (*parser).parseBreakeven},
@@ -67,7 +68,7 @@ func IsVerb(name string) bool { return Command(name) != nil }
 
 // parseCommand parses a command and its options:
 //
-//	command = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
+//	command = ( drivers | tornado | explore | spider | sweep | breakeven | scenario | compare
 //	          | attribute | exchange | basis | global | spearman | print | reset | charts
 //	          | help | interactions ) options .
 //	options = { name "=" arith } .
@@ -110,6 +111,12 @@ func (p *parser) parseDrivers(c *CommandStmt) { p.parseOutput(c) }
 //
 //	tornado = "tornado" arith .
 func (p *parser) parseTornado(c *CommandStmt) { p.parseOutput(c) }
+
+// parseExplore parses the what-if panel of an output, whose sliders move
+// the inputs with the largest swings:
+//
+//	explore = "explore" arith .
+func (p *parser) parseExplore(c *CommandStmt) { p.parseOutput(c) }
 
 // parseGlobal parses an uncertainty or global-sensitivity analysis of an
 // output (its size, seed and other settings are options):

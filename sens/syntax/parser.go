@@ -39,12 +39,13 @@ import (
 // without comparisons or logic, so that words such as "over" and "and" end it.
 // One parse function per verb carries its production (commands.go).
 //
-//	command   = ( drivers | tornado | spider | sweep | breakeven | scenario | compare
+//	command   = ( drivers | tornado | explore | spider | sweep | breakeven | scenario | compare
 //	          | attribute | exchange | basis | global | spearman | print | reset | charts
 //	          | help | interactions ) options .
 //	options   = { name "=" arith } .
 //	drivers   = "drivers" arith .
 //	tornado   = "tornado" arith .
+//	explore   = "explore" arith .
 //	spider    = "spider" name [ range | "over" "ranges" ] .
 //	sweep     = "sweep" arith "over" axis [ "and" axis ] .
 //	axis      = name arith ".." arith .

@@ -1,0 +1,111 @@
+package sens
+
+import (
+	"errors"
+	"fmt"
+
+	"github.com/nudge-dev/nudge/sens/tape"
+)
+
+// ExploreInput is one input a what-if panel moves: its baseline and range in
+// its own unit, and the output at the ends of the range with the other
+// inputs at their baselines (the tornado's bar).
+type ExploreInput struct {
+	Name         string      `json:"name"`
+	Unit         string      `json:"unit"`
+	Value        float64     `json:"value"`
+	Low          float64     `json:"low"`
+	High         float64     `json:"high"`
+	Source       RangeSource `json:"source"`
+	OutputAtLow  float64     `json:"output_at_low"`
+	OutputAtHigh float64     `json:"output_at_high"`
+}
+
+// ExploreResult is what a what-if panel needs: the output at the baseline,
+// the inputs it moves (the largest swings of the tornado, largest first), and
+// the listing of the compiled output in those inputs, which the panel
+// evaluates in the page.
+type ExploreResult struct {
+	Kind   string         `json:"kind"` // "explore"
+	Output string         `json:"output"`
+	Unit   string         `json:"unit"`
+	Value  float64        `json:"value"`
+	Inputs []ExploreInput `json:"inputs"`
+	// Held is the number of inputs the output depends on that keep their
+	// baselines.
+	Held int `json:"held"`
+	// Slots is the size of the listing (entries and loop elements); 0 when
+	// none was made.
+	Slots int `json:"slots"`
+	// TooLarge says why no listing was made, when it would exceed
+	// ExploreSettings.Limit.
+	TooLarge string `json:"too_large,omitempty"`
+	// Listing is the compiled output in the inputs, the others folded in.
+	Listing *Listing `json:"-"`
+}
+
+// ExploreSettings are the settings of Explore. A nil *ExploreSettings means
+// the defaults.
+type ExploreSettings struct {
+	Settings
+	// Top is the number of inputs moved (DefaultExploreTop when 0).
+	Top int
+	// Limit is the most slots a listing may hold (DefaultExploreLimit when
+	// 0): a page evaluates it on every move of a slider, and a notebook
+	// stores it.
+	Limit int
+}
+
+// DefaultExploreTop is how many inputs a what-if panel moves by default.
+const DefaultExploreTop = 6
+
+// DefaultExploreLimit is the largest listing a what-if panel carries, in
+// slots (about 20 bytes each in the page).
+const DefaultExploreLimit = 20000
+
+// Explore prepares a what-if panel of the problem's output: it ranks the
+// inputs by their tornado swings, keeps the Top largest, and writes the
+// compiled output out as a listing in which those inputs move and the
+// others stay at their baselines.
+func Explore(pr *Problem, s *ExploreSettings) (*ExploreResult, error) {
+	top, limit := DefaultExploreTop, DefaultExploreLimit
+	var set Settings
+	if s != nil {
+		if s.Top > 0 {
+			top = s.Top
+		}
+		if s.Limit > 0 {
+			limit = s.Limit
+		}
+		set = s.Settings
+	}
+	t, err := Tornado(pr, &TornadoSettings{Settings: set, Top: top, Interior: -1})
+	if err != nil {
+		return nil, err
+	}
+	r := &ExploreResult{Kind: "explore", Output: pr.Output, Unit: pr.Unit, Value: t.Baseline}
+	var free []int
+	for _, b := range t.Bars {
+		_, j, err := pr.Input(b.Name)
+		if err != nil {
+			return nil, err
+		}
+		free = append(free, j)
+		r.Inputs = append(r.Inputs, ExploreInput{Name: b.Name, Unit: b.Unit, Value: b.Value, Low: b.Low, High: b.High,
+			Source: b.Source, OutputAtLow: b.OutputAtLow, OutputAtHigh: b.OutputAtHigh})
+	}
+	r.Held = len(pr.Inputs) - len(free)
+	L, err := pr.Listing(pr.Baseline(), free, limit)
+	switch {
+	case errors.Is(err, tape.ErrListingTooLarge):
+		r.TooLarge = fmt.Sprintf("the output needs more than %d operations between these inputs and itself, too many to carry in a page: explore a formula nearer the inputs, or fewer inputs (top=N)", limit)
+		return r, nil
+	case err != nil:
+		return nil, err
+	}
+	r.Listing = L
+	for _, e := range L.Entries {
+		r.Slots += e.Width
+	}
+	return r, nil
+}
