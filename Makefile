@@ -6,7 +6,7 @@ JP    := $(CURDIR)/out/jupyter
 
 RM    := kernel/testdata/rendermime
 
-.PHONY: demo build deps test gotest race fuzz jupyter-test notebooks-test rendermime-test bench bench-kernels clean
+.PHONY: demo build deps test gotest race fuzz jupyter-test notebooks-test rendermime-test browser-test bench bench-kernels clean
 
 demo:
 	go run ./kernel/cmd/nudge demo
@@ -18,10 +18,11 @@ build:
 # fuzz run of each parser (the CSV and notebook readers too), of the compiler,
 # of the interpreter on whole cells and of the kernel's wire reader (frames,
 # handshake, messages), the Jupyter conformance suite, every notebook
-# executed through nbconvert, and JupyterLab's rendermime registry on the
-# kernel's bundles. The Debian packages they need are installed first when
+# executed through nbconvert, JupyterLab's rendermime registry on the
+# kernel's bundles, and a real browser on the classic Notebook and on the
+# what-if panel. The Debian packages they need are installed first when
 # missing (as root; otherwise the command to run is printed).
-test: deps gotest race fuzz jupyter-test notebooks-test rendermime-test
+test: deps gotest race fuzz jupyter-test notebooks-test rendermime-test browser-test
 
 deps:
 	bash .ci/deps
@@ -68,6 +69,13 @@ rendermime-test: $(RM)/node_modules/.package-lock.json
 
 $(RM)/node_modules/.package-lock.json: $(RM)/package.json $(RM)/package-lock.json
 	cd $(RM) && npm ci --no-audit --no-fund
+
+# Headless Chromium (Debian's, through python3-selenium and chromium-driver)
+# on the classic Notebook running a demo notebook with the nudge kernel, and
+# on the what-if panel in an HTML file opened from disk, its values checked
+# against nudge exec --json. Screenshots and the HTML go to out/browser.
+browser-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
+	cd kernel/testdata/browser && JUPYTER_PATH=$(JP)/share/jupyter NUDGE=$(BIN) $(PY) -m unittest -v test_browser
 
 bench:
 	go run ./kernel/cmd/nudge bench

@@ -385,6 +385,10 @@
 
   // ---- the panel
 
+  // boxText writes an input's value in its box: seven significant digits,
+  // enough to read and to type over; the slider keeps every digit.
+  function boxText(v) { return String(Number(v.toPrecision(7))); }
+
   var SVGNS = "http://www.w3.org/2000/svg";
   function el(tag, attrs, text) {
     var e = document.createElement(tag);
@@ -440,7 +444,7 @@
         "aria-valuetext": formatQ(q.value, q.unit) });
       grid.appendChild(s);
       grid.appendChild(el("span", { "class": "nudge-explore-end" }, formatQ(q.high, q.unit)));
-      var b = el("input", { type: "text", inputmode: "decimal", size: "10", value: String(q.value),
+      var b = el("input", { type: "text", inputmode: "decimal", size: "10", value: boxText(q.value),
         "class": "nudge-explore-box", "data-input": q.name, "aria-label": q.name + (q.unit ? " in " + q.unit : "") });
       var cell = el("span", { "class": "nudge-explore-entry" });
       cell.appendChild(b);
@@ -448,12 +452,12 @@
       grid.appendChild(cell);
       s.addEventListener("input", function () {
         x[i] = parseFloat(s.value);
-        b.value = String(x[i]);
+        b.value = boxText(x[i]);
         update();
       });
       b.addEventListener("change", function () {
         var t = parseFloat(b.value.replace(/[,_\s]/g, ""));
-        if (!isFinite(t)) { b.value = String(x[i]); return; }
+        if (!isFinite(t)) { b.value = boxText(x[i]); return; }
         x[i] = t;
         s.value = String(Math.min(Math.max(t, q.low), q.high));
         update();
@@ -465,7 +469,7 @@
 
     var reset = el("button", { type: "button", "class": "nudge-explore-reset" }, "Back to the baseline");
     reset.addEventListener("click", function () {
-      ins.forEach(function (q, i) { x[i] = q.value; sliders[i].value = String(q.value); boxes[i].value = String(q.value); });
+      ins.forEach(function (q, i) { x[i] = q.value; sliders[i].value = String(q.value); boxes[i].value = boxText(q.value); });
       update();
     });
     panel.appendChild(reset);
@@ -475,7 +479,8 @@
     panel.appendChild(el("p", { "class": "nudge-explore-note" },
       "Each bar: " + d.output + " as that input goes from the low to the high end of its range (dark end: high), the others where the sliders are. " +
       "The line: " + d.output + " at the sliders. Computed in this page from the compiled model."));
-    box.appendChild(panel);
+    // The panel goes first; notes written with the page follow it.
+    box.insertBefore(panel, src.nextSibling);
 
     function update() {
       var r = prog.eval(x);

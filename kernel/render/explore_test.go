@@ -380,3 +380,122 @@ func TestExploreScriptAgreesWithTape(t *testing.T) {
 		t.Errorf("%d of %d points undefined: the cases should reach outside the domains now and then", undefined, points)
 	}
 }
+
+const housingModel = `input batch       = 1000                  (800..1300)
+input blank_mass  = 4.2 [kg]              (-5%..+8%)
+input alloy_price = 3.1 [$/kg]            ~ pert(2.7, 3.1, 4.0)
+input cycle_time  = 38 [min]              (±20%)
+input shop_rate   = 95 [$/h]              ~ normal(95, 8)
+input setup_time  = 6 [h]                 (4..9)
+input fixture     = 18000 [$]
+input scrap_rate  = 4 [%]                 (2..8)
+input finish      = 2.5 [$]               ~ triangular(2, 2.5, 3.5)
+material   = blank_mass * alloy_price
+machining  = cycle_time * shop_rate
+setup      = setup_time * shop_rate / batch
+unit_cost  = (material + machining + finish) / (1 - scrap_rate) + setup + fixture / batch   [$]
+`
+
+func housingProblem(t *testing.T) *sens.Problem {
+	t.Helper()
+	m, err := sens.LoadModel("housing.nudge", []byte(housingModel))
+	if err != nil {
+		t.Fatal(err)
+	}
+	prog, err := m.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	pr, err := prog.Problem("unit_cost")
+	if err != nil {
+		t.Fatal(err)
+	}
+	return pr
+}
+
+// TestExplorePanel checks the panel against the tornado it is built from:
+// the same inputs in the same order with the same ranges and bars, the
+// output at the baseline, the script and its data in the HTML, the data a
+// listing that frees exactly the sliders' inputs, and the text table.
+func TestExplorePanel(t *testing.T) {
+	pr := housingProblem(t)
+	e, err := sens.Explore(pr, &sens.ExploreSettings{Top: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tor, err := sens.Tornado(pr, &sens.TornadoSettings{Top: 4, Interior: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(e.Inputs) != 4 || e.Held != len(pr.Inputs)-4 || e.Value != tor.Baseline || e.Listing == nil || e.TooLarge != "" {
+		t.Fatalf("explore: %d inputs, %d held, value %v (tornado %v), too large %q", len(e.Inputs), e.Held, e.Value, tor.Baseline, e.TooLarge)
+	}
+	for i, in := range e.Inputs {
+		b := tor.Bars[i]
+		if in.Name != b.Name || in.Low != b.Low || in.High != b.High || in.Value != b.Value ||
+			in.OutputAtLow != b.OutputAtLow || in.OutputAtHigh != b.OutputAtHigh {
+			t.Errorf("slider %d: %+v, tornado bar %+v", i, in, b)
+		}
+	}
+	if len(e.Listing.Free) != 4 {
+		t.Errorf("the listing frees %v", e.Listing.Free)
+	}
+	r := render.Explore(e, nil)
+	h := r.HTML()
+	for _, want := range []string{`<div class="nudge-explore">`, `<script type="application/json" class="nudge-explore-data">`, render.ExploreScript, "Trust Notebook"} {
+		if !strings.Contains(h, want) {
+			t.Errorf("the panel's HTML lacks %.60q", want)
+		}
+	}
+	// The data: JSON that cannot end its <script> element early.
+	i := strings.Index(h, `class="nudge-explore-data">`) + len(`class="nudge-explore-data">`)
+	j := strings.Index(h[i:], "</script>")
+	data := h[i : i+j]
+	if strings.Contains(data, "<") {
+		t.Error("the panel's data holds a <")
+	}
+	var d struct {
+		Output string
+		Base   float64
+		Inputs []struct {
+			Name             string
+			Value, Low, High float64
+		}
+		Listing []any
+		Out     int
+		Scale   float64
+	}
+	if err := json.Unmarshal([]byte(data), &d); err != nil {
+		t.Fatalf("the panel's data: %v", err)
+	}
+	if d.Output != "unit_cost" || d.Base != e.Value || len(d.Inputs) != 4 || d.Inputs[0].Name != e.Inputs[0].Name || len(d.Listing) == 0 {
+		t.Errorf("the panel's data: %+v", d)
+	}
+	inputs := 0
+	for _, x := range d.Listing {
+		if a, ok := x.([]any); ok && a[0] == "in" {
+			inputs++
+		}
+	}
+	if inputs != 4 {
+		t.Errorf("the listing reads %d inputs, want the 4 sliders", inputs)
+	}
+	for _, want := range []string{"what-if panel of unit_cost: $97.41 at the baseline", e.Inputs[0].Name, "5 other inputs of unit_cost stay at their baseline."} {
+		if !strings.Contains(r.Text(), want) {
+			t.Errorf("the text lacks %q:\n%s", want, r.Text())
+		}
+	}
+	if !strings.Contains(string(r.JSON()), `"kind":"explore"`) || strings.Contains(string(r.JSON()), "listing") {
+		t.Errorf("the JSON: %s", r.JSON())
+	}
+
+	// A listing over the limit: no panel, a note that says why.
+	e, err = sens.Explore(pr, &sens.ExploreSettings{Top: 4, Limit: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r = render.Explore(e, nil)
+	if e.Listing != nil || e.TooLarge == "" || strings.Contains(r.HTML(), "<script") || !strings.Contains(r.Text(), "No sliders: ") {
+		t.Errorf("over the limit: %q\n%s", e.TooLarge, r.Text())
+	}
+}
