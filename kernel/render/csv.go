@@ -61,6 +61,13 @@ func (r *Result) Tables() []CSVTable {
 				num(b.Swing), d.Unit, num(b.SwingShare), strconv.FormatBool(b.NonMonotone)})
 		}
 		return []CSVTable{{Rows: rows}}
+	case *sens.ExploreResult:
+		rows := [][]string{{"input", "value", "low", "high", "input_unit", "range_from", "output_at_low", "output_at_high", "output_unit"}}
+		for _, in := range d.Inputs {
+			rows = append(rows, []string{in.Name, num(in.Value), num(in.Low), num(in.High), in.Unit, string(in.Source),
+				num(in.OutputAtLow), num(in.OutputAtHigh), d.Unit})
+		}
+		return []CSVTable{{Rows: rows}}
 	case *sens.SpiderResult:
 		rows := [][]string{{"input", "pct", "input_value", "input_unit", "output", "output_unit"}}
 		for _, l := range d.Inputs {

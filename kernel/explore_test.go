@@ -1,0 +1,70 @@
+package kernel
+
+import (
+	"context"
+	"errors"
+	"strings"
+	"testing"
+
+	"github.com/nudge-dev/nudge/kernel/render"
+)
+
+// TestExploreCommand runs explore through the interpreter: the panel's
+// bundle (HTML with the panel's script and data, text, the vendor JSON), its
+// sliders the tornado's largest bars, and its errors at their columns.
+func TestExploreCommand(t *testing.T) {
+	in := newShop(t)
+	s := run(t, in, "explore total top=3")
+	if len(s.results) != 1 || s.results[0].Kind != "explore" {
+		t.Fatalf("results: %+v", s.results)
+	}
+	r := s.results[0]
+	obj := object(t, r)
+	ins := obj["inputs"].([]any)
+	if len(ins) != 3 || obj["held"].(float64) != 3 || obj["slots"].(float64) < 5 {
+		t.Errorf("explore JSON: %v", obj)
+	}
+	tor := run(t, in, "tornado total top=3").results[0]
+	bars := object(t, tor)["bars"].([]any)
+	for i := range ins {
+		got, want := ins[i].(map[string]any), bars[i].(map[string]any)
+		for _, k := range []string{"name", "low", "high", "output_at_low", "output_at_high"} {
+			if got[k] != want[k] {
+				t.Errorf("slider %d: %s is %v, the tornado's %v", i, k, got[k], want[k])
+			}
+		}
+	}
+	b := r.Bundle()
+	h, _ := b["text/html"].(string)
+	if !strings.Contains(h, render.ExploreScript) || !strings.Contains(h, `class="nudge-explore-data"`) {
+		t.Error("the bundle's HTML lacks the panel's script or data")
+	}
+	if _, ok := b[render.ResultMIME]; !ok || b["application/json"] != nil {
+		t.Errorf("bundle types: %v", b)
+	}
+	if txt := b["text/plain"].(string); !strings.Contains(txt, "what-if panel of total") {
+		t.Errorf("text: %s", txt)
+	}
+
+	for _, tc := range []struct {
+		src       string
+		line, col int
+		msg       string
+	}{
+		{"explore totl", 1, 9, "undefined: totl (did you mean total?)"},
+		{"explore units", 1, 9, "units is an input"},
+		{"explore total top=0", 1, 19, "top must be a whole number from 1"},
+		{"explore total n=3", 1, 15, "explore has no option n (options: top)"},
+	} {
+		err := in.Execute(context.Background(), "cell", tc.src, &analysisSink{})
+		var ce *CellError
+		if !errors.As(err, &ce) {
+			t.Errorf("%s: error %v, want a CellError", tc.src, err)
+			continue
+		}
+		e := ce.First()
+		if e.Pos.Line != tc.line || e.Pos.Column != tc.col || !strings.Contains(e.Msg, tc.msg) {
+			t.Errorf("%s: error at %d:%d %q; want %d:%d containing %q", tc.src, e.Pos.Line, e.Pos.Column, e.Msg, tc.line, tc.col, tc.msg)
+		}
+	}
+}
