@@ -37,9 +37,10 @@ type ExploreResult struct {
 	// Slots is the size of the listing (entries and loop elements); 0 when
 	// none was made.
 	Slots int `json:"slots"`
-	// TooLarge says why no listing was made, when it would exceed
-	// ExploreSettings.Limit.
-	TooLarge string `json:"too_large,omitempty"`
+	// NoPanel says why no listing was made: it would exceed
+	// ExploreSettings.Limit, or the output uses an operation the panel
+	// cannot evaluate.
+	NoPanel string `json:"no_panel,omitempty"`
 	// Listing is the compiled output in the inputs, the others folded in.
 	Listing *Listing `json:"-"`
 }
@@ -97,8 +98,11 @@ func Explore(pr *Problem, s *ExploreSettings) (*ExploreResult, error) {
 	r.Held = len(pr.Inputs) - len(free)
 	L, err := pr.Listing(pr.Baseline(), free, limit)
 	switch {
+	case errors.Is(err, tape.ErrNotListable):
+		r.NoPanel = fmt.Sprintf("%s uses an operation the panel's script does not know (%v)", pr.Output, err)
+		return r, nil
 	case errors.Is(err, tape.ErrListingTooLarge):
-		r.TooLarge = fmt.Sprintf("the output needs more than %d operations between these inputs and itself, too many to carry in a page: explore a formula nearer the inputs, or fewer inputs (top=N)", limit)
+		r.NoPanel = fmt.Sprintf("the output needs more than %d operations between these inputs and itself, too many to carry in a page: explore a formula nearer the inputs, or fewer inputs (top=N)", limit)
 		return r, nil
 	case err != nil:
 		return nil, err

@@ -75,7 +75,7 @@ func Explore(e *sens.ExploreResult, o *Options) *Result {
 		if held != "" {
 			r.html += `<p class="nudge-note">` + html.EscapeString(held) + `</p>`
 		}
-		r.note("No sliders: " + e.TooLarge + ".")
+		r.note("No sliders: " + e.NoPanel + ".")
 		return r
 	}
 	r.text += o.wrap("The sliders move in a notebook, or in an HTML report opened in a browser; here, the values at the baseline.") + "\n"

@@ -427,8 +427,8 @@ func TestExplorePanel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(e.Inputs) != 4 || e.Held != len(pr.Inputs)-4 || e.Value != tor.Baseline || e.Listing == nil || e.TooLarge != "" {
-		t.Fatalf("explore: %d inputs, %d held, value %v (tornado %v), too large %q", len(e.Inputs), e.Held, e.Value, tor.Baseline, e.TooLarge)
+	if len(e.Inputs) != 4 || e.Held != len(pr.Inputs)-4 || e.Value != tor.Baseline || e.Listing == nil || e.NoPanel != "" {
+		t.Fatalf("explore: %d inputs, %d held, value %v (tornado %v), too large %q", len(e.Inputs), e.Held, e.Value, tor.Baseline, e.NoPanel)
 	}
 	for i, in := range e.Inputs {
 		b := tor.Bars[i]
@@ -495,7 +495,7 @@ func TestExplorePanel(t *testing.T) {
 		t.Fatal(err)
 	}
 	r = render.Explore(e, nil)
-	if e.Listing != nil || e.TooLarge == "" || strings.Contains(r.HTML(), "<script") || !strings.Contains(r.Text(), "No sliders: ") {
-		t.Errorf("over the limit: %q\n%s", e.TooLarge, r.Text())
+	if e.Listing != nil || e.NoPanel == "" || strings.Contains(r.HTML(), "<script") || !strings.Contains(r.Text(), "No sliders: ") {
+		t.Errorf("over the limit: %q\n%s", e.NoPanel, r.Text())
 	}
 }

@@ -72,6 +72,10 @@ type Entry struct {
 // the limit asked for.
 var ErrListingTooLarge = errors.New("tape: listing too large")
 
+// ErrNotListable is returned for a tape with an operation that has no name
+// in a listing (ListName), which an evaluator outside Go would not know.
+var ErrNotListable = errors.New("tape: operation not listable")
+
 // Listing returns the listing of output i when the inputs free move and the
 // others keep their values in x (len NumInputs; the free ones' values in x
 // are the point at which nothing else is folded, and are not kept). A
@@ -169,6 +173,16 @@ func (t *Tape) Listing(x []float64, i int, free []int, limit int) (*Listing, err
 	}
 	if limit > 0 && m > limit {
 		return nil, fmt.Errorf("%w: %d slots, at most %d", ErrListingTooLarge, m, limit)
+	}
+
+	for k := p.start; k < top; k++ {
+		op := p.ops[k]
+		if op == opLoop {
+			op = p.loops[p.a[k]].op
+		}
+		if idx[k] >= 0 && dep[k] && op != opLane && op != 0 && listNames[op] == "" {
+			return nil, fmt.Errorf("%w: %s", ErrNotListable, op)
+		}
 	}
 
 	L := &Listing{Free: append([]int(nil), free...), Out: int(idx[out])}
