@@ -35,7 +35,7 @@ const exploreStyle = `<style>
 .nudge-explore-note{color:#555;font-size:11px}
 .nudge-explore table{border-collapse:collapse}
 .nudge-explore td,.nudge-explore th{padding:1px 8px;text-align:right}
-@media print{.nudge-explore-grid,.nudge-explore-reset{display:none}}
+@media print{.nudge-explore-grid,.nudge-explore-reset,.nudge-explore-trust{display:none}.nudge-explore-static{display:block!important}}
 </style>`
 
 // exploreTrust is shown where the panel's script does not run.
@@ -85,7 +85,7 @@ func Explore(e *sens.ExploreResult, o *Options) *Result {
 	b.WriteString(exploreStyle)
 	b.WriteString(`<script type="application/json" class="nudge-explore-data">`)
 	b.Write(exploreData(e))
-	b.WriteString(`</script><div class="nudge-explore-static"><p class="nudge-note">`)
+	b.WriteString(`</script><div class="nudge-explore-static"><p class="nudge-note nudge-explore-trust">`)
 	b.WriteString(html.EscapeString(exploreTrust))
 	b.WriteString(`</p>`)
 	b.WriteString(tb.html(head))

@@ -5,10 +5,11 @@ on 127.0.0.1 with a token; headless Debian Chromium, driven by Debian's
 python3-selenium through chromium-driver, opens it, runs every cell with the
 nudge kernel, and checks that the tornado chart (an SVG image) is in the page,
 that completion returns names of the model, and that the what-if panel's
-sliders recompute the output in the notebook. Then it opens from disk an HTML
-file holding the panel (written by nbconvert from an executed notebook), moves
-sliders to chosen values and compares the value shown with
-`nudge exec --json` at the same inputs (relative 1e-12).
+sliders recompute the output in the notebook. Then it opens from disk the HTML
+that nbconvert writes of the notebook executed with the kernel, and the report
+that `nudge run` writes, moves the panel's sliders to chosen values in each and
+compares the value shown with `nudge exec --json` at the same inputs (relative
+1e-12).
 
 Every wait polls a condition in the page under a generous guard; nothing
 assumes how long a step takes. Screenshots are kept under out/browser/.
@@ -325,37 +326,50 @@ class BrowserTest(unittest.TestCase):
         # Leave the page without its question about unsaved changes.
         self.js("Jupyter.notebook.set_dirty(false); window.onbeforeunload = null;")
 
-    def test_2_html_from_disk(self):
-        """An HTML file with the panel, written by nbconvert from an
-        executed notebook and opened from disk."""
-        nb = {"cells": [
-            {"cell_type": "code", "execution_count": None, "id": "model", "metadata": {}, "outputs": [], "source": self.model},
-            {"cell_type": "code", "execution_count": None, "id": "panel", "metadata": {}, "outputs": [],
-             "source": "explore %s top=5" % OUTPUT}],
-            "metadata": {"kernelspec": {"name": "nudge", "display_name": "nudge", "language": "nudge"}},
-            "nbformat": 4, "nbformat_minor": 5}
-        src = os.path.join(self.tmp, "panel.ipynb")
-        with open(src, "w") as f:
-            json.dump(nb, f)
-        r = subprocess.run([PY, "-m", "nbconvert", "--to", "html", "--execute", "--ExecutePreprocessor.kernel_name=nudge",
-                            "--ExecutePreprocessor.timeout=%d" % int(GUARD), "--output-dir", OUT, "--output", "panel", src],
-                           env=self.env, capture_output=True, text=True, timeout=GUARD)
-        self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
-        path = os.path.join(OUT, "panel.html")
+    def open_from_disk(self, path, where, shot):
+        """Opens the HTML file at path from disk and checks its what-if panel."""
         d = self.driver
         d.get("file://" + path)
-        panel = wait_for("the what-if panel in the HTML file",
+        panel = wait_for("the what-if panel in " + where,
                          lambda: d.find_elements(By.CSS_SELECTOR, "div.nudge-explore[data-ready]"))[0]
         wait_for("the panel's sliders", lambda: panel.find_elements(By.CSS_SELECTOR, ".nudge-explore-live"))
-        # The page fetched nothing: every resource is in the file (nbconvert's
-        # own template may name a CDN for MathJax and require.js, which a
-        # file opened offline does without).
+        # The panel's script is in the file: no script of ours is fetched.
         self.assertEqual(self.js("return document.querySelectorAll('script[src*=nudge]').length"), 0)
-        n = self.check_panel(panel, "HTML from disk")
+        n = self.check_panel(panel, where)
         bars = self.js("return arguments[0].querySelectorAll('svg.nudge-explore-bars rect').length", panel)
         self.assertGreaterEqual(bars, 5)
-        d.save_screenshot(os.path.join(OUT, "panel.png"))
-        print("\n  %d positions of the sliders compared with nudge exec --json" % n, file=sys.stderr)
+        d.save_screenshot(os.path.join(OUT, shot))
+        print("\n  %s: %d positions of the sliders compared with nudge exec --json" % (where, n), file=sys.stderr)
+
+    def notebook_with_panel(self, name, top):
+        """Writes the demo notebook with a what-if panel added at its end."""
+        with open(os.path.join(REPO, "notebooks", NOTEBOOK)) as f:
+            nb = json.load(f)
+        nb["cells"].append({"cell_type": "code", "execution_count": None, "id": "whatif", "metadata": {},
+                            "outputs": [], "source": "explore %s top=%d" % (OUTPUT, top)})
+        path = os.path.join(self.nbdir, name)
+        with open(path, "w") as f:
+            json.dump(nb, f)
+        return path
+
+    def test_2_nbconvert_html_from_disk(self):
+        """nbconvert's HTML of the notebook executed with the kernel, opened
+        from disk."""
+        src = self.notebook_with_panel("panel.ipynb", 5)
+        r = subprocess.run([PY, "-m", "nbconvert", "--to", "html", "--execute", "--ExecutePreprocessor.kernel_name=nudge",
+                            "--ExecutePreprocessor.timeout=%d" % int(GUARD), "--output-dir", OUT, "--output", "nbconvert-panel", src],
+                           env=self.env, capture_output=True, text=True, timeout=GUARD)
+        self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
+        self.open_from_disk(os.path.join(OUT, "nbconvert-panel.html"), "nbconvert's HTML", "nbconvert-panel.png")
+
+    def test_3_report_from_disk(self):
+        """The report of nudge run, opened from disk."""
+        src = self.notebook_with_panel("report.ipynb", 6)
+        html = os.path.join(OUT, "report.html")
+        r = subprocess.run([NUDGE, "run", "--html", html, "-o", os.path.join(self.tmp, "report-out.ipynb"), src],
+                           env=self.env, capture_output=True, text=True, timeout=GUARD)
+        self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
+        self.open_from_disk(html, "the report of nudge run", "report-panel.png")
 
 
 if __name__ == "__main__":
