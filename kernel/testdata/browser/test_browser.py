@@ -317,10 +317,12 @@ class BrowserTest(unittest.TestCase):
             "Jupyter.notebook.kernel.complete('breakeven unit_cost = 105 over sh', 32, r => done(r.content));")
         self.assertIn("shop_rate", reply["matches"])
 
-        # The panel ran its script in the notebook.
-        panel = wait_for("the what-if panel in the notebook",
-                         lambda: d.find_elements(By.CSS_SELECTOR, "div.nudge-explore[data-ready] .nudge-explore-live")).pop()
-        panel = panel.find_element(By.XPATH, "./..")
+        # Every panel (the notebook's own and the one added) ran its script;
+        # the last one is checked.
+        wait_for("every what-if panel in the notebook to set itself up",
+                 lambda: self.js("const all = document.querySelectorAll('div.nudge-explore');"
+                                 " return all.length >= 2 && Array.from(all).every(p => p.querySelector('.nudge-explore-live'))"))
+        panel = d.find_elements(By.CSS_SELECTOR, "div.nudge-explore")[-1]
         self.check_panel(panel, "notebook")
         d.save_screenshot(os.path.join(OUT, "notebook.png"))
         # Leave the page without its question about unsaved changes.
