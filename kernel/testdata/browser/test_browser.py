@@ -9,7 +9,9 @@ sliders recompute the output in the notebook. Then it opens from disk the HTML
 that nbconvert writes of the notebook executed with the kernel, and the report
 that `nudge run` writes, moves the panel's sliders to chosen values in each and
 compares the value shown with `nudge exec --json` at the same inputs (relative
-1e-12).
+1e-12). Last, a notebook saved by `nudge run` opened in the Notebook is not
+trusted: its panels show their tables and the note on trust, and once File >
+Trust Notebook is confirmed, their sliders.
 
 Every wait polls a condition in the page under a generous guard; nothing
 assumes how long a step takes. Screenshots are kept under out/browser/.
@@ -347,7 +349,7 @@ class BrowserTest(unittest.TestCase):
         """Writes the demo notebook with a what-if panel added at its end."""
         with open(os.path.join(REPO, "notebooks", NOTEBOOK)) as f:
             nb = json.load(f)
-        nb["cells"].append({"cell_type": "code", "execution_count": None, "id": "whatif", "metadata": {},
+        nb["cells"].append({"cell_type": "code", "execution_count": None, "id": "test-panel", "metadata": {},
                             "outputs": [], "source": "explore %s top=%d" % (OUTPUT, top)})
         path = os.path.join(self.nbdir, name)
         with open(path, "w") as f:
@@ -372,6 +374,45 @@ class BrowserTest(unittest.TestCase):
                            env=self.env, capture_output=True, text=True, timeout=GUARD)
         self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
         self.open_from_disk(html, "the report of nudge run", "report-panel.png")
+
+    def test_4_saved_notebook_trust(self):
+        """A saved notebook opened again is not trusted: the panel shows its
+        table and the note on trust; once trusted, its sliders."""
+        src = self.notebook_with_panel("saved-src.ipynb", 3)
+        saved = os.path.join(self.nbdir, "saved.ipynb")
+        r = subprocess.run([NUDGE, "run", "--html", os.path.join(self.tmp, "saved.html"), "-o", saved, src],
+                           env=self.env, capture_output=True, text=True, timeout=GUARD)
+        self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
+        d = self.driver
+        d.get("%s/notebooks/saved.ipynb?token=%s" % (self.base, self.token))
+        wait_for("the saved notebook to load",
+                 lambda: self.js("return !!(window.Jupyter && Jupyter.notebook && Jupyter.notebook._fully_loaded)"))
+        self.assertFalse(self.js("return Jupyter.notebook.trusted"))
+        statics = self.js("return Array.from(document.querySelectorAll('.nudge-explore-static')).map(e => e.textContent)")
+        self.assertTrue(statics, "no panel in the saved notebook")
+        self.assertTrue(all("Trust Notebook" in t and "unit_cost at low" in t for t in statics), statics)
+        self.assertEqual(self.js("return document.querySelectorAll('.nudge-explore-live').length"), 0)
+        self.js("document.querySelector('.nudge-explore-static').scrollIntoView({block: 'center'})")
+        d.save_screenshot(os.path.join(OUT, "saved-untrusted.png"))
+        # File > Trust Notebook, and the dialog's Trust button.
+        self.js("Jupyter.notebook.trust_notebook()")
+        button = wait_for("the trust dialog", lambda: [b for b in d.find_elements(By.CSS_SELECTOR, ".modal-footer button")
+                                                     if b.text.strip() == "Trust" and b.is_displayed()])[0]
+        button.click()
+        try:
+            wait_for("the panels' sliders once trusted",
+                     lambda: self.js("const all = document.querySelectorAll('div.nudge-explore');"
+                                     " return Jupyter.notebook.trusted && all.length >= 2 &&"
+                                     " Array.from(all).every(p => p.querySelector('.nudge-explore-live'))"))
+        except AssertionError:
+            d.save_screenshot(os.path.join(OUT, "saved-trust-failed.png"))
+            print(self.js("return [Jupyter.notebook.trusted, document.querySelectorAll('div.nudge-explore').length,"
+                          " document.querySelectorAll('.nudge-explore-live').length, !!window.nudgeExplore,"
+                          " document.querySelectorAll('script.nudge-explore-data').length, location.href]"), file=sys.stderr)
+            raise
+        self.js("document.querySelector('.nudge-explore-live').scrollIntoView({block: 'center'})")
+        d.save_screenshot(os.path.join(OUT, "saved-trusted.png"))
+        self.js("Jupyter.notebook.set_dirty(false); window.onbeforeunload = null;")
 
 
 if __name__ == "__main__":
