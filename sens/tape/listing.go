@@ -101,45 +101,14 @@ func (t *Tape) Listing(x []float64, i int, free []int, limit int) (*Listing, err
 	c.run(n)
 	vals := c.vals
 
-	// What the output needs, whole loop nodes with their operand runs.
-	out := int(p.outs[i])
-	live := make([]bool, n)
-	live[out] = true
-	top := p.endNode(out)
-	for k := top - 1; k >= 0; k-- {
-		if !live[k] {
-			continue
-		}
-		switch op := p.ops[k]; {
-		case op == opLane:
-			live[p.a[k]] = true
-		case op == opLoop:
-			for s := k; s < k+p.loopWidth(k); s++ {
-				live[s] = true
-			}
-			p.loops[p.a[k]].operands(func(first, m int32) {
-				for s := first; s < first+m; s++ {
-					live[s] = true
-				}
-			})
-		case k >= p.start && op != opArg:
-			live[p.a[k]] = true
-			live[p.b[k]] = true
-			if op.Arity() == 3 {
-				live[p.a[k+1]] = true
-			}
-		}
-	}
-
 	// What depends on a free input.
+	out := int(p.outs[i])
+	top := p.endNode(out)
 	dep := make([]bool, n)
 	for in := range freeAt {
 		dep[in] = true
 	}
 	for k := p.start; k < top; k++ {
-		if !live[k] {
-			continue
-		}
 		switch op := p.ops[k]; {
 		case op == opLoop:
 			d := false
@@ -158,6 +127,36 @@ func (t *Tape) Listing(x []float64, i int, free []int, limit int) (*Listing, err
 				d = d || dep[p.a[k+1]]
 			}
 			dep[k] = d
+		}
+	}
+
+	// What the output needs: a node that depends on no free input is a
+	// constant and needs nothing; one that does needs its operands, and a
+	// loop node all its lanes and the whole runs it reads.
+	live := make([]bool, n)
+	live[out] = true
+	for k := top - 1; k >= p.start; k-- {
+		if !live[k] || !dep[k] {
+			continue
+		}
+		switch op := p.ops[k]; {
+		case op == opLane:
+			live[p.a[k]] = true
+		case op == opLoop:
+			for s := k; s < k+p.loopWidth(k); s++ {
+				live[s] = true
+			}
+			p.loops[p.a[k]].operands(func(first, m int32) {
+				for s := first; s < first+m; s++ {
+					live[s] = true
+				}
+			})
+		case op != opArg:
+			live[p.a[k]] = true
+			live[p.b[k]] = true
+			if op.Arity() == 3 {
+				live[p.a[k+1]] = true
+			}
 		}
 	}
 
