@@ -252,38 +252,42 @@
   // eval returns {value} or {error, at} for the free inputs x.
   Program.prototype.eval = function (x) {
     var v = this.v, bad = this.bad, from = this.from, code = this.code;
-    var i, j, c, k, a, b, z, y, p, fin, n;
-    function mark(k, i, ks) {
-      // bad[k] from the operand slots ks and k's own value.
-      var m = -1;
-      for (var q = 0; q < ks.length; q++) {
-        if (bad[ks[q]] && (m < 0 || from[ks[q]] < m)) m = from[ks[q]];
-      }
+    var i, j, c, k, a, m, y, p, fin, n, s0, s1, s2;
+    // worst folds operand slot s into m, the first entry whose value is
+    // not finite among those that reach a slot (-1: none).
+    function worst(m, s) { return bad[s] && (m < 0 || from[s] < m) ? from[s] : m; }
+    // settle marks slot k of entry i from m and its own value.
+    function settle(k, i, m) {
       if (m < 0 && !isFinite(v[k])) m = i;
       bad[k] = m >= 0 ? 1 : 0;
       from[k] = m;
+    }
+    // operands folds the operand slots of an operation of arity ar (for an
+    // if, the condition and the branch it takes).
+    function operands(op, ar, sa, sb, sc) {
+      var m = worst(-1, sa);
+      if (op === "if") return worst(m, v[sa] !== 0 || !isFinite(v[sa]) ? sb : sc);
+      if (ar >= 2) m = worst(m, sb);
+      if (ar === 3) m = worst(m, sc);
+      return m;
     }
     for (i = 0; i < code.length; i++) {
       c = code[i];
       k = c.at;
       switch (c.kind) {
         case "const":
-          v[k] = c.v; mark(k, i, []); break;
+          v[k] = c.v; settle(k, i, -1); break;
         case "in":
-          v[k] = x[c.j]; mark(k, i, []); break;
+          v[k] = x[c.j]; settle(k, i, -1); break;
         case "op":
-          a = v[c.a]; b = v[c.b]; z = v[c.c];
-          v[k] = c.f(a, b, z);
-          if (c.op === "if") mark(k, i, a !== 0 || !isFinite(a) ? [c.a, c.b] : [c.a, c.c]);
-          else mark(k, i, c.ar === 1 ? [c.a] : c.ar === 2 ? [c.a, c.b] : [c.a, c.b, c.c]);
+          v[k] = c.f(v[c.a], v[c.b], v[c.c]);
+          settle(k, i, operands(c.op, c.ar, c.a, c.b, c.c));
           break;
         case "map":
           for (j = 0; j < c.n; j++) {
-            var s0 = c.arg[0] + j * c.step[0], s1 = c.arg[1] + j * c.step[1], s2 = c.arg[2] + j * c.step[2];
-            a = v[s0];
-            v[k + j] = c.f(a, v[s1], v[s2]);
-            if (c.op === "if") mark(k + j, i, a !== 0 || !isFinite(a) ? [s0, s1] : [s0, s2]);
-            else mark(k + j, i, c.ar === 1 ? [s0] : c.ar === 2 ? [s0, s1] : [s0, s1, s2]);
+            s0 = c.arg[0] + j * c.step[0]; s1 = c.arg[1] + j * c.step[1]; s2 = c.arg[2] + j * c.step[2];
+            v[k + j] = c.f(v[s0], v[s1], v[s2]);
+            settle(k + j, i, operands(c.op, c.ar, s0, s1, s2));
           }
           break;
         case "sum": case "dot": case "min": case "max":
@@ -297,23 +301,28 @@
             }
             v[k] = v[c.x + p];
           }
-          var ks = [];
-          for (j = 0; j < n; j++) { ks.push(c.x + j); if (c.kind === "dot") ks.push(c.y + j); }
-          mark(k, i, ks);
+          m = -1;
+          for (j = 0; j < n; j++) {
+            m = worst(m, c.x + j);
+            if (c.kind === "dot") m = worst(m, c.y + j);
+          }
+          settle(k, i, m);
           break;
         case "gather":
-          for (j = 0; j < c.idx.length; j++) { v[k + j] = v[c.x + c.idx[j]]; mark(k + j, i, [c.x + c.idx[j]]); }
+          for (j = 0; j < c.idx.length; j++) { v[k + j] = v[c.x + c.idx[j]]; settle(k + j, i, worst(-1, c.x + c.idx[j])); }
           break;
         case "group":
-          var members = [];
-          for (j = 0; j < c.w; j++) members.push([]);
           for (j = 0; j < c.idx.length; j++) {
             y = c.idx[j];
-            if (c.first[y] === j) v[k + y] = v[c.x + j];
+            if (c.first[y] === j) { v[k + y] = v[c.x + j]; from[k + y] = -1; }
             else v[k + y] += v[c.x + j];
-            members[y].push(c.x + j);
+            // from[] of the group's slot gathers its members' first
+            // non-finite entry until the group is settled below.
+            a = worst(from[k + y], c.x + j);
+            from[k + y] = a;
+            bad[k + y] = 0;
           }
-          for (j = 0; j < c.w; j++) mark(k + j, i, members[j]);
+          for (j = 0; j < c.w; j++) settle(k + j, i, from[k + j]);
           break;
       }
     }
@@ -330,7 +339,9 @@
   Program.prototype.explain = function (e) {
     var v = this.v;
     if (e.kind === "in") return "an input is not a finite number";
-    if (e.kind !== "op") return e.kind === "const" ? "a part of the model that the sliders do not move is undefined here" : "a value is not finite";
+    if (e.kind === "const") return "a part of the model that the sliders do not move is undefined here";
+    if (e.kind === "map") return "the " + e.op + " of an element is not a finite number";
+    if (e.kind !== "op") return "a " + e.kind + " of elements is not a finite number";
     var x = v[e.a], y = v[e.b];
     switch (e.op) {
       case "div": if (y === 0) return "division by zero"; break;

@@ -213,6 +213,9 @@ gx    = grp[c3] * k
 roots = sum(sqrt(q - 2 * s) * s)
 flows = sum(q * discount(k, t.w))
 logs  = sum(ln(q * k))
+lg    = subtotal(ln(q * k) * s, t.cat)
+glg   = lg[c2] + 1
+cond  = sum(if(q > 6, ln(q - 6), q))
 `
 
 func vectorCSV(r *rand.Rand) string {
@@ -315,7 +318,7 @@ func TestExploreScriptAgreesWithTape(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, f := range prog.Formulas {
-		if f.Name == "line" || f.Name == "grp" {
+		if f.Name == "line" || f.Name == "grp" || f.Name == "lg" {
 			continue // vectors, not outputs
 		}
 		pr, err := prog.Problem(f.Name)
