@@ -33,12 +33,16 @@ import time
 import unittest
 import urllib.request
 
-from selenium import webdriver
-from selenium.webdriver.chrome.options import Options
-from selenium.webdriver.chrome.service import Service
-from selenium.webdriver.common.action_chains import ActionChains
-from selenium.webdriver.common.by import By
-from selenium.webdriver.support.ui import WebDriverWait
+HINT = ("the browser test needs Debian's chromium, chromium-driver, python3-selenium and jupyter-notebook:"
+        " make deps (as root) installs them")
+try:
+    from selenium import webdriver
+    from selenium.webdriver.chrome.options import Options
+    from selenium.webdriver.chrome.service import Service
+    from selenium.webdriver.common.action_chains import ActionChains
+    from selenium.webdriver.common.by import By
+except ImportError as e:
+    sys.exit("%s (%s)" % (HINT, e))
 
 PY = sys.executable
 REPO = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", "..", ".."))
@@ -59,7 +63,7 @@ def chromium_binary():
     for b in ("/usr/lib/chromium/chromium", "/usr/bin/chromium"):
         if os.path.exists(b):
             return b
-    raise unittest.SkipTest("chromium is not installed (Debian package chromium)")
+    raise AssertionError("chromium is not installed: " + HINT)
 
 
 def free_port():
@@ -171,7 +175,7 @@ class BrowserTest(unittest.TestCase):
 
         def up():
             if cls.server.poll() is not None:
-                raise AssertionError("the notebook server exited (see out/browser/notebook-server.log)")
+                raise AssertionError("the notebook server exited (see out/browser/notebook-server.log); " + HINT)
             try:
                 with urllib.request.urlopen("%s/api/status?token=%s" % (cls.base, cls.token), timeout=10) as r:
                     return r.status == 200
