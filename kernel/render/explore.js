@@ -450,7 +450,9 @@
       var id = "nx" + Math.random().toString(36).slice(2) + i;
       grid.appendChild(el("label", { "for": id, "class": "nudge-explore-label" }, q.name));
       grid.appendChild(el("span", { "class": "nudge-explore-end" }, formatQ(q.low, q.unit)));
-      var s = el("input", { type: "range", id: id, min: String(q.low), max: String(q.high), step: "any",
+      // The slider spans the range and the baseline, which a skewed
+      // distribution's P10..P90 can leave outside.
+      var s = el("input", { type: "range", id: id, min: String(Math.min(q.low, q.value)), max: String(Math.max(q.high, q.value)), step: "any",
         value: String(q.value), "data-input": q.name, "class": "nudge-explore-slider",
         "aria-valuetext": formatQ(q.value, q.unit) });
       grid.appendChild(s);
@@ -470,7 +472,7 @@
         var t = parseFloat(b.value.replace(/[,_\s]/g, ""));
         if (!isFinite(t)) { b.value = boxText(x[i]); return; }
         x[i] = t;
-        s.value = String(Math.min(Math.max(t, q.low), q.high));
+        s.value = String(t);
         update();
       });
       sliders.push(s);
