@@ -75,6 +75,7 @@ $(RM)/node_modules/.package-lock.json: $(RM)/package.json $(RM)/package-lock.jso
 # on the what-if panel in an HTML file opened from disk, its values checked
 # against nudge exec --json. Screenshots and the HTML go to out/browser.
 browser-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
+	rm -rf out/browser
 	cd kernel/testdata/browser && JUPYTER_PATH=$(JP)/share/jupyter NUDGE=$(BIN) $(PY) -m unittest -v test_browser
 
 bench:
