@@ -539,7 +539,9 @@
         "aria-label": "tornado bars of " + d.output + " at the sliders" });
       bars.forEach(function (b, r) {
         var y = top + r * rowH;
-        svg.appendChild(svgEl("text", { x: String(left - 8), y: String(y + 15), "text-anchor": "end", "font-size": "12" }, b.name));
+        // The label carries the bar's ends, every digit, for programs that read the page.
+        svg.appendChild(svgEl("text", { x: String(left - 8), y: String(y + 15), "text-anchor": "end", "font-size": "12",
+          "class": "nudge-explore-bar", "data-input": b.name, "data-low": String(b.lo), "data-high": String(b.hi) }, b.name));
         if (!isFinite(b.lo) || !isFinite(b.hi)) {
           svg.appendChild(svgEl("text", { x: String(left), y: String(y + 15), "font-size": "11", fill: "#8a3b12" }, "undefined at an end of the range"));
           return;

@@ -121,6 +121,25 @@ def exec_value(model, values):
     raise AssertionError("no compare result in: " + r.stdout)
 
 
+def exec_bars(model, top):
+    """The output at each end of the ranges of the top inputs, by nudge exec
+    --json of explore: {name: (output_at_low, output_at_high)}."""
+    with tempfile.NamedTemporaryFile("w", suffix=".nudge", delete=False) as f:
+        f.write(model + "\nexplore %s top=%d\n" % (OUTPUT, top))
+        path = f.name
+    try:
+        r = subprocess.run([NUDGE, "exec", "--json", path], capture_output=True, text=True, timeout=GUARD)
+    finally:
+        os.unlink(path)
+    if r.returncode != 0:
+        raise AssertionError("nudge exec failed: %s%s" % (r.stdout, r.stderr))
+    for line in r.stdout.splitlines():
+        o = json.loads(line)
+        if o.get("kind") == "explore":
+            return {i["name"]: (i["output_at_low"], i["output_at_high"]) for i in o["inputs"]}
+    raise AssertionError("no explore result in: " + r.stdout)
+
+
 # Reads the panel: its sliders (name, min, max, value) and the value shown.
 READ_PANEL = """
 const p = arguments[0];
@@ -235,6 +254,15 @@ class BrowserTest(unittest.TestCase):
         base = {s["name"]: float(s["value"]) for s in sliders}
         want = exec_value(self.model, base)
         self.assertLessEqual(abs(float(info["shown"]) - want), 1e-12 * abs(want), where + ": at the baseline")
+        # At the baseline the bars are the tornado's: each input's ends, the
+        # others at their baselines, as nudge exec --json computes them.
+        bars = self.js("return Array.from(arguments[0].querySelectorAll('.nudge-explore-bar')).map(b =>"
+                       " [b.dataset.input, b.dataset.low, b.dataset.high])", panel)
+        self.assertEqual(len(bars), len(sliders), where + ": bars")
+        go = exec_bars(self.model, len(sliders))
+        for name, lo, hi in bars:
+            for got, want in ((float(lo), go[name][0]), (float(hi), go[name][1])):
+                self.assertLessEqual(abs(got - want), 1e-12 * abs(want), "%s: the bar of %s: %r, nudge exec %r" % (where, name, got, want))
 
         # Chosen values: fractions of each range, a different one for each
         # slider, and both ends.
