@@ -157,6 +157,8 @@ func (h *Handler) commandCandidates(toks []lexeme, before string, names names) (
 		return names.inputs, true
 	case verb == "sweep" && prev.tok == syntax.AND:
 		return names.inputs, true
+	case verb == "explore" && prev.tok == syntax.COMMA:
+		return names.inputs, true
 	case verb == "compare" && (word("across") || prev.tok == syntax.COMMA):
 		return append([]string{sens.BaseName}, names.scenarios...), true
 	case verb == "attribute" && (word("from") || word("to")) && len(toks) > 2:

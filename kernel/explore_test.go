@@ -34,6 +34,17 @@ func TestExploreCommand(t *testing.T) {
 			}
 		}
 	}
+	// Inputs by name, in the order given.
+	s = run(t, in, "explore total over rate, units")
+	obj = object(t, s.results[0])
+	ins2 := obj["inputs"].([]any)
+	if len(ins2) != 2 || ins2[0].(map[string]any)["name"] != "rate" || ins2[1].(map[string]any)["name"] != "units" || obj["chosen"] != true {
+		t.Errorf("explore over: %v", obj)
+	}
+	if !strings.Contains(s.results[0].Text(), "asked for") {
+		t.Errorf("explore over: %s", s.results[0].Text())
+	}
+
 	b := r.Bundle()
 	h, _ := b["text/html"].(string)
 	if !strings.Contains(h, render.ExploreScript) || !strings.Contains(h, `class="nudge-explore-data"`) {
@@ -55,6 +66,11 @@ func TestExploreCommand(t *testing.T) {
 		{"explore units", 1, 9, "units is an input"},
 		{"explore total top=0", 1, 19, "top must be a whole number from 1"},
 		{"explore total n=3", 1, 15, "explore has no option n (options: top)"},
+		{"explore total over rat", 1, 20, "undefined input rat (did you mean rate?)"},
+		{"explore total over rate, unit_cost", 1, 26, "unit_cost is a formula, not an input"},
+		{"explore total over rate, hours, rate", 1, 33, "rate is listed twice"},
+		{"explore total over rate top=2", 1, 25, "top=N and over rate both choose the sliders"},
+		{"explore unit_cost over units", 1, 24, "unit_cost does not depend on units"},
 	} {
 		err := in.Execute(context.Background(), "cell", tc.src, &analysisSink{})
 		var ce *CellError

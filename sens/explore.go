@@ -31,6 +31,8 @@ type ExploreResult struct {
 	Unit   string         `json:"unit"`
 	Value  float64        `json:"value"`
 	Inputs []ExploreInput `json:"inputs"`
+	// Chosen is set when the inputs were named, not ranked.
+	Chosen bool `json:"chosen,omitempty"`
 	// Held is the number of inputs the output depends on that keep their
 	// baselines.
 	Held int `json:"held"`
@@ -49,7 +51,11 @@ type ExploreResult struct {
 // the defaults.
 type ExploreSettings struct {
 	Settings
-	// Top is the number of inputs moved (DefaultExploreTop when 0).
+	// Inputs are the inputs moved (indices into Problem.Inputs), in the
+	// order of the sliders; when empty, the Top inputs of largest swing.
+	Inputs []int
+	// Top is the number of inputs moved (DefaultExploreTop when 0) when
+	// Inputs is empty.
 	Top int
 	// Limit is the most slots a listing may hold (DefaultExploreLimit when
 	// 0): a page evaluates it on every move of a slider, and a notebook
@@ -65,12 +71,13 @@ const DefaultExploreTop = 6
 const DefaultExploreLimit = 20000
 
 // Explore prepares a what-if panel of the problem's output: it ranks the
-// inputs by their tornado swings, keeps the Top largest, and writes the
-// compiled output out as a listing in which those inputs move and the
-// others stay at their baselines.
+// inputs by their tornado swings and keeps the Top largest (or takes the
+// Inputs asked for), and writes the compiled output out as a listing in
+// which those inputs move and the others stay at their baselines.
 func Explore(pr *Problem, s *ExploreSettings) (*ExploreResult, error) {
 	top, limit := DefaultExploreTop, DefaultExploreLimit
 	var set Settings
+	var chosen []int
 	if s != nil {
 		if s.Top > 0 {
 			top = s.Top
@@ -79,14 +86,36 @@ func Explore(pr *Problem, s *ExploreSettings) (*ExploreResult, error) {
 			limit = s.Limit
 		}
 		set = s.Settings
+		chosen = s.Inputs
+	}
+	if len(chosen) > 0 {
+		top = 0 // every bar, to pick the chosen ones from
 	}
 	t, err := Tornado(pr, &TornadoSettings{Settings: set, Top: top, Interior: -1})
 	if err != nil {
 		return nil, err
 	}
-	r := &ExploreResult{Kind: "explore", Output: pr.Output, Unit: pr.Unit, Value: t.Baseline}
+	bars := t.Bars
+	if len(chosen) > 0 {
+		byName := map[string]TornadoBar{}
+		for _, b := range t.Bars {
+			byName[b.Name] = b
+		}
+		bars = nil
+		for _, j := range chosen {
+			if j < 0 || j >= len(pr.Inputs) {
+				return nil, fmt.Errorf("no input %d", j)
+			}
+			b, ok := byName[pr.Inputs[j].Name]
+			if !ok {
+				return nil, fmt.Errorf("%s has no tornado bar", pr.Inputs[j].Name)
+			}
+			bars = append(bars, b)
+		}
+	}
+	r := &ExploreResult{Kind: "explore", Output: pr.Output, Unit: pr.Unit, Value: t.Baseline, Chosen: len(chosen) > 0}
 	var free []int
-	for _, b := range t.Bars {
+	for _, b := range bars {
 		_, j, err := pr.Input(b.Name)
 		if err != nil {
 			return nil, err

@@ -59,8 +59,11 @@ func Explore(e *sens.ExploreResult, o *Options) *Result {
 		tb.add(in.Name, unit.Format(in.Low, in.Unit), unit.Format(in.Value, in.Unit), unit.Format(in.High, in.Unit),
 			out.Format(in.OutputAtLow), out.Format(in.OutputAtHigh))
 	}
-	head := fmt.Sprintf("what-if panel of %s: %s at the baseline; sliders for the %s %s with the largest swings",
-		e.Output, unit.Format(e.Value, e.Unit), count(len(e.Inputs)), plural(len(e.Inputs), "input", "inputs"))
+	which := fmt.Sprintf("the %s %s with the largest swings", count(len(e.Inputs)), plural(len(e.Inputs), "input", "inputs"))
+	if e.Chosen {
+		which = fmt.Sprintf("the %s %s asked for", count(len(e.Inputs)), plural(len(e.Inputs), "input", "inputs"))
+	}
+	head := fmt.Sprintf("what-if panel of %s: %s at the baseline; sliders for %s", e.Output, unit.Format(e.Value, e.Unit), which)
 	held := ""
 	if e.Held > 0 {
 		held = fmt.Sprintf("%s other %s of %s %s at %s baseline.", count(e.Held), plural(e.Held, "input", "inputs"), e.Output, plural(e.Held, "stays", "stay"), plural(e.Held, "its", "their"))

@@ -226,7 +226,7 @@ type (
 		Axes    []*Axis    // sweep axes; breakeven's single input (without a range)
 		Target  Expr       // breakeven target; spearman's coefficient
 		Percent *RangeSpec // spider's percentage range
-		Names   []*Ident   // compare's scenario list; spearman's two inputs; attribute's two ends
+		Names   []*Ident   // compare's scenario list; spearman's two inputs; attribute's two ends; explore's inputs
 		Assigns []*Assign  // scenario's settings
 		Options []*Option  // key=value
 		Text    string     // print's text

@@ -21,7 +21,7 @@ type CommandForm struct {
 var commandForms = []CommandForm{
 	{"drivers", "drivers OUT", (*parser).parseDrivers},
 	{"tornado", "tornado OUT", (*parser).parseTornado},
-	{"explore", "explore OUT", (*parser).parseExplore},
+	{"explore", "explore OUT [over X, Y, ...]", (*parser).parseExplore},
 	{"spider", "spider OUT [(±P%) | over ranges]", (*parser).parseSpider},
 	{"sweep", "sweep OUT over X a..b [and Y c..d]", (*parser).parseSweep},
 	{"breakeven", "breakeven OUT = T over X [a..b]", (*parser).parseBreakeven},
@@ -113,10 +113,27 @@ func (p *parser) parseDrivers(c *CommandStmt) { p.parseOutput(c) }
 func (p *parser) parseTornado(c *CommandStmt) { p.parseOutput(c) }
 
 // parseExplore parses the what-if panel of an output, whose sliders move
-// the inputs with the largest swings:
+// the inputs named after over (into c.Names), or else the inputs with the
+// largest swings:
 //
-//	explore = "explore" arith .
-func (p *parser) parseExplore(c *CommandStmt) { p.parseOutput(c) }
+//	explore = "explore" arith [ "over" ref { "," ref } ] .
+func (p *parser) parseExplore(c *CommandStmt) {
+	p.parseOutput(c)
+	if p.tok != IDENT || p.lit != "over" || p.peek(1) == ASSIGN {
+		return
+	}
+	p.next()
+	for {
+		if p.tok != IDENT {
+			p.error(p.pos, "expected an input after 'over', found "+p.describe()+" (write: explore "+exprString(c.Output)+" over X, Y)")
+		}
+		c.Names = append(c.Names, p.parseRef())
+		if p.tok != COMMA {
+			return
+		}
+		p.next()
+	}
+}
 
 // parseGlobal parses an uncertainty or global-sensitivity analysis of an
 // output (its size, seed and other settings are options):

@@ -45,7 +45,7 @@ import (
 //	options   = { name "=" arith } .
 //	drivers   = "drivers" arith .
 //	tornado   = "tornado" arith .
-//	explore   = "explore" arith .
+//	explore   = "explore" arith [ "over" ref { "," ref } ] .
 //	spider    = "spider" name [ range | "over" "ranges" ] .
 //	sweep     = "sweep" arith "over" axis [ "and" axis ] .
 //	axis      = name arith ".." arith .
