@@ -41,6 +41,7 @@ try:
     from selenium.webdriver.chrome.service import Service
     from selenium.webdriver.common.action_chains import ActionChains
     from selenium.webdriver.common.by import By
+    from selenium.webdriver.common.keys import Keys
 except ImportError as e:
     sys.exit("%s (%s)" % (HINT, e))
 
@@ -303,7 +304,18 @@ class BrowserTest(unittest.TestCase):
         at = {s["name"]: float(s["value"]) for s in info["sliders"]}
         want = exec_value(self.model, at)
         self.assertLessEqual(abs(float(info["shown"]) - want), 1e-12 * abs(want), where + ": after a click at %s" % at)
-        return len(sets) + 2
+
+        # The keyboard: the right arrow moves the slider a hundredth of its span.
+        before = info["sliders"][0]
+        first.send_keys(Keys.ARROW_RIGHT)
+        info = wait_for(where + ": a key to move the slider",
+                        lambda: (lambda r: r if r["sliders"][0]["value"] != before["value"] else None)(self.js(READ_PANEL, panel)))
+        step = (float(info["sliders"][0]["value"]) - float(before["value"])) / (float(before["max"]) - float(before["min"]))
+        self.assertAlmostEqual(step, 0.01, places=9, msg=where + ": the arrow key's step")
+        at = {s["name"]: float(s["value"]) for s in info["sliders"]}
+        want = exec_value(self.model, at)
+        self.assertLessEqual(abs(float(info["shown"]) - want), 1e-12 * abs(want), where + ": after a key at %s" % at)
+        return len(sets) + 3
 
     def test_1_notebook(self):
         """A demo notebook run in the classic Notebook with the nudge kernel."""
