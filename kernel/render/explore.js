@@ -490,7 +490,8 @@
     var chartBox = el("div", { "class": "nudge-explore-chart" });
     panel.appendChild(chartBox);
     panel.appendChild(el("p", { "class": "nudge-explore-note" },
-      "Each bar: " + d.output + " as that input goes from the low to the high end of its range (dark end: high), the others where the sliders are. " +
+      "Each bar joins " + d.output + " at the low and the high end of that input's range (dark: the high end), the others where the sliders are; " +
+      "a peak or trough inside a range is not drawn (the tornado command looks for one). " +
       "The line: " + d.output + " at the sliders. Computed in this page from the compiled model."));
     // The panel goes first; notes written with the page follow it.
     box.insertBefore(panel, src.nextSibling);
