@@ -48,6 +48,9 @@ type Cones struct {
 	buf        []float64
 	rows       [][]float64
 	x          []float64 // a full input vector for the reference pass
+
+	vec bool // the tape has loop nodes: points go through evalVec (vecone.go)
+	vc  vecCones
 }
 
 // ErrNoCones is the error of Cones for a tape whose operations cones do
@@ -63,10 +66,11 @@ const coneCache = 1 << 20
 // A tape with operations that cones do not know (see plannable) has none:
 // Cones returns ErrNoCones, and the caller evaluates its points otherwise.
 func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
-	if !t.p.plannable() {
+	vec := !t.p.plannable()
+	if vec && len(t.p.loops) == 0 {
 		return nil, ErrNoCones
 	}
-	c := &Cones{t: t.Clone(), out: i, base: slices.Clone(x), plans: map[[2]int32]*plan{}}
+	c := &Cones{t: t.Clone(), out: i, base: slices.Clone(x), plans: map[[2]int32]*plan{}, vec: vec}
 	y, err := c.t.Eval(x, i)
 	if err != nil {
 		return nil, err
@@ -78,46 +82,53 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	n := len(c.needed)
 	// Users, in compressed rows: count, then fill.
 	c.ustart = make([]int32, n+2)
-	each := func(k int, f func(a int32)) {
-		a, b := p.a[k], p.b[k]
-		f(a)
-		if b != a {
-			f(b)
-		}
-		if p.ops[k].Arity() == 3 {
-			if z := p.a[k+1]; z != a && z != b {
-				f(z)
-			}
-		}
-	}
-	for k := p.start; k < n; k++ {
-		if c.needed[k] && p.ops[k] != opArg {
-			each(k, func(a int32) { c.ustart[a+2]++ })
-		}
-	}
+	c.edges(func(k, a int32) { c.ustart[a+2]++ })
 	for k := 2; k < len(c.ustart); k++ {
 		c.ustart[k] += c.ustart[k-1]
 	}
 	c.users = make([]int32, c.ustart[n+1])
-	for k := p.start; k < n; k++ {
-		if c.needed[k] && p.ops[k] != opArg {
-			each(k, func(a int32) {
-				c.users[c.ustart[a+1]] = int32(k)
-				c.ustart[a+1]++
-			})
-		}
-	}
+	c.edges(func(k, a int32) {
+		c.users[c.ustart[a+1]] = k
+		c.ustart[a+1]++
+	})
 	c.ustart = c.ustart[:n+1]
 	c.seen = make([]uint32, n)
-	c.scratch = make([]int32, 3*len(p.ops))
+	if !vec {
+		c.scratch = make([]int32, 3*len(p.ops))
+		for k := range c.scratch {
+			c.scratch[k] = -1
+		}
+	}
 	c.dir = make([]int8, n)
 	c.bits = make([]uint64, (n+63)/64)
 	c.work = slices.Clone(c.vals)
 	c.mono = map[int]bool{}
-	for k := range c.scratch {
-		c.scratch[k] = -1
-	}
 	return c, nil
+}
+
+// edges calls f(k, a) for each operand a of each node k the output needs,
+// once for each operand of a node; a loop node's elements read theirs
+// (loopEdges).
+func (c *Cones) edges(f func(k, a int32)) {
+	p := c.t.p
+	for k := p.start; k < len(c.needed); k++ {
+		switch op := p.ops[k]; {
+		case op == opArg || op == opLane:
+		case op == opLoop:
+			c.loopEdges(k, f)
+		case c.needed[k]:
+			a, b := p.a[k], p.b[k]
+			f(int32(k), a)
+			if b != a {
+				f(int32(k), b)
+			}
+			if op.Arity() == 3 {
+				if z := p.a[k+1]; z != a && z != b {
+					f(int32(k), z)
+				}
+			}
+		}
+	}
 }
 
 // Base returns the output at the base point.
@@ -199,6 +210,9 @@ func (c *Cones) coneOf(i, j int) []int32 {
 	}
 	c.lastCone = c.cone(inputs)
 	c.last, c.lastOK = key, true
+	if c.vec {
+		c.vecCone(inputs, c.lastCone)
+	}
 	if j < 0 {
 		if _, ok := c.mono[i]; !ok {
 			c.mono[i] = c.monotone(i, c.lastCone)
@@ -263,96 +277,65 @@ func (c *Cones) Monotone(i int) bool {
 	return c.mono[i]
 }
 
+// Directions of monotone: 0 (constant), +1 (rising), -1 (falling) or
+// dirUnknown.
+const dirUnknown = 2
+
+// dirNeg is the direction of -x for x of direction a.
+func dirNeg(a int8) int8 {
+	if a == dirUnknown {
+		return a
+	}
+	return -a
+}
+
+// dirBoth is the direction of a sum of terms of directions a and b.
+func dirBoth(a, b int8) int8 {
+	switch {
+	case a == dirUnknown || b == dirUnknown:
+		return dirUnknown
+	case a == 0:
+		return b
+	case b == 0 || a == b:
+		return a
+	}
+	return dirUnknown
+}
+
+// dirTimes is the direction of v·x for x of direction a.
+func dirTimes(a int8, v float64) int8 {
+	switch {
+	case a == dirUnknown || v != v:
+		return dirUnknown
+	case v > 0:
+		return a
+	case v < 0:
+		return -a
+	}
+	return 0
+}
+
 // monotone is Monotone of input i, whose cone nodes c.seen marks.
 func (c *Cones) monotone(i int, nodes []int32) bool {
 	p := c.t.p
-	const unknown = 2
-	// c.seen[k] == c.stamp marks the cone, input i included.
-	in := func(k int32) bool { return c.seen[k] == c.stamp }
 	dir := c.dir
-	d := func(k int32) int8 {
-		if in(k) {
-			return dir[k]
-		}
-		return 0
-	}
-	neg := func(a int8) int8 {
-		if a == unknown {
-			return a
-		}
-		return -a
-	}
-	both := func(a, b int8) int8 {
-		switch {
-		case a == unknown || b == unknown:
-			return unknown
-		case a == 0:
-			return b
-		case b == 0 || a == b:
-			return a
-		}
-		return unknown
-	}
-	times := func(a int8, v float64) int8 {
-		switch {
-		case a == unknown || v != v:
-			return unknown
-		case v > 0:
-			return a
-		case v < 0:
-			return -a
-		}
-		return 0
-	}
 	if int(i) < len(dir) {
 		dir[i] = 1
 	}
 	affine := true
 	for _, k := range nodes {
-		a, b := p.a[k], p.b[k]
-		switch op := p.ops[k]; {
-		case op == OpAdd || op == OpSub || op == OpNeg:
-		case op == OpMul && !(in(a) && in(b)):
-		case op == OpDiv && !in(b):
-		case op == OpIf && !in(a):
-		default:
-			affine = false
+		var r int8
+		var aff bool
+		if op := p.ops[k]; op == opLoop || op == opLane {
+			r, aff = c.loopDir(k)
+		} else {
+			r, aff = c.opDir(op, p.a[k], p.b[k], p.a[min(int(k)+1, len(p.a)-1)])
 		}
-		var r int8 = unknown
-		switch p.ops[k] {
-		case OpAdd, OpMax, OpMin:
-			r = both(d(a), d(b))
-		case OpSub:
-			r = both(d(a), neg(d(b)))
-		case OpNeg, OpAcos:
-			r = neg(d(a))
-		case OpExp, OpLn, OpLog10, OpSqrt, OpAtan, OpAsin, OpFloor, OpCeil, OpRound:
-			r = d(a)
-		case OpMul:
-			switch {
-			case in(a) && in(b):
-			case in(a):
-				r = times(d(a), c.vals[b])
-			default:
-				r = times(d(b), c.vals[a])
-			}
-		case OpDiv:
-			if !in(b) {
-				r = times(d(a), c.vals[b])
-			}
-		case OpIf:
-			if !in(a) {
-				if c.vals[a] != 0 {
-					r = d(b)
-				} else {
-					r = d(p.a[k+1])
-				}
-			}
-		}
+		affine = affine && aff
 		dir[k] = r
 	}
 	out := p.outs[c.out]
-	ok := affine || d(out) != unknown
+	ok := affine || c.d(out) != dirUnknown
 	for _, k := range nodes {
 		dir[k] = 0
 	}
@@ -360,6 +343,66 @@ func (c *Cones) monotone(i int, nodes []int32) bool {
 		dir[i] = 0
 	}
 	return ok
+}
+
+// in reports whether slot k is in the cone c.seen marks.
+func (c *Cones) in(k int32) bool { return int(k) < len(c.seen) && c.seen[k] == c.stamp }
+
+// d returns the direction of slot k: 0 outside the cone.
+func (c *Cones) d(k int32) int8 {
+	if c.in(k) {
+		return c.dir[k]
+	}
+	return 0
+}
+
+// opDir returns the direction of op over the operands a, b and z (for an
+// operation of three), and whether op keeps the output affine in the
+// cone's input.
+func (c *Cones) opDir(op Op, a, b, z int32) (r int8, affine bool) {
+	in, d := c.in, c.d
+	switch {
+	case op == OpAdd || op == OpSub || op == OpNeg:
+		affine = true
+	case op == OpMul && !(in(a) && in(b)):
+		affine = true
+	case op == OpDiv && !in(b):
+		affine = true
+	case op == OpIf && !in(a):
+		affine = true
+	}
+	r = dirUnknown
+	switch op {
+	case OpAdd, OpMax, OpMin:
+		r = dirBoth(d(a), d(b))
+	case OpSub:
+		r = dirBoth(d(a), dirNeg(d(b)))
+	case OpNeg, OpAcos:
+		r = dirNeg(d(a))
+	case OpExp, OpLn, OpLog10, OpSqrt, OpAtan, OpAsin, OpFloor, OpCeil, OpRound:
+		r = d(a)
+	case OpMul:
+		switch {
+		case in(a) && in(b):
+		case in(a):
+			r = dirTimes(d(a), c.vals[b])
+		default:
+			r = dirTimes(d(b), c.vals[a])
+		}
+	case OpDiv:
+		if !in(b) {
+			r = dirTimes(d(a), c.vals[b])
+		}
+	case OpIf:
+		if !in(a) {
+			if c.vals[a] != 0 {
+				r = d(b)
+			} else {
+				r = d(z)
+			}
+		}
+	}
+	return r, affine
 }
 
 // Eval writes into dst the output at n points: the base with input i set
@@ -370,6 +413,9 @@ func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n 
 	nIn := c.t.p.nIn
 	if i < 0 || i >= nIn || j >= nIn || j == i || len(vi) < n || j >= 0 && len(vj) < n || len(dst) < n {
 		panic(fmt.Sprintf("tape: Cones.Eval of inputs %d, %d over %d points", i, j, n))
+	}
+	if c.vec {
+		return c.evalVec(dst, i, vi, j, vj, n)
 	}
 	if n <= scalarPoints {
 		return c.evalScalar(dst, i, vi, j, vj, n)

@@ -458,15 +458,22 @@ func (b *Builder) reduce(kind loopKind, fold Op, v, x, y Slot) Slot {
 			return b.Fold(fold, elems...)
 		}
 		// A sum of scalar operations in the order of a sum loop.
-		var part [sumLanes]Slot
-		for r := range part {
-			var terms []Slot
-			for j := r; j < len(elems); j += sumLanes {
-				terms = append(terms, elems[j])
+		leaf := func(lo, hi int) Slot {
+			block := elems[lo:hi]
+			if len(block) < sumLanes {
+				return b.Fold(OpAdd, block...)
 			}
-			part[r] = b.Fold(OpAdd, terms...)
+			var part [sumLanes]Slot
+			for r := range part {
+				var terms []Slot
+				for j := r; j < len(block); j += sumLanes {
+					terms = append(terms, block[j])
+				}
+				part[r] = b.Fold(OpAdd, terms...)
+			}
+			return b.Binary(OpAdd, b.Binary(OpAdd, part[0], part[1]), b.Binary(OpAdd, part[2], part[3]))
 		}
-		return b.Binary(OpAdd, b.Binary(OpAdd, part[0], part[1]), b.Binary(OpAdd, part[2], part[3]))
+		return sumShape(len(elems), leaf, func(x, y Slot) Slot { return b.Binary(OpAdd, x, y) })
 	}
 	if vs, ok := b.VecConsts(v); ok {
 		var r float64
@@ -678,30 +685,41 @@ func (p *tapeProg) loopForward(v []float64, k int) (bad bool) {
 const sumLanes = 4
 
 // sumOrdered returns the sum of xs (of xs[j]*ys[j] when ys is not nil), in
-// the order every sum of a tape uses: below sumLanes terms from the first
-// on; from sumLanes terms on, term j is added to partial sum j mod 4, each
-// partial sum from its first term on, and the result is (s0 + s1) + (s2 +
-// s3). Four chains of additions run four times as fast as one, and the
-// rounding error grows more slowly.
+// the order every sum of a tape uses: up to sumBlock terms as sumLeaf adds
+// them (below sumLanes terms from the first on; from sumLanes terms on,
+// term j is added to partial sum j mod 4, each partial sum from its first
+// term on, and the result is (s0 + s1) + (s2 + s3): four chains of
+// additions run four times as fast as one, and the rounding error grows
+// more slowly); a longer sum block by block, the block sums added as a
+// binary tree (sumtree.go), so that a point that changes one term is
+// summed again in O(log n).
 func sumOrdered(xs, ys []float64) float64 {
-	t := func(j int) float64 {
-		if ys == nil {
-			return xs[j]
-		}
-		return float64(xs[j] * ys[j]) // the conversion forbids a fused multiply-add
-	}
 	n := len(xs)
-	if n < sumLanes {
-		r := t(0)
-		for j := 1; j < n; j++ {
-			r += t(j)
+	if n <= sumBlock {
+		return sumLeaf(xs, ys)
+	}
+	var st [64]float64
+	var ht [64]uint8
+	sp := 0
+	for lo := 0; lo < n; lo += sumBlock {
+		hi := min(lo+sumBlock, n)
+		var yb []float64
+		if ys != nil {
+			yb = ys[lo:hi]
 		}
-		return r
+		st[sp], ht[sp] = sumLeaf(xs[lo:hi], yb), 0
+		sp++
+		for sp >= 2 && ht[sp-2] == ht[sp-1] {
+			st[sp-2] += st[sp-1]
+			ht[sp-2]++
+			sp--
+		}
 	}
-	if ys == nil {
-		return sum4(xs)
+	for sp >= 2 {
+		st[sp-2] += st[sp-1]
+		sp--
 	}
-	return dot4(xs, ys[:n])
+	return st[0]
 }
 
 // sum4 is sumOrdered of at least four terms.
@@ -1148,36 +1166,38 @@ func (t *Tape) loopBlock(k, m int) (bad bool) {
 		}
 	case loopSum, loopDot:
 		o := row(k)
-		y := int(l.arg[1])
 		if t.bsum == nil {
-			t.bsum = make([]float64, sumLanes*t.bw)
+			t.bsum = make([]float64, (sumLanes+sumStack)*t.bw)
 		}
-		lanes := min(n, sumLanes)
-		for j := range n {
-			r := j % sumLanes
-			acc := o
-			if lanes == sumLanes {
-				acc = t.bsum[r*t.bw : r*t.bw+m]
-			}
-			xs := row(x + j)
-			for s := range acc {
-				e := xs[s]
-				if l.kind == loopDot {
-					e = float64(e * row(y + j)[s])
+		if n <= sumBlock {
+			t.sumBlockRows(l, k, 0, n, m, o)
+			break
+		}
+		// The tree of sumOrdered, over rows: a stack of partial sums.
+		stack := func(i int) []float64 { return t.bsum[(sumLanes+i)*t.bw : (sumLanes+i)*t.bw+m] }
+		var ht [sumStack]uint8
+		sp := 0
+		for lo := 0; lo < n; lo += sumBlock {
+			t.sumBlockRows(l, k, lo, min(lo+sumBlock, n), m, stack(sp))
+			ht[sp] = 0
+			sp++
+			for sp >= 2 && ht[sp-2] == ht[sp-1] {
+				a, c := stack(sp-2), stack(sp-1)
+				for s := range a {
+					a[s] += c[s]
 				}
-				if j < sumLanes && (lanes == sumLanes || j == 0) {
-					acc[s] = e
-				} else {
-					acc[s] += e
-				}
+				ht[sp-2]++
+				sp--
 			}
 		}
-		if lanes == sumLanes {
-			s0, s1, s2, s3 := t.bsum[:m], t.bsum[t.bw:t.bw+m], t.bsum[2*t.bw:2*t.bw+m], t.bsum[3*t.bw:3*t.bw+m]
-			for s := range o {
-				o[s] = (s0[s] + s1[s]) + (s2[s] + s3[s])
+		for sp >= 2 {
+			a, c := stack(sp-2), stack(sp-1)
+			for s := range a {
+				a[s] += c[s]
 			}
+			sp--
 		}
+		copy(o, stack(0))
 	case loopMin, loopMax:
 		o := row(k)
 		for j := range n {
@@ -1207,6 +1227,44 @@ func (t *Tape) loopBlock(k, m int) (bad bool) {
 		}
 	}
 	return bad
+}
+
+// sumStack bounds the partial sums a batched long sum keeps: one a bit of
+// its number of blocks, and one more.
+const sumStack = 48
+
+// sumBlockRows writes into o, over a block of m samples, the sum of terms
+// lo..hi-1 of the sum or dot loop l at k, in the order of sumLeaf.
+func (t *Tape) sumBlockRows(l *loop, k, lo, hi, m int, o []float64) {
+	row := func(s int) []float64 { return t.row(t.bvals, int32(s), m) }
+	x, y := int(l.arg[0]), int(l.arg[1])
+	n := hi - lo
+	lanes := min(n, sumLanes)
+	for j := range n {
+		r := j % sumLanes
+		acc := o
+		if lanes == sumLanes {
+			acc = t.bsum[r*t.bw : r*t.bw+m]
+		}
+		xs := row(x + lo + j)
+		for s := range acc {
+			e := xs[s]
+			if l.kind == loopDot {
+				e = float64(e * row(y + lo + j)[s])
+			}
+			if j < sumLanes && (lanes == sumLanes || j == 0) {
+				acc[s] = e
+			} else {
+				acc[s] += e
+			}
+		}
+	}
+	if lanes == sumLanes {
+		s0, s1, s2, s3 := t.bsum[:m], t.bsum[t.bw:t.bw+m], t.bsum[2*t.bw:2*t.bw+m], t.bsum[3*t.bw:3*t.bw+m]
+		for s := range o {
+			o[s] = (s0[s] + s1[s]) + (s2[s] + s3[s])
+		}
+	}
 }
 
 // rowOp sets o[s] = op(x[s], y[s], z[s]) over a block, with the same

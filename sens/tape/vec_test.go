@@ -171,8 +171,13 @@ func TestLoopsAgreeWithScalarOps(t *testing.T) {
 // reductions, filters and group sums; its outputs are scalars: sums and
 // single elements.
 func randomVecModel(b *Builder, seed uint64) ([]Slot, []float64) {
+	return randomVecModelN(b, seed, 40)
+}
+
+// randomVecModelN is randomVecModel with vectors of 2 to nmax+1 elements.
+func randomVecModelN(b *Builder, seed uint64, nmax int) ([]Slot, []float64) {
 	rng := rand.New(rand.NewPCG(seed, 99))
-	n := 2 + rng.IntN(40)
+	n := 2 + rng.IntN(nmax)
 	nv, ns := 2+rng.IntN(3), 1+rng.IntN(3)
 	var vecs, scal []Slot
 	var x []float64
