@@ -3,7 +3,6 @@ package sens
 import (
 	"fmt"
 	"math"
-	"sort"
 
 	"github.com/nudge-dev/nudge/sens/unit"
 )
@@ -196,12 +195,7 @@ func spiderLines(p *Problem, set *Settings, grid [][]float64, points, top int, p
 
 // sortLines orders spider lines by spread descending, ties by name.
 func sortLines(ls []SpiderLine) {
-	sort.SliceStable(ls, func(a, b int) bool {
-		if sa, sb := sortKey(ls[a].Spread), sortKey(ls[b].Spread); sa != sb {
-			return sa > sb
-		}
-		return ls[a].Name < ls[b].Name
-	})
+	sortBySpread(ls, func(l *SpiderLine) (float64, string) { return l.Spread, l.Name })
 }
 
 // keepTop keeps the top lines of res (sorted) and summarises the rest; top

@@ -321,13 +321,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 	ev.finish()
 	res.Evaluations = ev.done
 
-	sort.SliceStable(bars, func(a, c int) bool {
-		sa, sc := sortKey(bars[a].Spread()), sortKey(bars[c].Spread())
-		if sa != sc {
-			return sa > sc
-		}
-		return bars[a].Name < bars[c].Name
-	})
+	sortBySpread(bars, func(b *TornadoBar) (float64, string) { return b.Spread(), b.Name })
 	swingShares(bars)
 	if s.Top > 0 && s.Top < len(bars) {
 		res.Rest = summarise(bars[s.Top:])

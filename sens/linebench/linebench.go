@@ -31,6 +31,11 @@ input unit_cost = bid.unit_cost (±10%)
 total = sum(qty * unit_cost)
 `
 
+// Curved is a formula added to Model for the one-at-a-time benchmarks: the
+// roll-up plus a sum of squares, which is not monotone in the quantities,
+// so that a tornado samples inside every quantity's range.
+const Curved = "curved = total + sum((qty - 5) * (qty - 5)) * 1 [$]\n"
+
 // Bench is the loaded benchmark: the table's bytes, the compiled roll-up,
 // the baseline, and the same numbers as plain slices for the Go loop.
 type Bench struct {
@@ -41,6 +46,9 @@ type Bench struct {
 	Qty  []float64
 	Cost []float64
 	Grad []float64
+
+	Total, Curve *sens.Problem // the problems of total and curved
+	out          []float64
 }
 
 // New generates the table of n lines and loads and compiles the model.
@@ -57,6 +65,17 @@ func New(n int) (*Bench, error) {
 	bn.X = p.Baseline()
 	bn.Qty, bn.Cost = bn.X[:n], bn.X[n:]
 	bn.Grad = make([]float64, len(bn.X))
+	bn.out = make([]float64, 1)
+	if bn.Total, err = p.Problem("total"); err != nil {
+		return nil, err
+	}
+	pc, err := bn.loadModel(Model + Curved)
+	if err != nil {
+		return nil, err
+	}
+	if bn.Curve, err = pc.Problem("curved"); err != nil {
+		return nil, err
+	}
 	y, err := bn.Fn.Eval(bn.X)
 	if err != nil {
 		return nil, err
@@ -69,7 +88,12 @@ func New(n int) (*Bench, error) {
 
 // load parses the model, reads the table from memory and compiles.
 func (bn *Bench) load() (*sens.Program, error) {
-	f, stmts, err := syntax.Parse("bid.nudge", []byte(Model))
+	return bn.loadModel(Model)
+}
+
+// loadModel parses the model src, reads the table from memory and compiles.
+func (bn *Bench) loadModel(src string) (*sens.Program, error) {
+	f, stmts, err := syntax.Parse("bid.nudge", []byte(src))
 	if err != nil {
 		return nil, err
 	}
@@ -126,4 +150,39 @@ func (bn *Bench) ForwardVsGo(b tapebench.B) {
 func (bn *Bench) GradientVsForward(b tapebench.B) {
 	tapebench.Pair(b, 4, 1, "gradient", "forward", func() error { _, err := bn.Fn.Gradient(bn.Grad, bn.X); return err },
 		func() error { _, err := bn.Fn.Eval(bn.X); return err })
+}
+
+// forwardBatch is one forward evaluation of total through the batched
+// path, the reference of the one-at-a-time analyses.
+func (bn *Bench) forwardBatch() error { return bn.Fn.EvalBatch(bn.out, bn.X, 1) }
+
+// TornadoVsForward times a tornado of the roll-up (200,000 inputs, each
+// at both ends of its range; the output is proven monotone in each, so
+// nothing inside the ranges is sampled) against one batched forward
+// evaluation.
+func (bn *Bench) TornadoVsForward(b tapebench.B) {
+	tapebench.Pair(b, 1, 1, "tornado", "forward", func() error {
+		_, err := sens.Tornado(bn.Total, &sens.TornadoSettings{Top: 5})
+		return err
+	}, bn.forwardBatch)
+}
+
+// CurvedTornadoVsForward times a tornado of the roll-up plus a sum of
+// squares of the quantities, which samples inside each quantity's range
+// and refines the extreme it finds there, against one batched forward
+// evaluation of total.
+func (bn *Bench) CurvedTornadoVsForward(b tapebench.B) {
+	tapebench.Pair(b, 1, 1, "tornado", "forward", func() error {
+		_, err := sens.Tornado(bn.Curve, &sens.TornadoSettings{Top: 5})
+		return err
+	}, bn.forwardBatch)
+}
+
+// SpiderVsForward times a spider plot of the roll-up against one batched
+// forward evaluation.
+func (bn *Bench) SpiderVsForward(b tapebench.B) {
+	tapebench.Pair(b, 1, 1, "spider", "forward", func() error {
+		_, err := sens.Spider(bn.Total, &sens.SpiderSettings{Top: 5})
+		return err
+	}, bn.forwardBatch)
 }

@@ -41,7 +41,7 @@ type Cones struct {
 	lastOK   bool
 	lastCone []int32
 	work     []float64 // node values for the scalar path: the base, but for a point's cone
-	mono     map[int]bool
+	mono     []int8    // Monotone of each input: 0 not known yet, 1 no, 2 yes
 
 	plans      map[[2]int32]*plan
 	planInstrs int // instructions held by plans, bounded by coneCache
@@ -102,7 +102,7 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	c.dir = make([]int8, n)
 	c.bits = make([]uint64, (n+63)/64)
 	c.work = slices.Clone(c.vals)
-	c.mono = map[int]bool{}
+	c.mono = make([]int8, p.nIn)
 	return c, nil
 }
 
@@ -214,8 +214,11 @@ func (c *Cones) coneOf(i, j int) []int32 {
 		c.vecCone(inputs, c.lastCone)
 	}
 	if j < 0 {
-		if _, ok := c.mono[i]; !ok {
-			c.mono[i] = c.monotone(i, c.lastCone)
+		if c.mono[i] == 0 {
+			c.mono[i] = 1
+			if c.monotone(i, c.lastCone) {
+				c.mono[i] = 2
+			}
 		}
 	}
 	return c.lastCone
@@ -270,11 +273,10 @@ func (c *Cones) Size(i, j int) int { return len(c.coneOf(i, j)) }
 // at the model's structure and the base, not at sampled values, so no
 // shape between samples can fool it.
 func (c *Cones) Monotone(i int) bool {
-	if m, ok := c.mono[i]; ok {
-		return m
+	if c.mono[i] == 0 {
+		c.coneOf(i, -1)
 	}
-	c.coneOf(i, -1)
-	return c.mono[i]
+	return c.mono[i] == 2
 }
 
 // Directions of monotone: 0 (constant), +1 (rising), -1 (falling) or

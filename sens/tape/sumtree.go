@@ -27,7 +27,7 @@ package tape
 //     ed., SIAM 2002, section 4.2 (pairwise summation and its error bound).
 
 // sumBlock is the number of terms of a block of a long sum.
-const sumBlock = 128
+const sumBlock = 64
 
 // sumLeaf returns the sum of xs (of xs[j]*ys[j] when ys is not nil) for a
 // block: below sumLanes terms from the first on; from sumLanes terms on,
@@ -118,6 +118,13 @@ func newSumTree(xs, ys []float64) *sumTree {
 // leaf returns the sum of block b of xs (and ys).
 func (t *sumTree) leaf(xs, ys []float64, b int) float64 {
 	lo, hi := b*sumBlock, min((b+1)*sumBlock, len(xs))
+	switch {
+	case hi-lo < sumBlock:
+	case ys == nil:
+		return sumFull((*[sumBlock]float64)(xs[lo:]))
+	default:
+		return dotFull((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]))
+	}
 	if ys == nil {
 		return sumLeaf(xs[lo:hi], nil)
 	}

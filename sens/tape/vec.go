@@ -703,11 +703,17 @@ func sumOrdered(xs, ys []float64) float64 {
 	sp := 0
 	for lo := 0; lo < n; lo += sumBlock {
 		hi := min(lo+sumBlock, n)
-		var yb []float64
-		if ys != nil {
-			yb = ys[lo:hi]
+		switch {
+		case hi-lo < sumBlock && ys == nil:
+			st[sp] = sumLeaf(xs[lo:hi], nil)
+		case hi-lo < sumBlock:
+			st[sp] = sumLeaf(xs[lo:hi], ys[lo:hi])
+		case ys == nil:
+			st[sp] = sumFull((*[sumBlock]float64)(xs[lo:]))
+		default:
+			st[sp] = dotFull((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]))
 		}
-		st[sp], ht[sp] = sumLeaf(xs[lo:hi], yb), 0
+		ht[sp] = 0
 		sp++
 		for sp >= 2 && ht[sp-2] == ht[sp-1] {
 			st[sp-2] += st[sp-1]
@@ -720,6 +726,32 @@ func sumOrdered(xs, ys []float64) float64 {
 		sp--
 	}
 	return st[0]
+}
+
+// sumFull is sumLeaf of a whole block, in the same order, with the block's
+// length known to the compiler.
+func sumFull(x *[sumBlock]float64) float64 {
+	s0, s1, s2, s3 := x[0], x[1], x[2], x[3]
+	for j := sumLanes; j < sumBlock; j += 4 {
+		s0 += x[j]
+		s1 += x[j+1]
+		s2 += x[j+2]
+		s3 += x[j+3]
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+// dotFull is sumLeaf of the products of a whole block.
+func dotFull(x, y *[sumBlock]float64) float64 {
+	s0, s1 := float64(x[0]*y[0]), float64(x[1]*y[1])
+	s2, s3 := float64(x[2]*y[2]), float64(x[3]*y[3])
+	for j := sumLanes; j < sumBlock; j += 4 {
+		s0 += float64(x[j] * y[j])
+		s1 += float64(x[j+1] * y[j+1])
+		s2 += float64(x[j+2] * y[j+2])
+		s3 += float64(x[j+3] * y[j+3])
+	}
+	return (s0 + s1) + (s2 + s3)
 }
 
 // sum4 is sumOrdered of at least four terms.

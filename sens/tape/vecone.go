@@ -36,10 +36,11 @@ import (
 // state of the reductions, built on first use, and the changed elements
 // of the reductions in the last cone.
 type vecCones struct {
-	trees   map[int32]*sumTree // sum and dot loops: the tree at the base
-	picks   map[int32]int32    // min and max loops: the base's pick, -1 when a value is not finite
-	members map[int32][]int32  // group loops: the source elements of each group, in order, by groupStart
-	mstart  map[int32][]int32  // group loops: members[mstart[g]:mstart[g+1]] are group g's
+	// By loop number (the index into tapeProg.loops), built on first use:
+	trees   []*sumTree // sum and dot loops: the tree at the base
+	picks   []int32    // min and max loops: the base's pick, -1 when a value is not finite, -2 before it is known
+	members [][]int32  // group loops: the source elements of the groups, group by group, in order
+	mstart  [][]int32  // group loops: members[mstart[g]:mstart[g+1]] are group g's
 
 	reds    []vred  // the reductions of the last cone, in tape order
 	elems   []int32 // their changed elements
@@ -213,11 +214,12 @@ func (c *Cones) redOf(k int32) vred {
 // tree returns the sum tree of the sum or dot loop at k, at the base.
 func (c *Cones) tree(k int32, l *loop) *sumTree {
 	v := &c.vc
-	if t := v.trees[k]; t != nil {
-		return t
-	}
+	li := c.t.p.a[k]
 	if v.trees == nil {
-		v.trees = map[int32]*sumTree{}
+		v.trees = make([]*sumTree, len(c.t.p.loops))
+	}
+	if t := v.trees[li]; t != nil {
+		return t
 	}
 	x, n := int(l.arg[0]), int(l.n)
 	var ys []float64
@@ -225,7 +227,7 @@ func (c *Cones) tree(k int32, l *loop) *sumTree {
 		ys = c.vals[l.arg[1] : int(l.arg[1])+n]
 	}
 	t := newSumTree(c.vals[x:x+n], ys)
-	v.trees[k] = t
+	v.trees[li] = t
 	return t
 }
 
@@ -233,18 +235,22 @@ func (c *Cones) tree(k int32, l *loop) *sumTree {
 // -1 when one of its elements is not finite there.
 func (c *Cones) pick(k int32, l *loop) int32 {
 	v := &c.vc
-	if b, ok := v.picks[k]; ok {
-		return b
-	}
+	li := c.t.p.a[k]
 	if v.picks == nil {
-		v.picks = map[int32]int32{}
+		v.picks = make([]int32, len(c.t.p.loops))
+		for q := range v.picks {
+			v.picks[q] = -2
+		}
+	}
+	if b := v.picks[li]; b != -2 {
+		return b
 	}
 	xs := c.vals[l.arg[0] : l.arg[0]+l.n]
 	b := int32(l.best(xs))
 	if !allFinite(xs) {
 		b = -1
 	}
-	v.picks[k] = b
+	v.picks[li] = b
 	return b
 }
 
@@ -252,11 +258,12 @@ func (c *Cones) pick(k int32, l *loop) int32 {
 // order.
 func (c *Cones) group(k int32, l *loop, g int32) []int32 {
 	v := &c.vc
-	m, ok := v.members[k]
-	if !ok {
-		if v.members == nil {
-			v.members, v.mstart = map[int32][]int32{}, map[int32][]int32{}
-		}
+	li := c.t.p.a[k]
+	if v.members == nil {
+		v.members, v.mstart = make([][]int32, len(c.t.p.loops)), make([][]int32, len(c.t.p.loops))
+	}
+	m := v.members[li]
+	if m == nil {
 		start := make([]int32, l.n+1)
 		for _, g := range l.idx {
 			start[g+1]++
@@ -270,9 +277,9 @@ func (c *Cones) group(k int32, l *loop, g int32) []int32 {
 			m[next[g]] = int32(i)
 			next[g]++
 		}
-		v.members[k], v.mstart[k] = m, start
+		v.members[li], v.mstart[li] = m, start
 	}
-	s := v.mstart[k]
+	s := v.mstart[li]
 	return m[s[g]:s[g+1]]
 }
 

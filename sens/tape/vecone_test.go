@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+	"time"
 )
 
 // pairwiseRef is the order of sumOrdered written the other way round, as
@@ -58,7 +59,7 @@ func pairwiseRef(xs []float64) float64 {
 // 4.6 for pairwise summation).
 func TestSumTree(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
-	for _, n := range []int{1, 3, 4, 127, 128, 129, 255, 256, 257, 383, 384, 385, 1000, 128*13 + 5, 128 * 64, 100_000} {
+	for _, n := range []int{1, 3, 4, 63, 64, 65, 127, 128, 129, 191, 192, 193, 255, 256, 257, 383, 384, 385, 1000, 128*13 + 5, 128 * 64, 100_000} {
 		xs := make([]float64, n)
 		for j := range xs {
 			xs[j] = (rng.Float64() - 0.3) * math.Pow(10, float64(rng.IntN(7)))
@@ -274,5 +275,37 @@ func TestVecConesLines(t *testing.T) {
 		if c.Monotone(0) {
 			t.Errorf("%d lines: a sum of squares proven monotone", n)
 		}
+	}
+}
+
+// BenchmarkSumTree times the sum of 100,000 terms in the order of the
+// tape (blocks of sumBlock, added as a tree) against four interleaved
+// partial sums over the whole (the order before the tree), interleaved
+// in chunks of 16 calls; "ratio" is the median of the chunks' tree /
+// lanes (a chunk the scheduler interrupts is an outlier, not the rule).
+func BenchmarkSumTree(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	xs := make([]float64, 100_000)
+	for j := range xs {
+		xs[j] = rng.Float64()
+	}
+	var sink float64
+	var ratios []float64
+	b.ReportAllocs()
+	for b.Loop() {
+		t0 := time.Now()
+		for range 16 {
+			sink += sumOrdered(xs, nil)
+		}
+		t1 := time.Now()
+		for range 16 {
+			sink += sum4(xs)
+		}
+		ratios = append(ratios, float64(t1.Sub(t0))/float64(time.Since(t1)))
+	}
+	slices.Sort(ratios)
+	b.ReportMetric(ratios[len(ratios)/2], "ratio")
+	if sink == 0 {
+		b.Fatal("no sum")
 	}
 }
