@@ -3,6 +3,7 @@ package sens
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/nudge-dev/nudge/sens/unit"
 )
@@ -153,7 +154,14 @@ func spiderLines(p *Problem, set *Settings, grid [][]float64, points, top int, p
 	half := points / 2
 	x0 := p.Baseline()
 	ev := newBatcher(p.F, x0, set)
-	pts := []point{{i: -1, j: -1}}
+	npts := 1
+	for _, g := range grid {
+		if g != nil {
+			npts += len(g) - 1
+		}
+	}
+	pts := make([]point, 1, npts)
+	pts[0] = point{i: -1, j: -1}
 	for i, g := range grid {
 		for j, v := range g {
 			if j != half {
@@ -170,8 +178,10 @@ func spiderLines(p *Problem, set *Settings, grid [][]float64, points, top int, p
 	base := y[0]
 	res := &SpiderResult{Kind: "spider", Output: p.Output, Unit: p.Unit, Baseline: base, Evaluations: ev.done}
 	n := 1
+	res.Inputs = make([]SpiderLine, 0, len(p.Inputs))
+	all := make([]SpiderPoint, points*len(p.Inputs)) // every line's points, in one allocation
 	for i, in := range p.Inputs {
-		line := SpiderLine{Name: in.Name, Unit: in.Unit, Value: in.Value, ZeroValue: in.Value == 0, Points: make([]SpiderPoint, points)}
+		line := SpiderLine{Name: in.Name, Unit: in.Unit, Value: in.Value, ZeroValue: in.Value == 0, Points: all[i*points : (i+1)*points : (i+1)*points]}
 		lo, hi := base, base
 		for j := range points {
 			sp := SpiderPoint{Pct: pct(i, j), Input: in.Value, Output: base}
@@ -190,6 +200,12 @@ func spiderLines(p *Problem, set *Settings, grid [][]float64, points, top int, p
 	}
 	sortLines(res.Inputs)
 	keepTop(res, top)
+	if len(res.Inputs) < len(p.Inputs) {
+		// The lines kept let go of the others' points.
+		for i := range res.Inputs {
+			res.Inputs[i].Points = slices.Clone(res.Inputs[i].Points)
+		}
+	}
 	return res, nil
 }
 
