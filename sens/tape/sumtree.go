@@ -174,3 +174,43 @@ func (t *sumTree) restore() {
 	}
 	t.undo = t.undo[:0]
 }
+
+// sumIndexed returns sumOrdered of xs[idx[0]], xs[idx[1]], ...: the sum of
+// a group's members.
+func sumIndexed(xs []float64, idx []int32) float64 {
+	leaf := func(lo, hi int) float64 {
+		m := idx[lo:hi]
+		if len(m) < sumLanes {
+			r := xs[m[0]]
+			for _, i := range m[1:] {
+				r += xs[i]
+			}
+			return r
+		}
+		s := [sumLanes]float64{xs[m[0]], xs[m[1]], xs[m[2]], xs[m[3]]}
+		for j := sumLanes; j < len(m); j++ {
+			s[j%sumLanes] += xs[m[j]]
+		}
+		return (s[0] + s[1]) + (s[2] + s[3])
+	}
+	if len(idx) <= sumBlock {
+		return leaf(0, len(idx))
+	}
+	var st [64]float64
+	var ht [64]uint8
+	sp := 0
+	for lo := 0; lo < len(idx); lo += sumBlock {
+		st[sp], ht[sp] = leaf(lo, min(lo+sumBlock, len(idx))), 0
+		sp++
+		for sp >= 2 && ht[sp-2] == ht[sp-1] {
+			st[sp-2] += st[sp-1]
+			ht[sp-2]++
+			sp--
+		}
+	}
+	for sp >= 2 {
+		st[sp-2] += st[sp-1]
+		sp--
+	}
+	return st[0]
+}

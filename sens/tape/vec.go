@@ -54,10 +54,12 @@ type loop struct {
 	// arg holds the first slot of each operand, step 1 for a vector
 	// operand and 0 for a scalar one, broadcast to every element. Unused
 	// operands repeat the first.
-	arg   [3]int32
-	step  [3]int32
-	idx   []int32 // gather: source element of each lane; group: group of each source element
-	first []int32 // group: first source element of each group
+	arg  [3]int32
+	step [3]int32
+	idx  []int32 // gather: source element of each lane; group: group of each source element
+	// group: mem[mstart[g]:mstart[g+1]] are the source elements of group
+	// g, in order; first[g] = mem[mstart[g]], its first
+	mem, mstart, first []int32
 }
 
 // width returns the number of slots the loop's result occupies.
@@ -457,23 +459,7 @@ func (b *Builder) reduce(kind loopKind, fold Op, v, x, y Slot) Slot {
 		if fold != OpAdd || len(elems) < sumLanes {
 			return b.Fold(fold, elems...)
 		}
-		// A sum of scalar operations in the order of a sum loop.
-		leaf := func(lo, hi int) Slot {
-			block := elems[lo:hi]
-			if len(block) < sumLanes {
-				return b.Fold(OpAdd, block...)
-			}
-			var part [sumLanes]Slot
-			for r := range part {
-				var terms []Slot
-				for j := r; j < len(block); j += sumLanes {
-					terms = append(terms, block[j])
-				}
-				part[r] = b.Fold(OpAdd, terms...)
-			}
-			return b.Binary(OpAdd, b.Binary(OpAdd, part[0], part[1]), b.Binary(OpAdd, part[2], part[3]))
-		}
-		return sumShape(len(elems), leaf, func(x, y Slot) Slot { return b.Binary(OpAdd, x, y) })
+		return b.sumSlots(elems)
 	}
 	if vs, ok := b.VecConsts(v); ok {
 		var r float64
@@ -496,6 +482,27 @@ func (b *Builder) reduce(kind loopKind, fold Op, v, x, y Slot) Slot {
 		l.arg[0], l.arg[1] = int32(x), int32(y)
 	}
 	return b.addLoop(l)
+}
+
+// sumSlots adds the sum of elems as scalar operations in the order of a
+// sum loop (sumOrdered).
+func (b *Builder) sumSlots(elems []Slot) Slot {
+	leaf := func(lo, hi int) Slot {
+		block := elems[lo:hi]
+		if len(block) < sumLanes {
+			return b.Fold(OpAdd, block...)
+		}
+		var part [sumLanes]Slot
+		for r := range part {
+			var terms []Slot
+			for j := r; j < len(block); j += sumLanes {
+				terms = append(terms, block[j])
+			}
+			part[r] = b.Fold(OpAdd, terms...)
+		}
+		return b.Binary(OpAdd, b.Binary(OpAdd, part[0], part[1]), b.Binary(OpAdd, part[2], part[3]))
+	}
+	return sumShape(len(elems), leaf, func(x, y Slot) Slot { return b.Binary(OpAdd, x, y) })
 }
 
 // Gather returns the vector of the elements idx[0], idx[1], ... of v (at
@@ -548,15 +555,22 @@ func (b *Builder) GroupSum(v Slot, groups []int, n int) Slot {
 		panic(fmt.Sprintf("tape: GroupSum of %d elements with %d groups for %d", x.n, len(groups), n))
 	}
 	members := make([][]Slot, n)
-	first := make([]int32, n)
+	mstart := make([]int32, n+1)
 	for i, g := range groups {
 		if g < 0 || g >= n {
 			panic(fmt.Sprintf("tape: group %d of %d", g, n))
 		}
-		if members[g] == nil {
-			first[g] = int32(i)
-		}
 		members[g] = append(members[g], b.Elem(v, i))
+		mstart[g+1]++
+	}
+	for g := 1; g <= n; g++ {
+		mstart[g] += mstart[g-1]
+	}
+	mem := make([]int32, len(groups))
+	next := slices.Clone(mstart)
+	for i, g := range groups {
+		mem[next[g]] = int32(i)
+		next[g]++
 	}
 	for g, m := range members {
 		if m == nil {
@@ -567,11 +581,15 @@ func (b *Builder) GroupSum(v Slot, groups []int, n int) Slot {
 	if n < b.minLoop() || x.list != nil || konst {
 		list := make([]Slot, n)
 		for g, m := range members {
-			list[g] = b.Fold(OpAdd, m...)
+			list[g] = b.sumSlots(m)
 		}
 		return b.newVec(bvec{list: list, n: n, neg: -1, mul: -1})
 	}
-	l := loop{kind: loopGroup, n: int32(n), src: int32(x.n), idx: make([]int32, x.n), first: first}
+	first := make([]int32, n)
+	for g := range first {
+		first[g] = mem[mstart[g]]
+	}
+	l := loop{kind: loopGroup, n: int32(n), src: int32(x.n), idx: make([]int32, x.n), mem: mem, mstart: mstart, first: first}
 	for i, g := range groups {
 		l.idx[i] = int32(g)
 	}
@@ -669,13 +687,8 @@ func (p *tapeProg) loopForward(v []float64, k int) (bad bool) {
 			o[j] = v[x+int(i)]
 		}
 	case loopGroup:
-		o := v[k : k+n]
-		for i, g := range l.idx {
-			if l.first[g] == int32(i) {
-				o[g] = v[x+i]
-			} else {
-				o[g] += v[x+i]
-			}
+		for g := range n {
+			v[k+g] = sumIndexed(v[x:x+int(l.src)], l.mem[l.mstart[g]:l.mstart[g+1]])
 		}
 	}
 	return false
@@ -1247,18 +1260,73 @@ func (t *Tape) loopBlock(k, m int) (bad bool) {
 			copy(row(k+j), row(x+int(i)))
 		}
 	case loopGroup:
-		for i, g := range l.idx {
-			o, xs := row(k+int(g)), row(x+i)
-			if l.first[g] == int32(i) {
-				copy(o, xs)
-				continue
-			}
-			for s := range o {
-				o[s] += xs[s]
-			}
+		if t.bsum == nil {
+			t.bsum = make([]float64, (sumLanes+sumStack)*t.bw)
+		}
+		for g := range n {
+			mem := l.mem[l.mstart[g]:l.mstart[g+1]]
+			t.sumRows(len(mem), m, row(k+g), func(j int) []float64 { return row(x + int(mem[j])) })
 		}
 	}
 	return bad
+}
+
+// sumRows writes into o, over a block of m samples, the sum of the rows
+// term(0), ..., term(n-1), in the order of sumOrdered.
+func (t *Tape) sumRows(n, m int, o []float64, term func(j int) []float64) {
+	leaf := func(lo, hi int, o []float64) {
+		nn := hi - lo
+		lanes := min(nn, sumLanes)
+		for j := range nn {
+			acc := o
+			if lanes == sumLanes {
+				r := j % sumLanes
+				acc = t.bsum[r*t.bw : r*t.bw+m]
+			}
+			xs := term(lo + j)
+			for s := range acc {
+				if j < sumLanes && (lanes == sumLanes || j == 0) {
+					acc[s] = xs[s]
+				} else {
+					acc[s] += xs[s]
+				}
+			}
+		}
+		if lanes == sumLanes {
+			s0, s1, s2, s3 := t.bsum[:m], t.bsum[t.bw:t.bw+m], t.bsum[2*t.bw:2*t.bw+m], t.bsum[3*t.bw:3*t.bw+m]
+			for s := range o {
+				o[s] = (s0[s] + s1[s]) + (s2[s] + s3[s])
+			}
+		}
+	}
+	if n <= sumBlock {
+		leaf(0, n, o)
+		return
+	}
+	stack := func(i int) []float64 { return t.bsum[(sumLanes+i)*t.bw : (sumLanes+i)*t.bw+m] }
+	var ht [sumStack]uint8
+	sp := 0
+	for lo := 0; lo < n; lo += sumBlock {
+		leaf(lo, min(lo+sumBlock, n), stack(sp))
+		ht[sp] = 0
+		sp++
+		for sp >= 2 && ht[sp-2] == ht[sp-1] {
+			a, c := stack(sp-2), stack(sp-1)
+			for s := range a {
+				a[s] += c[s]
+			}
+			ht[sp-2]++
+			sp--
+		}
+	}
+	for sp >= 2 {
+		a, c := stack(sp-2), stack(sp-1)
+		for s := range a {
+			a[s] += c[s]
+		}
+		sp--
+	}
+	copy(o, stack(0))
 }
 
 // sumStack bounds the partial sums a batched long sum keeps: one a bit of

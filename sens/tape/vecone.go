@@ -24,8 +24,8 @@ import (
 //   - a min or max: the base's pick against the changed elements, the
 //     tie to the first as the full pass breaks it; the whole vector again
 //     only when the base's pick itself moved the wrong way;
-//   - a group sum: the changed group's elements added in order again, as
-//     the full pass adds them (O(group size)).
+//   - a group sum: as a sum, over a copy of the group's members in order
+//     and the tree of their sum (groupState).
 //
 // A point thus costs O(cone), not O(tape). Each value is the full pass's
 // to the bit: the same operations on the same operands in the same order.
@@ -37,14 +37,29 @@ import (
 // of the reductions in the last cone.
 type vecCones struct {
 	// By loop number (the index into tapeProg.loops), built on first use:
-	trees   []*sumTree // sum and dot loops: the tree at the base
-	picks   []int32    // min and max loops: the base's pick, -1 when a value is not finite, -2 before it is known
-	members [][]int32  // group loops: the source elements of the groups, group by group, in order
-	mstart  [][]int32  // group loops: members[mstart[g]:mstart[g+1]] are group g's
+	trees  []*sumTree    // sum and dot loops: the tree at the base
+	picks  []int32       // min and max loops: the base's pick, -1 when a value is not finite, -2 before it is known
+	groups []*groupState // group loops
+	gundo  []groupUndo   // the member values changed since the last restore
 
 	reds    []vred  // the reductions of the last cone, in tape order
 	elems   []int32 // their changed elements
 	touched []*sumTree
+}
+
+// groupState is what the cones keep of a group loop: its members' values at
+// the base, group by group in the order of loop.mem, and the sum tree of
+// each group over them.
+type groupState struct {
+	vals  []float64  // vals[q] is element mem[q]'s value
+	rank  []int32    // rank[i] is q with mem[q] = i
+	trees []*sumTree // by group, over vals[mstart[g]:mstart[g+1]]
+}
+
+type groupUndo struct {
+	st *groupState
+	q  int32
+	v  float64
 }
 
 // vred is a reduction in a cone: the loop node at k, whose changed
@@ -121,13 +136,38 @@ func (c *Cones) vecCone(inputs, nodes []int32) {
 	p := c.t.p
 	v := &c.vc
 	v.reds, v.elems = v.reds[:0], v.elems[:0]
+	group := int32(-1)
 	for _, k := range nodes {
-		if p.ops[k] != opLoop {
+		h := k
+		switch p.ops[k] {
+		case opLoop:
+		case opLane:
+			h = p.a[k]
+		default:
 			continue
 		}
-		l := &p.loops[p.a[k]]
+		l := &p.loops[p.a[h]]
 		switch l.kind {
 		case loopSum, loopDot, loopMin, loopMax:
+		case loopGroup:
+			// The changed elements of a group sum, by group.
+			if h == group {
+				continue
+			}
+			group = h
+			lo := int32(len(v.elems))
+			v.elems = c.changedIn(v.elems, nodes, inputs, l.arg[0], l.src)
+			e := v.elems[lo:]
+			slices.SortFunc(e, func(a, b int32) int {
+				if ga, gb := l.idx[a], l.idx[b]; ga != gb {
+					return int(ga - gb)
+				}
+				return int(a - b)
+			})
+			e = slices.Compact(e)
+			v.elems = v.elems[:int(lo)+len(e)]
+			v.reds = append(v.reds, vred{k: h, lo: lo, hi: int32(len(v.elems))})
+			continue
 		default:
 			continue
 		}
@@ -166,7 +206,8 @@ func (c *Cones) loopDir(k int32) (int8, bool) {
 		return c.d(l.arg[0] + l.idx[j]), true
 	case loopGroup:
 		var r int8
-		for _, e := range c.changedIn(nil, c.lastCone, c.lastInputs(), l.arg[0], l.src) {
+		red := c.redOf(h)
+		for _, e := range c.vc.elems[red.lo:red.hi] {
 			if l.idx[e] == j {
 				r = dirBoth(r, c.d(l.arg[0]+e))
 			}
@@ -194,14 +235,6 @@ func (c *Cones) loopDir(k int32) (int8, bool) {
 		}
 	}
 	return r, affine
-}
-
-// lastInputs returns the inputs of the last cone.
-func (c *Cones) lastInputs() []int32 {
-	if c.last[1] >= 0 {
-		return c.last[:]
-	}
-	return c.last[:1]
 }
 
 // redOf returns the reduction at k of the last cone.
@@ -254,33 +287,58 @@ func (c *Cones) pick(k int32, l *loop) int32 {
 	return b
 }
 
-// group returns the source elements of group g of the group loop at k, in
-// order.
-func (c *Cones) group(k int32, l *loop, g int32) []int32 {
+// group returns the state of the group loop at k, built from the base on
+// first use.
+func (c *Cones) group(k int32, l *loop) *groupState {
 	v := &c.vc
 	li := c.t.p.a[k]
-	if v.members == nil {
-		v.members, v.mstart = make([][]int32, len(c.t.p.loops)), make([][]int32, len(c.t.p.loops))
+	if v.groups == nil {
+		v.groups = make([]*groupState, len(c.t.p.loops))
 	}
-	m := v.members[li]
-	if m == nil {
-		start := make([]int32, l.n+1)
-		for _, g := range l.idx {
-			start[g+1]++
-		}
-		for g := 1; g < len(start); g++ {
-			start[g] += start[g-1]
-		}
-		m = make([]int32, len(l.idx))
-		next := slices.Clone(start)
-		for i, g := range l.idx {
-			m[next[g]] = int32(i)
-			next[g]++
-		}
-		v.members[li], v.mstart[li] = m, start
+	if st := v.groups[li]; st != nil {
+		return st
 	}
-	s := v.mstart[li]
-	return m[s[g]:s[g+1]]
+	st := &groupState{vals: make([]float64, len(l.mem)), rank: make([]int32, len(l.mem)), trees: make([]*sumTree, l.n)}
+	xs := c.vals[l.arg[0] : l.arg[0]+l.src]
+	for q, i := range l.mem {
+		st.vals[q], st.rank[i] = xs[i], int32(q)
+	}
+	for g := range l.n {
+		st.trees[g] = newSumTree(st.vals[l.mstart[g]:l.mstart[g+1]], nil)
+	}
+	v.groups[li] = st
+	return st
+}
+
+// groupSum evaluates element g, at slot k, of the group loop l at h, whose
+// changed elements red lists ordered by group: the changed members' values
+// are copied into the group's state and the blocks of its tree that hold
+// them summed again.
+func (c *Cones) groupSum(l *loop, v []float64, h, k, g int32, red vred) {
+	st := c.group(h, l)
+	elems := c.vc.elems[red.lo:red.hi]
+	q := sort.Search(len(elems), func(q int) bool { return l.idx[elems[q]] >= g })
+	lo := l.mstart[g]
+	gv := st.vals[lo:l.mstart[g+1]]
+	t := st.trees[g]
+	c.vc.touched = append(c.vc.touched, t)
+	end := q
+	for ; end < len(elems) && l.idx[elems[end]] == g; end++ {
+		e := elems[end]
+		r := st.rank[e]
+		c.vc.gundo = append(c.vc.gundo, groupUndo{st, r, st.vals[r]})
+		st.vals[r] = v[l.arg[0]+e]
+	}
+	// Then the blocks that hold them, each once (ascending: the members
+	// of a group are in element order).
+	last := int32(-1)
+	for _, e := range elems[q:end] {
+		if b := (st.rank[e] - lo) / sumBlock; b != last {
+			t.update(gv, nil, int(b))
+			last = b
+		}
+	}
+	v[k] = t.root()
 }
 
 // evalVec is Eval on a tape with loop nodes: each point by the cone of
@@ -297,6 +355,7 @@ func (c *Cones) evalVec(dst []float64, i int, vi []float64, j int, vj []float64,
 		}
 		bad := false
 		red := 0
+		group, gred := int32(-1), vred{}
 		for _, k := range nodes {
 			op := p.ops[k]
 			if op != opLoop && op != opLane {
@@ -318,13 +377,11 @@ func (c *Cones) evalVec(dst []float64, i int, vi []float64, j int, vj []float64,
 			case loopGather:
 				v[k] = v[l.arg[0]+l.idx[k-h]]
 			case loopGroup:
-				m := c.group(h, l, k-h)
-				x := l.arg[0]
-				r := v[x+m[0]]
-				for _, e := range m[1:] {
-					r += v[x+e]
+				if h != group {
+					group, gred = h, c.vc.reds[red]
+					red++
 				}
-				v[k] = r
+				c.groupSum(l, v, h, k, k-h, gred)
 			default:
 				if c.reduce(l, v, k, c.vc.reds[red]) {
 					bad = true
@@ -344,6 +401,11 @@ func (c *Cones) evalVec(dst []float64, i int, vi []float64, j int, vj []float64,
 			t.restore()
 		}
 		c.vc.touched = c.vc.touched[:0]
+		for q := len(c.vc.gundo) - 1; q >= 0; q-- {
+			u := c.vc.gundo[q]
+			u.st.vals[u.q] = u.v
+		}
+		c.vc.gundo = c.vc.gundo[:0]
 		if bad || !finite(dst[s]) {
 			if err := c.reference(dst, i, vi, j, vj, s, 1); err != nil {
 				return err

@@ -180,7 +180,8 @@ func TestVecConesAgreeWithTape(t *testing.T) {
 }
 
 // The loop and scalar builds of long vectors agree to the bit (their sums
-// are laid out as the same tree).
+// and group sums are laid out as the same tree), values, gradients and
+// batched passes.
 func TestLongLoopsAgreeWithScalarOps(t *testing.T) {
 	for seed := range uint64(12) {
 		build := func(b *Builder) ([]Slot, []float64) { return randomVecModelN(b, 1000+seed, 600) }
@@ -191,13 +192,27 @@ func TestLongLoopsAgreeWithScalarOps(t *testing.T) {
 		eouts, _ := build(e)
 		loopsAgree(t, fmt.Sprintf("seed %d", 1000+seed), b.Tape(outs...), e.Tape(eouts...), x)
 	}
+	for _, n := range []int{9, 300, 1030} {
+		e := NewBuilder()
+		e.SetLoopMin(math.MaxInt)
+		tp, x := lineModel(n)
+		te, _ := lineModelOf(e, n)
+		if len(te.p.loops) != 0 {
+			t.Fatal("the scalar build has loop nodes")
+		}
+		loopsAgree(t, fmt.Sprintf("%d lines", n), tp, te, x)
+	}
 }
 
 // lineModel builds Σ q_j c_j, Σ q_j, min and max of q and a filtered and
 // grouped roll-up over n lines, with a scalar markup broadcast: the
 // shapes of a bid.
 func lineModel(n int) (*Tape, []float64) {
-	b := NewBuilder()
+	return lineModelOf(NewBuilder(), n)
+}
+
+// lineModelOf is lineModel built by b.
+func lineModelOf(b *Builder, n int) (*Tape, []float64) {
 	q, c := b.VecInput(n), b.VecInput(n)
 	markup := b.Input()
 	rng := rand.New(rand.NewPCG(uint64(n), 5))
