@@ -27,9 +27,9 @@ import (
 // whose elements do not lie in a run of slots, is built from ordinary
 // scalar operations instead: the values and derivatives are the same to
 // the bit, since a loop node evaluates each element with the same
-// expressions as the scalar passes, in the same order, and a reduction
-// adds its elements one after another from the first, as a left fold of
-// additions does.
+// expressions as the scalar passes, in the same order, and a sum (of a
+// vector, of products, of a group) adds its terms in the order of
+// sumOrdered, which the Builder's scalar operations follow too (sumSlots).
 
 // loopKind is what a loop node computes.
 type loopKind uint8
@@ -41,7 +41,7 @@ const (
 	loopMin                        // min_j x_j; a tie goes to the first
 	loopMax                        // max_j x_j; a tie goes to the first
 	loopGather                     // lane j = x[idx[j]]
-	loopGroup                      // lane g = Σ x_i over the i with idx[i] = g, in order
+	loopGroup                      // lane g = Σ x_i over the i with idx[i] = g, in the order of sumOrdered
 )
 
 // loop is a loop node. Slots are builder slots in a Builder and tape
@@ -546,9 +546,9 @@ func (b *Builder) Gather(v Slot, idx []int) Slot {
 }
 
 // GroupSum returns the vector of the sums of the elements of v by group:
-// element g is the sum, in order, of the elements i of v with groups[i]
-// = g. groups has one entry per element of v, each in [0, n), and every
-// group has at least one element.
+// element g is the sum, in the order of sumOrdered, of the elements i of v
+// with groups[i] = g, taken in order of i. groups has one entry per
+// element of v, each in [0, n), and every group has at least one element.
 func (b *Builder) GroupSum(v Slot, groups []int, n int) Slot {
 	x := b.mustVec(v)
 	if len(groups) != x.n || n < 1 {
