@@ -207,10 +207,10 @@ func (c *Cones) loopDir(k int32) (int8, bool) {
 	case loopGroup:
 		var r int8
 		red := c.redOf(h)
-		for _, e := range c.vc.elems[red.lo:red.hi] {
-			if l.idx[e] == j {
-				r = dirBoth(r, c.d(l.arg[0]+e))
-			}
+		elems := c.vc.elems[red.lo:red.hi] // by group
+		q := sort.Search(len(elems), func(q int) bool { return l.idx[elems[q]] >= j })
+		for ; q < len(elems) && l.idx[elems[q]] == j; q++ {
+			r = dirBoth(r, c.d(l.arg[0]+elems[q]))
 		}
 		return r, true
 	}

@@ -272,7 +272,7 @@ func TestVecConesLines(t *testing.T) {
 				t.Fatalf("%d lines, min, element %d: %s", n, i, d)
 			}
 		}
-		for _, o := range []int{0, 1, 2, 5} {
+		for _, o := range []int{0, 1, 2, 5, 6} {
 			c, err := tp.Cones(x, o)
 			if err != nil {
 				t.Fatal(err)
