@@ -43,7 +43,8 @@ func firstDiff(a, b *TornadoResult) string {
 	return fmt.Sprintf("%+v and %+v", x, y)
 }
 
-// The one-at-a-time analyses of a line-item model (maps with scalars
+// The one-at-a-time analyses (tornado, spider, sweeps of one and two
+// inputs, break-even) of a line-item model (maps with scalars
 // broadcast, sums, filters, group subtotals, mean, min, max, a dot product,
 // and a sum of squares that is not monotone, so that a tornado samples
 // inside the ranges and refines the extremes it finds) give the same
@@ -75,6 +76,36 @@ func TestOneAtATimeThroughVectorCones(t *testing.T) {
 		s2, err2 := Spider(&plain, nil)
 		if (err1 == nil) != (err2 == nil) || !reflect.DeepEqual(s1, s2) {
 			t.Errorf("%s: spider through cones (%v) and whole evaluations (%v) differ", f.Name, err1, err2)
+		}
+		// A sweep of a line's hours, one of it against the labour rate, and
+		// a break-even in the line's hours.
+		if f.Name == "total" || f.Name == "bump" {
+			var hours []string
+			for _, in := range pr.Inputs {
+				if len(in.Name) > 6 && in.Name[:6] == "hours[" {
+					hours = append(hours, in.Name)
+				}
+			}
+			el, other := hours[0], "rate"
+			if f.Name == "bump" {
+				other = hours[1]
+			}
+			w1, err1 := Sweep1D(pr, &Sweep1DSettings{Axis: Axis{Input: el, N: 21}})
+			w2, err2 := Sweep1D(&plain, &Sweep1DSettings{Axis: Axis{Input: el, N: 21}})
+			if err1 != nil || err2 != nil || !reflect.DeepEqual(w1, w2) {
+				t.Errorf("%s: sweep of %s through cones (%v) and whole evaluations (%v) differ", f.Name, el, err1, err2)
+			}
+			v1, err1 := Sweep2D(pr, &Sweep2DSettings{X: Axis{Input: el, N: 7}, Y: Axis{Input: other, N: 5}})
+			v2, err2 := Sweep2D(&plain, &Sweep2DSettings{X: Axis{Input: el, N: 7}, Y: Axis{Input: other, N: 5}})
+			if err1 != nil || err2 != nil || !reflect.DeepEqual(v1, v2) {
+				t.Errorf("%s: sweep of %s and %s through cones (%v) and whole evaluations (%v) differ", f.Name, el, other, err1, err2)
+			}
+			target := t1.Baseline * 1.001
+			b1, err1 := Breakeven(pr, &BreakevenSettings{Input: el, Target: target})
+			b2, err2 := Breakeven(&plain, &BreakevenSettings{Input: el, Target: target})
+			if err1 != nil || err2 != nil || len(b1.Crossings) == 0 || !reflect.DeepEqual(b1, b2) {
+				t.Errorf("%s: break-even in %s through cones (%v) and whole evaluations (%v) differ", f.Name, el, err1, err2)
+			}
 		}
 		if f.Name == "bump" {
 			sampled := 0
