@@ -63,8 +63,10 @@ const coneCache = 1 << 20
 // Cones returns an evaluator of output i around the base inputs x. It
 // evaluates the base, and returns its error, if any, as Eval would.
 //
-// A tape with operations that cones do not know (see plannable) has none:
-// Cones returns ErrNoCones, and the caller evaluates its points otherwise.
+// A tape with loop nodes has cones element by element (vecone.go), which
+// Eval runs point by point. A tape with other operations that cones do not
+// know (see plannable) has none: Cones returns ErrNoCones, and the caller
+// evaluates its points otherwise.
 func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	vec := !t.p.plannable()
 	if vec && len(t.p.loops) == 0 {
