@@ -3,7 +3,7 @@ package sens
 import (
 	"fmt"
 	"math"
-	"sort"
+	"slices"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
 )
@@ -244,11 +244,14 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 	}
 
 	// The samples of each input, in order along its range.
-	sampled := make(map[int][]xy, len(sample))
+	// One allocation for all of them: a model with vector inputs samples
+	// hundreds of thousands.
+	sampled := make([][]xy, len(sample)) // by position in sample
+	all := make([]xy, len(sample)*(m+4))
 	at := 0
-	for _, i := range sample {
+	for n, i := range sample {
 		in := p.Inputs[i]
-		xs := make([]xy, 0, m+4)
+		xs := all[n*(m+4) : n*(m+4) : (n+1)*(m+4)]
 		xs = append(xs, xy{in.Low, bars[i].OutputAtLow})
 		xs = append(xs, inner[at:at+m]...)
 		at += m
@@ -260,7 +263,7 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 		if in.Low < in.Value && in.Value < in.High {
 			xs = append(xs, xy{in.Value, base})
 		}
-		sampled[i] = xs
+		sampled[n] = xs
 	}
 	for i := range bars {
 		b := &bars[i]
@@ -274,11 +277,21 @@ func Tornado(p *Problem, s *TornadoSettings) (*TornadoResult, error) {
 
 	// Stage 3: refine extremes found inside a range.
 	var ext []*extreme
-	for _, i := range sample {
+	for n, i := range sample {
 		b := &bars[i]
 		b.Sampled = true
-		xs := sampled[i]
-		sort.Slice(xs, func(a, c int) bool { return xs[a].x < xs[c].x })
+		xs := sampled[n]
+		// Points of equal abscissa are the same point, of equal output, so
+		// their order does not matter.
+		slices.SortFunc(xs, func(a, c xy) int {
+			switch {
+			case a.x < c.x:
+				return -1
+			case a.x > c.x:
+				return 1
+			}
+			return 0
+		})
 		xs = dedupe(xs)
 		tol := flatTol(xs)
 		b.NonMonotone = turns(xs, tol)
