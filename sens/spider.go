@@ -126,11 +126,12 @@ func Spider(p *Problem, s *SpiderSettings) (*SpiderResult, error) {
 	}
 	pcts[half] = 0
 	grid := make([][]float64, len(p.Inputs))
+	cells := make([]float64, points*len(p.Inputs)) // every line's values, in one allocation
 	for i, in := range p.Inputs {
 		if in.Value == 0 {
 			continue // no percentage moves it: a flat line
 		}
-		grid[i] = make([]float64, points)
+		grid[i] = cells[i*points : (i+1)*points : (i+1)*points]
 		for j, q := range pcts {
 			grid[i][j] = in.Value * (1 + q/100)
 		}
