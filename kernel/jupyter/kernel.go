@@ -98,7 +98,7 @@ type Kernel struct {
 	cancel context.CancelFunc
 	shellQ chan *message
 	// shellSeq counts the shell requests received (shellLoop numbers each
-	// one); abortBefore, touched only by shellWorker, is the last number
+	// one); abortBefore, touched only on the shell worker (by execute), is the last number
 	// of those to abort after a failed cell with stop_on_error.
 	shellSeq    atomic.Uint64
 	abortBefore uint64
@@ -480,14 +480,7 @@ func (k *Kernel) shellWorker() {
 				k.abortExecute(m)
 				continue
 			}
-			if k.handleShell(m) {
-				// Every execute_request received up to now was sent
-				// expecting this cell to succeed: answer those without
-				// running them. One received later runs, however soon
-				// after the failure it arrives (a front end that saw the
-				// aborted replies may send the next cell at once).
-				k.abortBefore = k.shellSeq.Load()
-			}
+			k.handleShell(m)
 		case <-k.stopped:
 			return
 		case <-k.root.Done():

@@ -902,3 +902,19 @@ func TestStdinInputReply(t *testing.T) {
 	case <-time.After(50 * time.Millisecond):
 	}
 }
+
+// A cell sent as soon as the front end has seen a failed cell's reply
+// always runs: the cut of requests to abort is taken before that reply
+// goes out. Repeated, since the window it guards against is short.
+func TestNextCellAfterFailureRuns(t *testing.T) {
+	tk := startKernel(t, newFake(), nil)
+	c := connect(t, tk)
+	for i := 0; i < 100; i++ {
+		if r, _ := c.execute("fail", nil); r.str("status") != "error" || r.str("ename") != "ModelError" {
+			t.Fatalf("round %d: failing cell %v", i, r.content)
+		}
+		if r, _ := c.execute("result ok", nil); r.str("status") != "ok" {
+			t.Fatalf("round %d: the next cell was not run: %v", i, r.content)
+		}
+	}
+}

@@ -11,13 +11,11 @@ import (
 	"unicode/utf8"
 )
 
-// handleShell serves one shell request. It reports whether the request was
-// a failed execute_request with stop_on_error, after which the queued
-// execute requests are aborted.
-func (k *Kernel) handleShell(m *message) (abort bool) {
+// handleShell serves one shell request.
+func (k *Kernel) handleShell(m *message) {
 	switch m.header.MsgType {
 	case "execute_request":
-		return k.execute(m)
+		k.execute(m)
 	case "kernel_info_request":
 		k.kernelInfoRequest(m)
 	case "complete_request":
@@ -48,7 +46,6 @@ func (k *Kernel) handleShell(m *message) (abort bool) {
 			}
 		})
 	}
-	return false
 }
 
 // handleControl serves one control request. Only requests that do not
@@ -158,9 +155,11 @@ type errorContent struct {
 // with execute_input, outputs, execute_result and error left out when the
 // request is silent. The execution counter advances only for a request
 // that stores history (store_history defaults to true and silent forces
-// it to false). It reports whether the queue should now be aborted: the
-// cell failed and stop_on_error (default true) was set.
-func (k *Kernel) execute(m *message) (abort bool) {
+// it to false). When the cell fails and stop_on_error (default true) is
+// set, every execute_request received up to then is to be aborted: the
+// cut (Kernel.abortBefore) is taken before the error reply goes out, so a
+// request the front end sends once it has seen that reply always runs.
+func (k *Kernel) execute(m *message) {
 	var req executeRequest
 	k.serveRequest(m, &req, func() {
 		parent := m.rawHeader
@@ -221,6 +220,9 @@ func (k *Kernel) execute(m *message) (abort bool) {
 		if interrupted && !errors.As(err, &ee) {
 			err = &ExecError{Name: "Interrupted", Value: "the cell was interrupted", Traceback: []string{"Interrupted: the cell was stopped by the user"}}
 		}
+		if stopOnError {
+			k.abortBefore = k.shellSeq.Load()
+		}
 		name, value, tb := errorFields(err)
 		tb = headline(err, tb)
 		if !req.Silent {
@@ -231,9 +233,7 @@ func (k *Kernel) execute(m *message) (abort bool) {
 			"ename": name, "evalue": value, "traceback": tb,
 			"user_expressions": ue, "payload": []any{},
 		})
-		abort = stopOnError
 	})
-	return abort
 }
 
 // abortExecute answers a queued execute_request without running it, after
