@@ -5,6 +5,7 @@ import (
 	"github.com/nudge-dev/nudge/sens/unit"
 	"io"
 	"math"
+	"sort"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -30,6 +31,14 @@ type Sweep struct {
 	BaselineInput, Baseline float64
 	// Target, when not nil, is an output level to reach.
 	Target *float64
+	// KnownRoots, when true, says that Roots holds every input value at
+	// which the output equals the target, found by the caller (a
+	// break-even's verified crossings): the chart marks those that lie in
+	// X's span, and no others. Otherwise the crossings are interpolated
+	// between the points, which would mark a jump or a pole past the
+	// target as a crossing.
+	KnownRoots bool
+	Roots      []float64
 	// Band, when not nil, shades a span of the input, such as its stated
 	// range in a break-even chart.
 	Band *Band
@@ -134,7 +143,34 @@ func (s *Sweep) Crossings() []float64 {
 	if s == nil || s.Target == nil {
 		return nil
 	}
+	if s.KnownRoots {
+		return rootsIn(s.X, s.Roots)
+	}
 	return crossings(s.X, s.Y, *s.Target)
+}
+
+// rootsIn returns the roots within the span of xs, in increasing order,
+// each once.
+func rootsIn(xs, roots []float64) []float64 {
+	if len(xs) == 0 {
+		return nil
+	}
+	lo, hi := xs[0], xs[len(xs)-1]
+	var out []float64
+	for _, r := range roots {
+		if r >= lo && r <= hi {
+			out = append(out, r)
+		}
+	}
+	sort.Float64s(out)
+	k := 0
+	for i, r := range out {
+		if i == 0 || r != out[k-1] {
+			out[k] = r
+			k++
+		}
+	}
+	return out[:k]
 }
 
 func crossings(xs, ys []float64, t float64) []float64 {
@@ -187,7 +223,11 @@ func (s *Sweep) frame() *frame {
 			for _, x := range xs {
 				parts = append(parts, unit.Format(x, inUnit))
 			}
-			f.notes = append(f.notes, fmt.Sprintf("Reaches the target %s at %s = %s (linear interpolation between sweep points).", unit.Format(t, u), in, strings.Join(parts, ", ")))
+			how := " (linear interpolation between sweep points)"
+			if s.KnownRoots {
+				how = ""
+			}
+			f.notes = append(f.notes, fmt.Sprintf("Reaches the target %s at %s = %s%s.", unit.Format(t, u), in, strings.Join(parts, ", "), how))
 		} else {
 			lo, hi := extent(s.Y...)
 			f.notes = append(f.notes, fmt.Sprintf("The target %s is not reached over this range: %s runs from %s to %s.", unit.Format(t, u), orDefault(s.Output, "the output"), unit.Format(lo, u), unit.Format(hi, u)))
@@ -215,6 +255,7 @@ func (s *Sweep) draw(c draw.Canvas) {
 	}
 	if s.Target != nil {
 		sc.Target = *s.Target
+		sc.KnownRoots, sc.Roots = s.KnownRoots, s.Roots
 		sc.CrossingLabel = func(x float64) string { return unit.Format(x, clean(s.InputUnit)) }
 	}
 	p.Add(grid, sc)
@@ -263,6 +304,10 @@ type SweepCurve struct {
 	Target float64
 	// CrossingLabel formats the input value of a crossing; nil writes none.
 	CrossingLabel func(x float64) string
+	// KnownRoots and Roots, as in Sweep: the crossings to mark, when the
+	// caller knows them, instead of those interpolated between points.
+	KnownRoots bool
+	Roots      []float64
 	// BandLow..BandHigh is a span of the input shaded under the curve; NaN
 	// for none.
 	BandLow, BandHigh float64
@@ -337,7 +382,7 @@ func (sc *SweepCurve) Plot(c draw.Canvas, p *plot.Plot) {
 		drawHaloGlyph(c, baselineGlyph(), vg.Point{X: trX(sc.BaselineInput), Y: trY(sc.Baseline)})
 	}
 	if !math.IsNaN(sc.Target) {
-		for _, x := range crossings(sc.X, sc.Y, sc.Target) {
+		for _, x := range sc.crossings() {
 			pt := vg.Point{X: trX(x), Y: trY(sc.Target)}
 			drawHaloGlyph(c, crossingGlyph(), pt)
 			if sc.CrossingLabel != nil {
@@ -345,6 +390,14 @@ func (sc *SweepCurve) Plot(c draw.Canvas, p *plot.Plot) {
 			}
 		}
 	}
+}
+
+// crossings returns the input values at which the curve meets the target.
+func (sc *SweepCurve) crossings() []float64 {
+	if sc.KnownRoots {
+		return rootsIn(sc.X, sc.Roots)
+	}
+	return crossings(sc.X, sc.Y, sc.Target)
 }
 
 // GlyphBoxes implements plot.GlyphBoxer: room for the markers and the
@@ -357,7 +410,7 @@ func (sc *SweepCurve) GlyphBoxes(p *plot.Plot) []plot.GlyphBox {
 		boxes = append(boxes, plot.GlyphBox{X: p.X.Norm(sc.BaselineInput), Y: p.Y.Norm(sc.Baseline), Rectangle: box})
 	}
 	if !math.IsNaN(sc.Target) {
-		for _, x := range crossings(sc.X, sc.Y, sc.Target) {
+		for _, x := range sc.crossings() {
 			b := box
 			if sc.CrossingLabel != nil {
 				b = sc.LabelStyle.Rectangle(sc.CrossingLabel(x)).Add(vg.Point{Y: 6})

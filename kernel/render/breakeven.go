@@ -80,7 +80,14 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		ch := &plotting.Sweep{Output: b.Output, Unit: b.Unit, Input: b.Input, InputUnit: b.InputUnit,
 			Title:         fmt.Sprintf("Break-even: %s = %s over %s", b.Output, unit.Format(b.Target, b.Unit), b.Input),
 			BaselineInput: b.BaselineInput, Baseline: b.BaselineOutput, Target: &t,
-			Band: &plotting.Band{Low: b.Low, High: b.High, Label: "stated range of " + b.Input}}
+			Band: &plotting.Band{Low: b.Low, High: b.High, Label: "stated range of " + b.Input},
+			// The engine's verified crossings, not the chart's
+			// interpolation, which would take a jump or a pole past the
+			// target for one.
+			KnownRoots: true}
+		for _, c := range b.Crossings {
+			ch.Roots = append(ch.Roots, c.Value)
+		}
 		if b.Method != "" {
 			ch.Notes = append(ch.Notes, b.Method)
 		}

@@ -1,6 +1,8 @@
 package render
 
 import (
+	"math"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -77,5 +79,50 @@ func TestBreakevenCrossingBesidePole(t *testing.T) {
 	text := Breakeven(b, noCharts).Text()
 	if !strings.Contains(text, "5.000001 ") || !strings.Contains(text, "through a pole") {
 		t.Errorf("text:\n%s", text)
+	}
+}
+
+// TestBreakevenChartMarksOnlyTrueCrossings: the chart marks the engine's
+// verified crossings, not points interpolated between its samples, which
+// would take a step or a pole past the target for a crossing. By hand:
+// if(x < 2, 1, 1e9) never equals 5 (it jumps from 1 to 1e9 at x = 2), and
+// tan(x) = 0 only at multiples of π, while its poles at odd multiples of
+// π/2 also change its sign.
+func TestBreakevenChartMarksOnlyTrueCrossings(t *testing.T) {
+	b, err := sens.Breakeven(problem(t, "input x = 1 (0..3)\ny = if(x < 2, 1, 1e9)\n", "y"), &sens.BreakevenSettings{Input: "x", Target: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := Breakeven(b, &Options{NoCharts: true, Width: 200})
+	if text := r.Text(); strings.Contains(text, "◀ target") || !strings.Contains(text, "target 5 not reached") {
+		t.Errorf("step: the text chart claims a crossing:\n%s", text)
+	}
+	if svg := Breakeven(b, nil).SVG(); strings.Contains(svg, "Reaches the target") || strings.Contains(svg, "reaches target") {
+		t.Error("step: the SVG claims a crossing")
+	}
+
+	b, err = sens.Breakeven(problem(t, "input x = 1 (0..3)\ny = tan(x)\n", "y"), &sens.BreakevenSettings{Input: "x", Target: 0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := Breakeven(b, &Options{NoCharts: true, Width: 200}).Text()
+	marked := 0
+	for _, line := range strings.Split(text, "\n") {
+		if !strings.HasSuffix(strings.TrimSpace(line), "◀ target") || strings.HasPrefix(line, "target ") {
+			continue
+		}
+		marked++
+		f := strings.Fields(line)
+		x, err := strconv.ParseFloat(strings.ReplaceAll(f[0], ",", ""), 64)
+		if err != nil {
+			t.Fatalf("row %q: %v", line, err)
+		}
+		// The row shows x to four significant digits: within 0.05 of kπ.
+		if k := math.Round(x / math.Pi); math.Abs(x-k*math.Pi) > 0.05 {
+			t.Errorf("tan: row %q marks x = %g, not a multiple of π", line, x)
+		}
+	}
+	if marked == 0 {
+		t.Errorf("tan: no crossing marked:\n%s", text)
 	}
 }
