@@ -40,6 +40,25 @@ func runExplore(x *call) error {
 	if err != nil {
 		return x.at(x.c.Output.Pos(), err)
 	}
+	var defaults, empty []string
+	for _, in := range e.Inputs {
+		if in.Source == sens.RangeDefault {
+			defaults = append(defaults, in.Name)
+			if in.Low == in.High {
+				empty = append(empty, in.Name)
+			}
+		}
+	}
+	if n := len(defaults); n > 0 {
+		warn(x.sink, "explore %s: %s %s no range or distribution: %s slider spans the default ±%d%% of the value",
+			e.Output, nameList(defaults, 8), map[bool]string{true: "has", false: "have"}[n == 1],
+			map[bool]string{true: "its", false: "their"}[n == 1], sens.DefaultRangePct)
+	}
+	if n := len(empty); n > 0 {
+		warn(x.sink, "explore %s: %s %s 0 with no range or distribution, and ±%d%% of 0 is no range: %s cannot move; state a range, as in `input %s = 0 (-1..1)`",
+			e.Output, nameList(empty, 8), map[bool]string{true: "is", false: "are"}[n == 1], sens.DefaultRangePct,
+			map[bool]string{true: "its slider", false: "their sliders"}[n == 1], empty[0])
+	}
 	x.show(render.Explore(e, &x.in.Opts))
 	return nil
 }

@@ -84,3 +84,31 @@ func TestExploreCommand(t *testing.T) {
 		}
 	}
 }
+
+// TestExploreDefaultRanges: a slider over the default ±10% range is flagged
+// as the tornado flags it (a warning and the range's source in the table),
+// and an input of 0 with no range, whose slider cannot move, is named. By
+// hand: fee = 5 $ with no range spans 4.50..5.50 $; spare = 0 $ spans 0..0.
+func TestExploreDefaultRanges(t *testing.T) {
+	in := New()
+	run(t, in, "input fee = 5 [$]\ninput spare = 0 [$]\ninput n = 3 (1..5)\ny = fee * n + spare\n")
+	s := run(t, in, "explore y")
+	if len(s.results) != 1 {
+		t.Fatalf("results: %+v", s.results)
+	}
+	warns := s.stderr.String()
+	for _, w := range []string{"explore y: fee, spare have no range or distribution", "spare is 0 with no range or distribution"} {
+		if !strings.Contains(warns, w) {
+			t.Errorf("stderr %q lacks %q", warns, w)
+		}
+	}
+	text := s.results[0].Text()
+	for _, w := range []string{"range from", "default ±10%", "stated", "$4.50", "$5.50", "No range: spare is 0"} {
+		if !strings.Contains(text, w) {
+			t.Errorf("text lacks %q:\n%s", w, text)
+		}
+	}
+	if h := s.results[0].Bundle()["text/html"].(string); !strings.Contains(h, "No range: spare is 0") || !strings.Contains(h, "default ±10%") {
+		t.Error("the HTML lacks the default range or the note on spare")
+	}
+}

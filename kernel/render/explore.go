@@ -53,11 +53,15 @@ func Explore(e *sens.ExploreResult, o *Options) *Result {
 		outs = append(outs, in.OutputAtLow, in.OutputAtHigh)
 	}
 	out := unit.NewColumn(e.Unit, outs...)
-	tb := &table{head: []string{"input", "low", "baseline", "high", e.Output + " at low", e.Output + " at high"},
-		right: []bool{false, true, true, true, true, true}}
+	tb := &table{head: []string{"input", "low", "baseline", "high", "range from", e.Output + " at low", e.Output + " at high"},
+		right: []bool{false, true, true, true, false, true, true}}
+	var noRange []string
 	for _, in := range e.Inputs {
 		tb.add(in.Name, unit.Format(in.Low, in.Unit), unit.Format(in.Value, in.Unit), unit.Format(in.High, in.Unit),
-			out.Format(in.OutputAtLow), out.Format(in.OutputAtHigh))
+			rangeFrom(in.Source), out.Format(in.OutputAtLow), out.Format(in.OutputAtHigh))
+		if in.Low == in.High {
+			noRange = append(noRange, in.Name)
+		}
 	}
 	which := fmt.Sprintf("the %s %s with the largest swings", count(len(e.Inputs)), plural(len(e.Inputs), "input", "inputs"))
 	if e.Chosen {
@@ -67,6 +71,12 @@ func Explore(e *sens.ExploreResult, o *Options) *Result {
 	held := ""
 	if e.Held > 0 {
 		held = fmt.Sprintf("%s other %s of %s %s at %s baseline.", count(e.Held), plural(e.Held, "input", "inputs"), e.Output, plural(e.Held, "stays", "stay"), plural(e.Held, "its", "their"))
+	}
+	if len(noRange) > 0 {
+		// A slider over an empty range cannot move: say so, as the
+		// tornado does for the zero swing.
+		held = strings.TrimSpace(held + " " + fmt.Sprintf("No range: %s %s 0 with no range or distribution, so ±%d%% of the value is no range and %s slider cannot move; state a range to explore %s.",
+			strings.Join(noRange, ", "), plural(len(noRange), "is", "are"), sens.DefaultRangePct, plural(len(noRange), "its", "their"), plural(len(noRange), "it", "them")))
 	}
 	text := o.wrap(head) + "\n" + tb.text()
 	if held != "" {
