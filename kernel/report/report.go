@@ -57,6 +57,9 @@ type Facts struct {
 	// the SHA-256 of its bytes.
 	Source       string
 	SourceSHA256 string
+	// Replaced is set when the run wrote its executed notebook over Source,
+	// so that the hash is of the file as it was read, not as it is now.
+	Replaced bool
 	// Model says what the model text is ("the 12 code cells, in order")
 	// and ModelSHA256 is its SHA-256.
 	Model       string
@@ -209,7 +212,11 @@ func (r *writer) page(b *bytes.Buffer) {
 	b.WriteString("<table class=\"nudge-facts-table\">\n<tbody>\n")
 	row := func(k, v string) { b.WriteString("<tr><th scope=\"row\">" + k + "</th><td>" + v + "</td></tr>\n") }
 	row("Tool", esc(r.f.Tool))
-	row("Source", esc(r.f.Source)+"<br><code class=\"nudge-hash\">SHA-256 "+esc(r.f.SourceSHA256)+"</code>")
+	replaced := ""
+	if r.f.Replaced {
+		replaced = "<br>as read, before this run wrote the executed notebook over it (the model text's hash stays the same)"
+	}
+	row("Source", esc(r.f.Source)+"<br><code class=\"nudge-hash\">SHA-256 "+esc(r.f.SourceSHA256)+"</code>"+replaced)
 	row("Model text", esc(r.f.Model)+"<br><code class=\"nudge-hash\">SHA-256 "+esc(r.f.ModelSHA256)+"</code>")
 	if len(r.f.Files) == 0 {
 		row("Data files", "none")

@@ -1,8 +1,10 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -97,6 +99,22 @@ func writeDemoFiles(dir string) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
+	// Check first, write after: a directory that holds files of the same
+	// names that no demo wrote is left as it is.
+	for _, e := range entries {
+		data, err := fs.ReadFile(notebooks.FS, e.Name())
+		if err != nil {
+			return nil, err
+		}
+		if err := demoMayReplace(filepath.Join(dir, e.Name()), data); err != nil {
+			return nil, err
+		}
+		if name, ok := strings.CutSuffix(e.Name(), ".ipynb"); ok {
+			if err := demoMayReplace(filepath.Join(dir, name+".html"), nil); err != nil {
+				return nil, err
+			}
+		}
+	}
 	var names []string
 	for _, e := range entries {
 		data, err := fs.ReadFile(notebooks.FS, e.Name())
@@ -124,6 +142,35 @@ func writeDemoFiles(dir string) ([]string, error) {
 		return strings.Compare(a, b)
 	})
 	return names, nil
+}
+
+// demoMayReplace returns an error when path holds a file that the demo did
+// not write: a notebook whose code differs from the bundled one's (bundled),
+// a data file of other bytes, or a page that nudge did not write (bundled
+// nil). A missing file may be written.
+func demoMayReplace(path string, bundled []byte) error {
+	old, err := os.ReadFile(path)
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	ours := false
+	switch {
+	case bundled == nil:
+		ours = bytes.Contains(old, []byte(`<meta name="generator" content="nudge `))
+	case strings.HasSuffix(path, ".ipynb"):
+		a, errA := notebook.Read(old)
+		b, errB := notebook.Read(bundled)
+		ours = errA == nil && errB == nil && a.CodeText() == b.CodeText()
+	default:
+		ours = bytes.Equal(old, bundled)
+	}
+	if !ours {
+		return fmt.Errorf("%s exists and is not from the demo: it is left as it is; run the demo into another directory (nudge demo DIR)", path)
+	}
+	return nil
 }
 
 // summarize prints a notebook's line of the summary: its cells, the top

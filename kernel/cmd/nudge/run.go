@@ -41,6 +41,20 @@ func runCmd(args []string, stdout, stderr io.Writer) int {
 	if report == "" {
 		report = strings.TrimSuffix(input, filepath.Ext(input)) + ".html"
 	}
+	// Never write over the input, except a notebook executed in place
+	// (-o the notebook itself), nor write both files to one path.
+	isNotebook := strings.EqualFold(filepath.Ext(input), ".ipynb")
+	switch {
+	case sameFile(report, input):
+		fmt.Fprintf(stderr, "nudge run: the report would replace the input %s: give the report another name with --html FILE\n", input)
+		return 2
+	case *out != "" && !isNotebook && sameFile(*out, input):
+		fmt.Fprintf(stderr, "nudge run: -o %s would replace the model file with a notebook: give the notebook another name, such as %s\n", *out, strings.TrimSuffix(input, filepath.Ext(input))+".ipynb")
+		return 2
+	case *out != "" && sameFile(*out, report):
+		fmt.Fprintf(stderr, "nudge run: the notebook and the report would both be written to %s: give them different names\n", report)
+		return 2
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	bar := newProgress(stderr, *asJSON)
@@ -59,6 +73,19 @@ func runCmd(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	return 0
+}
+
+// sameFile reports whether paths a and b name one file: the same file on
+// disk when both exist, else the same cleaned absolute path.
+func sameFile(a, b string) bool {
+	if sa, err := os.Stat(a); err == nil {
+		if sb, err := os.Stat(b); err == nil {
+			return os.SameFile(sa, sb)
+		}
+	}
+	aa, errA := filepath.Abs(a)
+	ab, errB := filepath.Abs(b)
+	return errA == nil && errB == nil && aa == ab
 }
 
 // runOptions say where a run's files go.
@@ -166,7 +193,9 @@ func runNotebook(ctx context.Context, input string, opts runOptions, bar *progre
 			}
 		}
 	}
+	replaced := false
 	if opts.notebook != "" {
+		replaced = sameFile(input, opts.notebook)
 		b, err := nb.Marshal()
 		if err == nil {
 			err = writeFile(opts.notebook, b)
@@ -181,6 +210,7 @@ func runNotebook(ctx context.Context, input string, opts runOptions, bar *progre
 			Tool:         "nudge " + kernel.Version,
 			Source:       base,
 			SourceSHA256: report.SHA256(data),
+			Replaced:     replaced,
 			Files:        files,
 			Seeds:        seeds,
 			Rerun:        "nudge run " + base,

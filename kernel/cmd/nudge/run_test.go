@@ -462,3 +462,89 @@ func TestFlagsAfterArguments(t *testing.T) {
 		t.Errorf("two notebooks: exit %d, want 2", code)
 	}
 }
+
+// TestRunNeverReplacesItsInput: a careless -o or --html that names the
+// input, or one path for both files, is a usage error (exit 2) that leaves
+// every file as it was; a notebook executed in place (-o the notebook) is
+// allowed, and its report says the source's hash is of the file as read.
+func TestRunNeverReplacesItsInput(t *testing.T) {
+	dir := t.TempDir()
+	model := filepath.Join(dir, "m.nudge")
+	src := []byte("input a = 2 (1..3)\ny = a * a\ny\n")
+	if err := os.WriteFile(model, src, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{
+		{"run", "-o", model, model},
+		{"run", "--html", model, model},
+		{"run", "-o", filepath.Join(dir, "x.html"), "--html", filepath.Join(dir, "x.html"), model},
+	} {
+		code, _, errs := runNudge(args, "")
+		if code != 2 || !strings.Contains(errs, "give") {
+			t.Errorf("%q: exit %d, stderr %q", args, code, errs)
+		}
+		if b, _ := os.ReadFile(model); !bytes.Equal(b, src) {
+			t.Fatalf("%q replaced the model file", args)
+		}
+		if _, err := os.Stat(filepath.Join(dir, "x.html")); err == nil {
+			t.Fatalf("%q wrote x.html", args)
+		}
+	}
+
+	// In place: allowed, and said.
+	nbPath := filepath.Join(dir, "n.ipynb")
+	nb := notebook.New()
+	nb.Cells = []*notebook.Cell{{ID: "c", Type: "code", Source: string(src), Metadata: map[string]any{}}}
+	data, err := nb.Marshal()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(nbPath, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errs := runNudge([]string{"run", "-o", nbPath, nbPath}, "")
+	if code != 0 {
+		t.Fatalf("in place: exit %d\n%s\n%s", code, out, errs)
+	}
+	page, _ := os.ReadFile(filepath.Join(dir, "n.html"))
+	sum := sha256.Sum256(data)
+	if !bytes.Contains(page, []byte("SHA-256 "+hex.EncodeToString(sum[:]))) || !bytes.Contains(page, []byte("as read, before this run wrote the executed notebook over it")) {
+		t.Errorf("in place: the report does not say its source hash is of the notebook as read")
+	}
+	// Executed elsewhere: no such note.
+	code, _, _ = runNudge([]string{"run", "-o", filepath.Join(dir, "out.ipynb"), "--html", filepath.Join(dir, "other.html"), nbPath}, "")
+	if page, _ := os.ReadFile(filepath.Join(dir, "other.html")); code != 0 || bytes.Contains(page, []byte("as read, before")) {
+		t.Errorf("elsewhere: exit %d, or the report says the source was replaced", code)
+	}
+}
+
+// TestDemoLeavesOtherFiles: the demo does not write over a file of a
+// bundled name that it did not write (a notebook of other code, a page
+// nudge did not make), and writes again over its own.
+func TestDemoLeavesOtherFiles(t *testing.T) {
+	dir := t.TempDir()
+	if _, err := writeDemoFiles(dir); err != nil {
+		t.Fatalf("an empty directory: %v", err)
+	}
+	if _, err := writeDemoFiles(dir); err != nil {
+		t.Fatalf("the demo's own files: %v", err)
+	}
+	mine := []byte(`{"cells": [], "metadata": {}, "nbformat": 4, "nbformat_minor": 5}`)
+	if err := os.WriteFile(filepath.Join(dir, "tour.ipynb"), mine, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := writeDemoFiles(dir); err == nil || !strings.Contains(err.Error(), "tour.ipynb exists and is not from the demo") {
+		t.Errorf("another notebook: %v", err)
+	}
+	if b, _ := os.ReadFile(filepath.Join(dir, "tour.ipynb")); !bytes.Equal(b, mine) {
+		t.Error("the user's notebook was replaced")
+	}
+	dir = t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "housing.html"), []byte("<p>my page</p>"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, errs := runNudge([]string{"demo", dir}, "")
+	if code != 1 || !strings.Contains(errs, "housing.html exists and is not from the demo") {
+		t.Errorf("another page: exit %d, stderr %q", code, errs)
+	}
+}
