@@ -70,3 +70,24 @@ func TestAttributeStepWarning(t *testing.T) {
 		t.Errorf("text:\n%s", txt)
 	}
 }
+
+// TestAttributeResidualWritten: the residual is money written as money ($
+// before the number, as the one formatter writes it) and its share of the
+// change in plain digits where it is large. By hand: y = a·b is bilinear,
+// so two Gauss–Legendre points integrate it exactly and the residual is 0;
+// z = if(x < 2, 1, 5)·x from x = 1 to 3 changes by 15 − 1 = 14, of which
+// the jump at x = 2 (from 2 to 10) is 8, 8/14 = 0.57 of the change.
+func TestAttributeResidualWritten(t *testing.T) {
+	in := New()
+	run(t, in, "input a = 10 [$] (8..12)\ninput b = 3 (2..5)\ny = a * b\nscenario hi: a = 11, b = 4\n")
+	// Text wraps to the width: compare with the lines joined.
+	joined := func(s string) string { return strings.Join(strings.Fields(s), " ") }
+	if text := joined(run(t, in, "attribute y from base to hi").results[0].Text()); !strings.Contains(text, "contributions): $0, 0 of the change") {
+		t.Errorf("bilinear:\n%s", text)
+	}
+	in = New()
+	run(t, in, "input x = 1 (0..3)\nz = if(x < 2, 1, 5) * x\nscenario s: x = 3\n")
+	if text := joined(run(t, in, "attribute z from base to s").results[0].Text()); !strings.Contains(text, "contributions): 8, 0.57 of the change") {
+		t.Errorf("step:\n%s", text)
+	}
+}

@@ -87,15 +87,16 @@ func Attribution(a *sens.AttributeResult, o *Options) *Result {
 // residualNote says what the contributions leave unexplained, always.
 func residualNote(a *sens.AttributeResult, out unit.Column) string {
 	rel := "0"
-	if a.ResidualRel > 0 {
+	switch {
+	case a.ResidualRel >= 1e-3:
+		rel = strconv.FormatFloat(a.ResidualRel, 'g', 2, 64) // 0.57, not 5.7e-01
+	case a.ResidualRel > 0:
 		rel = strconv.FormatFloat(a.ResidualRel, 'e', 1, 64)
 	}
-	// The residual is written with its own digits: a money column's cents
-	// would show a residual of 1e-12 $ as 0.
-	res := strconv.FormatFloat(a.Residual, 'g', 2, 64)
-	if u := a.Unit; u != "" && u != "1" {
-		res += " " + u
-	}
+	// The residual is written with its own digits, not the column's: a
+	// money column's cents would show a residual of 1e-12 $ as $0.00. The
+	// one formatter puts the unit where it goes ($ before the number).
+	res := unit.Format(a.Residual, a.Unit)
 	s := fmt.Sprintf("residual (change less the sum of the contributions): %s, %s of the change (target %s): ",
 		res, rel, strconv.FormatFloat(a.Target, 'g', -1, 64))
 	switch {
