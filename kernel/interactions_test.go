@@ -61,3 +61,22 @@ interactions total top=2
 		t.Errorf("completion of options: %v", c.Matches)
 	}
 }
+
+// TestInteractionsCountsInWords: the note on how many pairs interact reads
+// right at the edges: one input has no pair, one pair that interacts is
+// "the only pair", and all pairs interacting are said to (y = a·b·c: each
+// mixed partial is the third input, nonzero at the baseline, by hand).
+func TestInteractionsCountsInWords(t *testing.T) {
+	for _, tc := range []struct{ model, want, not string }{
+		{"input a = 2 (1..3)\ny = 3 * a\n", "y depends on one input only: there is no pair to interact", "0 pairs"},
+		{"input a = 2 (1..3)\ninput b = 2 (1..3)\ny = a * b\n", "the only pair of inputs interacts at the baseline", "the other 0"},
+		{"input a = 2 (1..3)\ninput b = 2 (1..3)\ninput c = 2 (1..3)\ny = a * b * c\n", "all 3 pairs of inputs interact at the baseline", "the other 0"},
+	} {
+		in := New()
+		run(t, in, tc.model)
+		text := strings.Join(strings.Fields(run(t, in, "interactions y").results[0].Text()), " ")
+		if !strings.Contains(text, tc.want) || strings.Contains(text, tc.not) {
+			t.Errorf("%q:\n%s", tc.model, text)
+		}
+	}
+}

@@ -37,9 +37,17 @@ func Interactions(d *sens.InteractionsResult, o *Options) *Result {
 		d.Output, unit.Format(d.Value, d.Unit))
 	r := &Result{Kind: "interactions", Data: d, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + tb.text(), html: tb.html(head)}
 	switch n := d.PairsNonzero + d.PairsZero; {
+	case n == 0:
+		r.note(fmt.Sprintf("%s depends on one input only: there is no pair to interact", d.Output))
 	case d.PairsNonzero == 0:
 		r.note(fmt.Sprintf("no pair of inputs interacts at the baseline: every mixed partial of the %s %s is exactly 0, so the inputs' effects add",
 			count(n), plural(n, "pair", "pairs")))
+	case d.PairsZero == 0 && shown == d.PairsNonzero:
+		if n == 1 {
+			r.note("the only pair of inputs interacts at the baseline")
+		} else {
+			r.note(fmt.Sprintf("all %s pairs of inputs interact at the baseline", count(n)))
+		}
 	case shown < d.PairsNonzero:
 		r.note(fmt.Sprintf("%d of the %s interacting pairs shown (top=N shows more); %s of the %s pairs do not interact (mixed partial exactly 0: their effects add)",
 			shown, count(d.PairsNonzero), count(d.PairsZero), count(n)))
