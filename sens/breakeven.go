@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -288,11 +289,17 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 			case r.fail != nil:
 				fail(*r.fail)
 			case r.jump != nil:
-				res.Jumps = append(res.Jumps, *r.jump)
+				// A later round can bracket a jump or a crossing found
+				// before between points its refinement added: keep one.
+				if !slices.ContainsFunc(res.Jumps, func(j Jump) bool { return sameRoot(j.Value, r.jump.Value) }) {
+					res.Jumps = append(res.Jumps, *r.jump)
+				}
 			case r.unresolved != nil:
 				res.Unresolved = append(res.Unresolved, *r.unresolved)
 			default:
-				res.Crossings = append(res.Crossings, r.crossing)
+				if !slices.ContainsFunc(res.Crossings, func(c Crossing) bool { return sameRoot(c.Value, r.crossing.Value) }) {
+					res.Crossings = append(res.Crossings, r.crossing)
+				}
 				seen(r.crossing.Value, target)
 			}
 			return nil
@@ -375,6 +382,9 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 		}
 	}
 	for _, z := range zeros {
+		if slices.ContainsFunc(res.Crossings, func(c Crossing) bool { return sameRoot(c.Value, z.Value) }) {
+			continue // a sample landed on a crossing refined from a bracket
+		}
 		if !z.Touch {
 			bs.x[i] = z.Value
 			if _, err := p.F.Gradient(bs.grad, bs.x); err == nil {
@@ -869,6 +879,13 @@ type refined struct {
 	jump       *Jump
 	fail       *failure
 	unresolved *Unresolved
+}
+
+// sameRoot reports whether a and b are one crossing (or jump) found twice:
+// equal, or within a relative 1e-12, far below any difference a
+// refinement resolves between two roots.
+func sameRoot(a, b float64) bool {
+	return a == b || math.Abs(a-b) <= 1e-12*math.Max(math.Abs(a), math.Abs(b))
 }
 
 // tight reports whether a < b are close enough that no point between them

@@ -91,11 +91,14 @@ func TestBreakevenNearFailures(t *testing.T) {
 		{"exp", "input x = 1 (0.5..2)\ny = exp(x)\n", 1e300, []float64{300 * math.Ln10}},  // ln 1e300
 		{"pole", "input price = 4 (3..6)\ny = 1/(price - 5)\n", 1e6, []float64{5 + 1e-6}}, // 5 + 1/1e6
 		{"pole2", "input x = 1 (0..2)\ny = 1/(x + 3)\n", 0.1, []float64{7}},               // 1/0.1 - 3
-		{"ln far", "input x = 1 (0.5..2)\ny = ln(x)\n", -700, []float64{math.Exp(-700)}},  // e^-700
-		{"subnormal", "input x = 1e-320\ny = x * 1e300\n", 5e-21, []float64{5e-321}},      // 5e-21 / 1e300
-		{"huge", "input x = 1e303 (1e302..1e305)\ny = x * 2\n", 1e304, []float64{5e303}},  // 1e304 / 2
-		{"huge range", "input x = 0 (-1e308..1e308)\ny = x - 3\n", 0, []float64{3}},       // 3
-		{"huge value", "input x = 1e305\ny = x / 1e300\n", 7, []float64{7e300}},           // 7·1e300
+		// From the root's side of the pole: found once, not again in the
+		// round that searches around the pole.
+		{"pole above", "input price = 6 (5.5..7)\ny = 1/(price - 5)\n", 1e6, []float64{5 + 1e-6}}, // 5 + 1/1e6
+		{"ln far", "input x = 1 (0.5..2)\ny = ln(x)\n", -700, []float64{math.Exp(-700)}},          // e^-700
+		{"subnormal", "input x = 1e-320\ny = x * 1e300\n", 5e-21, []float64{5e-321}},              // 5e-21 / 1e300
+		{"huge", "input x = 1e303 (1e302..1e305)\ny = x * 2\n", 1e304, []float64{5e303}},          // 1e304 / 2
+		{"huge range", "input x = 0 (-1e308..1e308)\ny = x - 3\n", 0, []float64{3}},               // 3
+		{"huge value", "input x = 1e305\ny = x / 1e300\n", 7, []float64{7e300}},                   // 7·1e300
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			r := breakeven(t, problemOf(t, tc.src, "y"), strings.Fields(tc.src)[1], tc.target, nil)
