@@ -261,6 +261,26 @@ func (x *call) input(pr *sens.Problem, a *syntax.Axis) (*sens.Input, error) {
 // axisRange reads the range LOW..HIGH written after an axis's input, in the
 // input's unit.
 func (x *call) axisRange(pr *sens.Problem, a *syntax.Axis, in *sens.Input) (lo, hi float64, err error) {
+	// A unit at one end only (1..200 [min]) would read the bare number in
+	// the input's unit, not the one written beside it: ask for both.
+	if lu, hu := numberUnit(a.Low), numberUnit(a.High); (lu == nil) != (hu == nil) {
+		bare, u := a.Low, hu
+		if lu != nil {
+			bare, u = a.High, lu
+		}
+		if n, ok := bareNumber(bare); ok {
+			own := in.Unit
+			if own == "" || own == "1" {
+				own = "no unit"
+			}
+			fix := n + " [" + u.Text + "].." + syntax.String(a.High)
+			if bare == a.High {
+				fix = syntax.String(a.Low) + ".." + n + " [" + u.Text + "]"
+			}
+			return 0, 0, x.errorf(bare.Pos(), "the range %s..%s of %s has a unit at one end only, and %s alone would be read in %s's own unit (%s): write the unit at both ends (%s), or at neither",
+				syntax.String(a.Low), syntax.String(a.High), in.Name, n, in.Name, own, fix)
+		}
+	}
 	if lo, err = pr.Constant(x.f, a.Low, in.Unit, "the low end of the range of "+in.Name); err != nil {
 		return 0, 0, err
 	}
@@ -275,6 +295,36 @@ func (x *call) axisRange(pr *sens.Problem, a *syntax.Axis, in *sens.Input) (lo, 
 		return 0, 0, x.errorf(a.Low.Pos(), "the range %s..%s of %s is empty: its ends are equal", low, high, in.Name)
 	}
 	return lo, hi, nil
+}
+
+// numberUnit returns the unit written on a number, -number or +number; nil
+// for anything else.
+func numberUnit(e syntax.Expr) *syntax.UnitLit {
+	switch v := e.(type) {
+	case *syntax.NumberLit:
+		return v.Unit
+	case *syntax.UnaryExpr:
+		return numberUnit(v.X)
+	case *syntax.ParenExpr:
+		return numberUnit(v.X)
+	}
+	return nil
+}
+
+// bareNumber returns the text of a number written without a unit (signed
+// or in parentheses), and whether e is one.
+func bareNumber(e syntax.Expr) (string, bool) {
+	switch v := e.(type) {
+	case *syntax.NumberLit:
+		return syntax.String(v), v.Unit == nil
+	case *syntax.UnaryExpr:
+		_, ok := bareNumber(v.X)
+		return syntax.String(v), ok
+	case *syntax.ParenExpr:
+		_, ok := bareNumber(v.X)
+		return syntax.String(v), ok
+	}
+	return "", false
 }
 
 // show sends a result to the sink, marked with the command's place.
