@@ -133,7 +133,18 @@ func (r *runResult) print(stdout, stderr io.Writer) {
 // cell.
 func loadInput(name string, data []byte) (*notebook.Notebook, error) {
 	if strings.EqualFold(filepath.Ext(name), ".ipynb") {
-		return notebook.Read(data)
+		nb, err := notebook.Read(data)
+		if err != nil {
+			return nil, err
+		}
+		// A notebook of another language would fail at its first line
+		// with a message about our syntax: say what it is instead.
+		if ks, ok := nb.Metadata["kernelspec"].(map[string]any); ok {
+			if lang, ok := ks["language"].(string); ok && lang != "" && !strings.EqualFold(lang, kernel.Language) {
+				return nil, fmt.Errorf("a notebook in %s (its kernelspec's language), not in nudge's model language: nudge runs the notebooks of its own kernel", lang)
+			}
+		}
+		return nb, nil
 	}
 	nb := notebook.New()
 	nb.Cells = []*notebook.Cell{{ID: "model", Type: "code", Source: string(data), Metadata: map[string]any{}}}

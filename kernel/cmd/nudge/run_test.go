@@ -548,3 +548,27 @@ func TestDemoLeavesOtherFiles(t *testing.T) {
 		t.Errorf("another page: exit %d, stderr %q", code, errs)
 	}
 }
+
+// TestRunOtherLanguage: a notebook of another kernel's language is named as
+// such (exit 1, no files written), not run line by line into syntax errors.
+func TestRunOtherLanguage(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "py.ipynb")
+	nb := notebook.New()
+	nb.Metadata["kernelspec"] = map[string]any{"name": "python3", "display_name": "Python 3", "language": "python"}
+	nb.Cells = []*notebook.Cell{{ID: "c", Type: "code", Source: "import numpy as np\n", Metadata: map[string]any{}}}
+	data, err := nb.Marshal()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, errs := runNudge([]string{"run", path}, "")
+	if code != 1 || !strings.Contains(errs, "a notebook in python (its kernelspec's language)") {
+		t.Errorf("exit %d, stderr %q", code, errs)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "py.html")); err == nil {
+		t.Error("a report was written")
+	}
+}
