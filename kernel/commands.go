@@ -261,8 +261,15 @@ func (x *call) input(pr *sens.Problem, a *syntax.Axis) (*sens.Input, error) {
 // axisRange reads the range LOW..HIGH written after an axis's input, in the
 // input's unit.
 func (x *call) axisRange(pr *sens.Problem, a *syntax.Axis, in *sens.Input) (lo, hi float64, err error) {
+	if lo, err = pr.Constant(x.f, a.Low, in.Unit, "the low end of the range of "+in.Name); err != nil {
+		return 0, 0, err
+	}
+	if hi, err = pr.Constant(x.f, a.High, in.Unit, "the high end of the range of "+in.Name); err != nil {
+		return 0, 0, err
+	}
 	// A unit at one end only (1..200 [min]) would read the bare number in
-	// the input's unit, not the one written beside it: ask for both.
+	// the input's unit, not the one written beside it: ask for both (after
+	// the ends are read, so that a unit of another dimension is named first).
 	if lu, hu := numberUnit(a.Low), numberUnit(a.High); (lu == nil) != (hu == nil) {
 		bare, u := a.Low, hu
 		if lu != nil {
@@ -280,12 +287,6 @@ func (x *call) axisRange(pr *sens.Problem, a *syntax.Axis, in *sens.Input) (lo, 
 			return 0, 0, x.errorf(bare.Pos(), "the range %s..%s of %s has a unit at one end only, and %s alone would be read in %s's own unit (%s): write the unit at both ends (%s), or at neither",
 				syntax.String(a.Low), syntax.String(a.High), in.Name, n, in.Name, own, fix)
 		}
-	}
-	if lo, err = pr.Constant(x.f, a.Low, in.Unit, "the low end of the range of "+in.Name); err != nil {
-		return 0, 0, err
-	}
-	if hi, err = pr.Constant(x.f, a.High, in.Unit, "the high end of the range of "+in.Name); err != nil {
-		return 0, 0, err
 	}
 	low, high := syntax.String(a.Low), syntax.String(a.High)
 	switch {
