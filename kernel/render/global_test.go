@@ -116,3 +116,38 @@ func TestScreeningRender(t *testing.T) {
 		t.Errorf("a row %q", a)
 	}
 }
+
+// TestSamplingTextWraps: the sampling analyses' headings and notes wrap at
+// the text width as every other result's do (README: headings, notes and
+// text charts wrap at words to it); aligned tables keep their own width.
+func TestSamplingTextWraps(t *testing.T) {
+	pr := problem(t, "input a = 10 [$] (8..12)\ninput b = 3 (2..5)\ny = a * b\n", "y")
+	const w = 40
+	o := &Options{NoCharts: true, Width: w}
+	sim, err := sens.Simulate(pr, &sens.SimulationSettings{N: 200, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sob, err := sens.Sobol(pr, &sens.SobolSettings{N: 64, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mor, err := sens.Morris(pr, &sens.MorrisSettings{R: 4, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	scr, err := sens.Screen(pr, &sens.ScreenSettings{N: 20, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range []*Result{Simulation(sim, o), Sobol(sob, o), Morris(mor, o), Screening(scr, o)} {
+		for _, line := range strings.Split(r.Text(), "\n") {
+			if strings.ContainsAny(line, "│─") || strings.Contains(line, "  ") {
+				continue // a table's rows and rules
+			}
+			if n := len([]rune(line)); n > w {
+				t.Errorf("%s: a line of %d runes at width %d: %q", r.Kind, n, w, line)
+			}
+		}
+	}
+}

@@ -25,7 +25,7 @@ func Morris(m *sens.MorrisResult, o *Options) *Result {
 	for _, x := range shown {
 		t.add(x.Name, unit.Format(x.Low, x.Unit)+" .. "+unit.Format(x.High, x.Unit), col.Format(x.Mu), col.Format(x.MuStar), col.Format(x.Sigma))
 	}
-	r := &Result{Kind: "morris", Data: m, Caution: true, text: head + "\n" + t.text(), html: t.html(head)}
+	r := &Result{Kind: "morris", Data: m, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
 	r.note("mu* ranks the inputs by influence; a sigma as large as mu* or larger marks an effect that changes with the other inputs (a curve or an interaction)")
 	if rest := len(m.Inputs) - len(shown); rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with mu* at most %s", count(rest), unit.Format(m.Inputs[len(shown)].MuStar, u)))

@@ -19,7 +19,7 @@ func Screening(s *sens.ScreenResult, o *Options) *Result {
 	for _, x := range shown {
 		t.add(x.Name, unit.Format(x.DGSM, x.DGSMUnit), "≤ "+index3(x.TotalOrderBound), bar(x.TotalOrderBound, 16))
 	}
-	r := &Result{Kind: "screening", Data: s, Caution: true, text: head + "\n" + t.text(), html: t.html(head)}
+	r := &Result{Kind: "screening", Data: s, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
 	r.note("an input whose bound is small cannot matter, whatever its interactions; a large bound calls for a closer look (sobol on the inputs that remain)")
 	if rest := len(s.Inputs) - len(shown); rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with a bound of at most %s", count(rest), index3(s.Inputs[len(shown)].TotalOrderBound)))

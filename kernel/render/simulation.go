@@ -36,7 +36,7 @@ func Simulation(s *sens.SimulationResult, o *Options) *Result {
 	if s.Above != nil {
 		st.add("P("+s.Output+" > "+unit.Format(*s.Above, s.Unit)+")", Probability(*s.PAbove)+" ± "+Probability(*s.PAboveStderr))
 	}
-	r := &Result{Kind: "simulation", Data: s, Caution: true, text: head + "\n" + st.text(), html: st.html(head)}
+	r := &Result{Kind: "simulation", Data: s, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + st.text(), html: st.html(head)}
 
 	dt := &table{head: []string{"input", "rank correlation with " + s.Output, ""}, right: []bool{false, true, false}, textOnly: 1}
 	shown := s.RankCorrelations[:min(len(s.RankCorrelations), maxTableRows)]
@@ -45,7 +45,7 @@ func Simulation(s *sens.SimulationResult, o *Options) *Result {
 		dt.add(rc.Name, rho.Signed(rc.Spearman), bar(math.Abs(rc.Spearman), 16))
 	}
 	driveHead := "what drives the spread: Spearman rank correlation of each input with " + s.Output
-	r.text += "\n" + driveHead + "\n" + dt.text()
+	r.text += "\n" + o.wrap(driveHead) + "\n" + dt.text()
 	r.html += dt.html(driveHead)
 	if rest := len(s.RankCorrelations) - len(shown); rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with |rank correlation| at most %s", count(rest), rho.Format(math.Abs(s.RankCorrelations[len(shown)].Spearman))))
@@ -56,7 +56,7 @@ func Simulation(s *sens.SimulationResult, o *Options) *Result {
 			ct.add(c.Inputs[0]+", "+c.Inputs[1], rho.Signed(c.Requested), rho.Signed(c.Achieved))
 		}
 		corrHead := "rank correlations imposed between inputs (Iman–Conover)"
-		r.text += "\n" + corrHead + "\n" + ct.text()
+		r.text += "\n" + o.wrap(corrHead) + "\n" + ct.text()
 		r.html += ct.html(corrHead)
 	}
 	if len(s.UniformFromRange) > 0 {

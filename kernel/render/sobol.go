@@ -23,7 +23,7 @@ func Sobol(s *sens.SobolResult, o *Options) *Result {
 	for _, x := range shown {
 		t.add(x.Name, index3(x.FirstOrder), iv(x.FirstOrderCI), index3(x.TotalOrder), iv(x.TotalOrderCI), bar(x.TotalOrder, 16))
 	}
-	r := &Result{Kind: "sobol", Data: s, Caution: true, text: head + "\n" + t.text(), html: t.html(head)}
+	r := &Result{Kind: "sobol", Data: s, Caution: true, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
 	r.note(fmt.Sprintf("first-order indices sum to %s: %s", index3(s.SumFirstOrder), interactions(s.SumFirstOrder)))
 	if rest := len(s.Inputs) - len(shown); rest > 0 {
 		r.note(fmt.Sprintf("… and %s more inputs, each with a total-order index at most %s", count(rest), index3(s.Inputs[len(shown)].TotalOrder)))

@@ -25,7 +25,7 @@ func Vector(v *sens.VectorResult, o *Options) *Result {
 	}
 	t.add("total", col.Format(v.Total))
 	head := fmt.Sprintf("%s: %s %s over %s, total %s", v.Name, count(v.Count), plural(v.Count, v.Noun, v.Noun+"s"), v.Over, unit.Format(v.Total, v.Unit))
-	return &Result{Kind: "vector", Data: v, text: head + "\n" + t.text(), html: t.html(head)}
+	return &Result{Kind: "vector", Data: v, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
 }
 
 // Table renders the loading of a table: its rows, key and columns.
@@ -53,5 +53,5 @@ func Table(r *sens.TableResult, o *Options) *Result {
 		verb = "reloaded"
 	}
 	head := fmt.Sprintf("table %s %s: %s rows from %s, keyed by %s", r.Name, verb, count(r.Rows), r.Path, r.Key)
-	return &Result{Kind: "table", Data: r, text: head + "\n" + t.text(), html: t.html(head)}
+	return &Result{Kind: "table", Data: r, width: o.width(), text: o.wrap(head) + "\n" + t.text(), html: t.html(head)}
 }
