@@ -151,3 +151,20 @@ func TestSamplingTextWraps(t *testing.T) {
 		}
 	}
 }
+
+// TestScenarioTextWraps: a scenario of many settings wraps at the width.
+func TestScenarioTextWraps(t *testing.T) {
+	s := &sens.ScenarioResult{Kind: "scenario", Name: "lean"}
+	for i := range 8 {
+		s.Settings = append(s.Settings, sens.ScenarioSetting{Name: fmt.Sprintf("input_%d", i), Unit: "$", Value: 12, Baseline: 10})
+	}
+	text := Scenario(s, &Options{Width: 50}).Text()
+	for _, line := range strings.Split(strings.TrimRight(text, "\n"), "\n") {
+		if n := len([]rune(line)); n > 50 {
+			t.Errorf("a line of %d runes at width 50: %q", n, line)
+		}
+	}
+	if !strings.Contains(strings.Join(strings.Fields(text), " "), "input_7 = $12 (baseline $10)") {
+		t.Errorf("text:\n%s", text)
+	}
+}

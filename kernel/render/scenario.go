@@ -23,5 +23,7 @@ func Scenario(s *sens.ScenarioResult, o *Options) *Result {
 	if len(parts) > 0 {
 		text += ": " + strings.Join(parts, ", ")
 	}
-	return message("scenario", s, text)
+	r := message("scenario", s, text)
+	r.text = o.wrap(text) // a scenario of many settings is one long line
+	return r
 }
