@@ -1046,7 +1046,14 @@ func (bs *bsearch) domainNote() string {
 			gaps++
 			if gaps <= 3 {
 				f := bs.smp[j]
-				notes = append(notes, fmt.Sprintf("between %s = %s and %s the model cannot be evaluated (at %s = %s: %s)", in.Name, inp(bs.smp[j-1].x), inp(bs.smp[k].x), in.Name, inp(f.x), evalSentence(f.err)))
+				lo, hi := inp(bs.smp[j-1].x), inp(bs.smp[k].x)
+				if lo == hi {
+					// A gap narrower than the digits shown: not "between 5
+					// and 5".
+					notes = append(notes, fmt.Sprintf("in a narrow gap around %s = %s the model cannot be evaluated (%s)", in.Name, lo, evalSentence(f.err)))
+				} else {
+					notes = append(notes, fmt.Sprintf("between %s = %s and %s the model cannot be evaluated (at %s = %s: %s)", in.Name, lo, hi, in.Name, inp(f.x), evalSentence(f.err)))
+				}
 			}
 		}
 		j = k

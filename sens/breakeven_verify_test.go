@@ -249,3 +249,14 @@ func TestMidpoint(t *testing.T) {
 		}
 	}
 }
+
+// TestBreakevenNarrowGapNote: a gap in the domain narrower than the digits
+// shown (the pole of 1/(price - 5), by hand at price = 5) is said to be
+// around that value, not "between price = 5 and 5".
+func TestBreakevenNarrowGapNote(t *testing.T) {
+	r := breakeven(t, problemOf(t, "input price = 6 (5.5..7)\ny = 1/(price - 5)\n", "y"), "price", 1e6, nil)
+	if !strings.Contains(r.DomainNote, "in a narrow gap around price = 5 the model cannot be evaluated (division by zero in y, line 2, column") ||
+		strings.Contains(r.DomainNote, "between price = 5 and 5") {
+		t.Errorf("note %q", r.DomainNote)
+	}
+}
