@@ -39,7 +39,8 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		r.text += tb.text()
 		r.html = tb.html(head)
 		if len(b.Crossings) > 1 {
-			r.note(fmt.Sprintf("%d crossings; the nearest to the baseline is %s = %s", len(b.Crossings), b.Input, unit.Format(*b.Value, b.InputUnit)))
+			// As the table writes it: 1.00001, not 1, beside a pole at 1.
+			r.note(fmt.Sprintf("%d crossings; the nearest to the baseline is %s = %s", len(b.Crossings), b.Input, distinctText(vcol, *b.Value, b)))
 		}
 		for _, c := range b.Crossings {
 			if c.OutsideDomain {

@@ -126,3 +126,18 @@ func TestBreakevenChartMarksOnlyTrueCrossings(t *testing.T) {
 		t.Errorf("tan: no crossing marked:\n%s", text)
 	}
 }
+
+// TestBreakevenNearestWrittenAsTable: the note on the nearest crossing writes
+// it with the digits that tell it from the pole beside it, as the table
+// does. By hand: 1/(x - 5) + 1/(x - 1) = 1e5 just above each pole, at about
+// 1.00001 and 5.00001; the first is nearer the baseline 3.
+func TestBreakevenNearestWrittenAsTable(t *testing.T) {
+	b, err := sens.Breakeven(problem(t, "input x = 3 (2..4)\ny = 1/(x - 5) + 1/(x - 1)\n", "y"), &sens.BreakevenSettings{Input: "x", Target: 1e5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := strings.Join(strings.Fields(Breakeven(b, noCharts).Text()), " ")
+	if !strings.Contains(text, "2 crossings; the nearest to the baseline is x = 1.00001") {
+		t.Errorf("text:\n%s", text)
+	}
+}
