@@ -32,6 +32,9 @@ func runCmd(args []string, stdout, stderr io.Writer) int {
 		return code
 	}
 	if fs.NArg() != 1 {
+		if fs.NArg() > 1 {
+			fmt.Fprintf(stderr, "nudge run: one notebook or model file at a time, found %d: run each in turn\n", fs.NArg())
+		}
 		fmt.Fprintln(stderr, "usage: "+runUse)
 		fs.PrintDefaults()
 		return 2

@@ -458,8 +458,8 @@ func TestFlagsAfterArguments(t *testing.T) {
 	if code, _, errs := runNudge([]string{"run", "--", "--html"}, ""); code != 1 || !strings.Contains(errs, "cannot read --html") {
 		t.Errorf("after --: exit %d %q", code, errs)
 	}
-	if code, _, _ := runNudge([]string{"run", "a.ipynb", "b.ipynb"}, ""); code != 2 {
-		t.Errorf("two notebooks: exit %d, want 2", code)
+	if code, _, errs := runNudge([]string{"run", "a.ipynb", "b.ipynb"}, ""); code != 2 || !strings.Contains(errs, "one notebook or model file at a time, found 2") {
+		t.Errorf("two notebooks: exit %d, want 2; stderr %q", code, errs)
 	}
 }
 
