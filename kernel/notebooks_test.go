@@ -148,3 +148,26 @@ func TestUnescapedDollar(t *testing.T) {
 		}
 	}
 }
+
+// TestTourHasEveryCommand: the README says the tour shows every form of the
+// language with an example that runs; every command of the command table is
+// in one of its code cells.
+func TestTourHasEveryCommand(t *testing.T) {
+	cells := shippedCells(t)["tour.ipynb"]
+	used := map[string]bool{}
+	for _, c := range cells {
+		if c.CellType != "code" {
+			continue
+		}
+		for _, line := range strings.Split(source(c.Source), "\n") {
+			if f := strings.Fields(line); len(f) > 0 {
+				used[f[0]] = true
+			}
+		}
+	}
+	for verb := range commands {
+		if !used[verb] {
+			t.Errorf("the tour has no example of %s", verb)
+		}
+	}
+}
