@@ -311,19 +311,64 @@ func Interactions(p *Problem, s *InteractionsSettings) (*InteractionsResult, err
 
 	// The map: the inputs of largest total |I| over their pairs and
 	// curvature, in that order.
-	shown := slices.Clone(cols)
-	slices.SortFunc(shown, func(a, b int) int {
+	byWeight := slices.Clone(cols)
+	slices.SortFunc(byWeight, func(a, b int) int {
 		if c := cmp.Compare(weight[b], weight[a]); c != 0 {
 			return c
 		}
 		return strings.Compare(p.Inputs[a].Name, p.Inputs[b].Name)
 	})
-	shown = shown[:min(mapN, len(shown))]
+	var shown []int
+	if len(cols) == k {
+		shown = byWeight[:min(mapN, len(byWeight))]
+	} else {
+		// Beyond MaxColumns an input's strongest partners may have no
+		// column of their own: the map takes the inputs of the strongest
+		// pairs first (then the heaviest columns), and the Hessian columns
+		// of those without one, so that every cell is computed.
+		in := make([]bool, k)
+		take := func(i int) {
+			if !in[i] && len(shown) < mapN {
+				in[i] = true
+				shown = append(shown, i)
+			}
+		}
+		for _, pr := range best {
+			if pr.h != 0 {
+				take(pr.i)
+				take(pr.j)
+			}
+		}
+		for _, i := range byWeight {
+			take(i)
+		}
+	}
+	var extra []int // shown inputs without a column
+	for _, i := range shown {
+		if pos[i] < 0 {
+			extra = append(extra, i)
+		}
+	}
+	var hx []float64
+	if len(extra) > 0 {
+		if hx, _, err = ev.columns(x, extra); err != nil {
+			return nil, err
+		}
+	}
+	hess := func(i, j int) float64 {
+		if pos[i] >= 0 && pos[j] >= 0 {
+			return sub[pos[min(i, j)]*len(cols)+pos[max(i, j)]]
+		}
+		if pos[i] >= 0 {
+			i, j = j, i // i has no column
+		}
+		return hx[slices.Index(extra, i)*k+j]
+	}
 	for _, i := range shown {
 		res.Map.Inputs = append(res.Map.Inputs, p.Inputs[i].Name)
 		row := make([]float64, len(shown))
 		for c, j := range shown {
-			row[c] = sub[pos[min(i, j)]*len(cols)+pos[max(i, j)]] * width[i] * width[j]
+			row[c] = hess(i, j) * width[i] * width[j]
 		}
 		res.Map.Scaled = append(res.Map.Scaled, row)
 	}

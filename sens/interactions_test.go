@@ -224,3 +224,33 @@ y = a * b + c * d + b * d
 		t.Errorf("pairs %+v, want a-b 40 then b-d 20", res.Pairs)
 	}
 }
+
+// TestInteractionsMapBeyondColumns: beyond MaxColumns the pair map shows the
+// inputs of the strongest pairs, partners without a column included (their
+// Hessian columns are taken for the map), not only inputs with columns,
+// whose strongest pairs may all be with others. The model and its pairs are
+// those of TestInteractionsMaxColumns (by hand: a-b 40, b-d 20, a-d 0).
+func TestInteractionsMapBeyondColumns(t *testing.T) {
+	p := problemOf(t, `
+input a = 1 (0..2)
+input b = 1 (0..20)
+input c = 0.05 (0..0.1)
+input d = 1 (0..1)
+y = a * b + c * d + b * d
+`, "y")
+	res, err := Interactions(p, &InteractionsSettings{MaxColumns: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := strings.Join(res.Map.Inputs, " "); got != "a b d" {
+		t.Fatalf("map inputs %q, want a b d", got)
+	}
+	want := [][]float64{{0, 40, 0}, {40, 0, 20}, {0, 20, 0}}
+	for r := range want {
+		for c := range want[r] {
+			if got := res.Map.Scaled[r][c]; got != want[r][c] {
+				t.Errorf("map[%d][%d] = %g, want %g", r, c, got, want[r][c])
+			}
+		}
+	}
+}
