@@ -80,3 +80,15 @@ func TestInteractionsCountsInWords(t *testing.T) {
 		}
 	}
 }
+
+// TestInteractionsNoBlankMap: an output whose inputs neither interact nor
+// curve (y = a + b, by hand every second derivative is 0) gets a note, not a
+// pair map of zeros keyed "≤0 ≤0 ≤0".
+func TestInteractionsNoBlankMap(t *testing.T) {
+	in := New()
+	run(t, in, "input a = 2 (1..3)\ninput b = 2 (1..3)\ny = a + b\n")
+	r := run(t, in, "interactions y").results[0]
+	if text := strings.Join(strings.Fields(r.Text()), " "); !strings.Contains(text, "no pair map: every mixed partial and curvature it would show is 0") || strings.Contains(text, "key:") || len(r.SVG()) != 0 {
+		t.Errorf("text:\n%s", text)
+	}
+}

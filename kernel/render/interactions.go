@@ -78,6 +78,17 @@ func Interactions(d *sens.InteractionsResult, o *Options) *Result {
 		r.note(fmt.Sprintf("widths from the default ±%d%% range: %s", sens.DefaultRangePct, strings.Join(d.DefaultRanges, ", ")))
 	}
 	r.note("a local measure at the baseline: a pair with a mixed partial of 0 here may still interact elsewhere in its ranges (sobol OUT measures that globally)")
+	blank := true
+	for _, row := range d.Map.Scaled {
+		for _, v := range row {
+			blank = blank && v == 0
+		}
+	}
+	if blank {
+		// A map of zeros, keyed "≤0 ≤0 ≤0", says nothing the notes do not.
+		r.note("no pair map: every mixed partial and curvature it would show is 0")
+		return r
+	}
 	r.attach(&plotting.PairMap{Output: d.Output, Unit: d.Unit, Names: d.Map.Inputs, Z: d.Map.Scaled}, o)
 	return r
 }
