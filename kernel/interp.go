@@ -157,7 +157,16 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		case *syntax.InputStmt, *syntax.FormulaStmt, *syntax.TableStmt, *syntax.PeriodsStmt:
 			pending = true
 		case *syntax.CommandStmt:
-			pending = s.Verb == "spearman" // a declaration too
+			switch s.Verb {
+			case "spearman", "exchange": // declarations too
+				pending = true
+			case "scenario", "print", "charts", "help":
+				// These compile no model: declarations before them are
+				// still to check (a file of declarations and scenarios
+				// with a wrong unit was passed as sound).
+			default: // an analysis compiled the model; reset emptied it
+				pending = false
+			}
 		default:
 			pending = false
 		}
