@@ -16,6 +16,7 @@ import (
 	"strings"
 
 	"github.com/nudge-dev/nudge/kernel/notebook"
+	"github.com/nudge-dev/nudge/kernel/report"
 	"github.com/nudge-dev/nudge/notebooks"
 	"github.com/nudge-dev/nudge/plotting"
 	"github.com/nudge-dev/nudge/sens"
@@ -59,6 +60,7 @@ func demoCmd(args []string, stdout, stderr io.Writer) int {
 		path := filepath.Join(dir, name)
 		res, err := runNotebook(ctx, path, runOptions{notebook: path, report: strings.TrimSuffix(path, ".ipynb") + ".html"}, bar)
 		if err != nil {
+			_ = writeDemoRecord(dir)
 			fmt.Fprintln(stderr, "nudge demo:", err)
 			return 1
 		}
@@ -77,8 +79,13 @@ func demoCmd(args []string, stdout, stderr io.Writer) int {
 			code = 1
 		}
 		if ctx.Err() != nil {
+			_ = writeDemoRecord(dir)
 			return 1
 		}
+	}
+	if err := writeDemoRecord(dir); err != nil {
+		fmt.Fprintln(stderr, "nudge demo:", err)
+		return 1
 	}
 	if !*asJSON {
 		fmt.Fprintf(stdout, "\nOpen a report in a browser: every one is a single file that loads nothing.\n%s\n", plotting.Wrap("Caution: "+strings.TrimPrefix(cautionText, "Caution: "), 80))
@@ -101,16 +108,17 @@ func writeDemoFiles(dir string) ([]string, error) {
 	}
 	// Check first, write after: a directory that holds files of the same
 	// names that no demo wrote is left as it is.
+	written := readDemoRecord(dir)
 	for _, e := range entries {
 		data, err := fs.ReadFile(notebooks.FS, e.Name())
 		if err != nil {
 			return nil, err
 		}
-		if err := demoMayReplace(filepath.Join(dir, e.Name()), data); err != nil {
+		if err := demoMayReplace(filepath.Join(dir, e.Name()), data, written); err != nil {
 			return nil, err
 		}
 		if name, ok := strings.CutSuffix(e.Name(), ".ipynb"); ok {
-			if err := demoMayReplace(filepath.Join(dir, name+".html"), nil); err != nil {
+			if err := demoMayReplace(filepath.Join(dir, name+".html"), nil, written); err != nil {
 				return nil, err
 			}
 		}
@@ -144,11 +152,55 @@ func writeDemoFiles(dir string) ([]string, error) {
 	return names, nil
 }
 
+// demoRecord is the file in a demo's directory that lists what the demo
+// wrote there, as sha256sum does: so that a later demo, of another version
+// with other notebooks, may replace them, and nothing a user changed since.
+const demoRecord = ".nudge-demo"
+
+// readDemoRecord returns the SHA-256 of each file the last demo left in
+// dir, by name; empty when there is no record.
+func readDemoRecord(dir string) map[string]string {
+	m := map[string]string{}
+	b, err := os.ReadFile(filepath.Join(dir, demoRecord))
+	if err != nil {
+		return m
+	}
+	for _, line := range strings.Split(string(b), "\n") {
+		if sum, name, ok := strings.Cut(line, "  "); ok && len(sum) == 64 && !strings.ContainsAny(name, "/\\") {
+			m[name] = sum
+		}
+	}
+	return m
+}
+
+// writeDemoRecord records the SHA-256 of every file the demo left in dir:
+// the bundled files and the reports.
+func writeDemoRecord(dir string) error {
+	entries, err := fs.ReadDir(notebooks.FS, ".")
+	if err != nil {
+		return err
+	}
+	var b strings.Builder
+	for _, e := range entries {
+		names := []string{e.Name()}
+		if name, ok := strings.CutSuffix(e.Name(), ".ipynb"); ok {
+			names = append(names, name+".html")
+		}
+		for _, n := range names {
+			if data, err := os.ReadFile(filepath.Join(dir, n)); err == nil {
+				fmt.Fprintf(&b, "%s  %s\n", report.SHA256(data), n)
+			}
+		}
+	}
+	return os.WriteFile(filepath.Join(dir, demoRecord), []byte(b.String()), 0o644)
+}
+
 // demoMayReplace returns an error when path holds a file that the demo did
-// not write: a notebook whose code differs from the bundled one's (bundled),
-// a data file of other bytes, or a page that nudge did not write (bundled
-// nil). A missing file may be written.
-func demoMayReplace(path string, bundled []byte) error {
+// not write: one that differs from what the last demo recorded (written)
+// and is not a notebook of the bundled one's code (bundled), a data file of
+// the bundled bytes, or a page that nudge wrote (bundled nil). A missing
+// file may be written.
+func demoMayReplace(path string, bundled []byte, written map[string]string) error {
 	old, err := os.ReadFile(path)
 	if errors.Is(err, fs.ErrNotExist) {
 		return nil
@@ -158,6 +210,8 @@ func demoMayReplace(path string, bundled []byte) error {
 	}
 	ours := false
 	switch {
+	case written[filepath.Base(path)] == report.SHA256(old):
+		ours = true // as a demo left it, whatever version wrote it
 	case bundled == nil:
 		ours = bytes.Contains(old, []byte(`<meta name="generator" content="nudge `))
 	case strings.HasSuffix(path, ".ipynb"):

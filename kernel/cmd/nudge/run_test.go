@@ -539,6 +539,20 @@ func TestDemoLeavesOtherFiles(t *testing.T) {
 	if b, _ := os.ReadFile(filepath.Join(dir, "tour.ipynb")); !bytes.Equal(b, mine) {
 		t.Error("the user's notebook was replaced")
 	}
+	// What an earlier demo (of another version, other notebooks) recorded
+	// it wrote may be replaced; the same file changed since may not.
+	if err := writeDemoRecord(dir); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := writeDemoFiles(dir); err != nil {
+		t.Errorf("a notebook of other code that the record lists: %v", err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "tour.ipynb"), append(mine, ' '), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := writeDemoFiles(dir); err == nil {
+		t.Error("a notebook changed since the record was replaced")
+	}
 	dir = t.TempDir()
 	if err := os.WriteFile(filepath.Join(dir, "housing.html"), []byte("<p>my page</p>"), 0o644); err != nil {
 		t.Fatal(err)
