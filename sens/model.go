@@ -296,6 +296,11 @@ func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 	c.rates = p.rates
 	for _, a := range s.Assigns {
 		in, f := p.Lookup(a.Name.Name)
+		if in == nil && f == nil && p.Vector(a.Name.Name) != nil {
+			// Declared, as a vector: not "undefined input hours".
+			errs.Add(s.File, a.Name.Pos(), a.Name.Name+" is a vector: a scenario sets one element at a time, "+a.Name.Name+"[KEY] = VALUE")
+			continue
+		}
 		if msg := notAnInput(a.Name.Name, in != nil || f != nil, f != nil, p.Names()); msg != "" {
 			errs.Add(s.File, a.Name.Pos(), msg)
 			continue
