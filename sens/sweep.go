@@ -35,10 +35,19 @@ type Sweep1DResult struct {
 	Baseline float64      `json:"baseline"`
 	Input    SweepAxis    `json:"input"`
 	Points   []SweepPoint `json:"points"`
-	// Target, when given, and the input values where the swept line
-	// crosses it (linear interpolation between neighbouring points).
+	// Target, when given, and the input values where the output equals it:
+	// points of the sweep at the target, and between neighbouring points on
+	// either side of it, the crossing refined and verified on the model as
+	// Breakeven's are (see sweepCrossings).
 	Target    *float64  `json:"target,omitempty"`
 	Crossings []float64 `json:"crossings,omitempty"`
+	// Jumps lists where the output passes the target between neighbouring
+	// points by a jump (a step, or a pole) rather than by equalling it.
+	Jumps []Jump `json:"jumps,omitempty"`
+	// Unresolved lists the spans between neighbouring points on either side
+	// of the target where the model failed inside, or the search did not
+	// close: a crossing may lie there.
+	Unresolved []Unresolved `json:"unresolved,omitempty"`
 }
 
 // GridPoint is the output at one point of a 2-D sweep.
@@ -74,6 +83,15 @@ type Sweep2DResult struct {
 	// exactly: where it is level at the target (a plateau, such as a cap by
 	// min or max), no contour crosses, yet the target is reached.
 	AtTarget int `json:"at_target,omitempty"`
+	// ContourJumps lists the points of Contour where the output passes the
+	// target along a grid edge by a jump (a step or a pole) rather than by
+	// equalling it: there the line marks the jump, not a crossing.
+	ContourJumps []XY `json:"contour_jumps,omitempty"`
+	// ContourUnverified lists the points of Contour placed by linear
+	// interpolation without being verified on the model: the model failed
+	// between the edge's ends, or the verification's budget
+	// (maxContourEvals evaluations) was spent.
+	ContourUnverified []XY `json:"contour_unverified,omitempty"`
 }
 
 // Default numbers of points of sweeps.
@@ -165,7 +183,12 @@ func Sweep1D(p *Problem, s *Sweep1DSettings) (*Sweep1DResult, error) {
 	if s.Target != nil {
 		t := *s.Target
 		res.Target = &t
-		res.Crossings = crossings(res.Points, t)
+		bs := &bsearch{p: p, i: i, in: in, target: t, ev: ev, set: &s.Settings,
+			grad: make([]float64, len(p.Inputs)), x: p.Baseline()}
+		if err := bs.sweepCrossings(res); err != nil {
+			return nil, err
+		}
+		ev.finish()
 	}
 	return res, nil
 }
@@ -229,7 +252,12 @@ func Sweep2D(p *Problem, s *Sweep2DSettings) (*Sweep2DResult, error) {
 	if s.Target != nil {
 		t := *s.Target
 		res.Target = &t
-		res.Contour = Contour(xs, ys, z, t)
+		pl := verifiedPlacer(p, s, ix, iy, xs, ys, z, t, res)
+		res.Contour = contour(xs, ys, z, t, pl.place)
+		if pl.err != nil {
+			return nil, pl.err
+		}
+		pl.bx.ev.finish()
 		for _, v := range z {
 			if v == t {
 				res.AtTarget++
@@ -239,13 +267,22 @@ func Sweep2D(p *Problem, s *Sweep2DSettings) (*Sweep2DResult, error) {
 	return res, nil
 }
 
-// crossings returns the values where the swept line meets t: points exactly
-// at t, and between neighbours on either side of t, linear interpolation.
-func crossings(pts []SweepPoint, t float64) []float64 {
-	var out []float64
+// sweepCrossings fills res.Crossings, Jumps and Unresolved: the points of
+// the sweep exactly at the target, and for each pair of neighbouring points
+// on either side of it, the bracket refined on the model and verified as
+// Breakeven's brackets are (bsearch.refine): a crossing only where the output
+// is verified to equal the target, a jump (step or pole) where it passes the
+// target without equalling it, and unresolved where the model fails inside or
+// the search does not close. A crossing between two points of the sweep
+// cannot be told from a step by the two points alone, so it is never placed
+// by interpolation. Dips between points that do not reach the sign of the
+// target are not searched (Breakeven does that).
+func (bs *bsearch) sweepCrossings(res *Sweep1DResult) error {
+	pts, t := res.Points, bs.target
+	in := bs.in
 	add := func(v float64) {
-		if len(out) == 0 || out[len(out)-1] != v {
-			out = append(out, v)
+		if n := len(res.Crossings); n == 0 || res.Crossings[n-1] != v {
+			res.Crossings = append(res.Crossings, v)
 		}
 	}
 	for j, a := range pts {
@@ -254,14 +291,31 @@ func crossings(pts []SweepPoint, t float64) []float64 {
 			add(a.X)
 			continue
 		}
-		if j+1 < len(pts) {
-			b := pts[j+1]
-			if e := b.Output - t; e != 0 && (d < 0) != (e < 0) {
-				add(interp(a.X, b.X, a.Output, b.Output, t))
-			}
+		if j+1 == len(pts) {
+			break
+		}
+		b := pts[j+1]
+		e := b.Output - t
+		if e == 0 || (d < 0) == (e < 0) {
+			continue
+		}
+		r, err := bs.refine(bpt{x: a.X, y: a.Output, g: d, s: math.NaN()}, bpt{x: b.X, y: b.Output, g: e, s: math.NaN()})
+		if err != nil {
+			return err
+		}
+		switch {
+		case r.fail != nil:
+			res.Unresolved = append(res.Unresolved, Unresolved{Low: a.X, High: b.X,
+				Reason: fmt.Sprintf("the model fails at %s = %s: %s", in.Name, unit.Format(r.fail.x, in.Unit), evalSentence(r.fail.err))})
+		case r.jump != nil:
+			res.Jumps = append(res.Jumps, *r.jump)
+		case r.unresolved != nil:
+			res.Unresolved = append(res.Unresolved, *r.unresolved)
+		default:
+			add(r.crossing.Value)
 		}
 	}
-	return out
+	return nil
 }
 
 // checkRange checks a range of the input in to vary it over.
@@ -300,6 +354,13 @@ func linspace(lo, hi float64, n int) []float64 {
 // by row, z[r*len(xs)+c] at (xs[c], ys[r]). Crossings on cell edges are placed
 // by linear interpolation; segments that share an edge crossing are joined.
 func Contour(xs, ys, z []float64, t float64) [][]XY {
+	return contour(xs, ys, z, t, nil)
+}
+
+// contour is Contour with the crossing on each edge placed by place, when
+// not nil: horiz tells a horizontal edge (r, c)-(r, c+1) from a vertical one
+// (r, c)-(r+1, c); lin is the linear interpolation.
+func contour(xs, ys, z []float64, t float64, place func(horiz bool, r, c int, lin XY) XY) [][]XY {
 	nx, ny := len(xs), len(ys)
 	if nx < 2 || ny < 2 || len(z) != nx*ny {
 		return nil
@@ -314,12 +375,20 @@ func Contour(xs, ys, z []float64, t float64) [][]XY {
 		if e < nh {
 			r, c := e/(nx-1), e%(nx-1)
 			a, b := z[r*nx+c], z[r*nx+c+1]
-			return XY{interp(xs[c], xs[c+1], a, b, t), ys[r]}
+			lin := XY{interp(xs[c], xs[c+1], a, b, t), ys[r]}
+			if place != nil {
+				return place(true, r, c, lin)
+			}
+			return lin
 		}
 		e -= nh
 		r, c := e/nx, e%nx
 		a, b := z[r*nx+c], z[(r+1)*nx+c]
-		return XY{xs[c], interp(ys[r], ys[r+1], a, b, t)}
+		lin := XY{xs[c], interp(ys[r], ys[r+1], a, b, t)}
+		if place != nil {
+			return place(false, r, c, lin)
+		}
+		return lin
 	}
 	// Each edge crossing links to at most two others (one per adjacent cell).
 	links := map[int][]int{}
@@ -447,4 +516,87 @@ func interp(a, b, fa, fb, t float64) float64 {
 	// overflows: halve the outputs and weight the ends instead.
 	f := (t/2 - fa/2) / (fb/2 - fa/2)
 	return a*(1-f) + b*f
+}
+
+// maxContourEvals bounds the evaluations spent verifying a 2-D sweep's
+// contour; past it, crossings are placed by linear interpolation and listed
+// as unverified.
+const maxContourEvals = 50000
+
+// placer places the contour's crossings on grid edges as sweepCrossings does
+// on a 1-D sweep: each edge whose ends lie on either side of the target is
+// refined along the edge (the other input at the edge's value) and verified;
+// a jump is placed where it was found and listed in ContourJumps, so the
+// contour does not claim a crossing across it.
+type placer struct {
+	bx, by *bsearch // searches along x (horizontal edges) and y
+	xs, ys []float64
+	z      []float64
+	res    *Sweep2DResult
+	err    error // cancellation
+}
+
+func verifiedPlacer(p *Problem, s *Sweep2DSettings, ix, iy int, xs, ys, z []float64, t float64, res *Sweep2DResult) *placer {
+	ev := newBatcher(p.F, p.Baseline(), &s.Settings)
+	mk := func(i int) *bsearch {
+		return &bsearch{p: p, i: i, in: p.Inputs[i], target: t, ev: ev, set: &s.Settings,
+			grad: make([]float64, len(p.Inputs)), x: p.Baseline()}
+	}
+	return &placer{bx: mk(ix), by: mk(iy), xs: xs, ys: ys, z: z, res: res}
+}
+
+func (pl *placer) place(horiz bool, r, c int, lin XY) XY {
+	nx := len(pl.xs)
+	unverified := func() XY {
+		pl.res.ContourUnverified = append(pl.res.ContourUnverified, lin)
+		return lin
+	}
+	if pl.err != nil || pl.bx.ev.done >= maxContourEvals {
+		return unverified()
+	}
+	var bs *bsearch
+	var a, b bpt
+	t := pl.bx.target
+	if horiz {
+		bs = pl.bx
+		bs.x[pl.by.i] = pl.ys[r]
+		ya, yb := pl.z[r*nx+c], pl.z[r*nx+c+1]
+		a, b = bpt{x: pl.xs[c], y: ya, g: ya - t, s: math.NaN()}, bpt{x: pl.xs[c+1], y: yb, g: yb - t, s: math.NaN()}
+	} else {
+		bs = pl.by
+		bs.x[pl.bx.i] = pl.xs[c]
+		ya, yb := pl.z[r*nx+c], pl.z[(r+1)*nx+c]
+		a, b = bpt{x: pl.ys[r], y: ya, g: ya - t, s: math.NaN()}, bpt{x: pl.ys[r+1], y: yb, g: yb - t, s: math.NaN()}
+	}
+	at := func(v float64) XY {
+		if horiz {
+			return XY{v, lin.Y}
+		}
+		return XY{lin.X, v}
+	}
+	// The contour classes a corner at the target with those above it: the
+	// crossing is at that corner.
+	if a.g == 0 {
+		return at(a.x)
+	}
+	if b.g == 0 {
+		return at(b.x)
+	}
+	if (a.g < 0) == (b.g < 0) {
+		return lin
+	}
+	rf, err := bs.refine(a, b)
+	if err != nil {
+		pl.err = err
+		return lin
+	}
+	switch {
+	case rf.jump != nil:
+		p := at(rf.jump.Value)
+		pl.res.ContourJumps = append(pl.res.ContourJumps, p)
+		return p
+	case rf.fail != nil, rf.unresolved != nil:
+		return unverified()
+	}
+	return at(rf.crossing.Value)
 }

@@ -135,3 +135,81 @@ func TestSweep2DContourCircle(t *testing.T) {
 		}
 	}
 }
+
+// A sweep's crossing is verified on the model: across a step the output
+// passes the target by a jump and no crossing is claimed; on a curve between
+// points the crossing is refined to the root, not interpolated.
+func TestSweepCrossingsVerified(t *testing.T) {
+	target := 5.0
+	p := problemOf(t, "input x = 1 (0..3)\ny = if(x < 2, 1, 1e9)\n", "y")
+	r, err := Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: "x", N: 4}, Target: &target})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The step is at x = 2 (the model's condition, by hand); points 0, 1,
+	// 2, 3 bracket it between 1 and 2 (y(2) = 1e9), so the jump is at 2.
+	if len(r.Crossings) != 0 || len(r.Jumps) != 1 || !(r.Jumps[0].Value > 1.999 && r.Jumps[0].Value <= 2) || r.Jumps[0].Pole {
+		t.Errorf("step: crossings %v, jumps %+v; want none and one step at 2", r.Crossings, r.Jumps)
+	}
+	// x² = 2 on 0..3 in 4 points: √2 (closed form); interpolation between
+	// (1, 1) and (2, 4) would give 4/3.
+	target = 2
+	p = problemOf(t, "input x = 1 (0..3)\ny = x^2\n", "y")
+	r, err = Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: "x", N: 4}, Target: &target})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Crossings) != 1 || !scalar.EqualWithinAbsOrRel(r.Crossings[0], math.Sqrt2, 1e-12, 1e-12) || len(r.Jumps) != 0 {
+		t.Errorf("x^2 = 2: crossings %v jumps %v, want [√2]", r.Crossings, r.Jumps)
+	}
+	// 1/(x-1.4) = 0 has no root; the sign change between 1 and 2 is a pole
+	// at 1.4 (closed form).
+	target = 0
+	p = problemOf(t, "input x = 1 (0..3)\ny = 1/(x - 1.4)\n", "y")
+	r, err = Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: "x", N: 4}, Target: &target})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Crossings) != 0 || len(r.Jumps) != 1 || !r.Jumps[0].Pole || !scalar.EqualWithinAbsOrRel(r.Jumps[0].Value, 1.4, 1e-9, 1e-9) {
+		t.Errorf("pole: crossings %v jumps %+v, want a pole at 1.4", r.Crossings, r.Jumps)
+	}
+}
+
+// A 2-D contour across a step is labelled: its points on the step are
+// listed as jumps, not claimed as crossings; a smooth contour has none, and
+// its points are refined onto the circle.
+func TestSweep2DContourJumps(t *testing.T) {
+	target := 5.0
+	p := problemOf(t, "input x = 1 (0..3)\ninput w = 1 (0..3)\ny = if(x < 2, 1, 1e9) + 0*w\n", "y")
+	r, err := Sweep2D(p, &Sweep2DSettings{X: Axis{Input: "x", N: 4}, Y: Axis{Input: "w", N: 4}, Target: &target})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Four rows, each crossing the step once between x = 1 and 2.
+	if len(r.ContourJumps) != 4 {
+		t.Errorf("step: %d contour jumps %v, want 4", len(r.ContourJumps), r.ContourJumps)
+	}
+	for _, q := range r.ContourJumps {
+		if !(q.X > 1.999 && q.X <= 2) {
+			t.Errorf("jump at %+v, want x = 2", q)
+		}
+	}
+	// x² + w² = 4: every contour point on the circle of radius 2 (closed
+	// form), where interpolation on a 4-point grid is off by up to 0.1.
+	target = 4
+	p = problemOf(t, "input x = 1 (0..3)\ninput w = 1 (0..3)\ny = x^2 + w^2\n", "y")
+	r, err = Sweep2D(p, &Sweep2DSettings{X: Axis{Input: "x", N: 4}, Y: Axis{Input: "w", N: 4}, Target: &target})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.ContourJumps)+len(r.ContourUnverified) != 0 || len(r.Contour) == 0 {
+		t.Fatalf("circle: contour %v jumps %v unverified %v", r.Contour, r.ContourJumps, r.ContourUnverified)
+	}
+	for _, l := range r.Contour {
+		for _, q := range l {
+			if d := math.Hypot(q.X, q.Y); !scalar.EqualWithinAbsOrRel(d, 2, 1e-12, 1e-12) {
+				t.Errorf("contour point %+v at radius %v, want 2", q, d)
+			}
+		}
+	}
+}

@@ -38,10 +38,12 @@ func Sweep1D(s *sens.Sweep1DResult, o *Options) *Result {
 		r.note(fmt.Sprintf("(%d of the %d points shown; the JSON holds all of them)", len(idx), len(s.Points)))
 	}
 	if s.Target != nil {
-		r.note(crossingLine(s.Output, *s.Target, s.Unit, ax.Name, ax.Unit, s.Crossings))
+		r.note(crossingLine(s.Output, *s.Target, s.Unit, ax.Name, ax.Unit, s.Crossings, s.Jumps, s.Unresolved))
 	}
+	// The chart marks the verified crossings only, not a jump past the
+	// target.
 	ch := &plotting.Sweep{Output: s.Output, Unit: s.Unit, Input: ax.Name, InputUnit: ax.Unit,
-		BaselineInput: ax.Baseline, Baseline: s.Baseline, Target: s.Target}
+		BaselineInput: ax.Baseline, Baseline: s.Baseline, Target: s.Target, KnownRoots: true, Roots: s.Crossings}
 	for _, p := range s.Points {
 		ch.X = append(ch.X, p.X)
 		ch.Y = append(ch.Y, p.Output)
@@ -50,16 +52,31 @@ func Sweep1D(s *sens.Sweep1DResult, o *Options) *Result {
 	return r
 }
 
-func crossingLine(out string, target float64, u, input, inUnit string, xs []float64) string {
-	if len(xs) == 0 {
+func crossingLine(out string, target float64, u, input, inUnit string, xs []float64, jumps []sens.Jump, unres []sens.Unresolved) string {
+	var parts []string
+	if len(xs) > 0 {
+		col := unit.NewColumn(inUnit, xs...)
+		vals := make([]string, len(xs))
+		for j, x := range xs {
+			vals[j] = col.Format(x)
+		}
+		parts = append(parts, fmt.Sprintf("%s = %s at %s = %s (verified on the model)", out, unit.Format(target, u), input, strings.Join(vals, ", ")))
+	}
+	for _, j := range jumps {
+		how := "jumps past"
+		if j.Pole {
+			how = "passes through a pole past"
+		}
+		parts = append(parts, fmt.Sprintf("%s %s %s at %s = %s (from %s to %s) without equalling it", out, how, unit.Format(target, u),
+			input, unit.Format(j.Value, inUnit), unit.Format(j.Left, u), unit.Format(j.Right, u)))
+	}
+	for _, x := range unres {
+		parts = append(parts, fmt.Sprintf("between %s = %s and %s a crossing may lie: %s", input, unit.Format(x.Low, inUnit), unit.Format(x.High, inUnit), x.Reason))
+	}
+	if len(parts) == 0 {
 		return fmt.Sprintf("%s does not reach %s over this range", out, unit.Format(target, u))
 	}
-	col := unit.NewColumn(inUnit, xs...)
-	vals := make([]string, len(xs))
-	for j, x := range xs {
-		vals[j] = col.Format(x)
-	}
-	return fmt.Sprintf("%s = %s at %s = %s (linear interpolation between points)", out, unit.Format(target, u), input, strings.Join(vals, ", "))
+	return strings.Join(parts, "; ")
 }
 
 // Sweep2D renders a 2-D sweep: where the output is least and greatest, where
@@ -98,6 +115,14 @@ func Sweep2D(s *sens.Sweep2DResult, o *Options) *Result {
 		default:
 			lines = append(lines, fmt.Sprintf("%s = %s along %d contour %s (%d points in the JSON)", s.Output, unit.Format(*s.Target, s.Unit),
 				len(s.Contour), plural(len(s.Contour), "line", "lines"), npts))
+		}
+		if n := len(s.ContourJumps); n > 0 {
+			q := s.ContourJumps[0]
+			lines = append(lines, fmt.Sprintf("at %d of the contour's points %s jumps past %s without equalling it (a step or a pole, such as at %s = %s, %s = %s): there the line marks the jump, not a crossing (contour_jumps in the JSON)",
+				n, s.Output, unit.Format(*s.Target, s.Unit), ax.Name, unit.Format(q.X, ax.Unit), ay.Name, unit.Format(q.Y, ay.Unit)))
+		}
+		if n := len(s.ContourUnverified); n > 0 {
+			lines = append(lines, fmt.Sprintf("%d of the contour's points are placed by linear interpolation between grid points, not verified on the model (contour_unverified in the JSON)", n))
 		}
 	}
 	// The grid as a table, one row per value of the second input, the
