@@ -57,6 +57,22 @@ type Unresolved struct {
 	Reason string `json:"reason"`
 }
 
+// Plateau is an interval of the input over which the output is level at the
+// target (a step function such as round, or a cap by min or max, at the
+// target's value): every value in Low..High reaches it, so its ends are not
+// listed as crossings.
+type Plateau struct {
+	Low  float64 `json:"low"`
+	High float64 `json:"high"`
+	// InRange is set when the interval meets the input's stated range.
+	InRange bool `json:"in_range"`
+	// OpenLow and OpenHigh are set when the output equals the target at
+	// every point searched beyond that end: the plateau may go on past the
+	// part searched.
+	OpenLow  bool `json:"open_low,omitempty"`
+	OpenHigh bool `json:"open_high,omitempty"`
+}
+
 // BreakevenResult is the result of the break-even analysis.
 type BreakevenResult struct {
 	Kind           string  `json:"kind"` // "breakeven"
@@ -76,7 +92,12 @@ type BreakevenResult struct {
 	Value     *float64   `json:"value,omitempty"`
 	InRange   *bool      `json:"in_range,omitempty"`
 	Crossings []Crossing `json:"crossings"`
-	Jumps     []Jump     `json:"jumps,omitempty"`
+	// Plateaus lists the intervals where the output equals the target
+	// throughout (see Plateau); a crossing inside one is not listed. The
+	// nearest value (Value) counts them: the point of a plateau nearest the
+	// baseline.
+	Plateaus []Plateau `json:"plateaus,omitempty"`
+	Jumps    []Jump    `json:"jumps,omitempty"`
 	// Unresolved lists the brackets whose search failed.
 	Unresolved []Unresolved `json:"unresolved,omitempty"`
 	// SearchedLow..SearchedHigh is the part of the input's domain searched;
@@ -397,6 +418,9 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 	sort.Slice(res.Crossings, func(a, b int) bool { return res.Crossings[a].Value < res.Crossings[b].Value })
 	sort.Slice(res.Jumps, func(a, b int) bool { return res.Jumps[a].Value < res.Jumps[b].Value })
 	sort.Slice(res.Unresolved, func(a, b int) bool { return res.Unresolved[a].Low < res.Unresolved[b].Low })
+	if err := bs.plateaus(res); err != nil {
+		return nil, err
+	}
 	best := -1
 	for j := range res.Crossings {
 		c := &res.Crossings[j]
@@ -413,7 +437,16 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 	if best >= 0 {
 		v, r := res.Crossings[best].Value, res.Crossings[best].InRange
 		res.Value, res.InRange = &v, &r
-	} else {
+	}
+	for _, pl := range res.Plateaus {
+		// The plateau's point nearest the baseline.
+		v := math.Min(math.Max(x0, pl.Low), pl.High)
+		if res.Value == nil || math.Abs(v-x0) < math.Abs(*res.Value-x0) {
+			r := in.Low <= v && v <= in.High
+			res.Value, res.InRange = &v, &r
+		}
+	}
+	if res.Value == nil {
 		res.Message = fmt.Sprintf("%s never reaches %s over %s = %s..%s: it ranges from %s (at %s = %s) to %s (at %s = %s); the closest is %s at %s = %s",
 			p.Output, out(target), in.Name, inp(res.SearchedLow), inp(res.SearchedHigh),
 			out(res.MinOutput), in.Name, inp(res.MinAt), out(res.MaxOutput), in.Name, inp(res.MaxAt),
@@ -1007,6 +1040,97 @@ func (bs *bsearch) refine(a, b bpt) (refined, error) {
 	// A jump: a pole where |g| grew as the bracket closed.
 	pole := math.Min(math.Abs(a.g), math.Abs(b.g)) > 4*math.Max(math.Abs(a0.g), math.Abs(b0.g))
 	return refined{jump: &Jump{Value: midpoint(a.x, b.x), Left: a.y, Right: b.y, Pole: pole}}, nil
+}
+
+// plateaus replaces the crossings where the output is level at the target
+// (slope 0, the output exactly the target just beside them) by the
+// intervals where it equals the target: each end is found by bisection
+// between the crossing and the nearest sample that differs from the target
+// (or fails), to neighbouring numbers; an interval wider than a few units in
+// the last place is a plateau, and the crossings inside it are dropped. A
+// crossing with the output off the target on both neighbouring numbers costs
+// two evaluations.
+func (bs *bsearch) plateaus(res *BreakevenResult) error {
+	var keep []Crossing
+	for _, c := range res.Crossings {
+		if slices.ContainsFunc(res.Plateaus, func(p Plateau) bool { return c.Value >= p.Low && c.Value <= p.High }) {
+			continue
+		}
+		if c.Slope != 0 {
+			keep = append(keep, c)
+			continue
+		}
+		lo, openLo, err := bs.plateauEdge(c.Value, -1)
+		if err != nil {
+			return err
+		}
+		hi, openHi, err := bs.plateauEdge(c.Value, 1)
+		if err != nil {
+			return err
+		}
+		if hi-lo <= 64*0x1p-52*math.Max(math.Abs(lo), math.Abs(hi)) {
+			keep = append(keep, c)
+			continue
+		}
+		res.Plateaus = append(res.Plateaus, Plateau{Low: lo, High: hi, InRange: lo <= bs.in.High && hi >= bs.in.Low, OpenLow: openLo, OpenHigh: openHi})
+	}
+	// A crossing kept before a plateau found later may lie inside it.
+	res.Crossings = slices.DeleteFunc(append([]Crossing{}, keep...), func(c Crossing) bool {
+		return slices.ContainsFunc(res.Plateaus, func(p Plateau) bool { return c.Value >= p.Low && c.Value <= p.High })
+	})
+	return nil
+}
+
+// plateauEdge returns the last value from x in direction dir (-1 or 1) up
+// to which the output stays exactly at the target: x itself when it differs
+// on the neighbouring number; the end of the samples when every sample that
+// way equals it (open).
+func (bs *bsearch) plateauEdge(x float64, dir int) (float64, bool, error) {
+	at := func(v float64) (bool, error) {
+		y, ferr, err := bs.value(v)
+		return err == nil && ferr == nil && y == bs.target, err
+	}
+	next := math.Nextafter(x, math.Inf(dir))
+	if eq, err := at(next); err != nil || !eq {
+		return x, false, err
+	}
+	in := next
+	out := math.NaN()
+	for j := 0; j < len(bs.smp); j++ {
+		k := j
+		if dir < 0 {
+			k = len(bs.smp) - 1 - j
+		}
+		v := bs.smp[k]
+		if float64(dir)*(v.x-in) <= 0 {
+			continue
+		}
+		if v.err != nil || v.y != bs.target {
+			out = v.x
+			break
+		}
+		in = v.x
+	}
+	if math.IsNaN(out) {
+		return in, true, nil
+	}
+	for k := 0; k < maxRefine; k++ {
+		lo, hi := math.Min(in, out), math.Max(in, out)
+		if m := midpoint(lo, hi); m <= lo || m >= hi {
+			break
+		}
+		m := midpoint(lo, hi)
+		eq, err := at(m)
+		if err != nil {
+			return 0, false, err
+		}
+		if eq {
+			in = m
+		} else {
+			out = m
+		}
+	}
+	return in, false, nil
 }
 
 func nanTo0(v float64) float64 {

@@ -260,3 +260,35 @@ func TestBreakevenNarrowGapNote(t *testing.T) {
 		t.Errorf("note %q", r.DomainNote)
 	}
 }
+
+// An output level at the target over an interval is a plateau, not two
+// crossings at its ends with slope 0. round(10x) = 25 for 24.5 <= 10x <
+// 25.5 (round half away from zero, by hand): x in [2.45, 2.55).
+// min(x, 2.5) = 2.5 for every x >= 2.5: open above, to the search's end.
+func TestBreakevenPlateau(t *testing.T) {
+	r := breakeven(t, problemOf(t, "input x = 2 (1..3)\ny = round(x*10)\n", "y"), "x", 25, nil)
+	if len(r.Crossings) != 0 || len(r.Plateaus) != 1 {
+		t.Fatalf("round: crossings %+v plateaus %+v, want one plateau", r.Crossings, r.Plateaus)
+	}
+	pl := r.Plateaus[0]
+	if math.Abs(pl.Low-2.45) > 1e-12 || math.Abs(pl.High-2.55) > 1e-12 || !pl.InRange || pl.OpenLow || pl.OpenHigh {
+		t.Errorf("round: plateau %+v, want 2.45..2.55 in range", pl)
+	}
+	if r.Value == nil || *r.Value != pl.Low || r.Message != "" {
+		t.Errorf("round: value %v message %q, want the plateau's low end (nearest the baseline 2)", r.Value, r.Message)
+	}
+	r = breakeven(t, problemOf(t, "input x = 2 (1..3)\ny = min(x, 2.5)\n", "y"), "x", 2.5, nil)
+	if len(r.Crossings) != 0 || len(r.Plateaus) != 1 || r.Plateaus[0].Low != 2.5 || !r.Plateaus[0].OpenHigh || r.Plateaus[0].OpenLow {
+		t.Errorf("min: crossings %+v plateaus %+v, want one plateau from 2.5, open above", r.Crossings, r.Plateaus)
+	}
+	// A touch and a smooth crossing stay crossings: (x-2)² = 0 at 2, x² = 4
+	// at ±2 (closed form).
+	r = breakeven(t, problemOf(t, "input x = 1 (1..3)\ny = (x-2)^2\n", "y"), "x", 0, nil)
+	if len(r.Plateaus) != 0 || len(r.Crossings) != 1 || math.Abs(r.Crossings[0].Value-2) > 1e-6 {
+		t.Errorf("touch: crossings %+v plateaus %+v", r.Crossings, r.Plateaus)
+	}
+	r = breakeven(t, problemOf(t, "input x = 1 (1..3)\ny = x^2\n", "y"), "x", 4, nil)
+	if len(r.Plateaus) != 0 || len(r.Crossings) != 2 {
+		t.Errorf("x^2: crossings %+v plateaus %+v", r.Crossings, r.Plateaus)
+	}
+}

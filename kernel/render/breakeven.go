@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"html"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -38,7 +39,7 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		}
 		r.text += tb.text()
 		r.html = tb.html(head)
-		if len(b.Crossings) > 1 {
+		if len(b.Crossings) > 1 && len(b.Plateaus) == 0 {
 			// As the table writes it: 1.00001, not 1, beside a pole at 1.
 			r.note(fmt.Sprintf("%d crossings; the nearest to the baseline is %s = %s", len(b.Crossings), b.Input, distinctText(vcol, *b.Value, b)))
 		}
@@ -50,6 +51,25 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		}
 	} else {
 		r.html = `<p class="nudge-value">` + html.EscapeString(head) + `</p>`
+	}
+	for _, p := range b.Plateaus {
+		where := "outside the stated range"
+		if p.InRange {
+			where = "meeting the stated range"
+		}
+		switch {
+		case p.OpenLow && p.OpenHigh:
+			where += "; it goes on at both ends of the search"
+		case p.OpenLow:
+			where += "; it goes on below, to where the search ended"
+		case p.OpenHigh:
+			where += "; it goes on above, to where the search ended"
+		}
+		r.note(fmt.Sprintf("%s = %s on the whole interval %s = %s..%s (a plateau: the output is level at the target there, %s)",
+			b.Output, unit.Format(b.Target, b.Unit), b.Input, unit.Format(p.Low, b.InputUnit), unit.Format(p.High, b.InputUnit), where))
+	}
+	if len(b.Plateaus) > 0 && len(b.Crossings)+len(b.Plateaus) > 1 && b.Value != nil {
+		r.note(fmt.Sprintf("the value nearest the baseline where %s = %s is %s = %s", b.Output, unit.Format(b.Target, b.Unit), b.Input, unit.Format(*b.Value, b.InputUnit)))
 	}
 	if b.Message != "" {
 		r.note(b.Message)
@@ -89,6 +109,10 @@ func Breakeven(b *sens.BreakevenResult, o *Options) *Result {
 		for _, c := range b.Crossings {
 			ch.Roots = append(ch.Roots, c.Value)
 		}
+		for _, p := range b.Plateaus {
+			ch.Roots = append(ch.Roots, p.Low, p.High) // the plateau's ends
+		}
+		slices.Sort(ch.Roots)
 		if b.Method != "" {
 			ch.Notes = append(ch.Notes, b.Method)
 		}

@@ -141,3 +141,28 @@ func TestBreakevenNearestWrittenAsTable(t *testing.T) {
 		t.Errorf("text:\n%s", text)
 	}
 }
+
+// TestBreakevenPlateauWritten: round(10x) = 25 on 2.45 <= x < 2.55 (by
+// hand) is one plateau in the text, the HTML and a CSV table of its own, not
+// two crossings with slope 0.
+func TestBreakevenPlateauWritten(t *testing.T) {
+	b, err := sens.Breakeven(problem(t, "input x = 2 (1..3)\ny = round(x*10)\n", "y"), &sens.BreakevenSettings{Input: "x", Target: 25})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := Breakeven(b, &Options{NoCharts: true, Width: 300})
+	want := "y = 25 on the whole interval x = 2.45..2.55 (a plateau"
+	if text := r.Text(); !strings.Contains(text, want) || strings.Contains(text, "crossings") {
+		t.Errorf("text:\n%s", text)
+	}
+	if h := r.HTML(); !strings.Contains(h, want) {
+		t.Errorf("HTML:\n%s", h)
+	}
+	tabs := r.Tables()
+	if len(tabs) != 2 || tabs[1].Name != "plateaus" || len(tabs[1].Rows) != 2 || len(tabs[0].Rows) != 1 {
+		t.Fatalf("CSV tables %+v", tabs)
+	}
+	if lo, _ := strconv.ParseFloat(tabs[1].Rows[1][0], 64); math.Abs(lo-2.45) > 1e-12 {
+		t.Errorf("CSV plateau row %q", tabs[1].Rows[1])
+	}
+}

@@ -99,6 +99,13 @@ func (r *Result) Tables() []CSVTable {
 			rows = append(rows, []string{num(c.Value), d.InputUnit, num(c.Distance), pct, strconv.FormatBool(c.InRange),
 				strconv.FormatBool(c.OutsideDomain), num(c.Slope), d.SlopeUnit})
 		}
+		if len(d.Plateaus) > 0 {
+			pl := [][]string{{d.Input + "_low", d.Input + "_high", "input_unit", "in_range"}}
+			for _, p := range d.Plateaus {
+				pl = append(pl, []string{num(p.Low), num(p.High), d.InputUnit, strconv.FormatBool(p.InRange)})
+			}
+			return []CSVTable{{Rows: rows}, {Name: "plateaus", Rows: pl}}
+		}
 		return []CSVTable{{Rows: rows}}
 	case *sens.CompareResult:
 		rows := [][]string{{"scenario", d.Output, "unit", "delta", "delta_pct"}}
