@@ -91,3 +91,17 @@ func TestAttributeResidualWritten(t *testing.T) {
 		t.Errorf("step:\n%s", text)
 	}
 }
+
+// TestAttributeShareColumnAligned: the "% of change" column takes one
+// number of decimals for all its rows. y = a·b, a 10→19, b 3→3.1: a gives
+// 9 × (3 + 3.1)/2 = 27.45 and b 0.1 × (10 + 19)/2 = 1.45 of a change of 28.9
+// (the closed form of a product's attribution), 94.98% and 5.017%, written
+// +94.98% and +5.02%.
+func TestAttributeShareColumnAligned(t *testing.T) {
+	in := New()
+	run(t, in, "input a = 10 [$] (8..20)\ninput b = 3 (2..5)\ny = a * b\nscenario hi: a = 19, b = 3.1\n")
+	text := run(t, in, "attribute y from base to hi").results[0].Text()
+	if !strings.Contains(text, "+94.98%") || !strings.Contains(text, "+5.02%") {
+		t.Errorf("shares:\n%s", text)
+	}
+}

@@ -32,7 +32,11 @@ func Attribution(a *sens.AttributeResult, o *Options) *Result {
 			shares = append(shares, *c.SharePct)
 		}
 	}
-	pcts := unit.NewColumn("%", shares...)
+	if a.Rest != nil && a.Rest.SharePct != nil {
+		shares = append(shares, *a.Rest.SharePct)
+	}
+	// One number of decimals for the whole column, as for money.
+	pcts := unit.Aligned("%", shares...)
 	pctOf := func(p *float64) string {
 		if p == nil {
 			return "—"

@@ -114,6 +114,31 @@ func Fixed(u string, decimals int) Column {
 	return Column{unit: u, place: placeOf(u), decimals: max(decimals, 0)}
 }
 
+// Aligned returns a column of values in unit u (shares such as "% of
+// change") written with one number of decimals for all of them, as a money
+// column is: four significant digits of the largest |value| M (two decimals
+// for 10 <= M < 100: +68.55%, +7.88%; none from M >= 1,000), so that the
+// column's points line up and its rows compare at a glance. Outside
+// 1e-4 <= M < 1e15 each value is written alone by Format's rule.
+func Aligned(u string, values ...float64) Column {
+	u = strings.TrimSpace(u)
+	c := Column{unit: u, place: placeOf(u), decimals: -1, money: isMoney(u)}
+	m := 0.0
+	for _, v := range values {
+		if !math.IsNaN(v) && !math.IsInf(v, 0) {
+			m = math.Max(m, math.Abs(v))
+		}
+	}
+	switch {
+	case m == 0:
+		c.decimals = 0
+	case m < 1e-4 || m >= 1e15:
+	default:
+		c.decimals = max(3-exponent(m), 0)
+	}
+	return c
+}
+
 // Format writes v by the column's rule, with its unit.
 func (c Column) Format(v float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) {

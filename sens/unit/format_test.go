@@ -155,3 +155,26 @@ func ExampleColumn() {
 	// $95.80
 	// $3.60
 }
+
+// TestAligned: a column of shares takes one number of decimals, four
+// significant digits of its largest value (the rule of money columns,
+// common practice for tables): 68.55 and 7.881 are written 68.55 and 7.88.
+func TestAligned(t *testing.T) {
+	for _, tc := range []struct {
+		vals []float64
+		want []string
+	}{
+		{[]float64{68.5512, 7.8812, 23.5676}, []string{"+68.55%", "+7.88%", "+23.57%"}},
+		{[]float64{150.26, -50.26}, []string{"+150.3%", "-50.3%"}},
+		{[]float64{1234.6, 2}, []string{"+1,235%", "+2%"}},
+		{[]float64{0.5, 0.01234}, []string{"+0.5000%", "+0.0123%"}},
+		{[]float64{0, 0}, []string{"0%", "0%"}},
+	} {
+		c := Aligned("%", tc.vals...)
+		for j, v := range tc.vals {
+			if g := c.Signed(v); g != tc.want[j] {
+				t.Errorf("Aligned(%v).Signed(%v) = %q, want %q", tc.vals, v, g, tc.want[j])
+			}
+		}
+	}
+}
