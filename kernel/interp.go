@@ -139,6 +139,20 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		return asCellError(err)
 	}
 	pending := false // declarations not yet checked by a compile
+	// While declarations are pending, the outputs of the statements run
+	// after them (scenarios, print) are held until the model is checked (an
+	// analysis compiled it, or the check at the end of the cell passed),
+	// then shown in order. When the cell fails, those of statements before
+	// the place of the error are shown, as for any failing statement, and
+	// those after it dropped: a cell applies as a whole, so a statement
+	// after a failing declaration shows nothing (settle).
+	held := &holdSink{out: sink}
+	sink = held
+	defer func() {
+		if err != nil {
+			held.settle(err, f)
+		}
+	}()
 	for i, s := range stmts {
 		interrupted := func() error {
 			return &CellError{Errors: []*syntax.Error{syntax.ErrorAt(f, f.Position(s.Pos()), "interrupted: the cell stopped here; the model is as it was before the cell")}}
@@ -147,6 +161,7 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 			return interrupted()
 		}
 		running = s
+		held.at = f.Position(s.Pos())
 		if err := in.stmt(ctx, f, s, i == len(stmts)-1, sink); err != nil {
 			if ctx.Err() != nil {
 				return interrupted()
@@ -170,6 +185,10 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		default:
 			pending = false
 		}
+		if !pending {
+			held.flush()
+		}
+		held.holding = pending
 	}
 	running = nil
 	if pending {
@@ -185,9 +204,73 @@ func (in *Interp) Execute(ctx context.Context, name, src string, sink Sink) (err
 		if err != nil {
 			return asCellError(err)
 		}
+		held.flush()
 		in.compileWarnings(prog, sink)
 	}
 	return nil
+}
+
+// holdSink passes output on to out, or holds it while holding is set, until
+// flush passes it on in order; progress always passes.
+type holdSink struct {
+	out     Sink
+	holding bool
+	at      syntax.Position // the statement running
+	held    []heldOutput
+}
+
+// heldOutput is one output held, with the statement that made it.
+type heldOutput struct {
+	at   syntax.Position
+	show func()
+}
+
+func (h *holdSink) Stream(name, text string) {
+	if h.holding {
+		h.held = append(h.held, heldOutput{h.at, func() { h.out.Stream(name, text) }})
+		return
+	}
+	h.out.Stream(name, text)
+}
+
+func (h *holdSink) Result(r *render.Result, last bool) {
+	if h.holding {
+		h.held = append(h.held, heldOutput{h.at, func() { h.out.Result(r, last) }})
+		return
+	}
+	h.out.Result(r, last)
+}
+
+func (h *holdSink) Progress(id, label string, done, total int) {
+	h.out.Progress(id, label, done, total)
+}
+
+// flush passes the held output on and stops holding.
+func (h *holdSink) flush() {
+	for _, o := range h.held {
+		o.show()
+	}
+	h.held, h.holding = nil, false
+}
+
+// settle ends a failing cell's held output: that of statements before the
+// place of the error err (in the cell f) is shown, the rest dropped; all of
+// it is dropped when the error is placed in another cell or nowhere.
+func (h *holdSink) settle(err error, f *syntax.File) {
+	var e syntax.Position
+	if ce := asCellError(err); len(ce.Errors) > 0 {
+		e = ce.First().Pos
+	}
+	before := func(p syntax.Position) bool {
+		return f != nil && e.Line > 0 && e.Filename == f.Name &&
+			(p.Line < e.Line || p.Line == e.Line && p.Column < e.Column)
+	}
+	for _, o := range h.held {
+		if before(o.at) {
+			o.show()
+		}
+	}
+	h.held, h.holding = nil, false
 }
 
 // internalError turns a panic recovered while running statement s of file f
