@@ -486,3 +486,31 @@ total = sum(qty) * m [mg]
 		}
 	}
 }
+
+// TestMissingElementSuggestsKeys: an element that does not exist is named
+// with its vector, and the nearest key when one is close (a dropped digit),
+// else the keys' first and last; a number key gets the range, not a guess.
+func TestMissingElementSuggestsKeys(t *testing.T) {
+	p, _ := loadBid(t, 5, "table bid = \"bid.csv\" key item\ninput hours = bid.hours (±10%)\ntotal = sum(hours)\n")
+	keys := p.Vector("hours").Keys
+	typo := strings.Replace(keys[2], "-0", "-", 1) // BM-0003 → BM-003
+	prob, err := p.Problem("total")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, _, err = prob.Input("hours[" + typo + "]")
+	if want := "undefined input hours[" + typo + "]: hours has no row " + typo + " (did you mean hours[" + keys[2] + "]?)"; err == nil || err.Error() != want {
+		t.Errorf("typo: %v, want %q", err, want)
+	}
+	_, _, err = prob.Input("hours[ZZ-1]")
+	if want := "undefined input hours[ZZ-1]: hours has no row ZZ-1 (its 5 keys run from " + keys[0] + " to " + keys[4] + ")"; err == nil || err.Error() != want {
+		t.Errorf("far: %v, want %q", err, want)
+	}
+	m, err := LoadModel("test", []byte("periods year = 1..5\ninput hours[year] = 10 [h] (8..12)\ntotal = sum(hours) * (50 [$/h])\nscenario s: hours[7] = 9 [h]\n"))
+	if err == nil { // loading checks the scenarios; else the compile does
+		_, err = m.Compile()
+	}
+	if want := "hours has no period 7 (its 5 keys run from 1 to 5)"; err == nil || !strings.Contains(err.Error(), want) {
+		t.Errorf("period: %v, want %q", err, want)
+	}
+}

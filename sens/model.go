@@ -3,9 +3,11 @@ package sens
 import (
 	"context"
 	"errors"
+	"fmt"
 	"maps"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
@@ -189,6 +191,42 @@ func notAnInput(name string, declared, formula bool, names []string) string {
 	return ""
 }
 
+// missingElement returns why name, written NAME[KEY] with NAME a vector
+// input, names no element: the vector has no such key, with the nearest key
+// when one is close (syntax.DidYouMean: a bounded edit distance, so the work
+// is linear in the number of keys), else the first and last keys. It returns
+// "" when name is not of that form.
+func (p *Program) missingElement(name string) string {
+	base, key, ok := splitElement(name)
+	if !ok {
+		return ""
+	}
+	v := p.Vector(base)
+	if v == nil || v.Kind != "input" || len(v.Keys) == 0 {
+		return ""
+	}
+	if _, ok := v.find(key); ok {
+		return ""
+	}
+	noun := v.Noun
+	if noun == "" {
+		noun = "element"
+	}
+	msg := fmt.Sprintf("undefined input %s: %s has no %s %s", name, base, noun, key)
+	// A near key of a number (period 7 of 1..5) is no better a guess than
+	// any other: the range of keys says more.
+	if _, err := strconv.ParseFloat(key, 64); err != nil {
+		if hint := syntax.DidYouMean(key, v.Keys); hint != "" {
+			near := strings.TrimSuffix(strings.TrimPrefix(hint, " (did you mean "), "?)")
+			return msg + fmt.Sprintf(" (did you mean %s[%s]?)", base, near)
+		}
+	}
+	if len(v.Keys) == 1 {
+		return msg + fmt.Sprintf(" (its only key is %s)", v.Keys[0])
+	}
+	return msg + fmt.Sprintf(" (its %d keys run from %s to %s)", len(v.Keys), v.Keys[0], v.Keys[len(v.Keys)-1])
+}
+
 // addScenario adds or replaces a scenario, reporting whether one of its name
 // existed.
 func (m *Model) addScenario(sc *Scenario) (replaced bool) {
@@ -300,6 +338,12 @@ func (p *Program) ScenarioValues(s *Scenario) ([]float64, error) {
 			// Declared, as a vector: not "undefined input hours".
 			errs.Add(s.File, a.Name.Pos(), a.Name.Name+" is a vector: a scenario sets one element at a time, "+a.Name.Name+"[KEY] = VALUE")
 			continue
+		}
+		if in == nil && f == nil {
+			if msg := p.missingElement(a.Name.Name); msg != "" {
+				errs.Add(s.File, a.Name.Pos(), msg)
+				continue
+			}
 		}
 		if msg := notAnInput(a.Name.Name, in != nil || f != nil, f != nil, p.Names()); msg != "" {
 			errs.Add(s.File, a.Name.Pos(), msg)

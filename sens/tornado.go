@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -521,6 +522,9 @@ func (p *Problem) Input(name string) (*Input, int, error) {
 			return nil, -1, fmt.Errorf("%s does not depend on %s: vary one of the inputs it uses", p.Output, name)
 		case p.prog.Vector(name) != nil:
 			return nil, -1, fmt.Errorf("%s is a vector: vary one of its elements, %s[KEY]", name, name)
+		}
+		if msg := p.prog.missingElement(name); msg != "" {
+			return nil, -1, errors.New(msg)
 		}
 	}
 	names := make([]string, len(p.Inputs))
