@@ -2,6 +2,8 @@
 
 package tape
 
+import "math"
+
 // Fused instructions: t = x op1 y, then t op2 z (F...L) or z op2 t (F...R).
 // float64(t) keeps the intermediate rounding: the compiler may not fuse a
 // product and a sum into one multiply-add, so the values are the unfused
@@ -256,313 +258,332 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 // runCode evaluates the nodes of code, as run evaluates them, to the last
 // bit, and reports whether a guard operation saw a non-finite operand. A
 // fused instruction computes two nodes, in.n and in.n+1.
+//
+// The cheap operations run in the inner loop, which makes no calls other
+// than math.Ceil's and math.Floor's fallbacks; the others leave it for
+// slowOp and come back.
 func (t *Tape) runCode(code []sinstr) (bad bool) {
 	v := t.vals
-	for i := range code {
-		in := &code[i]
-		switch in.k {
-		case kind(OpAdd):
-			v[in.n] = v[in.a] + v[in.b]
-		case kind(OpSub):
-			v[in.n] = v[in.a] - v[in.b]
-		case kind(OpMul):
-			v[in.n] = v[in.a] * v[in.b]
-		case kind(OpDiv):
-			y := v[in.b]
-			v[in.n] = v[in.a] / y
-			if !finite(y) {
-				bad = true
-			}
-		case kind(OpNeg):
-			v[in.n] = -v[in.a]
-		case kind(OpSquare):
-			x := v[in.a]
-			v[in.n] = x * x
-		case kind(OpMin):
-			x, y := v[in.a], v[in.b]
-			r := y
-			if x <= y {
-				r = x
-			}
-			v[in.n] = r
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpMax):
-			x, y := v[in.a], v[in.b]
-			r := y
-			if x >= y {
-				r = x
-			}
-			v[in.n] = r
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpLt):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x < y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpGt):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x > y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpLe):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x <= y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpGe):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x >= y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpEq):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x == y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpNe):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x != y)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpAnd):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x != 0 && y != 0)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpOr):
-			x, y := v[in.a], v[in.b]
-			v[in.n] = b2f(x != 0 || y != 0)
-			if !finite(x) || !finite(y) {
-				bad = true
-			}
-		case kind(OpIf):
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			r := z
-			if x != 0 {
-				r = y
-			}
-			v[in.n] = r
-			if !finite(x) || !finite(y) || !finite(z) {
-				bad = true
-			}
-		case kFAddAddL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = float64(t) + z
-		case kFAddAddR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = z + float64(t)
-		case kFAddSubL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = float64(t) - z
-		case kFAddSubR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = z - float64(t)
-		case kFAddMulL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = float64(t) * z
-		case kFAddMulR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = z * float64(t)
-		case kFAddDivL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = float64(t) / z
-			if !finite(z) {
-				bad = true
-			}
-		case kFAddDivR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x + y
-			v[in.n] = t
-			v[in.n+1] = z / float64(t)
-			if !finite(t) {
-				bad = true
-			}
-		case kFSubAddL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = float64(t) + z
-		case kFSubAddR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = z + float64(t)
-		case kFSubSubL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = float64(t) - z
-		case kFSubSubR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = z - float64(t)
-		case kFSubMulL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = float64(t) * z
-		case kFSubMulR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = z * float64(t)
-		case kFSubDivL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = float64(t) / z
-			if !finite(z) {
-				bad = true
-			}
-		case kFSubDivR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x - y
-			v[in.n] = t
-			v[in.n+1] = z / float64(t)
-			if !finite(t) {
-				bad = true
-			}
-		case kFMulAddL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = float64(t) + z
-		case kFMulAddR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = z + float64(t)
-		case kFMulSubL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = float64(t) - z
-		case kFMulSubR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = z - float64(t)
-		case kFMulMulL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = float64(t) * z
-		case kFMulMulR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = z * float64(t)
-		case kFMulDivL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = float64(t) / z
-			if !finite(z) {
-				bad = true
-			}
-		case kFMulDivR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x * y
-			v[in.n] = t
-			v[in.n+1] = z / float64(t)
-			if !finite(t) {
-				bad = true
-			}
-		case kFDivAddL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = float64(t) + z
-			if !finite(y) {
-				bad = true
-			}
-		case kFDivAddR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = z + float64(t)
-			if !finite(y) {
-				bad = true
-			}
-		case kFDivSubL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = float64(t) - z
-			if !finite(y) {
-				bad = true
-			}
-		case kFDivSubR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = z - float64(t)
-			if !finite(y) {
-				bad = true
-			}
-		case kFDivMulL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = float64(t) * z
-			if !finite(y) {
-				bad = true
-			}
-		case kFDivMulR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = z * float64(t)
-			if !finite(y) {
-				bad = true
-			}
-		case kFDivDivL:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = float64(t) / z
-			if !finite(y) || !finite(z) {
-				bad = true
-			}
-		case kFDivDivR:
-			x, y, z := v[in.a], v[in.b], v[in.c]
-			t := x / y
-			v[in.n] = t
-			v[in.n+1] = z / float64(t)
-			if !finite(y) || !finite(t) {
-				bad = true
-			}
-		default:
-			if t.slowOp(int(in.n)) {
-				bad = true
+	i := 0
+	for i < len(code) {
+		for ; i < len(code); i++ {
+			in := &code[i]
+			switch in.k {
+			case kind(OpAdd):
+				v[in.n] = v[in.a] + v[in.b]
+			case kind(OpSub):
+				v[in.n] = v[in.a] - v[in.b]
+			case kind(OpMul):
+				v[in.n] = v[in.a] * v[in.b]
+			case kind(OpDiv):
+				y := v[in.b]
+				v[in.n] = v[in.a] / y
+				if !finite(y) {
+					bad = true
+				}
+			case kind(OpNeg):
+				v[in.n] = -v[in.a]
+			case kind(OpSquare):
+				x := v[in.a]
+				v[in.n] = x * x
+			case kind(OpSqrt):
+				v[in.n] = math.Sqrt(v[in.a])
+			case kind(OpAbs):
+				v[in.n] = math.Abs(v[in.a])
+			case kind(OpCeil):
+				v[in.n] = math.Ceil(v[in.a])
+			case kind(OpFloor):
+				v[in.n] = math.Floor(v[in.a])
+			case kind(OpMin):
+				x, y := v[in.a], v[in.b]
+				r := y
+				if x <= y {
+					r = x
+				}
+				v[in.n] = r
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpMax):
+				x, y := v[in.a], v[in.b]
+				r := y
+				if x >= y {
+					r = x
+				}
+				v[in.n] = r
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpLt):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x < y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpGt):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x > y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpLe):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x <= y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpGe):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x >= y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpEq):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x == y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpNe):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x != y)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpAnd):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x != 0 && y != 0)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpOr):
+				x, y := v[in.a], v[in.b]
+				v[in.n] = b2f(x != 0 || y != 0)
+				if !finite(x) || !finite(y) {
+					bad = true
+				}
+			case kind(OpIf):
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				r := z
+				if x != 0 {
+					r = y
+				}
+				v[in.n] = r
+				if !finite(x) || !finite(y) || !finite(z) {
+					bad = true
+				}
+			case kFAddAddL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = float64(t) + z
+			case kFAddAddR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = z + float64(t)
+			case kFAddSubL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = float64(t) - z
+			case kFAddSubR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = z - float64(t)
+			case kFAddMulL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = float64(t) * z
+			case kFAddMulR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = z * float64(t)
+			case kFAddDivL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = float64(t) / z
+				if !finite(z) {
+					bad = true
+				}
+			case kFAddDivR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x + y
+				v[in.n] = t
+				v[in.n+1] = z / float64(t)
+				if !finite(t) {
+					bad = true
+				}
+			case kFSubAddL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = float64(t) + z
+			case kFSubAddR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = z + float64(t)
+			case kFSubSubL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = float64(t) - z
+			case kFSubSubR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = z - float64(t)
+			case kFSubMulL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = float64(t) * z
+			case kFSubMulR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = z * float64(t)
+			case kFSubDivL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = float64(t) / z
+				if !finite(z) {
+					bad = true
+				}
+			case kFSubDivR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x - y
+				v[in.n] = t
+				v[in.n+1] = z / float64(t)
+				if !finite(t) {
+					bad = true
+				}
+			case kFMulAddL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = float64(t) + z
+			case kFMulAddR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = z + float64(t)
+			case kFMulSubL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = float64(t) - z
+			case kFMulSubR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = z - float64(t)
+			case kFMulMulL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = float64(t) * z
+			case kFMulMulR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = z * float64(t)
+			case kFMulDivL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = float64(t) / z
+				if !finite(z) {
+					bad = true
+				}
+			case kFMulDivR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x * y
+				v[in.n] = t
+				v[in.n+1] = z / float64(t)
+				if !finite(t) {
+					bad = true
+				}
+			case kFDivAddL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = float64(t) + z
+				if !finite(y) {
+					bad = true
+				}
+			case kFDivAddR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = z + float64(t)
+				if !finite(y) {
+					bad = true
+				}
+			case kFDivSubL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = float64(t) - z
+				if !finite(y) {
+					bad = true
+				}
+			case kFDivSubR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = z - float64(t)
+				if !finite(y) {
+					bad = true
+				}
+			case kFDivMulL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = float64(t) * z
+				if !finite(y) {
+					bad = true
+				}
+			case kFDivMulR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = z * float64(t)
+				if !finite(y) {
+					bad = true
+				}
+			case kFDivDivL:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = float64(t) / z
+				if !finite(y) || !finite(z) {
+					bad = true
+				}
+			case kFDivDivR:
+				x, y, z := v[in.a], v[in.b], v[in.c]
+				t := x / y
+				v[in.n] = t
+				v[in.n+1] = z / float64(t)
+				if !finite(y) || !finite(t) {
+					bad = true
+				}
+			default:
+				goto slow
 			}
 		}
+		break
+	slow:
+		if t.slowOp(int(code[i].n)) {
+			bad = true
+		}
+		i++
 	}
 	return bad
 }

@@ -15,8 +15,8 @@ import (
 // a fused kind, node n = a op1 b and node n+1 = n op2 c (or c op2 n).
 type sinstr struct {
 	k       kind // an Op as a kind, or a fused kind
-	n       int32
-	a, b, c int32
+	n       uint32
+	a, b, c uint32 // unsigned: a load of one folds its address (MOVL idx)
 }
 
 // scalarCode is a program's scalar code, built once.
@@ -37,7 +37,7 @@ func (p *tapeProg) scode(i int) []sinstr {
 			e := int32(p.end(o))
 			// The code is in node order: the first instruction at or past
 			// the output's end.
-			p.sc.ends[o] = int32(sort.Search(len(code), func(j int) bool { return code[j].n >= e }))
+			p.sc.ends[o] = int32(sort.Search(len(code), func(j int) bool { return code[j].n >= uint32(e) }))
 		}
 	})
 	if i < 0 {
@@ -83,14 +83,14 @@ func (p *tapeProg) buildCode() []sinstr {
 				if left {
 					c = p.b[k+1]
 				}
-				code = append(code, sinstr{k: fusedKind(op, op2, left), n: k32, a: p.a[k], b: p.b[k], c: c})
+				code = append(code, sinstr{k: fusedKind(op, op2, left), n: uint32(k), a: uint32(p.a[k]), b: uint32(p.b[k]), c: uint32(c)})
 				k++
 				continue
 			}
 		}
-		in := sinstr{k: kind(op), n: k32, a: p.a[k], b: p.b[k]}
+		in := sinstr{k: kind(op), n: uint32(k), a: uint32(p.a[k]), b: uint32(p.b[k])}
 		if op.Arity() == 3 {
-			in.c = p.a[k+1]
+			in.c = uint32(p.a[k+1])
 		}
 		code = append(code, in)
 	}
