@@ -69,6 +69,24 @@ func fusedIndex(op Op) int {
 	panic("tape: not a fusable operation")
 }
 
+// Triples of + - * / in the scalar code: t1 = a op1 b, then a chain
+// t2 = t1 op2 c or c op2 t1, t3 = t2 op3 d or d op3 t2 (shapes LL, LR, RL,
+// RR: where t1 and t2 stand), or a tree t2 = c op2 d, t3 = t1 op3 t2 (TL)
+// or t2 op3 t1 (TR). tripleKind(op1, op2, op3, shape) numbers them.
+func tripleKind(op1, op2, op3 Op, shape int) kind {
+	return kFusedEnd + kind(((fusedIndex(op1)*4+fusedIndex(op2))*4+fusedIndex(op3))*6+shape)
+}
+
+// The shapes of triples.
+const (
+	shapeLL = iota
+	shapeLR
+	shapeRL
+	shapeRR
+	shapeTL
+	shapeTR
+)
+
 // runFused runs a fused instruction over a block: o = (x op1 y) op2 z or
 // z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN
 // when one of them is not finite.
@@ -572,6 +590,3360 @@ func (t *Tape) runCode(code []sinstr) (bad bool) {
 				v[in.n] = t
 				v[in.n+1] = z / float64(t)
 				if !finite(y) || !finite(t) {
+					bad = true
+				}
+			case kFusedEnd + 0: // + + + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 1: // + + + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 2: // + + + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 3: // + + + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 4: // + + + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 5: // + + + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 6: // + + - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 7: // + + - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 8: // + + - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 9: // + + - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 10: // + + - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 11: // + + - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 12: // + + * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 13: // + + * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 14: // + + * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 15: // + + * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 16: // + + * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 17: // + + * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 18: // + + / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 19: // + + / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 20: // + + / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 21: // + + / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 22: // + + / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 23: // + + / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 24: // + - + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 25: // + - + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 26: // + - + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 27: // + - + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 28: // + - + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 29: // + - + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 30: // + - - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 31: // + - - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 32: // + - - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 33: // + - - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 34: // + - - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 35: // + - - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 36: // + - * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 37: // + - * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 38: // + - * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 39: // + - * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 40: // + - * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 41: // + - * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 42: // + - / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 43: // + - / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 44: // + - / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 45: // + - / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 46: // + - / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 47: // + - / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 48: // + * + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 49: // + * + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 50: // + * + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 51: // + * + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 52: // + * + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 53: // + * + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 54: // + * - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 55: // + * - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 56: // + * - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 57: // + * - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 58: // + * - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 59: // + * - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 60: // + * * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 61: // + * * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 62: // + * * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 63: // + * * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 64: // + * * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 65: // + * * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 66: // + * / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 67: // + * / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 68: // + * / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 69: // + * / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 70: // + * / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 71: // + * / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 72: // + / + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 73: // + / + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 74: // + / + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 75: // + / + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 76: // + / + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 77: // + / + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 78: // + / - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 79: // + / - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 80: // + / - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 81: // + / - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 82: // + / - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 83: // + / - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 84: // + / * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 85: // + / * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 86: // + / * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 87: // + / * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 88: // + / * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 89: // + / * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 90: // + / / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(c) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 91: // + / / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(c) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 92: // + / / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(t1) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 93: // + / / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t1) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 94: // + / / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(d) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 95: // + / / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a + b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(d) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 96: // - + + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 97: // - + + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 98: // - + + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 99: // - + + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 100: // - + + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 101: // - + + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 102: // - + - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 103: // - + - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 104: // - + - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 105: // - + - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 106: // - + - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 107: // - + - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 108: // - + * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 109: // - + * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 110: // - + * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 111: // - + * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 112: // - + * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 113: // - + * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 114: // - + / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 115: // - + / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 116: // - + / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 117: // - + / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 118: // - + / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 119: // - + / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 120: // - - + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 121: // - - + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 122: // - - + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 123: // - - + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 124: // - - + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 125: // - - + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 126: // - - - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 127: // - - - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 128: // - - - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 129: // - - - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 130: // - - - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 131: // - - - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 132: // - - * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 133: // - - * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 134: // - - * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 135: // - - * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 136: // - - * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 137: // - - * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 138: // - - / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 139: // - - / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 140: // - - / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 141: // - - / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 142: // - - / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 143: // - - / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 144: // - * + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 145: // - * + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 146: // - * + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 147: // - * + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 148: // - * + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 149: // - * + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 150: // - * - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 151: // - * - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 152: // - * - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 153: // - * - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 154: // - * - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 155: // - * - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 156: // - * * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 157: // - * * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 158: // - * * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 159: // - * * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 160: // - * * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 161: // - * * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 162: // - * / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 163: // - * / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 164: // - * / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 165: // - * / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 166: // - * / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 167: // - * / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 168: // - / + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 169: // - / + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 170: // - / + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 171: // - / + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 172: // - / + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 173: // - / + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 174: // - / - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 175: // - / - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 176: // - / - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 177: // - / - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 178: // - / - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 179: // - / - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 180: // - / * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 181: // - / * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 182: // - / * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 183: // - / * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 184: // - / * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 185: // - / * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 186: // - / / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(c) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 187: // - / / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(c) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 188: // - / / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(t1) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 189: // - / / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t1) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 190: // - / / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(d) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 191: // - / / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a - b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(d) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 192: // * + + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 193: // * + + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 194: // * + + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 195: // * + + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 196: // * + + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 197: // * + + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 198: // * + - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 199: // * + - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 200: // * + - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 201: // * + - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 202: // * + - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 203: // * + - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 204: // * + * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 205: // * + * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 206: // * + * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 207: // * + * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 208: // * + * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 209: // * + * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 210: // * + / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 211: // * + / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 212: // * + / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 213: // * + / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 214: // * + / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 215: // * + / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 216: // * - + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 217: // * - + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 218: // * - + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 219: // * - + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 220: // * - + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 221: // * - + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 222: // * - - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 223: // * - - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 224: // * - - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 225: // * - - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 226: // * - - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 227: // * - - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 228: // * - * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 229: // * - * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 230: // * - * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 231: // * - * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 232: // * - * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 233: // * - * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 234: // * - / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 235: // * - / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 236: // * - / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 237: // * - / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 238: // * - / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 239: // * - / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 240: // * * + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 241: // * * + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 242: // * * + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+			case kFusedEnd + 243: // * * + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+			case kFusedEnd + 244: // * * + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+			case kFusedEnd + 245: // * * + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+			case kFusedEnd + 246: // * * - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 247: // * * - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 248: // * * - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+			case kFusedEnd + 249: // * * - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+			case kFusedEnd + 250: // * * - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+			case kFusedEnd + 251: // * * - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+			case kFusedEnd + 252: // * * * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 253: // * * * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 254: // * * * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+			case kFusedEnd + 255: // * * * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+			case kFusedEnd + 256: // * * * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+			case kFusedEnd + 257: // * * * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+			case kFusedEnd + 258: // * * / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 259: // * * / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 260: // * * / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 261: // * * / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 262: // * * / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 263: // * * / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 264: // * / + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 265: // * / + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 266: // * / + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 267: // * / + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 268: // * / + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 269: // * / + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 270: // * / - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 271: // * / - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 272: // * / - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 273: // * / - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 274: // * / - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 275: // * / - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 276: // * / * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 277: // * / * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 278: // * / * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 279: // * / * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 280: // * / * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 281: // * / * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 282: // * / / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(c) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 283: // * / / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(c) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 284: // * / / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(t1) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 285: // * / / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(t1) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 286: // * / / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(d) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 287: // * / / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a * b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(d) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 288: // / + + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 289: // / + + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 290: // / + + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 291: // / + + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 292: // / + + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 293: // / + + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 294: // / + - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 295: // / + - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 296: // / + - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 297: // / + - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 298: // / + - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 299: // / + - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 300: // / + * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 301: // / + * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 302: // / + * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 303: // / + * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 304: // / + * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 305: // / + * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 306: // / + / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 307: // / + / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) + c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 308: // / + / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 309: // / + / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 310: // / + / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 311: // / + / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c + d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 312: // / - + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 313: // / - + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 314: // / - + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 315: // / - + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 316: // / - + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 317: // / - + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 318: // / - - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 319: // / - - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 320: // / - - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 321: // / - - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 322: // / - - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 323: // / - - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 324: // / - * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 325: // / - * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 326: // / - * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 327: // / - * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 328: // / - * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 329: // / - * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 330: // / - / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 331: // / - / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) - c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 332: // / - / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 333: // / - / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 334: // / - / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 335: // / - / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c - d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 336: // / * + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 337: // / * + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 338: // / * + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 339: // / * + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 340: // / * + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 341: // / * + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 342: // / * - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 343: // / * - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 344: // / * - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 345: // / * - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 346: // / * - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 347: // / * - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 348: // / * * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 349: // / * * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 350: // / * * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 351: // / * * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 352: // / * * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 353: // / * * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(b) {
+					bad = true
+				}
+			case kFusedEnd + 354: // / * / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 355: // / * / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) * c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 356: // / * / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 357: // / * / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 358: // / * / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(b) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 359: // / * / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c * d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 360: // / / + LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) || !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 361: // / / + LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) || !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 362: // / / + RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + d
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 363: // / / + RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d + float64(t2)
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 364: // / / + TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) + float64(t2)
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 365: // / / + TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) + float64(t1)
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 366: // / / - LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) || !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 367: // / / - LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) || !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 368: // / / - RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - d
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 369: // / / - RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d - float64(t2)
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 370: // / / - TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) - float64(t2)
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 371: // / / - TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) - float64(t1)
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 372: // / / * LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) || !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 373: // / / * LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) || !finite(c) {
+					bad = true
+				}
+			case kFusedEnd + 374: // / / * RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * d
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 375: // / / * RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d * float64(t2)
+				if !finite(b) || !finite(t1) {
+					bad = true
+				}
+			case kFusedEnd + 376: // / / * TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) * float64(t2)
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 377: // / / * TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) * float64(t1)
+				if !finite(b) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 378: // / / / LL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(c) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 379: // / / / LR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := float64(t1) / c
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(c) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 380: // / / / RL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / d
+				if !finite(b) || !finite(t1) || !finite(d) {
+					bad = true
+				}
+			case kFusedEnd + 381: // / / / RR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / float64(t1)
+				v[in.n+1] = t2
+				v[in.n+2] = d / float64(t2)
+				if !finite(b) || !finite(t1) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 382: // / / / TL
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t1) / float64(t2)
+				if !finite(b) || !finite(d) || !finite(t2) {
+					bad = true
+				}
+			case kFusedEnd + 383: // / / / TR
+				a, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]
+				t1 := a / b
+				v[in.n] = t1
+				t2 := c / d
+				v[in.n+1] = t2
+				v[in.n+2] = float64(t2) / float64(t1)
+				if !finite(b) || !finite(d) || !finite(t1) {
 					bad = true
 				}
 			default:

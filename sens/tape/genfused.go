@@ -17,6 +17,9 @@ import (
 
 var ops = []struct{ name, sym string }{{"Add", "+"}, {"Sub", "-"}, {"Mul", "*"}, {"Div", "/"}}
 
+// shapes of a triple (see tripleKind).
+var shapes = []string{"LL", "LR", "RL", "RR", "TL", "TR"}
+
 func main() {
 	var b bytes.Buffer
 	p := func(format string, args ...any) { fmt.Fprintf(&b, format, args...) }
@@ -48,6 +51,23 @@ func main() {
 		p("\tcase Op%s:\n\t\treturn %d\n", o.name, i)
 	}
 	p("\t}\n\tpanic(\"tape: not a fusable operation\")\n}\n\n")
+
+	// Triples, for the scalar code only: kinds from kFusedEnd on.
+	p("// Triples of + - * / in the scalar code: t1 = a op1 b, then a chain\n")
+	p("// t2 = t1 op2 c or c op2 t1, t3 = t2 op3 d or d op3 t2 (shapes LL, LR, RL,\n")
+	p("// RR: where t1 and t2 stand), or a tree t2 = c op2 d, t3 = t1 op3 t2 (TL)\n")
+	p("// or t2 op3 t1 (TR). tripleKind(op1, op2, op3, shape) numbers them.\n")
+	p("func tripleKind(op1, op2, op3 Op, shape int) kind {\n")
+	p("\treturn kFusedEnd + kind(((fusedIndex(op1)*4+fusedIndex(op2))*4+fusedIndex(op3))*%d+shape)\n}\n\n", len(shapes))
+	p("// The shapes of triples.\nconst (\n")
+	for i, sh := range shapes {
+		if i == 0 {
+			p("\tshape%s = iota\n", sh)
+		} else {
+			p("\tshape%s\n", sh)
+		}
+	}
+	p(")\n\n")
 
 	// Batched kernels.
 	p("// runFused runs a fused instruction over a block: o = (x op1 y) op2 z or\n")
@@ -104,6 +124,51 @@ func main() {
 				}
 				if len(conds) > 0 {
 					p("\t\t\tif %s {\n\t\t\t\tbad = true\n\t\t\t}\n", strings.Join(conds, " || "))
+				}
+			}
+		}
+	}
+	for i1, o1 := range ops {
+		for i2, o2 := range ops {
+			for i3, o3 := range ops {
+				for si, sh := range shapes {
+					p("\t\tcase kFusedEnd + %d: // %s %s %s %s\n", ((i1*4+i2)*4+i3)*len(shapes)+si, o1.sym, o2.sym, o3.sym, sh)
+					p("\t\t\ta, b, c, d := v[in.a], v[in.b], v[in.c], v[in.d]\n")
+					p("\t\t\tt1 := a %s b\n\t\t\tv[in.n] = t1\n", o1.sym)
+					var conds []string
+					if o1.sym == "/" {
+						conds = append(conds, "!finite(b)")
+					}
+					var x2, y2, x3, y3 string
+					switch sh {
+					case "LL", "LR":
+						x2, y2 = "float64(t1)", "c"
+					case "RL", "RR":
+						x2, y2 = "c", "float64(t1)"
+					default:
+						x2, y2 = "c", "d"
+					}
+					switch sh {
+					case "LL", "RL":
+						x3, y3 = "float64(t2)", "d"
+					case "LR", "RR":
+						x3, y3 = "d", "float64(t2)"
+					case "TL":
+						x3, y3 = "float64(t1)", "float64(t2)"
+					default:
+						x3, y3 = "float64(t2)", "float64(t1)"
+					}
+					p("\t\t\tt2 := %s %s %s\n\t\t\tv[in.n+1] = t2\n", x2, o2.sym, y2)
+					p("\t\t\tv[in.n+2] = %s %s %s\n", x3, o3.sym, y3)
+					if o2.sym == "/" {
+						conds = append(conds, "!finite("+strings.TrimSuffix(strings.TrimPrefix(y2, "float64("), ")")+")")
+					}
+					if o3.sym == "/" {
+						conds = append(conds, "!finite("+strings.TrimSuffix(strings.TrimPrefix(y3, "float64("), ")")+")")
+					}
+					if len(conds) > 0 {
+						p("\t\t\tif %s {\n\t\t\t\tbad = true\n\t\t\t}\n", strings.Join(conds, " || "))
+					}
 				}
 			}
 		}

@@ -37,7 +37,7 @@ type plan struct {
 }
 
 // kind is a plan instruction's kernel.
-type kind uint8
+type kind uint16
 
 const (
 	kOp     kind = iota // any operation, by vecOp or its own loop

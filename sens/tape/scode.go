@@ -14,9 +14,9 @@ import (
 // sinstr is an instruction of the scalar code: node n = k(a, b, c), or, for
 // a fused kind, node n = a op1 b and node n+1 = n op2 c (or c op2 n).
 type sinstr struct {
-	k       kind // an Op as a kind, or a fused kind
-	n       uint32
-	a, b, c uint32 // unsigned: a load of one folds its address (MOVL idx)
+	k          kind // an Op as a kind, or a fused kind
+	n          uint32
+	a, b, c, d uint32 // unsigned: a load of one folds its address (MOVL idx)
 }
 
 // scalarCode is a program's scalar code, built once.
@@ -76,6 +76,11 @@ func (p *tapeProg) buildCode() []sinstr {
 			continue
 		}
 		k32 := int32(k)
+		if in, ok := p.triple(k, uses, arith); ok {
+			code = append(code, in)
+			k += 2
+			continue
+		}
 		if arith(op) && uses[k] == 1 && k+1 < n {
 			if op2 := p.ops[k+1]; arith(op2) && (p.a[k+1] == k32) != (p.b[k+1] == k32) {
 				left := p.a[k+1] == k32
@@ -97,11 +102,53 @@ func (p *tapeProg) buildCode() []sinstr {
 	return code
 }
 
+// triple returns the fused instruction of nodes k, k+1 and k+2 when all
+// three are + - * /, k and k+1 have one use each, and they form a chain
+// (k+1 reads k, k+2 reads k+1) or a tree (k+2 reads k and k+1), each read
+// on one side only.
+func (p *tapeProg) triple(k int, uses []uint8, arith func(Op) bool) (sinstr, bool) {
+	if k+2 >= len(p.ops) || uses[k] != 1 || uses[k+1] != 1 ||
+		!arith(p.ops[k]) || !arith(p.ops[k+1]) || !arith(p.ops[k+2]) {
+		return sinstr{}, false
+	}
+	k0, k1 := int32(k), int32(k+1)
+	a1, b1, a2, b2 := p.a[k+1], p.b[k+1], p.a[k+2], p.b[k+2]
+	in := sinstr{n: uint32(k), a: uint32(p.a[k]), b: uint32(p.b[k])}
+	shape := -1
+	other := func(x, y, self int32) int32 { // the operand that is not self
+		if x == self {
+			return y
+		}
+		return x
+	}
+	switch {
+	case (a1 == k0) != (b1 == k0) && (a2 == k1) != (b2 == k1) && a2 != k0 && b2 != k0:
+		shape = shapeLL
+		if b1 == k0 {
+			shape = shapeRL
+		}
+		if b2 == k1 {
+			shape++ // LR or RR
+		}
+		in.c, in.d = uint32(other(a1, b1, k0)), uint32(other(a2, b2, k1))
+	case a1 != k0 && b1 != k0 && (a2 == k0 && b2 == k1 || a2 == k1 && b2 == k0):
+		shape = shapeTL
+		if a2 == k1 {
+			shape = shapeTR
+		}
+		in.c, in.d = uint32(a1), uint32(b1)
+	default:
+		return sinstr{}, false
+	}
+	in.k = tripleKind(p.ops[k], p.ops[k+1], p.ops[k+2], shape)
+	return in, true
+}
+
 // CodeBytes returns the memory of the compiled forms of the tape, shared by
 // its clones: the scalar code and the batched plans built so far.
 func (t *Tape) CodeBytes() int {
 	p := t.p
-	b := 20 * len(p.sc.code)
+	b := 24 * len(p.sc.code)
 	p.cache.mu.Lock()
 	for _, pl := range p.cache.plans {
 		b += 40*len(pl.code) + 8*len(pl.consts) + 4*len(pl.inputs)
