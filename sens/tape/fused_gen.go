@@ -87,6 +87,22 @@ const (
 	shapeTR
 )
 
+// Sequences in the scalar code: two or three consecutive nodes of + - * /
+// run as one instruction, in order (node n+1 may read node n), each from
+// its own operands. seqKind numbers them.
+func seqKind(ops ...Op) kind {
+	k := 0
+	for _, op := range ops {
+		k = k*4 + fusedIndex(op)
+	}
+	if len(ops) == 3 {
+		k += 16
+	}
+	return kSeq + kind(k)
+}
+
+const kSeq = kFusedEnd + 384
+
 // runFused runs a fused instruction over a block: o = (x op1 y) op2 z or
 // z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN
 // when one of them is not finite.
@@ -3945,6 +3961,590 @@ func (t *Tape) runCode(code []sinstr) (bad bool) {
 				v[in.n+2] = float64(t2) / float64(t1)
 				if !finite(b) || !finite(d) || !finite(t1) {
 					bad = true
+				}
+			case kSeq + 0: // + +
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+			case kSeq + 1: // + -
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+			case kSeq + 2: // + *
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+			case kSeq + 3: // + /
+				v[in.n+0] = v[in.a] + v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 4: // - +
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+			case kSeq + 5: // - -
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+			case kSeq + 6: // - *
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+			case kSeq + 7: // - /
+				v[in.n+0] = v[in.a] - v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 8: // * +
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+			case kSeq + 9: // * -
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+			case kSeq + 10: // * *
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+			case kSeq + 11: // * /
+				v[in.n+0] = v[in.a] * v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 12: // / +
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] + v[in.d]
+			case kSeq + 13: // / -
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] - v[in.d]
+			case kSeq + 14: // / *
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] * v[in.d]
+			case kSeq + 15: // / /
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 16: // + + +
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 17: // + + -
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 18: // + + *
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 19: // + + /
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 20: // + - +
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 21: // + - -
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 22: // + - *
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 23: // + - /
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 24: // + * +
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 25: // + * -
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 26: // + * *
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 27: // + * /
+				v[in.n+0] = v[in.a] + v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 28: // + / +
+				v[in.n+0] = v[in.a] + v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 29: // + / -
+				v[in.n+0] = v[in.a] + v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 30: // + / *
+				v[in.n+0] = v[in.a] + v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 31: // + / /
+				v[in.n+0] = v[in.a] + v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 32: // - + +
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 33: // - + -
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 34: // - + *
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 35: // - + /
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 36: // - - +
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 37: // - - -
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 38: // - - *
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 39: // - - /
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 40: // - * +
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 41: // - * -
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 42: // - * *
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 43: // - * /
+				v[in.n+0] = v[in.a] - v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 44: // - / +
+				v[in.n+0] = v[in.a] - v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 45: // - / -
+				v[in.n+0] = v[in.a] - v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 46: // - / *
+				v[in.n+0] = v[in.a] - v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 47: // - / /
+				v[in.n+0] = v[in.a] - v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 48: // * + +
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 49: // * + -
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 50: // * + *
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 51: // * + /
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] + v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 52: // * - +
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 53: // * - -
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 54: // * - *
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 55: // * - /
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] - v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 56: // * * +
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 57: // * * -
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 58: // * * *
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 59: // * * /
+				v[in.n+0] = v[in.a] * v[in.b]
+				v[in.n+1] = v[in.c] * v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 60: // * / +
+				v[in.n+0] = v[in.a] * v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 61: // * / -
+				v[in.n+0] = v[in.a] * v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 62: // * / *
+				v[in.n+0] = v[in.a] * v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 63: // * / /
+				v[in.n+0] = v[in.a] * v[in.b]
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 64: // / + +
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 65: // / + -
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 66: // / + *
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] + v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 67: // / + /
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] + v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 68: // / - +
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 69: // / - -
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 70: // / - *
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] - v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 71: // / - /
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] - v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 72: // / * +
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 73: // / * -
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 74: // / * *
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] * v[in.d]
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 75: // / * /
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+1] = v[in.c] * v[in.d]
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+			case kSeq + 76: // / / +
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] + v[in.f]
+			case kSeq + 77: // / / -
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] - v[in.f]
+			case kSeq + 78: // / / *
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				v[in.n+2] = v[in.e] * v[in.f]
+			case kSeq + 79: // / / /
+				if d := v[in.b]; true {
+					v[in.n+0] = v[in.a] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.d]; true {
+					v[in.n+1] = v[in.c] / d
+					if !finite(d) {
+						bad = true
+					}
+				}
+				if d := v[in.f]; true {
+					v[in.n+2] = v[in.e] / d
+					if !finite(d) {
+						bad = true
+					}
 				}
 			default:
 				goto slow

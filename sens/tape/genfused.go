@@ -69,6 +69,15 @@ func main() {
 	}
 	p(")\n\n")
 
+	// Sequences: two or three consecutive + - * / nodes, whatever they
+	// read, for the scalar code only.
+	p("// Sequences in the scalar code: two or three consecutive nodes of + - * /\n")
+	p("// run as one instruction, in order (node n+1 may read node n), each from\n")
+	p("// its own operands. seqKind numbers them.\n")
+	p("func seqKind(ops ...Op) kind {\n\tk := 0\n\tfor _, op := range ops {\n\t\tk = k*4 + fusedIndex(op)\n\t}\n")
+	p("\tif len(ops) == 3 {\n\t\tk += 16\n\t}\n\treturn kSeq + kind(k)\n}\n\n")
+	p("const kSeq = kFusedEnd + %d\n\n", 64*len(shapes))
+
 	// Batched kernels.
 	p("// runFused runs a fused instruction over a block: o = (x op1 y) op2 z or\n")
 	p("// z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN\n// when one of them is not finite.\n")
@@ -169,6 +178,37 @@ func main() {
 					if len(conds) > 0 {
 						p("\t\t\tif %s {\n\t\t\t\tbad = true\n\t\t\t}\n", strings.Join(conds, " || "))
 					}
+				}
+			}
+		}
+	}
+	operands := []string{"a", "b", "c", "d", "e", "f"}
+	for n := 2; n <= 3; n++ {
+		count := 16
+		if n == 3 {
+			count = 64
+		}
+		for idx := 0; idx < count; idx++ {
+			var seq []int
+			for j, x := 0, idx; j < n; j++ {
+				seq = append([]int{x % 4}, seq...)
+				x /= 4
+			}
+			off := idx
+			if n == 3 {
+				off += 16
+			}
+			var syms []string
+			for _, o := range seq {
+				syms = append(syms, ops[o].sym)
+			}
+			p("\t\tcase kSeq + %d: // %s\n", off, strings.Join(syms, " "))
+			for j, o := range seq {
+				x, y := operands[2*j], operands[2*j+1]
+				if ops[o].sym == "/" {
+					p("\t\t\tif d := v[in.%s]; true {\n\t\t\t\tv[in.n+%d] = v[in.%s] / d\n\t\t\t\tif !finite(d) {\n\t\t\t\t\tbad = true\n\t\t\t\t}\n\t\t\t}\n", y, j, x)
+				} else {
+					p("\t\t\tv[in.n+%d] = v[in.%s] %s v[in.%s]\n", j, x, ops[o].sym, y)
 				}
 			}
 		}

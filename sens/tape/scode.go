@@ -14,9 +14,9 @@ import (
 // sinstr is an instruction of the scalar code: node n = k(a, b, c), or, for
 // a fused kind, node n = a op1 b and node n+1 = n op2 c (or c op2 n).
 type sinstr struct {
-	k          kind // an Op as a kind, or a fused kind
-	n          uint32
-	a, b, c, d uint32 // unsigned: a load of one folds its address (MOVL idx)
+	k                kind // an Op as a kind, or a fused kind
+	n                uint32
+	a, b, c, d, e, f uint32 // unsigned: a load of one folds its address (MOVL idx)
 }
 
 // scalarCode is a program's scalar code, built once.
@@ -65,8 +65,10 @@ func (p *tapeProg) buildCode() []sinstr {
 			use(p.b[k])
 		}
 	}
+	isOut := make([]bool, n)
 	for _, o := range p.outs {
 		uses[o] = 2
+		isOut[o] = true
 	}
 	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
 	code := make([]sinstr, 0, n-p.start)
@@ -92,6 +94,22 @@ func (p *tapeProg) buildCode() []sinstr {
 				k++
 				continue
 			}
+		}
+		if arith(op) && k+1 < n && arith(p.ops[k+1]) && !isOut[k] {
+			// A sequence: node k+1 reads node k from memory, if at all.
+			// It stops at an output, where an output's code ends.
+			in := sinstr{n: uint32(k), a: uint32(p.a[k]), b: uint32(p.b[k]), c: uint32(p.a[k+1]), d: uint32(p.b[k+1])}
+			if k+2 < n && arith(p.ops[k+2]) && !isOut[k+1] {
+				in.e, in.f = uint32(p.a[k+2]), uint32(p.b[k+2])
+				in.k = seqKind(op, p.ops[k+1], p.ops[k+2])
+				code = append(code, in)
+				k += 2
+				continue
+			}
+			in.k = seqKind(op, p.ops[k+1])
+			code = append(code, in)
+			k++
+			continue
 		}
 		in := sinstr{k: kind(op), n: uint32(k), a: uint32(p.a[k]), b: uint32(p.b[k])}
 		if op.Arity() == 3 {
@@ -148,7 +166,7 @@ func (p *tapeProg) triple(k int, uses []uint8, arith func(Op) bool) (sinstr, boo
 // its clones: the scalar code and the batched plans built so far.
 func (t *Tape) CodeBytes() int {
 	p := t.p
-	b := 24 * len(p.sc.code)
+	b := 32 * len(p.sc.code)
 	p.cache.mu.Lock()
 	for _, pl := range p.cache.plans {
 		b += 40*len(pl.code) + 8*len(pl.consts) + 4*len(pl.inputs)
