@@ -103,6 +103,29 @@ func seqKind(ops ...Op) kind {
 
 const kSeq = kFusedEnd + 384
 
+// kCmpIf + j: a comparison (cmps[j]) and the if that reads it as its
+// condition, in the scalar code.
+const kCmpIf = kSeq + 80
+
+// cmpIndex returns j of kCmpIf + j for a comparison, -1 for another operation.
+func cmpIndex(op Op) int {
+	switch op {
+	case OpLt:
+		return 0
+	case OpLe:
+		return 1
+	case OpGt:
+		return 2
+	case OpGe:
+		return 3
+	case OpEq:
+		return 4
+	case OpNe:
+		return 5
+	}
+	return -1
+}
+
 // runFused runs a fused instruction over a block: o = (x op1 y) op2 z or
 // z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN
 // when one of them is not finite.
@@ -4545,6 +4568,72 @@ func (t *Tape) runCode(code []sinstr) (bad bool) {
 					if !finite(d) {
 						bad = true
 					}
+				}
+			case kCmpIf + 0: // if(x < y, t, e)
+				x, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]
+				v[in.n] = b2f(x < y)
+				r := e
+				if x < y {
+					r = t
+				}
+				v[in.n+1] = r
+				if !finite(x) || !finite(y) || !finite(t) || !finite(e) {
+					bad = true
+				}
+			case kCmpIf + 1: // if(x <= y, t, e)
+				x, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]
+				v[in.n] = b2f(x <= y)
+				r := e
+				if x <= y {
+					r = t
+				}
+				v[in.n+1] = r
+				if !finite(x) || !finite(y) || !finite(t) || !finite(e) {
+					bad = true
+				}
+			case kCmpIf + 2: // if(x > y, t, e)
+				x, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]
+				v[in.n] = b2f(x > y)
+				r := e
+				if x > y {
+					r = t
+				}
+				v[in.n+1] = r
+				if !finite(x) || !finite(y) || !finite(t) || !finite(e) {
+					bad = true
+				}
+			case kCmpIf + 3: // if(x >= y, t, e)
+				x, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]
+				v[in.n] = b2f(x >= y)
+				r := e
+				if x >= y {
+					r = t
+				}
+				v[in.n+1] = r
+				if !finite(x) || !finite(y) || !finite(t) || !finite(e) {
+					bad = true
+				}
+			case kCmpIf + 4: // if(x == y, t, e)
+				x, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]
+				v[in.n] = b2f(x == y)
+				r := e
+				if x == y {
+					r = t
+				}
+				v[in.n+1] = r
+				if !finite(x) || !finite(y) || !finite(t) || !finite(e) {
+					bad = true
+				}
+			case kCmpIf + 5: // if(x != y, t, e)
+				x, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]
+				v[in.n] = b2f(x != y)
+				r := e
+				if x != y {
+					r = t
+				}
+				v[in.n+1] = r
+				if !finite(x) || !finite(y) || !finite(t) || !finite(e) {
+					bad = true
 				}
 			default:
 				goto slow

@@ -17,6 +17,9 @@ import (
 
 var ops = []struct{ name, sym string }{{"Add", "+"}, {"Sub", "-"}, {"Mul", "*"}, {"Div", "/"}}
 
+// cmps are the comparisons fused with an if.
+var cmps = []struct{ name, sym string }{{"Lt", "<"}, {"Le", "<="}, {"Gt", ">"}, {"Ge", ">="}, {"Eq", "=="}, {"Ne", "!="}}
+
 // shapes of a triple (see tripleKind).
 var shapes = []string{"LL", "LR", "RL", "RR", "TL", "TR"}
 
@@ -77,6 +80,14 @@ func main() {
 	p("func seqKind(ops ...Op) kind {\n\tk := 0\n\tfor _, op := range ops {\n\t\tk = k*4 + fusedIndex(op)\n\t}\n")
 	p("\tif len(ops) == 3 {\n\t\tk += 16\n\t}\n\treturn kSeq + kind(k)\n}\n\n")
 	p("const kSeq = kFusedEnd + %d\n\n", 64*len(shapes))
+	p("// kCmpIf + j: a comparison (cmps[j]) and the if that reads it as its\n")
+	p("// condition, in the scalar code.\nconst kCmpIf = kSeq + 80\n\n")
+	p("// cmpIndex returns j of kCmpIf + j for a comparison, -1 for another operation.\n")
+	p("func cmpIndex(op Op) int {\n\tswitch op {\n")
+	for j, c := range cmps {
+		p("\tcase Op%s:\n\t\treturn %d\n", c.name, j)
+	}
+	p("\t}\n\treturn -1\n}\n\n")
 
 	// Batched kernels.
 	p("// runFused runs a fused instruction over a block: o = (x op1 y) op2 z or\n")
@@ -212,6 +223,12 @@ func main() {
 				}
 			}
 		}
+	}
+	for j, c := range cmps {
+		p("\t\tcase kCmpIf + %d: // if(x %s y, t, e)\n", j, c.sym)
+		p("\t\t\tx, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]\n")
+		p("\t\t\tv[in.n] = b2f(x %s y)\n\t\t\tr := e\n\t\t\tif x %s y {\n\t\t\t\tr = t\n\t\t\t}\n\t\t\tv[in.n+1] = r\n", c.sym, c.sym)
+		p("\t\t\tif !finite(x) || !finite(y) || !finite(t) || !finite(e) {\n\t\t\t\tbad = true\n\t\t\t}\n")
 	}
 	p("%s", scalarTail)
 

@@ -95,6 +95,14 @@ func (p *tapeProg) buildCode() []sinstr {
 				continue
 			}
 		}
+		if j := cmpIndex(op); j >= 0 && k+2 < n && !isOut[k] && p.ops[k+1] == OpIf &&
+			p.a[k+1] == k32 && p.b[k+1] != k32 && p.a[k+2] != k32 {
+			// A comparison and the if whose condition it is.
+			code = append(code, sinstr{k: kCmpIf + kind(j), n: uint32(k), a: uint32(p.a[k]), b: uint32(p.b[k]),
+				c: uint32(p.b[k+1]), d: uint32(p.a[k+2])})
+			k++ // the if; its opArg is skipped below
+			continue
+		}
 		if arith(op) && k+1 < n && arith(p.ops[k+1]) && !isOut[k] {
 			// A sequence: node k+1 reads node k from memory, if at all.
 			// It stops at an output, where an output's code ends.

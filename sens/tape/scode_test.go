@@ -1,0 +1,99 @@
+package tape
+
+import (
+	"math"
+	"testing"
+)
+
+// The scalar code's fused kinds against run, the plain loop over the nodes
+// (the reference pass): every comparison with the if that reads it, and
+// chains, trees and sequences of + - * / over every pair and triple of
+// operations, at points with ties, zeros, ±Inf and NaN, values and domain
+// errors alike.
+func TestScalarCodeKindsAgreeWithRun(t *testing.T) {
+	special := []float64{0, 1, -2.5, 3, math.Inf(1), math.Inf(-1), math.NaN()}
+	arith := []Op{OpAdd, OpSub, OpMul, OpDiv}
+	var tapes []*Tape
+	for _, cmp := range []Op{OpLt, OpLe, OpGt, OpGe, OpEq, OpNe} {
+		b := NewBuilder()
+		x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
+		tapes = append(tapes, b.Tape(b.Call(OpIf, b.Binary(cmp, x, y), u, w)))
+	}
+	for _, o1 := range arith {
+		for _, o2 := range arith {
+			for _, o3 := range arith {
+				for shape := range 8 {
+					b := NewBuilder()
+					x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
+					var out Slot
+					switch shape {
+					case 0, 1, 2, 3: // chains: t1 on either side, t2 on either side
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, t1, u)
+						if shape&1 != 0 {
+							t2 = b.Binary(o2, u, t1)
+						}
+						out = b.Binary(o3, t2, w)
+						if shape&2 != 0 {
+							out = b.Binary(o3, w, t2)
+						}
+					case 4, 5: // trees
+						t1, t2 := b.Binary(o1, x, y), b.Binary(o2, u, w)
+						out = b.Binary(o3, t1, t2)
+						if shape == 5 {
+							out = b.Binary(o3, t2, t1)
+						}
+					case 6: // a sequence of three: t1 and t2 used again
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, t1, u)
+						t3 := b.Binary(o3, t2, w)
+						out = b.Binary(OpMax, b.Binary(OpMax, t3, t1), t2)
+					case 7: // a sequence of two: t1 used again
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, u, t1)
+						out = b.Binary(OpMax, t2, t1)
+					}
+					tapes = append(tapes, b.Tape(out))
+				}
+			}
+		}
+	}
+	var rows [][]float64
+	for _, a := range special {
+		for _, b := range special {
+			for _, c := range special {
+				for _, d := range special {
+					rows = append(rows, []float64{a, b, c, d})
+				}
+			}
+		}
+	}
+	same := func(x, y float64) bool {
+		return math.Float64bits(x) == math.Float64bits(y) || math.IsNaN(x) && math.IsNaN(y)
+	}
+	for f, tp := range tapes {
+		for _, x := range rows {
+			want, _, wantErr := evalRef(tp, [][]float64{x}, 0)
+			got, err := tp.Eval(x, 0)
+			var de *DomainError
+			if err != nil {
+				de = err.(*DomainError)
+			}
+			switch {
+			case (de == nil) != (wantErr == nil):
+				t.Fatalf("tape %d at %v: error %v, reference %v", f, x, err, wantErr)
+			case de != nil:
+				if de.Pos != wantErr.Pos || de.Op != wantErr.Op || de.Msg != wantErr.Msg || len(de.Args) != len(wantErr.Args) {
+					t.Fatalf("tape %d at %v: error %v, reference %v", f, x, de, wantErr)
+				}
+				for j := range de.Args {
+					if !same(de.Args[j], wantErr.Args[j]) {
+						t.Fatalf("tape %d at %v: error %v (args %v), reference %v (args %v)", f, x, de, de.Args, wantErr, wantErr.Args)
+					}
+				}
+			case math.Float64bits(got) != math.Float64bits(want[0]):
+				t.Fatalf("tape %d at %v: %v, reference %v", f, x, got, want[0])
+			}
+		}
+	}
+}
