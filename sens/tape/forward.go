@@ -21,7 +21,21 @@ func (t *Tape) loadInputs(x []float64) {
 // returns nil, or a *DomainError if any output would be NaN or ±Inf.
 func (t *Tape) Forward(x []float64) error {
 	t.loadInputs(x)
-	bad := t.exec(-1, len(t.vals))
+	var bad bool
+	if t.code != nil {
+		bad = t.runCode(t.code)
+	} else {
+		bad = t.exec(-1, len(t.vals))
+	}
+	if !bad {
+		ok := true
+		for _, o := range t.p.outs {
+			ok = ok && finite(t.vals[o])
+		}
+		if ok {
+			return nil
+		}
+	}
 	return t.check(bad, t.p.outs, t.vals, 1, 0, -1)
 }
 
@@ -32,6 +46,9 @@ func (t *Tape) Eval(x []float64, i int) (float64, error) {
 	t.loadInputs(x)
 	out := t.p.outs[i]
 	bad := t.exec(i, t.p.end(i))
+	if !bad && finite(t.vals[out]) {
+		return t.vals[out], nil
+	}
 	if err := t.check(bad, t.p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
 		return math.NaN(), err
 	}
@@ -48,7 +65,11 @@ func (p *tapeProg) end(i int) int { return p.endNode(int(p.outs[i])) }
 // tape's operations are all ones it knows, else by run.
 func (t *Tape) exec(i, stop int) bool {
 	if t.p.plannable() {
-		return t.runCode(t.p.scode(i))
+		c := t.p.scode(i)
+		if i < 0 {
+			t.code = c
+		}
+		return t.runCode(c)
 	}
 	return t.run(stop)
 }

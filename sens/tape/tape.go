@@ -64,6 +64,8 @@ type Tape struct {
 	bsum  []float64 // the partial sums of a sum loop over a block (vec.go)
 
 	ps *planState // the batched forward pass's plan and rows
+
+	code []sinstr // the program's scalar code of every node, once Forward has run it
 }
 
 // NumInputs returns the number of inputs.
