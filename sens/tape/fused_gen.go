@@ -128,184 +128,217 @@ func cmpIndex(op Op) int {
 
 // runFused runs a fused instruction over a block: o = (x op1 y) op2 z or
 // z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN
-// when one of them is not finite.
+// when one of them is not finite. o may be one of x, y and z: a lane reads
+// its operands before it writes.
 func runFused(k kind, o, x, y, z []float64) (chk float64) {
 	x, y, z = x[:len(o)], y[:len(o)], z[:len(o)]
 	switch k {
 	case kFAddAddL:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = t + z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = t + d
 		}
 	case kFAddAddR:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = z[s] + t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = d + t
 		}
 	case kFAddSubL:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = t - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = t - d
 		}
 	case kFAddSubR:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = z[s] - t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = d - t
 		}
 	case kFAddMulL:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = t * z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = t * d
 		}
 	case kFAddMulR:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = z[s] * t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = d * t
 		}
 	case kFAddDivL:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = t / z[s]
-			chk += z[s] - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = t / d
+			chk += d - d
 		}
 	case kFAddDivR:
 		for s := range o {
-			t := float64(x[s] + y[s])
-			o[s] = z[s] / t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u + w)
+			o[s] = d / t
 			chk += t - t
 		}
 	case kFSubAddL:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = t + z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = t + d
 		}
 	case kFSubAddR:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = z[s] + t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = d + t
 		}
 	case kFSubSubL:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = t - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = t - d
 		}
 	case kFSubSubR:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = z[s] - t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = d - t
 		}
 	case kFSubMulL:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = t * z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = t * d
 		}
 	case kFSubMulR:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = z[s] * t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = d * t
 		}
 	case kFSubDivL:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = t / z[s]
-			chk += z[s] - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = t / d
+			chk += d - d
 		}
 	case kFSubDivR:
 		for s := range o {
-			t := float64(x[s] - y[s])
-			o[s] = z[s] / t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u - w)
+			o[s] = d / t
 			chk += t - t
 		}
 	case kFMulAddL:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = t + z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = t + d
 		}
 	case kFMulAddR:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = z[s] + t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = d + t
 		}
 	case kFMulSubL:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = t - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = t - d
 		}
 	case kFMulSubR:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = z[s] - t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = d - t
 		}
 	case kFMulMulL:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = t * z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = t * d
 		}
 	case kFMulMulR:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = z[s] * t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = d * t
 		}
 	case kFMulDivL:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = t / z[s]
-			chk += z[s] - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = t / d
+			chk += d - d
 		}
 	case kFMulDivR:
 		for s := range o {
-			t := float64(x[s] * y[s])
-			o[s] = z[s] / t
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u * w)
+			o[s] = d / t
 			chk += t - t
 		}
 	case kFDivAddL:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = t + z[s]
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = t + d
+			chk += w - w
 		}
 	case kFDivAddR:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = z[s] + t
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = d + t
+			chk += w - w
 		}
 	case kFDivSubL:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = t - z[s]
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = t - d
+			chk += w - w
 		}
 	case kFDivSubR:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = z[s] - t
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = d - t
+			chk += w - w
 		}
 	case kFDivMulL:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = t * z[s]
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = t * d
+			chk += w - w
 		}
 	case kFDivMulR:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = z[s] * t
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = d * t
+			chk += w - w
 		}
 	case kFDivDivL:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = t / z[s]
-			chk += y[s] - y[s]
-			chk += z[s] - z[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = t / d
+			chk += w - w
+			chk += d - d
 		}
 	case kFDivDivR:
 		for s := range o {
-			t := float64(x[s] / y[s])
-			o[s] = z[s] / t
-			chk += y[s] - y[s]
+			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
+			t := float64(u / w)
+			o[s] = d / t
+			chk += w - w
 			chk += t - t
 		}
 	}

@@ -91,24 +91,25 @@ func main() {
 
 	// Batched kernels.
 	p("// runFused runs a fused instruction over a block: o = (x op1 y) op2 z or\n")
-	p("// z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN\n// when one of them is not finite.\n")
+	p("// z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN\n// when one of them is not finite. o may be one of x, y and z: a lane reads\n// its operands before it writes.\n")
 	p("func runFused(k kind, o, x, y, z []float64) (chk float64) {\n")
 	p("\tx, y, z = x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
 	for _, o1 := range ops {
 		for _, o2 := range ops {
 			for _, side := range []string{"L", "R"} {
 				p("\tcase kF%s%s%s:\n\t\tfor s := range o {\n", o1.name, o2.name, side)
-				p("\t\t\tt := float64(x[s] %s y[s])\n", o1.sym)
+				p("\t\t\tu, w, d := x[s], y[s], z[s] // first: o may be x, y or z\n")
+				p("\t\t\tt := float64(u %s w)\n", o1.sym)
 				if side == "L" {
-					p("\t\t\to[s] = t %s z[s]\n", o2.sym)
+					p("\t\t\to[s] = t %s d\n", o2.sym)
 				} else {
-					p("\t\t\to[s] = z[s] %s t\n", o2.sym)
+					p("\t\t\to[s] = d %s t\n", o2.sym)
 				}
 				if o1.sym == "/" {
-					p("\t\t\tchk += y[s] - y[s]\n")
+					p("\t\t\tchk += w - w\n")
 				}
 				if o2.sym == "/" && side == "L" {
-					p("\t\t\tchk += z[s] - z[s]\n")
+					p("\t\t\tchk += d - d\n")
 				}
 				if o2.sym == "/" && side == "R" {
 					p("\t\t\tchk += t - t\n")
