@@ -4681,3 +4681,8029 @@ func (t *Tape) runCode(code []sinstr) (bad bool) {
 	}
 	return bad
 }
+
+// reverseCode runs the reverse pass of Reverse over code, the scalar code of
+// the nodes up to the output's, last instruction first, with the values
+// v of the last pass and the adjoints g (the output's set, the others
+// zero). Operations it has no case for go to revNode.
+func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
+	for i := len(code) - 1; i >= 0; i-- {
+		in := &code[i]
+		switch in.k {
+		case kind(OpAdd):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += gk
+			g[in.b] += gk
+		case kind(OpSub):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += gk
+			g[in.b] -= gk
+		case kind(OpMul):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += gk * v[in.b]
+			g[in.b] += gk * v[in.a]
+		case kind(OpDiv):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			qgk := gk / v[in.b]
+			g[in.a] += qgk
+			g[in.b] -= qgk * v[in.n]
+		case kind(OpNeg):
+			if gk := g[in.n]; gk != 0 {
+				g[in.a] -= gk
+			}
+		case kind(OpIf):
+			if gk := g[in.n]; gk != 0 {
+				if v[in.a] != 0 {
+					g[in.b] += gk
+				} else {
+					g[in.c] += gk
+				}
+			}
+		case kind(OpLt), kind(OpLe), kind(OpGt), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr), kind(OpNot), kind(OpFloor), kind(OpCeil), kind(OpRound):
+		case kCmpIf, kCmpIf + 1, kCmpIf + 2, kCmpIf + 3, kCmpIf + 4, kCmpIf + 5:
+			if gk := g[in.n+1]; gk != 0 {
+				if v[in.n] != 0 {
+					g[in.c] += gk
+				} else {
+					g[in.d] += gk
+				}
+			}
+		case kFAddAddL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] += g1
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddAddR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := g1
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddSubL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] -= g1
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddSubR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := -(g1)
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddMulL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1 * v[in.c]
+			g[in.c] += g1 * v[in.n]
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddMulR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1 * v[in.n]
+			g0 := g1 * v[in.c]
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddDivL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.c]
+			g0 := qg1
+			g[in.c] -= qg1 * v[in.n+1]
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFAddDivR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.n]
+			g[in.c] += qg1
+			g0 := -(qg1 * v[in.n+1])
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFSubAddL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] += g1
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubAddR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := g1
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubSubL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] -= g1
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubSubR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := -(g1)
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubMulL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1 * v[in.c]
+			g[in.c] += g1 * v[in.n]
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubMulR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1 * v[in.n]
+			g0 := g1 * v[in.c]
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubDivL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.c]
+			g0 := qg1
+			g[in.c] -= qg1 * v[in.n+1]
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFSubDivR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.n]
+			g[in.c] += qg1
+			g0 := -(qg1 * v[in.n+1])
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFMulAddL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] += g1
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulAddR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := g1
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulSubL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] -= g1
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulSubR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := -(g1)
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulMulL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1 * v[in.c]
+			g[in.c] += g1 * v[in.n]
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulMulR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1 * v[in.n]
+			g0 := g1 * v[in.c]
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulDivL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.c]
+			g0 := qg1
+			g[in.c] -= qg1 * v[in.n+1]
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFMulDivR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.n]
+			g[in.c] += qg1
+			g0 := -(qg1 * v[in.n+1])
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFDivAddL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] += g1
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivAddR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := g1
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivSubL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1
+			g[in.c] -= g1
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivSubR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1
+			g0 := -(g1)
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivMulL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g0 := g1 * v[in.c]
+			g[in.c] += g1 * v[in.n]
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivMulR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			g[in.c] += g1 * v[in.n]
+			g0 := g1 * v[in.c]
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivDivL:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.c]
+			g0 := qg1
+			g[in.c] -= qg1 * v[in.n+1]
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFDivDivR:
+			g1 := g[in.n+1]
+			if g1 == 0 {
+				continue
+			}
+			qg1 := g1 / v[in.n]
+			g[in.c] += qg1
+			g0 := -(qg1 * v[in.n+1])
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 0: // + + + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 1: // + + + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 2: // + + + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 3: // + + + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 4: // + + + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 5: // + + + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 6: // + + - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 7: // + + - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 8: // + + - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 9: // + + - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 10: // + + - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 11: // + + - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 12: // + + * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 13: // + + * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 14: // + + * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 15: // + + * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 16: // + + * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 17: // + + * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 18: // + + / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 19: // + + / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 20: // + + / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 21: // + + / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 22: // + + / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 23: // + + / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 24: // + - + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 25: // + - + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 26: // + - + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 27: // + - + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 28: // + - + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 29: // + - + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 30: // + - - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 31: // + - - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 32: // + - - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 33: // + - - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 34: // + - - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 35: // + - - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 36: // + - * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 37: // + - * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 38: // + - * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 39: // + - * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 40: // + - * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 41: // + - * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 42: // + - / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 43: // + - / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 44: // + - / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 45: // + - / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 46: // + - / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 47: // + - / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 48: // + * + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 49: // + * + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 50: // + * + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 51: // + * + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 52: // + * + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 53: // + * + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 54: // + * - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 55: // + * - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 56: // + * - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 57: // + * - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 58: // + * - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 59: // + * - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 60: // + * * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 61: // + * * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 62: // + * * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 63: // + * * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 64: // + * * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 65: // + * * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 66: // + * / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 67: // + * / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 68: // + * / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 69: // + * / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 70: // + * / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 71: // + * / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 72: // + / + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 73: // + / + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 74: // + / + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 75: // + / + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 76: // + / + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 77: // + / + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 78: // + / - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 79: // + / - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 80: // + / - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 81: // + / - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 82: // + / - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 83: // + / - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 84: // + / * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 85: // + / * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 86: // + / * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 87: // + / * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 88: // + / * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 89: // + / * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 90: // + / / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 91: // + / / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 92: // + / / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 93: // + / / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] += g0
+					}
+				}
+			}
+		case kFusedEnd + 94: // + / / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 95: // + / / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] += g0
+			}
+		case kFusedEnd + 96: // - + + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 97: // - + + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 98: // - + + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 99: // - + + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 100: // - + + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 101: // - + + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 102: // - + - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 103: // - + - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 104: // - + - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 105: // - + - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 106: // - + - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 107: // - + - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 108: // - + * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 109: // - + * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 110: // - + * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 111: // - + * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 112: // - + * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 113: // - + * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 114: // - + / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 115: // - + / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 116: // - + / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 117: // - + / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 118: // - + / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 119: // - + / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 120: // - - + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 121: // - - + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 122: // - - + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 123: // - - + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 124: // - - + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 125: // - - + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 126: // - - - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 127: // - - - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 128: // - - - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 129: // - - - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 130: // - - - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 131: // - - - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 132: // - - * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 133: // - - * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 134: // - - * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 135: // - - * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 136: // - - * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 137: // - - * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 138: // - - / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 139: // - - / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 140: // - - / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 141: // - - / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 142: // - - / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 143: // - - / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 144: // - * + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 145: // - * + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 146: // - * + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 147: // - * + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 148: // - * + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 149: // - * + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 150: // - * - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 151: // - * - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 152: // - * - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 153: // - * - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 154: // - * - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 155: // - * - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 156: // - * * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 157: // - * * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 158: // - * * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 159: // - * * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 160: // - * * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 161: // - * * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 162: // - * / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 163: // - * / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 164: // - * / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 165: // - * / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 166: // - * / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 167: // - * / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 168: // - / + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 169: // - / + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 170: // - / + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 171: // - / + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 172: // - / + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 173: // - / + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 174: // - / - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 175: // - / - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 176: // - / - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 177: // - / - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 178: // - / - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 179: // - / - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 180: // - / * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 181: // - / * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 182: // - / * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 183: // - / * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 184: // - / * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 185: // - / * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 186: // - / / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 187: // - / / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 188: // - / / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 189: // - / / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0
+						g[in.b] -= g0
+					}
+				}
+			}
+		case kFusedEnd + 190: // - / / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 191: // - / / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0
+				g[in.b] -= g0
+			}
+		case kFusedEnd + 192: // * + + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 193: // * + + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 194: // * + + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 195: // * + + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 196: // * + + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 197: // * + + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 198: // * + - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 199: // * + - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 200: // * + - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 201: // * + - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 202: // * + - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 203: // * + - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 204: // * + * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 205: // * + * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 206: // * + * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 207: // * + * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 208: // * + * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 209: // * + * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 210: // * + / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 211: // * + / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 212: // * + / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 213: // * + / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 214: // * + / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 215: // * + / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 216: // * - + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 217: // * - + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 218: // * - + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 219: // * - + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 220: // * - + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 221: // * - + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 222: // * - - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 223: // * - - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 224: // * - - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 225: // * - - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 226: // * - - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 227: // * - - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 228: // * - * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 229: // * - * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 230: // * - * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 231: // * - * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 232: // * - * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 233: // * - * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 234: // * - / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 235: // * - / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 236: // * - / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 237: // * - / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 238: // * - / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 239: // * - / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 240: // * * + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 241: // * * + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 242: // * * + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 243: // * * + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 244: // * * + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 245: // * * + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 246: // * * - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 247: // * * - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 248: // * * - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 249: // * * - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 250: // * * - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 251: // * * - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 252: // * * * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 253: // * * * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 254: // * * * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 255: // * * * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 256: // * * * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 257: // * * * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 258: // * * / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 259: // * * / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 260: // * * / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 261: // * * / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 262: // * * / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 263: // * * / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 264: // * / + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 265: // * / + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 266: // * / + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 267: // * / + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 268: // * / + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 269: // * / + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 270: // * / - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 271: // * / - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 272: // * / - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 273: // * / - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 274: // * / - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 275: // * / - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 276: // * / * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 277: // * / * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 278: // * / * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 279: // * / * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 280: // * / * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 281: // * / * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 282: // * / / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 283: // * / / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 284: // * / / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 285: // * / / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						g[in.a] += g0 * v[in.b]
+						g[in.b] += g0 * v[in.a]
+					}
+				}
+			}
+		case kFusedEnd + 286: // * / / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 287: // * / / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				g[in.a] += g0 * v[in.b]
+				g[in.b] += g0 * v[in.a]
+			}
+		case kFusedEnd + 288: // / + + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 289: // / + + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 290: // / + + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 291: // / + + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 292: // / + + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 293: // / + + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 294: // / + - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 295: // / + - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 296: // / + - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 297: // / + - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 298: // / + - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 299: // / + - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 300: // / + * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 301: // / + * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 302: // / + * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 303: // / + * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 304: // / + * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 305: // / + * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 306: // / + / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 307: // / + / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] += g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 308: // / + / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 309: // / + / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 310: // / + / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 311: // / + / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] += g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 312: // / - + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 313: // / - + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 314: // / - + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 315: // / - + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 316: // / - + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 317: // / - + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 318: // / - - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 319: // / - - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 320: // / - - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 321: // / - - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 322: // / - - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 323: // / - - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 324: // / - * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 325: // / - * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 326: // / - * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 327: // / - * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 328: // / - * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 329: // / - * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 330: // / - / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 331: // / - / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1
+					g[in.c] -= g1
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 332: // / - / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 333: // / - / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1
+					g0 := -(g1)
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 334: // / - / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 335: // / - / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1
+				g[in.d] -= g1
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 336: // / * + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 337: // / * + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 338: // / * + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 339: // / * + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 340: // / * + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 341: // / * + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 342: // / * - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 343: // / * - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 344: // / * - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 345: // / * - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 346: // / * - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 347: // / * - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 348: // / * * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 349: // / * * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 350: // / * * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 351: // / * * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 352: // / * * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 353: // / * * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 354: // / * / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 355: // / * / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g0 := g1 * v[in.c]
+					g[in.c] += g1 * v[in.n]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 356: // / * / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 357: // / * / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					g[in.c] += g1 * v[in.n]
+					g0 := g1 * v[in.c]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 358: // / * / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 359: // / * / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				g[in.c] += g1 * v[in.d]
+				g[in.d] += g1 * v[in.c]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 360: // / / + LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 361: // / / + LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 362: // / / + RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] += g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 363: // / / + RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 364: // / / + TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 365: // / / + TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := g2
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 366: // / / - LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 367: // / / - LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 368: // / / - RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g[in.d] -= g2
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 369: // / / - RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2
+			g1 := -(g2)
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 370: // / / - TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2
+			g1 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 371: // / / - TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2
+			g0 := -(g2)
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 372: // / / * LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 373: // / / * LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 374: // / / * RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.d]
+			g[in.d] += g2 * v[in.n+1]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 375: // / / * RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g[in.d] += g2 * v[in.n+1]
+			g1 := g2 * v[in.d]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 376: // / / * TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g0 := g2 * v[in.n+1]
+			g1 := g2 * v[in.n]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 377: // / / * TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			g1 := g2 * v[in.n]
+			g0 := g2 * v[in.n+1]
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 378: // / / / LL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 379: // / / / LR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.c]
+					g0 := qg1
+					g[in.c] -= qg1 * v[in.n+1]
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 380: // / / / RL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.d]
+			g1 := qg2
+			g[in.d] -= qg2 * v[in.n+2]
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 381: // / / / RR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g[in.d] += qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				{
+					qg1 := g1 / v[in.n]
+					g[in.c] += qg1
+					g0 := -(qg1 * v[in.n+1])
+					if g0 != 0 {
+						qg0 := g0 / v[in.b]
+						g[in.a] += qg0
+						g[in.b] -= qg0 * v[in.n]
+					}
+				}
+			}
+		case kFusedEnd + 382: // / / / TL
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n+1]
+			g0 := qg2
+			g1 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kFusedEnd + 383: // / / / TR
+			g2 := g[in.n+2]
+			if g2 == 0 {
+				continue
+			}
+			qg2 := g2 / v[in.n]
+			g1 := qg2
+			g0 := -(qg2 * v[in.n+2])
+			if g1 != 0 {
+				qg1 := g1 / v[in.d]
+				g[in.c] += qg1
+				g[in.d] -= qg1 * v[in.n+1]
+			}
+			if g0 != 0 {
+				qg0 := g0 / v[in.b]
+				g[in.a] += qg0
+				g[in.b] -= qg0 * v[in.n]
+			}
+		case kSeq + 0:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 1:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 2:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 3:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 4:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 5:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 6:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 7:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 8:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 9:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 10:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 11:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 12:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 13:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 14:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 15:
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 16:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 17:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 18:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 19:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 20:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 21:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 22:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 23:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 24:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 25:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 26:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 27:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 28:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 29:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 30:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 31:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] += gs0
+			}
+		case kSeq + 32:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 33:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 34:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 35:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 36:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 37:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 38:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 39:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 40:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 41:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 42:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 43:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 44:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 45:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 46:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 47:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0
+				g[in.b] -= gs0
+			}
+		case kSeq + 48:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 49:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 50:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 51:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 52:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 53:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 54:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 55:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 56:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 57:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 58:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 59:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 60:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 61:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 62:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 63:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.a] += gs0 * v[in.b]
+				g[in.b] += gs0 * v[in.a]
+			}
+		case kSeq + 64:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 65:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 66:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 67:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] += gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 68:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 69:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 70:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 71:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1
+				g[in.d] -= gs1
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 72:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 73:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 74:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 75:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.c] += gs1 * v[in.d]
+				g[in.d] += gs1 * v[in.c]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 76:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] += gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 77:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2
+				g[in.f] -= gs2
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 78:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.e] += gs2 * v[in.f]
+				g[in.f] += gs2 * v[in.e]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		case kSeq + 79:
+			if gs2 := g[in.n+2]; gs2 != 0 {
+				qgs2 := gs2 / v[in.f]
+				g[in.e] += qgs2
+				g[in.f] -= qgs2 * v[in.n+2]
+			}
+			if gs1 := g[in.n+1]; gs1 != 0 {
+				qgs1 := gs1 / v[in.d]
+				g[in.c] += qgs1
+				g[in.d] -= qgs1 * v[in.n+1]
+			}
+			if gs0 := g[in.n+0]; gs0 != 0 {
+				qgs0 := gs0 / v[in.b]
+				g[in.a] += qgs0
+				g[in.b] -= qgs0 * v[in.n+0]
+			}
+		default:
+			if gk := g[in.n]; gk != 0 {
+				p.revNode(g, v, int(in.n), gk)
+			}
+		}
+	}
+}

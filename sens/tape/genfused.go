@@ -232,6 +232,7 @@ func main() {
 		p("\t\t\tif !finite(x) || !finite(y) || !finite(t) || !finite(e) {\n\t\t\t\tbad = true\n\t\t\t}\n")
 	}
 	p("%s", scalarTail)
+	genReverse(p)
 
 	src, err := format.Source(b.Bytes())
 	if err != nil {
@@ -378,3 +379,162 @@ const scalarTail = `		default:
 	return bad
 }
 `
+
+// An operand in the reverse pass's generator: a tape slot (an instruction
+// field such as "in.a"), or an intermediate of a fused instruction, whose
+// adjoint lives in the register reg and whose value is v[node].
+type ropnd struct{ slot, reg, node string }
+
+func (o ropnd) val() string {
+	if o.reg != "" {
+		return "v[" + o.node + "]"
+	}
+	return "v[" + o.slot + "]"
+}
+
+// genReverse writes reverseCode: the reverse pass over the scalar code, the
+// same operations on the same adjoints in the same order as Reverse's loop
+// over the nodes, but where a fused instruction's intermediate has one use,
+// its adjoint is a local variable: 0 + x is x (a zero adjoint is skipped
+// either way, whatever its sign).
+func genReverse(p func(string, ...any)) {
+	// add sends e to the adjoint of o: a register is set, a slot added to.
+	add := func(o ropnd, e string, minus bool) {
+		switch {
+		case o.reg != "" && minus:
+			p("\t\t\t%s := -(%s)\n", o.reg, e)
+		case o.reg != "":
+			p("\t\t\t%s := %s\n", o.reg, e)
+		case minus:
+			p("\t\t\tg[%s] -= %s\n", o.slot, e)
+		default:
+			p("\t\t\tg[%s] += %s\n", o.slot, e)
+		}
+	}
+	// node writes the reverse of node self = x op y with adjoint gk (a
+	// variable), as Reverse's loop does.
+	node := func(op, gk string, x, y ropnd, self string) {
+		switch op {
+		case "+":
+			add(x, gk, false)
+			add(y, gk, false)
+		case "-":
+			add(x, gk, false)
+			add(y, gk, true)
+		case "*":
+			add(x, gk+" * "+y.val(), false)
+			add(y, gk+" * "+x.val(), false)
+		case "/":
+			p("\t\t\tq%s := %s / %s\n", gk, gk, y.val())
+			add(x, "q"+gk, false)
+			add(y, "q"+gk+" * "+self, true)
+		}
+	}
+	// A register's declaration may be unused when the node is skipped;
+	// each node is in a block of its own.
+	p("\n// reverseCode runs the reverse pass of Reverse over code, the scalar code of\n")
+	p("// the nodes up to the output's, last instruction first, with the values\n")
+	p("// v of the last pass and the adjoints g (the output's set, the others\n")
+	p("// zero). Operations it has no case for go to revNode.\n")
+	p("func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {\n")
+	p("\tfor i := len(code) - 1; i >= 0; i-- {\n\t\tin := &code[i]\n\t\tswitch in.k {\n")
+	for _, o := range ops {
+		p("\t\tcase kind(Op%s):\n\t\t\tgk := g[in.n]\n\t\t\tif gk == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n", o.name)
+		node(o.sym, "gk", ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, "v[in.n]")
+	}
+	p("\t\tcase kind(OpNeg):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.a] -= gk\n\t\t\t}\n")
+	p("\t\tcase kind(OpIf):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tif v[in.a] != 0 {\n\t\t\t\t\tg[in.b] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t}\n\t\t\t}\n")
+	p("\t\tcase kind(OpLt), kind(OpLe), kind(OpGt), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr), kind(OpNot), kind(OpFloor), kind(OpCeil), kind(OpRound):\n")
+	p("\t\tcase kCmpIf, kCmpIf + 1, kCmpIf + 2, kCmpIf + 3, kCmpIf + 4, kCmpIf + 5:\n")
+	p("\t\t\tif gk := g[in.n+1]; gk != 0 {\n\t\t\t\tif v[in.n] != 0 {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.d] += gk\n\t\t\t\t}\n\t\t\t}\n")
+	// Pairs: t = a op1 b at in.n, then in.n+1 = t op2 c (L) or c op2 t.
+	for _, o1 := range ops {
+		for _, o2 := range ops {
+			for _, side := range []string{"L", "R"} {
+				p("\t\tcase kF%s%s%s:\n", o1.name, o2.name, side)
+				p("\t\t\tg1 := g[in.n+1]\n\t\t\tif g1 == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n")
+				t := ropnd{reg: "g0", node: "in.n"}
+				c := ropnd{slot: "in.c"}
+				if side == "L" {
+					node(o2.sym, "g1", t, c, "v[in.n+1]")
+				} else {
+					node(o2.sym, "g1", c, t, "v[in.n+1]")
+				}
+				p("\t\t\tif g0 != 0 {\n")
+				node(o1.sym, "g0", ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, "v[in.n]")
+				p("\t\t\t}\n")
+			}
+		}
+	}
+	// Triples.
+	for i1, o1 := range ops {
+		for i2, o2 := range ops {
+			for i3, o3 := range ops {
+				for si, sh := range shapes {
+					p("\t\tcase kFusedEnd + %d: // %s %s %s %s\n", ((i1*4+i2)*4+i3)*len(shapes)+si, o1.sym, o2.sym, o3.sym, sh)
+					p("\t\t\tg2 := g[in.n+2]\n\t\t\tif g2 == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n")
+					a, b, c, d := ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, ropnd{slot: "in.c"}, ropnd{slot: "in.d"}
+					t1 := ropnd{reg: "g0", node: "in.n"}
+					t2 := ropnd{reg: "g1", node: "in.n+1"}
+					switch sh {
+					case "LL", "RL":
+						node(o3.sym, "g2", t2, d, "v[in.n+2]")
+					case "LR", "RR":
+						node(o3.sym, "g2", d, t2, "v[in.n+2]")
+					case "TL":
+						node(o3.sym, "g2", t1, t2, "v[in.n+2]")
+					default:
+						node(o3.sym, "g2", t2, t1, "v[in.n+2]")
+					}
+					if sh == "TL" || sh == "TR" {
+						p("\t\t\tif g1 != 0 {\n")
+						node(o2.sym, "g1", c, d, "v[in.n+1]")
+						p("\t\t\t}\n")
+					} else {
+						p("\t\t\tif g1 != 0 {\n")
+						p("\t\t\t\t{\n")
+						if sh == "LL" || sh == "LR" {
+							node(o2.sym, "g1", t1, c, "v[in.n+1]")
+						} else {
+							node(o2.sym, "g1", c, t1, "v[in.n+1]")
+						}
+						p("\t\t\t\t\tif g0 != 0 {\n")
+						node(o1.sym, "g0", a, b, "v[in.n]")
+						p("\t\t\t\t\t}\n\t\t\t\t}\n\t\t\t}\n")
+						continue
+					}
+					p("\t\t\tif g0 != 0 {\n")
+					node(o1.sym, "g0", a, b, "v[in.n]")
+					p("\t\t\t}\n")
+				}
+			}
+		}
+	}
+	// Sequences: each node by itself, last first.
+	operands := []string{"in.a", "in.b", "in.c", "in.d", "in.e", "in.f"}
+	for n := 2; n <= 3; n++ {
+		count := 16
+		if n == 3 {
+			count = 64
+		}
+		for idx := 0; idx < count; idx++ {
+			var seq []int
+			for j, x := 0, idx; j < n; j++ {
+				seq = append([]int{x % 4}, seq...)
+				x /= 4
+			}
+			off := idx
+			if n == 3 {
+				off += 16
+			}
+			p("\t\tcase kSeq + %d:\n", off)
+			for j := n - 1; j >= 0; j-- {
+				gk := fmt.Sprintf("gs%d", j)
+				p("\t\t\tif %s := g[in.n+%d]; %s != 0 {\n", gk, j, gk)
+				node(ops[seq[j]].sym, gk, ropnd{slot: operands[2*j]}, ropnd{slot: operands[2*j+1]}, fmt.Sprintf("v[in.n+%d]", j))
+				p("\t\t\t}\n")
+			}
+		}
+	}
+	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tp.revNode(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
+}

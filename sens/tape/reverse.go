@@ -22,6 +22,19 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 	g := t.adj[:end]
 	p.clearAdjoints(t.adj, dst, end) // the inputs' too: an output that is an input ends below them
 	g[out] = 1
+	if p.plannable() {
+		p.reverseCode(p.scode(i), g, v)
+	} else {
+		p.reverseNodes(g, v, t.adj, dst, out)
+	}
+	p.inputAdjoints(dst, g)
+	return dst
+}
+
+// reverseNodes runs the reverse pass node by node, from out down: the pass
+// of a tape with loop nodes, and the reference for reverseCode.
+func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int) {
+	end := len(g)
 	ops := p.ops[:end]
 	as := p.a[:end]
 	bs := p.b[:end]
@@ -47,64 +60,87 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 			g[b] -= q * v[k]
 		case OpNeg:
 			g[a] -= gk
-		case OpSquare:
-			g[a] += 2 * gk * v[a]
-		case OpSqrt:
-			g[a] += gk * 0.5 / v[k]
-		case OpExp:
-			g[a] += gk * v[k]
-		case OpLn:
-			g[a] += gk / v[a]
-		case OpAbs:
-			if x := v[a]; x > 0 {
-				g[a] += gk
-			} else if x < 0 {
-				g[a] -= gk
-			}
-		case OpMin:
-			if v[a] <= v[b] {
-				g[a] += gk
-			} else {
-				g[b] += gk
-			}
-		case OpMax:
-			if v[a] >= v[b] {
-				g[a] += gk
-			} else {
-				g[b] += gk
-			}
-		case OpIf:
-			if v[a] != 0 {
-				g[b] += gk
-			} else {
-				g[as[k+1]] += gk
-			}
-		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
 		case opLoop: // vec.go
-			p.loopReverse(v, t.adj, dst, k)
+			p.loopReverse(v, adj, dst, k)
 		case opLane: // the first lane with an adjoint runs its loop node
 			h := int(a)
-			p.loopReverse(v, t.adj, dst, h)
+			p.loopReverse(v, adj, dst, h)
 			k = h
 		default:
-			op := ops[k]
-			ar := op.Arity()
-			var z float64
-			if ar == 3 {
-				z = v[as[k+1]]
-			}
-			dx, dy, dz := deriv(op, v[a], v[b], z, v[k])
-			g[a] += gk * dx
-			if ar >= 2 && op != OpPowConst {
-				g[b] += gk * dy
-			}
-			if ar == 3 {
-				g[as[k+1]] += gk * dz
-			}
+			p.revNode(g, v, k, gk)
 		}
 	}
-	p.inputAdjoints(dst, g)
-	return dst
+}
+
+// revNode sends the adjoint gk of node k, not a loop node, to its
+// operands: the operations that Reverse's loop and reverseCode have no case
+// of their own for.
+func (p *tapeProg) revNode(g, v []float64, k int, gk float64) {
+	a, b := p.a[k], p.b[k]
+	switch op := p.ops[k]; op {
+	case OpAdd:
+		g[a] += gk
+		g[b] += gk
+	case OpSub:
+		g[a] += gk
+		g[b] -= gk
+	case OpMul:
+		g[a] += gk * v[b]
+		g[b] += gk * v[a]
+	case OpDiv:
+		q := gk / v[b]
+		g[a] += q
+		g[b] -= q * v[k]
+	case OpNeg:
+		g[a] -= gk
+	case OpSquare:
+		g[a] += 2 * gk * v[a]
+	case OpSqrt:
+		g[a] += gk * 0.5 / v[k]
+	case OpExp:
+		g[a] += gk * v[k]
+	case OpLn:
+		g[a] += gk / v[a]
+	case OpAbs:
+		if x := v[a]; x > 0 {
+			g[a] += gk
+		} else if x < 0 {
+			g[a] -= gk
+		}
+	case OpMin:
+		if v[a] <= v[b] {
+			g[a] += gk
+		} else {
+			g[b] += gk
+		}
+	case OpMax:
+		if v[a] >= v[b] {
+			g[a] += gk
+		} else {
+			g[b] += gk
+		}
+	case OpIf:
+		if v[a] != 0 {
+			g[b] += gk
+		} else {
+			g[p.a[k+1]] += gk
+		}
+	case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
+	default:
+		ar := op.Arity()
+		var z float64
+		if ar == 3 {
+			z = v[p.a[k+1]]
+		}
+		dx, dy, dz := deriv(op, v[a], v[b], z, v[k])
+		g[a] += gk * dx
+		if ar >= 2 && op != OpPowConst {
+			g[b] += gk * dy
+		}
+		if ar == 3 {
+			g[p.a[k+1]] += gk * dz
+		}
+	}
 }
 
 // Gradient evaluates output i at x and its gradient: dst[j] = ∂ output_i

@@ -2,6 +2,7 @@ package tape
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -12,52 +13,7 @@ import (
 // errors alike.
 func TestScalarCodeKindsAgreeWithRun(t *testing.T) {
 	special := []float64{0, 1, -2.5, 3, math.Inf(1), math.Inf(-1), math.NaN()}
-	arith := []Op{OpAdd, OpSub, OpMul, OpDiv}
-	var tapes []*Tape
-	for _, cmp := range []Op{OpLt, OpLe, OpGt, OpGe, OpEq, OpNe} {
-		b := NewBuilder()
-		x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
-		tapes = append(tapes, b.Tape(b.Call(OpIf, b.Binary(cmp, x, y), u, w)))
-	}
-	for _, o1 := range arith {
-		for _, o2 := range arith {
-			for _, o3 := range arith {
-				for shape := range 8 {
-					b := NewBuilder()
-					x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
-					var out Slot
-					switch shape {
-					case 0, 1, 2, 3: // chains: t1 on either side, t2 on either side
-						t1 := b.Binary(o1, x, y)
-						t2 := b.Binary(o2, t1, u)
-						if shape&1 != 0 {
-							t2 = b.Binary(o2, u, t1)
-						}
-						out = b.Binary(o3, t2, w)
-						if shape&2 != 0 {
-							out = b.Binary(o3, w, t2)
-						}
-					case 4, 5: // trees
-						t1, t2 := b.Binary(o1, x, y), b.Binary(o2, u, w)
-						out = b.Binary(o3, t1, t2)
-						if shape == 5 {
-							out = b.Binary(o3, t2, t1)
-						}
-					case 6: // a sequence of three: t1 and t2 used again
-						t1 := b.Binary(o1, x, y)
-						t2 := b.Binary(o2, t1, u)
-						t3 := b.Binary(o3, t2, w)
-						out = b.Binary(OpMax, b.Binary(OpMax, t3, t1), t2)
-					case 7: // a sequence of two: t1 used again
-						t1 := b.Binary(o1, x, y)
-						t2 := b.Binary(o2, u, t1)
-						out = b.Binary(OpMax, t2, t1)
-					}
-					tapes = append(tapes, b.Tape(out))
-				}
-			}
-		}
-	}
+	tapes := kindTapes()
 	var rows [][]float64
 	for _, a := range special {
 		for _, b := range special {
@@ -93,6 +49,105 @@ func TestScalarCodeKindsAgreeWithRun(t *testing.T) {
 				}
 			case math.Float64bits(got) != math.Float64bits(want[0]):
 				t.Fatalf("tape %d at %v: %v, reference %v", f, x, got, want[0])
+			}
+		}
+	}
+}
+
+// kindTapes returns tapes whose scalar code holds every fused kind: a
+// comparison and its if, chains, trees and sequences of + - * / over every
+// pair and triple of operations.
+func kindTapes() []*Tape {
+	arith := []Op{OpAdd, OpSub, OpMul, OpDiv}
+	var tapes []*Tape
+	for _, cmp := range []Op{OpLt, OpLe, OpGt, OpGe, OpEq, OpNe} {
+		b := NewBuilder()
+		x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
+		tapes = append(tapes, b.Tape(b.Call(OpIf, b.Binary(cmp, x, y), u, w)))
+	}
+	for _, o1 := range arith {
+		for _, o2 := range arith {
+			for _, o3 := range arith {
+				for shape := range 10 {
+					b := NewBuilder()
+					x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
+					var out Slot
+					switch shape {
+					case 0, 1, 2, 3: // chains: t1 on either side, t2 on either side
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, t1, u)
+						if shape&1 != 0 {
+							t2 = b.Binary(o2, u, t1)
+						}
+						out = b.Binary(o3, t2, w)
+						if shape&2 != 0 {
+							out = b.Binary(o3, w, t2)
+						}
+					case 4, 5: // trees
+						t1, t2 := b.Binary(o1, x, y), b.Binary(o2, u, w)
+						out = b.Binary(o3, t1, t2)
+						if shape == 5 {
+							out = b.Binary(o3, t2, t1)
+						}
+					case 6: // a sequence of three: t1 and t2 used again
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, t1, u)
+						t3 := b.Binary(o3, t2, w)
+						out = b.Binary(OpMax, b.Binary(OpMax, t3, t1), t2)
+					case 7: // a sequence of two: t1 used again
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, u, t1)
+						out = b.Binary(OpMax, t2, t1)
+					case 8, 9: // pairs: t1 on either side
+						t1 := b.Binary(o1, x, y)
+						t2 := b.Binary(o2, t1, u)
+						if shape == 9 {
+							t2 = b.Binary(o2, u, t1)
+						}
+						out = b.Binary(OpMax, t2, w)
+					}
+					tapes = append(tapes, b.Tape(out))
+				}
+			}
+		}
+	}
+	return tapes
+}
+
+// reverseCode, the reverse pass over the scalar code, against reverseNodes,
+// the pass node by node, to the last bit (NaN for NaN): on the fused kinds'
+// tapes and on random formulas, at random points.
+func TestReverseCodeAgreesWithNodes(t *testing.T) {
+	tapes := kindTapes()
+	g := &rgen{rng: rand.New(rand.NewPCG(31, 7)), nIn: 3}
+	for f := 0; f < 1500; f++ {
+		tapes = append(tapes, g.expr(5).tape(3, int32(f)))
+	}
+	rng := rand.New(rand.NewPCG(8, 9))
+	same := func(x, y float64) bool {
+		return math.Float64bits(x) == math.Float64bits(y) || math.IsNaN(x) && math.IsNaN(y)
+	}
+	for f, tp := range tapes {
+		p := tp.p
+		nIn := tp.NumInputs()
+		got, want := make([]float64, nIn), make([]float64, nIn)
+		x := make([]float64, nIn)
+		for range 5 {
+			for j := range x {
+				x[j] = math.Round((rng.Float64()*6-3)*100) / 100
+			}
+			tp.Eval(x, 0)
+			tp.Reverse(got, 0)
+			out := int(p.outs[0])
+			end := p.end(0)
+			p.clearAdjoints(tp.adj, want, end)
+			tp.adj[out] = 1
+			p.reverseNodes(tp.adj[:end], tp.vals[:end], tp.adj, want, out)
+			p.inputAdjoints(want, tp.adj[:end])
+			for j := range got {
+				if !same(got[j], want[j]) {
+					t.Fatalf("tape %d at %v: adjoint %d is %v, node by node %v", f, x, j, got[j], want[j])
+				}
 			}
 		}
 	}
