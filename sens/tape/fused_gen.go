@@ -4723,6 +4723,60 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk := g[in.n]; gk != 0 {
 				g[in.a] -= gk
 			}
+		case kind(OpSquare):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += 2 * gk * v[in.a]
+		case kind(OpSqrt):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += gk * 0.5 / v[in.n]
+		case kind(OpExp):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += gk * v[in.n]
+		case kind(OpLn):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			g[in.a] += gk / v[in.a]
+		case kind(OpAbs):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			if x := v[in.a]; x > 0 {
+				g[in.a] += gk
+			} else if x < 0 {
+				g[in.a] -= gk
+			}
+		case kind(OpMin):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			if v[in.a] <= v[in.b] {
+				g[in.a] += gk
+			} else {
+				g[in.b] += gk
+			}
+		case kind(OpMax):
+			gk := g[in.n]
+			if gk == 0 {
+				continue
+			}
+			if v[in.a] >= v[in.b] {
+				g[in.a] += gk
+			} else {
+				g[in.b] += gk
+			}
 		case kind(OpIf):
 			if gk := g[in.n]; gk != 0 {
 				if v[in.a] != 0 {

@@ -443,6 +443,19 @@ func genReverse(p func(string, ...any)) {
 		node(o.sym, "gk", ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, "v[in.n]")
 	}
 	p("\t\tcase kind(OpNeg):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.a] -= gk\n\t\t\t}\n")
+	// The unary operations and min and max that Reverse's loop leaves to
+	// revNode, here without its call: the same expressions.
+	for _, u := range []struct{ op, body string }{
+		{"Square", "g[in.a] += 2 * gk * v[in.a]"},
+		{"Sqrt", "g[in.a] += gk * 0.5 / v[in.n]"},
+		{"Exp", "g[in.a] += gk * v[in.n]"},
+		{"Ln", "g[in.a] += gk / v[in.a]"},
+		{"Abs", "if x := v[in.a]; x > 0 {\n\t\t\t\tg[in.a] += gk\n\t\t\t} else if x < 0 {\n\t\t\t\tg[in.a] -= gk\n\t\t\t}"},
+		{"Min", "if v[in.a] <= v[in.b] {\n\t\t\t\tg[in.a] += gk\n\t\t\t} else {\n\t\t\t\tg[in.b] += gk\n\t\t\t}"},
+		{"Max", "if v[in.a] >= v[in.b] {\n\t\t\t\tg[in.a] += gk\n\t\t\t} else {\n\t\t\t\tg[in.b] += gk\n\t\t\t}"},
+	} {
+		p("\t\tcase kind(Op%s):\n\t\t\tgk := g[in.n]\n\t\t\tif gk == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n\t\t\t%s\n", u.op, u.body)
+	}
 	p("\t\tcase kind(OpIf):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tif v[in.a] != 0 {\n\t\t\t\t\tg[in.b] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t}\n\t\t\t}\n")
 	p("\t\tcase kind(OpLt), kind(OpLe), kind(OpGt), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr), kind(OpNot), kind(OpFloor), kind(OpCeil), kind(OpRound):\n")
 	p("\t\tcase kCmpIf, kCmpIf + 1, kCmpIf + 2, kCmpIf + 3, kCmpIf + 4, kCmpIf + 5:\n")

@@ -111,6 +111,19 @@ func kindTapes() []*Tape {
 			}
 		}
 	}
+	// The unary operations, min and max that the reverse pass over the code
+	// has cases of its own for.
+	for _, op := range []Op{OpSquare, OpSqrt, OpExp, OpLn, OpAbs, OpMin, OpMax} {
+		b := NewBuilder()
+		x, y, u, w := b.Input(), b.Input(), b.Input(), b.Input()
+		var r Slot
+		if op.Arity() == 2 {
+			r = b.Binary(op, b.Binary(OpMul, x, y), b.Binary(OpSub, u, w))
+		} else {
+			r = b.Unary(op, b.Binary(OpMul, x, y))
+		}
+		tapes = append(tapes, b.Tape(b.Binary(OpMul, r, b.Binary(OpAdd, x, u))))
+	}
 	return tapes
 }
 
