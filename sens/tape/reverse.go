@@ -12,6 +12,14 @@ import "fmt"
 // it is used: there dst receives ±Inf or NaN. Gradient reports that as a
 // *DomainError; Reverse leaves it in dst.
 func (t *Tape) Reverse(dst []float64, i int) []float64 {
+	return t.reverse(dst, i, false)
+}
+
+// reverse runs the reverse pass over the scalar code, or node by node
+// (byNodes, or a tape with loop nodes), which leaves every node's adjoint
+// in t.adj for reverseError: the scalar code keeps those of fused
+// intermediates in local variables.
+func (t *Tape) reverse(dst []float64, i int, byNodes bool) []float64 {
 	p := t.p
 	if len(dst) != p.nIn {
 		panic(fmt.Sprintf("tape: gradient of length %d, tape has %d inputs", len(dst), p.nIn))
@@ -22,7 +30,7 @@ func (t *Tape) Reverse(dst []float64, i int) []float64 {
 	g := t.adj[:end]
 	p.clearAdjoints(t.adj, dst, end) // the inputs' too: an output that is an input ends below them
 	g[out] = 1
-	if p.plannable() {
+	if p.plannable() && !byNodes {
 		p.reverseCode(p.scode(i), g, v)
 	} else {
 		p.reverseNodes(g, v, t.adj, dst, out)
@@ -153,6 +161,7 @@ func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
 	}
 	t.Reverse(dst, i)
 	if !allFinite(dst) {
+		t.reverse(dst, i, true) // every adjoint, for reverseError
 		return f, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
 	}
 	return f, nil

@@ -1,6 +1,7 @@
 package tape
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -163,5 +164,23 @@ func TestReverseCodeAgreesWithNodes(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// A gradient that overflows where a fused instruction's intermediate sends
+// its adjoint back is reported at that intermediate's operation, as the
+// pass node by node reports it: d/dx (x*y)*z = y*z = 1e600 overflows
+// (IEEE 754 binary64 ends near 1.8e308) while the value, 1e300, does not.
+func TestGradientErrorAtFusedIntermediate(t *testing.T) {
+	b := NewBuilder()
+	x, y, z := b.Input(), b.Input(), b.Input()
+	b.SetPos(7)
+	xy := b.Binary(OpMul, x, y)
+	b.SetPos(9)
+	tp := b.Tape(b.Binary(OpMul, xy, z))
+	_, err := tp.Gradient(make([]float64, 3), []float64{1e-300, 1e300, 1e300}, 0)
+	var de *DomainError
+	if !errors.As(err, &de) || de.Pos != 7 || de.Op != OpMul {
+		t.Fatalf("Gradient gives %v, want an error at the product x*y (position 7)", err)
 	}
 }
