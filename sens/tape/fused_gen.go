@@ -4685,7 +4685,7 @@ func (t *Tape) runCode(code []sinstr) (bad bool) {
 // reverseCode runs the reverse pass of Reverse over code, the scalar code of
 // the nodes up to the output's, last instruction first, with the values
 // v of the last pass and the adjoints g (the output's set, the others
-// zero). Operations it has no case for go to revNode.
+// zero). Operations it has no case for go to revDeriv.
 func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 	for i := len(code) - 1; i >= 0; i-- {
 		in := &code[i]
@@ -12756,7 +12756,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			}
 		default:
 			if gk := g[in.n]; gk != 0 {
-				p.revNode(g, v, int(in.n), gk)
+				p.revDeriv(g, v, int(in.n), gk)
 			}
 		}
 	}

@@ -435,7 +435,7 @@ func genReverse(p func(string, ...any)) {
 	p("\n// reverseCode runs the reverse pass of Reverse over code, the scalar code of\n")
 	p("// the nodes up to the output's, last instruction first, with the values\n")
 	p("// v of the last pass and the adjoints g (the output's set, the others\n")
-	p("// zero). Operations it has no case for go to revNode.\n")
+	p("// zero). Operations it has no case for go to revDeriv.\n")
 	p("func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {\n")
 	p("\tfor i := len(code) - 1; i >= 0; i-- {\n\t\tin := &code[i]\n\t\tswitch in.k {\n")
 	for _, o := range ops {
@@ -443,8 +443,8 @@ func genReverse(p func(string, ...any)) {
 		node(o.sym, "gk", ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, "v[in.n]")
 	}
 	p("\t\tcase kind(OpNeg):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.a] -= gk\n\t\t\t}\n")
-	// The unary operations and min and max that Reverse's loop leaves to
-	// revNode, here without its call: the same expressions.
+	// The unary operations and min and max, with the expressions of
+	// reverseNodes.
 	for _, u := range []struct{ op, body string }{
 		{"Square", "g[in.a] += 2 * gk * v[in.a]"},
 		{"Sqrt", "g[in.a] += gk * 0.5 / v[in.n]"},
@@ -549,5 +549,5 @@ func genReverse(p func(string, ...any)) {
 			}
 		}
 	}
-	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tp.revNode(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
+	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tp.revDeriv(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
 }
