@@ -34,6 +34,7 @@ func (t *Tape) findOrigin(outs []int32, vals []float64, stride, off int) int {
 		top = max(top, o)
 	}
 	mark := t.adj[:top+1]
+	t.adjUsed = true
 	clear(mark)
 	for _, o := range outs {
 		mark[o] = 1

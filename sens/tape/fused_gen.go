@@ -4685,7 +4685,9 @@ func (t *Tape) runCode(code []sinstr) (bad bool) {
 // reverseCode runs the reverse pass of Reverse over code, the scalar code of
 // the nodes up to the output's, last instruction first, with the values
 // v of the last pass and the adjoints g (the output's set, the others
-// zero). Operations it has no case for go to revDeriv.
+// zero). It sets each node's adjoint back to 0 once it has read it, so
+// that only the inputs' and constants' are left. Operations it has no
+// case for go to revDeriv.
 func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 	for i := len(code) - 1; i >= 0; i-- {
 		in := &code[i]
@@ -4695,6 +4697,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += gk
 			g[in.b] += gk
 		case kind(OpSub):
@@ -4702,6 +4705,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += gk
 			g[in.b] -= gk
 		case kind(OpMul):
@@ -4709,6 +4713,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += gk * v[in.b]
 			g[in.b] += gk * v[in.a]
 		case kind(OpDiv):
@@ -4716,11 +4721,13 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			qgk := gk / v[in.b]
 			g[in.a] += qgk
 			g[in.b] -= qgk * v[in.n]
 		case kind(OpNeg):
 			if gk := g[in.n]; gk != 0 {
+				g[in.n] = 0
 				g[in.a] -= gk
 			}
 		case kind(OpSquare):
@@ -4728,30 +4735,35 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += 2 * gk * v[in.a]
 		case kind(OpSqrt):
 			gk := g[in.n]
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += gk * 0.5 / v[in.n]
 		case kind(OpExp):
 			gk := g[in.n]
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += gk * v[in.n]
 		case kind(OpLn):
 			gk := g[in.n]
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			g[in.a] += gk / v[in.a]
 		case kind(OpAbs):
 			gk := g[in.n]
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			if x := v[in.a]; x > 0 {
 				g[in.a] += gk
 			} else if x < 0 {
@@ -4762,6 +4774,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			if v[in.a] <= v[in.b] {
 				g[in.a] += gk
 			} else {
@@ -4772,6 +4785,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if gk == 0 {
 				continue
 			}
+			g[in.n] = 0
 			if v[in.a] >= v[in.b] {
 				g[in.a] += gk
 			} else {
@@ -4779,6 +4793,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			}
 		case kind(OpIf):
 			if gk := g[in.n]; gk != 0 {
+				g[in.n] = 0
 				if v[in.a] != 0 {
 					g[in.b] += gk
 				} else {
@@ -4786,8 +4801,11 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 				}
 			}
 		case kind(OpLt), kind(OpLe), kind(OpGt), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr), kind(OpNot), kind(OpFloor), kind(OpCeil), kind(OpRound):
+			g[in.n] = 0
 		case kCmpIf, kCmpIf + 1, kCmpIf + 2, kCmpIf + 3, kCmpIf + 4, kCmpIf + 5:
+			g[in.n] = 0
 			if gk := g[in.n+1]; gk != 0 {
+				g[in.n+1] = 0
 				if v[in.n] != 0 {
 					g[in.c] += gk
 				} else {
@@ -4799,6 +4817,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] += g1
 			if g0 != 0 {
@@ -4810,6 +4829,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := g1
 			if g0 != 0 {
@@ -4821,6 +4841,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] -= g1
 			if g0 != 0 {
@@ -4832,6 +4853,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := -(g1)
 			if g0 != 0 {
@@ -4843,6 +4865,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1 * v[in.c]
 			g[in.c] += g1 * v[in.n]
 			if g0 != 0 {
@@ -4854,6 +4877,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1 * v[in.n]
 			g0 := g1 * v[in.c]
 			if g0 != 0 {
@@ -4865,6 +4889,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.c]
 			g0 := qg1
 			g[in.c] -= qg1 * v[in.n+1]
@@ -4877,6 +4902,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.n]
 			g[in.c] += qg1
 			g0 := -(qg1 * v[in.n+1])
@@ -4889,6 +4915,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] += g1
 			if g0 != 0 {
@@ -4900,6 +4927,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := g1
 			if g0 != 0 {
@@ -4911,6 +4939,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] -= g1
 			if g0 != 0 {
@@ -4922,6 +4951,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := -(g1)
 			if g0 != 0 {
@@ -4933,6 +4963,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1 * v[in.c]
 			g[in.c] += g1 * v[in.n]
 			if g0 != 0 {
@@ -4944,6 +4975,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1 * v[in.n]
 			g0 := g1 * v[in.c]
 			if g0 != 0 {
@@ -4955,6 +4987,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.c]
 			g0 := qg1
 			g[in.c] -= qg1 * v[in.n+1]
@@ -4967,6 +5000,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.n]
 			g[in.c] += qg1
 			g0 := -(qg1 * v[in.n+1])
@@ -4979,6 +5013,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] += g1
 			if g0 != 0 {
@@ -4990,6 +5025,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := g1
 			if g0 != 0 {
@@ -5001,6 +5037,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] -= g1
 			if g0 != 0 {
@@ -5012,6 +5049,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := -(g1)
 			if g0 != 0 {
@@ -5023,6 +5061,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1 * v[in.c]
 			g[in.c] += g1 * v[in.n]
 			if g0 != 0 {
@@ -5034,6 +5073,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1 * v[in.n]
 			g0 := g1 * v[in.c]
 			if g0 != 0 {
@@ -5045,6 +5085,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.c]
 			g0 := qg1
 			g[in.c] -= qg1 * v[in.n+1]
@@ -5057,6 +5098,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.n]
 			g[in.c] += qg1
 			g0 := -(qg1 * v[in.n+1])
@@ -5069,6 +5111,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] += g1
 			if g0 != 0 {
@@ -5081,6 +5124,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := g1
 			if g0 != 0 {
@@ -5093,6 +5137,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1
 			g[in.c] -= g1
 			if g0 != 0 {
@@ -5105,6 +5150,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1
 			g0 := -(g1)
 			if g0 != 0 {
@@ -5117,6 +5163,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g0 := g1 * v[in.c]
 			g[in.c] += g1 * v[in.n]
 			if g0 != 0 {
@@ -5129,6 +5176,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			g[in.c] += g1 * v[in.n]
 			g0 := g1 * v[in.c]
 			if g0 != 0 {
@@ -5141,6 +5189,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.c]
 			g0 := qg1
 			g[in.c] -= qg1 * v[in.n+1]
@@ -5154,6 +5203,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g1 == 0 {
 				continue
 			}
+			g[in.n+1] = 0
 			qg1 := g1 / v[in.n]
 			g[in.c] += qg1
 			g0 := -(qg1 * v[in.n+1])
@@ -5167,6 +5217,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -5184,6 +5235,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -5201,6 +5253,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -5218,6 +5271,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -5235,6 +5289,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -5250,6 +5305,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -5265,6 +5321,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -5282,6 +5339,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -5299,6 +5357,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -5316,6 +5375,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -5333,6 +5393,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -5348,6 +5409,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -5363,6 +5425,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -5380,6 +5443,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -5397,6 +5461,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -5414,6 +5479,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -5431,6 +5497,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -5446,6 +5513,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -5461,6 +5529,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -5479,6 +5548,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -5497,6 +5567,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -5515,6 +5586,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -5533,6 +5605,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -5549,6 +5622,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -5565,6 +5639,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -5582,6 +5657,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -5599,6 +5675,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -5616,6 +5693,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -5633,6 +5711,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -5648,6 +5727,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -5663,6 +5743,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -5680,6 +5761,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -5697,6 +5779,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -5714,6 +5797,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -5731,6 +5815,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -5746,6 +5831,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -5761,6 +5847,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -5778,6 +5865,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -5795,6 +5883,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -5812,6 +5901,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -5829,6 +5919,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -5844,6 +5935,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -5859,6 +5951,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -5877,6 +5970,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -5895,6 +5989,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -5913,6 +6008,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -5931,6 +6027,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -5947,6 +6044,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -5963,6 +6061,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -5980,6 +6079,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -5997,6 +6097,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -6014,6 +6115,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -6031,6 +6133,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -6046,6 +6149,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -6061,6 +6165,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -6078,6 +6183,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6095,6 +6201,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -6112,6 +6219,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6129,6 +6237,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6144,6 +6253,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -6159,6 +6269,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6176,6 +6287,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -6193,6 +6305,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6210,6 +6323,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -6227,6 +6341,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -6242,6 +6357,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6257,6 +6373,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -6275,6 +6392,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -6293,6 +6411,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -6311,6 +6430,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -6329,6 +6449,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -6345,6 +6466,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -6361,6 +6483,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -6379,6 +6502,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -6397,6 +6521,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -6415,6 +6540,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -6433,6 +6559,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -6449,6 +6576,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -6465,6 +6593,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -6483,6 +6612,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6501,6 +6631,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -6519,6 +6650,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6537,6 +6669,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6553,6 +6686,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -6569,6 +6703,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6587,6 +6722,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -6605,6 +6741,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6623,6 +6760,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -6641,6 +6779,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -6657,6 +6796,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6673,6 +6813,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -6692,6 +6833,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -6711,6 +6853,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -6730,6 +6873,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -6749,6 +6893,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -6766,6 +6911,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -6783,6 +6929,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -6800,6 +6947,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -6817,6 +6965,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -6834,6 +6983,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -6851,6 +7001,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -6866,6 +7017,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -6881,6 +7033,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -6898,6 +7051,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6915,6 +7069,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -6932,6 +7087,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6949,6 +7105,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -6964,6 +7121,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -6979,6 +7137,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -6996,6 +7155,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -7013,6 +7173,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7030,6 +7191,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -7047,6 +7209,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -7062,6 +7225,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7077,6 +7241,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -7095,6 +7260,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7113,6 +7279,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -7131,6 +7298,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7149,6 +7317,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7165,6 +7334,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -7181,6 +7351,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -7198,6 +7369,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -7215,6 +7387,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -7232,6 +7405,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -7249,6 +7423,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -7264,6 +7439,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -7279,6 +7455,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -7296,6 +7473,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -7313,6 +7491,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -7330,6 +7509,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -7347,6 +7527,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -7362,6 +7543,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -7377,6 +7559,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7394,6 +7577,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -7411,6 +7595,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7428,6 +7613,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -7445,6 +7631,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -7460,6 +7647,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7475,6 +7663,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -7493,6 +7682,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7511,6 +7701,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -7529,6 +7720,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7547,6 +7739,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7563,6 +7756,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -7579,6 +7773,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -7596,6 +7791,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -7613,6 +7809,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -7630,6 +7827,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -7647,6 +7845,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -7662,6 +7861,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -7677,6 +7877,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -7694,6 +7895,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -7711,6 +7913,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -7728,6 +7931,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -7745,6 +7949,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -7760,6 +7965,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -7775,6 +7981,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7792,6 +7999,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -7809,6 +8017,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7826,6 +8035,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -7843,6 +8053,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -7858,6 +8069,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -7873,6 +8085,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -7891,6 +8104,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7909,6 +8123,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -7927,6 +8142,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7945,6 +8161,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -7961,6 +8178,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -7977,6 +8195,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -7995,6 +8214,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -8013,6 +8233,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -8031,6 +8252,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -8049,6 +8271,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -8065,6 +8288,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -8081,6 +8305,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -8099,6 +8324,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8117,6 +8343,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -8135,6 +8362,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8153,6 +8381,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8169,6 +8398,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -8185,6 +8415,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -8203,6 +8434,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -8221,6 +8453,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -8239,6 +8472,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -8257,6 +8491,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -8273,6 +8508,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -8289,6 +8525,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -8308,6 +8545,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -8327,6 +8565,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -8346,6 +8585,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -8365,6 +8605,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -8382,6 +8623,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -8399,6 +8641,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -8416,6 +8659,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -8433,6 +8677,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -8450,6 +8695,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -8467,6 +8713,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -8482,6 +8729,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -8497,6 +8745,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -8514,6 +8763,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8531,6 +8781,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -8548,6 +8799,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8565,6 +8817,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8580,6 +8833,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -8595,6 +8849,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -8612,6 +8867,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -8629,6 +8885,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -8646,6 +8903,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -8663,6 +8921,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -8678,6 +8937,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -8693,6 +8953,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -8711,6 +8972,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -8729,6 +8991,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -8747,6 +9010,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -8765,6 +9029,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -8781,6 +9046,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -8797,6 +9063,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -8814,6 +9081,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -8831,6 +9099,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -8848,6 +9117,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -8865,6 +9135,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -8880,6 +9151,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -8895,6 +9167,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -8912,6 +9185,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8929,6 +9203,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -8946,6 +9221,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8963,6 +9239,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -8978,6 +9255,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -8993,6 +9271,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9010,6 +9289,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -9027,6 +9307,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9044,6 +9325,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -9061,6 +9343,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -9076,6 +9359,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9091,6 +9375,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -9109,6 +9394,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9127,6 +9413,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -9145,6 +9432,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9163,6 +9451,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9179,6 +9468,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -9195,6 +9485,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -9212,6 +9503,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -9229,6 +9521,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -9246,6 +9539,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -9263,6 +9557,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -9278,6 +9573,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -9293,6 +9589,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -9310,6 +9607,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -9327,6 +9625,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -9344,6 +9643,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -9361,6 +9661,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -9376,6 +9677,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -9391,6 +9693,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9408,6 +9711,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -9425,6 +9729,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9442,6 +9747,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -9459,6 +9765,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -9474,6 +9781,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9489,6 +9797,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -9507,6 +9816,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9525,6 +9835,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -9543,6 +9854,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9561,6 +9873,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9577,6 +9890,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -9593,6 +9907,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -9611,6 +9926,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -9629,6 +9945,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -9647,6 +9964,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -9665,6 +9983,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -9681,6 +10000,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -9697,6 +10017,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -9715,6 +10036,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -9733,6 +10055,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -9751,6 +10074,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -9769,6 +10093,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -9785,6 +10110,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -9801,6 +10127,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9819,6 +10146,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -9837,6 +10165,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9855,6 +10184,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -9873,6 +10203,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -9889,6 +10220,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -9905,6 +10237,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -9924,6 +10257,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9943,6 +10277,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -9962,6 +10297,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9981,6 +10317,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -9998,6 +10335,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -10015,6 +10353,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -10033,6 +10372,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -10051,6 +10391,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -10069,6 +10410,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -10087,6 +10429,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -10103,6 +10446,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -10119,6 +10463,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -10137,6 +10482,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10155,6 +10501,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -10173,6 +10520,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10191,6 +10539,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10207,6 +10556,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -10223,6 +10573,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -10241,6 +10592,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -10259,6 +10611,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -10277,6 +10630,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -10295,6 +10649,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -10311,6 +10666,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -10327,6 +10683,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -10346,6 +10703,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -10365,6 +10723,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -10384,6 +10743,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -10403,6 +10763,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -10420,6 +10781,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -10437,6 +10799,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -10455,6 +10818,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -10473,6 +10837,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -10491,6 +10856,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -10509,6 +10875,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -10525,6 +10892,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -10541,6 +10909,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -10559,6 +10928,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10577,6 +10947,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -10595,6 +10966,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10613,6 +10985,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10629,6 +11002,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -10645,6 +11019,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -10663,6 +11038,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -10681,6 +11057,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -10699,6 +11076,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -10717,6 +11095,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -10733,6 +11112,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -10749,6 +11129,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -10768,6 +11149,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -10787,6 +11169,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -10806,6 +11189,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -10825,6 +11209,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -10842,6 +11227,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -10859,6 +11245,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -10877,6 +11264,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -10895,6 +11283,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -10913,6 +11302,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -10931,6 +11321,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -10947,6 +11338,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -10963,6 +11355,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -10981,6 +11374,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -10999,6 +11393,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -11017,6 +11412,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -11035,6 +11431,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -11051,6 +11448,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -11067,6 +11465,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -11085,6 +11484,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -11103,6 +11503,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -11121,6 +11522,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -11139,6 +11541,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -11155,6 +11558,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -11171,6 +11575,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -11190,6 +11595,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -11209,6 +11615,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -11228,6 +11635,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -11247,6 +11655,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -11264,6 +11673,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -11281,6 +11691,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -11300,6 +11711,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -11319,6 +11731,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] += g2
 			if g1 != 0 {
@@ -11338,6 +11751,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := g2
 			if g1 != 0 {
@@ -11357,6 +11771,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := g2
 			if g1 != 0 {
@@ -11374,6 +11789,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := g2
 			if g1 != 0 {
@@ -11391,6 +11807,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -11410,6 +11827,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -11429,6 +11847,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g[in.d] -= g2
 			if g1 != 0 {
@@ -11448,6 +11867,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -11467,6 +11887,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2
 			g1 := -(g2)
 			if g1 != 0 {
@@ -11484,6 +11905,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2
 			g0 := -(g2)
 			if g1 != 0 {
@@ -11501,6 +11923,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -11520,6 +11943,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -11539,6 +11963,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.d]
 			g[in.d] += g2 * v[in.n+1]
 			if g1 != 0 {
@@ -11558,6 +11983,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g[in.d] += g2 * v[in.n+1]
 			g1 := g2 * v[in.d]
 			if g1 != 0 {
@@ -11577,6 +12003,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g0 := g2 * v[in.n+1]
 			g1 := g2 * v[in.n]
 			if g1 != 0 {
@@ -11594,6 +12021,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			g1 := g2 * v[in.n]
 			g0 := g2 * v[in.n+1]
 			if g1 != 0 {
@@ -11611,6 +12039,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -11631,6 +12060,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -11651,6 +12081,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.d]
 			g1 := qg2
 			g[in.d] -= qg2 * v[in.n+2]
@@ -11671,6 +12102,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g[in.d] += qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -11691,6 +12123,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n+1]
 			g0 := qg2
 			g1 := -(qg2 * v[in.n+2])
@@ -11709,6 +12142,7 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			if g2 == 0 {
 				continue
 			}
+			g[in.n+2] = 0
 			qg2 := g2 / v[in.n]
 			g1 := qg2
 			g0 := -(qg2 * v[in.n+2])
@@ -11724,1038 +12158,1263 @@ func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {
 			}
 		case kSeq + 0:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 1:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 2:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 3:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 4:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 5:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 6:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 7:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 8:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 9:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 10:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 11:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 12:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 13:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 14:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 15:
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 16:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 17:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 18:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 19:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 20:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 21:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 22:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 23:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 24:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 25:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 26:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 27:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 28:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 29:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 30:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 31:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] += gs0
 			}
 		case kSeq + 32:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 33:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 34:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 35:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 36:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 37:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 38:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 39:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 40:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 41:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 42:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 43:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 44:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 45:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 46:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 47:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0
 				g[in.b] -= gs0
 			}
 		case kSeq + 48:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 49:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 50:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 51:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 52:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 53:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 54:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 55:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 56:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 57:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 58:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 59:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 60:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 61:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 62:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 63:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				g[in.a] += gs0 * v[in.b]
 				g[in.b] += gs0 * v[in.a]
 			}
 		case kSeq + 64:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 65:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 66:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 67:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] += gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 68:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 69:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 70:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 71:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1
 				g[in.d] -= gs1
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 72:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 73:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 74:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 75:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				g[in.c] += gs1 * v[in.d]
 				g[in.d] += gs1 * v[in.c]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 76:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] += gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 77:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2
 				g[in.f] -= gs2
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 78:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				g[in.e] += gs2 * v[in.f]
 				g[in.f] += gs2 * v[in.e]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		case kSeq + 79:
 			if gs2 := g[in.n+2]; gs2 != 0 {
+				g[in.n+2] = 0
 				qgs2 := gs2 / v[in.f]
 				g[in.e] += qgs2
 				g[in.f] -= qgs2 * v[in.n+2]
 			}
 			if gs1 := g[in.n+1]; gs1 != 0 {
+				g[in.n+1] = 0
 				qgs1 := gs1 / v[in.d]
 				g[in.c] += qgs1
 				g[in.d] -= qgs1 * v[in.n+1]
 			}
 			if gs0 := g[in.n+0]; gs0 != 0 {
+				g[in.n+0] = 0
 				qgs0 := gs0 / v[in.b]
 				g[in.a] += qgs0
 				g[in.b] -= qgs0 * v[in.n+0]
 			}
 		default:
 			if gk := g[in.n]; gk != 0 {
+				g[in.n] = 0
 				p.revDeriv(g, v, int(in.n), gk)
 			}
 		}

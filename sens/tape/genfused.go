@@ -435,14 +435,15 @@ func genReverse(p func(string, ...any)) {
 	p("\n// reverseCode runs the reverse pass of Reverse over code, the scalar code of\n")
 	p("// the nodes up to the output's, last instruction first, with the values\n")
 	p("// v of the last pass and the adjoints g (the output's set, the others\n")
-	p("// zero). Operations it has no case for go to revDeriv.\n")
+	p("// zero). It sets each node's adjoint back to 0 once it has read it, so\n")
+	p("// that only the inputs' and constants' are left. Operations it has no\n// case for go to revDeriv.\n")
 	p("func (p *tapeProg) reverseCode(code []sinstr, g, v []float64) {\n")
 	p("\tfor i := len(code) - 1; i >= 0; i-- {\n\t\tin := &code[i]\n\t\tswitch in.k {\n")
 	for _, o := range ops {
-		p("\t\tcase kind(Op%s):\n\t\t\tgk := g[in.n]\n\t\t\tif gk == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n", o.name)
+		p("\t\tcase kind(Op%s):\n\t\t\tgk := g[in.n]\n\t\t\tif gk == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n\t\t\tg[in.n] = 0\n", o.name)
 		node(o.sym, "gk", ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, "v[in.n]")
 	}
-	p("\t\tcase kind(OpNeg):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.a] -= gk\n\t\t\t}\n")
+	p("\t\tcase kind(OpNeg):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.n] = 0\n\t\t\t\tg[in.a] -= gk\n\t\t\t}\n")
 	// The unary operations and min and max, with the expressions of
 	// reverseNodes.
 	for _, u := range []struct{ op, body string }{
@@ -454,18 +455,18 @@ func genReverse(p func(string, ...any)) {
 		{"Min", "if v[in.a] <= v[in.b] {\n\t\t\t\tg[in.a] += gk\n\t\t\t} else {\n\t\t\t\tg[in.b] += gk\n\t\t\t}"},
 		{"Max", "if v[in.a] >= v[in.b] {\n\t\t\t\tg[in.a] += gk\n\t\t\t} else {\n\t\t\t\tg[in.b] += gk\n\t\t\t}"},
 	} {
-		p("\t\tcase kind(Op%s):\n\t\t\tgk := g[in.n]\n\t\t\tif gk == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n\t\t\t%s\n", u.op, u.body)
+		p("\t\tcase kind(Op%s):\n\t\t\tgk := g[in.n]\n\t\t\tif gk == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n\t\t\tg[in.n] = 0\n\t\t\t%s\n", u.op, u.body)
 	}
-	p("\t\tcase kind(OpIf):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tif v[in.a] != 0 {\n\t\t\t\t\tg[in.b] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t}\n\t\t\t}\n")
-	p("\t\tcase kind(OpLt), kind(OpLe), kind(OpGt), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr), kind(OpNot), kind(OpFloor), kind(OpCeil), kind(OpRound):\n")
+	p("\t\tcase kind(OpIf):\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.n] = 0\n\t\t\t\tif v[in.a] != 0 {\n\t\t\t\t\tg[in.b] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t}\n\t\t\t}\n")
+	p("\t\tcase kind(OpLt), kind(OpLe), kind(OpGt), kind(OpGe), kind(OpEq), kind(OpNe), kind(OpAnd), kind(OpOr), kind(OpNot), kind(OpFloor), kind(OpCeil), kind(OpRound):\n\t\t\tg[in.n] = 0\n")
 	p("\t\tcase kCmpIf, kCmpIf + 1, kCmpIf + 2, kCmpIf + 3, kCmpIf + 4, kCmpIf + 5:\n")
-	p("\t\t\tif gk := g[in.n+1]; gk != 0 {\n\t\t\t\tif v[in.n] != 0 {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.d] += gk\n\t\t\t\t}\n\t\t\t}\n")
+	p("\t\t\tg[in.n] = 0\n\t\t\tif gk := g[in.n+1]; gk != 0 {\n\t\t\t\tg[in.n+1] = 0\n\t\t\t\tif v[in.n] != 0 {\n\t\t\t\t\tg[in.c] += gk\n\t\t\t\t} else {\n\t\t\t\t\tg[in.d] += gk\n\t\t\t\t}\n\t\t\t}\n")
 	// Pairs: t = a op1 b at in.n, then in.n+1 = t op2 c (L) or c op2 t.
 	for _, o1 := range ops {
 		for _, o2 := range ops {
 			for _, side := range []string{"L", "R"} {
 				p("\t\tcase kF%s%s%s:\n", o1.name, o2.name, side)
-				p("\t\t\tg1 := g[in.n+1]\n\t\t\tif g1 == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n")
+				p("\t\t\tg1 := g[in.n+1]\n\t\t\tif g1 == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n\t\t\tg[in.n+1] = 0\n")
 				t := ropnd{reg: "g0", node: "in.n"}
 				c := ropnd{slot: "in.c"}
 				if side == "L" {
@@ -485,7 +486,7 @@ func genReverse(p func(string, ...any)) {
 			for i3, o3 := range ops {
 				for si, sh := range shapes {
 					p("\t\tcase kFusedEnd + %d: // %s %s %s %s\n", ((i1*4+i2)*4+i3)*len(shapes)+si, o1.sym, o2.sym, o3.sym, sh)
-					p("\t\t\tg2 := g[in.n+2]\n\t\t\tif g2 == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n")
+					p("\t\t\tg2 := g[in.n+2]\n\t\t\tif g2 == 0 {\n\t\t\t\tcontinue\n\t\t\t}\n\t\t\tg[in.n+2] = 0\n")
 					a, b, c, d := ropnd{slot: "in.a"}, ropnd{slot: "in.b"}, ropnd{slot: "in.c"}, ropnd{slot: "in.d"}
 					t1 := ropnd{reg: "g0", node: "in.n"}
 					t2 := ropnd{reg: "g1", node: "in.n+1"}
@@ -543,11 +544,11 @@ func genReverse(p func(string, ...any)) {
 			p("\t\tcase kSeq + %d:\n", off)
 			for j := n - 1; j >= 0; j-- {
 				gk := fmt.Sprintf("gs%d", j)
-				p("\t\t\tif %s := g[in.n+%d]; %s != 0 {\n", gk, j, gk)
+				p("\t\t\tif %s := g[in.n+%d]; %s != 0 {\n\t\t\t\tg[in.n+%d] = 0\n", gk, j, gk, j)
 				node(ops[seq[j]].sym, gk, ropnd{slot: operands[2*j]}, ropnd{slot: operands[2*j+1]}, fmt.Sprintf("v[in.n+%d]", j))
 				p("\t\t\t}\n")
 			}
 		}
 	}
-	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tp.revDeriv(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
+	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.n] = 0\n\t\t\t\tp.revDeriv(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
 }

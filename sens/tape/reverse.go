@@ -28,13 +28,29 @@ func (t *Tape) reverse(dst []float64, i int, byNodes bool) []float64 {
 	end := p.end(i)
 	v := t.vals[:end]
 	g := t.adj[:end]
+	if p.plannable() && !byNodes {
+		// The pass sets each node's adjoint back to 0 once it has read it,
+		// so the buffer needs clearing only below the operations (inputs
+		// and constants), unless something else used it since.
+		if t.adjUsed {
+			clear(t.adj)
+			t.adjUsed = false
+		} else {
+			clear(t.adj[:p.start]) // all of it: an output that is an input ends below the others
+		}
+		g[out] = 1
+		if len(p.scode(-1)) <= maxReverseCode {
+			p.reverseCode(p.scode(i), g, v)
+		} else {
+			p.reverseNodes(g, v, t.adj, dst, out, true)
+		}
+		p.inputAdjoints(dst, g)
+		return dst
+	}
 	p.clearAdjoints(t.adj, dst, end) // the inputs' too: an output that is an input ends below them
 	g[out] = 1
-	if p.plannable() && !byNodes && len(p.scode(-1)) <= maxReverseCode {
-		p.reverseCode(p.scode(i), g, v)
-	} else {
-		p.reverseNodes(g, v, t.adj, dst, out)
-	}
+	p.reverseNodes(g, v, t.adj, dst, out, false)
+	t.adjUsed = true
 	p.inputAdjoints(dst, g)
 	return dst
 }
@@ -42,7 +58,10 @@ func (t *Tape) reverse(dst []float64, i int, byNodes bool) []float64 {
 // reverseNodes runs the reverse pass node by node, from out down: the pass
 // of a tape with loop nodes or of long code (see reverse), and the
 // reference for reverseCode.
-func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int) {
+//
+// With consume, each node's adjoint is set back to 0 once read, as
+// reverseCode does; without, every adjoint stays, for reverseError.
+func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int, consume bool) {
 	end := len(g)
 	ops := p.ops[:end]
 	as := p.a[:end]
@@ -51,6 +70,9 @@ func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int) {
 		gk := g[k]
 		if gk == 0 {
 			continue
+		}
+		if consume {
+			g[k] = 0
 		}
 		a, b := as[k], bs[k]
 		switch ops[k] {

@@ -144,7 +144,8 @@ func TestReverseCodeAgreesWithNodes(t *testing.T) {
 	for f, tp := range tapes {
 		p := tp.p
 		nIn := tp.NumInputs()
-		got, want := make([]float64, nIn), make([]float64, nIn)
+		ref := tp.Clone()
+		got, again, want := make([]float64, nIn), make([]float64, nIn), make([]float64, nIn)
 		x := make([]float64, nIn)
 		for range 5 {
 			for j := range x {
@@ -152,15 +153,23 @@ func TestReverseCodeAgreesWithNodes(t *testing.T) {
 			}
 			tp.Eval(x, 0)
 			tp.Reverse(got, 0)
+			for k := p.start; k < len(tp.adj); k++ {
+				if tp.adj[k] != 0 {
+					t.Fatalf("tape %d at %v: node %d's adjoint is %v after the pass, not 0", f, x, k, tp.adj[k])
+				}
+			}
+			tp.Reverse(again, 0) // over the buffer the first pass left
+			ref.Eval(x, 0)
 			out := int(p.outs[0])
 			end := p.end(0)
-			p.clearAdjoints(tp.adj, want, end)
-			tp.adj[out] = 1
-			p.reverseNodes(tp.adj[:end], tp.vals[:end], tp.adj, want, out)
-			p.inputAdjoints(want, tp.adj[:end])
+			p.clearAdjoints(ref.adj, want, end)
+			ref.adj[out] = 1
+			p.reverseNodes(ref.adj[:end], ref.vals[:end], ref.adj, want, out, false)
+			p.inputAdjoints(want, ref.adj[:end])
+			ref.adjUsed = true
 			for j := range got {
-				if !same(got[j], want[j]) {
-					t.Fatalf("tape %d at %v: adjoint %d is %v, node by node %v", f, x, j, got[j], want[j])
+				if !same(got[j], want[j]) || !same(again[j], want[j]) {
+					t.Fatalf("tape %d at %v: adjoint %d is %v (again %v), node by node %v", f, x, j, got[j], again[j], want[j])
 				}
 			}
 		}

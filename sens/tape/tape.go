@@ -66,6 +66,10 @@ type Tape struct {
 	ps *planState // the batched forward pass's plan and rows
 
 	code []sinstr // the program's scalar code of every node, once Forward has run it
+
+	// adjUsed is set when adj may hold a nonzero value at or above start:
+	// the reverse pass over the scalar code leaves those zero (see reverse).
+	adjUsed bool
 }
 
 // NumInputs returns the number of inputs.
