@@ -185,6 +185,28 @@ type val struct {
 
 type state int
 
+// entry is the compile state and value of one name.
+type entry struct {
+	st  state
+	set bool // v has been set
+	v   val
+}
+
+// entry returns the entry of the declared name (or the extra formula's
+// name), or nil.
+func (c *compiler) entry(name string) *entry {
+	if d := c.decls[name]; d != nil {
+		return &c.ents[d.idx]
+	}
+	if c.extra != nil && name == c.extra.name {
+		return &c.ents[len(c.ents)-1]
+	}
+	return nil
+}
+
+// setVal sets the value of e.
+func (e *entry) setVal(v val) { e.v, e.set = v, true }
+
 const (
 	unvisited state = iota
 	visiting
@@ -200,9 +222,11 @@ type compiler struct {
 	warns syntax.ErrorList
 	prog  *Program
 
-	decls   map[string]*Decl
-	state   map[string]state
-	vals    map[string]val
+	decls map[string]*Decl
+	// ents holds, by Decl.idx, each declared name's state and value; the
+	// extra formula, when its name is not declared, has the last one. A
+	// reference costs one lookup of its name (in decls).
+	ents    []entry
 	stack   []string
 	curFile *syntax.File
 	cur     string      // formula being compiled
@@ -240,7 +264,7 @@ func newCompiler(m *Model, extra *extraFormula) *compiler {
 	n := len(m.decls) + 1
 	c := &compiler{
 		m: m, extra: extra,
-		decls: m.decls, state: make(map[string]state, n), vals: make(map[string]val, n),
+		decls: m.decls, ents: make([]entry, n),
 		prog: &Program{index: make(map[string]int, n), pos: make([]posEntry, 0, 4*n)},
 	}
 	c.b = newVBuilder(c, 4*n)
@@ -264,8 +288,10 @@ func (c *compiler) setPos(f *syntax.File, pos syntax.Pos) {
 func (c *compiler) run() (*Program, error) {
 	p := c.prog
 	// Names that clash with built-ins.
-	for _, name := range c.m.order {
+	byIdx := make([]*Decl, len(c.m.order))
+	for i, name := range c.m.order {
 		d := c.decls[name]
+		byIdx[i] = d
 		if isBuiltinName(name) {
 			id := d.Name
 			pos := d.Pos()
@@ -273,19 +299,18 @@ func (c *compiler) run() (*Program, error) {
 		}
 	}
 	// Inputs first, in declaration order, so input indices are stable.
-	for _, name := range c.m.order {
-		if d := c.decls[name]; d.Input != nil {
+	for _, d := range byIdx {
+		if d.Input != nil {
 			c.compileInput(d)
 		}
 	}
 	c.compileCorrelations()
 	// Formulas in dependency order.
-	for _, name := range c.formulaOrder() {
+	for _, d := range c.formulaOrder() {
 		if c.canceled() {
 			return nil, c.ctx.Err()
 		}
-		d := c.decls[name]
-		c.formula(name, d.File, d.Formula, nil)
+		c.formulaAt(&c.ents[d.idx], d.Name, d.File, d.Formula, nil)
 	}
 	if c.extra != nil {
 		c.formula(c.extra.name, c.extra.file, c.extra.stmt, nil)
@@ -303,7 +328,7 @@ func (c *compiler) run() (*Program, error) {
 	}
 	outs := make([]tape.Slot, len(p.Formulas))
 	for i, f := range p.Formulas {
-		outs[i] = c.vals[f.Name].slot
+		outs[i] = c.entry(f.Name).v.slot
 	}
 	p.tape = c.b.Tape(outs...)
 	c.finishVectors()
@@ -330,7 +355,8 @@ func (c *compiler) compileInput(d *Decl) {
 	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: &one, file: f}
 	c.prog.index[d.Name] = in.index
 	c.prog.Inputs = append(c.prog.Inputs, in)
-	c.state[d.Name] = done
+	e := &c.ents[d.idx]
+	e.st = done
 	if s.Unit != nil {
 		u, ok := c.parseUnit(f, s.Unit)
 		if ok {
@@ -349,7 +375,7 @@ func (c *compiler) compileInput(d *Decl) {
 	if c.noFold {
 		iv.slot, iv.sc = c.base(iv), 1
 	}
-	c.vals[d.Name] = iv
+	e.setVal(iv)
 	// Range and distribution.
 	if s.Dist != nil {
 		c.compileDist(f, in, s.Dist)
@@ -492,9 +518,14 @@ func (c *compiler) parseUnit(f *syntax.File, ul *syntax.UnitLit) (unit.Unit, boo
 // formula compiles the formula name (and, first, everything it uses). ref is the
 // reference that led here, for cycle messages.
 func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, ref *syntax.Ident) val {
-	switch c.state[name] {
+	return c.formulaAt(c.entry(name), name, f, s, ref)
+}
+
+// formulaAt is formula with the name's entry e.
+func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.FormulaStmt, ref *syntax.Ident) val {
+	switch e.st {
 	case done:
-		return c.vals[name]
+		return e.v
 	case visiting:
 		i := len(c.stack) - 1
 		for i > 0 && c.stack[i] != name {
@@ -504,7 +535,7 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 		c.errorf(c.curFile, ref.Pos(), "cycle: %s", strings.Join(path, " -> "))
 		return val{bad: true}
 	}
-	c.state[name] = visiting
+	e.st = visiting
 	c.stack = append(c.stack, name)
 	saveFile, saveCur := c.curFile, c.cur
 	c.curFile, c.cur = f, name
@@ -547,8 +578,8 @@ func (c *compiler) formula(name string, f *syntax.File, s *syntax.FormulaStmt, r
 		c.prog.Formulas = append(c.prog.Formulas, fm)
 		v.hint = c.intern(fm.u)
 	}
-	c.vals[name] = v
-	c.state[name] = done
+	e.setVal(v)
+	e.st = done
 	c.stack = c.stack[:len(c.stack)-1]
 	c.curFile, c.cur = saveFile, saveCur
 	return v
@@ -664,10 +695,11 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 		}
 		return val{bad: true}
 	}
+	e := &c.ents[d.idx]
 	if d.Input != nil {
-		return c.vals[x.Name]
+		return e.v
 	}
-	v := c.formula(x.Name, d.File, d.Formula, x)
+	v := c.formulaAt(e, x.Name, d.File, d.Formula, x)
 	if v.bad {
 		return val{bad: true}
 	}
@@ -1078,7 +1110,7 @@ func constantIn(r *unit.Rates, f *syntax.File, x syntax.Expr, want, what string)
 // newScratchCompiler returns a compiler with no model, for constants.
 func newScratchCompiler() *compiler {
 	c := &compiler{m: NewModel(), prog: &Program{index: map[string]int{}},
-		decls: map[string]*Decl{}, state: map[string]state{}, vals: map[string]val{}}
+		decls: map[string]*Decl{}}
 	c.b = newVBuilder(c, 0)
 	return c
 }

@@ -18,74 +18,81 @@ import (
 // A reference that closes a cycle is reported here ("cycle: a -> b -> a",
 // at the reference) and remembered in c.cycleRefs, where ident finds it
 // and stops instead of following it.
-func (c *compiler) formulaOrder() []string {
+func (c *compiler) formulaOrder() []*Decl {
 	const (
 		unseen = iota
 		open
 		closed
 	)
-	mark := make(map[string]uint8, len(c.decls))
-	order := make([]string, 0, len(c.decls))
+	mark := make([]uint8, len(c.ents)) // by Decl.idx
+	order := make([]*Decl, 0, len(c.decls))
 	type frame struct {
-		name string
 		d    *Decl
-		refs []*syntax.Ident // references to formulas, left to right
+		refs []formulaRef // references to formulas, left to right
 		next int
 	}
 	var stack []frame
-	push := func(name string, d *Decl) {
-		mark[name] = open
-		stack = append(stack, frame{name: name, d: d, refs: c.formulaRefs(d.Formula.Value)})
+	var refs []formulaRef // the references of every formula pushed, one after another
+	push := func(d *Decl) {
+		mark[d.idx] = open
+		start := len(refs)
+		refs = c.formulaRefs(refs, d.Formula.Value)
+		stack = append(stack, frame{d: d, refs: refs[start:len(refs):len(refs)]})
 	}
 	for _, root := range c.m.order {
 		d := c.decls[root]
-		if d.Formula == nil || mark[root] != unseen {
+		if d.Formula == nil || mark[d.idx] != unseen {
 			continue
 		}
-		push(root, d)
+		refs = refs[:0]
+		push(d)
 		for len(stack) > 0 {
 			top := &stack[len(stack)-1]
 			if top.next == len(top.refs) {
-				mark[top.name] = closed
-				order = append(order, top.name)
+				mark[top.d.idx] = closed
+				order = append(order, top.d)
 				stack = stack[:len(stack)-1]
 				continue
 			}
-			ref := top.refs[top.next]
+			r := top.refs[top.next]
 			top.next++
-			name := refBase(ref.Name)
-			switch mark[name] {
+			switch mark[r.d.idx] {
 			case unseen:
-				push(name, c.decls[name])
+				push(r.d)
 			case open:
 				i := len(stack) - 1
-				for stack[i].name != name {
+				for stack[i].d != r.d {
 					i--
 				}
 				path := make([]string, 0, len(stack)-i+1)
 				for _, fr := range stack[i:] {
-					path = append(path, fr.name)
+					path = append(path, fr.d.Name)
 				}
-				path = append(path, name)
-				c.errorf(top.d.File, ref.Pos(), "cycle: %s", cyclePath(path))
+				path = append(path, r.d.Name)
+				c.errorf(top.d.File, r.id.Pos(), "cycle: %s", cyclePath(path))
 				if c.cycleRefs == nil {
 					c.cycleRefs = map[*syntax.Ident]bool{}
 				}
-				c.cycleRefs[ref] = true
+				c.cycleRefs[r.id] = true
 			}
 		}
 	}
 	return order
 }
 
-// formulaRefs returns the references in x to formulas of the model, left to
-// right.
-func (c *compiler) formulaRefs(x syntax.Expr) []*syntax.Ident {
-	var refs []*syntax.Ident
+// formulaRef is a reference to a formula of the model.
+type formulaRef struct {
+	id *syntax.Ident
+	d  *Decl
+}
+
+// formulaRefs appends to refs the references in x to formulas of the
+// model, left to right.
+func (c *compiler) formulaRefs(refs []formulaRef, x syntax.Expr) []formulaRef {
 	syntax.Walk(x, func(e syntax.Expr) bool {
 		if id, ok := e.(*syntax.Ident); ok {
 			if d := c.decls[refBase(id.Name)]; d != nil && d.Formula != nil {
-				refs = append(refs, id)
+				refs = append(refs, formulaRef{id, d})
 			}
 		}
 		return true

@@ -507,9 +507,9 @@ func (c *compiler) element(f *syntax.File, x *syntax.Ident, base, key string, co
 		c.errorf(f, x.Pos(), "%s must be a number, not the name %s", c.what, x.Name)
 		return val{bad: true}
 	case d.Input != nil:
-		v = c.vals[base]
+		v = c.ents[d.idx].v
 	case d.Formula != nil:
-		v = c.formula(base, d.File, d.Formula, id)
+		v = c.formulaAt(&c.ents[d.idx], base, d.File, d.Formula, id)
 	default:
 		c.errorf(f, x.Pos(), "%s is a table: its rows are reached through a column, %s.COLUMN[%s]", base, base, key)
 		return val{bad: true}
@@ -912,8 +912,8 @@ func (c *compiler) vectorInput(d *Decl) bool {
 		return false
 	}
 	c.cur = d.Name
-	c.state[d.Name] = done
-	c.vals[d.Name] = val{bad: true}
+	c.ents[d.idx].st = done
+	c.ents[d.idx].setVal(val{bad: true})
 	u, declared := unit.One(), false
 	if s.Unit != nil {
 		pu, ok := c.parseUnit(f, s.Unit)
@@ -1017,7 +1017,7 @@ func (c *compiler) vectorInput(d *Decl) bool {
 	}
 	vec.slot = slot
 	c.addVector(vec)
-	c.vals[d.Name] = val{slot: slot, dim: u.Dim, hint: &u}
+	c.ents[d.idx].setVal(val{slot: slot, dim: u.Dim, hint: &u})
 	return true
 }
 

@@ -41,6 +41,8 @@ type Decl struct {
 	Periods *syntax.PeriodsStmt // set for a range of periods
 
 	TableStmt *syntax.TableStmt
+
+	idx int32 // the name's place in Model.order: the compiler's dense index (see compiler.ents)
 }
 
 // Pos returns the declaration's position.
@@ -89,9 +91,12 @@ func (m *Model) Define(f *syntax.File, s syntax.Stmt) (replaced bool) {
 }
 
 // define adds or replaces the declaration d.
-func (m *Model) define(d *Decl) (replaced bool) {
-	_, replaced = m.decls[d.Name]
-	if !replaced {
+func (m *Model) define(d *Decl) bool {
+	old, replaced := m.decls[d.Name]
+	if replaced {
+		d.idx = old.idx
+	} else {
+		d.idx = int32(len(m.order))
 		m.order = append(m.order, d.Name)
 	}
 	m.decls[d.Name] = d

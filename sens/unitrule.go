@@ -121,8 +121,8 @@ func (c *compiler) written(x syntax.Expr) *unit.Unit {
 			return &u
 		}
 	case *syntax.Ident:
-		if v, ok := c.vals[x.Name]; ok && !v.bad {
-			return v.hint
+		if e := c.entry(x.Name); e != nil && e.set && !e.v.bad {
+			return e.v.hint
 		}
 	case *syntax.ParenExpr:
 		return c.written(x.X)

@@ -17,9 +17,66 @@ type bnode struct {
 	val  float64 // OpConst: the value; OpInput: the input number
 }
 
-type cseKey struct {
-	op      Op
-	a, b, c Slot
+// cseTable finds an operation added before on the same operands: an
+// open-addressing hash table of node numbers plus one (0 is an empty
+// cell), each cell holding the upper bits of its node's hash beside the
+// number so that a probe reads a node only when the hashes agree. It takes 8
+// bytes a cell at a load of at most one half, against about 40 a node for a
+// map keyed by the operation and its operands.
+type cseTable struct {
+	cells []uint64 // hash>>32<<32 | slot+1
+	n     int      // cells in use
+}
+
+// cseHash hashes an operation and its operands.
+func cseHash(op Op, x, y, z Slot) uint64 {
+	h := uint64(op)*0x9e3779b97f4a7c15 ^ uint64(uint32(x))
+	h = (h ^ h>>29) * 0xbf58476d1ce4e5b9
+	h ^= uint64(uint32(y)) << 17
+	h = (h ^ h>>32) * 0x94d049bb133111eb
+	h ^= uint64(uint32(z))
+	h = (h ^ h>>31) * 0xbf58476d1ce4e5b9
+	return h ^ h>>29
+}
+
+// find returns the node equal to op(x, y, z), or the cell to put it in.
+func (t *cseTable) find(nodes []bnode, h uint64, op Op, x, y, z Slot) (s Slot, cell int, ok bool) {
+	mask := len(t.cells) - 1
+	tag := h >> 32 << 32
+	for i := int(h) & mask; ; i = (i + 1) & mask {
+		c := t.cells[i]
+		if c == 0 {
+			return 0, i, false
+		}
+		if c&^0xffffffff == tag {
+			s := Slot(uint32(c) - 1)
+			if nd := &nodes[s]; nd.op == op && nd.args == [3]Slot{x, y, z} {
+				return s, i, true
+			}
+		}
+	}
+}
+
+// grow doubles the table (or makes one of room for about n nodes).
+func (t *cseTable) grow(nodes []bnode, n int) {
+	size := 64
+	for size < 2*n || size < 2*len(t.cells) {
+		size *= 2
+	}
+	old := t.cells
+	t.cells = make([]uint64, size)
+	mask := size - 1
+	for _, c := range old {
+		if c == 0 {
+			continue
+		}
+		nd := &nodes[uint32(c)-1]
+		i := int(cseHash(nd.op, nd.args[0], nd.args[1], nd.args[2])) & mask
+		for t.cells[i] != 0 {
+			i = (i + 1) & mask
+		}
+		t.cells[i] = c
+	}
 }
 
 // Builder records a computation as a directed acyclic graph of
@@ -42,7 +99,7 @@ type cseKey struct {
 type Builder struct {
 	nodes  []bnode
 	consts map[uint64]Slot
-	cse    map[cseKey]Slot
+	cse    cseTable
 	inputs []Slot
 	pos    int32
 
@@ -58,7 +115,9 @@ func NewBuilder() *Builder { return NewBuilderSize(0) }
 
 // NewBuilderSize returns an empty Builder with room for about n nodes.
 func NewBuilderSize(n int) *Builder {
-	return &Builder{nodes: make([]bnode, 0, n), consts: map[uint64]Slot{}, cse: make(map[cseKey]Slot, n)}
+	b := &Builder{nodes: make([]bnode, 0, n), consts: map[uint64]Slot{}}
+	b.cse.grow(nil, n/2) // about half the nodes are operations
+	return b
 }
 
 // SetPos sets the source position attached to every node added until the
@@ -240,13 +299,17 @@ func (b *Builder) add(op Op, x, y, z Slot) Slot {
 			return b.Const(r)
 		}
 	}
-	key := cseKey{op, x, y, z}
-	if s, ok := b.cse[key]; ok {
+	h := cseHash(op, x, y, z)
+	s, cell, ok := b.cse.find(b.nodes, h, op, x, y, z)
+	if ok {
 		return s
 	}
-	s := Slot(len(b.nodes))
+	s = Slot(len(b.nodes))
 	b.nodes = append(b.nodes, bnode{op: op, args: args, pos: b.pos})
-	b.cse[key] = s
+	b.cse.cells[cell] = h>>32<<32 | uint64(uint32(s)+1)
+	if b.cse.n++; 2*b.cse.n > len(b.cse.cells) {
+		b.cse.grow(b.nodes, b.cse.n)
+	}
 	return s
 }
 
