@@ -319,10 +319,10 @@ func (fn *Fn) pieceCodes(codes, sw, x []float64, bs []tape.Branch) (float64, err
 // piecePlace names a piecewise operation: "file:line:col max in cost".
 func (fn *Fn) piecePlace(b tape.Branch) string {
 	name := b.Op.String()
-	if int(b.Pos) < 0 || int(b.Pos) >= len(fn.prog.pos) {
+	if int(b.Pos) < 0 || int(b.Pos) >= fn.prog.pos.len() {
 		return name
 	}
-	pe := fn.prog.pos[b.Pos]
+	pe := fn.prog.pos.at(int(b.Pos))
 	s := pe.file.Position(pe.pos).String() + " " + name
 	if pe.formula != "" {
 		s += " in " + pe.formula

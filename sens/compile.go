@@ -1,9 +1,11 @@
 package sens
 
 import (
+	"cmp"
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 	"sync"
@@ -27,7 +29,7 @@ type Program struct {
 	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
 	rates *unit.Rates    // the same rates for the unit package; nil when there are none
 	tape  *tape.Tape
-	pos   []posEntry // tape position table: SetPos value -> source
+	pos   posTable // tape position table: SetPos value -> source
 
 	vecProgram // vectors: their inputs, formulas and tables (compile_vec.go)
 }
@@ -36,6 +38,44 @@ type posEntry struct {
 	file    *syntax.File
 	pos     syntax.Pos
 	formula string
+}
+
+// posTable is the tape's position table: the offset of each number, and
+// the file and formula of each run of numbers that share them (a formula's
+// operations are numbered together), 4 bytes a number instead of a
+// posEntry's 32.
+type posTable struct {
+	pos  []int32
+	runs []posRun // by start
+}
+
+type posRun struct {
+	start   int32
+	file    *syntax.File
+	formula string
+}
+
+// add numbers a position and returns its number.
+func (t *posTable) add(f *syntax.File, pos syntax.Pos, formula string) int32 {
+	k := int32(len(t.pos))
+	if n := len(t.runs); n == 0 || t.runs[n-1].file != f || t.runs[n-1].formula != formula {
+		t.runs = append(t.runs, posRun{start: k, file: f, formula: formula})
+	}
+	t.pos = append(t.pos, int32(pos))
+	return k
+}
+
+// len returns the count of numbers.
+func (t *posTable) len() int { return len(t.pos) }
+
+// at returns the source of number k (0 <= k < t.len()).
+func (t *posTable) at(k int) posEntry {
+	i, _ := slices.BinarySearchFunc(t.runs, int32(k), func(r posRun, k int32) int { return cmp.Compare(r.start, k) })
+	if i == len(t.runs) || t.runs[i].start > int32(k) {
+		i--
+	}
+	r := t.runs[i]
+	return posEntry{file: r.file, pos: syntax.Pos(t.pos[k]), formula: r.formula}
 }
 
 // RangeSource says where an input's range came from.
@@ -265,7 +305,7 @@ func newCompiler(m *Model, extra *extraFormula) *compiler {
 	c := &compiler{
 		m: m, extra: extra,
 		decls: m.decls, ents: make([]entry, n),
-		prog: &Program{index: make(map[string]int, n), pos: make([]posEntry, 0, 4*n)},
+		prog: &Program{index: make(map[string]int, n), pos: posTable{pos: make([]int32, 0, 4*n)}},
 	}
 	c.b = newVBuilder(c, 4*n)
 	c.exchangeRates()
@@ -281,8 +321,7 @@ func (c *compiler) warnf(f *syntax.File, pos syntax.Pos, format string, args ...
 }
 
 func (c *compiler) setPos(f *syntax.File, pos syntax.Pos) {
-	c.prog.pos = append(c.prog.pos, posEntry{file: f, pos: pos, formula: c.cur})
-	c.b.SetPos(int32(len(c.prog.pos) - 1))
+	c.b.SetPos(c.prog.pos.add(f, pos, c.cur))
 }
 
 func (c *compiler) run() (*Program, error) {

@@ -158,11 +158,11 @@ func (b *vbuilder) lift(op tape.Op, args ...tape.Slot) (tape.Slot, bool) {
 	}
 	r := b.Map(op, args...)
 	b.c.vec.doms[r] = dom
-	if p := b.c.prog; len(p.pos) > 0 {
+	if p := b.c.prog; p.pos.len() > 0 {
 		if p.posDom == nil {
 			p.posDom = map[int32]*domain{}
 		}
-		p.posDom[int32(len(p.pos)-1)] = dom
+		p.posDom[int32(p.pos.len()-1)] = dom
 	}
 	return r, true
 }
@@ -215,12 +215,12 @@ func (c *compiler) isVec(v val) bool {
 // domainMismatch reports vectors over different rows at the current
 // position, once per position.
 func (c *compiler) domainMismatch(a, b *domain) {
-	k := len(c.prog.pos) - 1
+	k := c.prog.pos.len() - 1
 	if k < 0 || c.vec.reported[k] {
 		return
 	}
 	c.vec.reported[k] = true
-	pe := c.prog.pos[k]
+	pe := c.prog.pos.at(k)
 	c.errorf(pe.file, pe.pos, "vectors over different rows: one is over %s, the other over %s; element by element they must be over the same rows (filter with where, or sum first)",
 		a.describe(), b.describe())
 }

@@ -473,10 +473,10 @@ func (p *Program) secondError(err error, x []float64) error {
 // formula: "model.nudge:4:12: abs at 0 (a kink) in margin".
 func (p *Program) kinkText(k tape.Kink) string {
 	msg := k.Msg
-	if int(k.Pos) < 0 || int(k.Pos) >= len(p.pos) {
+	if int(k.Pos) < 0 || int(k.Pos) >= p.pos.len() {
 		return msg
 	}
-	pe := p.pos[k.Pos]
+	pe := p.pos.at(int(k.Pos))
 	pos := pe.file.Position(pe.pos)
 	msg += p.elementOf(&tape.DomainError{Pos: k.Pos, Element: k.Element})
 	if pe.formula != "" {

@@ -62,8 +62,8 @@ func (p *Problem) Listing(x []float64, free []int, limit int) (*Listing, error) 
 	L := &Listing{Listing: tl, Scale: fn.scale}
 	for _, ps := range tl.Pos {
 		w := ""
-		if int(ps) >= 0 && int(ps) < len(fn.prog.pos) {
-			e := fn.prog.pos[ps]
+		if int(ps) >= 0 && int(ps) < fn.prog.pos.len() {
+			e := fn.prog.pos.at(int(ps))
 			w = e.file.Position(e.pos).String()
 			if e.formula != "" {
 				w += " (" + e.formula + ")"

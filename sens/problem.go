@@ -164,7 +164,7 @@ func (p *Program) Problem(name string) (*Problem, error) {
 	}
 	pr.Correlations = p.problemCorrelations(pr)
 	for _, s := range p.steps(fn.f) {
-		e := p.pos[s]
+		e := p.pos.at(int(s))
 		pr.Steps = append(pr.Steps, e.file.Position(e.pos))
 	}
 	return pr, nil
@@ -218,8 +218,8 @@ func (fn *Fn) overflow(x []float64, what string, per ...string) error {
 		u += " per the unit of " + in
 	}
 	e := &EvalError{Pos: f.Pos, Formula: f.Name, Msg: what + " overflows when written in " + u + " (beyond about 1.8e+308)"}
-	if k := int(fn.tape.OutputPos(f.out)); k >= 0 && k < len(p.pos) && p.pos[k].file != nil {
-		e.Source = p.pos[k].file.Line(f.Pos.Line)
+	if k := int(fn.tape.OutputPos(f.out)); k >= 0 && k < p.pos.len() && p.pos.at(k).file != nil {
+		e.Source = p.pos.at(k).file.Line(f.Pos.Line)
 	}
 	if x != nil && len(x) == len(p.Inputs) {
 		e.Inputs = p.inputsNamed(p.Deps(f), x)
@@ -327,8 +327,8 @@ func (p *Program) evalError(err error, x []float64) error {
 		return err
 	}
 	e := &EvalError{Msg: de.Msg}
-	if int(de.Pos) >= 0 && int(de.Pos) < len(p.pos) {
-		pe := p.pos[de.Pos]
+	if int(de.Pos) >= 0 && int(de.Pos) < p.pos.len() {
+		pe := p.pos.at(int(de.Pos))
 		e.Pos = pe.file.Position(pe.pos)
 		e.Source = pe.file.Line(e.Pos.Line)
 		e.Formula = pe.formula
