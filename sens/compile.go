@@ -123,7 +123,7 @@ type Formula struct {
 	Text     string // the formula as written
 	Pos      syntax.Position
 
-	u    unit.Unit
+	u    *unit.Unit // the display unit, interned (see intern)
 	out  int        // tape output index
 	tape *tape.Tape // the tape of out; nil for the program's (an element of a vector formula has its own)
 	sc   float64    // the output's value in base units is the tape's times sc (0 means 1)
@@ -210,20 +210,20 @@ type extraFormula struct {
 // val is a compiled expression.
 type val struct {
 	slot    tape.Slot
+	boolean bool
+	konst   bool // the value is a known constant
+	bad     bool // an error was already reported
 	dim     unit.Dim
 	hint    *unit.Unit // a unit the user would expect the value in, or nil
-	boolean bool
-	konst   bool     // the value is a known constant
-	c       float64  // the constant, in base units
-	bad     bool     // an error was already reported
-	tx      *textVal // text: a text column or text in quotes (compile_vec.go); slot is unused
+	c       float64    // the constant, in base units
+	tx      *textVal   // text: a text column or text in quotes (compile_vec.go); slot is unused
 	// sc is a unit factor not yet multiplied in: the value in base units
 	// is the slot's value times sc (0 means 1). Products and quotients
 	// fold factors together instead of adding a node for each (see scaled).
 	sc float64
 }
 
-type state int
+type state uint8
 
 // entry is the compile state and value of one name.
 type entry struct {
@@ -601,10 +601,10 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 			c.errorf(f, declared.Pos(), "%s is declared [%s] (%s) but its formula gives %s (%s)%s", name, declared.Text, dimName(u.Dim), orPlain(unitText(c.shown(s.Value, v))), dimName(v.dim), numberFix)
 			v.bad = true
 		}
-		fm.u, fm.Unit, fm.Declared = u, declared.Text, true
+		fm.u, fm.Unit, fm.Declared = c.intern(u), declared.Text, true
 	default:
-		fm.u = c.display(v)
-		fm.Unit = unitText(fm.u)
+		fm.u = c.intern(c.display(v))
+		fm.Unit = unitText(*fm.u)
 	}
 	if !v.bad && !c.vectorFormula(fm, &v, s.Value.Pos()) {
 		if v.konst {
@@ -615,7 +615,7 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 		fm.sc = v.scale()
 		c.prog.index[name] = -1 - fm.out
 		c.prog.Formulas = append(c.prog.Formulas, fm)
-		v.hint = c.intern(fm.u)
+		v.hint = fm.u
 	}
 	e.setVal(v)
 	e.st = done

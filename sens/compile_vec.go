@@ -1262,8 +1262,8 @@ func (c *compiler) vectorFormula(fm *Formula, v *val, pos syntax.Pos) bool {
 	}
 	dom := c.b.domainOf(v.slot)
 	c.addVector(&Vector{Name: fm.Name, Kind: "formula", Over: dom.name, Noun: dom.noun, Keys: dom.keys, Unit: fm.Unit,
-		Text: fm.Text, Pos: fm.Pos, Table: dom.table, Rows: dom.rows, u: fm.u, slot: v.slot})
-	u := fm.u
+		Text: fm.Text, Pos: fm.Pos, Table: dom.table, Rows: dom.rows, u: *fm.u, slot: v.slot})
+	u := *fm.u
 	v.hint = &u
 	return true
 }
@@ -1348,7 +1348,8 @@ func (p *Program) vectorFn(name string) (fn *Fn, err error, ok bool) {
 		return nil, fmt.Errorf("no %s %s in %s%s", v.Noun, key, base, syntax.DidYouMean(key, v.Keys)), true
 	}
 	t := p.builder.Tape(p.builder.Elem(v.slot, j))
-	f := &Formula{Name: name, Unit: v.Unit, Text: v.Text, Pos: v.Pos, u: v.u, tape: t, lazy: &formulaLazy{}}
+	vu := v.u
+	f := &Formula{Name: name, Unit: v.Unit, Text: v.Text, Pos: v.Pos, u: &vu, tape: t, lazy: &formulaLazy{}}
 	return &Fn{prog: p, tape: t.Clone(), f: f, scale: 1 / f.u.Factor}, nil, true
 }
 
