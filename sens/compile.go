@@ -274,6 +274,11 @@ type compiler struct {
 	what    string      // the constant being evaluated, for messages
 
 	units map[unit.Unit]*unit.Unit // interned display units (see intern)
+	fblock []Formula // formulas not yet used (newFormula)
+	// unitMemo holds the units parsed (parseUnit), by their text, under the
+	// rates unitMemoRates.
+	unitMemo      map[string]unit.Unit
+	unitMemoRates *unit.Rates
 	// noFold multiplies every input by its unit factor where it is
 	// declared, as the compiler did before factors were folded: the
 	// reference of the folding tests.
@@ -537,6 +542,12 @@ func hasUnit(x syntax.Expr) bool {
 }
 
 func (c *compiler) parseUnit(f *syntax.File, ul *syntax.UnitLit) (unit.Unit, bool) {
+	if c.unitMemoRates != c.rates {
+		c.unitMemo, c.unitMemoRates = nil, c.rates
+	}
+	if u, ok := c.unitMemo[ul.Text]; ok {
+		return u, true
+	}
 	u, err := unit.Parse(ul.Text)
 	if err != nil {
 		pos := ul.Lbrack + 1
@@ -551,7 +562,12 @@ func (c *compiler) parseUnit(f *syntax.File, ul *syntax.UnitLit) (unit.Unit, boo
 		c.errorf(f, pos, "%s", msg)
 		return unit.One(), false
 	}
-	return u.In(c.rates), true
+	u = u.In(c.rates)
+	if c.unitMemo == nil {
+		c.unitMemo = map[string]unit.Unit{}
+	}
+	c.unitMemo[ul.Text] = u
+	return u, true
 }
 
 // formula compiles the formula name (and, first, everything it uses). ref is the
@@ -581,7 +597,8 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 
 	nerrs := len(c.errs)
 	v := c.expr(f, s.Value, false)
-	fm := &Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos()), lazy: &formulaLazy{}}
+	fm := c.newFormula()
+	*fm = Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos()), lazy: fm.lazy}
 	declared := s.Unit
 	var numberFix string // the number reading, offered when the declared unit fails
 	if declared != nil && !v.boolean {
@@ -623,6 +640,26 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 	c.curFile, c.cur = saveFile, saveCur
 	return v
 }
+
+// newFormula returns a new Formula with its formulaLazy, taken from blocks
+// of formulaBlock: two allocations a block rather than two a formula.
+func (c *compiler) newFormula() *Formula {
+	if len(c.fblock) == 0 {
+		n := min(formulaBlock, len(c.ents))
+		c.fblock = make([]Formula, n)
+		lz := make([]formulaLazy, n)
+		for i := range c.fblock {
+			c.fblock[i].lazy = &lz[i]
+		}
+	}
+	fm := &c.fblock[0]
+	c.fblock = c.fblock[1:]
+	return fm
+}
+
+// formulaBlock is the most formulas newFormula allocates at once (a
+// small model takes as many as it has names).
+const formulaBlock = 256
 
 // display returns the unit a value is best shown in.
 func (c *compiler) display(v val) unit.Unit {

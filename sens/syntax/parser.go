@@ -792,6 +792,8 @@ func (p *parser) parseArgs(fun string) (lp Pos, args []Expr, rp Pos) {
 // exprString renders x compactly, for messages.
 func exprString(x Expr) string {
 	var b fullBuilder
+	// Room for the source text and a few blanks: one allocation, usually.
+	b.Grow(max(int(x.End()-x.Pos()), 0) + 16)
 	writeExprTo(&b, x)
 	return b.String()
 }
