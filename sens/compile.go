@@ -273,8 +273,8 @@ type compiler struct {
 	rates   *unit.Rates // exchange rates every unit is expressed under
 	what    string      // the constant being evaluated, for messages
 
-	units map[unit.Unit]*unit.Unit // interned display units (see intern)
-	fblock []Formula // formulas not yet used (newFormula)
+	units  map[unit.Unit]*unit.Unit // interned display units (see intern)
+	fblock []Formula                // formulas not yet used (newFormula)
 	// unitMemo holds the units parsed (parseUnit), by their text, under the
 	// rates unitMemoRates.
 	unitMemo      map[string]unit.Unit
