@@ -751,18 +751,18 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 	if x.Name == "pi" {
 		return val{slot: c.b.Const(math.Pi), konst: true, c: math.Pi}
 	}
-	if v, ok := c.vecIdent(f, x, constCtx); ok {
+	v, d, ok := c.vecIdentDecl(f, x, constCtx)
+	if ok {
 		return v
 	}
 	if constCtx {
 		msg := fmt.Sprintf("%s must be a number, not the name %s", c.what, x.Name)
-		if c.decls[x.Name] != nil && strings.HasPrefix(c.what, "the value of input") {
+		if d != nil && strings.HasPrefix(c.what, "the value of input") {
 			msg += ": compute it in a formula instead"
 		}
 		c.errorf(f, x.Pos(), "%s", msg)
 		return val{bad: true}
 	}
-	d := c.decls[x.Name]
 	if d == nil {
 		if lookupFunc(x.Name) != nil {
 			c.errorf(f, x.Pos(), "%s is a function: call it as %s(...)", x.Name, x.Name)
@@ -775,7 +775,7 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 	if d.Input != nil {
 		return e.v
 	}
-	v := c.formulaAt(e, x.Name, d.File, d.Formula, x)
+	v = c.formulaAt(e, x.Name, d.File, d.Formula, x)
 	if v.bad {
 		return val{bad: true}
 	}

@@ -346,32 +346,40 @@ func valuesHint(s string, vals []string) string {
 // an element name[key], a table or periods name. ok is false for any other
 // name.
 func (c *compiler) vecIdent(f *syntax.File, x *syntax.Ident, constCtx bool) (val, bool) {
+	v, _, ok := c.vecIdentDecl(f, x, constCtx)
+	return v, ok
+}
+
+// vecIdentDecl is vecIdent that also returns, when it reports false, the
+// declaration of x (nil if none), so that the caller need not look it up
+// again.
+func (c *compiler) vecIdentDecl(f *syntax.File, x *syntax.Ident, constCtx bool) (val, *Decl, bool) {
 	name := x.Name
 	if base, key, ok := splitElement(name); ok {
-		return c.element(f, x, base, key, constCtx), true
+		return c.element(f, x, base, key, constCtx), nil, true
 	}
 	if strings.Contains(name, ".") {
-		return c.column(f, x, name), true
+		return c.column(f, x, name), nil, true
 	}
 	d := c.decls[name]
 	switch {
 	case d == nil:
-		return val{}, false
+		return val{}, nil, false
 	case d.Table != nil:
 		c.errorf(f, x.Pos(), "%s is a table: use one of its columns, %s.%s", name, name, d.Table.Columns[len(d.Table.Columns)-1].Name)
-		return val{bad: true}, true
+		return val{bad: true}, nil, true
 	case d.Periods != nil:
 		dom := c.domainNamed(f, x)
 		if dom == nil {
-			return val{bad: true}, true
+			return val{bad: true}, nil, true
 		}
 		vals := make([]float64, dom.size())
 		for i, k := range dom.keys {
 			vals[i], _ = strconv.ParseFloat(k, 64)
 		}
-		return val{slot: c.vector(c.b.VecConst(vals), dom)}, true
+		return val{slot: c.vector(c.b.VecConst(vals), dom)}, nil, true
 	}
-	return val{}, false
+	return val{}, d, false
 }
 
 // splitElement splits name[key] into name and key.
