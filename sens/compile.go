@@ -8,7 +8,7 @@ import (
 	"slices"
 	"sort"
 	"strings"
-	"sync"
+	"sync/atomic"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
 	"github.com/nudge-dev/nudge/sens/tape"
@@ -127,13 +127,13 @@ type Formula struct {
 	out  int        // tape output index
 	tape *tape.Tape // the tape of out; nil for the program's (an element of a vector formula has its own)
 	sc   float64    // the output's value in base units is the tape's times sc (0 means 1)
-	lazy *formulaLazy
+	lazy atomic.Pointer[formulaLazy] // nil until asked for (see trace)
 }
 
 // formulaLazy holds what is worked out from the tape only when asked for: a
-// program of many formulas pays for the ones that are analysed.
+// program of many formulas pays for the ones that are analysed, and a
+// formula not analysed carries one nil pointer.
 type formulaLazy struct {
-	once  sync.Once
 	deps  []int   // inputs the formula depends on, ascending
 	steps []int32 // positions of the step operations on its path
 }
@@ -141,22 +141,26 @@ type formulaLazy struct {
 // Deps returns the indices (into Inputs) of the inputs formula f depends on,
 // ascending. It is safe for concurrent use.
 func (p *Program) Deps(f *Formula) []int {
-	p.trace(f)
-	return f.lazy.deps
+	return p.trace(f).deps
 }
 
 // steps returns the positions of the step operations on f's path.
 func (p *Program) steps(f *Formula) []int32 {
-	p.trace(f)
-	return f.lazy.steps
+	return p.trace(f).steps
 }
 
-func (p *Program) trace(f *Formula) {
-	f.lazy.once.Do(func() {
-		t := p.tapeOf(f)
-		f.lazy.deps = t.InputDeps(f.out)
-		f.lazy.steps = t.StepOps(f.out)
-	})
+// trace works out f's formulaLazy once. Two goroutines that ask at the
+// same time may both work it out; the first one stored is kept.
+func (p *Program) trace(f *Formula) *formulaLazy {
+	if l := f.lazy.Load(); l != nil {
+		return l
+	}
+	t := p.tapeOf(f)
+	l := &formulaLazy{deps: t.InputDeps(f.out), steps: t.StepOps(f.out)}
+	if f.lazy.CompareAndSwap(nil, l) {
+		return l
+	}
+	return f.lazy.Load()
 }
 
 // Lookup returns the input or formula called name.
@@ -598,7 +602,7 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 	nerrs := len(c.errs)
 	v := c.expr(f, s.Value, false)
 	fm := c.newFormula()
-	*fm = Formula{Name: name, Text: syntax.String(s.Value), Pos: f.Position(s.Name.Pos()), lazy: fm.lazy}
+	fm.Name, fm.Text, fm.Pos = name, syntax.String(s.Value), f.Position(s.Name.Pos())
 	declared := s.Unit
 	var numberFix string // the number reading, offered when the declared unit fails
 	if declared != nil && !v.boolean {
@@ -641,16 +645,11 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 	return v
 }
 
-// newFormula returns a new Formula with its formulaLazy, taken from blocks
-// of formulaBlock: two allocations a block rather than two a formula.
+// newFormula returns a new Formula, taken from blocks of formulaBlock: one
+// allocation a block rather than one a formula.
 func (c *compiler) newFormula() *Formula {
 	if len(c.fblock) == 0 {
-		n := min(formulaBlock, len(c.ents))
-		c.fblock = make([]Formula, n)
-		lz := make([]formulaLazy, n)
-		for i := range c.fblock {
-			c.fblock[i].lazy = &lz[i]
-		}
+		c.fblock = make([]Formula, min(formulaBlock, len(c.ents)))
 	}
 	fm := &c.fblock[0]
 	c.fblock = c.fblock[1:]

@@ -1357,7 +1357,7 @@ func (p *Program) vectorFn(name string) (fn *Fn, err error, ok bool) {
 	}
 	t := p.builder.Tape(p.builder.Elem(v.slot, j))
 	vu := v.u
-	f := &Formula{Name: name, Unit: v.Unit, Text: v.Text, Pos: v.Pos, u: &vu, tape: t, lazy: &formulaLazy{}}
+	f := &Formula{Name: name, Unit: v.Unit, Text: v.Text, Pos: v.Pos, u: &vu, tape: t}
 	return &Fn{prog: p, tape: t.Clone(), f: f, scale: 1 / f.u.Factor}, nil, true
 }
 
