@@ -123,10 +123,10 @@ type Formula struct {
 	Text     string // the formula as written
 	Pos      syntax.Position
 
-	u    *unit.Unit // the display unit, interned (see intern)
-	out  int        // tape output index
-	tape *tape.Tape // the tape of out; nil for the program's (an element of a vector formula has its own)
-	sc   float64    // the output's value in base units is the tape's times sc (0 means 1)
+	u    *unit.Unit                  // the display unit, interned (see intern)
+	out  int                         // tape output index
+	tape *tape.Tape                  // the tape of out; nil for the program's (an element of a vector formula has its own)
+	sc   float64                     // the output's value in base units is the tape's times sc (0 means 1)
 	lazy atomic.Pointer[formulaLazy] // nil until asked for (see trace)
 }
 
