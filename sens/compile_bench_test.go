@@ -2,6 +2,8 @@ package sens
 
 import (
 	"fmt"
+	"os"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -79,6 +81,52 @@ func TestDepsOfSubOutput(t *testing.T) {
 func BenchmarkCompileScale(b *testing.B) {
 	src := tapebench.ScaleModel(10_000, true, 1)
 	f, stmts, err := syntax.Parse("bid", src)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		m := NewModel()
+		for _, s := range stmts {
+			m.Define(f, s)
+		}
+		if _, err := m.Compile(); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// scaleLines is the size of the scale model of BenchmarkScaleParse and
+// BenchmarkScaleCompile: 100,000 lines, or NUDGE_SCALE_LINES.
+func scaleLines(b *testing.B) int {
+	if s := os.Getenv("NUDGE_SCALE_LINES"); s != "" {
+		n, err := strconv.Atoi(s)
+		if err != nil || n < 3 {
+			b.Fatalf("NUDGE_SCALE_LINES=%q: want a number of lines, at least 3", s)
+		}
+		return n
+	}
+	return 100_000
+}
+
+// BenchmarkScaleParse and BenchmarkScaleCompile time the two steps of
+// `nudge bench scale` on the scale model (without if), for the ratio
+// compile / parse from one run:
+//
+//	go test ./sens/ -run '^$' -bench 'Scale(Parse|Compile)$' -benchtime=3x
+func BenchmarkScaleParse(b *testing.B) {
+	src := tapebench.ScaleModel(scaleLines(b), false, 1)
+	for b.Loop() {
+		if _, _, err := syntax.Parse("bid", src); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkScaleCompile declares the parsed model's statements and
+// compiles it, as `nudge bench scale` times "compile".
+func BenchmarkScaleCompile(b *testing.B) {
+	f, stmts, err := syntax.Parse("bid", tapebench.ScaleModel(scaleLines(b), false, 1))
 	if err != nil {
 		b.Fatal(err)
 	}
