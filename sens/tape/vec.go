@@ -1214,35 +1214,7 @@ func (t *Tape) loopBlock(k, m int) (bad bool) {
 		if t.bsum == nil {
 			t.bsum = make([]float64, (sumLanes+sumStack)*t.bw)
 		}
-		if n <= sumBlock {
-			t.sumBlockRows(l, k, 0, n, m, o)
-			break
-		}
-		// The tree of sumOrdered, over rows: a stack of partial sums.
-		stack := func(i int) []float64 { return t.bsum[(sumLanes+i)*t.bw : (sumLanes+i)*t.bw+m] }
-		var ht [sumStack]uint8
-		sp := 0
-		for lo := 0; lo < n; lo += sumBlock {
-			t.sumBlockRows(l, k, lo, min(lo+sumBlock, n), m, stack(sp))
-			ht[sp] = 0
-			sp++
-			for sp >= 2 && ht[sp-2] == ht[sp-1] {
-				a, c := stack(sp-2), stack(sp-1)
-				for s := range a {
-					a[s] += c[s]
-				}
-				ht[sp-2]++
-				sp--
-			}
-		}
-		for sp >= 2 {
-			a, c := stack(sp-2), stack(sp-1)
-			for s := range a {
-				a[s] += c[s]
-			}
-			sp--
-		}
-		copy(o, stack(0))
+		t.treeRows(n, m, o, func(lo, hi int, dst []float64) { t.sumBlockRows(l, k, lo, hi, m, dst) })
 	case loopMin, loopMax:
 		o := row(k)
 		for j := range n {
@@ -1299,6 +1271,14 @@ func (t *Tape) sumRows(n, m int, o []float64, term func(j int) []float64) {
 			}
 		}
 	}
+	t.treeRows(n, m, o, leaf)
+}
+
+// treeRows writes into o, over a block of m samples, the sum of n terms in
+// the order of sumOrdered: leaf(lo, hi, dst) writes the sum of the terms
+// lo..hi-1 (at most sumBlock of them) into dst, and the blocks' sums are
+// added pairwise as a binary tree, left to right, on a stack in t.bsum.
+func (t *Tape) treeRows(n, m int, o []float64, leaf func(lo, hi int, dst []float64)) {
 	if n <= sumBlock {
 		leaf(0, n, o)
 		return
