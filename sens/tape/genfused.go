@@ -195,36 +195,21 @@ func main() {
 		}
 	}
 	operands := []string{"a", "b", "c", "d", "e", "f"}
-	for n := 2; n <= 3; n++ {
-		count := 16
-		if n == 3 {
-			count = 64
+	forSeqs(func(off int, seq []int) {
+		var syms []string
+		for _, o := range seq {
+			syms = append(syms, ops[o].sym)
 		}
-		for idx := 0; idx < count; idx++ {
-			var seq []int
-			for j, x := 0, idx; j < n; j++ {
-				seq = append([]int{x % 4}, seq...)
-				x /= 4
-			}
-			off := idx
-			if n == 3 {
-				off += 16
-			}
-			var syms []string
-			for _, o := range seq {
-				syms = append(syms, ops[o].sym)
-			}
-			p("\t\tcase kSeq + %d: // %s\n", off, strings.Join(syms, " "))
-			for j, o := range seq {
-				x, y := operands[2*j], operands[2*j+1]
-				if ops[o].sym == "/" {
-					p("\t\t\tif d := v[in.%s]; true {\n\t\t\t\tv[in.n+%d] = v[in.%s] / d\n\t\t\t\tif !finite(d) {\n\t\t\t\t\tbad = true\n\t\t\t\t}\n\t\t\t}\n", y, j, x)
-				} else {
-					p("\t\t\tv[in.n+%d] = v[in.%s] %s v[in.%s]\n", j, x, ops[o].sym, y)
-				}
+		p("\t\tcase kSeq + %d: // %s\n", off, strings.Join(syms, " "))
+		for j, o := range seq {
+			x, y := operands[2*j], operands[2*j+1]
+			if ops[o].sym == "/" {
+				p("\t\t\tif d := v[in.%s]; true {\n\t\t\t\tv[in.n+%d] = v[in.%s] / d\n\t\t\t\tif !finite(d) {\n\t\t\t\t\tbad = true\n\t\t\t\t}\n\t\t\t}\n", y, j, x)
+			} else {
+				p("\t\t\tv[in.n+%d] = v[in.%s] %s v[in.%s]\n", j, x, ops[o].sym, y)
 			}
 		}
-	}
+	})
 	for j, c := range cmps {
 		p("\t\tcase kCmpIf + %d: // if(x %s y, t, e)\n", j, c.sym)
 		p("\t\t\tx, y, t, e := v[in.a], v[in.b], v[in.c], v[in.d]\n")
@@ -526,6 +511,22 @@ func genReverse(p func(string, ...any)) {
 	}
 	// Sequences: each node by itself, last first.
 	operands := []string{"in.a", "in.b", "in.c", "in.d", "in.e", "in.f"}
+	forSeqs(func(off int, seq []int) {
+		p("\t\tcase kSeq + %d:\n", off)
+		for j := len(seq) - 1; j >= 0; j-- {
+			gk := fmt.Sprintf("gs%d", j)
+			p("\t\t\tif %s := g[in.n+%d]; %s != 0 {\n\t\t\t\tg[in.n+%d] = 0\n", gk, j, gk, j)
+			node(ops[seq[j]].sym, gk, ropnd{slot: operands[2*j]}, ropnd{slot: operands[2*j+1]}, fmt.Sprintf("v[in.n+%d]", j))
+			p("\t\t\t}\n")
+		}
+	})
+	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.n] = 0\n\t\t\t\tp.revDeriv(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
+}
+
+// forSeqs calls f for every fused sequence of two or three of + - * /, in
+// kind order: off is the kind's offset from kSeq (the 16 pairs, then the 64
+// triples) and seq the operators' indices in ops, first node first.
+func forSeqs(f func(off int, seq []int)) {
 	for n := 2; n <= 3; n++ {
 		count := 16
 		if n == 3 {
@@ -541,14 +542,7 @@ func genReverse(p func(string, ...any)) {
 			if n == 3 {
 				off += 16
 			}
-			p("\t\tcase kSeq + %d:\n", off)
-			for j := n - 1; j >= 0; j-- {
-				gk := fmt.Sprintf("gs%d", j)
-				p("\t\t\tif %s := g[in.n+%d]; %s != 0 {\n\t\t\t\tg[in.n+%d] = 0\n", gk, j, gk, j)
-				node(ops[seq[j]].sym, gk, ropnd{slot: operands[2*j]}, ropnd{slot: operands[2*j+1]}, fmt.Sprintf("v[in.n+%d]", j))
-				p("\t\t\t}\n")
-			}
+			f(off, seq)
 		}
 	}
-	p("\t\tdefault:\n\t\t\tif gk := g[in.n]; gk != 0 {\n\t\t\t\tg[in.n] = 0\n\t\t\t\tp.revDeriv(g, v, int(in.n), gk)\n\t\t\t}\n\t\t}\n\t}\n}\n")
 }
