@@ -235,26 +235,74 @@ func (d *drawer) draw(c, i, m int) []float64 {
 // drawTo fills col with the first len(col) values of input i in chunk c.
 func (d *drawer) drawTo(col []float64, c, i int) {
 	seedStream(&d.pcg, d.seed, d.purpose, uint64(c), uint64(i))
-	r := d.r[i]
-	for j := range col {
-		col[j] = r.Rand()
-	}
+	d.fill(col, i)
 }
 
 // drawInto fills dst with input i's values of chunk c, in pieces, calling
 // stop between them; the values are those draw would give.
 func (d *drawer) drawInto(dst []float64, c, i int, stop func() error) error {
 	seedStream(&d.pcg, d.seed, d.purpose, uint64(c), uint64(i))
-	r := d.r[i]
 	for start := 0; start < len(dst); start += 1 << 16 {
 		if err := stop(); err != nil {
 			return err
 		}
-		for j := start; j < min(len(dst), start+1<<16); j++ {
-			dst[j] = r.Rand()
-		}
+		d.fill(dst[start:min(len(dst), start+1<<16)], i)
 	}
 	return nil
+}
+
+// fill fills col with the next values of input i from the stream d.pcg.
+// The distributions of the language are drawn through calls the compiler
+// can resolve (and inline): the same gonum methods, the same stream and the
+// same values as through the distuv.Rander interface, without an indirect
+// call for every value and every random number. A uniform or triangular
+// distribution is drawn by inverse transform exactly as quantileRander does.
+func (d *drawer) fill(col []float64, i int) {
+	switch r := d.r[i].(type) {
+	case quantileRander:
+		switch q := r.d.(type) {
+		case uniformDist:
+			for j := range col {
+				col[j] = q.Quantile(d.unit())
+			}
+		case triangularDist:
+			for j := range col {
+				col[j] = q.Triangle.Quantile(d.unit())
+			}
+		default:
+			for j := range col {
+				col[j] = q.Quantile(d.unit())
+			}
+		}
+	case distuv.Normal:
+		for j := range col {
+			col[j] = r.Rand()
+		}
+	case distuv.LogNormal:
+		for j := range col {
+			col[j] = r.Rand()
+		}
+	case pertRander:
+		for j := range col {
+			col[j] = r.Rand()
+		}
+	default:
+		for j := range col {
+			col[j] = r.Rand()
+		}
+	}
+}
+
+// unit returns the next uniform variate on (0, 1) of d.pcg as
+// quantileRander.Rand draws it: rand.Rand's Float64 of the stream, drawn
+// again when 0.
+func (d *drawer) unit() float64 {
+	for {
+		// (*rand.Rand).Float64: a multiple of 2^-53 in [0, 1).
+		if u := float64(d.pcg.Uint64()<<11>>11) / (1 << 53); u != 0 {
+			return u
+		}
+	}
 }
 
 // scatter writes col as column i of the rows of k values in xs.

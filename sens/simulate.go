@@ -212,15 +212,25 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 
 	cs := chunkRows(k)
 	nChunks := (n + cs - 1) / cs
+	// Every input's samples are kept for the rank correlations when they
+	// fit, chunk by chunk: a chunk's columns are allocated (and cleared) by
+	// the goroutine that draws them, not before the parallel part.
 	keep := n*k <= maxKeptFloats
-	var kept [][]float64
+	var kept [][]float64 // kept[c]: chunk c's columns, m apart
 	if keep {
-		kept = make([][]float64, k)
-		for i := range kept {
-			if kept[i] = corrCol[i]; kept[i] == nil {
-				kept[i] = make([]float64, n)
-			}
+		kept = make([][]float64, nChunks)
+	}
+	// column returns input i's values in chunk c when they are held.
+	column := func(c, i int) []float64 {
+		base := c * cs
+		m := min(cs, n-base)
+		switch {
+		case corrCol[i] != nil:
+			return corrCol[i][base : base+m]
+		case keep:
+			return kept[c][i*m : (i+1)*m]
 		}
+		return nil
 	}
 	type worker struct {
 		f    Function
@@ -229,14 +239,12 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		buf  []float64   // columns of the inputs not kept, cs apart
 		rows []float64   // for a Function that takes rows only
 		row  []float64   // one sample, to find failures
+		rs   rankSorter
 	}
-	workers := make([]*worker, min(workerCount(s.Workers), nChunks))
+	workers := make([]*worker, min(workerCount(s.Workers), max(nChunks, k+1)))
 	for w := range workers {
 		wk := &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamSimulate, cs),
 			cols: make([][]float64, k), row: make([]float64, k)}
-		if !keep {
-			wk.buf = make([]float64, cs*k)
-		}
 		workers[w] = wk
 	}
 	y := make([]float64, n)
@@ -246,15 +254,18 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		wk := workers[w]
 		base := c * cs
 		m := min(cs, n-base)
+		if keep {
+			kept[c] = make([]float64, m*k)
+		} else if wk.buf == nil {
+			wk.buf = make([]float64, cs*k)
+		}
 		// Each input's values are drawn into the column they are kept in,
 		// and the model reads the columns in place.
 		for i := range k {
-			var col []float64
+			col := column(c, i)
 			switch {
 			case corrCol[i] != nil:
-				col = corrCol[i][base : base+m]
 			case keep:
-				col = kept[i][base : base+m]
 				wk.d.drawTo(col, c, i)
 			default:
 				col = wk.buf[i*cs : i*cs+m]
@@ -294,12 +305,18 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 			break
 		}
 	}
-	vals := make([]float64, 0, n)
-	for j, v := range y {
-		if failed[j] {
+	vals := y
+	for _, f := range failed {
+		if f {
 			res.Failed++
-		} else {
-			vals = append(vals, v)
+		}
+	}
+	if res.Failed > 0 {
+		vals = make([]float64, 0, n-res.Failed)
+		for j, v := range y {
+			if !failed[j] {
+				vals = append(vals, v)
+			}
 		}
 	}
 	res.Valid = len(vals)
@@ -316,56 +333,65 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 	if err := stop(); err != nil {
 		return nil, err
 	}
-	// One sort of the outputs gives both the quantiles and the ranks.
-	var rk ranker
-	order := rk.order(vals)
-	sorted := make([]float64, len(vals))
-	for r, x := range order {
-		sorted[r] = vals[x.i]
-	}
-	summariseSamples(res, vals, sorted, s.Above)
 
-	if err := stop(); err != nil {
-		return nil, err
-	}
-	// What drives the spread: each input's rank correlation with the output.
-	ry := midranks(make([]float64, len(vals)), order)
+	// The statistics and what drives the spread, each input's rank
+	// correlation with the output, in parallel: task 0 sorts the outputs,
+	// which gives both the quantiles and the outputs' ranks, and each other
+	// task ranks one input's samples. An input's task waits for the
+	// outputs' ranks only after sorting its own samples, and task 0 is the
+	// first taken, so no goroutine waits for long and none for ever.
+	nv := len(vals)
+	ry := make([]float64, nv) // the outputs' ranks less (n+1)/2
+	var ssy float64
+	yReady := make(chan struct{})
 	rc := make([]RankCorrelation, k)
 	perInput := max(1, n/10/k)
-	type rankWorker struct {
-		rk    ranker
-		x, rx []float64
-	}
-	rws := make([]rankWorker, len(workers))
-	err = runChunks(pr, len(workers), k, func(w, i int) error {
-		wk, rw := workers[w], &rws[w]
-		x := kept0(kept, i)
-		if x == nil {
-			if rw.x == nil {
-				rw.x = make([]float64, n)
+	err = runChunks(pr, len(workers), k+1, func(w, task int) error {
+		wk := workers[w]
+		if task == 0 {
+			order := wk.rs.order(vals)
+			ssy = wk.rs.centredRanks(ry, order)
+			close(yReady)
+			sorted := make([]float64, nv)
+			for r, v := range order {
+				sorted[r] = vals[wk.rs.idx(v)]
 			}
-			x = rw.x
-			for c := range nChunks {
-				copy(x[c*cs:], wk.d.draw(c, i, min(cs, n-c*cs)))
+			summariseSamples(res, vals, sorted, s.Above)
+			return nil
+		}
+		i := task - 1
+		keys := wk.rs.keysFor(nv)
+		at := 0
+		for c := range nChunks {
+			x := column(c, i)
+			if x == nil {
+				x = wk.d.draw(c, i, min(cs, n-c*cs))
+			}
+			if res.Failed == 0 {
+				for j, v := range x {
+					keys[at+j] = floatKey(v)
+				}
+				at += len(x)
+				continue
+			}
+			for j, v := range x {
+				if !failed[c*cs+j] {
+					keys[at] = floatKey(v)
+					at++
+				}
 			}
 		}
 		if err := stop(); err != nil {
 			return err
 		}
-		if res.Failed > 0 {
-			xv := make([]float64, 0, len(vals))
-			for j, v := range x {
-				if !failed[j] {
-					xv = append(xv, v)
-				}
-			}
-			x = xv
+		order := wk.rs.sortKeys(nv)
+		select {
+		case <-yReady:
+		case <-ctx.Done():
+			return stop()
 		}
-		if rw.rx == nil {
-			rw.rx = make([]float64, len(vals))
-		}
-		rx := rw.rk.ranks(rw.rx, x)
-		rc[i] = RankCorrelation{Name: p.Inputs[i].Name, Spearman: pearson(rx, ry)}
+		dot, ssx := wk.rs.rankDot(order, ry)
+		rc[i] = RankCorrelation{Name: p.Inputs[i].Name, Spearman: rankCorrelation(dot, ssx, ssy)}
 		pr.add(perInput)
 		return nil
 	})
@@ -381,13 +407,6 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 	})
 	res.RankCorrelations = rc
 	return res, nil
-}
-
-func kept0(kept [][]float64, i int) []float64 {
-	if kept == nil {
-		return nil
-	}
-	return kept[i]
 }
 
 // summariseSamples fills the statistics of the valid samples vals, given
