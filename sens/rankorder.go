@@ -61,10 +61,13 @@ func (s *rankSorter) tie(a, b uint64) bool {
 // digits, for centredRanks and rankDot).
 func (s *rankSorter) sorted(xs []float64) []uint64 {
 	keys := s.keysFor(len(xs))
+	lo, hi := uint64(math.MaxUint64), uint64(0)
 	for i, x := range xs {
-		keys[i] = floatKey(x)
+		k := floatKey(x)
+		keys[i] = k
+		lo, hi = min(lo, k), max(hi, k)
 	}
-	return s.sortKeys(len(xs))
+	return s.sortKeys(len(xs), lo, hi)
 }
 
 // order returns the words of xs in final order (indices by idx), valid
@@ -77,11 +80,11 @@ func (s *rankSorter) order(xs []float64) []uint64 {
 	return w
 }
 
-// sortKeys sorts the first n keys of keysFor(n) by the radix sort and
-// returns the n words, valid until the next call, in order of their top
+// sortKeys sorts the first n keys of keysFor(n), whose smallest is lo and
+// largest hi, by the radix sort and returns the n words, valid until the next call, in order of their top
 // digits only: runEnd puts each run of words equal in those in final order,
 // which centredRanks and rankDot do as they go.
-func (s *rankSorter) sortKeys(n int) []uint64 {
+func (s *rankSorter) sortKeys(n int, lo, hi uint64) []uint64 {
 	if cap(s.w) < n {
 		s.w, s.tmp = make([]uint64, n), make([]uint64, n)
 	}
@@ -93,10 +96,6 @@ func (s *rankSorter) sortKeys(n int) []uint64 {
 	if n == 0 {
 		s.lossless = true
 		return w
-	}
-	lo, hi := keys[0], keys[0]
-	for _, k := range keys {
-		lo, hi = min(lo, k), max(hi, k)
 	}
 	shift := uint(bits.LeadingZeros64(hi - lo)) // 64 when every key is equal
 	s.lossless = shift >= s.ib

@@ -23,17 +23,23 @@ func rankSamples() map[string][]float64 {
 		return x
 	}
 	return map[string][]float64{
-		"empty":    {},
-		"one":      {3},
-		"two":      {2, 1},
-		"equal":    gen(1000, func(int) float64 { return 4.5 }),
-		"normal":   gen(20_000, func(int) float64 { return 100 + 20*rng.NormFloat64() }),
-		"ties":     gen(5000, func(int) float64 { return float64(rng.IntN(40)) - 20 }),
-		"halves":   gen(3000, func(int) float64 { return float64(rng.IntN(7)) / 2 }),
-		"zeros":    gen(2000, func(int) float64 { return []float64{0, math.Copysign(0, -1), 1, -1}[rng.IntN(4)] }),
-		"inf":      gen(1500, func(int) float64 { return []float64{math.Inf(1), math.Inf(-1), rng.Float64()}[rng.IntN(3)] }),
-		"narrow":   gen(10_000, func(int) float64 { return 1 + rng.Float64()*1e-12 }),
-		"lowbits":  gen(10_000, func(int) float64 { return math.Float64frombits(0x3ff0_0000_0000_0000 | rng.Uint64N(64)) }),
+		"empty":   {},
+		"one":     {3},
+		"two":     {2, 1},
+		"equal":   gen(1000, func(int) float64 { return 4.5 }),
+		"normal":  gen(20_000, func(int) float64 { return 100 + 20*rng.NormFloat64() }),
+		"ties":    gen(5000, func(int) float64 { return float64(rng.IntN(40)) - 20 }),
+		"halves":  gen(3000, func(int) float64 { return float64(rng.IntN(7)) / 2 }),
+		"zeros":   gen(2000, func(int) float64 { return []float64{0, math.Copysign(0, -1), 1, -1}[rng.IntN(4)] }),
+		"inf":     gen(1500, func(int) float64 { return []float64{math.Inf(1), math.Inf(-1), rng.Float64()}[rng.IntN(3)] }),
+		"narrow":  gen(10_000, func(int) float64 { return 1 + rng.Float64()*1e-12 }),
+		"lowbits": gen(10_000, func(int) float64 { return math.Float64frombits(0x3ff0_0000_0000_0000 | rng.Uint64N(64)) }),
+		"lost": gen(3000, func(j int) float64 { // key bits below the index's lost in the words
+			if j%1000 == 0 {
+				return math.Copysign(1e300, float64(j%2000)-1)
+			}
+			return math.Float64frombits(0x3ff0_0000_0000_0000 | rng.Uint64N(64))
+		}),
 		"wide":     gen(10_000, func(int) float64 { return math.Exp(rng.NormFloat64()*200) * float64(1-2*rng.IntN(2)) }),
 		"outlier":  gen(8000, func(j int) float64 { return map[bool]float64{true: 1e300, false: 1 + rng.Float64()}[j == 17] }),
 		"lognorm":  gen(4097, func(int) float64 { return math.Exp(rng.NormFloat64() * 3) }),
@@ -47,9 +53,11 @@ func rankSamples() map[string][]float64 {
 // standard library) on each sample: the values in sorted order are those of
 // sort.Float64s, -0 sorts before +0, and equal values keep their index
 // order; and the ranks against ranks counted by brute force from the
-// standard library's order.
+// standard library's order; and the rank correlation with another sample
+// against gonum.
 func TestRankSorterOrder(t *testing.T) {
 	var rs rankSorter
+	rng := rand.New(rand.NewPCG(1, 1))
 	for name, xs := range rankSamples() {
 		want := append([]float64(nil), xs...)
 		sort.Float64s(want)
@@ -75,7 +83,7 @@ func TestRankSorterOrder(t *testing.T) {
 				}
 			}
 		}
-		if len(xs) > 5000 {
+		if len(xs) > 3000 {
 			continue // brute-force ranks below are quadratic
 		}
 		// Mean ranks, by brute force: 1 + the number smaller + half the
@@ -96,6 +104,27 @@ func TestRankSorterOrder(t *testing.T) {
 			if want := 1 + float64(less) + float64(same-1)/2; ry[i]+mid != want {
 				t.Fatalf("%s: rank of sample %d (%v) is %v, counted %v", name, i, x, ry[i]+mid, want)
 			}
+		}
+		// The same sample's rank correlation with another, against gonum's
+		// Pearson correlation of the mean ranks.
+		if len(xs) < 3 {
+			continue
+		}
+		other := make([]float64, len(xs))
+		for j := range other {
+			other[j] = rng.NormFloat64()
+		}
+		var ro rankSorter
+		co := make([]float64, len(xs))
+		sso := ro.centredRanks(co, ro.sorted(other))
+		dot, ssx := rs.rankDot(rs.sorted(xs), co)
+		got := rankCorrelation(dot, ssx, sso)
+		ref := stat.Correlation(ranks(make([]float64, len(xs)), xs), ranks(make([]float64, len(xs)), other), nil)
+		if math.IsNaN(ref) {
+			ref = 0 // a constant sample
+		}
+		if math.Abs(got-ref) > 1e-13 {
+			t.Errorf("%s: rank correlation %v, gonum on the ranks %v", name, got, ref)
 		}
 	}
 }

@@ -116,8 +116,8 @@ const maxFailureInputs = 50
 
 // maxKeptFloats bounds the memory Simulate spends keeping every input's
 // samples for the rank correlations (64 MiB); beyond it they are drawn again
-// from their streams.
-const maxKeptFloats = 1 << 23
+// from their streams. A variable so that a test can take both paths.
+var maxKeptFloats = 1 << 23
 
 // chunkRows returns the number of samples per chunk for k inputs: at most
 // 256 (the width of the tape's batched pass), fewer when k is large so that
@@ -362,21 +362,27 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		i := task - 1
 		keys := wk.rs.keysFor(nv)
 		at := 0
+		lo, hi := uint64(math.MaxUint64), uint64(0)
 		for c := range nChunks {
 			x := column(c, i)
 			if x == nil {
 				x = wk.d.draw(c, i, min(cs, n-c*cs))
 			}
 			if res.Failed == 0 {
+				kc := keys[at : at+len(x)]
 				for j, v := range x {
-					keys[at+j] = floatKey(v)
+					key := floatKey(v)
+					kc[j] = key
+					lo, hi = min(lo, key), max(hi, key)
 				}
 				at += len(x)
 				continue
 			}
 			for j, v := range x {
 				if !failed[c*cs+j] {
-					keys[at] = floatKey(v)
+					key := floatKey(v)
+					keys[at] = key
+					lo, hi = min(lo, key), max(hi, key)
 					at++
 				}
 			}
@@ -384,7 +390,7 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		if err := stop(); err != nil {
 			return err
 		}
-		order := wk.rs.sortKeys(nv)
+		order := wk.rs.sortKeys(nv, lo, hi)
 		select {
 		case <-yReady:
 		case <-ctx.Done():

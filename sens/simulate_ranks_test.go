@@ -1,0 +1,102 @@
+package sens
+
+import (
+	"encoding/json"
+	"math"
+	"runtime"
+	"testing"
+
+	"gonum.org/v1/gonum/stat"
+)
+
+// TestSimulateRankCorrelationsAgainstGonum checks each input's rank
+// correlation with the output against Pearson's correlation of the mean
+// ranks computed by gonum's stat.Correlation (the definition of Spearman's
+// coefficient) from the samples themselves, on a model with an input of
+// many ties, an imposed correlation and domain failures (whose samples are
+// left out of both).
+func TestSimulateRankCorrelationsAgainstGonum(t *testing.T) {
+	p := problemOf(t, `
+input a = 1 ~ normal(1, 1)
+input b = 2 ~ pert(1, 2, 4)
+input c = 3 (2..5)
+input d = 2 ~ uniform(0, 4)
+spearman a, b = 0.5
+y = sqrt(a) * b + c^2 + floor(d)
+`, "y")
+	const n, seed = 4000, 9
+	r := simulate(t, p, &SimulationSettings{N: n, Seed: seed})
+	if r.Failed == 0 {
+		t.Fatal("expected failures: sqrt of a negative a")
+	}
+	// The inputs' samples, in sample order, from the identity of each
+	// (pick never fails), and the output's.
+	cols := sampleColumns(t, p, n, seed)
+	y := make([]float64, n)
+	keep := make([]bool, n)
+	for j := range n {
+		x := []float64{cols[0][j], cols[1][j], cols[2][j], cols[3][j]}
+		v, err := p.F.Eval(x)
+		keep[j] = err == nil
+		y[j] = v
+	}
+	valid := func(x []float64) []float64 {
+		var out []float64
+		for j, v := range x {
+			if keep[j] {
+				out = append(out, v)
+			}
+		}
+		return out
+	}
+	yv := valid(y)
+	if len(yv) != r.Valid {
+		t.Fatalf("%d valid samples recomputed, %d reported", len(yv), r.Valid)
+	}
+	ry := ranks(make([]float64, len(yv)), yv)
+	got := map[string]float64{}
+	for _, c := range r.RankCorrelations {
+		got[c.Name] = c.Spearman
+	}
+	// floor(d) takes 4 values: the ties are what the mean ranks are for.
+	for i, in := range p.Inputs {
+		xv := valid(cols[i])
+		want := stat.Correlation(ranks(make([]float64, len(xv)), xv), ry, nil)
+		if math.Abs(got[in.Name]-want) > 1e-13 {
+			t.Errorf("spearman of %s = %v, gonum on the ranks %v", in.Name, got[in.Name], want)
+		}
+	}
+}
+
+// TestSimulateKeptOrDrawnAgain checks that the samples kept for the rank
+// correlations and those drawn again from their streams (a simulation too
+// large to keep them) give the same result, bit for bit, at GOMAXPROCS 1
+// and 2 and with more workers than inputs.
+func TestSimulateKeptOrDrawnAgain(t *testing.T) {
+	p := problemOf(t, `
+input a = 1 ~ normal(1, 1)
+input b = 2 ~ pert(1, 2, 4)
+input c = 3 (2..5)
+input d = 10 ~ lognormal(10, 2)
+input e = 5 ~ triangular(4, 5, 7)
+spearman a, b = 0.5
+y = sqrt(a) * b + c^2 - d*e
+`, "y")
+	run := func(procs, workers, kept int) string {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		defer func(m int) { maxKeptFloats = m }(maxKeptFloats)
+		maxKeptFloats = kept
+		r := simulate(t, p, &SimulationSettings{N: 2999, Seed: 4, Workers: workers})
+		b, err := json.Marshal(r)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return string(b)
+	}
+	want := run(1, 0, 1<<23)
+	for _, c := range []struct{ procs, workers, kept int }{{2, 0, 1 << 23}, {1, 0, 0}, {2, 0, 0}, {2, 9, 1 << 23}, {2, 9, 0}} {
+		if got := run(c.procs, c.workers, c.kept); got != want {
+			t.Errorf("GOMAXPROCS %d, %d workers, kept up to %d floats: the result differs\n%s\n%s", c.procs, c.workers, c.kept, got, want)
+		}
+	}
+}
