@@ -164,8 +164,12 @@ func TestRankCorrelationAgainstGonum(t *testing.T) {
 	}
 }
 
-// BenchmarkRankOrder is BenchmarkRanks through rankSorter: ranking 20,000
-// samples of a normal distribution, per sample.
+// BenchmarkRankOrder ranks 20,000 samples of a normal distribution (as
+// Simulate ranks each input's samples) through rankSorter, against the
+// radix sort of keys and indices (ranker, BenchmarkRanks), interleaved; per
+// sample:
+//
+//	go test ./sens/ -run '^$' -bench RankOrder -benchtime=300x -count=3
 func BenchmarkRankOrder(b *testing.B) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	xs := make([]float64, 20_000)
@@ -173,10 +177,10 @@ func BenchmarkRankOrder(b *testing.B) {
 		xs[i] = 100 + 20*rng.NormFloat64()
 	}
 	var rs rankSorter
+	var rk ranker
 	dst := make([]float64, len(xs))
 	b.ReportAllocs()
-	for b.Loop() {
-		rs.centredRanks(dst, rs.sorted(xs))
-	}
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(xs)), "ns/sample")
+	cpuPair(b, float64(len(xs)), "words", "keyed",
+		func() error { rs.centredRanks(dst, rs.sorted(xs)); return nil },
+		func() error { rk.ranks(dst, xs); return nil })
 }

@@ -100,3 +100,48 @@ y = sqrt(a) * b + c^2 - d*e
 		}
 	}
 }
+
+// TestDrawFillSameAsRander checks that drawer.fill, which calls gonum's
+// methods directly, draws the same values from the same stream as the
+// distuv.Rander of each distribution of the language (and of a Dist from
+// outside the package, drawn by inverse transform), and drawInto the same as
+// drawTo.
+func TestDrawFillSameAsRander(t *testing.T) {
+	var dists []Dist
+	for _, info := range Distributions {
+		params := map[string][]float64{
+			"uniform": {40, 80}, "triangular": {0.8, 0.9, 1.2}, "normal": {60, 5},
+			"lognormal": {1000, 250}, "pert": {0.8, 0.9, 1.2}, "truncnormal": {60, 10, 45, 90},
+		}[info.Name]
+		d, err := NewDist(info.Name, params)
+		if err != nil {
+			t.Fatal(err)
+		}
+		dists = append(dists, d)
+	}
+	dists = append(dists, outsideDist{dists[0]})
+	const m = 1000
+	d := newDrawer(dists, 11, streamSimulate, m)
+	into := make([]float64, m)
+	for i, dist := range dists {
+		got := append([]float64(nil), d.draw(5, i, m)...)
+		seedStream(&d.pcg, 11, streamSimulate, 5, uint64(i))
+		for j := range m {
+			if want := d.r[i].Rand(); got[j] != want {
+				t.Fatalf("%s: sample %d is %v, through the Rander %v", dist.Name(), j, got[j], want)
+			}
+		}
+		if err := d.drawInto(into, 5, i, func() error { return nil }); err != nil {
+			t.Fatal(err)
+		}
+		for j := range m {
+			if into[j] != got[j] {
+				t.Fatalf("%s: drawInto's sample %d is %v, drawTo's %v", dist.Name(), j, into[j], got[j])
+			}
+		}
+	}
+}
+
+// outsideDist is a Dist of no type the package knows, so drawn by inverse
+// transform.
+type outsideDist struct{ Dist }
