@@ -18,8 +18,9 @@ import (
 // index order.
 //
 // Moving one 8-byte word instead of a key and an index, and sorting two
-// digits of 11 bits rather than the upper four bytes, halves the time of a
-// rank (BenchmarkRankOrder against BenchmarkRanks).
+// digits of 12 bits below the bits all keys share rather than the upper
+// four bytes, takes 0.54 of the time of ranker (BenchmarkRankOrder); 11-,
+// 13- and 14-bit digits were slower.
 type rankSorter struct {
 	keys   []uint64 // keys[i]: floatKey of sample i
 	w, tmp []uint64
