@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+	"sync"
 
 	"gonum.org/v1/gonum/stat"
 )
@@ -242,14 +243,26 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		buf  []float64   // columns of the inputs not kept, cs apart
 		rows []float64   // for a Function that takes rows only
 		row  []float64   // one sample, to find failures
-		rs   rankSorter
+		rs   *rankSorter
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), max(nChunks, k+1)))
 	for w := range workers {
 		wk := &worker{f: p.F.Clone(), d: newDrawer(sd.dists, s.Seed, streamSimulate, cs),
-			cols: make([][]float64, k), row: make([]float64, k)}
+			cols: make([][]float64, k), row: make([]float64, k), rs: sorterPool.Get().(*rankSorter)}
 		workers[w] = wk
 	}
+	// The buffers go back to their pools however Simulate returns; nothing
+	// returned refers to them.
+	defer func() {
+		for _, wk := range workers {
+			sorterPool.Put(wk.rs)
+		}
+		for _, slab := range kept {
+			if slab != nil {
+				slabPool.Put(&slab)
+			}
+		}
+	}()
 	y := make([]float64, n)
 	failed := make([]bool, n)
 	failures := make([]*SampleFailure, nChunks) // the first failure of each chunk
@@ -258,7 +271,7 @@ func Simulate(p *Problem, s *SimulationSettings) (*SimulationResult, error) {
 		base := c * cs
 		m := min(cs, n-base)
 		if keep {
-			kept[c] = make([]float64, m*k)
+			kept[c] = getSlab(m * k)
 		} else if wk.buf == nil {
 			wk.buf = make([]float64, cs*k)
 		}
@@ -452,4 +465,21 @@ func sampleFailure(p *Problem, sample int, row []float64, err error) *SampleFail
 		f.Inputs = append(f.Inputs, SampleValue{Name: in.Name, Value: row[i], Unit: in.Unit})
 	}
 	return f
+}
+
+// Simulate's largest buffers, reused from one call to the next (a
+// notebook's simulations, a benchmark's rounds) rather than allocated and
+// cleared each time: the rank sorters' scratch space and the chunks' kept
+// columns, every value of which a chunk writes before it is read.
+var (
+	sorterPool = sync.Pool{New: func() any { return new(rankSorter) }}
+	slabPool   sync.Pool // *[]float64
+)
+
+// getSlab returns a slice of n floats from slabPool, or a new one.
+func getSlab(n int) []float64 {
+	if p, ok := slabPool.Get().(*[]float64); ok && cap(*p) >= n {
+		return (*p)[:n]
+	}
+	return make([]float64, n)
 }
