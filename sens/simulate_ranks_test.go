@@ -1,12 +1,17 @@
 package sens
 
 import (
+	"context"
 	"encoding/json"
+	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"runtime"
 	"sort"
+	"strings"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/stat"
 )
@@ -169,6 +174,40 @@ func TestLinInterpAsGonum(t *testing.T) {
 	for _, x := range [][]float64{{1, 2, math.NaN()}, {math.Copysign(math.NaN(), -1), 1, 2}} {
 		if got := linInterp(0.5, x); !math.IsNaN(got) {
 			t.Errorf("%v: %v, want NaN", x, got)
+		}
+	}
+}
+
+// TestSimulateStopsInAnyPart cancels simulations after delays spread over
+// their length, on more workers than cores, and checks that each returns,
+// either its result or an error wrapping context.Canceled: in particular
+// an input's rank task waiting for the outputs' ranks, whose task the
+// cancellation may leave untaken, stops.
+func TestSimulateStopsInAnyPart(t *testing.T) {
+	var src strings.Builder
+	for i := range 30 {
+		fmt.Fprintf(&src, "input x%d = 1 ~ normal(1, 0.1)\n", i)
+	}
+	src.WriteString("y = x0")
+	for i := 1; i < 30; i++ {
+		fmt.Fprintf(&src, " + x%d", i)
+	}
+	p := problemOf(t, src.String()+"\n", "y")
+	full := time.Now()
+	simulate(t, p, &SimulationSettings{N: 50_000, Seed: 1, Workers: 3})
+	length := time.Since(full)
+	for step := range 12 {
+		ctx, cancel := context.WithCancel(context.Background())
+		done := make(chan error, 1)
+		go func() {
+			_, err := Simulate(p, &SimulationSettings{Settings: Settings{Ctx: ctx}, N: 50_000, Seed: 1, Workers: 3})
+			done <- err
+		}()
+		time.Sleep(length * time.Duration(step) / 10)
+		cancel()
+		// A goroutine left waiting would hang here (go test's timeout).
+		if err := <-done; err != nil && !errors.Is(err, context.Canceled) {
+			t.Errorf("cancelled after %d/10 of a run: %v", step, err)
 		}
 	}
 }
