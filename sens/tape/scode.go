@@ -171,10 +171,11 @@ func (p *tapeProg) triple(k int, uses []uint8, arith func(Op) bool) (sinstr, boo
 }
 
 // CodeBytes returns the memory of the compiled forms of the tape, shared by
-// its clones: the scalar code and the batched plans built so far.
+// its clones: the scalar code, the long tape's reverse kinds and the batched
+// plans built so far.
 func (t *Tape) CodeBytes() int {
 	p := t.p
-	b := 32 * len(p.sc.code)
+	b := 32*len(p.sc.code) + len(p.rc.kinds) // the reverse pass's kinds of a long tape, a byte a node
 	p.cache.mu.Lock()
 	for _, pl := range p.cache.plans {
 		b += 40*len(pl.code) + 8*len(pl.consts) + 4*len(pl.inputs)

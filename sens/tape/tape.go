@@ -25,6 +25,7 @@ type tapeProg struct {
 	planOnce sync.Once
 	canPlan  bool       // see plannable
 	sc       scalarCode // the scalar pass's code
+	rc       revChain   // the kinds of the long tape's reverse pass (reverse.go)
 }
 
 // Tape is a compiled computation: a flat list of operations in
