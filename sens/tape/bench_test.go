@@ -1,8 +1,10 @@
 package tape_test
 
 import (
+	"slices"
 	"sync"
 	"testing"
+	"time"
 
 	"github.com/nudge-dev/nudge/sens/tape"
 	"github.com/nudge-dev/nudge/sens/tapebench"
@@ -60,6 +62,85 @@ func genSized(i int) (*tape.Tape, []float64) {
 func benchmarkPasses(b *testing.B, size int) {
 	t, x := genSized(size)
 	tapebench.GradientVsForward(b, t, x)
+}
+
+// The gradient of 10^6 nodes against the forward pass and against the
+// gradient as it was before the long tapes' reverse pass (reverseChain),
+// whose pass went node by node through the adjoint buffer
+// (GradientByNodes): the three interleaved call by call, each timed by the
+// clock and by the process's CPU time, which other processes on a loaded
+// machine do not inflate (though they still share its caches). Reports the
+// median time of each, in ns, and the medians of the ratios: gradient and
+// before over forward, and gradient over before.
+//
+//	go test ./sens/tape/ -run '^$' -bench GradientLong -benchtime=40x -count=3
+func BenchmarkGradientLong(b *testing.B) {
+	t, x := genSized(2)
+	g := make([]float64, t.NumInputs())
+	sides := []func() error{
+		func() error { return t.Forward(x) },
+		func() error { _, err := t.Gradient(g, x, 0); return err },
+		func() error { _, err := t.GradientByNodes(g, x, 0); return err },
+	}
+	names := []string{"forward", "gradient", "before"}
+	want := make([]float64, len(g))
+	for i := 2; i >= 1; i-- { // the two gradients agree to the bit
+		if err := sides[i](); err != nil {
+			b.Fatal(err)
+		}
+		if i == 2 {
+			copy(want, g)
+		} else if !slices.Equal(g, want) {
+			b.Fatal("the gradient differs from the pass node by node")
+		}
+	}
+	b.ReportAllocs()
+	const keep = 1 << 10 // the last rounds' times
+	var wall, cpu [3][]float64
+	for i := range wall {
+		wall[i], cpu[i] = make([]float64, 0, keep), make([]float64, 0, keep)
+	}
+	for n := 0; b.Loop(); n++ {
+		for i, f := range sides {
+			s, c := time.Now(), processCPU()
+			if err := f(); err != nil {
+				b.Fatal(err)
+			}
+			w, u := float64(time.Since(s)), float64(processCPU()-c)
+			if len(wall[i]) < keep {
+				wall[i], cpu[i] = append(wall[i], w), append(cpu[i], u)
+			} else {
+				wall[i][n%keep], cpu[i][n%keep] = w, u
+			}
+		}
+	}
+	b.StopTimer()
+	med := func(xs []float64) float64 {
+		xs = slices.Clone(xs)
+		slices.Sort(xs)
+		return xs[len(xs)/2]
+	}
+	ratio := func(ts [3][]float64, i, j int) float64 {
+		r := make([]float64, len(ts[i]))
+		for k := range r {
+			r[k] = ts[i][k] / ts[j][k]
+		}
+		return med(r)
+	}
+	for i, n := range names {
+		b.ReportMetric(med(wall[i]), n+"-ns")
+	}
+	b.ReportMetric(ratio(wall, 1, 0), "ratio")
+	b.ReportMetric(ratio(wall, 2, 0), "before-ratio")
+	b.ReportMetric(ratio(wall, 1, 2), "gradient/before")
+	if processCPU() >= 0 {
+		for i, n := range names {
+			b.ReportMetric(med(cpu[i]), n+"-cpu-ns")
+		}
+		b.ReportMetric(ratio(cpu, 1, 0), "cpu-ratio")
+		b.ReportMetric(ratio(cpu, 2, 0), "before-cpu-ratio")
+		b.ReportMetric(ratio(cpu, 1, 2), "cpu-gradient/before")
+	}
 }
 
 func BenchmarkPassesSmall(b *testing.B)  { benchmarkPasses(b, 0) }
