@@ -214,7 +214,10 @@ const (
 	rMinB
 	rMaxA
 	rMaxB
-	rIfB // the then-branch
+	rIfB    // the then-branch
+	rArgIf  // the opArg of an if, which runs the if (node k-1)
+	rArgIfB // the same, its then-branch node k-2 chained
+	rArg3   // the opArg of another three-argument operation, which runs it
 	rNeg
 	rSquare
 	rSqrt
@@ -299,6 +302,22 @@ func (p *tapeProg) buildChainKinds() []rkind {
 		}
 		if c != 0 {
 			kinds[k] = c
+		}
+	}
+	// An opArg runs its operation, so that the pass need not stop at it: the
+	// operation's own kind is read only when it is the output, where the
+	// pass starts.
+	for k := p.start + 1; k < n; k++ {
+		if p.ops[k] != opArg {
+			continue
+		}
+		switch kinds[k-1] {
+		case rkind(OpIf):
+			kinds[k] = rArgIf
+		case rIfB:
+			kinds[k] = rArgIfB
+		default:
+			kinds[k] = rArg3
 		}
 	}
 	return kinds
@@ -486,6 +505,31 @@ func (p *tapeProg) reverseChain(g, v []float64, out int) {
 				carry = gk
 			} else {
 				g[as[k+1]] += gk
+			}
+		case rArgIf: // node k is 0 (nothing reads an opArg): run the if at k-1
+			k--
+			gk = g[k]
+			g[k] = 0
+			if v[as[k]] != 0 {
+				g[bs[k]] += gk
+			} else {
+				g[a] += gk
+			}
+		case rArgIfB:
+			k--
+			gk = g[k]
+			g[k] = 0
+			if v[as[k]] != 0 {
+				carry = gk
+			} else {
+				g[a] += gk
+			}
+		case rArg3:
+			k--
+			gk = g[k]
+			g[k] = 0
+			if gk != 0 {
+				p.revDeriv(g, v, k, gk)
 			}
 		case rkind(OpFloor), rkind(OpCeil), rkind(OpRound), rkind(OpLt), rkind(OpLe), rkind(OpGt),
 			rkind(OpGe), rkind(OpEq), rkind(OpNe), rkind(OpAnd), rkind(OpOr), rkind(OpNot), rkind(opArg):
