@@ -165,8 +165,10 @@ func (p *tapeProg) revDeriv(g, v []float64, k int, gk float64) {
 // Beyond it the pass goes node by node (reverseChain): it reads 9 bytes a
 // node (kind and operands) where the code has 32 an instruction, and once
 // neither fits the caches (10^6 nodes) the node loop was faster
-// (BenchmarkPassesLarge: gradient 18-20 ms against 21-22 ms), while over
-// the code the gradient of 10^3 and 10^5 nodes is 5-15% faster.
+// (BenchmarkPassesLarge: gradient 18-20 ms against 21-22 ms; reverseChain
+// is 4-7% faster again, BenchmarkGradientLong), while over the code the
+// gradient of 10^3 nodes is 10-15% faster (at 10^5 nodes the three are
+// within 1.5%).
 var maxReverseCode = defaultMaxReverseCode // a variable, for the tests
 
 const defaultMaxReverseCode = 1 << 17
@@ -193,11 +195,14 @@ func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
 // node whose one use is here: then node k hands k-1 its adjoint in a
 // register (carry) instead of through the adjoint buffer, which k-1 then
 // never writes. Over half the nodes of the generated models are such links
-// (a product of a sum, a subtotal of a line item).
+// (a product of a sum, a subtotal of a line item). The opArg node after a
+// three-argument operation runs that operation, so that the pass does not
+// stop at an opArg.
 
-// rkind is a node's kind in reverseChain: an Op (below rChain), or an
+// rkind is a node's kind in reverseChain: an Op (below rChain), an
 // operation that hands its adjoint for operand a or b, node k-1, on in
-// carry (the A and B kinds; a unary operation's is its operand a).
+// carry (the A and B kinds; a unary operation's is its operand a), or an
+// opArg that runs the operation before it (the rArg kinds).
 type rkind = uint8
 
 const (
