@@ -30,6 +30,8 @@ deps:
 gotest:
 	go vet ./...
 	go test -count=1 ./...
+	GOEXPERIMENT=simd go vet ./sens/tape/
+	GOEXPERIMENT=simd go test -count=1 ./sens/tape/
 
 race:
 	go test -count=1 -race ./kernel/... ./sens/... ./plotting/

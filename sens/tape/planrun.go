@@ -44,15 +44,32 @@ func (e *planExec) output(m int) []float64 { return e.rows[e.pl.out][:m] }
 // rows (rows[0:nIn]) must hold at least m values. It reports whether a
 // guard operation saw a non-finite operand; non-finite outputs are for the
 // caller to test.
+//
+// Where the build has vector kernels and the CPU runs them (planrun_simd.go),
+// they take the lanes up to the last whole vector and runLanes the rest;
+// both compute the same operations in the same order, so that the values
+// are the same to the last bit.
 func (e *planExec) run(m int) (bad bool) {
+	lo := 0
+	if vecKernels {
+		lo, bad = e.runVec(m)
+	}
+	if lo < m && e.runLanes(lo, m) {
+		bad = true
+	}
+	return bad
+}
+
+// runLanes evaluates the plan over lanes lo..m-1 of the block in pure Go.
+func (e *planExec) runLanes(lo, m int) (bad bool) {
 	rows := e.rows
 	var chk float64 // x - x summed over tested operands: NaN if any is not finite
 	for n := range e.pl.code {
 		in := &e.pl.code[n]
-		o := rows[in.dst][:m]
+		o := rows[in.dst][lo:m:m]
 		switch in.k {
 		case kAddRR:
-			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
 			s := 0
 			for ; s+4 <= len(o); s += 4 {
 				o4, x4, y4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:]), (*[4]float64)(y[s:])
@@ -62,7 +79,7 @@ func (e *planExec) run(m int) (bad bool) {
 				o[s] = x[s] + y[s]
 			}
 		case kAddRC:
-			x, c := rows[in.a][:len(o)], in.imm
+			x, c := rows[in.a][lo:][:len(o)], in.imm
 			s := 0
 			for ; s+4 <= len(o); s += 4 {
 				o4, x4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:])
@@ -72,7 +89,7 @@ func (e *planExec) run(m int) (bad bool) {
 				o[s] = x[s] + c
 			}
 		case kSubRR:
-			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
 			s := 0
 			for ; s+4 <= len(o); s += 4 {
 				o4, x4, y4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:]), (*[4]float64)(y[s:])
@@ -82,17 +99,17 @@ func (e *planExec) run(m int) (bad bool) {
 				o[s] = x[s] - y[s]
 			}
 		case kSubRC:
-			x, c := rows[in.a][:len(o)], in.imm
+			x, c := rows[in.a][lo:][:len(o)], in.imm
 			for s := range o {
 				o[s] = x[s] - c
 			}
 		case kSubCR:
-			y, c := rows[in.b][:len(o)], in.imm
+			y, c := rows[in.b][lo:][:len(o)], in.imm
 			for s := range o {
 				o[s] = c - y[s]
 			}
 		case kMulRR:
-			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
 			s := 0
 			for ; s+4 <= len(o); s += 4 {
 				o4, x4, y4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:]), (*[4]float64)(y[s:])
@@ -102,7 +119,7 @@ func (e *planExec) run(m int) (bad bool) {
 				o[s] = x[s] * y[s]
 			}
 		case kMulRC:
-			x, c := rows[in.a][:len(o)], in.imm
+			x, c := rows[in.a][lo:][:len(o)], in.imm
 			s := 0
 			for ; s+4 <= len(o); s += 4 {
 				o4, x4 := (*[4]float64)(o[s:]), (*[4]float64)(x[s:])
@@ -112,7 +129,7 @@ func (e *planExec) run(m int) (bad bool) {
 				o[s] = x[s] * c
 			}
 		case kDivRR:
-			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
 			if in.check&2 != 0 {
 				for s := range o {
 					v := y[s]
@@ -127,12 +144,12 @@ func (e *planExec) run(m int) (bad bool) {
 				}
 			}
 		case kDivRC:
-			x, c := rows[in.a][:len(o)], in.imm
+			x, c := rows[in.a][lo:][:len(o)], in.imm
 			for s := range o {
 				o[s] = x[s] / c
 			}
 		case kDivCR:
-			y, c := rows[in.b][:len(o)], in.imm
+			y, c := rows[in.b][lo:][:len(o)], in.imm
 			if in.check&2 != 0 {
 				for s := range o {
 					v := y[s]
@@ -147,18 +164,18 @@ func (e *planExec) run(m int) (bad bool) {
 				}
 			}
 		case kNeg:
-			x := rows[in.a][:len(o)]
+			x := rows[in.a][lo:][:len(o)]
 			for s := range o {
 				o[s] = -x[s]
 			}
 		case kSquare:
-			x := rows[in.a][:len(o)]
+			x := rows[in.a][lo:][:len(o)]
 			for s := range o {
 				o[s] = x[s] * x[s]
 			}
 		case kMax, kMin:
 			// Operands are tested first: o may be one of them.
-			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
 			chk += testRows(in.check, x, y, nil)
 			if in.k == kMax {
 				for s := range o {
@@ -178,11 +195,11 @@ func (e *planExec) run(m int) (bad bool) {
 				}
 			}
 		case kCmp:
-			x, y := rows[in.a][:len(o)], rows[in.b][:len(o)]
+			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
 			chk += testRows(in.check, x, y, nil)
 			vecOp(in.op, o, x, y, nil)
 		case kIf:
-			x, y, z := rows[in.a][:len(o)], rows[in.b][:len(o)], rows[in.c][:len(o)]
+			x, y, z := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)], rows[in.c][lo:][:len(o)]
 			chk += testRows(in.check, x, y, z)
 			for s := range o {
 				if x[s] != 0 {
@@ -192,19 +209,19 @@ func (e *planExec) run(m int) (bad bool) {
 				}
 			}
 		case kCeil:
-			x := rows[in.a][:len(o)]
+			x := rows[in.a][lo:][:len(o)]
 			for s := range o {
 				o[s] = math.Ceil(x[s])
 			}
 		case kFloor:
-			x := rows[in.a][:len(o)]
+			x := rows[in.a][lo:][:len(o)]
 			for s := range o {
 				o[s] = math.Floor(x[s])
 			}
 		default:
 			if in.k >= kFused {
-				chk += runFused(in.k, o, rows[in.a], rows[in.b], rows[in.c])
-			} else if e.runOp(in, o) {
+				chk += runFused(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:])
+			} else if e.runOp(in, lo, m) {
 				bad = true
 			}
 		}
@@ -214,13 +231,14 @@ func (e *planExec) run(m int) (bad bool) {
 
 // runOp runs an instruction without a kernel of its own in run and tests
 // its operands as in.check asks.
-func (e *planExec) runOp(in *instr, o []float64) (bad bool) {
+func (e *planExec) runOp(in *instr, lo, m int) (bad bool) {
 	rows := e.rows
-	xs := rows[in.a][:len(o)]
-	ys := rows[in.b][:len(o)]
+	o := rows[in.dst][lo:m:m]
+	xs := rows[in.a][lo:][:len(o)]
+	ys := rows[in.b][lo:][:len(o)]
 	var zs []float64
 	if in.op.Arity() == 3 {
-		zs = rows[in.c][:len(o)]
+		zs = rows[in.c][lo:][:len(o)]
 	}
 	// Operands first: the output row may be one of them.
 	if in.check&1 != 0 && !allFinite(xs) || in.check&2 != 0 && !allFinite(ys) || in.check&4 != 0 && !allFinite(zs) {
