@@ -37,6 +37,18 @@ func BenchmarkArithBatch(b *testing.B) {
 	tapebench.BatchVsGo(b, tapebench.CostModel(true), tapebench.ArithModelGo, tapebench.Samples(tapebench.BatchN, 7), tapebench.BatchN)
 }
 
+// The same with the vector kernels turned off: in a GOEXPERIMENT=simd
+// build, ArithBatch and ArithBatchPureGo give both figures in one run.
+func BenchmarkArithBatchPureGo(b *testing.B) {
+	defer tape.SetVectorKernels(tape.SetVectorKernels(false))
+	tapebench.BatchVsGo(b, tapebench.CostModel(true), tapebench.ArithModelGo, tapebench.Samples(tapebench.BatchN, 7), tapebench.BatchN)
+}
+
+func BenchmarkCostBatchPureGo(b *testing.B) {
+	defer tape.SetVectorKernels(tape.SetVectorKernels(false))
+	tapebench.BatchVsGo(b, tapebench.CostModel(false), tapebench.CostModelGo, tapebench.Samples(tapebench.BatchN, 7), tapebench.BatchN)
+}
+
 // Batched gradient of the cost model over 4096 samples.
 func BenchmarkCostGradientBatch(b *testing.B) {
 	tapebench.GradientBatch(b, tapebench.CostModel(false), tapebench.Samples(tapebench.BatchN, 7), tapebench.BatchN)

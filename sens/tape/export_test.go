@@ -40,14 +40,3 @@ func (t *Tape) GradientByNodes(dst, x []float64, i int) (float64, error) {
 	}
 	return f, nil
 }
-
-// SetVecKernels turns the batched plans' vector kernels on or off (on has
-// no effect in a build without them) and returns the previous setting.
-func SetVecKernels(on bool) bool {
-	was := vecKernels
-	vecKernels = on && vecKernelsBuilt
-	return was
-}
-
-// VecKernels reports whether the batched plans run vector kernels.
-func VecKernels() bool { return vecKernels }

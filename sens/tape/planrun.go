@@ -268,3 +268,19 @@ func testRows(check uint8, x, y, z []float64) (chk float64) {
 	}
 	return chk
 }
+
+// VectorKernels reports whether the batched plans run vector kernels: in a
+// build with GOEXPERIMENT=simd on amd64, on a CPU with AVX2, unless turned
+// off by SetVectorKernels.
+func VectorKernels() bool { return vecKernels }
+
+// SetVectorKernels turns the batched plans' vector kernels on or off and
+// returns the previous setting; on has no effect in a build or on a CPU
+// without them. The values are the same either way, to the last bit: it
+// is for benchmarks and tests, and must not be called while a batched pass
+// runs.
+func SetVectorKernels(on bool) (was bool) {
+	was = vecKernels
+	vecKernels = on && vecKernelsBuilt
+	return was
+}

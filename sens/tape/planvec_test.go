@@ -19,7 +19,7 @@ import (
 // every value is the tape's own scalar pass, which other tests check
 // against hand-written Go (tapebench.CostModelGo) and finite differences.
 func TestVecKernelsAgree(t *testing.T) {
-	t.Logf("vector kernels: %v", tape.VecKernels())
+	t.Logf("vector kernels: %v", tape.VectorKernels())
 	type model struct {
 		name string
 		tp   *tape.Tape
@@ -61,10 +61,10 @@ func TestVecKernelsAgree(t *testing.T) {
 				var outs [2][]float64
 				var errs [2]error
 				for k, on := range []bool{false, true} {
-					was := tape.SetVecKernels(on)
+					was := tape.SetVectorKernels(on)
 					outs[k] = make([]float64, n)
 					errs[k] = m.tp.ForwardColumns(outs[k], cols, n, i)
-					tape.SetVecKernels(was)
+					tape.SetVectorKernels(was)
 				}
 				where := fmt.Sprintf("%s, variant %d, output %d", m.name, variant, i)
 				checkSameError(t, where, errs[0], errs[1])

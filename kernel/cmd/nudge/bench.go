@@ -8,6 +8,7 @@ import (
 	"testing"
 	"text/tabwriter"
 
+	"github.com/nudge-dev/nudge/sens/tape"
 	"github.com/nudge-dev/nudge/sens/tapebench"
 )
 
@@ -70,8 +71,19 @@ func runBench(w io.Writer) error {
 		r := testing.Benchmark(func(b *testing.B) { tapebench.ForwardVsGo(b, t, goFn, x) })
 		row(fmt.Sprintf("%s (%d nodes): forward vs Go", name, t.Len()), r, "tape", "go", scalarTarget)
 		xs := tapebench.Samples(tapebench.BatchN, 7)
+		vec := tape.SetVectorKernels(false) // pure Go first
 		r = testing.Benchmark(func(b *testing.B) { tapebench.BatchVsGo(b, t, goFn, xs, tapebench.BatchN) })
-		row(fmt.Sprintf("%s: batched forward (columns) vs Go loop, per sample", name), r, "tape", "go", batchTarget)
+		row(fmt.Sprintf("%s: batched forward (columns) vs Go loop, per sample, pure Go", name), r, "tape", "go", batchTarget)
+		tape.SetVectorKernels(vec)
+		if !arith {
+			continue
+		}
+		if vec {
+			r = testing.Benchmark(func(b *testing.B) { tapebench.BatchVsGo(b, t, goFn, xs, tapebench.BatchN) })
+			row(fmt.Sprintf("%s: the same with vector kernels", name), r, "tape", "go", "<= 1.2")
+		} else {
+			fmt.Fprintf(tw, "%s: the same with vector kernels\t\t\t-\t<= 1.2\tnot in this build (GOEXPERIMENT=simd go build) or CPU (AVX2)\n", name)
+		}
 	}
 
 	var bytesPerNode float64
