@@ -67,12 +67,12 @@ const (
 
 // instr is one plan instruction: dst = op(a, b, c) over a block.
 type instr struct {
-	k       kind
-	op      Op
-	check   uint8 // operands to test for non-finite values: bits 1 (a), 2 (b), 4 (c)
-	dst     int32
-	a, b, c int32
-	imm     float64
+	k          kind
+	op         Op
+	check      uint8 // operands to test for non-finite values: bits 1 (a), 2 (b), 4 (c)
+	dst        int32
+	a, b, c, d int32 // d: a triple's fourth operand
+	imm        float64
 }
 
 // planSrc says how to build a plan: which nodes it computes and where
@@ -168,13 +168,44 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	}
 	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
 	pl.code = make([]instr, 0, len(src.nodes))
-	skip := false
+	skip := 0
 	for n, k := range src.nodes {
-		if skip {
-			skip = false
+		if skip > 0 {
+			skip--
 			continue
 		}
 		op := p.ops[k]
+		// Three + - * / where the first two have one use each, in the
+		// next instructions, as a chain or a tree (see triple), run as
+		// one instruction.
+		if n+2 < len(src.nodes) && arith(op) && count[k] == 0 {
+			k1, k2 := src.nodes[n+1], src.nodes[n+2]
+			if sh, c, d, ok := planTriple(p, k, k1, k2, count); ok {
+				a, b := p.a[k], p.b[k]
+				in := instr{k: tripleKind(op, p.ops[k1], p.ops[k2], sh), op: p.ops[k2],
+					a: operand(a), b: operand(b), c: operand(c), d: operand(d)}
+				for _, v := range []int32{a, b, c, d} {
+					if !isReg(v) && !finite(src.value(v)) {
+						pl.alwaysBad = true
+					}
+				}
+				release(n, a)
+				release(n, b)
+				if sh >= shapeTL {
+					release(n+1, c)
+					release(n+1, d)
+				} else {
+					release(n+1, c)
+					release(n+2, d)
+				}
+				r := alloc()
+				reg[k2] = r
+				in.dst = r
+				pl.code = append(pl.code, in)
+				skip = 2
+				continue
+			}
+		}
 		// A + - * / whose one use is the next instruction, another of
 		// them, runs with it as one fused instruction.
 		if n+1 < len(src.nodes) && arith(op) && count[k] == 0 {
@@ -201,7 +232,7 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 				reg[k2] = r
 				in.dst = r
 				pl.code = append(pl.code, in)
-				skip = true
+				skip = 1
 				continue
 			}
 		}
@@ -330,7 +361,7 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	}
 	for n := range pl.code {
 		in := &pl.code[n]
-		in.dst, in.a, in.b, in.c = fix(in.dst), fix(in.a), fix(in.b), fix(in.c)
+		in.dst, in.a, in.b, in.c, in.d = fix(in.dst), fix(in.a), fix(in.b), fix(in.c), fix(in.d)
 	}
 	pl.out = fix(outReg)
 	pl.nreg = int(base + next)
@@ -338,4 +369,41 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 		reg[k], last[k], count[k] = -1, -1, -1
 	}
 	return pl
+}
+
+// planTriple reports whether plan nodes k0, k1, k2 (consecutive in the
+// plan) are + - * / forming a triple, as the scalar code's triple: k0 and
+// k1 have one use each (count 0) and k1 reads k0, k2 reads k1 (a chain),
+// or k2 reads both (a tree), each on one side only. It returns the shape
+// and the third and fourth operands.
+func planTriple(p *tapeProg, k0, k1, k2 int32, count []int32) (shape int, c, d int32, ok bool) {
+	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
+	if count[k0] != 0 || count[k1] != 0 || !arith(p.ops[k0]) || !arith(p.ops[k1]) || !arith(p.ops[k2]) {
+		return 0, 0, 0, false
+	}
+	a1, b1, a2, b2 := p.a[k1], p.b[k1], p.a[k2], p.b[k2]
+	other := func(x, y, self int32) int32 {
+		if x == self {
+			return y
+		}
+		return x
+	}
+	switch {
+	case (a1 == k0) != (b1 == k0) && (a2 == k1) != (b2 == k1) && a2 != k0 && b2 != k0:
+		shape = shapeLL
+		if b1 == k0 {
+			shape = shapeRL
+		}
+		if b2 == k1 {
+			shape++ // LR or RR
+		}
+		return shape, other(a1, b1, k0), other(a2, b2, k1), true
+	case a1 != k0 && b1 != k0 && (a2 == k0 && b2 == k1 || a2 == k1 && b2 == k0):
+		shape = shapeTL
+		if a2 == k1 {
+			shape = shapeTR
+		}
+		return shape, a1, b1, true
+	}
+	return 0, 0, 0, false
 }

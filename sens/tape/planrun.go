@@ -219,7 +219,9 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 				o[s] = math.Floor(x[s])
 			}
 		default:
-			if in.k >= kFused {
+			if in.k >= kFusedEnd {
+				chk += runTriple(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:])
+			} else if in.k >= kFused {
 				chk += runFused(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:])
 			} else if e.runOp(in, lo, m) {
 				bad = true

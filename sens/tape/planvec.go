@@ -193,7 +193,9 @@ func (e *planExec) runVec(m int) (lanes int, bad bool) {
 				st(ld(x[s:s+4]).Floor(), o[s:s+4])
 			}
 		default:
-			if in.k >= kFused && in.k < kFusedEnd {
+			if in.k >= kFusedEnd {
+				chk = runTripleVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)
+			} else if in.k >= kFused {
 				chk = runFusedVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], chk)
 			} else {
 				archsimd.ClearAVXUpperBits()
