@@ -114,8 +114,11 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 		last[k] = int32(n)
 		count[k]++ // from -1: 0 is one use
 	}
-	for n, k := range src.nodes {
+	for _, k := range src.nodes {
 		set(k, -2) // computed: a register is given below
+	}
+	nodes := planOrder(p, src.nodes, out, reg)
+	for n, k := range nodes {
 		uses(n, p.a[k])
 		uses(n, p.b[k])
 		if p.ops[k].Arity() == 3 {
@@ -167,9 +170,9 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 		}
 	}
 	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
-	pl.code = make([]instr, 0, len(src.nodes))
+	pl.code = make([]instr, 0, len(nodes))
 	skip := 0
-	for n, k := range src.nodes {
+	for n, k := range nodes {
 		if skip > 0 {
 			skip--
 			continue
@@ -178,8 +181,8 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 		// Three + - * / where the first two have one use each, in the
 		// next instructions, as a chain or a tree (see triple), run as
 		// one instruction.
-		if n+2 < len(src.nodes) && arith(op) && count[k] == 0 {
-			k1, k2 := src.nodes[n+1], src.nodes[n+2]
+		if n+2 < len(nodes) && arith(op) && count[k] == 0 {
+			k1, k2 := nodes[n+1], nodes[n+2]
 			if sh, c, d, ok := planTriple(p, k, k1, k2, count); ok {
 				a, b := p.a[k], p.b[k]
 				in := instr{k: tripleKind(op, p.ops[k1], p.ops[k2], sh), op: p.ops[k2],
@@ -208,8 +211,8 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 		}
 		// A + - * / whose one use is the next instruction, another of
 		// them, runs with it as one fused instruction.
-		if n+1 < len(src.nodes) && arith(op) && count[k] == 0 {
-			k2 := src.nodes[n+1]
+		if n+1 < len(nodes) && arith(op) && count[k] == 0 {
+			k2 := nodes[n+1]
 			if op2 := p.ops[k2]; arith(op2) && (p.a[k2] == k) != (p.b[k2] == k) {
 				a, b := p.a[k], p.b[k]
 				left := p.a[k2] == k
@@ -406,4 +409,78 @@ func planTriple(p *tapeProg, k0, k1, k2 int32, count []int32) (shape int, c, d i
 		return shape, a1, b1, true
 	}
 	return 0, 0, 0, false
+}
+
+// planOrder returns the nodes to compute (marked -2 in reg, and left so)
+// in an order where an operation's operands are computed just before it
+// where they can be: depth first from the output, operands before the
+// operation, then any node the output does not read, so that a value with
+// one use is next to its use and fuses with it (see newPlan). Any order
+// with operands first computes the same values: each node is the same
+// operation on the same operands.
+func planOrder(p *tapeProg, nodes []int32, out int32, reg []int32) []int32 {
+	const pending, visiting = -2, -4
+	order := make([]int32, 0, len(nodes))
+	type frame struct {
+		k int32
+		i int
+	}
+	var stack []frame
+	var kids [3]int32
+	children := func(k int32) []int32 {
+		n := p.ops[k].Arity()
+		kids[0], kids[1] = p.a[k], p.b[k]
+		if n == 3 {
+			kids[2] = p.a[k+1]
+		}
+		if n == 2 && ready(p, reg, kids[0]) && !ready(p, reg, kids[1]) {
+			// A computed operand of its own ready goes last, next to
+			// its use: the other's subtree comes first.
+			kids[0], kids[1] = kids[1], kids[0]
+		}
+		return kids[:n]
+	}
+	visit := func(root int32) {
+		if reg[root] != pending {
+			return
+		}
+		reg[root] = visiting
+		stack = append(stack[:0], frame{k: root})
+		for len(stack) > 0 {
+			f := &stack[len(stack)-1]
+			ks := children(f.k)
+			if f.i < len(ks) {
+				c := ks[f.i]
+				f.i++
+				if reg[c] == pending {
+					reg[c] = visiting
+					stack = append(stack, frame{k: c})
+				}
+				continue
+			}
+			order = append(order, f.k)
+			stack = stack[:len(stack)-1]
+		}
+	}
+	visit(out)
+	for _, k := range nodes {
+		visit(k)
+	}
+	for _, k := range order {
+		reg[k] = pending
+	}
+	return order
+}
+
+// ready reports whether k is a node to compute whose computed operands
+// are all visited already (a leaf of what is left).
+func ready(p *tapeProg, reg []int32, k int32) bool {
+	if reg[k] != -2 {
+		return false
+	}
+	n := p.ops[k].Arity()
+	if reg[p.a[k]] == -2 || n >= 2 && reg[p.b[k]] == -2 || n == 3 && reg[p.a[k+1]] == -2 {
+		return false
+	}
+	return true
 }
