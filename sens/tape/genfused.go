@@ -312,7 +312,38 @@ func genPlanTriples() {
 				}
 			}
 		}
-		p("\t}\n\treturn chk\n}\n")
+		p("\t}\n\treturn chk\n}\n\n")
+		// A comparison and the if that reads it as its condition.
+		if vec {
+			p("// runCmpIfVec runs kSelect over the lanes of o (a multiple of four) as\n// runCmpIf does lane by lane.\n")
+			p("func runCmpIfVec(op Op, o, x, y, z, w []float64, chk v4) v4 {\n")
+		} else {
+			p("// runCmpIf runs kSelect over a block: o = z where x op y, w elsewhere (op a\n")
+			p("// comparison), and reports whether an operand is not finite. o may be\n// one of the operands: a lane reads them before it writes.\n")
+			p("func runCmpIf(op Op, o, x, y, z, w []float64) (bad bool) {\n")
+		}
+		p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n\tswitch op {\n")
+		vecCmp := map[string]string{"Lt": "Less", "Le": "LessEqual", "Gt": "Greater", "Ge": "GreaterEqual", "Eq": "Equal", "Ne": "NotEqual"}
+		for _, c := range cmps {
+			p("\tcase Op%s:\n", c.name)
+			if vec {
+				p("\t\tfor s := 0; s+4 <= len(o); s += 4 {\n")
+				p("\t\t\ta, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])\n")
+				p("\t\t\tst(t.Merge(e, a.%s(b)), o[s:s+4])\n", vecCmp[c.name])
+				p("\t\t\tchk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))\n")
+			} else {
+				p("\t\tfor s := range o {\n")
+				p("\t\t\ta, b, t, e := x[s], y[s], z[s], w[s]\n")
+				p("\t\t\tif a %s b {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = e\n\t\t\t}\n", c.sym)
+				p("\t\t\tif a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum\n\t\t\t\tbad = true\n\t\t\t}\n")
+			}
+			p("\t\t}\n")
+		}
+		if vec {
+			p("\t}\n\treturn chk\n}\n")
+		} else {
+			p("\t}\n\treturn bad\n}\n")
+		}
 		src, err := format.Source(b.Bytes())
 		if err != nil {
 			log.Fatal(err, "\n", b.String())

@@ -59,6 +59,7 @@ const (
 	kIf                 // if(a, b, c)
 	kCeil               // ceil(a)
 	kFloor              // floor(a)
+	kSelect             // if(a op b, c, d): a comparison read only by the if after it
 
 	// kFused and on: fused pairs of + - * / (fused_gen.go), after every Op
 	// so that the scalar code can use an Op as its own kind.
@@ -206,6 +207,30 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 				in.dst = r
 				pl.code = append(pl.code, in)
 				skip = 2
+				continue
+			}
+		}
+		// A comparison whose one use is the condition of the if after
+		// it runs with it. Every operand is tested (a constant operand
+		// row is finite: see alwaysBad).
+		if n+1 < len(nodes) && cmpIndex(op) >= 0 && count[k] == 0 {
+			if k2 := nodes[n+1]; p.ops[k2] == OpIf && p.a[k2] == k && p.b[k2] != k && p.a[k2+1] != k {
+				a, b, c, d := p.a[k], p.b[k], p.b[k2], p.a[k2+1]
+				in := instr{k: kSelect, op: op, a: operand(a), b: operand(b), c: operand(c), d: operand(d)}
+				for _, v := range []int32{a, b, c, d} {
+					if !isReg(v) && !finite(src.value(v)) {
+						pl.alwaysBad = true
+					}
+				}
+				release(n, a)
+				release(n, b)
+				release(n+1, c)
+				release(n+1, d)
+				r := alloc()
+				reg[k2] = r
+				in.dst = r
+				pl.code = append(pl.code, in)
+				skip = 1
 				continue
 			}
 		}
@@ -431,7 +456,8 @@ func planOrder(p *tapeProg, nodes []int32, out int32, reg []int32) []int32 {
 		n := p.ops[k].Arity()
 		kids[0], kids[1] = p.a[k], p.b[k]
 		if n == 3 {
-			kids[2] = p.a[k+1]
+			// An if's condition last, next to the if (see kSelect).
+			kids[0], kids[1], kids[2] = p.b[k], p.a[k+1], p.a[k]
 		}
 		if n == 2 && ready(p, reg, kids[0]) && !ready(p, reg, kids[1]) {
 			// A computed operand of its own ready goes last, next to

@@ -2988,3 +2988,48 @@ func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {
 	}
 	return chk
 }
+
+// runCmpIfVec runs kSelect over the lanes of o (a multiple of four) as
+// runCmpIf does lane by lane.
+func runCmpIfVec(op Op, o, x, y, z, w []float64, chk v4) v4 {
+	x, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]
+	switch op {
+	case OpLt:
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			st(t.Merge(e, a.Less(b)), o[s:s+4])
+			chk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))
+		}
+	case OpLe:
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			st(t.Merge(e, a.LessEqual(b)), o[s:s+4])
+			chk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))
+		}
+	case OpGt:
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			st(t.Merge(e, a.Greater(b)), o[s:s+4])
+			chk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))
+		}
+	case OpGe:
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			st(t.Merge(e, a.GreaterEqual(b)), o[s:s+4])
+			chk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))
+		}
+	case OpEq:
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			st(t.Merge(e, a.Equal(b)), o[s:s+4])
+			chk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))
+		}
+	case OpNe:
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, t, e := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			st(t.Merge(e, a.NotEqual(b)), o[s:s+4])
+			chk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))
+		}
+	}
+	return chk
+}

@@ -174,12 +174,17 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 				o[s] = x[s] * x[s]
 			}
 		case kMax, kMin:
-			// Operands are tested first: o may be one of them.
+			// Every operand is tested, in the same pass: a constant
+			// operand row of a guard operation is finite (see
+			// alwaysBad). Operands are read first: o may be one of them.
 			x, y := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)]
-			chk += testRows(in.check, x, y, nil)
 			if in.k == kMax {
 				for s := range o {
-					if a, b := x[s], y[s]; a >= b {
+					a, b := x[s], y[s]
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+					if a >= b {
 						o[s] = a
 					} else {
 						o[s] = b
@@ -187,7 +192,11 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 				}
 			} else {
 				for s := range o {
-					if a, b := x[s], y[s]; a <= b {
+					a, b := x[s], y[s]
+					if a-a+(b-b) != 0 {
+						bad = true
+					}
+					if a <= b {
 						o[s] = a
 					} else {
 						o[s] = b
@@ -200,12 +209,15 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 			vecOp(in.op, o, x, y, nil)
 		case kIf:
 			x, y, z := rows[in.a][lo:][:len(o)], rows[in.b][lo:][:len(o)], rows[in.c][lo:][:len(o)]
-			chk += testRows(in.check, x, y, z)
 			for s := range o {
-				if x[s] != 0 {
-					o[s] = y[s]
+				c, a, b := x[s], y[s], z[s]
+				if c-c+(a-a)+(b-b) != 0 { // every operand, as for kMax
+					bad = true
+				}
+				if c != 0 {
+					o[s] = a
 				} else {
-					o[s] = z[s]
+					o[s] = b
 				}
 			}
 		case kCeil:
@@ -217,6 +229,10 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 			x := rows[in.a][lo:][:len(o)]
 			for s := range o {
 				o[s] = math.Floor(x[s])
+			}
+		case kSelect:
+			if runCmpIf(in.op, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:]) {
+				bad = true
 			}
 		default:
 			if in.k >= kFusedEnd {

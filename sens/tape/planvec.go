@@ -192,6 +192,8 @@ func (e *planExec) runVec(m int) (lanes int, bad bool) {
 			for s := 0; s+4 <= len(o); s += 4 {
 				st(ld(x[s:s+4]).Floor(), o[s:s+4])
 			}
+		case kSelect:
+			chk = runCmpIfVec(in.op, o, rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)
 		default:
 			if in.k >= kFusedEnd {
 				chk = runTripleVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)

@@ -253,3 +253,49 @@ func TestPlanFusedKernels(t *testing.T) {
 		}
 	}
 }
+
+// A comparison read only by an if (kSelect), each comparison, on the same
+// values and NaN: as TestPlanFusedKernels.
+func TestPlanSelectKernel(t *testing.T) {
+	cmps := []tape.Op{tape.OpLt, tape.OpLe, tape.OpGt, tape.OpGe, tape.OpEq, tape.OpNe}
+	vals := []float64{1e308, 0, 2, -3, math.Inf(-1), math.NaN()}
+	const n = 5 // a vector and a lane of pure Go
+	cols := make([][]float64, 4)
+	for j := range cols {
+		cols[j] = make([]float64, n)
+	}
+	out := make([]float64, n)
+	for _, op := range cmps {
+		b := tape.NewBuilder()
+		var in [4]tape.Slot
+		for j := range in {
+			b.SetPos(int32(j))
+			in[j] = b.Input()
+		}
+		b.SetPos(10)
+		tp := b.Tape(b.Call(tape.OpIf, b.Binary(op, in[0], in[1]), in[2], in[3]))
+		x := make([]float64, 4)
+		for code := range len(vals) * len(vals) * len(vals) * len(vals) {
+			for j, c := 0, code; j < 4; j, c = j+1, c/len(vals) {
+				x[j] = vals[c%len(vals)]
+				for s := range n {
+					cols[j][s] = x[j]
+				}
+			}
+			want, werr := tp.Eval(x, 0)
+			for _, on := range []bool{false, true} {
+				was := tape.SetVectorKernels(on)
+				err := tp.ForwardColumns(out, cols, n, 0)
+				tape.SetVectorKernels(was)
+				if (err == nil) != (werr == nil) {
+					t.Fatalf("if(x %v y, ...) at %v, vector %v: batched %v, Eval %v", op, x, on, err, werr)
+				}
+				for s := range out {
+					if err == nil && math.Float64bits(out[s]) != math.Float64bits(want) {
+						t.Fatalf("if(x %v y, ...) at %v, vector %v: batched %v, Eval %v", op, x, on, out[s], want)
+					}
+				}
+			}
+		}
+	}
+}
