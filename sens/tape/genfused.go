@@ -313,6 +313,71 @@ func genPlanTriples() {
 			}
 		}
 		p("\t}\n\treturn chk\n}\n\n")
+		// Pairs that keep their first result in a row of its own (it has
+		// other uses): kinds kKeep + (fusedKind - kFused).
+		if vec {
+			p("// runKeepVec runs a pair that keeps its first result (kinds from kKeep)\n")
+			p("// over the lanes of o (a multiple of four) as runKeep does lane by lane.\n")
+			p("func runKeepVec(k kind, o, t, x, y, z []float64, chk v4) v4 {\n")
+		} else {
+			p("// runKeep runs a pair that keeps its first result (kinds from kKeep, in\n")
+			p("// the order of fusedKind): t = x op1 y, o = t op2 z or z op2 t. It\n")
+			p("// returns the sum of v - v over the divisors v, as runFused. t and o may\n// be operand rows: a lane reads its operands before it writes.\n")
+			p("func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {\n")
+		}
+		p("\tt, x, y, z = t[:len(o)], x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+		n := 0
+		for _, o1 := range ops {
+			for _, o2 := range ops {
+				for _, side := range []string{"L", "R"} {
+					p("\tcase kKeep + %d: // %s %s %s\n", n, o1.sym, o2.sym, side)
+					n++
+					var div []string
+					if o1.sym == "/" {
+						div = append(div, "w")
+					}
+					if o2.sym == "/" && side == "L" {
+						div = append(div, "d")
+					}
+					if o2.sym == "/" && side == "R" {
+						div = append(div, "r")
+					}
+					if vec {
+						p("\t\tfor s := 0; s+4 <= len(o); s += 4 {\n")
+						p("\t\t\tu, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])\n")
+						p("\t\t\tr := u.%s(w)\n", o1.name)
+						if side == "L" {
+							p("\t\t\tv := r.%s(d)\n", o2.name)
+						} else {
+							p("\t\t\tv := d.%s(r)\n", o2.name)
+						}
+						p("\t\t\tst(r, t[s:s+4])\n\t\t\tst(v, o[s:s+4])\n")
+						for _, v := range div {
+							p("\t\t\tchk = chk.Add(%s.Sub(%s))\n", v, v)
+						}
+					} else {
+						p("\t\tfor s := range o {\n")
+						p("\t\t\tu, w, d := x[s], y[s], z[s]\n")
+						p("\t\t\tr := float64(u %s w)\n", o1.sym)
+						if side == "L" {
+							p("\t\t\tv := r %s d\n", o2.sym)
+						} else {
+							p("\t\t\tv := d %s r\n", o2.sym)
+						}
+						p("\t\t\tt[s] = r\n\t\t\to[s] = v\n")
+						for _, v := range div {
+							p("\t\t\tchk += %s - %s\n", v, v)
+						}
+					}
+					p("\t\t}\n")
+				}
+			}
+		}
+		if vec {
+			p("\t}\n\treturn chk\n}\n\n")
+		} else {
+			p("\t}\n\treturn chk\n}\n\n")
+		}
 		// A comparison and the if that reads it as its condition.
 		if vec {
 			p("// runCmpIfVec runs kSelect over the lanes of o (a multiple of four) as\n// runCmpIf does lane by lane.\n")

@@ -61,6 +61,10 @@ const (
 	kFloor              // floor(a)
 	kSelect             // if(a op b, c, d): a comparison read only by the if after it
 
+	// kKeep and on: fused pairs of + - * / that keep their first result
+	// in row d (it has other uses), in the order of fusedKind.
+	kKeep kind = 32
+
 	// kFused and on: fused pairs of + - * / (fused_gen.go), after every Op
 	// so that the scalar code can use an Op as its own kind.
 	kFused kind = 64
@@ -234,9 +238,10 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 				continue
 			}
 		}
-		// A + - * / whose one use is the next instruction, another of
-		// them, runs with it as one fused instruction.
-		if n+1 < len(nodes) && arith(op) && count[k] == 0 {
+		// A + - * / read by the next instruction, another of them, runs
+		// with it as one fused instruction, which also writes its value
+		// to a row of its own when it has other uses (kKeep).
+		if n+1 < len(nodes) && arith(op) {
 			k2 := nodes[n+1]
 			if op2 := p.ops[k2]; arith(op2) && (p.a[k2] == k) != (p.b[k2] == k) {
 				a, b := p.a[k], p.b[k]
@@ -256,6 +261,11 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 					release(n, b)
 				}
 				release(n+1, c)
+				if count[k] > 0 {
+					in.k = kKeep + (in.k - kFused)
+					reg[k] = alloc()
+					in.d = reg[k]
+				}
 				r := alloc()
 				reg[k2] = r
 				in.dst = r

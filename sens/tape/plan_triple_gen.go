@@ -2989,6 +2989,289 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 	return chk
 }
 
+// runKeep runs a pair that keeps its first result (kinds from kKeep, in
+// the order of fusedKind): t = x op1 y, o = t op2 z or z op2 t. It
+// returns the sum of v - v over the divisors v, as runFused. t and o may
+// be operand rows: a lane reads its operands before it writes.
+func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
+	t, x, y, z = t[:len(o)], x[:len(o)], y[:len(o)], z[:len(o)]
+	switch k {
+	case kKeep + 0: // + + L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := r + d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 1: // + + R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := d + r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 2: // + - L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := r - d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 3: // + - R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := d - r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 4: // + * L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := r * d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 5: // + * R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := d * r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 6: // + / L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := r / d
+			t[s] = r
+			o[s] = v
+			chk += d - d
+		}
+	case kKeep + 7: // + / R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u + w)
+			v := d / r
+			t[s] = r
+			o[s] = v
+			chk += r - r
+		}
+	case kKeep + 8: // - + L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := r + d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 9: // - + R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := d + r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 10: // - - L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := r - d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 11: // - - R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := d - r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 12: // - * L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := r * d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 13: // - * R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := d * r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 14: // - / L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := r / d
+			t[s] = r
+			o[s] = v
+			chk += d - d
+		}
+	case kKeep + 15: // - / R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u - w)
+			v := d / r
+			t[s] = r
+			o[s] = v
+			chk += r - r
+		}
+	case kKeep + 16: // * + L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := r + d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 17: // * + R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := d + r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 18: // * - L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := r - d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 19: // * - R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := d - r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 20: // * * L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := r * d
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 21: // * * R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := d * r
+			t[s] = r
+			o[s] = v
+		}
+	case kKeep + 22: // * / L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := r / d
+			t[s] = r
+			o[s] = v
+			chk += d - d
+		}
+	case kKeep + 23: // * / R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u * w)
+			v := d / r
+			t[s] = r
+			o[s] = v
+			chk += r - r
+		}
+	case kKeep + 24: // / + L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := r + d
+			t[s] = r
+			o[s] = v
+			chk += w - w
+		}
+	case kKeep + 25: // / + R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := d + r
+			t[s] = r
+			o[s] = v
+			chk += w - w
+		}
+	case kKeep + 26: // / - L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := r - d
+			t[s] = r
+			o[s] = v
+			chk += w - w
+		}
+	case kKeep + 27: // / - R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := d - r
+			t[s] = r
+			o[s] = v
+			chk += w - w
+		}
+	case kKeep + 28: // / * L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := r * d
+			t[s] = r
+			o[s] = v
+			chk += w - w
+		}
+	case kKeep + 29: // / * R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := d * r
+			t[s] = r
+			o[s] = v
+			chk += w - w
+		}
+	case kKeep + 30: // / / L
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := r / d
+			t[s] = r
+			o[s] = v
+			chk += w - w
+			chk += d - d
+		}
+	case kKeep + 31: // / / R
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			r := float64(u / w)
+			v := d / r
+			t[s] = r
+			o[s] = v
+			chk += w - w
+			chk += r - r
+		}
+	}
+	return chk
+}
+
 // runCmpIf runs kSelect over a block: o = z where x op y, w elsewhere (op a
 // comparison), and reports whether an operand is not finite. o may be
 // one of the operands: a lane reads them before it writes.

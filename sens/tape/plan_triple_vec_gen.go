@@ -2989,6 +2989,287 @@ func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {
 	return chk
 }
 
+// runKeepVec runs a pair that keeps its first result (kinds from kKeep)
+// over the lanes of o (a multiple of four) as runKeep does lane by lane.
+func runKeepVec(k kind, o, t, x, y, z []float64, chk v4) v4 {
+	t, x, y, z = t[:len(o)], x[:len(o)], y[:len(o)], z[:len(o)]
+	switch k {
+	case kKeep + 0: // + + L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := r.Add(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 1: // + + R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := d.Add(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 2: // + - L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := r.Sub(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 3: // + - R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := d.Sub(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 4: // + * L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := r.Mul(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 5: // + * R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := d.Mul(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 6: // + / L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := r.Div(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kKeep + 7: // + / R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Add(w)
+			v := d.Div(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(r.Sub(r))
+		}
+	case kKeep + 8: // - + L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := r.Add(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 9: // - + R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := d.Add(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 10: // - - L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := r.Sub(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 11: // - - R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := d.Sub(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 12: // - * L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := r.Mul(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 13: // - * R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := d.Mul(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 14: // - / L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := r.Div(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kKeep + 15: // - / R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Sub(w)
+			v := d.Div(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(r.Sub(r))
+		}
+	case kKeep + 16: // * + L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := r.Add(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 17: // * + R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := d.Add(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 18: // * - L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := r.Sub(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 19: // * - R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := d.Sub(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 20: // * * L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := r.Mul(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 21: // * * R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := d.Mul(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+		}
+	case kKeep + 22: // * / L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := r.Div(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kKeep + 23: // * / R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Mul(w)
+			v := d.Div(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(r.Sub(r))
+		}
+	case kKeep + 24: // / + L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := r.Add(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+		}
+	case kKeep + 25: // / + R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := d.Add(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+		}
+	case kKeep + 26: // / - L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := r.Sub(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+		}
+	case kKeep + 27: // / - R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := d.Sub(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+		}
+	case kKeep + 28: // / * L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := r.Mul(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+		}
+	case kKeep + 29: // / * R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := d.Mul(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+		}
+	case kKeep + 30: // / / L
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := r.Div(d)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kKeep + 31: // / / R
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			r := u.Div(w)
+			v := d.Div(r)
+			st(r, t[s:s+4])
+			st(v, o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			chk = chk.Add(r.Sub(r))
+		}
+	}
+	return chk
+}
+
 // runCmpIfVec runs kSelect over the lanes of o (a multiple of four) as
 // runCmpIf does lane by lane.
 func runCmpIfVec(op Op, o, x, y, z, w []float64, chk v4) v4 {

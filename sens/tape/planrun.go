@@ -239,6 +239,8 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 				chk += runTriple(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:])
 			} else if in.k >= kFused {
 				chk += runFused(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:])
+			} else if in.k >= kKeep {
+				chk += runKeep(in.k, o, rows[in.d][lo:], rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:])
 			} else if e.runOp(in, lo, m) {
 				bad = true
 			}

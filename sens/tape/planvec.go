@@ -199,6 +199,8 @@ func (e *planExec) runVec(m int) (lanes int, bad bool) {
 				chk = runTripleVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)
 			} else if in.k >= kFused {
 				chk = runFusedVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], chk)
+			} else if in.k >= kKeep {
+				chk = runKeepVec(in.k, o, rows[in.d], rows[in.a], rows[in.b], rows[in.c], chk)
 			} else {
 				archsimd.ClearAVXUpperBits()
 				if e.runOp(in, 0, n) {

@@ -168,7 +168,7 @@ func randomPlanModel(seed uint64) (*tape.Tape, []float64) {
 }
 
 // Every triple and pair of + - * / that the plans fuse (each shape: chains
-// and trees), on all combinations of operand values that overflow, divide
+// and trees; pairs that keep their first result), on all combinations of operand values that overflow, divide
 // by zero or are not finite, in blocks of four equal lanes (one vector):
 // the batched pass, with and without vector kernels, reports a domain
 // error exactly where Eval does and otherwise gives Eval's value to the
@@ -198,6 +198,14 @@ func TestPlanFusedKernels(t *testing.T) {
 		"TR": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot {
 			t1 := bin(b, o1, a, x)
 			return bin(b, o3, bin(b, o2, c, d), t1)
+		},
+		"keep L": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, _ tape.Slot) tape.Slot {
+			t1 := bin(b, o1, a, x)
+			return bin(b, o3, bin(b, o2, t1, c), t1)
+		},
+		"keep R": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, _ tape.Slot) tape.Slot {
+			t1 := bin(b, o1, a, x)
+			return bin(b, o3, t1, bin(b, o2, c, t1))
 		},
 		"pair L": func(b *tape.Builder, o1, o2, _ tape.Op, a, x, c, _ tape.Slot) tape.Slot {
 			return bin(b, o2, bin(b, o1, a, x), c)
