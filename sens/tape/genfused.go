@@ -246,6 +246,11 @@ func genPlanTriples() {
 		}
 		p("package tape\n\n")
 		if vec {
+			p("import \"simd/archsimd\"\n\n")
+		} else {
+			p("import \"math\"\n\n")
+		}
+		if vec {
 			p("// runTripleVec runs a triple (kinds from kFusedEnd, see tripleKind) over\n")
 			p("// the lanes of o (a multiple of four) as runTriple does lane by lane.\n")
 			p("func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {\n")
@@ -378,6 +383,62 @@ func genPlanTriples() {
 		} else {
 			p("\t}\n\treturn chk\n}\n\n")
 		}
+		// + - * / followed by ceil, floor, negation, max or min of its
+		// result: kinds kPost + 8*op1 + form (postForms).
+		if vec {
+			p("// runPostVec runs kPost kinds over the lanes of o (a multiple of four)\n// as runPost does lane by lane.\n")
+			p("func runPostVec(k kind, o, x, y, z []float64, chk v4) v4 {\n")
+			p("\tneg := archsimd.BroadcastFloat64x4(-1)\n")
+		} else {
+			p("// runPost runs a + - * / and the ceil, floor, negation, max or min of\n")
+			p("// its result t (with z) that follows it (kinds kPost + 8*op1 + form:\n")
+			p("// ceil(t), floor(t), -t, max(t, z), max(z, t), min(t, z), min(z, t)),\n")
+			p("// and returns the sum of v - v over the divisor and the operands of\n// max and min, as runFused.\n")
+			p("func runPost(k kind, o, x, y, z []float64) (chk float64) {\n")
+		}
+		p("\tx, y, z = x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+		type form struct{ scalar, vector, cmp string }
+		forms := []form{
+			{"o[s] = math.Ceil(t)", "st(t.Ceil(), o[s:s+4])", ""},
+			{"o[s] = math.Floor(t)", "st(t.Floor(), o[s:s+4])", ""},
+			{"o[s] = -t", "st(t.Mul(neg), o[s:s+4])", ""},
+			{"if t >= d {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = d\n\t\t\t}", "st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])", "m"},
+			{"if d >= t {\n\t\t\t\to[s] = d\n\t\t\t} else {\n\t\t\t\to[s] = t\n\t\t\t}", "st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])", "m"},
+			{"if t <= d {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = d\n\t\t\t}", "st(t.Merge(d, t.LessEqual(d)), o[s:s+4])", "m"},
+			{"if d <= t {\n\t\t\t\to[s] = d\n\t\t\t} else {\n\t\t\t\to[s] = t\n\t\t\t}", "st(d.Merge(t, d.LessEqual(t)), o[s:s+4])", "m"},
+		}
+		for i1, o1 := range ops {
+			for fi, f := range forms {
+				p("\tcase kPost + %d:\n", i1*8+fi)
+				if vec {
+					p("\t\tfor s := 0; s+4 <= len(o); s += 4 {\n")
+					p("\t\t\tu, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])\n")
+					p("\t\t\tt := u.%s(w)\n\t\t\t%s\n", o1.name, f.vector)
+					if o1.sym == "/" {
+						p("\t\t\tchk = chk.Add(w.Sub(w))\n")
+					}
+					if f.cmp != "" {
+						p("\t\t\tchk = chk.Add(t.Sub(t)).Add(d.Sub(d))\n")
+					} else {
+						p("\t\t\t_ = d\n")
+					}
+				} else {
+					p("\t\tfor s := range o {\n")
+					p("\t\t\tu, w, d := x[s], y[s], z[s]\n")
+					p("\t\t\tt := float64(u %s w)\n\t\t\t%s\n", o1.sym, f.scalar)
+					if o1.sym == "/" {
+						p("\t\t\tchk += w - w\n")
+					}
+					if f.cmp != "" {
+						p("\t\t\tchk += t - t + (d - d)\n")
+					} else {
+						p("\t\t\t_ = d\n")
+					}
+				}
+				p("\t\t}\n")
+			}
+		}
+		p("\t}\n\treturn chk\n}\n\n")
 		// A comparison and the if that reads it as its condition.
 		if vec {
 			p("// runCmpIfVec runs kSelect over the lanes of o (a multiple of four) as\n// runCmpIf does lane by lane.\n")

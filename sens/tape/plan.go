@@ -65,6 +65,11 @@ const (
 	// in row d (it has other uses), in the order of fusedKind.
 	kKeep kind = 32
 
+	// kPost and on: a + - * / with one use and the ceil, floor,
+	// negation, max or min of its result after it (see runPost), above
+	// every kind of the scalar code.
+	kPost kind = 1024
+
 	// kFused and on: fused pairs of + - * / (fused_gen.go), after every Op
 	// so that the scalar code can use an Op as its own kind.
 	kFused kind = 64
@@ -230,6 +235,58 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 				release(n, b)
 				release(n+1, c)
 				release(n+1, d)
+				r := alloc()
+				reg[k2] = r
+				in.dst = r
+				pl.code = append(pl.code, in)
+				skip = 1
+				continue
+			}
+		}
+		// A + - * / with one use, by a ceil, floor, negation, max or min
+		// after it, runs with it (kPost).
+		if n+1 < len(nodes) && arith(op) && count[k] <= 1 {
+			k2 := nodes[n+1]
+			op2 := p.ops[k2]
+			form := -1
+			// A unary operation's b is its a: its operand's one use
+			// counts twice.
+			if count[k] == 1 && (op2.Arity() != 1 || p.b[k2] != k) {
+				op2 = opArg // no form
+			}
+			z := p.a[k2]
+			switch {
+			case op2 == OpCeil && p.a[k2] == k:
+				form = 0
+			case op2 == OpFloor && p.a[k2] == k:
+				form = 1
+			case op2 == OpNeg && p.a[k2] == k:
+				form = 2
+			case (op2 == OpMax || op2 == OpMin) && (p.a[k2] == k) != (p.b[k2] == k):
+				form = 3
+				if p.a[k2] == k {
+					z = p.b[k2]
+				} else {
+					form++
+				}
+				if op2 == OpMin {
+					form += 2
+				}
+			}
+			if form >= 0 {
+				a, b := p.a[k], p.b[k]
+				if form <= 2 {
+					z = a // unused: any row
+				}
+				in := instr{k: kPost + kind(fusedIndex(op)*8+form), op: op2, a: operand(a), b: operand(b), c: operand(z)}
+				for _, v := range []int32{a, b, z} {
+					if !isReg(v) && !finite(src.value(v)) {
+						pl.alwaysBad = true
+					}
+				}
+				release(n, a)
+				release(n, b)
+				release(n+1, z)
 				r := alloc()
 				reg[k2] = r
 				in.dst = r

@@ -2,6 +2,8 @@
 
 package tape
 
+import "math"
+
 // runTriple runs a triple (kinds from kFusedEnd, see tripleKind) over a
 // block: operands a, b, c, d from x, y, z, w. It returns the sum of v - v
 // over the divisors v: NaN when one is not finite. o may be one of the
@@ -3267,6 +3269,285 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 			chk += w - w
 			chk += r - r
+		}
+	}
+	return chk
+}
+
+// runPost runs a + - * / and the ceil, floor, negation, max or min of
+// its result t (with z) that follows it (kinds kPost + 8*op1 + form:
+// ceil(t), floor(t), -t, max(t, z), max(z, t), min(t, z), min(z, t)),
+// and returns the sum of v - v over the divisor and the operands of
+// max and min, as runFused.
+func runPost(k kind, o, x, y, z []float64) (chk float64) {
+	x, y, z = x[:len(o)], y[:len(o)], z[:len(o)]
+	switch k {
+	case kPost + 0:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			o[s] = math.Ceil(t)
+			_ = d
+		}
+	case kPost + 1:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			o[s] = math.Floor(t)
+			_ = d
+		}
+	case kPost + 2:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			o[s] = -t
+			_ = d
+		}
+	case kPost + 3:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			if t >= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 4:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			if d >= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 5:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			if t <= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 6:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u + w)
+			if d <= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 8:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			o[s] = math.Ceil(t)
+			_ = d
+		}
+	case kPost + 9:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			o[s] = math.Floor(t)
+			_ = d
+		}
+	case kPost + 10:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			o[s] = -t
+			_ = d
+		}
+	case kPost + 11:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			if t >= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 12:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			if d >= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 13:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			if t <= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 14:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u - w)
+			if d <= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 16:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			o[s] = math.Ceil(t)
+			_ = d
+		}
+	case kPost + 17:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			o[s] = math.Floor(t)
+			_ = d
+		}
+	case kPost + 18:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			o[s] = -t
+			_ = d
+		}
+	case kPost + 19:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			if t >= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 20:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			if d >= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 21:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			if t <= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 22:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u * w)
+			if d <= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += t - t + (d - d)
+		}
+	case kPost + 24:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			o[s] = math.Ceil(t)
+			chk += w - w
+			_ = d
+		}
+	case kPost + 25:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			o[s] = math.Floor(t)
+			chk += w - w
+			_ = d
+		}
+	case kPost + 26:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			o[s] = -t
+			chk += w - w
+			_ = d
+		}
+	case kPost + 27:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			if t >= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += w - w
+			chk += t - t + (d - d)
+		}
+	case kPost + 28:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			if d >= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += w - w
+			chk += t - t + (d - d)
+		}
+	case kPost + 29:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			if t <= d {
+				o[s] = t
+			} else {
+				o[s] = d
+			}
+			chk += w - w
+			chk += t - t + (d - d)
+		}
+	case kPost + 30:
+		for s := range o {
+			u, w, d := x[s], y[s], z[s]
+			t := float64(u / w)
+			if d <= t {
+				o[s] = d
+			} else {
+				o[s] = t
+			}
+			chk += w - w
+			chk += t - t + (d - d)
 		}
 	}
 	return chk

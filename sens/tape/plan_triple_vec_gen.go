@@ -4,6 +4,8 @@
 
 package tape
 
+import "simd/archsimd"
+
 // runTripleVec runs a triple (kinds from kFusedEnd, see tripleKind) over
 // the lanes of o (a multiple of four) as runTriple does lane by lane.
 func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {
@@ -3265,6 +3267,219 @@ func runKeepVec(k kind, o, t, x, y, z []float64, chk v4) v4 {
 			st(v, o[s:s+4])
 			chk = chk.Add(w.Sub(w))
 			chk = chk.Add(r.Sub(r))
+		}
+	}
+	return chk
+}
+
+// runPostVec runs kPost kinds over the lanes of o (a multiple of four)
+// as runPost does lane by lane.
+func runPostVec(k kind, o, x, y, z []float64, chk v4) v4 {
+	neg := archsimd.BroadcastFloat64x4(-1)
+	x, y, z = x[:len(o)], y[:len(o)], z[:len(o)]
+	switch k {
+	case kPost + 0:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(t.Ceil(), o[s:s+4])
+			_ = d
+		}
+	case kPost + 1:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(t.Floor(), o[s:s+4])
+			_ = d
+		}
+	case kPost + 2:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(t.Mul(neg), o[s:s+4])
+			_ = d
+		}
+	case kPost + 3:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 4:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 5:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(t.Merge(d, t.LessEqual(d)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 6:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Add(w)
+			st(d.Merge(t, d.LessEqual(t)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 8:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(t.Ceil(), o[s:s+4])
+			_ = d
+		}
+	case kPost + 9:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(t.Floor(), o[s:s+4])
+			_ = d
+		}
+	case kPost + 10:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(t.Mul(neg), o[s:s+4])
+			_ = d
+		}
+	case kPost + 11:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 12:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 13:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(t.Merge(d, t.LessEqual(d)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 14:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Sub(w)
+			st(d.Merge(t, d.LessEqual(t)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 16:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(t.Ceil(), o[s:s+4])
+			_ = d
+		}
+	case kPost + 17:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(t.Floor(), o[s:s+4])
+			_ = d
+		}
+	case kPost + 18:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(t.Mul(neg), o[s:s+4])
+			_ = d
+		}
+	case kPost + 19:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 20:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 21:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(t.Merge(d, t.LessEqual(d)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 22:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Mul(w)
+			st(d.Merge(t, d.LessEqual(t)), o[s:s+4])
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 24:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(t.Ceil(), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			_ = d
+		}
+	case kPost + 25:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(t.Floor(), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			_ = d
+		}
+	case kPost + 26:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(t.Mul(neg), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			_ = d
+		}
+	case kPost + 27:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 28:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 29:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(t.Merge(d, t.LessEqual(d)), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
+		}
+	case kPost + 30:
+		for s := 0; s+4 <= len(o); s += 4 {
+			u, w, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4])
+			t := u.Div(w)
+			st(d.Merge(t, d.LessEqual(t)), o[s:s+4])
+			chk = chk.Add(w.Sub(w))
+			chk = chk.Add(t.Sub(t)).Add(d.Sub(d))
 		}
 	}
 	return chk

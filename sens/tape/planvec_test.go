@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/nudge-dev/nudge/sens/tape"
@@ -168,14 +169,15 @@ func randomPlanModel(seed uint64) (*tape.Tape, []float64) {
 }
 
 // Every triple and pair of + - * / that the plans fuse (each shape: chains
-// and trees; pairs that keep their first result), on all combinations of operand values that overflow, divide
+// and trees; pairs that keep their first result; one followed by ceil,
+// floor, negation, max or min), on all combinations of operand values that overflow, divide
 // by zero or are not finite, in blocks of four equal lanes (one vector):
 // the batched pass, with and without vector kernels, reports a domain
 // error exactly where Eval does and otherwise gives Eval's value to the
 // last bit.
 func TestPlanFusedKernels(t *testing.T) {
 	ops := []tape.Op{tape.OpAdd, tape.OpSub, tape.OpMul, tape.OpDiv}
-	vals := []float64{1e308, 0, 2, -3, math.Inf(1)}
+	vals := []float64{1e308, 0, 2, -3, math.Inf(1), math.Copysign(0, -1)}
 	type shape func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot
 	bin := func(b *tape.Builder, op tape.Op, x, y tape.Slot) tape.Slot { return b.Binary(op, x, y) }
 	shapes := map[string]shape{
@@ -207,6 +209,27 @@ func TestPlanFusedKernels(t *testing.T) {
 			t1 := bin(b, o1, a, x)
 			return bin(b, o3, t1, bin(b, o2, c, t1))
 		},
+		"post ceil": func(b *tape.Builder, o1, _, _ tape.Op, a, x, _, _ tape.Slot) tape.Slot {
+			return b.Unary(tape.OpCeil, bin(b, o1, a, x))
+		},
+		"post floor": func(b *tape.Builder, o1, _, _ tape.Op, a, x, _, _ tape.Slot) tape.Slot {
+			return b.Unary(tape.OpFloor, bin(b, o1, a, x))
+		},
+		"post neg": func(b *tape.Builder, o1, _, _ tape.Op, a, x, _, _ tape.Slot) tape.Slot {
+			return b.Unary(tape.OpNeg, bin(b, o1, a, x))
+		},
+		"post max L": func(b *tape.Builder, o1, _, _ tape.Op, a, x, c, _ tape.Slot) tape.Slot {
+			return bin(b, tape.OpMax, bin(b, o1, a, x), c)
+		},
+		"post max R": func(b *tape.Builder, o1, _, _ tape.Op, a, x, c, _ tape.Slot) tape.Slot {
+			return bin(b, tape.OpMax, c, bin(b, o1, a, x))
+		},
+		"post min L": func(b *tape.Builder, o1, _, _ tape.Op, a, x, c, _ tape.Slot) tape.Slot {
+			return bin(b, tape.OpMin, bin(b, o1, a, x), c)
+		},
+		"post min R": func(b *tape.Builder, o1, _, _ tape.Op, a, x, c, _ tape.Slot) tape.Slot {
+			return bin(b, tape.OpMin, c, bin(b, o1, a, x))
+		},
 		"pair L": func(b *tape.Builder, o1, o2, _ tape.Op, a, x, c, _ tape.Slot) tape.Slot {
 			return bin(b, o2, bin(b, o1, a, x), c)
 		},
@@ -224,7 +247,7 @@ func TestPlanFusedKernels(t *testing.T) {
 		for _, o1 := range ops {
 			for _, o2 := range ops {
 				for _, o3 := range ops {
-					if name[0] == 'p' && o3 != tape.OpAdd {
+					if strings.HasPrefix(name, "pair") && o3 != tape.OpAdd || strings.HasPrefix(name, "post") && (o2 != tape.OpAdd || o3 != tape.OpAdd) {
 						continue
 					}
 					b := tape.NewBuilder()
