@@ -250,74 +250,98 @@ func genPlanTriples() {
 		} else {
 			p("import \"math\"\n\n")
 		}
-		if vec {
-			p("// runTripleVec runs a triple (kinds from kFusedEnd, see tripleKind) over\n")
-			p("// the lanes of o (a multiple of four) as runTriple does lane by lane.\n")
-			p("func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {\n")
-		} else {
-			p("// runTriple runs a triple (kinds from kFusedEnd, see tripleKind) over a\n")
-			p("// block: operands a, b, c, d from x, y, z, w. It returns the sum of v - v\n")
-			p("// over the divisors v: NaN when one is not finite. o may be one of the\n// operands: a lane reads them before it writes.\n")
-			p("func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {\n")
-		}
-		p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n\tswitch k {\n")
-		for i1, o1 := range ops {
-			for i2, o2 := range ops {
-				for i3, o3 := range ops {
-					for si, sh := range shapes {
-						p("\tcase kFusedEnd + %d: // %s %s %s %s\n", ((i1*4+i2)*4+i3)*len(shapes)+si, o1.sym, o2.sym, o3.sym, sh)
-						var x2, y2, x3, y3 string
-						switch sh {
-						case "LL", "LR":
-							x2, y2 = "t1", "c"
-						case "RL", "RR":
-							x2, y2 = "c", "t1"
-						default:
-							x2, y2 = "c", "d"
-						}
-						switch sh {
-						case "LL", "RL":
-							x3, y3 = "t2", "d"
-						case "LR", "RR":
-							x3, y3 = "d", "t2"
-						case "TL":
-							x3, y3 = "t1", "t2"
-						default:
-							x3, y3 = "t2", "t1"
-						}
-						var divs []string
-						if o1.sym == "/" {
-							divs = append(divs, "b")
-						}
-						if o2.sym == "/" {
-							divs = append(divs, y2)
-						}
-						if o3.sym == "/" {
-							divs = append(divs, y3)
-						}
-						if vec {
-							p("\t\tfor s := 0; s+4 <= len(o); s += 4 {\n")
-							p("\t\t\ta, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])\n")
-							p("\t\t\tt1 := a.%s(b)\n\t\t\tt2 := %s.%s(%s)\n", o1.name, x2, o2.name, y2)
-							p("\t\t\tst(%s.%s(%s), o[s:s+4])\n", x3, o3.name, y3)
-							for _, v := range divs {
-								p("\t\t\tchk = chk.Add(%s.Sub(%s))\n", v, v)
+		for _, keep := range []bool{false, true} {
+			switch {
+			case vec && keep:
+				p("// runTripleKeepVec runs a triple that keeps t1 and t2 (kinds from\n// kTripleKeep) over the lanes of o (a multiple of four) as runTripleKeep\n// does lane by lane.\n")
+				p("func runTripleKeepVec(k kind, o, r1, r2, x, y, z, w []float64, chk v4) v4 {\n")
+			case vec:
+				p("// runTripleVec runs a triple (kinds from kFusedEnd, see tripleKind) over\n")
+				p("// the lanes of o (a multiple of four) as runTriple does lane by lane.\n")
+				p("func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {\n")
+			case keep:
+				p("// runTripleKeep runs a triple as runTriple and also writes t1 to r1 and\n")
+				p("// t2 to r2 (kinds kTripleKeep + the triple's index; a value with no\n// other use goes to a row that nothing reads).\n")
+				p("func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {\n")
+			default:
+				p("// runTriple runs a triple (kinds from kFusedEnd, see tripleKind) over a\n")
+				p("// block: operands a, b, c, d from x, y, z, w. It returns the sum of v - v\n")
+				p("// over the divisors v: NaN when one is not finite. o may be one of the\n// operands: a lane reads them before it writes.\n")
+				p("func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {\n")
+			}
+			p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n")
+			if keep {
+				p("\tr1, r2 = r1[:len(o)], r2[:len(o)]\n")
+			}
+			p("\tswitch k {\n")
+			for i1, o1 := range ops {
+				for i2, o2 := range ops {
+					for i3, o3 := range ops {
+						for si, sh := range shapes {
+							base := "kFusedEnd"
+							if keep {
+								base = "kTripleKeep"
 							}
-						} else {
-							p("\t\tfor s := range o {\n")
-							p("\t\t\ta, b, c, d := x[s], y[s], z[s], w[s]\n")
-							p("\t\t\tt1 := float64(a %s b)\n\t\t\tt2 := float64(%s %s %s)\n", o1.sym, x2, o2.sym, y2)
-							p("\t\t\to[s] = %s %s %s\n", x3, o3.sym, y3)
-							for _, v := range divs {
-								p("\t\t\tchk += %s - %s\n", v, v)
+							p("\tcase %s + %d: // %s %s %s %s\n", base, ((i1*4+i2)*4+i3)*len(shapes)+si, o1.sym, o2.sym, o3.sym, sh)
+							var x2, y2, x3, y3 string
+							switch sh {
+							case "LL", "LR":
+								x2, y2 = "t1", "c"
+							case "RL", "RR":
+								x2, y2 = "c", "t1"
+							default:
+								x2, y2 = "c", "d"
 							}
+							switch sh {
+							case "LL", "RL":
+								x3, y3 = "t2", "d"
+							case "LR", "RR":
+								x3, y3 = "d", "t2"
+							case "TL":
+								x3, y3 = "t1", "t2"
+							default:
+								x3, y3 = "t2", "t1"
+							}
+							var divs []string
+							if o1.sym == "/" {
+								divs = append(divs, "b")
+							}
+							if o2.sym == "/" {
+								divs = append(divs, y2)
+							}
+							if o3.sym == "/" {
+								divs = append(divs, y3)
+							}
+							if vec {
+								p("\t\tfor s := 0; s+4 <= len(o); s += 4 {\n")
+								p("\t\t\ta, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])\n")
+								p("\t\t\tt1 := a.%s(b)\n\t\t\tt2 := %s.%s(%s)\n", o1.name, x2, o2.name, y2)
+								p("\t\t\tst(%s.%s(%s), o[s:s+4])\n", x3, o3.name, y3)
+								if keep {
+									p("\t\t\tst(t1, r1[s:s+4])\n\t\t\tst(t2, r2[s:s+4])\n")
+								}
+								for _, v := range divs {
+									p("\t\t\tchk = chk.Add(%s.Sub(%s))\n", v, v)
+								}
+							} else {
+								p("\t\tfor s := range o {\n")
+								p("\t\t\ta, b, c, d := x[s], y[s], z[s], w[s]\n")
+								p("\t\t\tt1 := float64(a %s b)\n\t\t\tt2 := float64(%s %s %s)\n", o1.sym, x2, o2.sym, y2)
+								p("\t\t\to[s] = %s %s %s\n", x3, o3.sym, y3)
+								if keep {
+									p("\t\t\tr1[s], r2[s] = t1, t2\n")
+								}
+								for _, v := range divs {
+									p("\t\t\tchk += %s - %s\n", v, v)
+								}
+							}
+							p("\t\t}\n")
 						}
-						p("\t\t}\n")
 					}
 				}
 			}
+			p("\t}\n\treturn chk\n}\n\n")
 		}
-		p("\t}\n\treturn chk\n}\n\n")
 		// Pairs that keep their first result in a row of its own (it has
 		// other uses): kinds kKeep + (fusedKind - kFused).
 		if vec {

@@ -70,6 +70,10 @@ const (
 	// every kind of the scalar code.
 	kPost kind = 1024
 
+	// kTripleKeep and on: triples (in the order of tripleKind) that also
+	// write t1 to row e and t2 to row f, where they have other uses.
+	kTripleKeep kind = 2048
+
 	// kFused and on: fused pairs of + - * / (fused_gen.go), after every Op
 	// so that the scalar code can use an Op as its own kind.
 	kFused kind = 64
@@ -82,6 +86,7 @@ type instr struct {
 	check      uint8 // operands to test for non-finite values: bits 1 (a), 2 (b), 4 (c)
 	dst        int32
 	a, b, c, d int32 // d: a triple's fourth operand
+	e, f       int32 // kTripleKeep: the rows of t1 and t2
 	imm        float64
 }
 
@@ -181,6 +186,7 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	}
 	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
 	pl.code = make([]instr, 0, len(nodes))
+	junk := int32(-1) // a row that kTripleKeep writes values nothing reads to
 	skip := 0
 	for n, k := range nodes {
 		if skip > 0 {
@@ -191,9 +197,9 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 		// Three + - * / where the first two have one use each, in the
 		// next instructions, as a chain or a tree (see triple), run as
 		// one instruction.
-		if n+2 < len(nodes) && arith(op) && count[k] == 0 {
+		if n+2 < len(nodes) && arith(op) {
 			k1, k2 := nodes[n+1], nodes[n+2]
-			if sh, c, d, ok := planTriple(p, k, k1, k2, count); ok {
+			if sh, c, d, ok := planTriple(p, k, k1, k2); ok {
 				a, b := p.a[k], p.b[k]
 				in := instr{k: tripleKind(op, p.ops[k1], p.ops[k2], sh), op: p.ops[k2],
 					a: operand(a), b: operand(b), c: operand(c), d: operand(d)}
@@ -210,6 +216,23 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 				} else {
 					release(n+1, c)
 					release(n+2, d)
+				}
+				if keep1, keep2 := count[k] > 0, count[k1] > 0; keep1 || keep2 {
+					// t1 or t2 has other uses: kept in rows of their own,
+					// and the other, if any, written to the junk row.
+					in.k = kTripleKeep + (in.k - kFusedEnd)
+					if junk == -1 {
+						junk = alloc()
+					}
+					in.e, in.f = junk, junk
+					if keep1 {
+						reg[k] = alloc()
+						in.e = reg[k]
+					}
+					if keep2 {
+						reg[k1] = alloc()
+						in.f = reg[k1]
+					}
 				}
 				r := alloc()
 				reg[k2] = r
@@ -457,6 +480,7 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	for n := range pl.code {
 		in := &pl.code[n]
 		in.dst, in.a, in.b, in.c, in.d = fix(in.dst), fix(in.a), fix(in.b), fix(in.c), fix(in.d)
+		in.e, in.f = fix(in.e), fix(in.f)
 	}
 	pl.out = fix(outReg)
 	pl.nreg = int(base + next)
@@ -467,13 +491,13 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 }
 
 // planTriple reports whether plan nodes k0, k1, k2 (consecutive in the
-// plan) are + - * / forming a triple, as the scalar code's triple: k0 and
-// k1 have one use each (count 0) and k1 reads k0, k2 reads k1 (a chain),
-// or k2 reads both (a tree), each on one side only. It returns the shape
-// and the third and fourth operands.
-func planTriple(p *tapeProg, k0, k1, k2 int32, count []int32) (shape int, c, d int32, ok bool) {
+// plan) are + - * / forming a triple, as the scalar code's triple: k1
+// reads k0, k2 reads k1 and not k0 (a chain), or k2 reads both (a tree),
+// each on one side only. k0 and k1 may have other uses (see kTripleKeep).
+// It returns the shape and the third and fourth operands.
+func planTriple(p *tapeProg, k0, k1, k2 int32) (shape int, c, d int32, ok bool) {
 	arith := func(op Op) bool { return op == OpAdd || op == OpSub || op == OpMul || op == OpDiv }
-	if count[k0] != 0 || count[k1] != 0 || !arith(p.ops[k0]) || !arith(p.ops[k1]) || !arith(p.ops[k2]) {
+	if !arith(p.ops[k0]) || !arith(p.ops[k1]) || !arith(p.ops[k2]) {
 		return 0, 0, 0, false
 	}
 	a1, b1, a2, b2 := p.a[k1], p.b[k1], p.a[k2], p.b[k2]

@@ -2991,6 +2991,3761 @@ func runTripleVec(k kind, o, x, y, z, w []float64, chk v4) v4 {
 	return chk
 }
 
+// runTripleKeepVec runs a triple that keeps t1 and t2 (kinds from
+// kTripleKeep) over the lanes of o (a multiple of four) as runTripleKeep
+// does lane by lane.
+func runTripleKeepVec(k kind, o, r1, r2, x, y, z, w []float64, chk v4) v4 {
+	x, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]
+	r1, r2 = r1[:len(o)], r2[:len(o)]
+	switch k {
+	case kTripleKeep + 0: // + + + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 1: // + + + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 2: // + + + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 3: // + + + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 4: // + + + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 5: // + + + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 6: // + + - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 7: // + + - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 8: // + + - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 9: // + + - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 10: // + + - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 11: // + + - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 12: // + + * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 13: // + + * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 14: // + + * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 15: // + + * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 16: // + + * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 17: // + + * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 18: // + + / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 19: // + + / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Add(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 20: // + + / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 21: // + + / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 22: // + + / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 23: // + + / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Add(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 24: // + - + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 25: // + - + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 26: // + - + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 27: // + - + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 28: // + - + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 29: // + - + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 30: // + - - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 31: // + - - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 32: // + - - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 33: // + - - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 34: // + - - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 35: // + - - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 36: // + - * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 37: // + - * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 38: // + - * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 39: // + - * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 40: // + - * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 41: // + - * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 42: // + - / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 43: // + - / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Sub(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 44: // + - / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 45: // + - / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 46: // + - / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 47: // + - / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Sub(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 48: // + * + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 49: // + * + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 50: // + * + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 51: // + * + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 52: // + * + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 53: // + * + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 54: // + * - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 55: // + * - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 56: // + * - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 57: // + * - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 58: // + * - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 59: // + * - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 60: // + * * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 61: // + * * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 62: // + * * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 63: // + * * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 64: // + * * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 65: // + * * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 66: // + * / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 67: // + * / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Mul(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 68: // + * / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 69: // + * / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 70: // + * / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 71: // + * / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Mul(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 72: // + / + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 73: // + / + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 74: // + / + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 75: // + / + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 76: // + / + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 77: // + / + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 78: // + / - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 79: // + / - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 80: // + / - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 81: // + / - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 82: // + / - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 83: // + / - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 84: // + / * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 85: // + / * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 86: // + / * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 87: // + / * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 88: // + / * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 89: // + / * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 90: // + / / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 91: // + / / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := t1.Div(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 92: // + / / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 93: // + / / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 94: // + / / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 95: // + / / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Add(b)
+			t2 := c.Div(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 96: // - + + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 97: // - + + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 98: // - + + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 99: // - + + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 100: // - + + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 101: // - + + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 102: // - + - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 103: // - + - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 104: // - + - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 105: // - + - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 106: // - + - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 107: // - + - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 108: // - + * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 109: // - + * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 110: // - + * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 111: // - + * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 112: // - + * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 113: // - + * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 114: // - + / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 115: // - + / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Add(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 116: // - + / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 117: // - + / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 118: // - + / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 119: // - + / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Add(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 120: // - - + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 121: // - - + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 122: // - - + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 123: // - - + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 124: // - - + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 125: // - - + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 126: // - - - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 127: // - - - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 128: // - - - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 129: // - - - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 130: // - - - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 131: // - - - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 132: // - - * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 133: // - - * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 134: // - - * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 135: // - - * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 136: // - - * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 137: // - - * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 138: // - - / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 139: // - - / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Sub(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 140: // - - / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 141: // - - / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 142: // - - / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 143: // - - / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Sub(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 144: // - * + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 145: // - * + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 146: // - * + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 147: // - * + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 148: // - * + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 149: // - * + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 150: // - * - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 151: // - * - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 152: // - * - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 153: // - * - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 154: // - * - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 155: // - * - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 156: // - * * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 157: // - * * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 158: // - * * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 159: // - * * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 160: // - * * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 161: // - * * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 162: // - * / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 163: // - * / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Mul(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 164: // - * / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 165: // - * / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 166: // - * / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 167: // - * / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Mul(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 168: // - / + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 169: // - / + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 170: // - / + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 171: // - / + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 172: // - / + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 173: // - / + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 174: // - / - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 175: // - / - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 176: // - / - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 177: // - / - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 178: // - / - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 179: // - / - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 180: // - / * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 181: // - / * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 182: // - / * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 183: // - / * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 184: // - / * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 185: // - / * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 186: // - / / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 187: // - / / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := t1.Div(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 188: // - / / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 189: // - / / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 190: // - / / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 191: // - / / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Sub(b)
+			t2 := c.Div(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 192: // * + + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 193: // * + + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 194: // * + + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 195: // * + + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 196: // * + + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 197: // * + + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 198: // * + - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 199: // * + - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 200: // * + - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 201: // * + - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 202: // * + - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 203: // * + - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 204: // * + * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 205: // * + * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 206: // * + * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 207: // * + * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 208: // * + * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 209: // * + * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 210: // * + / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 211: // * + / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Add(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 212: // * + / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 213: // * + / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 214: // * + / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 215: // * + / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Add(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 216: // * - + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 217: // * - + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 218: // * - + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 219: // * - + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 220: // * - + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 221: // * - + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 222: // * - - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 223: // * - - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 224: // * - - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 225: // * - - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 226: // * - - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 227: // * - - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 228: // * - * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 229: // * - * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 230: // * - * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 231: // * - * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 232: // * - * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 233: // * - * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 234: // * - / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 235: // * - / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Sub(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 236: // * - / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 237: // * - / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 238: // * - / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 239: // * - / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Sub(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 240: // * * + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 241: // * * + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 242: // * * + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 243: // * * + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 244: // * * + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 245: // * * + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 246: // * * - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 247: // * * - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 248: // * * - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 249: // * * - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 250: // * * - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 251: // * * - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 252: // * * * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 253: // * * * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 254: // * * * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 255: // * * * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 256: // * * * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 257: // * * * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+		}
+	case kTripleKeep + 258: // * * / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 259: // * * / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Mul(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 260: // * * / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 261: // * * / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 262: // * * / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 263: // * * / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Mul(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 264: // * / + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 265: // * / + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 266: // * / + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 267: // * / + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 268: // * / + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 269: // * / + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 270: // * / - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 271: // * / - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 272: // * / - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 273: // * / - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 274: // * / - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 275: // * / - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 276: // * / * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 277: // * / * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 278: // * / * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 279: // * / * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 280: // * / * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 281: // * / * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 282: // * / / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 283: // * / / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := t1.Div(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 284: // * / / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 285: // * / / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 286: // * / / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 287: // * / / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Mul(b)
+			t2 := c.Div(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 288: // / + + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 289: // / + + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 290: // / + + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 291: // / + + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 292: // / + + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 293: // / + + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 294: // / + - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 295: // / + - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 296: // / + - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 297: // / + - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 298: // / + - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 299: // / + - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 300: // / + * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 301: // / + * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 302: // / + * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 303: // / + * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 304: // / + * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 305: // / + * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 306: // / + / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 307: // / + / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Add(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 308: // / + / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 309: // / + / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 310: // / + / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 311: // / + / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Add(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 312: // / - + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 313: // / - + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 314: // / - + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 315: // / - + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 316: // / - + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 317: // / - + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 318: // / - - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 319: // / - - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 320: // / - - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 321: // / - - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 322: // / - - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 323: // / - - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 324: // / - * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 325: // / - * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 326: // / - * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 327: // / - * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 328: // / - * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 329: // / - * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 330: // / - / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 331: // / - / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Sub(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 332: // / - / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 333: // / - / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 334: // / - / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 335: // / - / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Sub(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 336: // / * + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 337: // / * + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 338: // / * + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 339: // / * + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 340: // / * + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 341: // / * + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 342: // / * - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 343: // / * - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 344: // / * - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 345: // / * - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 346: // / * - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 347: // / * - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 348: // / * * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 349: // / * * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 350: // / * * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 351: // / * * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 352: // / * * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 353: // / * * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+		}
+	case kTripleKeep + 354: // / * / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 355: // / * / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Mul(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 356: // / * / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 357: // / * / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 358: // / * / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 359: // / * / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Mul(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 360: // / / + LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 361: // / / + LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 362: // / / + RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(t2.Add(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 363: // / / + RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(d.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 364: // / / + TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t1.Add(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 365: // / / + TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t2.Add(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 366: // / / - LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 367: // / / - LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 368: // / / - RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(t2.Sub(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 369: // / / - RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(d.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 370: // / / - TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t1.Sub(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 371: // / / - TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t2.Sub(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 372: // / / * LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 373: // / / * LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+		}
+	case kTripleKeep + 374: // / / * RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(t2.Mul(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 375: // / / * RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(d.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	case kTripleKeep + 376: // / / * TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t1.Mul(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 377: // / / * TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t2.Mul(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 378: // / / / LL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 379: // / / / LR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := t1.Div(c)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(c.Sub(c))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 380: // / / / RL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(t2.Div(d), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(d.Sub(d))
+		}
+	case kTripleKeep + 381: // / / / RR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(t1)
+			st(d.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(t1.Sub(t1))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 382: // / / / TL
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t1.Div(t2), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t2.Sub(t2))
+		}
+	case kTripleKeep + 383: // / / / TR
+		for s := 0; s+4 <= len(o); s += 4 {
+			a, b, c, d := ld(x[s:s+4]), ld(y[s:s+4]), ld(z[s:s+4]), ld(w[s:s+4])
+			t1 := a.Div(b)
+			t2 := c.Div(d)
+			st(t2.Div(t1), o[s:s+4])
+			st(t1, r1[s:s+4])
+			st(t2, r2[s:s+4])
+			chk = chk.Add(b.Sub(b))
+			chk = chk.Add(d.Sub(d))
+			chk = chk.Add(t1.Sub(t1))
+		}
+	}
+	return chk
+}
+
 // runKeepVec runs a pair that keeps its first result (kinds from kKeep)
 // over the lanes of o (a multiple of four) as runKeep does lane by lane.
 func runKeepVec(k kind, o, t, x, y, z []float64, chk v4) v4 {

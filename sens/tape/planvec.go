@@ -195,7 +195,9 @@ func (e *planExec) runVec(m int) (lanes int, bad bool) {
 		case kSelect:
 			chk = runCmpIfVec(in.op, o, rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)
 		default:
-			if in.k >= kPost {
+			if in.k >= kTripleKeep {
+				chk = runTripleKeepVec(in.k, o, rows[in.e], rows[in.f], rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)
+			} else if in.k >= kPost {
 				chk = runPostVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], chk)
 			} else if in.k >= kFusedEnd {
 				chk = runTripleVec(in.k, o, rows[in.a], rows[in.b], rows[in.c], rows[in.d], chk)

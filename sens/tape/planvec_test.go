@@ -169,7 +169,8 @@ func randomPlanModel(seed uint64) (*tape.Tape, []float64) {
 }
 
 // Every triple and pair of + - * / that the plans fuse (each shape: chains
-// and trees; pairs that keep their first result; one followed by ceil,
+// and trees, keeping intermediate values with other uses; pairs that keep
+// their first result; one followed by ceil,
 // floor, negation, max or min), on all combinations of operand values that overflow, divide
 // by zero or are not finite, in blocks of four equal lanes (one vector):
 // the batched pass, with and without vector kernels, reports a domain
@@ -200,6 +201,23 @@ func TestPlanFusedKernels(t *testing.T) {
 		"TR": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot {
 			t1 := bin(b, o1, a, x)
 			return bin(b, o3, bin(b, o2, c, d), t1)
+		},
+		"LL keeping t1": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot {
+			t1 := bin(b, o1, a, x)
+			return bin(b, tape.OpAdd, bin(b, o3, bin(b, o2, t1, c), d), t1)
+		},
+		"RL keeping t2": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot {
+			t2 := bin(b, o2, c, bin(b, o1, a, x))
+			return bin(b, tape.OpSub, bin(b, o3, t2, d), t2)
+		},
+		"RR keeping both": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot {
+			t1 := bin(b, o1, a, x)
+			t2 := bin(b, o2, c, t1)
+			return bin(b, tape.OpMul, bin(b, tape.OpAdd, bin(b, o3, d, t2), t2), t1)
+		},
+		"TR keeping t1": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, d tape.Slot) tape.Slot {
+			t1 := bin(b, o1, a, x)
+			return bin(b, tape.OpDiv, bin(b, o3, bin(b, o2, c, d), t1), t1)
 		},
 		"keep L": func(b *tape.Builder, o1, o2, o3 tape.Op, a, x, c, _ tape.Slot) tape.Slot {
 			t1 := bin(b, o1, a, x)
