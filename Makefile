@@ -81,7 +81,7 @@ browser-test: $(JP)/share/jupyter/kernels/nudge/kernel.json
 	cd kernel/testdata/browser && JUPYTER_PATH=$(JP)/share/jupyter NUDGE=$(BIN) $(PY) -m unittest -v test_browser
 
 bench:
-	go run ./kernel/cmd/nudge bench
+	GOEXPERIMENT=simd go run ./kernel/cmd/nudge bench   # both batched rows: pure Go and vector kernels
 
 # Start-up and round-trip times of nudge against ipykernel, side by side.
 bench-kernels: $(JP)/share/jupyter/kernels/nudge/kernel.json
