@@ -469,8 +469,9 @@ func genPlanTriples() {
 			p("func runCmpIfVec(op Op, o, x, y, z, w []float64, chk v4) v4 {\n")
 		} else {
 			p("// runCmpIf runs kSelect over a block: o = z where x op y, w elsewhere (op a\n")
-			p("// comparison), and reports whether an operand is not finite. o may be\n// one of the operands: a lane reads them before it writes.\n")
-			p("func runCmpIf(op Op, o, x, y, z, w []float64) (bad bool) {\n")
+			p("// comparison), and reports whether an operand is not finite: x and y,\n")
+			p("// and z and w too if all (else they are constant rows, finite). o may be\n// one of the operands: a lane reads them before it writes.\n")
+			p("func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {\n")
 		}
 		p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n\tswitch op {\n")
 		vecCmp := map[string]string{"Lt": "Less", "Le": "LessEqual", "Gt": "Greater", "Ge": "GreaterEqual", "Eq": "Equal", "Ne": "NotEqual"}
@@ -482,10 +483,18 @@ func genPlanTriples() {
 				p("\t\t\tst(t.Merge(e, a.%s(b)), o[s:s+4])\n", vecCmp[c.name])
 				p("\t\t\tchk = chk.Add(a.Sub(a)).Add(b.Sub(b)).Add(t.Sub(t)).Add(e.Sub(e))\n")
 			} else {
-				p("\t\tfor s := range o {\n")
-				p("\t\t\ta, b, t, e := x[s], y[s], z[s], w[s]\n")
-				p("\t\t\tif a %s b {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = e\n\t\t\t}\n", c.sym)
-				p("\t\t\tif a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum\n\t\t\t\tbad = true\n\t\t\t}\n")
+				for i, test := range []string{"a-a+(b-b)+(t-t)+(e-e)", "a-a+(b-b)"} {
+					if i == 0 {
+						p("\t\tif all {\n")
+					} else {
+						p("\t\t} else {\n")
+					}
+					p("\t\tfor s := range o {\n")
+					p("\t\t\ta, b, t, e := x[s], y[s], z[s], w[s]\n")
+					p("\t\t\tif a %s b {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = e\n\t\t\t}\n", c.sym)
+					p("\t\t\tif %s != 0 { // a branch, not a running sum\n\t\t\t\tbad = true\n\t\t\t}\n", test)
+					p("\t\t}\n")
+				}
 			}
 			p("\t\t}\n")
 		}

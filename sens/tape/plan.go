@@ -243,12 +243,16 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 			}
 		}
 		// A comparison whose one use is the condition of the if after
-		// it runs with it. Every operand is tested (a constant operand
-		// row is finite: see alwaysBad).
+		// it runs with it. Its operands are tested, and the branches
+		// when one of them is computed (a constant operand row is
+		// finite: see alwaysBad).
 		if n+1 < len(nodes) && cmpIndex(op) >= 0 && count[k] == 0 {
 			if k2 := nodes[n+1]; p.ops[k2] == OpIf && p.a[k2] == k && p.b[k2] != k && p.a[k2+1] != k {
 				a, b, c, d := p.a[k], p.b[k], p.b[k2], p.a[k2+1]
 				in := instr{k: kSelect, op: op, a: operand(a), b: operand(b), c: operand(c), d: operand(d)}
+				if isReg(c) || isReg(d) {
+					in.check = 4 // the branches need testing too
+				}
 				for _, v := range []int32{a, b, c, d} {
 					if !isReg(v) && !finite(src.value(v)) {
 						pl.alwaysBad = true

@@ -6925,81 +6925,166 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 }
 
 // runCmpIf runs kSelect over a block: o = z where x op y, w elsewhere (op a
-// comparison), and reports whether an operand is not finite. o may be
+// comparison), and reports whether an operand is not finite: x and y,
+// and z and w too if all (else they are constant rows, finite). o may be
 // one of the operands: a lane reads them before it writes.
-func runCmpIf(op Op, o, x, y, z, w []float64) (bad bool) {
+func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 	x, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]
 	switch op {
 	case OpLt:
-		for s := range o {
-			a, b, t, e := x[s], y[s], z[s], w[s]
-			if a < b {
-				o[s] = t
-			} else {
-				o[s] = e
+		if all {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a < b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
-			if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-				bad = true
+		} else {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a < b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
 		}
 	case OpLe:
-		for s := range o {
-			a, b, t, e := x[s], y[s], z[s], w[s]
-			if a <= b {
-				o[s] = t
-			} else {
-				o[s] = e
+		if all {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a <= b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
-			if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-				bad = true
+		} else {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a <= b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
 		}
 	case OpGt:
-		for s := range o {
-			a, b, t, e := x[s], y[s], z[s], w[s]
-			if a > b {
-				o[s] = t
-			} else {
-				o[s] = e
+		if all {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a > b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
-			if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-				bad = true
+		} else {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a > b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
 		}
 	case OpGe:
-		for s := range o {
-			a, b, t, e := x[s], y[s], z[s], w[s]
-			if a >= b {
-				o[s] = t
-			} else {
-				o[s] = e
+		if all {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a >= b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
-			if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-				bad = true
+		} else {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a >= b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
 		}
 	case OpEq:
-		for s := range o {
-			a, b, t, e := x[s], y[s], z[s], w[s]
-			if a == b {
-				o[s] = t
-			} else {
-				o[s] = e
+		if all {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a == b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
-			if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-				bad = true
+		} else {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a == b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
 		}
 	case OpNe:
-		for s := range o {
-			a, b, t, e := x[s], y[s], z[s], w[s]
-			if a != b {
-				o[s] = t
-			} else {
-				o[s] = e
+		if all {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a != b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
-			if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-				bad = true
+		} else {
+			for s := range o {
+				a, b, t, e := x[s], y[s], z[s], w[s]
+				if a != b {
+					o[s] = t
+				} else {
+					o[s] = e
+				}
+				if a-a+(b-b) != 0 { // a branch, not a running sum
+					bad = true
+				}
 			}
 		}
 	}

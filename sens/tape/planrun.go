@@ -231,7 +231,7 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 				o[s] = math.Floor(x[s])
 			}
 		case kSelect:
-			if runCmpIf(in.op, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:]) {
+			if runCmpIf(in.op, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:], in.check != 0) {
 				bad = true
 			}
 		default:
