@@ -5,6 +5,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"unique"
 )
 
 // The physical base dimensions, as indices into Dim's exponent array.
@@ -28,21 +29,84 @@ var displayOrder = [numBase]int{bMass, bLength, bTime, bCurrent, bTemperature, b
 // Dim is a dimension: an integer exponent for each SI base dimension and for each currency.
 // Every currency ("$", "EUR", ...) is a base dimension of its own. Dim is a comparable value, so
 // == works and a Dim can key a map; Equal is the same test. The zero Dim is dimensionless.
+//
+// A Dim is 16 bytes: the base exponents as int8 in place, and one handle for everything else
+// (see dimExt), which is zero for a dimension of base units alone. Exponents outside the int8
+// range, which only repeated products reach, move the whole dimension into the handle, so every
+// exponent an int holds is kept exactly as before. Each dimension has one form (see makeDim),
+// which is what makes == a test of equality.
 type Dim struct {
-	si  [numBase]int
-	cur string // currency exponents in canonical form, e.g. "$:1,EUR:-1"; "" when there are none
+	e [numBase]int8         // the base exponents; all zero when x holds them (x.Value().wide)
+	x unique.Handle[dimExt] // currencies and wide exponents; the zero handle when there are none
+}
+
+// dimExt is the part of a dimension that is not kept in place: the currency exponents in
+// canonical form ("$:1,EUR:-1", see encodeCurrencies), and the base exponents when one of them
+// is outside the int8 range (wide). Handles to equal dimExt values are equal (package unique),
+// and the values are freed once no Dim refers to them.
+type dimExt struct {
+	si   [numBase]int
+	wide bool
+	cur  string
+}
+
+// makeDim is the one form of the dimension with base exponents si and currencies cur (in
+// canonical form).
+func makeDim(si [numBase]int, cur string) Dim {
+	var d Dim
+	for i, n := range si {
+		if n != int(int8(n)) {
+			return Dim{x: unique.Make(dimExt{si: si, wide: true, cur: cur})}
+		}
+		d.e[i] = int8(n)
+	}
+	if cur != "" {
+		d.x = unique.Make(dimExt{cur: cur})
+	}
+	return d
+}
+
+// ext returns what the handle holds; the zero dimExt for the zero handle.
+func (d Dim) ext() dimExt {
+	if d.x == (unique.Handle[dimExt]{}) {
+		return dimExt{}
+	}
+	return d.x.Value()
+}
+
+// si returns the exponent of every base dimension.
+func (d Dim) si() [numBase]int {
+	if x := d.ext(); x.wide {
+		return x.si
+	}
+	var si [numBase]int
+	for i, n := range d.e {
+		si[i] = int(n)
+	}
+	return si
+}
+
+// cur returns the currency exponents in canonical form, "" when there are none.
+func (d Dim) cur() string { return d.ext().cur }
+
+// phys returns the dimension of d's base units alone, without its currencies.
+func (d Dim) phys() Dim {
+	if d.x == (unique.Handle[dimExt]{}) {
+		return d
+	}
+	return makeDim(d.si(), "")
 }
 
 // baseDim is the dimension of base index b to the first power.
 func baseDim(b int) Dim {
 	var d Dim
-	d.si[b] = 1
+	d.e[b] = 1
 	return d
 }
 
 // currencyDim is the dimension of one unit of the currency code.
 func currencyDim(code string) Dim {
-	return Dim{cur: code + ":1"}
+	return makeDim([numBase]int{}, code+":1")
 }
 
 // Equal reports whether d and e are the same dimension. It is the same as d == e.
@@ -58,23 +122,50 @@ func (d Dim) Mul(e Dim) Dim { return d.combine(e, 1) }
 func (d Dim) Div(e Dim) Dim { return d.combine(e, -1) }
 
 func (d Dim) combine(e Dim, sign int) Dim {
+	// The common cases, base exponents in place on both sides and the
+	// currencies of at most one side, cost no more than the sums.
+	none := unique.Handle[dimExt]{}
 	var r Dim
-	for i := range r.si {
-		r.si[i] = d.si[i] + sign*e.si[i]
-	}
 	switch {
-	case e.cur == "":
-		r.cur = d.cur // no currency changes: the common case costs nothing
-	case d.cur == "" && sign > 0:
-		r.cur = e.cur
+	case e.x == none && (d.x == none || !d.x.Value().wide):
+		r.x = d.x
+	case d.x == none && sign > 0 && !e.x.Value().wide:
+		r.x = e.x
 	default:
-		cs := currencies(d.cur)
-		for code, n := range currencies(e.cur) {
-			cs[code] += sign * n
+		return d.combineExt(e, sign)
+	}
+	for i := range r.e {
+		n := int(d.e[i]) + sign*int(e.e[i])
+		if n != int(int8(n)) {
+			return d.combineExt(e, sign)
 		}
-		r.cur = encodeCurrencies(cs)
+		r.e[i] = int8(n)
 	}
 	return r
+}
+
+// combineExt is combine for any two dimensions.
+func (d Dim) combineExt(e Dim, sign int) Dim {
+	a, b := d.si(), e.si()
+	var si [numBase]int
+	for i := range si {
+		si[i] = a[i] + sign*b[i]
+	}
+	dc, ec := d.cur(), e.cur()
+	var cur string
+	switch {
+	case ec == "":
+		cur = dc
+	case dc == "" && sign > 0:
+		cur = ec
+	default:
+		cs := currencies(dc)
+		for code, n := range currencies(ec) {
+			cs[code] += sign * n
+		}
+		cur = encodeCurrencies(cs)
+	}
+	return makeDim(si, cur)
 }
 
 // Pow returns d raised to the rational power num/den. It fails when den is zero, when a
@@ -93,15 +184,15 @@ func (d Dim) pow(num, den int) (Dim, error) {
 	if err != nil {
 		return Dim{}, err
 	}
-	var r Dim
-	for i, e := range d.si {
+	var si [numBase]int
+	for i, e := range d.si() {
 		n, err := scaleExp(e, num, den, baseSymbol[i])
 		if err != nil {
 			return Dim{}, err
 		}
-		r.si[i] = n
+		si[i] = n
 	}
-	cs := currencies(d.cur)
+	cs := currencies(d.cur())
 	for _, code := range sortedCodes(cs) {
 		n, err := scaleExp(cs[code], num, den, code)
 		if err != nil {
@@ -109,8 +200,7 @@ func (d Dim) pow(num, den int) (Dim, error) {
 		}
 		cs[code] = n
 	}
-	r.cur = encodeCurrencies(cs)
-	return r, nil
+	return makeDim(si, encodeCurrencies(cs)), nil
 }
 
 // reduce checks a rational power and brings it to lowest terms with a positive denominator.
@@ -184,18 +274,19 @@ func (d Dim) Name() string {
 			den = append(den, name+expText(-e))
 		}
 	}
-	cs := currencies(d.cur)
+	cs := currencies(d.cur())
 	for _, code := range sortedCodes(cs) {
 		add("currency "+code, cs[code])
 	}
-	if phys := (Dim{si: d.si}); !phys.IsDimensionless() {
+	if phys := d.phys(); !phys.IsDimensionless() {
 		if n, ok := quantityNames[phys.String()]; ok {
 			add(n, 1)
 		} else if n, ok := quantityNames[Dim{}.Div(phys).String()]; ok {
 			add(n, -1)
 		} else {
+			si := d.si()
 			for _, b := range displayOrder {
-				add(quantityNames[baseSymbol[b]], d.si[b])
+				add(quantityNames[baseSymbol[b]], si[b])
 			}
 		}
 	}
@@ -233,10 +324,10 @@ func (d Dim) Currency() (string, bool) { return d.singleCurrency() }
 
 // singleCurrency reports the code when d is exactly one currency to the first power.
 func (d Dim) singleCurrency() (string, bool) {
-	if d.si != ([numBase]int{}) {
+	if d.si() != ([numBase]int{}) {
 		return "", false
 	}
-	code, n, ok := strings.Cut(d.cur, ":")
+	code, n, ok := strings.Cut(d.cur(), ":")
 	if !ok || n != "1" { // "$:1,EUR:-1" leaves n = "1,EUR:-1"
 		return "", false
 	}
@@ -248,11 +339,11 @@ func (d Dim) singleCurrency() (string, bool) {
 // one of N, Pa, J, W (or its reciprocal) when it matches one exactly.
 func (d Dim) terms(named bool) []term {
 	var ts []term
-	cs := currencies(d.cur)
+	cs := currencies(d.cur())
 	for _, code := range sortedCodes(cs) {
 		ts = append(ts, term{code, cs[code]})
 	}
-	phys := Dim{si: d.si}
+	phys := d.phys()
 	if named {
 		for _, n := range namedCoherent {
 			switch phys {
@@ -263,8 +354,9 @@ func (d Dim) terms(named bool) []term {
 			}
 		}
 	}
+	si := d.si()
 	for _, b := range displayOrder {
-		if e := d.si[b]; e != 0 {
+		if e := si[b]; e != 0 {
 			ts = append(ts, term{baseSymbol[b], e})
 		}
 	}

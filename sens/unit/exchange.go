@@ -129,10 +129,10 @@ func (u Unit) In(r *Rates) Unit {
 		return u
 	}
 	u.rates = r
-	if u.Dim.cur == "" {
+	if u.Dim.cur() == "" {
 		return u
 	}
-	cs := currencies(u.Dim.cur)
+	cs := currencies(u.Dim.cur())
 	changed := false
 	for _, code := range sortedCodes(cs) {
 		to, f := r.Resolve(code)
@@ -146,7 +146,7 @@ func (u Unit) In(r *Rates) Unit {
 		changed = true
 	}
 	if changed {
-		u.Dim.cur = encodeCurrencies(cs)
+		u.Dim = makeDim(u.Dim.si(), encodeCurrencies(cs))
 	}
 	return u
 }
