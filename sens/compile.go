@@ -277,8 +277,11 @@ type compiler struct {
 	rates   *unit.Rates // exchange rates every unit is expressed under
 	what    string      // the constant being evaluated, for messages
 
-	units  map[unit.Unit]*unit.Unit // interned display units (see intern)
-	fblock []Formula                // formulas not yet used (newFormula)
+	units map[unit.Unit]*unit.Unit // interned display units (see intern)
+	// sumSpine and sumTerms are longSum's buffers, used as stacks.
+	sumSpine []*syntax.BinaryExpr
+	sumTerms []val
+	fblock   []Formula // formulas not yet used (newFormula)
 	// unitMemo holds the units parsed (parseUnit), by their text, under the
 	// rates unitMemoRates.
 	unitMemo      map[string]unit.Unit
@@ -314,7 +317,7 @@ func newCompiler(m *Model, extra *extraFormula) *compiler {
 	c := &compiler{
 		m: m, extra: extra,
 		decls: m.decls, ents: make([]entry, n),
-		prog: &Program{index: make(map[string]int, n), pos: posTable{pos: make([]int32, 0, 4*n)}},
+		prog: &Program{index: make(map[string]int, n), pos: posTable{pos: make([]int32, 0, 4*n), runs: make([]posRun, 0, n)}},
 	}
 	c.b = newVBuilder(c, 4*n)
 	c.exchangeRates()
@@ -399,8 +402,7 @@ func (c *compiler) compileInput(d *Decl) {
 	}
 	s, f := d.Input, d.File
 	c.cur = d.Name
-	one := unit.One()
-	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: &one, file: f}
+	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: c.intern(unit.One()), file: f}
 	c.prog.index[d.Name] = in.index
 	c.prog.Inputs = append(c.prog.Inputs, in)
 	e := &c.ents[d.idx]
@@ -408,7 +410,7 @@ func (c *compiler) compileInput(d *Decl) {
 	if s.Unit != nil {
 		u, ok := c.parseUnit(f, s.Unit)
 		if ok {
-			in.u = &u
+			in.u = c.intern(u) // inputs in one unit share it
 			in.Unit = s.Unit.Text
 		}
 	}
@@ -419,7 +421,7 @@ func (c *compiler) compileInput(d *Decl) {
 	slot := c.b.Input()
 	// The input's unit factor is folded into the products that use it
 	// (val.sc), or multiplied in where a sum or a function needs base units.
-	iv := val{slot: slot, dim: in.u.Dim, hint: c.intern(*in.u), bad: !ok, sc: in.u.Factor}
+	iv := val{slot: slot, dim: in.u.Dim, hint: in.u, bad: !ok, sc: in.u.Factor}
 	if c.noFold {
 		iv.slot, iv.sc = c.base(iv), 1
 	}

@@ -26,18 +26,27 @@ const longSumTerms = 16
 //   - N. J. Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed.,
 //     SIAM, 2002, §4.2 (pairwise summation).
 func (c *compiler) longSum(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) (val, bool) {
-	var spine []*syntax.BinaryExpr // outermost first
+	// spine and terms are taken from buffers the compiler keeps (a term may
+	// hold a long sum of its own, which takes the buffers' next part), so a
+	// model of many sums does not allocate them once a sum.
+	base, tbase := len(c.sumSpine), len(c.sumTerms)
+	defer func() {
+		clear(c.sumSpine[base:])
+		c.sumSpine = c.sumSpine[:base]
+		c.sumTerms = c.sumTerms[:tbase]
+	}()
 	for e := x; ; {
 		if e.Op != syntax.ADD {
 			break
 		}
-		spine = append(spine, e)
+		c.sumSpine = append(c.sumSpine, e)
 		next, ok := e.X.(*syntax.BinaryExpr)
 		if !ok {
 			break
 		}
 		e = next
 	}
+	spine := c.sumSpine[base:] // outermost first
 	if len(spine)+1 < longSumTerms {
 		return val{}, false
 	}
@@ -46,7 +55,8 @@ func (c *compiler) longSum(f *syntax.File, x *syntax.BinaryExpr, constCtx bool) 
 	for i, j := 0, len(spine)-1; i < j; i, j = i+1, j-1 {
 		spine[i], spine[j] = spine[j], spine[i]
 	}
-	terms := make([]val, len(spine)+1)
+	c.sumTerms = append(c.sumTerms, make([]val, len(spine)+1)...)
+	terms := c.sumTerms[tbase:]
 	terms[0] = c.expr(f, spine[0].X, constCtx)
 	if terms[0].bad {
 		return val{bad: true}, true

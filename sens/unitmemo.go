@@ -75,7 +75,8 @@ func (c *compiler) intern(u unit.Unit) *unit.Unit {
 	if p, ok := c.units[u]; ok {
 		return p
 	}
-	p := &u
+	p := new(unit.Unit) // not &u, which would put every argument on the heap
+	*p = u
 	if c.units == nil {
 		c.units = map[unit.Unit]*unit.Unit{}
 	}
