@@ -9,12 +9,23 @@ import (
 // constant or the result of an operation.
 type Slot int32
 
-// bnode is one node of a Builder.
+// bnode is one node of a Builder: 20 bytes. A constant keeps its value's
+// bits in args[1] and args[2] (see constNode), which no operation reads.
 type bnode struct {
 	op   Op
 	args [3]Slot
 	pos  int32
-	val  float64 // OpConst: the value; OpInput: the input number
+}
+
+// constNode is the node of the constant v at position pos.
+func constNode(v float64, pos int32) bnode {
+	u := math.Float64bits(v)
+	return bnode{op: OpConst, pos: pos, args: [3]Slot{-1, Slot(uint32(u)), Slot(uint32(u >> 32))}}
+}
+
+// val returns the value of a constant's node.
+func (n *bnode) val() float64 {
+	return math.Float64frombits(uint64(uint32(n.args[1])) | uint64(uint32(n.args[2]))<<32)
 }
 
 // cseTable finds an operation added before on the same operands: an
@@ -129,7 +140,7 @@ func (b *Builder) SetPos(p int32) { b.pos = p }
 // calls; the number is the index into the x slices of the Tape methods.
 func (b *Builder) Input() Slot {
 	s := Slot(len(b.nodes))
-	b.nodes = append(b.nodes, bnode{op: OpInput, pos: b.pos, val: float64(len(b.inputs)), args: [3]Slot{-1, -1, -1}})
+	b.nodes = append(b.nodes, bnode{op: OpInput, pos: b.pos, args: [3]Slot{-1, -1, -1}})
 	b.inputs = append(b.inputs, s)
 	return s
 }
@@ -149,7 +160,7 @@ func (b *Builder) Const(v float64) Slot {
 		return s
 	}
 	s := Slot(len(b.nodes))
-	b.nodes = append(b.nodes, bnode{op: OpConst, pos: b.pos, val: v, args: [3]Slot{-1, -1, -1}})
+	b.nodes = append(b.nodes, constNode(v, b.pos))
 	b.consts[key] = s
 	return s
 }
@@ -159,8 +170,8 @@ func (b *Builder) IsConst(s Slot) (float64, bool) {
 	if s < 0 || int(s) >= len(b.nodes) {
 		panic(fmt.Sprintf("tape: slot %d not made by this builder", s))
 	}
-	if n := b.nodes[s]; n.op == OpConst {
-		return n.val, true
+	if n := &b.nodes[s]; n.op == OpConst {
+		return n.val(), true
 	}
 	return 0, false
 }
@@ -287,12 +298,12 @@ func (b *Builder) add(op Op, x, y, z Slot) Slot {
 	allConst := true
 	var v [3]float64
 	for i := 0; i < n; i++ {
-		nd := b.nodes[args[i]]
+		nd := &b.nodes[args[i]]
 		if nd.op != OpConst {
 			allConst = false
 			break
 		}
-		v[i] = nd.val
+		v[i] = nd.val()
 	}
 	if allConst {
 		if r := evalOp(op, v[0], v[1], v[2]); finite(r) {
@@ -384,7 +395,7 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 		case 0:
 			p.a[t], p.b[t] = t, t
 			if nd.op == OpConst {
-				vals[t] = nd.val
+				vals[t] = nd.val()
 			}
 			if nd.op == opLoop {
 				p.a[t], p.b[t] = int32(len(p.loops)), int32(len(p.loops))

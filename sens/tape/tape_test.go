@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+	"unsafe"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/floats/scalar"
@@ -986,5 +987,43 @@ func TestTapeBuilderPanics(t *testing.T) {
 			}()
 			f()
 		}()
+	}
+}
+
+// TestConstantBits checks that a constant keeps its exact bits in the
+// builder's 20-byte node (its value is split over two operand fields) and on
+// the tape: signed zeros, the smallest subnormal (2^-1074), the largest
+// finite value and a third, each as IEEE 754 binary64 defines its bits, and
+// NaN and the infinities through IsConst, and that folding reads them back.
+func TestConstantBits(t *testing.T) {
+	if n := unsafe.Sizeof(bnode{}); n > 20 {
+		t.Errorf("a builder node takes %d bytes, want at most 20", n)
+	}
+	finite := []float64{0, math.Copysign(0, -1), math.SmallestNonzeroFloat64, -math.SmallestNonzeroFloat64, math.MaxFloat64, 1.0 / 3}
+	special := []float64{math.Inf(1), math.Inf(-1), math.Float64frombits(0x7ff8000000000001), math.Float64frombits(0xfff0000000000003)}
+	b := NewBuilder()
+	x := b.Input()
+	var outs []Slot
+	for _, v := range append(append([]float64{}, finite...), special...) {
+		s := b.Const(v)
+		if got, ok := b.IsConst(s); !ok || math.Float64bits(got) != math.Float64bits(v) {
+			t.Errorf("IsConst(Const(%#x)) = %#x, %v", math.Float64bits(v), math.Float64bits(got), ok)
+		}
+	}
+	for _, v := range finite {
+		outs = append(outs, b.Binary(OpMul, x, b.Const(v)))
+	}
+	third := b.Binary(OpMul, b.Const(1.0/3), b.Const(3)) // folded from the two nodes' bits
+	if got, ok := b.IsConst(third); !ok || got != 1.0/3*3 {
+		t.Errorf("1/3 * 3 folded to %v, %v; want %v", got, ok, 1.0/3*3)
+	}
+	tp := b.Tape(outs...)
+	if err := tp.Forward([]float64{1}); err != nil {
+		t.Fatal(err)
+	}
+	for i, v := range finite {
+		if got := tp.Output(i); math.Float64bits(got) != math.Float64bits(v) {
+			t.Errorf("1 * %v = %#x on the tape, want %#x", v, math.Float64bits(got), math.Float64bits(v))
+		}
 	}
 }

@@ -151,7 +151,7 @@ func (b *Builder) VecConst(vs []float64) Slot {
 	first := Slot(len(b.nodes))
 	b.nodes = slices.Grow(b.nodes, len(vs)+1)
 	for _, v := range vs {
-		b.nodes = append(b.nodes, bnode{op: OpConst, pos: b.pos, val: v, args: [3]Slot{-1, -1, -1}})
+		b.nodes = append(b.nodes, constNode(v, b.pos))
 	}
 	return b.newVec(bvec{first: first, n: len(vs), neg: -1, mul: -1})
 }
