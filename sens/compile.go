@@ -26,8 +26,8 @@ type Program struct {
 	Warnings     []*syntax.Error
 	Rates        []*ExchangeRate // the exchange rates the model states
 
-	index map[string]int // name -> index into Inputs (>= 0) or -1-index into Formulas
-	rates *unit.Rates    // the same rates for the unit package; nil when there are none
+	index nameIndex   // name -> index into Inputs (>= 0) or -1-index into Formulas (see lookupName)
+	rates *unit.Rates // the same rates for the unit package; nil when there are none
 	tape  *tape.Tape
 	pos   posTable // tape position table: SetPos value -> source
 
@@ -165,7 +165,7 @@ func (p *Program) trace(f *Formula) *formulaLazy {
 
 // Lookup returns the input or formula called name.
 func (p *Program) Lookup(name string) (in *Input, f *Formula) {
-	i, ok := p.index[name]
+	i, ok := p.lookupName(name)
 	switch {
 	case !ok:
 		return p.lookupElement(name), nil
@@ -177,10 +177,7 @@ func (p *Program) Lookup(name string) (in *Input, f *Formula) {
 
 // Names returns the names of every input and formula, sorted.
 func (p *Program) Names() []string {
-	out := make([]string, 0, len(p.index))
-	for n := range p.index {
-		out = append(out, n)
-	}
+	out := p.appendNames(make([]string, 0, p.index.n+len(p.Vectors)))
 	for _, v := range p.Vectors {
 		out = append(out, v.Name)
 	}
@@ -317,7 +314,7 @@ func newCompiler(m *Model, extra *extraFormula) *compiler {
 	c := &compiler{
 		m: m, extra: extra,
 		decls: m.decls, ents: make([]entry, n),
-		prog: &Program{index: make(map[string]int, n), pos: posTable{pos: make([]int32, 0, 4*n), runs: make([]posRun, 0, n)}},
+		prog: &Program{index: makeNameIndex(n), pos: posTable{pos: make([]int32, 0, 4*n), runs: make([]posRun, 0, n)}},
 	}
 	c.b = newVBuilder(c, 4*n)
 	c.exchangeRates()
@@ -403,8 +400,8 @@ func (c *compiler) compileInput(d *Decl) {
 	s, f := d.Input, d.File
 	c.cur = d.Name
 	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: c.intern(unit.One()), file: f}
-	c.prog.index[d.Name] = in.index
 	c.prog.Inputs = append(c.prog.Inputs, in)
+	c.prog.setName(d.Name, in.index)
 	e := &c.ents[d.idx]
 	e.st = done
 	if s.Unit != nil {
@@ -636,8 +633,8 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 		}
 		fm.out = len(c.prog.Formulas)
 		fm.sc = v.scale()
-		c.prog.index[name] = -1 - fm.out
 		c.prog.Formulas = append(c.prog.Formulas, fm)
+		c.prog.setName(name, -1-fm.out)
 		v.hint = fm.u
 	}
 	e.setVal(v)
@@ -1186,7 +1183,7 @@ func constantIn(r *unit.Rates, f *syntax.File, x syntax.Expr, want, what string)
 
 // newScratchCompiler returns a compiler with no model, for constants.
 func newScratchCompiler() *compiler {
-	c := &compiler{m: NewModel(), prog: &Program{index: map[string]int{}},
+	c := &compiler{m: NewModel(), prog: &Program{},
 		decls: map[string]*Decl{}}
 	c.b = newVBuilder(c, 0)
 	return c
