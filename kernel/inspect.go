@@ -60,7 +60,7 @@ func (h *Handler) describe(word string, detail int) string {
 			}
 			return s + fmt.Sprintf("\ndeclared at %s", in.Pos)
 		} else if f != nil {
-			s := fmt.Sprintf("%s = %s", f.Name, f.Text)
+			s := fmt.Sprintf("%s = %s", f.Name, f.Text())
 			if f.Declared {
 				s += "  [" + f.Unit + "]"
 			}
@@ -86,7 +86,7 @@ func (h *Handler) describe(word string, detail int) string {
 					s += "\nvalue: " + err.Error()
 				}
 			}
-			return s + fmt.Sprintf("\ndefined at %s", f.Pos)
+			return s + fmt.Sprintf("\ndefined at %s", f.Pos())
 		}
 	}
 	for _, fn := range sens.Functions {

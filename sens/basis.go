@@ -112,7 +112,8 @@ func (m *Model) Basis(prog *Program, output syntax.Expr) (*BasisResult, error) {
 		if err != nil {
 			return nil, err
 		}
-		res.Constants = append(res.Constants, BasisConstant{Name: f.Name, Value: v, Unit: f.Unit, Formula: f.Text, File: f.Pos.Filename, Line: f.Pos.Line})
+		pos := f.Pos()
+		res.Constants = append(res.Constants, BasisConstant{Name: f.Name, Value: v, Unit: f.Unit, Formula: f.Text(), File: pos.Filename, Line: pos.Line})
 	}
 	return res, nil
 }

@@ -115,19 +115,54 @@ type Input struct {
 	elem  int          // the element of Vector
 }
 
-// Formula is a compiled formula. Its value is shown in Unit.
+// Formula is a compiled formula. Its value is shown in Unit; Text and Pos
+// say where it is written.
 type Formula struct {
 	Name     string
 	Unit     string // display unit: the declared one, else a unit inferred from the formula
 	Declared bool   // the unit was declared
-	Text     string // the formula as written
-	Pos      syntax.Position
+
+	// Where the formula is written: the position of its name in file, and
+	// its text (see Text), file.Src[textAt:textAt+textLen] unless text is
+	// set. A program of many formulas keeps no copy of their text.
+	textAt, textLen int32
+	at              int32 // the name's syntax.Pos
+	file            *syntax.File
+	text            *string
 
 	u    *unit.Unit                  // the display unit, interned (see intern)
 	out  int                         // tape output index
 	tape *tape.Tape                  // the tape of out; nil for the program's (an element of a vector formula has its own)
 	sc   float64                     // the output's value in base units is the tape's times sc (0 means 1)
 	lazy atomic.Pointer[formulaLazy] // nil until asked for (see trace)
+}
+
+// Text returns the formula as written (as syntax.String prints it, and its
+// unit in brackets when the unit belongs to the formula's last number).
+func (f *Formula) Text() string {
+	switch {
+	case f.text != nil:
+		return *f.text
+	case f.file == nil:
+		return ""
+	}
+	return string(f.file.Src[f.textAt : f.textAt+f.textLen])
+}
+
+// Pos returns the position of the formula's name.
+func (f *Formula) Pos() syntax.Position { return f.file.Position(syntax.Pos(f.at)) }
+
+// setSource records where fm is written: its name at pos in file, and
+// text, which is kept as a span of file's source when it is one (a formula
+// printed as it was written), else as a string of its own.
+func (fm *Formula) setSource(file *syntax.File, pos syntax.Pos, from syntax.Pos, text string) {
+	fm.file, fm.at = file, int32(pos)
+	off := file.Offset(from)
+	if off >= 0 && off+len(text) <= len(file.Src) && off+len(text) <= math.MaxInt32 && string(file.Src[off:off+len(text)]) == text {
+		fm.textAt, fm.textLen, fm.text = int32(off), int32(len(text)), nil
+		return
+	}
+	fm.text = &text
 }
 
 // formulaLazy holds what is worked out from the tape only when asked for: a
@@ -337,15 +372,23 @@ func (c *compiler) run() (*Program, error) {
 	p := c.prog
 	// Names that clash with built-ins.
 	byIdx := make([]*Decl, len(c.m.order))
+	nIn, nFm := 0, 1
 	for i, name := range c.m.order {
 		d := c.decls[name]
 		byIdx[i] = d
+		if d.Input != nil {
+			nIn++
+		} else {
+			nFm++
+		}
 		if isBuiltinName(name) {
 			id := d.Name
 			pos := d.Pos()
 			c.errs = append(c.errs, syntax.ErrorAt(d.File, pos, fmt.Sprintf("%s is a built-in name: choose another name", id)))
 		}
 	}
+	// Room for the scalars (vectors' elements may add more).
+	p.Inputs, p.Formulas = make([]*Input, 0, nIn), make([]*Formula, 0, nFm)
 	// Inputs first, in declaration order, so input indices are stable.
 	for _, d := range byIdx {
 		if d.Input != nil {
@@ -601,15 +644,17 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 	nerrs := len(c.errs)
 	v := c.expr(f, s.Value, false)
 	fm := c.newFormula()
-	fm.Name, fm.Text, fm.Pos = name, syntax.String(s.Value), f.Position(s.Name.Pos())
+	fm.Name = name
+	text := syntax.String(s.Value)
 	declared := s.Unit
 	var numberFix string // the number reading, offered when the declared unit fails
 	if declared != nil && !v.boolean {
 		v, declared, numberFix = c.trailingBracket(f, s, v, nerrs)
 		if declared == nil {
-			fm.Text += " [" + s.Unit.Text + "]"
+			text += " [" + s.Unit.Text + "]"
 		}
 	}
+	fm.setSource(f, s.Name.Pos(), s.Value.Pos(), text)
 	switch {
 	case v.bad:
 	case v.boolean:

@@ -277,3 +277,45 @@ func TestLoadModelRejectsCommands(t *testing.T) {
 		t.Error("declarations and scenarios before the commands were not kept")
 	}
 }
+
+// TestFormulaSource checks Formula.Text and Formula.Pos, which a program
+// keeps as a span of the source where the formula is printed as written,
+// against the text printed from the parsed formula (syntax.String, and the
+// unit in brackets when it is the last number's) and the name's position.
+func TestFormulaSource(t *testing.T) {
+	src := "input a = 2 [h]\ninput r = 50 [$/h]\n" +
+		"c = a * r\n" + // printed as written: a span
+		"d =   a*r  +  c\n" + // printed with other spacing: a string of its own
+		"fee = a * r + 3 * 12 [$]\n" + // the bracket is the last number's
+		"  g = (c) [$]\n"
+	p := compileSrc(t, src)
+	_, stmts, err := syntax.Parse("test", []byte(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range stmts {
+		fs, ok := s.(*syntax.FormulaStmt)
+		if !ok {
+			continue
+		}
+		_, f := p.Lookup(fs.Name.Name)
+		want := syntax.String(fs.Value)
+		if fs.Name.Name == "fee" {
+			want += " [" + fs.Unit.Text + "]"
+		}
+		if f.Text() != want {
+			t.Errorf("%s: Text %q, want %q", f.Name, f.Text(), want)
+		}
+		line := strings.Count(src[:strings.Index(src, fs.Name.Name+" =")], "\n") + 1
+		col := strings.Index(strings.Split(src, "\n")[line-1], fs.Name.Name) + 1
+		if pos := f.Pos(); pos.Filename != "test" || pos.Line != line || pos.Column != col {
+			t.Errorf("%s: Pos %v, want test:%d:%d", f.Name, pos, line, col)
+		}
+		if span := f.text == nil; span != (f.Name != "d") {
+			t.Errorf("%s: kept as a span of the source: %v", f.Name, span)
+		}
+	}
+	if (&Formula{}).Text() != "" || (&Formula{}).Pos() != (syntax.Position{}) {
+		t.Error("a formula built by hand has a text or a position")
+	}
+}

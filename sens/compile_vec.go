@@ -1231,6 +1231,8 @@ type Vector struct {
 
 	u       unit.Unit
 	slot    tape.Slot
+	file    *syntax.File // where a formula is written, for its elements' Pos
+	at      int32
 	once    sync.Once
 	tape    *tape.Tape // a formula's elements as outputs, built on demand
 	keyOnce sync.Once
@@ -1270,7 +1272,7 @@ func (c *compiler) vectorFormula(fm *Formula, v *val, pos syntax.Pos) bool {
 	}
 	dom := c.b.domainOf(v.slot)
 	c.addVector(&Vector{Name: fm.Name, Kind: "formula", Over: dom.name, Noun: dom.noun, Keys: dom.keys, Unit: fm.Unit,
-		Text: fm.Text, Pos: fm.Pos, Table: dom.table, Rows: dom.rows, u: *fm.u, slot: v.slot})
+		Text: fm.Text(), Pos: fm.Pos(), Table: dom.table, Rows: dom.rows, u: *fm.u, slot: v.slot, file: fm.file, at: fm.at})
 	u := *fm.u
 	v.hint = &u
 	return true
@@ -1357,7 +1359,7 @@ func (p *Program) vectorFn(name string) (fn *Fn, err error, ok bool) {
 	}
 	t := p.builder.Tape(p.builder.Elem(v.slot, j))
 	vu := v.u
-	f := &Formula{Name: name, Unit: v.Unit, Text: v.Text, Pos: v.Pos, u: &vu, tape: t}
+	f := &Formula{Name: name, Unit: v.Unit, text: &v.Text, file: v.file, at: v.at, u: &vu, tape: t}
 	return &Fn{prog: p, tape: t.Clone(), f: f, scale: 1 / f.u.Factor}, nil, true
 }
 

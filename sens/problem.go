@@ -217,9 +217,9 @@ func (fn *Fn) overflow(x []float64, what string, per ...string) error {
 	for _, in := range per {
 		u += " per the unit of " + in
 	}
-	e := &EvalError{Pos: f.Pos, Formula: f.Name, Msg: what + " overflows when written in " + u + " (beyond about 1.8e+308)"}
+	e := &EvalError{Pos: f.Pos(), Formula: f.Name, Msg: what + " overflows when written in " + u + " (beyond about 1.8e+308)"}
 	if k := int(fn.tape.OutputPos(f.out)); k >= 0 && k < p.pos.len() && p.pos.at(k).file != nil {
-		e.Source = p.pos.at(k).file.Line(f.Pos.Line)
+		e.Source = p.pos.at(k).file.Line(e.Pos.Line)
 	}
 	if x != nil && len(x) == len(p.Inputs) {
 		e.Inputs = p.inputsNamed(p.Deps(f), x)
