@@ -421,6 +421,9 @@ func (c *compiler) run() (*Program, error) {
 	for i, f := range p.Formulas {
 		outs[i] = c.entry(f.Name).v.slot
 	}
+	// The names' entries are not read again: the collector may take them
+	// back while the tape is built, the largest allocation of the compile.
+	c.ents = nil
 	p.tape = c.b.Tape(outs...)
 	c.finishVectors()
 	c.warns.Sort()

@@ -310,6 +310,9 @@ func (b *Builder) add(op Op, x, y, z Slot) Slot {
 			return b.Const(r)
 		}
 	}
+	if len(b.cse.cells) == 0 { // released by Tape
+		b.refillCSE()
+	}
 	h := cseHash(op, x, y, z)
 	s, cell, ok := b.cse.find(b.nodes, h, op, x, y, z)
 	if ok {
@@ -324,11 +327,35 @@ func (b *Builder) add(op Op, x, y, z Slot) Slot {
 	return s
 }
 
+// refillCSE fills the table of shared operations, which Tape released,
+// from the nodes: every operation, the first of equal ones, as add found
+// them.
+func (b *Builder) refillCSE() {
+	b.cse = cseTable{}
+	b.cse.grow(nil, len(b.nodes)/2)
+	for k := range b.nodes {
+		nd := &b.nodes[k]
+		if opMetas[nd.op].arity == 0 || nd.op == opLane {
+			continue
+		}
+		h := cseHash(nd.op, nd.args[0], nd.args[1], nd.args[2])
+		if _, cell, ok := b.cse.find(b.nodes, h, nd.op, nd.args[0], nd.args[1], nd.args[2]); !ok {
+			b.cse.cells[cell] = h>>32<<32 | uint64(uint32(k)+1)
+			if b.cse.n++; 2*b.cse.n > len(b.cse.cells) {
+				b.cse.grow(b.nodes, b.cse.n)
+			}
+		}
+	}
+}
+
 // Tape freezes the computation of the given outputs into a Tape. Nodes
 // that no output needs are dropped (inputs are all kept, with their
 // numbers). The Builder stays usable: Tape may be called again, and each
 // call returns an independent Tape.
 func (b *Builder) Tape(outputs ...Slot) *Tape {
+	// The table of shared operations is released, for the collector to take
+	// back while the tape is made; a Builder used again refills it.
+	b.cse = cseTable{}
 	nb := len(b.nodes)
 	live := make([]bool, nb)
 	for _, o := range outputs {
