@@ -22,6 +22,9 @@ type scaleFlags struct {
 	ifs    bool
 	seed   uint64
 	repeat int
+	// compileOnly stops `nudge bench scale` after the first parse and
+	// compile, so that the process's peak memory is theirs.
+	compileOnly bool
 }
 
 // parseScaleFlags parses the flags of `nudge bench model` and `nudge bench
@@ -36,7 +39,8 @@ func parseScaleFlags(name string, args []string, stdout, stderr io.Writer, repea
 	use := "nudge bench " + name + " [--lines N] [--if] [--seed S]"
 	if repeat {
 		fs.IntVar(&sf.repeat, "repeat", 3, "rounds of timings (medians are shown)")
-		use += " [--repeat R]"
+		fs.BoolVar(&sf.compileOnly, "compile-only", false, "stop after the first parse and compile (their times and the peak memory)")
+		use += " [--repeat R] [--compile-only]"
 	}
 	if code, done := parseFlags(fs, args, use, stdout, stderr); done {
 		return nil, code, true
@@ -93,14 +97,30 @@ func runScale(sf *scaleFlags, w io.Writer) error {
 	}
 	// Memory first, while nothing else has been allocated.
 	var err error
+	start := time.Now()
 	if file, stmts, err = syntax.Parse("bid", src); err != nil {
 		return err
 	}
+	parse1 := time.Since(start)
+	start = time.Now()
 	prog, err := compile()
 	if err != nil {
 		return err
 	}
+	compile1 := time.Since(start)
 	peak := peakRSS()
+	if sf.compileOnly {
+		fmt.Fprintf(w, "nudge bench scale: a generated bid of %d lines, %d inputs, %d tape nodes: parse and compile once\n",
+			sf.lines, len(prog.Inputs), prog.TapeLen())
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintf(tw, "parse\t%s\n", fmtNs(float64(parse1)))
+		fmt.Fprintf(tw, "compile (declare and compile)\t%s\n", fmtNs(float64(compile1)))
+		fmt.Fprintf(tw, "compile / parse\t%.2f\n", float64(compile1)/float64(parse1))
+		if peak > 0 {
+			fmt.Fprintf(tw, "peak memory after parse and compile (max RSS)\t%.0f MB\n", float64(peak)/1e6)
+		}
+		return tw.Flush()
+	}
 	pr, err := prog.Problem("total")
 	if err != nil {
 		return err

@@ -47,6 +47,10 @@ func TestBenchScale(t *testing.T) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}
 	}
+	code, out, errs = runNudge([]string{"bench", "scale", "--lines", "400", "--compile-only"}, "")
+	if code != 0 || !strings.Contains(out, "compile / parse") || strings.Contains(out, "tornado") {
+		t.Errorf("--compile-only: exit %d, %s\n%s", code, errs, out)
+	}
 	if code, _, _ := runNudge([]string{"bench", "scale", "--lines", "2"}, ""); code != 2 {
 		t.Errorf("--lines 2: exit %d, want a usage error (2)", code)
 	}
