@@ -158,7 +158,7 @@ func (f *Formula) Pos() syntax.Position { return f.file.Position(syntax.Pos(f.at
 func (fm *Formula) setSource(file *syntax.File, pos syntax.Pos, from syntax.Pos, text string) {
 	fm.file, fm.at = file, int32(pos)
 	off := file.Offset(from)
-	if off >= 0 && off+len(text) <= len(file.Src) && off+len(text) <= math.MaxInt32 && string(file.Src[off:off+len(text)]) == text {
+	if file != nil && off >= 0 && off+len(text) <= len(file.Src) && off+len(text) <= math.MaxInt32 && string(file.Src[off:off+len(text)]) == text {
 		fm.textAt, fm.textLen, fm.text = int32(off), int32(len(text)), nil
 		return
 	}

@@ -318,4 +318,8 @@ func TestFormulaSource(t *testing.T) {
 	if (&Formula{}).Text() != "" || (&Formula{}).Pos() != (syntax.Position{}) {
 		t.Error("a formula built by hand has a text or a position")
 	}
+	var fm Formula // a formula of no file (CompileExpr may be given none)
+	if fm.setSource(nil, 5, 1, "a + b"); fm.Text() != "a + b" || fm.Pos() != (syntax.Position{}) {
+		t.Errorf("no file: Text %q, Pos %v", fm.Text(), fm.Pos())
+	}
 }
