@@ -34,6 +34,9 @@ type plan struct {
 	// constant operand (a cone's base value in a branch not taken): every
 	// block is then checked by the reference pass.
 	alwaysBad bool
+	// kept is the register of each node of planSrc.keep, whose value
+	// stays in it to the end of a run.
+	kept []int32
 }
 
 // kind is a plan instruction's kernel.
@@ -98,6 +101,10 @@ type planSrc struct {
 	// value returns the value of an operand that is neither computed nor
 	// an input register: a tape constant, or a base value in a cone.
 	value func(k int32) float64
+	// keep lists computed nodes whose registers are never reused, so
+	// that their values are there after a run (radial.go); none is fused
+	// into the instruction that reads it.
+	keep []int32
 }
 
 // newPlan compiles src for output node out. scratch holds three int32 a
@@ -145,6 +152,13 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	}
 	last[out] = math.MaxInt32
 	count[out] = 1 // an output is never fused away
+	for _, k := range src.keep {
+		if reg[k] == -1 && last[k] == -1 && count[k] == -1 {
+			touched = append(touched, k)
+		}
+		last[k] = math.MaxInt32
+		count[k] = max(count[k], 1)
+	}
 	isReg := func(k int32) bool { return reg[k] != -1 }
 
 	// Constant rows, shared by value.
@@ -488,6 +502,12 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 	}
 	pl.out = fix(outReg)
 	pl.nreg = int(base + next)
+	if len(src.keep) > 0 {
+		pl.kept = make([]int32, len(src.keep))
+		for n, k := range src.keep {
+			pl.kept[n] = fix(reg[k])
+		}
+	}
 	for _, k := range touched {
 		reg[k], last[k], count[k] = -1, -1, -1
 	}
