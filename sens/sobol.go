@@ -206,6 +206,8 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		cols [][]float64 // A with one column from B
 		y    []float64
 		rows []float64 // for a Function that takes rows only
+		rad  radialSet // nil: every point evaluated whole
+		fab  [][]float64
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), nChunks))
 	for w := range workers {
@@ -219,6 +221,13 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 		for i := range k {
 			wk.a[i] = buf[2*i*cs : (2*i+1)*cs : (2*i+1)*cs]
 			wk.b[i] = buf[(2*i+1)*cs : (2*i+2)*cs : (2*i+2)*cs]
+		}
+		if wk.rad = newRadial(wk.f); wk.rad != nil {
+			wk.fab = make([][]float64, k)
+			fbuf := make([]float64, k*cs)
+			for i := range k {
+				wk.fab[i] = fbuf[i*cs : (i+1)*cs : (i+1)*cs]
+			}
 		}
 		workers[w] = wk
 	}
@@ -234,6 +243,21 @@ func Sobol(p *Problem, s *SobolSettings) (*SobolResult, error) {
 				wk.a[i][j] = q(unitFraction(wk.bits[i] ^ shift[i]))
 				wk.b[i][j] = q(unitFraction(wk.bits[k+i] ^ shift[k+i]))
 			}
+		}
+		// A and the A_B^i through the cones of a compiled model, lane by
+		// lane over A's values; any failure sends the chunk the whole way
+		// below, which reports it as it always has.
+		if wk.rad != nil && wk.rad.eval(fa[base:base+m], wk.fab, wk.a, wk.b, m) == nil {
+			if err := columnEval(wk.f, fb[base:base+m], wk.b, m, &wk.rows); err != nil {
+				return err
+			}
+			for i, col := range wk.fab {
+				for j, v := range col[:m] {
+					fab[(base+j)*k+i] = v
+				}
+			}
+			pr.add(m * (k + 2))
+			return nil
 		}
 		if err := columnEval(wk.f, fa[base:base+m], wk.a, m, &wk.rows); err != nil {
 			return err
