@@ -128,3 +128,23 @@ y = a * 3 + if(a > 0.95, sqrt(1.9 - c), c)
 		}
 	}
 }
+
+// Sobol' indices of the 20-input, 1,000-node model at n = 8192 on one
+// worker, through the lane cones against every point evaluated whole: what
+// the cones save.
+//
+//	go test ./sens/ -run '^$' -bench SobolConesVsWhole -benchtime=5x
+func BenchmarkSobolConesVsWhole(b *testing.B) {
+	t, x := tapebench.GenModel(1000, 20, 5)
+	p := benchProblem(t, x)
+	const n = 8192
+	run := func(on bool) func() error {
+		return func() error {
+			defer func(old bool) { useRadial = old }(useRadial)
+			useRadial = on
+			_, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1})
+			return err
+		}
+	}
+	cpuPair(b, float64(n*(len(x)+2)), "cones", "whole", run(true), run(false))
+}
