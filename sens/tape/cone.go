@@ -51,6 +51,8 @@ type Cones struct {
 
 	vec bool // the tape has loop nodes: points go through evalVec (vecone.go)
 	vc  vecCones
+
+	memo map[[2]int32]*coneMemo // see Memo (conebase.go); nil: off
 }
 
 // ErrNoCones is the error of Cones for a tape whose operations cones do
@@ -206,14 +208,23 @@ func (c *Cones) coneOf(i, j int) []int32 {
 		}
 		return c.lastCone
 	}
+	if m := c.memo[key]; m != nil {
+		return c.recall(key, m)
+	}
 	inputs := []int32{int32(i)}
 	if j >= 0 {
 		inputs = append(inputs, int32(j))
 	}
 	c.lastCone = c.cone(inputs)
 	c.last, c.lastOK = key, true
+	if c.memo != nil {
+		c.vc.reds, c.vc.elems = nil, nil // they may be a memo's
+	}
 	if c.vec {
 		c.vecCone(inputs, c.lastCone)
+	}
+	if c.memo != nil {
+		return c.remember(key)
 	}
 	if j < 0 {
 		if c.mono[i] == 0 {
