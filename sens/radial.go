@@ -1,7 +1,9 @@
 package sens
 
 import (
+	"errors"
 	"math"
+	"slices"
 
 	"github.com/nudge-dev/nudge/sens/tape"
 )
@@ -73,6 +75,9 @@ func (fn *Fn) radial() (radialSet, error) {
 		all[i] = i
 	}
 	r, err := fn.tape.Radial(fn.f.out, all)
+	if errors.Is(err, tape.ErrNoCones) {
+		return &rowCones{fn: fn, x: make([]float64, nIn), y: make([]float64, 1)}, nil
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -81,12 +86,68 @@ func (fn *Fn) radial() (radialSet, error) {
 
 func (s *subFn) radial() (radialSet, error) {
 	r, err := s.fn.tape.Radial(s.fn.f.out, s.index)
+	if errors.Is(err, tape.ErrNoCones) {
+		return &rowCones{fn: s.fn, index: s.index, x: slices.Clone(s.full), y: make([]float64, 1)}, nil
+	}
 	if err != nil {
 		return nil, err
 	}
 	nIn := len(s.full)
 	return &fnRadial{fn: s.fn, r: r, index: s.index, full: s.full,
 		cols: make([][]float64, nIn), alt: make([][]float64, nIn), dst: make([][]float64, nIn)}, nil
+}
+
+// rowCones is the radial evaluator of a compiled formula that has no lane
+// cones (a model of vectors: its loop nodes have cones element by element,
+// vecone.go, not lane by lane): one Cones moved from row to row
+// (tape.Cones.Rebase), evaluating at each row the cone of every input, its
+// cones searched for once (tape.Cones.Memo).
+type rowCones struct {
+	fn    *Fn
+	index []int     // problem input -> program input (nil: the same)
+	x     []float64 // a row, every program input
+	c     *tape.Cones
+	none  bool // the tape has no cones at all: every point whole
+	y, v  []float64
+}
+
+func (rc *rowCones) eval(fa []float64, fab [][]float64, a, b [][]float64, n int) error {
+	if rc.none {
+		return tape.ErrNoCones
+	}
+	input := func(i int) int {
+		if rc.index == nil {
+			return i
+		}
+		return rc.index[i]
+	}
+	for j := range n {
+		for i, col := range a {
+			rc.x[input(i)] = col[j]
+		}
+		if rc.c == nil {
+			c, err := rc.fn.tape.Cones(rc.x, rc.fn.f.out)
+			if errors.Is(err, tape.ErrNoCones) {
+				rc.none = true
+			}
+			if err != nil {
+				return err
+			}
+			c.Memo()
+			rc.c = c
+		} else if err := rc.c.Rebase(rc.x); err != nil {
+			return err
+		}
+		fa[j] = rc.c.Base()
+		for i, col := range b {
+			rc.v = append(rc.v[:0], col[j])
+			if err := rc.c.Eval(rc.y, input(i), rc.v, -1, nil, 1); err != nil {
+				return err
+			}
+			fab[i][j] = rc.y[0]
+		}
+	}
+	return scaleRadial(rc.fn.scale, fa, fab, n)
 }
 
 func (fr *fnRadial) eval(fa []float64, fab [][]float64, a, b [][]float64, n int) error {
@@ -119,26 +180,31 @@ func (fr *fnRadial) eval(fa []float64, fab [][]float64, a, b [][]float64, n int)
 	if err := fr.r.Eval(fa, fr.dst, fr.cols, fr.alt, n); err != nil {
 		return err
 	}
-	// As Fn.EvalColumns: a value that overflows in the display unit is an
-	// error.
-	if sc := fr.fn.scale; sc != 1 {
-		scale := func(ys []float64) error {
-			for s, y := range ys[:n] {
-				v := y * sc
-				if math.IsInf(v, 0) && !math.IsInf(y, 0) {
-					return errRadialOverflow
-				}
-				ys[s] = v
+	return scaleRadial(fr.fn.scale, fa, fab, n)
+}
+
+// scaleRadial scales the outputs of n rows to the display unit; as in
+// Fn.EvalColumns, a value that overflows there is an error.
+func scaleRadial(sc float64, fa []float64, fab [][]float64, n int) error {
+	if sc == 1 {
+		return nil
+	}
+	scale := func(ys []float64) error {
+		for s, y := range ys[:n] {
+			v := y * sc
+			if math.IsInf(v, 0) && !math.IsInf(y, 0) {
+				return errRadialOverflow
 			}
-			return nil
+			ys[s] = v
 		}
-		if err := scale(fa); err != nil {
+		return nil
+	}
+	if err := scale(fa); err != nil {
+		return err
+	}
+	for _, ys := range fab {
+		if err := scale(ys); err != nil {
 			return err
-		}
-		for _, ys := range fab {
-			if err := scale(ys); err != nil {
-				return err
-			}
 		}
 	}
 	return nil

@@ -3,6 +3,8 @@ package sens
 import (
 	"encoding/json"
 	"fmt"
+	"math"
+	"slices"
 	"strings"
 	"testing"
 
@@ -109,11 +111,23 @@ y = a * 3 + if(a > 0.95, sqrt(1.9 - c), c)
 	if err != nil {
 		t.Fatal(err)
 	}
-	models = append(models, model{name: "line items", p: lp})
+	models = append(models, model{name: "line items", p: lp, cones: true})
+
+	// A line-item model whose square roots fail where a line's quantity
+	// falls 3% below the bid's.
+	lf, _ := loadBid(t, 40, lineItemModel+"root = sum(sqrt(qty - 0.97 * bid.qty)) * (1 [$])\n")
+	lfp, err := lf.Problem("root")
+	if err != nil {
+		t.Fatal(err)
+	}
+	models = append(models, model{name: "line items failing", p: lfp, cones: true, fails: true})
 
 	for _, m := range models {
 		if got := newRadial(m.p.F.Clone()) != nil; got != m.cones {
 			t.Errorf("%s: lane cones %v, want %v", m.name, got, m.cones)
+		}
+		if m.cones && !m.fails {
+			radialSameAsColumns(t, m.name, m.p)
 		}
 		for _, w := range []int{1, 3} {
 			cones, whole := sobolBoth(t, m.p, SobolSettings{N: 700, Seed: 3, Bootstrap: 40, Workers: w})
@@ -147,4 +161,68 @@ func BenchmarkSobolConesVsWhole(b *testing.B) {
 		}
 	}
 	cpuPair(b, float64(n*(len(x)+2)), "cones", "whole", run(true), run(false))
+}
+
+// radialSameAsColumns evaluates 300 rows of A and of the A_B^i (A and B
+// drawn independently, as Sobol's first columns are) through the radial
+// evaluator and whole through columnEval, and checks that they agree to
+// the last bit with no point sent the whole way.
+func radialSameAsColumns(t *testing.T, name string, p *Problem) {
+	t.Helper()
+	const n = 300
+	a, b := sampleColumns(t, p, n, 1), sampleColumns(t, p, n, 2)
+	k := len(a)
+	f := p.F.Clone()
+	rs := newRadial(f)
+	fa, fab := make([]float64, n), make([][]float64, k)
+	for i := range fab {
+		fab[i] = make([]float64, n)
+	}
+	if err := rs.eval(fa, fab, a, b, n); err != nil {
+		t.Errorf("%s: %v", name, err)
+		return
+	}
+	var rows []float64
+	want := make([]float64, n)
+	cols := slices.Clone(a)
+	for i := -1; i < k; i++ {
+		got := fa
+		if i >= 0 {
+			cols[i], got = b[i], fab[i]
+		}
+		if err := columnEval(p.F.Clone(), want, cols, n, &rows); err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		for s := range want {
+			if math.Float64bits(got[s]) != math.Float64bits(want[s]) {
+				t.Fatalf("%s, input %d, row %d: %v, whole %v", name, i, s, got[s], want[s])
+			}
+		}
+		if i >= 0 {
+			cols[i] = a[i]
+		}
+	}
+}
+
+// Sobol' indices of the bid's total over 200 line items (403 inputs) at
+// n = 256 on one worker, through one Cones moved from row to row against
+// every point evaluated whole (batched, through the loop nodes).
+//
+//	go test ./sens/ -run '^$' -bench SobolLinesConesVsWhole -benchtime=3x
+func BenchmarkSobolLinesConesVsWhole(b *testing.B) {
+	prog, _ := loadBid(b, 200, lineItemModel)
+	p, err := prog.Problem("total")
+	if err != nil {
+		b.Fatal(err)
+	}
+	const n = 256
+	run := func(on bool) func() error {
+		return func() error {
+			defer func(old bool) { useRadial = old }(useRadial)
+			useRadial = on
+			_, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1})
+			return err
+		}
+	}
+	cpuPair(b, float64(n*(len(p.Inputs)+2)), "cones", "whole", run(true), run(false))
 }
