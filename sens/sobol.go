@@ -112,6 +112,12 @@ const maxSettleFactor = 64
 //	ST_i = (1/2N) Σ_j (f(A)_j - f(A_B^i)_j)² / V                 (Jansen 1999)
 //
 // N·(k+2) evaluations in all, batched and spread over Workers goroutines.
+// A_B^i differs from A in column i only, so a compiled model evaluates it
+// through input i's cone over A's values, lane by lane (sens/radial.go),
+// with the bits of evaluating every point whole; a chunk of rows with a
+// failing point is evaluated again whole, so that the error reported is
+// the one it always was (the first of the chunk's A, then B, then each
+// A_B^i in turn).
 // Subtracting the mean f0 from f(B) leaves S_i's estimator unbiased and
 // lowers its variance (Sobol' 2001). The points are the first N of a 2k-
 // dimensional Sobol' sequence (Joe & Kuo 2008 direction numbers; A takes
