@@ -2,6 +2,7 @@ package sens
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -225,4 +226,21 @@ func BenchmarkSobolLinesConesVsWhole(b *testing.B) {
 		}
 	}
 	cpuPair(b, float64(n*(len(p.Inputs)+2)), "cones", "whole", run(true), run(false))
+}
+
+// A model whose cones are too large together (every input of a
+// generated model reaches half of its long running total) has no lane
+// cones: Sobol evaluates its points whole.
+func TestRadialTooLarge(t *testing.T) {
+	tp, _ := tapebench.GenModel(60_000, 2000, 4)
+	all := make([]int, tp.NumInputs())
+	for i := range all {
+		all[i] = i
+	}
+	if _, err := tp.Radial(0, all); !errors.Is(err, tape.ErrRadialSize) {
+		t.Errorf("Radial of 2,000 inputs of a 60,000-node chain: %v, want ErrRadialSize", err)
+	}
+	if _, err := tp.Radial(0, all[:3]); err != nil {
+		t.Errorf("Radial of 3 of its inputs: %v", err)
+	}
 }

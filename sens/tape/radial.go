@@ -1,6 +1,7 @@
 package tape
 
 import (
+	"errors"
 	"fmt"
 	"slices"
 )
@@ -65,17 +66,23 @@ func (e *RadialError) Unwrap() error { return e.Err }
 
 // Radial limits: a Radial whose rows would be narrower than
 // minRadialWidth lanes, or whose cones together hold more than
-// maxRadialInstrs instructions (and more than 4 for each node of the
-// tape), is not built: Radial returns ErrNoCones.
+// maxRadialNodes operations (their plans, 80 MB), is not built: Radial
+// returns ErrRadialSize.
 const (
-	minRadialWidth  = 16
-	maxRadialInstrs = 1 << 22
+	minRadialWidth = 16
+	maxRadialNodes = 1 << 21
 )
+
+// ErrRadialSize is the error of Radial for a tape whose cones are too
+// large together, or read too many values, for lane cones to pay: the
+// caller evaluates every point whole.
+var ErrRadialSize = errors.New("tape: the cones of this tape are too large for lane cones")
 
 // Radial returns the evaluator of output o for points that replace one of
 // the given tape inputs. A tape whose operations plans do not know (loop
-// nodes, see plannable), or too large for useful rows, has none: Radial
-// returns ErrNoCones and the caller evaluates every point whole.
+// nodes, see plannable) has none: Radial returns ErrNoCones (a tape with
+// loop nodes has cones element by element, Cones). One whose cones are
+// too large returns ErrRadialSize.
 func (t *Tape) Radial(o int, inputs []int) (*Radial, error) {
 	p := t.p
 	if !p.plannable() {
@@ -151,8 +158,8 @@ func (t *Tape) Radial(o int, inputs []int) (*Radial, error) {
 		}
 		slices.Sort(nodes)
 		total += len(nodes)
-		if total > maxRadialInstrs && total > 4*len(p.ops) {
-			return nil, ErrNoCones
+		if total > maxRadialNodes {
+			return nil, ErrRadialSize
 		}
 		// The operands the cone reads from outside it: other inputs and
 		// computed nodes (constants sit in the plan).
@@ -230,7 +237,7 @@ func (t *Tape) Radial(o int, inputs []int) (*Radial, error) {
 	}
 	r.w = planWidth(r.base.nreg + own)
 	if r.w < minRadialWidth {
-		return nil, ErrNoCones
+		return nil, ErrRadialSize
 	}
 	r.be = r.base.newExec(r.w)
 	r.tmp = make([]float64, own*r.w)
