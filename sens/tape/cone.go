@@ -53,6 +53,9 @@ type Cones struct {
 	vc  vecCones
 
 	memo map[[2]int32]*coneMemo // see Memo (conebase.go); nil: off
+	// dirty is set when a value the output needs is not finite at the
+	// base (in a branch not taken): see Eval.
+	dirty bool
 }
 
 // ErrNoCones is the error of Cones for a tape whose operations cones do
@@ -83,6 +86,7 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	c.vals = slices.Clone(c.t.vals)
 	p := t.p
 	c.needed = p.reach(i)
+	c.dirty = !c.cleanBase()
 	n := len(c.needed)
 	// Users, in compressed rows: count, then fill.
 	c.ustart = make([]int32, n+2)
@@ -428,6 +432,12 @@ func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n 
 	nIn := c.t.p.nIn
 	if i < 0 || i >= nIn || j >= nIn || j == i || len(vi) < n || j >= 0 && len(vj) < n || len(dst) < n {
 		panic(fmt.Sprintf("tape: Cones.Eval of inputs %d, %d over %d points", i, j, n))
+	}
+	if c.dirty {
+		// A value outside the cone may hide a non-finite one at the base
+		// (a comparison of a NaN is 0) from a branch that a point takes
+		// and the base does not: every point is evaluated whole.
+		return c.reference(dst, i, vi, j, vj, 0, n)
 	}
 	if c.vec {
 		return c.evalVec(dst, i, vi, j, vj, n)

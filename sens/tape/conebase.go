@@ -54,6 +54,7 @@ func (c *Cones) Rebase(x []float64) error {
 	c.y0 = y
 	copy(c.vals, c.t.vals)
 	copy(c.work, c.vals)
+	c.dirty = !c.cleanBase()
 	c.x = nil
 	// What was built from the base values: the proofs of monotonicity,
 	// the plans (whose constants are base values), the state of the
@@ -68,4 +69,15 @@ func (c *Cones) Rebase(x []float64) error {
 	}
 	clear(v.groups)
 	return nil
+}
+
+// cleanBase reports whether every value the output needs is finite at the
+// base, so that no value outside a cone hides a non-finite one.
+func (c *Cones) cleanBase() bool {
+	for k, need := range c.needed {
+		if need && !finite(c.vals[k]) {
+			return false
+		}
+	}
+	return true
 }

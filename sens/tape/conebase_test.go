@@ -1,6 +1,7 @@
 package tape
 
 import (
+	"errors"
 	"fmt"
 	"math/rand/v2"
 	"slices"
@@ -93,5 +94,72 @@ func TestConesRebase(t *testing.T) {
 	}
 	if points < 5000 {
 		t.Errorf("%d points: the test covers too little", points)
+	}
+}
+
+// TestHiddenNaNOutsideCone: at the base, sqrt(x0) is NaN and the
+// comparison sqrt(x0) == 2 hides it (it is 0) in the branch the if does
+// not take; moving x1 makes the if take it, which the full pass reports as
+// an error (a comparison of a NaN), though the comparison lies outside x1's
+// cone. Cones, Radial and Walk must report it too, and give the full
+// pass's values where the branch is not taken (x1 stays positive).
+func TestHiddenNaNOutsideCone(t *testing.T) {
+	b := NewBuilder()
+	x0, x1 := b.Input(), b.Input()
+	hid := b.Binary(OpEq, b.Unary(OpSqrt, x0), b.Const(2))
+	tp := b.Tape(b.Call(OpIf, b.Binary(OpGt, x1, b.Const(0)), b.Binary(OpMul, x1, b.Const(3)), hid))
+	base := []float64{-1, 1}
+	vi := []float64{2, 0.5, -1, 4}
+	pts := make([][]float64, len(vi))
+	for s, v := range vi {
+		pts[s] = []float64{-1, v}
+	}
+	want, bad, wantErr := evalRef(tp, pts, 0)
+	if bad != 2 {
+		t.Fatalf("the reference fails at point %d (%v), want 2", bad, wantErr)
+	}
+
+	c, err := tp.Cones(base, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := make([]float64, len(vi))
+	if d := agree(got, c.Eval(got, 1, vi, -1, nil, len(vi)), want, bad, wantErr); d != "" {
+		t.Errorf("Cones: %s", d)
+	}
+
+	r, err := tp.Radial(0, []int{1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cols := [][]float64{{-1, -1, -1, -1}, {1, 1, 1, 1}}
+	dst, dstAlt := make([]float64, 4), [][]float64{nil, make([]float64, 4)}
+	err = r.Eval(dst, dstAlt, cols, [][]float64{nil, vi}, 4)
+	var re *RadialError
+	if !errors.As(err, &re) || re.Input != 1 {
+		t.Errorf("Radial: %v, want the error at input 1", err)
+	} else if d := agree(dstAlt[1], re.Err, want, bad, wantErr); d != "" {
+		t.Errorf("Radial: %s", d)
+	}
+
+	w, err := tp.Walk(0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := w.Start(base); err != nil {
+		t.Fatal(err)
+	}
+	for s, v := range vi {
+		y, err := w.Step(1, v)
+		if s == bad {
+			var de *DomainError
+			if !errors.As(err, &de) || de.Msg != wantErr.Msg {
+				t.Errorf("Walk, point %d: %v, want %v", s, err, wantErr)
+			}
+			break
+		}
+		if err != nil || y != want[s] {
+			t.Errorf("Walk, point %d: %v %v, want %v", s, y, err, want[s])
+		}
 	}
 }

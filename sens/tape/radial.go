@@ -28,6 +28,7 @@ type Radial struct {
 	out   int
 	base  *plan
 	cones []*radialCone // by tape input; nil when the output does not depend on it
+	inReg []int32       // by tape input: its register in the base plan, -1 if none
 	w     int
 
 	be   *planExec
@@ -213,9 +214,12 @@ func (t *Tape) Radial(o int, inputs []int) (*Radial, error) {
 	for n, k := range keep {
 		keptReg[k] = r.base.kept[n]
 	}
-	baseReg := make(map[int32]int32, len(ins))
+	r.inReg = make([]int32, p.nIn)
+	for j := range r.inReg {
+		r.inReg[j] = -1
+	}
 	for reg, k := range r.base.inputs {
-		baseReg[k] = int32(reg)
+		r.inReg[k] = int32(reg)
 	}
 	own := 0
 	for i, cs := range srcs {
@@ -290,7 +294,14 @@ func (r *Radial) Eval(dst []float64, dstAlt [][]float64, cols, alt [][]float64, 
 		bad := be.run(m)
 		o := be.output(m)
 		copy(dst[base:base+m], o)
-		if bad || r.base.alwaysBad || !allFinite(o) {
+		// A block whose base points are clean (every value finite: no
+		// guard operation saw a non-finite operand, the output is finite)
+		// goes through the cones. Otherwise a value outside a cone may hide
+		// a non-finite one (a comparison of a NaN is 0) in a branch the base
+		// point does not take and a replaced point does, which the cone
+		// cannot see: the block's replaced points are evaluated whole.
+		dirty := bad || r.base.alwaysBad || !allFinite(o)
+		if dirty {
 			if err := r.reference(dst, cols, -1, nil, base, m); err != nil {
 				return err
 			}
@@ -302,6 +313,12 @@ func (r *Radial) Eval(dst []float64, dstAlt [][]float64, cols, alt [][]float64, 
 			c := r.cones[i]
 			if c == nil {
 				copy(dstAlt[i][base:base+m], dst[base:base+m])
+				continue
+			}
+			if dirty {
+				if err := r.whole(dstAlt[i], cols, i, vi, base, m); err != nil {
+					return err
+				}
 				continue
 			}
 			c.rows[0] = vi[base : base+m]
@@ -322,6 +339,22 @@ func (r *Radial) Eval(dst []float64, dstAlt [][]float64, cols, alt [][]float64, 
 				}
 			}
 		}
+	}
+	return nil
+}
+
+// whole evaluates points base..base+m-1 with input i replaced by vi
+// through the base plan, every node again; the kept values are then those
+// of these points.
+func (r *Radial) whole(dst []float64, cols [][]float64, i int, vi []float64, base, m int) error {
+	be, reg := r.be, r.inReg[i]
+	be.rows[reg] = vi[base : base+m]
+	bad := be.run(m)
+	be.rows[reg] = cols[i][base : base+m]
+	o := be.output(m)
+	copy(dst[base:base+m], o)
+	if bad || r.base.alwaysBad || !allFinite(o) {
+		return r.reference(dst, cols, i, vi, base, m)
 	}
 	return nil
 }
