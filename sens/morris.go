@@ -129,11 +129,14 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 		order []int
 		rows  []float64
 		y     []float64
+		walk  walkSet // nil: every point evaluated whole
+		start []int   // the trajectory's first levels
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), r))
 	for w := range workers {
 		workers[w] = &worker{f: p.F.Clone(), level: make([]int, k), order: make([]int, k),
 			rows: make([]float64, m*k), y: make([]float64, m+1)}
+		workers[w].walk = newWalk(workers[w].f)
 	}
 	ctx := s.ctx()
 	err := runChunks(pr, len(workers), r, func(w, t int) error {
@@ -150,6 +153,20 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 			x[i] = value(i, wk.level[i])
 		}
 		ee[t] = make([]float64, k)
+		// Through the cones of a compiled model, one step at a time; a
+		// trajectory with a failing point is evaluated again whole below,
+		// which reports the error as it always has.
+		if wk.walk != nil {
+			wk.start = append(wk.start[:0], wk.level...)
+			if morrisWalk(wk.walk, x, wk.level, wk.order, ee[t], m, half, delta, value, ctx.Err) {
+				pr.add(k + 1)
+				return nil
+			}
+			copy(wk.level, wk.start)
+			for i := range k {
+				x[i] = value(i, wk.level[i])
+			}
+		}
 		// Points 0..k of the trajectory, m at a time: point q+1 is point q
 		// with input order[q] moved by one step.
 		var prev float64
@@ -221,4 +238,39 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 		return x.Name < y.Name
 	})
 	return res, nil
+}
+
+// morrisWalk evaluates a trajectory through w, from x at the given levels,
+// moving input order[q] at step q+1 as Morris does, and writes each
+// input's elementary effect into ee. It returns false when a point fails
+// or ctxErr reports a cancellation (checked every m steps): the caller
+// then evaluates the trajectory whole, from the levels it started at.
+func morrisWalk(w walkSet, x []float64, level, order []int, ee []float64, m, half int, delta float64,
+	value func(i, level int) float64, ctxErr func() error) bool {
+	prev, err := w.start(x)
+	if err != nil {
+		return false
+	}
+	for q, i := range order {
+		if (q+1)%m == 0 && ctxErr() != nil {
+			return false
+		}
+		if level[i] < half {
+			level[i] += half
+		} else {
+			level[i] -= half
+		}
+		x[i] = value(i, level[i])
+		y, err := w.step(i, x[i])
+		if err != nil {
+			return false
+		}
+		step := delta // up
+		if level[i] < half {
+			step = -delta // it moved down to a lower level
+		}
+		ee[i] = (y - prev) / step
+		prev = y
+	}
+	return true
 }

@@ -29,6 +29,20 @@ func (f *tapeFunction) radial() (radialSet, error) {
 
 type tapeRadial struct{ r *tape.Radial }
 
+// walk gives them the cones of trajectories.
+func (f *tapeFunction) walk() (walkSet, error) {
+	w, err := f.t.Walk(0)
+	if err != nil {
+		return nil, err
+	}
+	return tapeWalk{w}, nil
+}
+
+type tapeWalk struct{ w *tape.Walk }
+
+func (t tapeWalk) start(x []float64) (float64, error)     { return t.w.Start(x) }
+func (t tapeWalk) step(i int, v float64) (float64, error) { return t.w.Step(i, v) }
+
 func (t tapeRadial) eval(fa []float64, fab [][]float64, a, b [][]float64, n int) error {
 	return t.r.Eval(fa, fab, a, b, n)
 }
@@ -58,71 +72,11 @@ func sobolBoth(t *testing.T, p *Problem, s SobolSettings) (cones, whole string) 
 // Ishigami function (Ishigami & Homma 1990), the G-function (Saltelli et
 // al. 2008), generated models of 20 inputs, a model of formulas whose
 // inputs are a few of the program's, a model of line items (whose loop
-// nodes have no lane cones: the whole way), and models where some samples
-// hit a domain error (the same error, at the same sample, as before), on
-// one worker and on three.
+// nodes have cones element by element: one Cones moved from row to row),
+// and models where some samples hit a domain error (the same error, at the
+// same sample, as before), on one worker and on three.
 func TestSobolConesSameAsWhole(t *testing.T) {
-	var g strings.Builder
-	var terms []string
-	for i, a := range []float64{0, 1, 4.5, 9, 99, 99, 99, 99} {
-		fmt.Fprintf(&g, "input x%d = 0.5 ~ uniform(0, 1)\n", i+1)
-		terms = append(terms, fmt.Sprintf("(abs(4*x%d - 2) + %g) / (1 + %g)", i+1, a, a))
-	}
-	g.WriteString("g = " + strings.Join(terms, " * ") + "\n")
-	type model struct {
-		name  string
-		p     *Problem
-		cones bool // the model has lane cones
-		fails bool // some sample fails
-	}
-	models := []model{
-		{name: "Ishigami", p: problemOf(t, ishigamiModel, "y"), cones: true},
-		{name: "G-function", p: problemOf(t, g.String(), "g"), cones: true},
-		// A formula that reads only some inputs (a sub-function of the
-		// program), with units scaled for display and an if and a max.
-		{name: "sub-function", p: problemOf(t, `
-input a = 2 [m] ~ uniform(1, 3)
-input b = 5 [m] ~ triangular(4, 5, 7)
-input c = 3 ~ normal(3, 0.5)
-input d = 1 ~ uniform(0, 2)
-area = a * b + max(a, c * 1 [m]) * 1 [m]
-cost = if(d > 1, area * 12 [$/m^2], area * 10 [$/m^2] + c * 1 [$]) / 1000
-`, "cost"), cones: true},
-		// ln of a + b - 0.4 fails where a + b < 0.4, in the first chunk.
-		{name: "domain error in A", p: problemOf(t, `
-input a = 0.5 ~ uniform(0, 1)
-input b = 0.5 ~ uniform(0, 1)
-input c = 1.5 ~ uniform(1, 2)
-y = ln(a + b - 0.4) * c + c
-`, "y"), cones: true, fails: true},
-		// sqrt(1.9 - c) is NaN in the branch not taken wherever c > 1.9,
-		// and fails where a > 0.95 takes it.
-		{name: "domain error in a branch", p: problemOf(t, `
-input a = 0.5 ~ uniform(0, 1)
-input c = 1.5 ~ uniform(1, 2)
-y = a * 3 + if(a > 0.95, sqrt(1.9 - c), c)
-`, "y"), cones: true, fails: true},
-	}
-	for seed := range uint64(3) {
-		tp, x := tapebench.GenModel(400, 20, seed+11)
-		models = append(models, model{name: fmt.Sprintf("generated %d", seed), p: benchProblem(tp, x), cones: true})
-	}
-	lines, _ := loadBid(t, 40, lineItemModel)
-	lp, err := lines.Problem("total")
-	if err != nil {
-		t.Fatal(err)
-	}
-	models = append(models, model{name: "line items", p: lp, cones: true})
-
-	// A line-item model whose square roots fail where a line's quantity
-	// falls 3% below the bid's.
-	lf, _ := loadBid(t, 40, lineItemModel+"root = sum(sqrt(qty - 0.97 * bid.qty)) * (1 [$])\n")
-	lfp, err := lf.Problem("root")
-	if err != nil {
-		t.Fatal(err)
-	}
-	models = append(models, model{name: "line items failing", p: lfp, cones: true, fails: true})
-
+	models := coneModels(t)
 	for _, m := range models {
 		if got := newRadial(m.p.F.Clone()) != nil; got != m.cones {
 			t.Errorf("%s: lane cones %v, want %v", m.name, got, m.cones)
@@ -162,6 +116,105 @@ func BenchmarkSobolConesVsWhole(b *testing.B) {
 		}
 	}
 	cpuPair(b, float64(n*(len(x)+2)), "cones", "whole", run(true), run(false))
+}
+
+// coneModel is a model of the tests of the analyses through cones.
+type coneModel struct {
+	name   string
+	p      *Problem
+	cones  bool // the model has cones (lane cones, or cones per row)
+	vector bool // through loop nodes (no cones of trajectories)
+	fails  bool // some sample of Sobol's fails
+}
+
+// coneModels returns the models on which the analyses through cones are
+// compared with every point evaluated whole.
+func coneModels(t *testing.T) []coneModel {
+	var g strings.Builder
+	var terms []string
+	for i, a := range []float64{0, 1, 4.5, 9, 99, 99, 99, 99} {
+		fmt.Fprintf(&g, "input x%d = 0.5 ~ uniform(0, 1)\n", i+1)
+		terms = append(terms, fmt.Sprintf("(abs(4*x%d - 2) + %g) / (1 + %g)", i+1, a, a))
+	}
+	g.WriteString("g = " + strings.Join(terms, " * ") + "\n")
+	models := []coneModel{
+		{name: "Ishigami", p: problemOf(t, ishigamiModel, "y"), cones: true},
+		{name: "G-function", p: problemOf(t, g.String(), "g"), cones: true},
+		// A formula that reads only some inputs (a sub-function of the
+		// program), with units scaled for display and an if and a max.
+		{name: "sub-function", p: problemOf(t, `
+input a = 2 [m] ~ uniform(1, 3)
+input b = 5 [m] ~ triangular(4, 5, 7)
+input c = 3 ~ normal(3, 0.5)
+input d = 1 ~ uniform(0, 2)
+area = a * b + max(a, c * 1 [m]) * 1 [m]
+cost = if(d > 1, area * 12 [$/m^2], area * 10 [$/m^2] + c * 1 [$]) / 1000
+`, "cost"), cones: true},
+		// ln of a + b - 0.4 fails where a + b < 0.4, in the first chunk.
+		{name: "domain error in A", p: problemOf(t, `
+input a = 0.5 ~ uniform(0, 1)
+input b = 0.5 ~ uniform(0, 1)
+input c = 1.5 ~ uniform(1, 2)
+y = ln(a + b - 0.4) * c + c
+`, "y"), cones: true, fails: true},
+		// sqrt(1.9 - c) is NaN in the branch not taken wherever c > 1.9,
+		// and fails where a > 0.95 takes it.
+		{name: "domain error in a branch", p: problemOf(t, `
+input a = 0.5 ~ uniform(0, 1)
+input c = 1.5 ~ uniform(1, 2)
+y = a * 3 + if(a > 0.95, sqrt(1.9 - c), c)
+`, "y"), cones: true, fails: true},
+	}
+	for seed := range uint64(3) {
+		tp, x := tapebench.GenModel(400, 20, seed+11)
+		models = append(models, coneModel{name: fmt.Sprintf("generated %d", seed), p: benchProblem(tp, x), cones: true})
+	}
+	lines, _ := loadBid(t, 40, lineItemModel)
+	lp, err := lines.Problem("total")
+	if err != nil {
+		t.Fatal(err)
+	}
+	models = append(models, coneModel{name: "line items", p: lp, cones: true, vector: true})
+
+	// A line-item model whose square roots fail where a line's quantity
+	// falls 3% below the bid's.
+	lf, _ := loadBid(t, 40, lineItemModel+"root = sum(sqrt(qty - 0.97 * bid.qty)) * (1 [$])\n")
+	lfp, err := lf.Problem("root")
+	if err != nil {
+		t.Fatal(err)
+	}
+	models = append(models, coneModel{name: "line items failing", p: lfp, cones: true, vector: true, fails: true})
+
+	return models
+}
+
+// TestMorrisConesSameAsWhole checks that Morris through the cones of its
+// trajectories (tape.Walk) gives the result of evaluating every point
+// whole, to the last bit, on the models of TestSobolConesSameAsWhole (a
+// model of vectors the whole way), and the same error where a point fails.
+func TestMorrisConesSameAsWhole(t *testing.T) {
+	for _, m := range coneModels(t) {
+		run := func(on bool, w int) string {
+			defer func(old bool) { useRadial = old }(useRadial)
+			useRadial = on
+			r, err := Morris(m.p, &MorrisSettings{R: 40, Seed: 5, Workers: w})
+			if err != nil {
+				return "error: " + err.Error()
+			}
+			b, _ := json.Marshal(r)
+			return string(b)
+		}
+		if got := newWalk(m.p.F.Clone()) != nil; got != (m.cones && !m.vector) {
+			t.Errorf("%s: cones of trajectories %v", m.name, got)
+		}
+		for _, w := range []int{1, 3} {
+			if cones, whole := run(true, w), run(false, w); cones != whole {
+				t.Errorf("%s, %d workers: through the cones\n%s\nwhole\n%s", m.name, w, cones, whole)
+			} else if strings.HasPrefix(whole, "error: ") {
+				t.Logf("%s, %d workers: %s", m.name, w, whole)
+			}
+		}
+	}
 }
 
 // radialSameAsColumns evaluates 300 rows of A and of the A_B^i (A and B
@@ -242,5 +295,29 @@ func TestRadialTooLarge(t *testing.T) {
 	}
 	if _, err := tp.Radial(0, all[:3]); err != nil {
 		t.Errorf("Radial of 3 of its inputs: %v", err)
+	}
+}
+
+// Morris on generated 1,000-node models of 20 and of 200 inputs, 400
+// trajectories on one worker, through the cones of its trajectories
+// against every point evaluated whole (batched, a trajectory at a time).
+//
+//	go test ./sens/ -run '^$' -bench MorrisConesVsWhole -benchtime=5x
+func BenchmarkMorrisConesVsWhole(b *testing.B) {
+	for _, k := range []int{20, 200} {
+		b.Run(fmt.Sprintf("inputs=%d", k), func(b *testing.B) {
+			t, x := tapebench.GenModel(1000, k, 5)
+			p := benchProblem(t, x)
+			const r = 400
+			run := func(on bool) func() error {
+				return func() error {
+					defer func(old bool) { useRadial = old }(useRadial)
+					useRadial = on
+					_, err := Morris(p, &MorrisSettings{R: r, Seed: 1, Workers: 1})
+					return err
+				}
+			}
+			cpuPair(b, float64(r*(k+1)), "cones", "whole", run(true), run(false))
+		})
 	}
 }
