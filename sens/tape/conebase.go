@@ -1,6 +1,10 @@
 package tape
 
-import "slices"
+import (
+	"fmt"
+	"math"
+	"slices"
+)
 
 // Cones around many base points: an analysis that evaluates, around each
 // of many base points, the points that change one input (the rows of a
@@ -80,4 +84,110 @@ func (c *Cones) cleanBase() bool {
 		}
 	}
 	return true
+}
+
+// Step moves input i of the base point to v: it evaluates the new point
+// through the cone of input i, as Eval does, and keeps its values as the
+// new base, so that a path of points each one input from the last (a
+// trajectory of elementary effects on a model of vectors) costs a cone a
+// point. It returns the output at the new point, or the error of Eval
+// there, which leaves c at its base. A base with a value that is not
+// finite, and a step whose cone meets one, are evaluated whole (Rebase).
+func (c *Cones) Step(i int, v float64) (float64, error) {
+	p := c.t.p
+	if i < 0 || i >= p.nIn {
+		panic(fmt.Sprintf("tape: Cones.Step of input %d of %d", i, p.nIn))
+	}
+	whole := func() (float64, error) {
+		x := slices.Clone(c.base)
+		x[i] = v
+		if err := c.Rebase(x); err != nil {
+			return math.NaN(), err
+		}
+		return c.y0, nil
+	}
+	if c.dirty {
+		return whole()
+	}
+	nodes := c.coneOf(i, -1)
+	w := c.work
+	w[i] = v
+	bad := false
+	red := 0
+	group, gred := int32(-1), vred{}
+	for _, k := range nodes {
+		op := p.ops[k]
+		if op != opLoop && op != opLane {
+			if p.step(w, k) {
+				bad = true
+			}
+			continue
+		}
+		h := k
+		if op == opLane {
+			h = p.a[k]
+		}
+		l := &p.loops[p.a[h]]
+		switch l.kind {
+		case loopMap:
+			if c.mapElem(l, w, k, k-h) {
+				bad = true
+			}
+		case loopGather:
+			w[k] = w[l.arg[0]+l.idx[k-h]]
+		case loopGroup:
+			if h != group {
+				group, gred = h, c.vc.reds[red]
+				red++
+			}
+			c.groupSum(l, w, h, k, k-h, gred)
+		default:
+			if c.reduce(l, w, k, c.vc.reds[red]) {
+				bad = true
+			}
+			red++
+		}
+	}
+	y := w[p.outs[c.out]]
+	if bad || !finite(y) {
+		// Put the base back, as evalVec does, and evaluate whole.
+		for _, k := range nodes {
+			w[k] = c.vals[k]
+		}
+		w[i] = c.vals[i]
+		for _, t := range c.vc.touched {
+			t.restore()
+		}
+		c.vc.touched = c.vc.touched[:0]
+		for q := len(c.vc.gundo) - 1; q >= 0; q-- {
+			u := c.vc.gundo[q]
+			u.st.vals[u.q] = u.v
+		}
+		c.vc.gundo = c.vc.gundo[:0]
+		return whole()
+	}
+	// Keep the new point: its values, the reductions' trees and group
+	// members as updated; a min or max in the cone finds its pick again
+	// from the new values when next asked.
+	for _, k := range nodes {
+		c.vals[k] = w[k]
+	}
+	c.vals[i] = v
+	c.base[i] = v
+	c.y0 = y
+	c.x = nil
+	for _, t := range c.vc.touched {
+		t.undo = t.undo[:0]
+	}
+	c.vc.touched = c.vc.touched[:0]
+	c.vc.gundo = c.vc.gundo[:0]
+	for _, r := range c.vc.reds {
+		if l := &p.loops[p.a[r.k]]; (l.kind == loopMin || l.kind == loopMax) && c.vc.picks != nil {
+			c.vc.picks[p.a[r.k]] = -2
+		}
+	}
+	clear(c.mono)
+	clear(c.plans)
+	c.planInstrs = 0
+	return y, nil
 }

@@ -3,6 +3,7 @@ package tape
 import (
 	"errors"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"slices"
 	"testing"
@@ -161,5 +162,89 @@ func TestHiddenNaNOutsideCone(t *testing.T) {
 		if err != nil || y != want[s] {
 			t.Errorf("Walk, point %d: %v %v, want %v", s, y, err, want[s])
 		}
+	}
+}
+
+// stepAgrees walks output o of tp from x, one input at a time (Cones.Step),
+// and checks every point against evalRef: the same value to the last bit,
+// the same error; after an error the walk goes on from the point before,
+// where Step must have left the Cones. It returns the steps taken.
+func stepAgrees(t *testing.T, name string, tp *Tape, x []float64, o int, memo bool, rng *rand.Rand) (steps, failing int) {
+	t.Helper()
+	nIn := tp.NumInputs()
+	c, err := tp.Cones(x, o)
+	if err != nil {
+		return 0, 0
+	}
+	if memo {
+		c.Memo()
+	}
+	x = slices.Clone(x)
+	for s := range 60 {
+		i := rng.IntN(nIn)
+		if s%3 == 0 {
+			i = nIn - 1 - rng.IntN(min(nIn, 3)) // the scalars, which reach far
+		}
+		v := x[i] * (1 + 0.4*(rng.Float64()-0.5))
+		if rng.IntN(6) == 0 {
+			v = -2 // out of some operations' domains
+		}
+		old := x[i]
+		x[i] = v
+		got, err := c.Step(i, v)
+		want, bad, wantErr := evalRef(tp, [][]float64{slices.Clone(x)}, o)
+		steps++
+		if bad >= 0 {
+			failing++
+			var de *DomainError
+			if !errors.As(err, &de) || de.Pos != wantErr.Pos || de.Op != wantErr.Op || de.Msg != wantErr.Msg || !slices.Equal(de.Args, wantErr.Args) {
+				t.Fatalf("%s output %d, step %d (input %d): error %v, reference %v", name, o, s, i, err, wantErr)
+			}
+			x[i] = old
+			continue
+		}
+		if err != nil || math.Float64bits(got) != math.Float64bits(want[0]) {
+			t.Fatalf("%s output %d, step %d (input %d): %v %v, reference %v", name, o, s, i, got, err, want[0])
+		}
+		if c.Base() != got {
+			t.Fatalf("%s output %d, step %d: base %v after the step to %v", name, o, s, c.Base(), got)
+		}
+	}
+	return steps, failing
+}
+
+// Cones.Step walks random vector models, the shapes of a bid and random
+// scalar formulas with the full pass's values and errors, with and
+// without Memo.
+func TestConesStep(t *testing.T) {
+	rng := rand.New(rand.NewPCG(51, 52))
+	var steps, failing int
+	add := func(s, f int) { steps += s; failing += f }
+	for seed := range uint64(80) {
+		nmax := 40
+		if seed%4 == 0 {
+			nmax = 500
+		}
+		b := NewBuilder()
+		outs, x := randomVecModelN(b, 300+seed, nmax)
+		tp := b.Tape(outs...)
+		for o := range tp.NumOutputs() {
+			add(stepAgrees(t, fmt.Sprintf("seed %d", 300+seed), tp, x, o, seed%2 == 0, rng))
+		}
+	}
+	for _, n := range []int{9, 130, 300} {
+		tp, x := lineModel(n)
+		for o := range tp.NumOutputs() {
+			add(stepAgrees(t, fmt.Sprintf("%d lines", n), tp, x, o, true, rng))
+		}
+	}
+	g := &rgen{rng: rand.New(rand.NewPCG(6, 66)), nIn: 3}
+	for f := range 300 {
+		tp := g.expr(4).tape(3, int32(f))
+		add(stepAgrees(t, fmt.Sprintf("formula %d", f), tp, []float64{0.7, 1.3, 2.1}, 0, f%2 == 0, rng))
+	}
+	t.Logf("%d steps, %d failing", steps, failing)
+	if steps < 30000 || failing < 200 {
+		t.Errorf("the test covers too little: %d steps, %d failing", steps, failing)
 	}
 }
