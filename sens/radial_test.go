@@ -120,11 +120,10 @@ func BenchmarkSobolConesVsWhole(b *testing.B) {
 
 // coneModel is a model of the tests of the analyses through cones.
 type coneModel struct {
-	name   string
-	p      *Problem
-	cones  bool // the model has cones (lane cones, or cones per row)
-	vector bool // through loop nodes (no cones of trajectories)
-	fails  bool // some sample of Sobol's fails
+	name  string
+	p     *Problem
+	cones bool // the model has cones (lane cones, or cones per row)
+	fails bool // some sample of Sobol's fails
 }
 
 // coneModels returns the models on which the analyses through cones are
@@ -174,7 +173,7 @@ y = a * 3 + if(a > 0.95, sqrt(1.9 - c), c)
 	if err != nil {
 		t.Fatal(err)
 	}
-	models = append(models, coneModel{name: "line items", p: lp, cones: true, vector: true})
+	models = append(models, coneModel{name: "line items", p: lp, cones: true})
 
 	// A line-item model whose square roots fail where a line's quantity
 	// falls 3% below the bid's.
@@ -183,7 +182,7 @@ y = a * 3 + if(a > 0.95, sqrt(1.9 - c), c)
 	if err != nil {
 		t.Fatal(err)
 	}
-	models = append(models, coneModel{name: "line items failing", p: lfp, cones: true, vector: true, fails: true})
+	models = append(models, coneModel{name: "line items failing", p: lfp, cones: true, fails: true})
 
 	return models
 }
@@ -204,8 +203,11 @@ func TestMorrisConesSameAsWhole(t *testing.T) {
 			b, _ := json.Marshal(r)
 			return string(b)
 		}
-		if got := newWalk(m.p.F.Clone()) != nil; got != (m.cones && !m.vector) {
+		if got := newWalk(m.p.F.Clone()) != nil; got != m.cones {
 			t.Errorf("%s: cones of trajectories %v", m.name, got)
+		}
+		if m.cones && !m.fails {
+			walkSameAsEval(t, m.name, m.p)
 		}
 		for _, w := range []int{1, 3} {
 			if cones, whole := run(true, w), run(false, w); cones != whole {
@@ -214,6 +216,38 @@ func TestMorrisConesSameAsWhole(t *testing.T) {
 				t.Logf("%s, %d workers: %s", m.name, w, whole)
 			}
 		}
+	}
+}
+
+// walkSameAsEval walks from every input at the low end of its range to
+// every input at the high end, one input a step, twice over, through the
+// trajectory evaluator, and checks each point against Eval to the last
+// bit, with no point sent the whole way.
+func walkSameAsEval(t *testing.T, name string, p *Problem) {
+	t.Helper()
+	ws, f := newWalk(p.F.Clone()), p.F.Clone()
+	x := make([]float64, len(p.Inputs))
+	for i, in := range p.Inputs {
+		x[i] = in.Low
+	}
+	check := func(s int, y float64, err error) {
+		t.Helper()
+		want, werr := f.Eval(x)
+		if err != nil || werr != nil || math.Float64bits(y) != math.Float64bits(want) {
+			t.Fatalf("%s, point %d: %v %v, Eval %v %v", name, s, y, err, want, werr)
+		}
+	}
+	y, err := ws.start(x)
+	check(0, y, err)
+	for s := 1; s <= 2*len(x); s++ {
+		i := (s - 1) % len(x)
+		in := p.Inputs[i]
+		x[i] = in.High
+		if s > len(x) {
+			x[i] = (in.Low + in.High) / 2
+		}
+		y, err := ws.step(i, x[i])
+		check(s, y, err)
 	}
 }
 
@@ -320,4 +354,27 @@ func BenchmarkMorrisConesVsWhole(b *testing.B) {
 			cpuPair(b, float64(r*(k+1)), "cones", "whole", run(true), run(false))
 		})
 	}
+}
+
+// Morris of the bid's total over 200 line items (403 inputs), 20
+// trajectories on one worker, through one Cones moved along each
+// trajectory (Cones.Step) against every point evaluated whole.
+//
+//	go test ./sens/ -run '^$' -bench MorrisLinesConesVsWhole -benchtime=3x
+func BenchmarkMorrisLinesConesVsWhole(b *testing.B) {
+	prog, _ := loadBid(b, 200, lineItemModel)
+	p, err := prog.Problem("total")
+	if err != nil {
+		b.Fatal(err)
+	}
+	const r = 20
+	run := func(on bool) func() error {
+		return func() error {
+			defer func(old bool) { useRadial = old }(useRadial)
+			useRadial = on
+			_, err := Morris(p, &MorrisSettings{R: r, Seed: 1, Workers: 1})
+			return err
+		}
+	}
+	cpuPair(b, float64(r*(len(p.Inputs)+1)), "cones", "whole", run(true), run(false))
 }

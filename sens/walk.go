@@ -1,6 +1,7 @@
 package sens
 
 import (
+	"errors"
 	"math"
 	"slices"
 
@@ -12,9 +13,9 @@ import (
 // through that input's cone over the values of the point before
 // (tape.Walk), with the bits of evaluating it whole.
 
-// walker is a Function that can evaluate trajectories through its cones;
-// walk returns the evaluator, or an error when the function has none (a
-// model of vectors, whose loop nodes tape.Walk does not know).
+// walker is a Function that can evaluate trajectories through its cones
+// (tape.Walk; on a model of vectors, tape.Cones moved by Step); walk
+// returns the evaluator, or an error when the function has none.
 type walker interface {
 	walk() (walkSet, error)
 }
@@ -49,13 +50,18 @@ func newWalk(f Function) walkSet {
 // the same), the others held at their baselines in full.
 type fnWalk struct {
 	fn    *Fn
-	w     *tape.Walk
+	w     *tape.Walk  // a scalar tape's walk; nil for a tape with loop nodes:
+	c     *tape.Cones // its cones element by element, made at the first start
+	none  bool        // the tape has no cones at all: every point whole
 	index []int
 	full  []float64
 }
 
 func (fn *Fn) walk() (walkSet, error) {
 	w, err := fn.tape.Walk(fn.f.out)
+	if errors.Is(err, tape.ErrNoCones) {
+		return &fnWalk{fn: fn}, nil // through Cones.Step
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -64,6 +70,9 @@ func (fn *Fn) walk() (walkSet, error) {
 
 func (s *subFn) walk() (walkSet, error) {
 	w, err := s.fn.tape.Walk(s.fn.f.out)
+	if errors.Is(err, tape.ErrNoCones) {
+		return &fnWalk{fn: s.fn, index: s.index, full: slices.Clone(s.full)}, nil
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -77,7 +86,26 @@ func (fw *fnWalk) start(x []float64) (float64, error) {
 		}
 		x = fw.full
 	}
-	y, err := fw.w.Start(x)
+	var y float64
+	var err error
+	switch {
+	case fw.w != nil:
+		y, err = fw.w.Start(x)
+	case fw.none:
+		return math.NaN(), tape.ErrNoCones
+	case fw.c == nil:
+		// A model of vectors: one Cones, its cones kept, moved to the
+		// start of each trajectory and along it.
+		if fw.c, err = fw.fn.tape.Cones(x, fw.fn.f.out); err == nil {
+			fw.c.Memo()
+			y = fw.c.Base()
+		} else {
+			fw.none = errors.Is(err, tape.ErrNoCones)
+		}
+	default:
+		err = fw.c.Rebase(x)
+		y = fw.c.Base()
+	}
 	if err != nil {
 		return math.NaN(), err
 	}
@@ -88,7 +116,13 @@ func (fw *fnWalk) step(i int, v float64) (float64, error) {
 	if fw.index != nil {
 		i = fw.index[i]
 	}
-	y, err := fw.w.Step(i, v)
+	var y float64
+	var err error
+	if fw.w != nil {
+		y, err = fw.w.Step(i, v)
+	} else {
+		y, err = fw.c.Step(i, v)
+	}
 	if err != nil {
 		return math.NaN(), err
 	}
