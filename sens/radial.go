@@ -13,13 +13,15 @@ import (
 // every input i. The k points with one input replaced differ from their
 // row in one input, so a compiled model evaluates them through that
 // input's cone over the row's own values (tape.Radial): lane by lane, each
-// lane's baseline is a row of A. The values are those of evaluating every
-// point whole, to the last bit.
+// lane's baseline is a row of A. A model of vectors, whose loop nodes have
+// cones element by element but not lane by lane, moves one tape.Cones from
+// row to row instead. The values are those of evaluating every point
+// whole, to the last bit.
 
 // radialer is a Function that can evaluate radial designs through its
 // cones. radial returns the evaluator, or an error when the function has
-// none (a model of vectors, whose loop nodes have no lane cones; a tape
-// too large for them): the caller then evaluates every point whole.
+// none (cones too large together, tape.ErrRadialSize): the caller then
+// evaluates every point whole.
 type radialer interface {
 	radial() (radialSet, error)
 }
@@ -33,8 +35,9 @@ type radialSet interface {
 	eval(fa []float64, fab [][]float64, a, b [][]float64, n int) error
 }
 
-// useRadial turns the cones of radial designs on; the tests turn them
-// off to compare with every point evaluated whole.
+// useRadial turns the cones of radial designs (Sobol) and of trajectories
+// (Morris, walk.go) on; the tests turn them off to compare with every
+// point evaluated whole.
 var useRadial = true
 
 // newRadial returns f's radial evaluator, or nil when it has none.
