@@ -53,8 +53,8 @@ type Cones struct {
 	vc  vecCones
 
 	memo map[[2]int32]*coneMemo // see Memo (conebase.go); nil: off
-	// dirty is set when a value the output needs is not finite at the
-	// base (in a branch not taken): see Eval.
+	// dirty is set when an operation the output needs hides a non-finite
+	// value at the base (in a branch not taken; see hides): see Eval.
 	dirty bool
 }
 

@@ -75,15 +75,70 @@ func (c *Cones) Rebase(x []float64) error {
 	return nil
 }
 
-// cleanBase reports whether every value the output needs is finite at the
-// base, so that no value outside a cone hides a non-finite one.
-func (c *Cones) cleanBase() bool {
-	for k, need := range c.needed {
-		if need && !finite(c.vals[k]) {
-			return false
+// cleanBase reports whether no value outside a cone can hide a non-finite
+// one at the base (see hides).
+func (c *Cones) cleanBase() bool { return !c.t.p.hides(c.vals, c.needed) }
+
+// hides reports whether, at the point whose node values vals holds, an
+// operation the output needs (need) can turn a non-finite operand into a
+// finite value: a comparison, min or max, a division by it, a guarded
+// economy operation, an if on a non-finite condition, a min or max of a
+// vector. At a point that evaluates without error such an operation lies
+// in a branch not taken; a point that moves an input may take that branch
+// through an if in the input's cone while the operation itself, outside
+// the cone, is not evaluated again, so its error would go unseen. A
+// non-finite branch of an if outside a cone does not matter (the if's
+// condition is outside the cone, so it picks the same branch), and an if
+// inside it is evaluated again with its operands tested; operations that
+// are not guards pass a non-finite value on, to the output or to a guard
+// in the cone.
+func (p *tapeProg) hides(vals []float64, need []bool) bool {
+	bad := func(s int32) bool { return !finite(vals[s]) }
+	// operands reports whether an operand of op that it can hide is not
+	// finite: the divisor of a division, the base of a constant power,
+	// every operand of the others.
+	operands := func(op Op, a, b, z func() int32) bool {
+		switch op {
+		case OpDiv:
+			return bad(b())
+		case OpPowConst, OpIf:
+			return bad(a())
+		}
+		ar := op.Arity()
+		return bad(a()) || ar >= 2 && bad(b()) || ar == 3 && bad(z())
+	}
+	for k := p.start; k < len(need); k++ {
+		op := p.ops[k]
+		switch {
+		case op == opLoop:
+			l := &p.loops[p.a[k]]
+			switch l.kind {
+			case loopMap:
+				if !opMetas[l.op].guard {
+					continue
+				}
+				for j := range l.n {
+					if k+int(j) >= len(need) || !need[k+int(j)] {
+						continue
+					}
+					at := func(q int) func() int32 { return func() int32 { return l.arg[q] + j*l.step[q] } }
+					if operands(l.op, at(0), at(1), at(2)) {
+						return true
+					}
+				}
+			case loopMin, loopMax:
+				if need[k] && !allFinite(vals[l.arg[0]:l.arg[0]+l.n]) {
+					return true
+				}
+			}
+		case op == opArg || op == opLane || !need[k] || !opMetas[op].guard:
+		default:
+			if operands(op, func() int32 { return p.a[k] }, func() int32 { return p.b[k] }, func() int32 { return p.a[k+1] }) {
+				return true
+			}
 		}
 	}
-	return true
+	return false
 }
 
 // Step moves input i of the base point to v: it evaluates the new point

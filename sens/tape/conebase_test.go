@@ -248,3 +248,148 @@ func TestConesStep(t *testing.T) {
 		t.Errorf("the test covers too little: %d steps, %d failing", steps, failing)
 	}
 }
+
+// TestInfInBranchNotTaken: at the base 5 / x0 is +Inf (x0 = 0) in the
+// branch the if does not take; no operation but the if reads it, so the
+// cones stay in use (the base is not dirty), and a point that takes the
+// branch is the full pass's error, found by the if in the cone.
+func TestInfInBranchNotTaken(t *testing.T) {
+	b := NewBuilder()
+	x0, x1 := b.Input(), b.Input()
+	far := b.Binary(OpAdd, b.Binary(OpDiv, b.Const(5), x0), b.Const(1))
+	tp := b.Tape(b.Call(OpIf, b.Binary(OpGt, x1, b.Const(0)), b.Binary(OpMul, x1, b.Const(3)), far))
+	base := []float64{0, 1}
+	vi := []float64{2, 0.5, -1, 4}
+	pts := make([][]float64, len(vi))
+	for s, v := range vi {
+		pts[s] = []float64{0, v}
+	}
+	want, bad, wantErr := evalRef(tp, pts, 0)
+	if bad != 2 {
+		t.Fatalf("the reference fails at point %d (%v), want 2", bad, wantErr)
+	}
+	c, err := tp.Cones(base, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.dirty {
+		t.Error("an Inf that only an if reads makes the base dirty")
+	}
+	got := make([]float64, len(vi))
+	if d := agree(got, c.Eval(got, 1, vi, -1, nil, len(vi)), want, bad, wantErr); d != "" {
+		t.Errorf("Cones: %s", d)
+	}
+	w, err := tp.Walk(0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := w.Start(base); err != nil || !w.clean {
+		t.Fatalf("Walk.Start: %v, clean %v", err, w.clean)
+	}
+	for s, v := range vi[:bad+1] {
+		y, err := w.Step(1, v)
+		if s == bad {
+			if err == nil {
+				t.Errorf("Walk, point %d: %v, want %v", s, y, wantErr)
+			}
+		} else if err != nil || y != want[s] {
+			t.Errorf("Walk, point %d: %v %v, want %v", s, y, err, want[s])
+		}
+	}
+}
+
+// noInput1 replaces input 1 in e by input 2.
+func noInput1(e *rexpr) *rexpr {
+	if e.op == OpInput && e.in == 1 {
+		return &rexpr{op: OpInput, in: 2}
+	}
+	for q, a := range e.args {
+		e.args[q] = noInput1(a)
+	}
+	return e
+}
+
+// TestBranchSwitchAgrees builds random formulas if(x1 > 0, e2, e1), with e1
+// free of x1 and often not finite somewhere at the base (x1 = 1, the
+// branch not taken), and moves x1 so that the if takes e1: Cones, Radial,
+// Walk and Cones.Step give the full pass's values and errors, whatever e1
+// hides (a comparison of a NaN, a min of an Inf) or not.
+func TestBranchSwitchAgrees(t *testing.T) {
+	g := &rgen{rng: rand.New(rand.NewPCG(61, 62)), nIn: 3}
+	rng := rand.New(rand.NewPCG(63, 64))
+	var failing, dirty int
+	for f := range 3000 {
+		e := node(OpIf, node(OpGt, &rexpr{op: OpInput, in: 1}, kon(0)), g.expr(3), noInput1(g.expr(5)))
+		tp := e.tape(3, int32(f))
+		base := []float64{math.Round((rng.Float64()*6-3)*100) / 100, 1, math.Round((rng.Float64()*6-3)*100) / 100}
+		c, err := tp.Cones(base, 0)
+		if err != nil {
+			continue
+		}
+		if c.dirty {
+			dirty++
+		}
+		vi := []float64{2, -1, 0.5, -2}
+		pts := make([][]float64, len(vi))
+		for s, v := range vi {
+			pts[s] = []float64{base[0], v, base[2]}
+		}
+		want, bad, wantErr := evalRef(tp, pts, 0)
+		if bad >= 0 {
+			failing++
+		}
+		got := make([]float64, len(vi))
+		if d := agree(got, c.Eval(got, 1, vi, -1, nil, len(vi)), want, bad, wantErr); d != "" {
+			t.Fatalf("formula %d, Cones: %s", f, d)
+		}
+		r, err := tp.Radial(0, []int{1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		cols := [][]float64{{base[0], base[0], base[0], base[0]}, {1, 1, 1, 1}, {base[2], base[2], base[2], base[2]}}
+		dst, dstAlt := make([]float64, 4), [][]float64{nil, make([]float64, 4), nil}
+		err = r.Eval(dst, dstAlt, cols, [][]float64{nil, vi, nil}, 4)
+		var re *RadialError
+		if errors.As(err, &re) {
+			err = re.Err
+		}
+		if d := agree(dstAlt[1], err, want, bad, wantErr); d != "" {
+			t.Fatalf("formula %d, Radial: %s", f, d)
+		}
+		w, _ := tp.Walk(0)
+		cs, _ := tp.Cones(base, 0)
+		for s, v := range vi {
+			if _, err := w.Start(base); err != nil {
+				t.Fatal(err)
+			}
+			y, err := w.Step(1, v)
+			y2, err2 := cs.Step(1, v)
+			for name, r := range map[string]struct {
+				y   float64
+				err error
+			}{"Walk": {y, err}, "Cones.Step": {y2, err2}} {
+				switch {
+				case bad >= 0 && s == bad:
+					var de *DomainError
+					if !errors.As(r.err, &de) || de.Msg != wantErr.Msg || de.Pos != wantErr.Pos {
+						t.Fatalf("formula %d, %s, point %d: %v %v, reference %v", f, name, s, r.y, r.err, wantErr)
+					}
+				case bad < 0 || s < bad:
+					if r.err != nil || math.Float64bits(r.y) != math.Float64bits(want[s]) {
+						t.Fatalf("formula %d, %s, point %d: %v %v, reference %v", f, name, s, r.y, r.err, want[s])
+					}
+				}
+			}
+			if bad >= 0 && s >= bad {
+				break
+			}
+			if err2 == nil {
+				cs.Rebase(base)
+			}
+		}
+	}
+	t.Logf("3000 formulas: %d failing once the branch switches, %d bases dirty", failing, dirty)
+	if failing < 100 || dirty < 50 {
+		t.Errorf("the test covers too little: %d failing, %d dirty", failing, dirty)
+	}
+}

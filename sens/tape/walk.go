@@ -16,16 +16,16 @@ import (
 // A step whose cone meets a non-finite value, or whose output is not
 // finite, is evaluated again whole by Eval, which finds the error, if any,
 // as it would, and leaves every value of the new point in place either
-// way. So is every step from a point with a non-finite value anywhere (in
-// a branch not taken): a value outside the cone may hide it (a comparison
-// of a NaN is 0) from a branch the step takes. A Walk is not safe for
+// way. So is every step from a point where an operation other than an if
+// could hide a non-finite value (see hides: a comparison of a NaN is 0) in
+// a branch not taken, which a step may take. A Walk is not safe for
 // concurrent use.
 type Walk struct {
 	t      *Tape // a clone of its own; its vals are the current point's
 	out    int
 	x      []float64
 	ok     bool // the current point has been evaluated without error
-	clean  bool // and every value it needs is finite
+	clean  bool // and no operation it needs hides a non-finite value
 	need   []bool
 	ustart []int32
 	users  []int32
@@ -117,15 +117,7 @@ func (w *Walk) Start(x []float64) (float64, error) {
 func (w *Walk) whole() (float64, error) {
 	y, err := w.t.Eval(w.x, w.out)
 	w.ok = err == nil
-	w.clean = w.ok
-	if w.ok {
-		for k, v := range w.t.vals[:len(w.need)] {
-			if w.need[k] && !finite(v) {
-				w.clean = false
-				break
-			}
-		}
-	}
+	w.clean = w.ok && !w.t.p.hides(w.t.vals, w.need)
 	return y, err
 }
 
