@@ -146,8 +146,9 @@ func (p *tapeProg) hides(vals []float64, need []bool) bool {
 // new base, so that a path of points each one input from the last (a
 // trajectory of elementary effects on a model of vectors) costs a cone a
 // point. It returns the output at the new point, or the error of Eval
-// there, which leaves c at its base. A base with a value that is not
-// finite, and a step whose cone meets one, are evaluated whole (Rebase).
+// there, which leaves c at its base. A step from a base that hides a
+// non-finite value (see hides), and one whose cone meets a non-finite
+// value, are evaluated whole (Rebase).
 func (c *Cones) Step(i int, v float64) (float64, error) {
 	p := c.t.p
 	if i < 0 || i >= p.nIn {
