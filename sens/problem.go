@@ -182,7 +182,7 @@ func (fn *Fn) Clone() Function {
 
 // Eval returns the formula's value at x.
 func (fn *Fn) Eval(x []float64) (float64, error) {
-	y, err := fn.tape.Eval(x, fn.f.out)
+	y, err := fn.tape.Value(x, fn.f.out)
 	if err != nil {
 		return math.NaN(), fn.prog.evalError(err, x)
 	}

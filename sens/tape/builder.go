@@ -446,5 +446,6 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 		p.outs[i] = idx[o]
 	}
 	p.findDirect()
+	p.findSpans()
 	return &Tape{p: p, vals: vals, adj: make([]float64, n)}
 }

@@ -33,7 +33,7 @@ func (t *Tape) GradientByNodes(dst, x []float64, i int) (float64, error) {
 	}
 	g := t.adj[:end]
 	g[out] = 1
-	p.reverseNodes(g, t.vals[:end], t.adj, dst, out, true)
+	p.reverseNodes(g, t.vals[:end], t.adj, dst, out, true, nil)
 	p.inputAdjoints(dst, g)
 	if !allFinite(dst) {
 		return t.Gradient(dst, x, i)

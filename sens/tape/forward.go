@@ -15,6 +15,7 @@ func (t *Tape) loadInputs(x []float64) {
 		panic(fmt.Sprintf("tape: %d inputs given, tape has %d", len(x), p.nIn))
 	}
 	copy(t.vals[:p.nIn], x)
+	t.xin = nil
 }
 
 // Forward evaluates every node for the inputs x (len NumInputs). It
@@ -42,12 +43,32 @@ func (t *Tape) Forward(x []float64) error {
 // Eval evaluates the nodes output i needs for the inputs x and returns
 // output i, or a *DomainError if it would be NaN or ±Inf. Other outputs
 // are left unchecked and may be stale.
-func (t *Tape) Eval(x []float64, i int) (float64, error) {
-	t.loadInputs(x)
+func (t *Tape) Eval(x []float64, i int) (float64, error) { return t.eval(x, i, false) }
+
+// Value returns output i at x, or a *DomainError, as Eval does, but reads
+// the inputs that only loop nodes use in place from x instead of copying
+// them onto the tape (on a roll-up over whole columns of inputs that copy
+// is most of the work). The tape's values of those inputs are then stale:
+// a Reverse that follows reads them from x, which must not change in
+// between; Eval and Forward copy every input again.
+func (t *Tape) Value(x []float64, i int) (float64, error) { return t.eval(x, i, true) }
+
+// eval is Eval, or Value when inPlace is set.
+func (t *Tape) eval(x []float64, i int, inPlace bool) (float64, error) {
+	if inPlace && t.p.direct != nil {
+		t.loadShared(x)
+	} else {
+		t.loadInputs(x)
+	}
 	out := t.p.outs[i]
 	bad := t.exec(i, t.p.end(i))
 	if !bad && finite(t.vals[out]) {
 		return t.vals[out], nil
+	}
+	if t.xin != nil {
+		// The search for the origin reads every value from the tape; the
+		// values it finds there are the same to the bit.
+		t.loadInputs(x)
 	}
 	if err := t.check(bad, t.p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
 		return math.NaN(), err
@@ -195,7 +216,7 @@ func (t *Tape) run(stop int) (bad bool) {
 		break
 	slow:
 		if ops[k] == opLoop { // a loop node fills its lanes too (vec.go)
-			if p.loopForward(v, k) {
+			if p.loopForwardIn(v, t.xin, k) {
 				bad = true
 			}
 			k += p.loopWidth(k)

@@ -14,6 +14,9 @@ import (
 // unbounded local derivative (sqrt at 0, asin at ±1) matters only where
 // it is used: there dst receives ±Inf or NaN. Gradient reports that as a
 // *DomainError; Reverse leaves it in dst.
+//
+// After Value or Gradient, the inputs only loop nodes read are read from
+// the x given there, which must not have changed since.
 func (t *Tape) Reverse(dst []float64, i int) []float64 {
 	return t.reverse(dst, i, false)
 }
@@ -51,9 +54,24 @@ func (t *Tape) reverse(dst []float64, i int, byNodes bool) []float64 {
 		p.inputAdjoints(dst, g)
 		return dst
 	}
-	p.clearAdjoints(t.adj, dst, end) // the inputs' too: an output that is an input ends below them
-	g[out] = 1
-	p.reverseNodes(g, v, t.adj, dst, out, false)
+	if byNodes {
+		// The error searches read every value and adjoint from the tape.
+		if t.xin != nil {
+			t.loadInputs(t.xin)
+		}
+		p.clearAdjoints(t.adj, dst, end) // the inputs' too: an output that is an input ends below them
+		g[out] = 1
+		p.reverseNodes(g, v, t.adj, dst, out, false, nil)
+	} else {
+		// The direct inputs' adjoints are written into dst by the loop
+		// nodes, or cleared by finish (vecpass.go).
+		p.clearShared(t.adj, end)
+		g[out] = 1
+		ls := &t.lp
+		ls.begin(p, dst, t.xin)
+		p.reverseNodes(g, v, t.adj, dst, out, false, ls)
+		ls.finish(p, dst)
+	}
 	t.adjUsed = true
 	p.inputAdjoints(dst, g)
 	return dst
@@ -65,7 +83,9 @@ func (t *Tape) reverse(dst []float64, i int, byNodes bool) []float64 {
 //
 // With consume, each node's adjoint is set back to 0 once read, as
 // reverseCode does; without, every adjoint stays, for reverseError.
-func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int, consume bool) {
+//
+// ls is the loop nodes' state (vecpass.go), nil in the error searches.
+func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int, consume bool, ls *loopPass) {
 	end := len(g)
 	ops := p.ops[:end]
 	as := p.a[:end]
@@ -129,10 +149,10 @@ func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int, consume bool)
 			}
 		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
 		case opLoop: // vec.go
-			p.loopReverse(v, adj, dst, k)
+			p.loopReverse(v, adj, dst, k, ls)
 		case opLane: // the first lane with an adjoint runs its loop node
 			h := int(a)
-			p.loopReverse(v, adj, dst, h)
+			p.loopReverse(v, adj, dst, h, ls)
 			k = h
 		default:
 			p.revDeriv(g, v, k, gk)
@@ -176,14 +196,19 @@ const defaultMaxReverseCode = 1 << 17
 // Gradient evaluates output i at x and its gradient: dst[j] = ∂ output_i
 // / ∂ x_j. It returns the output, or a *DomainError if the output or a
 // derivative on the way to it is NaN or ±Inf.
+//
+// The inputs only loop nodes read are read in place, as by Value.
 func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
-	f, err := t.Eval(x, i)
+	if f, ok, err := t.gradientDot(dst, x, i); ok {
+		return f, err
+	}
+	f, err := t.Value(x, i)
 	if err != nil {
 		return f, err
 	}
 	t.Reverse(dst, i)
-	if !allFinite(dst) {
-		t.reverse(dst, i, true) // every adjoint, for reverseError
+	if !t.lp.allFinite(t.p, dst) {
+		t.reverse(dst, i, true) // every value and adjoint, for reverseError
 		return f, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
 	}
 	return f, nil

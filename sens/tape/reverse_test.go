@@ -141,7 +141,7 @@ func TestReverseChainAgreesWithNodes(t *testing.T) {
 				ref.Eval(x, i)
 				p.clearAdjoints(ref.adj, want, end)
 				ref.adj[out] = 1
-				p.reverseNodes(ref.adj[:end], ref.vals[:end], ref.adj, want, out, false)
+				p.reverseNodes(ref.adj[:end], ref.vals[:end], ref.adj, want, out, false, nil)
 				p.inputAdjoints(want, ref.adj[:end])
 				ref.adjUsed = true
 				for j := range got {

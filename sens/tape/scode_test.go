@@ -164,7 +164,7 @@ func TestReverseCodeAgreesWithNodes(t *testing.T) {
 			end := p.end(0)
 			p.clearAdjoints(ref.adj, want, end)
 			ref.adj[out] = 1
-			p.reverseNodes(ref.adj[:end], ref.vals[:end], ref.adj, want, out, false)
+			p.reverseNodes(ref.adj[:end], ref.vals[:end], ref.adj, want, out, false, nil)
 			p.inputAdjoints(want, ref.adj[:end])
 			ref.adjUsed = true
 			for j := range got {

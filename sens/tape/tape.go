@@ -19,8 +19,17 @@ type tapeProg struct {
 	// reverse pass adds straight into its result (vec.go), and runs lists
 	// the runs of inputs [from, to) that are direct (odd entries) or not
 	// (even ones), in order; both nil when none is.
-	direct   []bool
-	runs     [][2]int
+	direct []bool
+	runs   [][2]int
+	// spans are the distinct runs of direct inputs the loop nodes read (a
+	// vector operand, or one input broadcast), and dspan[l][i] is the span
+	// of operand i of loop l, or -1 (vecpass.go); spans[s].shared is set
+	// for a span that overlaps another. fuse[l] is set for a sum loop l
+	// whose operand is a map that only it reads and that comes just before
+	// it, whose reverse pass it runs with its own adjoint.
+	spans    []span
+	dspan    [][3]int32
+	fuse     []bool
 	cache    planCache // plans of the batched passes, by output
 	planOnce sync.Once
 	canPlan  bool       // see plannable
@@ -71,6 +80,12 @@ type Tape struct {
 	// adjUsed is set when adj may hold a nonzero value at or above start:
 	// the reverse pass over the scalar code leaves those zero (see reverse).
 	adjUsed bool
+
+	// xin is the x of the last Value or Gradient, whose inputs that only
+	// loop nodes read were read there in place and not copied into vals
+	// (vecpass.go); nil after Eval or Forward, which copy every input.
+	xin []float64
+	lp  loopPass // the loop nodes' state in a reverse pass (vecpass.go)
 }
 
 // NumInputs returns the number of inputs.

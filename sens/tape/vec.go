@@ -666,29 +666,35 @@ func (p *tapeProg) endNode(o int) int {
 
 // loopForward evaluates the loop node at k over the values v and reports
 // whether a guard operation saw a non-finite operand.
-func (p *tapeProg) loopForward(v []float64, k int) (bad bool) {
+func (p *tapeProg) loopForward(v []float64, k int) (bad bool) { return p.loopForwardIn(v, nil, k) }
+
+// loopForwardIn is loopForward with the inputs that only loop nodes read
+// taken from xin in place, when xin is not nil (Value).
+func (p *tapeProg) loopForwardIn(v, xin []float64, k int) (bad bool) {
 	l := &p.loops[p.a[k]]
 	n := int(l.n)
 	x := int(l.arg[0])
+	vx := p.srcOf(v, xin, x)
 	switch l.kind {
 	case loopMap:
-		return l.mapForward(v, k)
+		return l.mapForward(v, vx, p.srcOf(v, xin, int(l.arg[1])), p.srcOf(v, xin, int(l.arg[2])), k)
 	case loopSum:
-		v[k] = sumOrdered(v[x:x+n], nil)
+		v[k] = sumOrdered(vx[x:x+n], nil)
 	case loopDot:
-		v[k] = sumOrdered(v[x:x+n], v[int(l.arg[1]):int(l.arg[1])+n])
+		y := int(l.arg[1])
+		v[k] = sumOrdered(vx[x:x+n], p.srcOf(v, xin, y)[y:y+n])
 	case loopMin, loopMax:
-		xs := v[x : x+n]
+		xs := vx[x : x+n]
 		v[k] = xs[l.best(xs)]
 		return !allFinite(xs)
 	case loopGather:
 		o := v[k : k+n]
 		for j, i := range l.idx {
-			o[j] = v[x+int(i)]
+			o[j] = vx[x+int(i)]
 		}
 	case loopGroup:
 		for g := range n {
-			v[k+g] = sumIndexed(v[x:x+int(l.src)], l.mem[l.mstart[g]:l.mstart[g+1]])
+			v[k+g] = sumIndexed(vx[x:x+int(l.src)], l.mem[l.mstart[g]:l.mstart[g+1]])
 		}
 	}
 	return false
@@ -819,58 +825,65 @@ func (l *loop) best(xs []float64) int {
 
 // mapForward evaluates a map node at k: the common arithmetic in loops of
 // its own, the rest through evalOp, the reference definition.
-func (l *loop) mapForward(v []float64, k int) (bad bool) {
+// The values of its operands x, y, z are read from vx, vy, vz (each v or
+// the inputs, see srcOf).
+func (l *loop) mapForward(v, vx, vy, vz []float64, k int) (bad bool) {
 	n := int(l.n)
 	o := v[k : k+n]
 	x, y, z := int(l.arg[0]), int(l.arg[1]), int(l.arg[2])
 	sx, sy, sz := int(l.step[0]), int(l.step[1]), int(l.step[2])
 	op := l.op
 	if (op == OpAdd || op == OpMul) && sx == 0 { // commutative: the scalar on the right
-		x, y, sx, sy = y, x, sy, sx
+		x, y, sx, sy, vx, vy = y, x, sy, sx, vy, vx
 	}
 	switch {
 	case op == OpAdd && sy == 1:
-		for j, a := range v[x : x+n] {
-			o[j] = a + v[y+j]
+		ys := vy[y : y+n]
+		for j, a := range vx[x : x+n] {
+			o[j] = a + ys[j]
 		}
 	case op == OpAdd:
-		c := v[y]
-		for j, a := range v[x : x+n] {
+		c := vy[y]
+		for j, a := range vx[x : x+n] {
 			o[j] = a + c
 		}
 	case op == OpMul && sy == 1:
-		for j, a := range v[x : x+n] {
-			o[j] = a * v[y+j]
+		ys := vy[y : y+n]
+		for j, a := range vx[x : x+n] {
+			o[j] = a * ys[j]
 		}
 	case op == OpMul:
-		c := v[y]
-		for j, a := range v[x : x+n] {
+		c := vy[y]
+		for j, a := range vx[x : x+n] {
 			o[j] = a * c
 		}
 	case op == OpSub && sx == 1 && sy == 1:
-		for j, a := range v[x : x+n] {
-			o[j] = a - v[y+j]
+		ys := vy[y : y+n]
+		for j, a := range vx[x : x+n] {
+			o[j] = a - ys[j]
 		}
 	case op == OpSub && sx == 1:
-		c := v[y]
-		for j, a := range v[x : x+n] {
+		c := vy[y]
+		for j, a := range vx[x : x+n] {
 			o[j] = a - c
 		}
 	case op == OpDiv && sx == 1 && sy == 0:
-		c := v[y]
-		for j, a := range v[x : x+n] {
+		c := vy[y]
+		for j, a := range vx[x : x+n] {
 			o[j] = a / c
 		}
 	default:
 		for j := range o {
-			o[j] = evalOp(op, v[x+j*sx], v[y+j*sy], v[z+j*sz])
+			o[j] = evalOp(op, vx[x+j*sx], vy[y+j*sy], vz[z+j*sz])
 		}
 	}
 	if !opMetas[op].guard {
 		return false
 	}
-	ok := true
-	l.operands(func(first, m int32) { ok = ok && allFinite(v[first:first+m]) })
+	ok := allFinite(vx[x:x+max(1, n*sx)]) && allFinite(vy[y:y+max(1, n*sy)])
+	if op.Arity() == 3 {
+		ok = ok && allFinite(vz[z:z+max(1, n*sz)])
+	}
 	return !ok
 }
 
@@ -941,16 +954,30 @@ func adjoint(op Op, gk, x, y, z, v float64) (da, db, dc float64) {
 // to the adjoints g of its operands what the adjoints of its elements
 // send back. Adding zero changes no adjoint (an adjoint is never -0: it
 // starts at +0), so the amounts are added whatever they are.
-func (p *tapeProg) loopReverse(v, adj, dst []float64, k int) {
-	l := &p.loops[p.a[k]]
+//
+// With ls (a pass of Value or Gradient; nil in the error searches), the
+// inputs only loop nodes read are read from ls.xin when it is not nil, and
+// the shapes loopReverseFast knows write their adjoints into dst without
+// its clearing them first (vecpass.go).
+func (p *tapeProg) loopReverse(v, adj, dst []float64, k int, ls *loopPass) {
+	li := p.a[k]
+	l := &p.loops[li]
 	n := int(l.n)
 	x, y := int(l.arg[0]), int(l.arg[1])
+	vx, vy, vz := v, v, v
+	if ls != nil {
+		if p.loopReverseFast(v, adj, dst, k, li, ls) {
+			return
+		}
+		ls.prepare(p, dst, li)
+		vx, vy, vz = p.srcOf(v, ls.xin, x), p.srcOf(v, ls.xin, y), p.srcOf(v, ls.xin, int(l.arg[2]))
+	}
 	// Each operand's adjoints: in dst for an input only loop nodes read.
 	gx, gy := p.adjOf(adj, dst, x), p.adjOf(adj, dst, y)
 	g := adj
 	switch l.kind {
 	case loopMap:
-		if p.mapReverse(l, v, adj, gx, gy, k) {
+		if p.mapReverse(l, v, vx, vy, adj, gx, gy, k) {
 			return
 		}
 		gz := p.adjOf(adj, dst, int(l.arg[2]))
@@ -963,7 +990,7 @@ func (p *tapeProg) loopReverse(v, adj, dst []float64, k int) {
 				continue
 			}
 			xi, yi, zi := x+j*sx, y+j*sy, z+j*sz
-			da, db, dc := adjoint(l.op, gk, v[xi], v[yi], v[zi], v[k+j])
+			da, db, dc := adjoint(l.op, gk, vx[xi], vy[yi], vz[zi], v[k+j])
 			gx[xi] += da
 			if ar >= 2 {
 				gy[yi] += db
@@ -980,7 +1007,7 @@ func (p *tapeProg) loopReverse(v, adj, dst []float64, k int) {
 		}
 	case loopDot:
 		if gk := g[k]; gk != 0 {
-			xs, ys, ax, ay := v[x:x+n], v[y:y+n], gx[x:x+n], gy[y:y+n]
+			xs, ys, ax, ay := vx[x:x+n], vy[y:y+n], gx[x:x+n], gy[y:y+n]
 			for j := n - 1; j >= 0; j-- {
 				ax[j] += gk * ys[j]
 				ay[j] += gk * xs[j]
@@ -988,7 +1015,7 @@ func (p *tapeProg) loopReverse(v, adj, dst []float64, k int) {
 		}
 	case loopMin, loopMax:
 		if gk := g[k]; gk != 0 {
-			gx[x+l.best(v[x:x+n])] += gk
+			gx[x+l.best(vx[x:x+n])] += gk
 		}
 	case loopGather:
 		for j := n - 1; j >= 0; j-- {
@@ -1125,7 +1152,8 @@ func (p *tapeProg) inputAdjoints(dst, g []float64) {
 // whether it did; the amounts are adjoint's. A constant operand gets no
 // adjoint (no pass reads one); a scalar input or node does, the elements'
 // amounts added last element first, as the scalar operations would.
-func (p *tapeProg) mapReverse(l *loop, v, adj, ax, ay []float64, k int) bool {
+// The operands' values are read from vx and vy (see srcOf).
+func (p *tapeProg) mapReverse(l *loop, v, vx, vy, adj, ax, ay []float64, k int) bool {
 	n := int(l.n)
 	x, y := int(l.arg[0]), int(l.arg[1])
 	sx, sy := l.step[0], l.step[1]
@@ -1133,7 +1161,7 @@ func (p *tapeProg) mapReverse(l *loop, v, adj, ax, ay []float64, k int) bool {
 	gk := adj[k : k+n]
 	switch {
 	case l.op == OpMul && sx == 1 && sy == 1:
-		xs, ys, gx, gy := v[x:x+n], v[y:y+n], ax[x:x+n], ay[y:y+n]
+		xs, ys, gx, gy := vx[x:x+n], vy[y:y+n], ax[x:x+n], ay[y:y+n]
 		for j := n - 1; j >= 0; j-- {
 			if a := gk[j]; a != 0 {
 				gx[j] += a * ys[j]
@@ -1142,9 +1170,9 @@ func (p *tapeProg) mapReverse(l *loop, v, adj, ax, ay []float64, k int) bool {
 		}
 	case l.op == OpMul && sx+sy == 1:
 		if sx == 0 {
-			x, y, ax, ay = y, x, ay, ax // the vector first; x*y is y*x to the bit
+			x, y, ax, ay, vx, vy = y, x, ay, ax, vy, vx // the vector first; x*y is y*x to the bit
 		}
-		xs, gx, c := v[x:x+n], ax[x:x+n], v[y]
+		xs, gx, c := vx[x:x+n], ax[x:x+n], vy[y]
 		acc, own := ay[y], !konst(y)
 		for j := n - 1; j >= 0; j-- {
 			if a := gk[j]; a != 0 {

@@ -1,0 +1,683 @@
+package tape
+
+import (
+	"math"
+	"sort"
+)
+
+// The inputs only loop nodes read, in the scalar passes.
+//
+// A roll-up over whole columns of inputs (Σ qty × unit cost over 100,000
+// lines) does little arithmetic an input, so copying the inputs onto the
+// tape and clearing and copying out their adjoints would be most of its
+// work. Value and Gradient read those inputs (tapeProg.direct) in place
+// from x, and the reverse pass writes their adjoints straight into the
+// caller's gradient: the first loop node to write a run of them assigns
+// (0 + amount, as the sum from zero would give), later ones add, and the
+// runs nobody wrote are cleared at the end. A sum of a map that only it
+// reads runs the map's reverse pass with its own adjoint, so the map's
+// adjoints are never stored. Every value and adjoint is the same to the
+// bit as by the passes over the tape's own buffers, which stay the
+// reference: Eval, Forward and the error searches use them.
+
+// span is a run of direct inputs a loop node reads: a vector operand, or
+// one input broadcast. shared is set when it overlaps another span.
+type span struct {
+	first, n int32
+	shared   bool
+}
+
+// loopPass is a Tape's state in a reverse pass through loop nodes.
+type loopPass struct {
+	xin  []float64 // the inputs in place, or nil when all are on the tape
+	seen []uint32  // per span: the pass that last wrote it
+	pass uint32
+	// proven, per span written in this pass: its adjoints are finite, as
+	// shown by the amounts stored there (see sure).
+	proven []bool
+}
+
+// loadShared copies into the input slots the inputs that a pass reads from
+// the tape, leaving the direct ones in x (xin), and checks x's length.
+func (t *Tape) loadShared(x []float64) {
+	p := t.p
+	t.loadInputsCheck(x)
+	for i := 0; i < len(p.runs); i += 2 {
+		r := p.runs[i]
+		copy(t.vals[r[0]:r[1]], x[r[0]:r[1]])
+	}
+	t.xin = x
+}
+
+// loadInputsCheck panics when x is not one value an input.
+func (t *Tape) loadInputsCheck(x []float64) {
+	if len(x) != t.p.nIn {
+		t.loadInputs(x) // panics with the message
+	}
+}
+
+// srcOf returns where the value of slot s is read: xin for an input only
+// loop nodes read when xin is not nil, else the tape's values v.
+func (p *tapeProg) srcOf(v, xin []float64, s int) []float64 {
+	if xin != nil && s < p.nIn && p.direct[s] {
+		return xin
+	}
+	return v
+}
+
+// findSpans finds the spans of direct inputs, the span of each loop
+// operand, and the sums that run the reverse pass of their map (fuse).
+func (p *tapeProg) findSpans() {
+	if len(p.loops) == 0 {
+		return
+	}
+	p.findFuse()
+	if p.direct == nil {
+		return
+	}
+	p.dspan = make([][3]int32, len(p.loops))
+	at := map[[2]int32]int32{}
+	for li := range p.loops {
+		l := &p.loops[li]
+		p.dspan[li] = [3]int32{-1, -1, -1}
+		nops := 1 // operands: a dot's third argument is not one
+		switch l.kind {
+		case loopMap:
+			nops = 3
+		case loopDot:
+			nops = 2
+		}
+		for i := range nops {
+			first := l.arg[i]
+			if int(first) >= p.nIn || !p.direct[first] {
+				continue
+			}
+			n := int32(1)
+			switch {
+			case l.kind == loopMap && l.step[i] == 0:
+			case l.kind == loopGather || l.kind == loopGroup:
+				n = l.src
+			default:
+				n = l.n
+			}
+			key := [2]int32{first, n}
+			r, ok := at[key]
+			if !ok {
+				r = int32(len(p.spans))
+				at[key] = r
+				p.spans = append(p.spans, span{first: first, n: n})
+			}
+			p.dspan[li][i] = r
+		}
+	}
+	// Overlapping spans are cleared before the pass and only added to.
+	order := make([]int, len(p.spans))
+	for i := range order {
+		order[i] = i
+	}
+	sort.Slice(order, func(a, b int) bool { return p.spans[order[a]].first < p.spans[order[b]].first })
+	end, last := int32(-1), -1
+	for _, i := range order {
+		s := &p.spans[i]
+		if s.first < end {
+			s.shared = true
+			p.spans[last].shared = true
+		}
+		if s.first+s.n > end {
+			end, last = s.first+s.n, i
+		}
+	}
+}
+
+// findFuse marks the sum loops whose operand is a map, of a shape
+// fusedMapReverse knows, that comes just before the sum and that nothing
+// else reads: not an operation, not an output, not another loop node.
+func (p *tapeProg) findFuse() {
+	type cand struct{ lo, hi, li int32 } // the map's slots, the sum's loop
+	var cands []cand
+	for k := p.start; k < len(p.ops); k++ {
+		if p.ops[k] != opLoop {
+			continue
+		}
+		l := &p.loops[p.a[k]]
+		x := l.arg[0]
+		if l.kind != loopSum || p.ops[x] != opLoop {
+			continue
+		}
+		m := &p.loops[p.a[x]]
+		if m.kind == loopMap && int(x)+int(m.n) == k && m.n == l.n && fusable(m) {
+			cands = append(cands, cand{x, int32(k), p.a[k]})
+		}
+	}
+	if len(cands) == 0 {
+		return
+	}
+	ok := make([]bool, len(cands))
+	for i := range ok {
+		ok[i] = true
+	}
+	// read marks the candidates whose slots [lo, hi) a reader other than
+	// the sum li touches.
+	read := func(lo, hi, li int32) {
+		i := sort.Search(len(cands), func(i int) bool { return cands[i].hi > lo })
+		for ; i < len(cands) && cands[i].lo < hi; i++ {
+			if cands[i].li != li {
+				ok[i] = false
+			}
+		}
+	}
+	for k := p.start; k < len(p.ops); k++ {
+		switch op := p.ops[k]; op {
+		case opLane:
+		case opLoop:
+			li := p.a[k]
+			p.loops[li].operands(func(first, n int32) { read(first, first+n, li) })
+		default:
+			read(p.a[k], p.a[k]+1, -1)
+			if op != opArg {
+				read(p.b[k], p.b[k]+1, -1)
+			}
+		}
+	}
+	for _, o := range p.outs {
+		read(o, o+1, -1)
+	}
+	for i, c := range cands {
+		if ok[i] {
+			if p.fuse == nil {
+				p.fuse = make([]bool, len(p.loops))
+			}
+			p.fuse[c.li] = true
+		}
+	}
+}
+
+// fusable reports whether fusedMapReverse knows the shape of map m: a
+// product of two vectors or of a vector and a scalar, a vector plus or
+// minus a vector or a scalar.
+func fusable(m *loop) bool {
+	sx, sy := m.step[0], m.step[1]
+	if sx == 1 && sy == 1 && !disjoint(int(m.arg[0]), int(m.arg[1]), int(m.n)) {
+		return false
+	}
+	switch m.op {
+	case OpMul:
+		return sx+sy >= 1
+	case OpAdd, OpSub:
+		return sx == 1
+	}
+	return false
+}
+
+// clearShared clears, before a reverse pass of the output whose nodes end
+// at end, the tape's adjoints up to there and those of the inputs not
+// direct (clearAdjoints without dst).
+func (p *tapeProg) clearShared(adj []float64, end int) {
+	if p.direct == nil {
+		clear(adj[:max(end, p.nIn)])
+		return
+	}
+	if end > p.nIn {
+		clear(adj[p.nIn:end])
+	}
+	for i := 0; i < len(p.runs); i += 2 {
+		r := p.runs[i]
+		clear(adj[r[0]:r[1]])
+	}
+}
+
+// begin starts a reverse pass: the direct inputs' values are in xin (or
+// on the tape when it is nil), and the spans shared between operands are
+// cleared in dst now, as nobody assigns them.
+func (ls *loopPass) begin(p *tapeProg, dst, xin []float64) {
+	ls.xin = xin
+	if len(ls.seen) != len(p.spans) {
+		ls.seen = make([]uint32, len(p.spans))
+		ls.proven = make([]bool, len(p.spans))
+		ls.pass = 0
+	}
+	ls.pass++
+	if ls.pass == 0 {
+		clear(ls.seen)
+		ls.pass = 1
+	}
+	for r, s := range p.spans {
+		if s.shared {
+			clear(dst[s.first : s.first+s.n])
+			ls.seen[r] = ls.pass
+			ls.proven[r] = false
+		}
+	}
+}
+
+// finish clears in dst the spans no loop node wrote.
+func (ls *loopPass) finish(p *tapeProg, dst []float64) {
+	for r, s := range p.spans {
+		if ls.seen[r] != ls.pass {
+			clear(dst[s.first : s.first+s.n])
+			ls.seen[r] = ls.pass
+			ls.proven[r] = true
+		}
+	}
+}
+
+// allFinite reports whether the gradient dst of the last reverse pass
+// with ls is finite: the inputs' adjoints copied from the tape's buffer
+// and those of the spans not proven finite are tested.
+func (ls *loopPass) allFinite(p *tapeProg, dst []float64) bool {
+	if p.direct == nil || len(ls.proven) != len(p.spans) {
+		return allFinite(dst)
+	}
+	for i := 0; i < len(p.runs); i += 2 {
+		if r := p.runs[i]; !allFinite(dst[r[0]:r[1]]) {
+			return false
+		}
+	}
+	for r, s := range p.spans {
+		if !ls.proven[r] && !allFinite(dst[s.first:s.first+s.n]) {
+			return false
+		}
+	}
+	return true
+}
+
+// sure marks operand i of loop li, whose span the caller has just stored
+// whole (set, from fresh), as proven finite when ok.
+func (ls *loopPass) sure(p *tapeProg, li int32, i int, set, ok bool) {
+	if set && ok {
+		ls.proven[p.dspan[li][i]] = true
+	}
+}
+
+// fresh reports whether operand i of loop li is a span of direct inputs
+// not written yet in this pass, which the caller then writes whole; either
+// way the span counts as written from now on.
+func (ls *loopPass) fresh(p *tapeProg, li int32, i int) bool {
+	if p.dspan == nil {
+		return false
+	}
+	r := p.dspan[li][i]
+	if r < 0 {
+		return false
+	}
+	ls.proven[r] = false // until sure says otherwise
+	if ls.seen[r] == ls.pass {
+		return false
+	}
+	ls.seen[r] = ls.pass
+	return true
+}
+
+// prepare clears in dst the spans of the operands of loop li not written
+// yet, for a reverse pass through it that adds to its operands' adjoints.
+func (ls *loopPass) prepare(p *tapeProg, dst []float64, li int32) {
+	for i := range 3 {
+		if ls.fresh(p, li, i) {
+			s := p.spans[p.dspan[li][i]]
+			clear(dst[s.first : s.first+s.n])
+		}
+	}
+}
+
+// scaleInto adds a*xs[j] to d[j], or with set stores it plus zero (the sum
+// from zero: -0 becomes +0), for every j.
+func scaleInto(d, xs []float64, a float64, set bool) {
+	xs = xs[:len(d)]
+	j := 0
+	if set {
+		for ; j+4 <= len(d); j += 4 {
+			x, o := (*[4]float64)(xs[j:]), (*[4]float64)(d[j:])
+			o[0] = float64(a*x[0]) + 0
+			o[1] = float64(a*x[1]) + 0
+			o[2] = float64(a*x[2]) + 0
+			o[3] = float64(a*x[3]) + 0
+		}
+		for ; j < len(d); j++ {
+			d[j] = float64(a*xs[j]) + 0
+		}
+		return
+	}
+	for ; j+4 <= len(d); j += 4 {
+		x, o := (*[4]float64)(xs[j:]), (*[4]float64)(d[j:])
+		o[0] += float64(a * x[0])
+		o[1] += float64(a * x[1])
+		o[2] += float64(a * x[2])
+		o[3] += float64(a * x[3])
+	}
+	for ; j < len(d); j++ {
+		d[j] += float64(a * xs[j])
+	}
+}
+
+// addInto adds a to every d[j], or with set stores it (a is an adjoint or
+// its negation, never -0 where it is stored: see scaleInto).
+func addInto(d []float64, a float64, set bool) {
+	if set {
+		a += 0
+		for j := range d {
+			d[j] = a
+		}
+		return
+	}
+	for j := range d {
+		d[j] += a
+	}
+}
+
+// mulInto adds g[j]*xs[j] to d[j] where g[j] is not zero, or with set
+// stores it plus zero, and zero where g[j] is.
+func mulInto(d, g, xs []float64, set bool) {
+	g, xs = g[:len(d)], xs[:len(d)]
+	if set {
+		for j, a := range g {
+			r := 0.0
+			if a != 0 {
+				r = float64(a*xs[j]) + 0
+			}
+			d[j] = r
+		}
+		return
+	}
+	for j, a := range g {
+		if a != 0 {
+			d[j] += float64(a * xs[j])
+		}
+	}
+}
+
+// copyInto adds sign*g[j] to d[j], or with set stores it plus zero.
+func copyInto(d, g []float64, sign float64, set bool) {
+	g = g[:len(d)]
+	switch {
+	case set && sign > 0:
+		for j, a := range g {
+			d[j] = a + 0
+		}
+	case set:
+		for j, a := range g {
+			d[j] = float64(sign*a) + 0
+		}
+	case sign > 0:
+		for j, a := range g {
+			d[j] += a
+		}
+	default:
+		for j, a := range g {
+			d[j] += float64(sign * a)
+		}
+	}
+}
+
+// disjoint reports whether the runs [x, x+n) and [y, y+n) are one run or
+// share no slot, so that adding one operand's amounts over all its
+// elements and then the other's adds, slot by slot, in the order of the
+// element-by-element loop.
+func disjoint(x, y, n int) bool { return x == y || x+n <= y || y+n <= x }
+
+// loopReverseFast runs the reverse pass through the loop node at k (loop
+// li) for the shapes it knows, writing the adjoints of direct inputs into
+// dst, and reports whether it did.
+func (p *tapeProg) loopReverseFast(v, adj, dst []float64, k int, li int32, ls *loopPass) bool {
+	l := &p.loops[li]
+	n := int(l.n)
+	x, y := int(l.arg[0]), int(l.arg[1])
+	switch l.kind {
+	case loopDot:
+		if !disjoint(x, y, n) {
+			return false
+		}
+		a := adj[k]
+		if a == 0 {
+			return true
+		}
+		// A finite sum of products has finite factors, and a factor times
+		// an adjoint of at most 1 in size stays finite.
+		ok := finite(v[k]) && math.Abs(a) <= 1
+		xs, ys := p.srcOf(v, ls.xin, x)[x:x+n], p.srcOf(v, ls.xin, y)[y:y+n]
+		set := ls.fresh(p, li, 0)
+		scaleInto(p.adjOf(adj, dst, x)[x:x+n], ys, a, set)
+		ls.sure(p, li, 0, set, ok)
+		set = ls.fresh(p, li, 1)
+		scaleInto(p.adjOf(adj, dst, y)[y:y+n], xs, a, set)
+		ls.sure(p, li, 1, set, ok)
+		return true
+	case loopSum:
+		a := adj[k]
+		if a == 0 {
+			return true
+		}
+		if p.fuse != nil && p.fuse[li] {
+			return p.fusedMapReverse(v, adj, dst, x, a, finite(v[k]), ls)
+		}
+		set := ls.fresh(p, li, 0)
+		addInto(p.adjOf(adj, dst, x)[x:x+n], a, set)
+		ls.sure(p, li, 0, set, finite(a))
+		return true
+	case loopMap:
+		return p.mapReverseFast(l, v, adj, dst, k, li, ls)
+	}
+	return false
+}
+
+// fusedMapReverse runs the reverse pass of the map at km, every element of
+// which has the adjoint a (the sum that reads it sends a to each): the
+// amounts of mapReverse for a uniform adjoint, without storing it. sum is
+// whether the sum is finite, and so every element of the map.
+func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum bool, ls *loopPass) bool {
+	li := p.a[km]
+	m := &p.loops[li]
+	n := int(m.n)
+	x, y := int(m.arg[0]), int(m.arg[1])
+	sx, sy := m.step[0], m.step[1]
+	vx, vy := p.srcOf(v, ls.xin, x), p.srcOf(v, ls.xin, y)
+	ax, ay := p.adjOf(adj, dst, x), p.adjOf(adj, dst, y)
+	konst := func(s int) bool { return s >= p.nIn && s < p.start }
+	switch {
+	case m.op == OpMul && sx == 1 && sy == 1:
+		ok := sum && math.Abs(a) <= 1 // as for a dot product
+		set := ls.fresh(p, li, 0)
+		scaleInto(ax[x:x+n], vy[y:y+n], a, set)
+		ls.sure(p, li, 0, set, ok)
+		set = ls.fresh(p, li, 1)
+		scaleInto(ay[y:y+n], vx[x:x+n], a, set)
+		ls.sure(p, li, 1, set, ok)
+	case m.op == OpMul:
+		i0, i1 := 0, 1
+		if sx == 0 {
+			x, y, vx, vy, ax, ay, i0, i1 = y, x, vy, vx, ay, ax, 1, 0 // the vector first
+		}
+		c := vy[y]
+		fx := ls.fresh(p, li, i0)
+		addInto(ax[x:x+n], float64(a*c), fx)
+		ls.sure(p, li, i0, fx, finite(a*c))
+		fy := ls.fresh(p, li, i1)
+		if !konst(y) {
+			acc := ay[y]
+			if fy {
+				acc = 0
+			}
+			xs := vx[x : x+n]
+			for j := n - 1; j >= 0; j-- {
+				acc += float64(a * xs[j])
+			}
+			ay[y] = acc
+		}
+	default: // + or - with the vector first
+		fx := ls.fresh(p, li, 0)
+		addInto(ax[x:x+n], a, fx)
+		ls.sure(p, li, 0, fx, finite(a))
+		b := a
+		if m.op == OpSub {
+			b = -a
+		}
+		fy := ls.fresh(p, li, 1)
+		if sy == 1 {
+			addInto(ay[y:y+n], b, fy)
+			ls.sure(p, li, 1, fy, finite(a))
+		} else if !konst(y) {
+			acc := ay[y]
+			if fy {
+				acc = 0
+			}
+			for range n {
+				acc += b
+			}
+			ay[y] = acc
+		}
+	}
+	return true
+}
+
+// mapReverseFast runs the reverse pass through the map at k for a product
+// of two vectors and a vector plus or minus a vector, writing the
+// adjoints of direct inputs into dst, and reports whether it did.
+func (p *tapeProg) mapReverseFast(l *loop, v, adj, dst []float64, k int, li int32, ls *loopPass) bool {
+	n := int(l.n)
+	x, y := int(l.arg[0]), int(l.arg[1])
+	if l.step[0] != 1 || l.step[1] != 1 || !disjoint(x, y, n) {
+		return false
+	}
+	gk := adj[k : k+n]
+	ax, ay := p.adjOf(adj, dst, x)[x:x+n], p.adjOf(adj, dst, y)[y:y+n]
+	switch l.op {
+	case OpMul:
+		xs, ys := p.srcOf(v, ls.xin, x)[x:x+n], p.srcOf(v, ls.xin, y)[y:y+n]
+		mulInto(ax, gk, ys, ls.fresh(p, li, 0))
+		mulInto(ay, gk, xs, ls.fresh(p, li, 1))
+	case OpAdd, OpSub:
+		sign := 1.0
+		if l.op == OpSub {
+			sign = -1
+		}
+		copyInto(ax, gk, 1, ls.fresh(p, li, 0))
+		copyInto(ay, gk, sign, ls.fresh(p, li, 1))
+	default:
+		return false
+	}
+	return true
+}
+
+// dotGrad returns sumOrdered(xs, ys) and, block by block while the block's
+// terms are in cache, adds a*ys[j] to dx[j] and a*xs[j] to dy[j] (or
+// stores them, with setx and sety, as scaleInto does): the forward and the
+// reverse pass of a dot product whose adjoint a is known before its value,
+// in one pass over its operands. dx and dy are one run or disjoint.
+func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety bool) float64 {
+	n := len(xs)
+	ys, dx, dy = ys[:n], dx[:n], dy[:n]
+	if n <= sumBlock {
+		s := sumLeaf(xs, ys)
+		scaleInto(dx, ys, a, setx)
+		scaleInto(dy, xs, a, sety)
+		return s
+	}
+	var st [64]float64
+	var ht [64]uint8
+	sp := 0
+	for lo := 0; lo < n; lo += sumBlock {
+		hi := min(lo+sumBlock, n)
+		switch {
+		case hi-lo == sumBlock && setx && sety:
+			st[sp] = dotStore((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]),
+				(*[sumBlock]float64)(dx[lo:]), (*[sumBlock]float64)(dy[lo:]), a)
+		case hi-lo == sumBlock:
+			st[sp] = dotFull((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]))
+		default:
+			st[sp] = sumLeaf(xs[lo:hi], ys[lo:hi])
+		}
+		if hi-lo < sumBlock || !setx || !sety {
+			scaleInto(dx[lo:hi], ys[lo:hi], a, setx)
+			scaleInto(dy[lo:hi], xs[lo:hi], a, sety)
+		}
+		ht[sp] = 0
+		sp++
+		for sp >= 2 && ht[sp-2] == ht[sp-1] {
+			st[sp-2] += st[sp-1]
+			ht[sp-2]++
+			sp--
+		}
+	}
+	for sp >= 2 {
+		st[sp-2] += st[sp-1]
+		sp--
+	}
+	return st[0]
+}
+
+// gradientDot is Gradient for an output that is a dot product whose
+// operands are disjoint runs: its adjoint is 1 before anything is
+// evaluated, so its value and its operands' adjoints come from one pass
+// over them (dotGrad); the rest of the tape is evaluated before it and
+// differentiated after it as usual. ok is false, and nothing done, for
+// another output. On a domain error of the forward pass dst may have been
+// written.
+func (t *Tape) gradientDot(dst, x []float64, i int) (f float64, ok bool, err error) {
+	p := t.p
+	out := int(p.outs[i])
+	if p.direct == nil || p.ops[out] != opLoop {
+		return 0, false, nil
+	}
+	li := p.a[out]
+	l := &p.loops[li]
+	n, xa, ya := int(l.n), int(l.arg[0]), int(l.arg[1])
+	if l.kind != loopDot || !disjoint(xa, ya, n) {
+		return 0, false, nil
+	}
+	if len(dst) != p.nIn {
+		t.reverse(dst, i, false) // panics with the message
+	}
+	t.loadShared(x)
+	bad := t.run(out) // the nodes before the output
+	end := out + 1
+	v, g := t.vals[:end], t.adj[:end]
+	p.clearShared(t.adj, end)
+	ls := &t.lp
+	ls.begin(p, dst, x)
+	xs, ys := p.srcOf(v, x, xa)[xa:xa+n], p.srcOf(v, x, ya)[ya:ya+n]
+	ax, ay := p.adjOf(t.adj, dst, xa)[xa:xa+n], p.adjOf(t.adj, dst, ya)[ya:ya+n]
+	setx := ls.fresh(p, li, 0)
+	sety := ls.fresh(p, li, 1) // false when the same span as x: x's amounts are stored first
+	v[out] = dotGrad(xs, ys, ax, ay, 1, setx, sety)
+	if bad || !finite(v[out]) {
+		t.loadInputs(x)
+		if err := t.check(bad, p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
+			return math.NaN(), true, err
+		}
+		t.xin = x // the values are on the tape too; the pass reads either
+	}
+	sure := finite(v[out]) // see loopReverseFast
+	ls.sure(p, li, 0, setx, sure)
+	ls.sure(p, li, 1, sety, sure)
+	p.reverseNodes(g, v, t.adj, dst, out, false, ls) // g[out] is 0: the output is done
+	ls.finish(p, dst)
+	t.adjUsed = true
+	p.inputAdjoints(dst, g)
+	f = v[out]
+	if !ls.allFinite(p, dst) {
+		t.reverse(dst, i, true) // every value and adjoint, for reverseError
+		return f, true, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
+	}
+	return f, true, nil
+}
+
+// dotStore is dotFull of a block, which also stores a*y[j] + 0 in dx[j] and
+// a*x[j] + 0 in dy[j] (scaleInto with set) as it goes.
+func dotStore(x, y, dx, dy *[sumBlock]float64, a float64) float64 {
+	s0, s1 := float64(x[0]*y[0]), float64(x[1]*y[1])
+	s2, s3 := float64(x[2]*y[2]), float64(x[3]*y[3])
+	for j := 0; j < sumLanes; j++ {
+		dx[j] = float64(a*y[j]) + 0
+		dy[j] = float64(a*x[j]) + 0
+	}
+	for j := sumLanes; j < sumBlock; j += 4 {
+		x0, x1, x2, x3 := x[j], x[j+1], x[j+2], x[j+3]
+		y0, y1, y2, y3 := y[j], y[j+1], y[j+2], y[j+3]
+		s0 += float64(x0 * y0)
+		s1 += float64(x1 * y1)
+		s2 += float64(x2 * y2)
+		s3 += float64(x3 * y3)
+		dx[j], dx[j+1], dx[j+2], dx[j+3] = float64(a*y0)+0, float64(a*y1)+0, float64(a*y2)+0, float64(a*y3)+0
+		dy[j], dy[j+1], dy[j+2], dy[j+3] = float64(a*x0)+0, float64(a*x1)+0, float64(a*x2)+0, float64(a*x3)+0
+	}
+	return (s0 + s1) + (s2 + s3)
+}
