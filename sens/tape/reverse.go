@@ -197,7 +197,8 @@ const defaultMaxReverseCode = 1 << 17
 // / ∂ x_j. It returns the output, or a *DomainError if the output or a
 // derivative on the way to it is NaN or ±Inf.
 //
-// The inputs only loop nodes read are read in place, as by Value.
+// The inputs only loop nodes read are read in place, as by Value, so dst
+// must not share memory with x.
 func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
 	if f, ok, err := t.gradientDot(dst, x, i); ok {
 		return f, err
