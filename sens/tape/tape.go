@@ -30,6 +30,7 @@ type tapeProg struct {
 	spans    []span
 	dspan    [][3]int32
 	fuse     []bool
+	chain    []int8
 	cache    planCache // plans of the batched passes, by output
 	planOnce sync.Once
 	canPlan  bool       // see plannable

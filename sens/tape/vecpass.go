@@ -132,21 +132,43 @@ func (p *tapeProg) findSpans() {
 // findFuse marks the sum loops whose operand is a map, of a shape
 // fusedMapReverse knows, that comes just before the sum and that nothing
 // else reads: not an operation, not an output, not another loop node.
+//
+// It also marks the maps by a scalar and the sums and differences whose
+// vector operand i is such a map, just before them and read by nothing
+// else (chain[l] = i+1): when the sum runs their pass, every element of
+// that operand has one adjoint too, and they run its pass in turn.
 func (p *tapeProg) findFuse() {
-	type cand struct{ lo, hi, li int32 } // the map's slots, the sum's loop
+	type cand struct {
+		lo, hi, li int32 // the map's slots, its reader's loop
+		op         int8  // the reader's operand, or -1 for a sum
+	}
 	var cands []cand
 	for k := p.start; k < len(p.ops); k++ {
 		if p.ops[k] != opLoop {
 			continue
 		}
 		l := &p.loops[p.a[k]]
-		x := l.arg[0]
-		if l.kind != loopSum || p.ops[x] != opLoop {
-			continue
+		before := func(i int) (*loop, bool) { // operand i, a map just before k
+			x := l.arg[i]
+			if p.ops[x] != opLoop {
+				return nil, false
+			}
+			m := &p.loops[p.a[x]]
+			return m, m.kind == loopMap && int(x)+int(m.n) == k && m.n == l.n && fusable(m)
 		}
-		m := &p.loops[p.a[x]]
-		if m.kind == loopMap && int(x)+int(m.n) == k && m.n == l.n && fusable(m) {
-			cands = append(cands, cand{x, int32(k), p.a[k]})
+		switch {
+		case l.kind == loopSum:
+			if _, ok := before(0); ok {
+				cands = append(cands, cand{l.arg[0], int32(k), p.a[k], -1})
+			}
+		case l.kind == loopMap && fusable(l) && !(l.op == OpMul && l.step[0]+l.step[1] == 2):
+			// A map whose vector operands get one adjoint each.
+			for i := range 2 {
+				if _, ok := before(i); ok && l.step[i] == 1 {
+					cands = append(cands, cand{l.arg[i], int32(k), p.a[k], int8(i)})
+					break
+				}
+			}
 		}
 	}
 	if len(cands) == 0 {
@@ -183,11 +205,18 @@ func (p *tapeProg) findFuse() {
 		read(o, o+1, -1)
 	}
 	for i, c := range cands {
-		if ok[i] {
+		switch {
+		case !ok[i]:
+		case c.op < 0:
 			if p.fuse == nil {
 				p.fuse = make([]bool, len(p.loops))
 			}
 			p.fuse[c.li] = true
+		default:
+			if p.chain == nil {
+				p.chain = make([]int8, len(p.loops))
+			}
+			p.chain[c.li] = c.op + 1
 		}
 	}
 }
@@ -472,6 +501,19 @@ func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum
 	vx, vy := p.srcOf(v, ls.xin, x), p.srcOf(v, ls.xin, y)
 	ax, ay := p.adjOf(adj, dst, x), p.adjOf(adj, dst, y)
 	konst := func(s int) bool { return s >= p.nIn && s < p.start }
+	// The operand whose map runs its pass next with the adjoint u, which
+	// is what each of its elements would hold (0 + u; a zero u leaves that
+	// map nothing to do), after this map's own amounts, in the order of
+	// the pass node by node.
+	next, u := -1, 0.0
+	if p.chain != nil {
+		next = int(p.chain[li]) - 1
+	}
+	defer func() {
+		if next >= 0 && u != 0 {
+			p.fusedMapReverse(v, adj, dst, int(m.arg[next]), u, sum, ls)
+		}
+	}()
 	switch {
 	case m.op == OpMul && sx == 1 && sy == 1:
 		ok := sum && math.Abs(a) <= 1 // as for a dot product
@@ -487,9 +529,13 @@ func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum
 			x, y, vx, vy, ax, ay, i0, i1 = y, x, vy, vx, ay, ax, 1, 0 // the vector first
 		}
 		c := vy[y]
-		fx := ls.fresh(p, li, i0)
-		addInto(ax[x:x+n], float64(a*c), fx)
-		ls.sure(p, li, i0, fx, finite(a*c))
+		if next == i0 {
+			u = float64(a * c)
+		} else {
+			fx := ls.fresh(p, li, i0)
+			addInto(ax[x:x+n], float64(a*c), fx)
+			ls.sure(p, li, i0, fx, finite(a*c))
+		}
 		fy := ls.fresh(p, li, i1)
 		if !konst(y) {
 			acc := ay[y]
@@ -503,15 +549,21 @@ func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum
 			ay[y] = acc
 		}
 	default: // + or - with the vector first
-		fx := ls.fresh(p, li, 0)
-		addInto(ax[x:x+n], a, fx)
-		ls.sure(p, li, 0, fx, finite(a))
+		if next == 0 {
+			u = a
+		} else {
+			fx := ls.fresh(p, li, 0)
+			addInto(ax[x:x+n], a, fx)
+			ls.sure(p, li, 0, fx, finite(a))
+		}
 		b := a
 		if m.op == OpSub {
 			b = -a
 		}
 		fy := ls.fresh(p, li, 1)
-		if sy == 1 {
+		if sy == 1 && next == 1 {
+			u = b
+		} else if sy == 1 {
 			addInto(ay[y:y+n], b, fy)
 			ls.sure(p, li, 1, fy, finite(a))
 		} else if !konst(y) {

@@ -137,6 +137,9 @@ func passModel(b *Builder, n int) (outs []Slot, x []float64, q Slot) {
 		b.Sum(b.Map(OpMul, w, b.Map(OpDiscount, r, yv))),                                       // a present value over periods
 		b.Sum(b.Map(OpMul, b.Map(OpMul, w, b.Map(OpGrowth, r, yv)), b.Map(OpDiscount, r, yv))), // escalated and discounted
 		b.Binary(OpMul, b.Reduce(OpMin, c), k),                                                 // a min
+		b.Sum(b.Map(OpAdd, b.Map(OpMul, q, c), w)),                                             // a chain: the sum, the +, the product
+		b.Sum(b.Map(OpSub, w, b.Map(OpMul, q, c))),                                             // the product on the right of a -
+		b.Sum(b.Map(OpAdd, b.Map(OpMul, b.Map(OpMul, q, c), k), w)),                            // three maps deep
 	}
 	return outs, x, q
 }
@@ -265,6 +268,12 @@ func TestInPlaceShapes(t *testing.T) {
 		tp := b.Tape(outs[i])
 		if tp.p.fuse == nil || !tp.p.fuse[tp.p.a[tp.p.outs[0]]] {
 			t.Errorf("output %d: the sum does not run its map's pass", i)
+		}
+	}
+	for _, i := range []int{2, 16, 17, 18} {
+		tp := b.Tape(outs[i])
+		if tp.p.chain == nil {
+			t.Errorf("output %d: no map runs the pass of the map before it", i)
 		}
 	}
 	if tp := b.Tape(outs[9]); tp.p.fuse != nil {
