@@ -148,12 +148,10 @@ func (p *tapeProg) reverseNodes(g, v, adj, dst []float64, out int, consume bool,
 				g[as[k+1]] += gk
 			}
 		case OpFloor, OpCeil, OpRound, OpLt, OpLe, OpGt, OpGe, OpEq, OpNe, OpAnd, OpOr, OpNot, opArg:
-		case opLoop: // vec.go
-			p.loopReverse(v, adj, dst, k, ls)
+		case opLoop: // vec.go; a sum may have run the maps just before it too
+			k = p.loopReverse(v, adj, dst, k, ls)
 		case opLane: // the first lane with an adjoint runs its loop node
-			h := int(a)
-			p.loopReverse(v, adj, dst, h, ls)
-			k = h
+			k = p.loopReverse(v, adj, dst, int(a), ls)
 		default:
 			p.revDeriv(g, v, k, gk)
 		}

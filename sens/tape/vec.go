@@ -958,16 +958,18 @@ func adjoint(op Op, gk, x, y, z, v float64) (da, db, dc float64) {
 // With ls (a pass of Value or Gradient; nil in the error searches), the
 // inputs only loop nodes read are read from ls.xin when it is not nil, and
 // the shapes loopReverseFast knows write their adjoints into dst without
-// its clearing them first (vecpass.go).
-func (p *tapeProg) loopReverse(v, adj, dst []float64, k int, ls *loopPass) {
+// its clearing them first (vecpass.go). It returns the first slot of what
+// it ran: k, or the first slot of the maps a sum ran the pass of, whose
+// slots hold no adjoint, so the pass goes on below them.
+func (p *tapeProg) loopReverse(v, adj, dst []float64, k int, ls *loopPass) int {
 	li := p.a[k]
 	l := &p.loops[li]
 	n := int(l.n)
 	x, y := int(l.arg[0]), int(l.arg[1])
 	vx, vy, vz := v, v, v
 	if ls != nil {
-		if p.loopReverseFast(v, adj, dst, k, li, ls) {
-			return
+		if lo, ok := p.loopReverseFast(v, adj, dst, k, li, ls); ok {
+			return lo
 		}
 		ls.prepare(p, dst, li)
 		vx, vy, vz = p.srcOf(v, ls.xin, x), p.srcOf(v, ls.xin, y), p.srcOf(v, ls.xin, int(l.arg[2]))
@@ -978,7 +980,7 @@ func (p *tapeProg) loopReverse(v, adj, dst []float64, k int, ls *loopPass) {
 	switch l.kind {
 	case loopMap:
 		if p.mapReverse(l, v, vx, vy, adj, gx, gy, k) {
-			return
+			return k
 		}
 		gz := p.adjOf(adj, dst, int(l.arg[2]))
 		z := int(l.arg[2])
@@ -1030,6 +1032,7 @@ func (p *tapeProg) loopReverse(v, adj, dst []float64, k int, ls *loopPass) {
 			}
 		}
 	}
+	return k
 }
 
 // adjOf returns the buffer that holds the adjoint of slot s in a reverse

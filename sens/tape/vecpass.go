@@ -445,19 +445,20 @@ func disjoint(x, y, n int) bool { return x == y || x+n <= y || y+n <= x }
 
 // loopReverseFast runs the reverse pass through the loop node at k (loop
 // li) for the shapes it knows, writing the adjoints of direct inputs into
-// dst, and reports whether it did.
-func (p *tapeProg) loopReverseFast(v, adj, dst []float64, k int, li int32, ls *loopPass) bool {
+// dst, and reports whether it did, and the first slot of what it ran (see
+// loopReverse).
+func (p *tapeProg) loopReverseFast(v, adj, dst []float64, k int, li int32, ls *loopPass) (int, bool) {
 	l := &p.loops[li]
 	n := int(l.n)
 	x, y := int(l.arg[0]), int(l.arg[1])
 	switch l.kind {
 	case loopDot:
 		if !disjoint(x, y, n) {
-			return false
+			return k, false
 		}
 		a := adj[k]
 		if a == 0 {
-			return true
+			return k, true
 		}
 		// A finite sum of products has finite factors, and a factor times
 		// an adjoint of at most 1 in size stays finite.
@@ -469,30 +470,47 @@ func (p *tapeProg) loopReverseFast(v, adj, dst []float64, k int, li int32, ls *l
 		set = ls.fresh(p, li, 1)
 		scaleInto(p.adjOf(adj, dst, y)[y:y+n], xs, a, set)
 		ls.sure(p, li, 1, set, ok)
-		return true
+		return k, true
 	case loopSum:
 		a := adj[k]
-		if a == 0 {
-			return true
-		}
-		if p.fuse != nil && p.fuse[li] {
-			return p.fusedMapReverse(v, adj, dst, x, a, finite(v[k]), ls)
+		fused := p.fuse != nil && p.fuse[li]
+		switch {
+		case fused && a == 0:
+			return p.fusedStart(x), true // nothing to run: nor the maps
+		case a == 0:
+			return k, true
+		case fused:
+			p.fusedMapReverse(v, adj, dst, x, a, finite(v[k]), ls)
+			return p.fusedStart(x), true
 		}
 		set := ls.fresh(p, li, 0)
 		addInto(p.adjOf(adj, dst, x)[x:x+n], a, set)
 		ls.sure(p, li, 0, set, finite(a))
-		return true
+		return k, true
 	case loopMap:
-		return p.mapReverseFast(l, v, adj, dst, k, li, ls)
+		return k, p.mapReverseFast(l, v, adj, dst, k, li, ls)
 	}
-	return false
+	return k, false
+}
+
+// fusedStart returns the first slot of the map at km and of the maps just
+// before it whose pass it runs (chain).
+func (p *tapeProg) fusedStart(km int) int {
+	for p.chain != nil {
+		i := p.chain[p.a[km]] - 1
+		if i < 0 {
+			break
+		}
+		km = int(p.loops[p.a[km]].arg[i])
+	}
+	return km
 }
 
 // fusedMapReverse runs the reverse pass of the map at km, every element of
 // which has the adjoint a (the sum that reads it sends a to each): the
 // amounts of mapReverse for a uniform adjoint, without storing it. sum is
 // whether the sum is finite, and so every element of the map.
-func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum bool, ls *loopPass) bool {
+func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum bool, ls *loopPass) {
 	li := p.a[km]
 	m := &p.loops[li]
 	n := int(m.n)
@@ -577,7 +595,6 @@ func (p *tapeProg) fusedMapReverse(v, adj, dst []float64, km int, a float64, sum
 			ay[y] = acc
 		}
 	}
-	return true
 }
 
 // mapReverseFast runs the reverse pass through the map at k for a product

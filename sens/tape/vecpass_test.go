@@ -140,6 +140,8 @@ func passModel(b *Builder, n int) (outs []Slot, x []float64, q Slot) {
 		b.Sum(b.Map(OpAdd, b.Map(OpMul, q, c), w)),                                             // a chain: the sum, the +, the product
 		b.Sum(b.Map(OpSub, w, b.Map(OpMul, q, c))),                                             // the product on the right of a -
 		b.Sum(b.Map(OpAdd, b.Map(OpMul, b.Map(OpMul, q, c), k), w)),                            // three maps deep
+		b.Call(OpIf, b.Binary(OpGt, k, b.Const(100)), b.Sum(b.Map(OpAdd, b.Map(OpMul, b.Map(OpMul, q, c), k), c)), b.Sum(w)), // a fused sum in the branch not taken
+		b.Sum(b.Map(OpMul, q, b.Binary(OpMul, k, r))), // a map by the scalar node just before it
 	}
 	return outs, x, q
 }
