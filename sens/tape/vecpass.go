@@ -378,6 +378,33 @@ func scaleInto(d, xs []float64, a float64, set bool) {
 	}
 }
 
+// scaleFinite is scaleInto with set, and reports whether every value it
+// stored is finite: it ORs together each value's exponent field plus one
+// in the lowest exponent bit, whose sign bit only an exponent of all ones
+// (±Inf, NaN) sets, in integer registers beside the arithmetic.
+func scaleFinite(d, xs []float64, a float64) bool {
+	const exp, one = 0x7ff0_0000_0000_0000, 1 << 52
+	xs = xs[:len(d)]
+	var f0, f1, f2, f3 uint64
+	j := 0
+	for ; j+4 <= len(d); j += 4 {
+		x, o := (*[4]float64)(xs[j:]), (*[4]float64)(d[j:])
+		r0, r1 := float64(a*x[0])+0, float64(a*x[1])+0
+		r2, r3 := float64(a*x[2])+0, float64(a*x[3])+0
+		o[0], o[1], o[2], o[3] = r0, r1, r2, r3
+		f0 |= math.Float64bits(r0)&exp + one
+		f1 |= math.Float64bits(r1)&exp + one
+		f2 |= math.Float64bits(r2)&exp + one
+		f3 |= math.Float64bits(r3)&exp + one
+	}
+	for ; j < len(d); j++ {
+		r := float64(a*xs[j]) + 0
+		d[j] = r
+		f0 |= math.Float64bits(r)&exp + one
+	}
+	return (f0|f1|f2|f3)>>63 == 0
+}
+
 // addInto adds a to every d[j], or with set stores it (a is an adjoint or
 // its negation, never -0 where it is stored: see scaleInto).
 func addInto(d []float64, a float64, set bool) {
@@ -465,11 +492,19 @@ func (p *tapeProg) loopReverseFast(v, adj, dst []float64, k int, li int32, ls *l
 		ok := finite(v[k]) && math.Abs(a) <= 1
 		xs, ys := p.srcOf(v, ls.xin, x)[x:x+n], p.srcOf(v, ls.xin, y)[y:y+n]
 		set := ls.fresh(p, li, 0)
-		scaleInto(p.adjOf(adj, dst, x)[x:x+n], ys, a, set)
-		ls.sure(p, li, 0, set, ok)
+		if ok || !set {
+			scaleInto(p.adjOf(adj, dst, x)[x:x+n], ys, a, set)
+			ls.sure(p, li, 0, set, ok)
+		} else {
+			ls.sure(p, li, 0, set, scaleFinite(p.adjOf(adj, dst, x)[x:x+n], ys, a))
+		}
 		set = ls.fresh(p, li, 1)
-		scaleInto(p.adjOf(adj, dst, y)[y:y+n], xs, a, set)
-		ls.sure(p, li, 1, set, ok)
+		if ok || !set {
+			scaleInto(p.adjOf(adj, dst, y)[y:y+n], xs, a, set)
+			ls.sure(p, li, 1, set, ok)
+		} else {
+			ls.sure(p, li, 1, set, scaleFinite(p.adjOf(adj, dst, y)[y:y+n], xs, a))
+		}
 		return k, true
 	case loopSum:
 		a := adj[k]
