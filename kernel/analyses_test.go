@@ -384,3 +384,25 @@ func TestStepWarningSummarised(t *testing.T) {
 		t.Errorf("drivers steps %v, step_lines %v; want %d and 8", m["steps"], m["step_lines"], sens.StepsShown)
 	}
 }
+
+// A sweep finds a dip across the target between two points on the same
+// side of it: y = (x - 1.2)(x - 1.7) + 5 is 5.14 and 5.24 at x = 1 and 2,
+// and equals 5 at 1.2 and 1.7 (algebra, common practice). The text, HTML and
+// JSON list both crossings as any verified crossing is listed.
+func TestSweepCommandDip(t *testing.T) {
+	in := New()
+	run(t, in, "input x = 1 (0..3)\ny = (x - 1.2) * (x - 1.7) + 5\n")
+	s := run(t, in, "sweep y over x 0..3 n=4 target=5")
+	if len(s.results) != 1 {
+		t.Fatalf("%d results", len(s.results))
+	}
+	r := s.results[0]
+	want := "y = 5 at x = 1.2, 1.7 (verified on the model)"
+	if !strings.Contains(r.Text(), want) || !strings.Contains(r.HTML(), want) {
+		t.Errorf("text:\n%s\nwant %q", r.Text(), want)
+	}
+	cr := object(t, r)["crossings"].([]any)
+	if len(cr) != 2 || !scalar.EqualWithinAbsOrRel(cr[0].(float64), 1.2, 1e-12, 1e-12) || !scalar.EqualWithinAbsOrRel(cr[1].(float64), 1.7, 1e-12, 1e-12) {
+		t.Errorf("crossings %v, want [1.2 1.7]", cr)
+	}
+}

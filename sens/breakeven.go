@@ -342,33 +342,23 @@ func Breakeven(p *Problem, s *BreakevenSettings) (*BreakevenResult, error) {
 			if spent(l.x, r.x) {
 				continue
 			}
-			fx, ferr, err := bs.extreme(d)
+			o, err := bs.dip(d)
 			if err != nil {
 				return nil, err
 			}
-			if ferr != nil {
-				fail(failure{a: l, b: r, x: fx, err: ferr})
+			if o.fail != nil {
+				fail(*o.fail)
 				continue
 			}
 			seen(d.b.x, d.b.y)
-			gd := d.b.y - target
-			vary := math.Abs(d.a.y-d.b.y) + math.Abs(d.c.y-d.b.y)
-			// A touch: the target is reached within rounding, or within
-			// what the output varies over the final bracket where that is
-			// small beside what it varies across the dip (near a pole it
-			// is not).
-			smooth := vary <= 1e-3*(math.Abs(l.y-d.b.y)+math.Abs(r.y-d.b.y))
 			switch {
-			case gd == 0 || math.Abs(gd) <= roundoff(d.b.y, target) || smooth && math.Abs(gd) <= 4*vary:
+			case o.touch:
 				zeros = append(zeros, Crossing{Value: d.b.x, Touch: true})
-			case (gd < 0) == (d.sign < 0):
-				// The extreme lies across the target: a crossing on each
-				// side of it.
-				m := bpt{x: d.b.x, y: d.b.y, g: gd, s: math.NaN()}
-				if err := solve(bpt{x: l.x, y: l.y, g: l.y - target, s: math.NaN()}, m); err != nil {
+			case o.across:
+				if err := solve(o.l, o.m); err != nil {
 					return nil, err
 				}
-				if err := solve(m, bpt{x: r.x, y: r.y, g: r.y - target, s: math.NaN()}); err != nil {
+				if err := solve(o.m, o.r); err != nil {
 					return nil, err
 				}
 			}
@@ -903,6 +893,47 @@ func (bs *bsearch) extreme(e *extreme) (float64, error, error) {
 		}
 	}
 	return 0, nil, nil
+}
+
+// dipped is the outcome of searching a dip of |g|: the model failed on the
+// way (fail), the output touches the target at the extreme (touch), or the
+// extreme lies across the target (across), with a crossing on each side of
+// it: the brackets l..m and m..r, l and r the dip's ends, m the extreme.
+type dipped struct {
+	fail    *failure
+	touch   bool
+	across  bool
+	l, m, r bpt
+}
+
+// dip narrows the dip d to its extreme (extreme) and tells whether it
+// touches the target or lies across it. A touch is where the target is
+// reached within rounding, or within what the output varies over the final
+// bracket where that is small beside what it varies across the dip (near a
+// pole it is not). The error is cancellation only.
+func (bs *bsearch) dip(d *extreme) (dipped, error) {
+	t := bs.target
+	l, r := d.a, d.c // the neighbours of the dip
+	fx, ferr, err := bs.extreme(d)
+	if err != nil {
+		return dipped{}, err
+	}
+	if ferr != nil {
+		return dipped{fail: &failure{a: l, b: r, x: fx, err: ferr}}, nil
+	}
+	gd := d.b.y - t
+	vary := math.Abs(d.a.y-d.b.y) + math.Abs(d.c.y-d.b.y)
+	smooth := vary <= 1e-3*(math.Abs(l.y-d.b.y)+math.Abs(r.y-d.b.y))
+	switch {
+	case gd == 0 || math.Abs(gd) <= roundoff(d.b.y, t) || smooth && math.Abs(gd) <= 4*vary:
+		return dipped{touch: true}, nil
+	case (gd < 0) == (d.sign < 0):
+		return dipped{across: true,
+			l: bpt{x: l.x, y: l.y, g: l.y - t, s: math.NaN()},
+			m: bpt{x: d.b.x, y: d.b.y, g: gd, s: math.NaN()},
+			r: bpt{x: r.x, y: r.y, g: r.y - t, s: math.NaN()}}, nil
+	}
+	return dipped{}, nil
 }
 
 // refined is the outcome of refining one bracket: a verified crossing, a

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
+	"sort"
 
 	"github.com/nudge-dev/nudge/sens/unit"
 )
@@ -268,27 +270,49 @@ func Sweep2D(p *Problem, s *Sweep2DSettings) (*Sweep2DResult, error) {
 }
 
 // sweepCrossings fills res.Crossings, Jumps and Unresolved: the points of
-// the sweep exactly at the target, and for each pair of neighbouring points
-// on either side of it, the bracket refined on the model and verified as
+// the sweep exactly at the target; for each pair of neighbouring points on
+// either side of it, the bracket refined on the model and verified as
 // Breakeven's brackets are (bsearch.refine): a crossing only where the output
 // is verified to equal the target, a jump (step or pole) where it passes the
 // target without equalling it, and unresolved where the model fails inside or
 // the search does not close. A crossing between two points of the sweep
 // cannot be told from a step by the two points alone, so it is never placed
-// by interpolation. Dips between points that do not reach the sign of the
-// target are not searched (Breakeven does that).
+// by interpolation.
+//
+// Between neighbouring points on one side of the target the output may dip
+// across it and back (two crossings, or a touch, between two points). Such a
+// dip is searched (sweepDips) where the slopes at the two points show the
+// output turning towards the target and back between them, and where
+// |output - target| is smaller at a point than at both its neighbours (as
+// Breakeven's dips) and the slopes showed no dip beside it; it is narrowed to its extreme
+// (bsearch.dip) and, where that lies across the target, each side is refined
+// and verified as a bracket. A dip that does not show in the slopes at the
+// points or in the outputs (a narrow spike between points where the output
+// is level) is not found.
 func (bs *bsearch) sweepCrossings(res *Sweep1DResult) error {
 	pts, t := res.Points, bs.target
-	in := bs.in
-	add := func(v float64) {
-		if n := len(res.Crossings); n == 0 || res.Crossings[n-1] != v {
-			res.Crossings = append(res.Crossings, v)
+	var cross []float64
+	solve := func(a, b bpt) error {
+		r, err := bs.refine(a, b)
+		if err != nil {
+			return err
 		}
+		switch {
+		case r.fail != nil:
+			res.Unresolved = append(res.Unresolved, bs.failed(r.fail))
+		case r.jump != nil:
+			res.Jumps = append(res.Jumps, *r.jump)
+		case r.unresolved != nil:
+			res.Unresolved = append(res.Unresolved, *r.unresolved)
+		default:
+			cross = append(cross, r.crossing.Value)
+		}
+		return nil
 	}
 	for j, a := range pts {
 		d := a.Output - t
 		if d == 0 {
-			add(a.X)
+			cross = append(cross, a.X)
 			continue
 		}
 		if j+1 == len(pts) {
@@ -299,23 +323,254 @@ func (bs *bsearch) sweepCrossings(res *Sweep1DResult) error {
 		if e == 0 || (d < 0) == (e < 0) {
 			continue
 		}
-		r, err := bs.refine(bpt{x: a.X, y: a.Output, g: d, s: math.NaN()}, bpt{x: b.X, y: b.Output, g: e, s: math.NaN()})
-		if err != nil {
+		if err := solve(bpt{x: a.X, y: a.Output, g: d, s: math.NaN()}, bpt{x: b.X, y: b.Output, g: e, s: math.NaN()}); err != nil {
 			return err
 		}
-		switch {
-		case r.fail != nil:
-			res.Unresolved = append(res.Unresolved, Unresolved{Low: a.X, High: b.X,
-				Reason: fmt.Sprintf("the model fails at %s = %s: %s", in.Name, unit.Format(r.fail.x, in.Unit), evalSentence(r.fail.err))})
-		case r.jump != nil:
-			res.Jumps = append(res.Jumps, *r.jump)
-		case r.unresolved != nil:
-			res.Unresolved = append(res.Unresolved, *r.unresolved)
-		default:
-			add(r.crossing.Value)
+	}
+	if err := bs.sweepDips(res, solve, &cross); err != nil {
+		return err
+	}
+	slices.Sort(cross)
+	res.Crossings = nil
+	for _, v := range cross {
+		if n := len(res.Crossings); n == 0 || !sameRoot(res.Crossings[n-1], v) {
+			res.Crossings = append(res.Crossings, v)
 		}
 	}
+	sort.SliceStable(res.Jumps, func(a, b int) bool { return res.Jumps[a].Value < res.Jumps[b].Value })
+	sort.SliceStable(res.Unresolved, func(a, b int) bool { return res.Unresolved[a].Low < res.Unresolved[b].Low })
 	return nil
+}
+
+// failed reports a failure of the model inside a bracket or a dip.
+func (bs *bsearch) failed(f *failure) Unresolved {
+	return Unresolved{Low: f.a.x, High: f.b.x,
+		Reason: fmt.Sprintf("the model fails at %s = %s: %s", bs.in.Name, unit.Format(f.x, bs.in.Unit), evalSentence(f.err))}
+}
+
+// maxSweepDipEvals bounds the evaluations spent searching a 1-D sweep's
+// dips (the slopes at the points not counted); past it, the dips not yet
+// searched are reported together as one Unresolved span.
+const maxSweepDipEvals = maxSearchEvals
+
+// maxDipSteps bounds the steps that look for a point of a dip below both
+// ends between two points of a sweep.
+const maxDipSteps = 60
+
+// sweepDips searches the dips between neighbouring points of a 1-D sweep on
+// one side of the target (see sweepCrossings), solving the brackets found
+// with solve and adding touches to cross.
+func (bs *bsearch) sweepDips(res *Sweep1DResult, solve func(a, b bpt) error, cross *[]float64) error {
+	pts, t := res.Points, bs.target
+	n := len(pts)
+	if n < 2 {
+		return nil
+	}
+	xs := make([]float64, n)
+	for j, p := range pts {
+		xs[j] = p.X
+	}
+	sl, err := bs.slopes(xs)
+	if err != nil {
+		return err
+	}
+	g := func(j int) float64 { return pts[j].Output - t }
+	bp := func(j int) bpt { return bpt{x: pts[j].X, y: pts[j].Output, g: g(j), s: sl[j]} }
+	same := func(j int) bool { // points j and j+1 on one side of the target
+		return g(j) != 0 && g(j+1) != 0 && (g(j) < 0) == (g(j+1) < 0)
+	}
+	// turns reports whether the slopes at points j and j+1 show the output
+	// turning towards the target after j and away from it before j+1.
+	turns := func(j int) bool {
+		toward := -math.Copysign(1, g(j)) // the sign of a slope towards the target
+		return sl[j]*toward > 0 && sl[j+1]*toward < 0
+	}
+	known := func(j int) bool { return !math.IsNaN(sl[j]) }
+	start := bs.ev.done
+	spentLo, spentHi := math.NaN(), math.NaN()
+	spent := func(lo, hi float64) bool {
+		if bs.ev.done-start < maxSweepDipEvals {
+			return false
+		}
+		if math.IsNaN(spentLo) {
+			spentLo = lo
+		}
+		spentHi = hi
+		return true
+	}
+	search := func(d *extreme) error {
+		if spent(d.a.x, d.c.x) {
+			return nil
+		}
+		o, err := bs.dip(d)
+		switch {
+		case err != nil:
+			return err
+		case o.fail != nil:
+			res.Unresolved = append(res.Unresolved, bs.failed(o.fail))
+		case o.touch:
+			*cross = append(*cross, d.b.x)
+		case o.across:
+			if err := solve(o.l, o.m); err != nil {
+				return err
+			}
+			return solve(o.m, o.r)
+		}
+		return nil
+	}
+	byPoint := make([]bool, n) // intervals j..j+1 searched from their slopes
+	for j := 0; j+1 < n; j++ {
+		if !same(j) || !known(j) || !known(j+1) || !turns(j) {
+			continue
+		}
+		byPoint[j] = true
+		if spent(xs[j], xs[j+1]) {
+			continue
+		}
+		d, zero, f, err := bs.dipBetween(bp(j), bp(j+1), solve)
+		switch {
+		case err != nil:
+			return err
+		case f != nil:
+			res.Unresolved = append(res.Unresolved, bs.failed(f))
+		case !math.IsNaN(zero):
+			*cross = append(*cross, zero)
+		case d != nil:
+			if err := search(d); err != nil {
+				return err
+			}
+		}
+	}
+	// A point where |g| is smaller than at both neighbours marks a dip over
+	// the two intervals beside it, where the slopes did not show one (a
+	// slope not known, or a kink at the point).
+	for j := 1; j+1 < n; j++ {
+		if !same(j-1) || !same(j) || byPoint[j-1] || byPoint[j] {
+			continue
+		}
+		if a, b, c := math.Abs(g(j-1)), math.Abs(g(j)), math.Abs(g(j+1)); !(b < a && b < c) {
+			continue
+		}
+		sign := -1.0 // g > 0: look for a minimum of the output
+		if g(j) < 0 {
+			sign = 1
+		}
+		d := &extreme{input: bs.i, sign: sign, a: xy{xs[j-1], pts[j-1].Output}, b: xy{xs[j], pts[j].Output},
+			c: xy{xs[j+1], pts[j+1].Output}, tol: 1e-9 * (xs[j+1] - xs[j-1])}
+		if err := search(d); err != nil {
+			return err
+		}
+	}
+	if !math.IsNaN(spentLo) {
+		res.Unresolved = append(res.Unresolved, Unresolved{Low: spentLo, High: spentHi,
+			Reason: fmt.Sprintf("dips between the points not searched: the search reached its limit of %s evaluations", unit.Format(maxSweepDipEvals, ""))})
+	}
+	return nil
+}
+
+// dipBetween looks between a and b, on one side of the target with slopes
+// that turn towards it and back (see sweepDips), for a point c of the dip
+// nearer the target than both: the dip a, c, b to narrow, returned. A point
+// across the target makes two brackets instead, solved at once with solve;
+// a point exactly at the target is returned as zero (else NaN). Otherwise
+// the side where the slopes still turn is kept, at most maxDipSteps times;
+// nothing is returned when no such point is found (the interval closed or a
+// slope is 0 or not known). A failure of the model is returned as fail; the
+// error is cancellation only.
+func (bs *bsearch) dipBetween(a, b bpt, solve func(a, b bpt) error) (d *extreme, zero float64, fail *failure, err error) {
+	a0, b0 := a, b
+	toward := -math.Copysign(1, a.g)
+	for k := 0; k < maxDipSteps && !tight(a.x, b.x); k++ {
+		w := b.x - a.x
+		// Where the tangents at a and b meet, kept off the ends.
+		c := math.NaN()
+		if den := a.s - b.s; den != 0 {
+			c = (b.y - a.y + a.s*a.x - b.s*b.x) / den
+		}
+		if !(c >= a.x+w/16 && c <= b.x-w/16) {
+			c = midpoint(a.x, b.x)
+		}
+		p, ferr, err := bs.point(c)
+		if err != nil {
+			return nil, math.NaN(), nil, err
+		}
+		if ferr != nil {
+			return nil, math.NaN(), &failure{a: xy{a0.x, a0.y}, b: xy{b0.x, b0.y}, x: c, err: ferr}, nil
+		}
+		if p.g == 0 {
+			return nil, p.x, nil, nil
+		}
+		if (p.g < 0) != (a.g < 0) {
+			if err := solve(a, p); err != nil {
+				return nil, math.NaN(), nil, err
+			}
+			return nil, math.NaN(), nil, solve(p, b)
+		}
+		if math.Abs(p.g) < math.Abs(a.g) && math.Abs(p.g) < math.Abs(b.g) {
+			sign := -1.0 // g > 0: look for a minimum of the output
+			if a.g < 0 {
+				sign = 1
+			}
+			return &extreme{input: bs.i, sign: sign, a: xy{a.x, a.y}, b: xy{p.x, p.y}, c: xy{b.x, b.y}, tol: 1e-9 * w}, math.NaN(), nil, nil
+		}
+		switch {
+		case p.s*toward > 0: // still turning towards the target: the dip is after p
+			a = p
+		case p.s*toward < 0:
+			b = p
+		default:
+			return nil, math.NaN(), nil, nil
+		}
+	}
+	return nil, math.NaN(), nil, nil
+}
+
+// slopes returns the slope of the output at each value xs of the input (the
+// others at their baselines), batched (GradientBatch); NaN where it is not
+// known (the derivative is not finite, or the model fails).
+func (bs *bsearch) slopes(xs []float64) ([]float64, error) {
+	k := len(bs.x)
+	chunk := max(1, min(maxBatch, maxBatchFloats/max(k, 1)))
+	chunk = min(chunk, len(xs))
+	s := make([]float64, len(xs))
+	rows := make([]float64, chunk*k)
+	grads := make([]float64, chunk*k)
+	ys := make([]float64, chunk)
+	ctx := bs.set.ctx()
+	for start := 0; start < len(xs); start += chunk {
+		if err := ctx.Err(); err != nil {
+			return nil, fmt.Errorf("stopped: %w", err)
+		}
+		m := min(chunk, len(xs)-start)
+		for r := 0; r < m; r++ {
+			row := rows[r*k : (r+1)*k]
+			copy(row, bs.x)
+			row[bs.i] = xs[start+r]
+		}
+		bs.ev.done += m
+		if err := GradientBatch(bs.p.F, ys[:m], grads[:m*k], rows[:m*k], m); err != nil {
+			// One point failed: each on its own.
+			for r := 0; r < m; r++ {
+				p, ferr, err := bs.point(xs[start+r])
+				if err != nil {
+					return nil, err
+				}
+				s[start+r] = math.NaN()
+				if ferr == nil {
+					s[start+r] = p.s
+				}
+			}
+			continue
+		}
+		for r := 0; r < m; r++ {
+			v := grads[r*k+bs.i]
+			if math.IsInf(v, 0) {
+				v = math.NaN()
+			}
+			s[start+r] = v
+		}
+	}
+	return s, nil
 }
 
 // checkRange checks a range of the input in to vary it over.

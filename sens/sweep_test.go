@@ -2,6 +2,7 @@ package sens
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -211,5 +212,71 @@ func TestSweep2DContourJumps(t *testing.T) {
 				t.Errorf("contour point %+v at radius %v, want 2", q, d)
 			}
 		}
+	}
+}
+
+// A dip across the target and back between two points of the sweep on the
+// same side of it: both crossings are found and verified, wherever the dip
+// lies (at the first interval, where no point has two neighbours, or inside
+// with a point beside it nearer the target), as a step or a failure of the
+// model inside one.
+func TestSweepDipsBetweenPoints(t *testing.T) {
+	sweep := func(src string, n int, target float64) *Sweep1DResult {
+		t.Helper()
+		p := problemOf(t, src, "y")
+		r, err := Sweep1D(p, &Sweep1DSettings{Axis: Axis{Input: "x", N: n}, Target: &target})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return r
+	}
+	near := func(got []float64, want ...float64) bool {
+		if len(got) != len(want) {
+			return false
+		}
+		for k := range want {
+			if !scalar.EqualWithinAbsOrRel(got[k], want[k], 1e-12, 1e-12) {
+				return false
+			}
+		}
+		return true
+	}
+	// (x - 1.2)(x - 1.7) = 0 on 0..3 in 4 points: roots 1.2 and 1.7 between
+	// the points 1 and 2, where the output is 0.14 and 0.24 (algebra, common
+	// practice: the roots of a product of linear factors).
+	r := sweep("input x = 1 (0..3)\ny = (x - 1.2) * (x - 1.7)\n", 4, 0)
+	if !near(r.Crossings, 1.2, 1.7) || len(r.Jumps)+len(r.Unresolved) != 0 {
+		t.Errorf("inner dip: crossings %v jumps %v unresolved %v, want [1.2 1.7]", r.Crossings, r.Jumps, r.Unresolved)
+	}
+	// x² - 0.9x + 0.18 = 0.05 on 0..3: x² - 0.9x + 0.13 = 0, roots
+	// (0.9 ± √0.29)/2, both in the first interval 0..1 (quadratic formula,
+	// common practice).
+	r = sweep("input x = 1 (0..3)\ny = x^2 - 0.9*x + 0.18\n", 4, 0.05)
+	if !near(r.Crossings, (0.9-math.Sqrt(0.29))/2, (0.9+math.Sqrt(0.29))/2) || len(r.Jumps)+len(r.Unresolved) != 0 {
+		t.Errorf("dip at the end: crossings %v jumps %v unresolved %v", r.Crossings, r.Jumps, r.Unresolved)
+	}
+	// A dip where the outputs at the points fall all the way to the
+	// crossing after it, so that no point is nearer the target than both
+	// its neighbours: (x - 1.2)(x - 1.7)(3.05 - x) on 0..4 in 5 points is
+	// 6.222, 0.287, 0.252, 0.117, -6.118; its roots are 1.2, 1.7 and 3.05
+	// (algebra, common practice). Only the slopes at 1 and 2 show the dip.
+	r = sweep("input x = 1 (0..4)\ny = (x - 1.2) * (x - 1.7) * (3.05 - x)\n", 5, 0)
+	if !near(r.Crossings, 1.2, 1.7, 3.05) || len(r.Jumps)+len(r.Unresolved) != 0 {
+		t.Errorf("dip on a falling line: crossings %v jumps %v unresolved %v, want [1.2 1.7 3.05]", r.Crossings, r.Jumps, r.Unresolved)
+	}
+	// A step inside the dip: 4(x - 1.5)² - 0.5 below 1.5 crosses 0 at
+	// 1.5 - √0.125, then steps up by 1 at 1.5 and stays above 0 (algebra,
+	// common practice; the step from the model's condition).
+	r = sweep("input x = 1 (0..3)\ny = 4*(x - 1.5)^2 - 0.5 + if(x < 1.5, 0, 1)\n", 4, 0)
+	if !near(r.Crossings, 1.5-math.Sqrt(0.125)) || len(r.Jumps) != 1 || r.Jumps[0].Pole ||
+		!scalar.EqualWithinAbsOrRel(r.Jumps[0].Value, 1.5, 1e-12, 1e-12) || len(r.Unresolved) != 0 {
+		t.Errorf("step in a dip: crossings %v jumps %+v unresolved %v, want [1.5-√0.125] and a step at 1.5", r.Crossings, r.Jumps, r.Unresolved)
+	}
+	// The model fails inside the dip (sqrt of a negative number for
+	// |x - 1.5| < 0.05), where the search first looks: the span is
+	// unresolved, naming the failure, and no crossing is claimed there.
+	r = sweep("input x = 1 (0..3)\ny = 4*(x - 1.5)^2 - 0.5 + 1e-9*sqrt(abs(x - 1.5) - 0.05)\n", 4, 0)
+	if len(r.Unresolved) != 1 || r.Unresolved[0].Low != 1 || r.Unresolved[0].High != 2 || !strings.Contains(r.Unresolved[0].Reason, "square root") {
+		t.Errorf("failure in a dip: crossings %v unresolved %+v, want 1..2 unresolved by the square root", r.Crossings, r.Unresolved)
 	}
 }
