@@ -14,10 +14,18 @@ import (
 // ExploreScript is the what-if panel's script: the evaluator of a compiled
 // output's listing (sens.Listing) and the panel of sliders around it. It is
 // written into every panel's HTML, so a page needs nothing else: no network,
-// no other script.
+// no other script; a report of many panels carries it once (ScriptOnce).
 //
 //go:embed explore.js
 var ExploreScript string
+
+// ScriptOnce is the attribute that marks a script element of an output as
+// one a page needs once, however many outputs carry it: a page that gathers
+// outputs (the report of nudge run, kernel/report) writes each such element
+// once, at the end of its body, where it sets up every output it serves.
+// An output shown on its own (one cell's HTML in a notebook) keeps its copy
+// and works as it is.
+const ScriptOnce = "data-nudge-once"
 
 // exploreStyle is the panel's look, scoped to its classes.
 const exploreStyle = `<style>
@@ -106,7 +114,10 @@ func Explore(e *sens.ExploreResult, o *Options) *Result {
 	if held != "" {
 		b.WriteString(`<p class="nudge-explore-note">` + html.EscapeString(held) + `</p>`)
 	}
-	b.WriteString(`</div><script>`)
+	// The script is marked to be written once in a page that gathers many
+	// outputs (ScriptOnce): every copy is the same, and one sets up every
+	// panel in the page.
+	b.WriteString(`</div><script ` + ScriptOnce + `="nudge-explore">`)
 	b.WriteString(ExploreScript)
 	b.WriteString(`</script>`)
 	r.html = b.String()

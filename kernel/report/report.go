@@ -8,7 +8,9 @@
 // as its text and address instead. Each output is written in its richest
 // representation that a page can show (HTML, with any scripts it carries,
 // then SVG, PNG, JPEG, GIF, markdown, plain text), so an interactive output
-// works in the report as in the notebook. The same notebook gives the same
+// works in the report as in the notebook; a script that outputs mark as needed
+// once (the what-if panel's) is written once, at the end of the body. The same
+// notebook gives the same
 // bytes; a time stamp is added only when Facts.Generated is set.
 //
 // The package imports nothing of the kernel but the notebook format, so the
@@ -161,6 +163,52 @@ type writer struct {
 	nb *notebook.Notebook
 	f  *Facts
 	md goldmark.Markdown
+	// once holds the script elements marked to be written once (see
+	// gatherOnce), in the order first met, and onceSeen each one's text.
+	once     []string
+	onceSeen map[string]bool
+}
+
+// onceOpen opens a script element that a page needs once however many
+// outputs carry it (the what-if panel's evaluator marks itself so, as
+// kernel/render.ScriptOnce; this package imports nothing of the kernel).
+const onceOpen = `<script data-nudge-once="`
+
+// gatherOnce takes out of an output's HTML the script elements marked to be
+// written once, keeping the first of each distinct element for the end of
+// the page's body: there it runs after every output is in the page, and sets
+// up all those it serves. A report of ten what-if panels carries their
+// evaluator once, not ten times. Elements that differ (two versions of a
+// script) are each kept. The scan is linear in the HTML.
+func (r *writer) gatherOnce(h string) string {
+	if !strings.Contains(h, onceOpen) {
+		return h
+	}
+	var b strings.Builder
+	b.Grow(len(h))
+	for {
+		i := strings.Index(h, onceOpen)
+		if i < 0 {
+			break
+		}
+		j := strings.Index(h[i:], "</script>")
+		if j < 0 {
+			break
+		}
+		end := i + j + len("</script>")
+		el := h[i:end]
+		b.WriteString(h[:i])
+		if !r.onceSeen[el] {
+			if r.onceSeen == nil {
+				r.onceSeen = map[string]bool{}
+			}
+			r.onceSeen[el] = true
+			r.once = append(r.once, el)
+		}
+		h = h[end:]
+	}
+	b.WriteString(h)
+	return b.String()
 }
 
 func (r *writer) title() string {
@@ -288,7 +336,12 @@ func (r *writer) page(b *bytes.Buffer) {
 	if open {
 		b.WriteString("</section>\n")
 	}
-	b.WriteString("</main>\n</body>\n</html>\n")
+	b.WriteString("</main>\n")
+	for _, el := range r.once {
+		b.WriteString(el)
+		b.WriteString("\n")
+	}
+	b.WriteString("</body>\n</html>\n")
 }
 
 func (r *writer) ran() int {
@@ -355,7 +408,7 @@ func (r *writer) output(b *bytes.Buffer, c *notebook.Cell, o *notebook.Output) {
 	b.WriteString("<div class=\"nudge-output\">\n")
 	switch {
 	case o.DataText("text/html") != "":
-		b.WriteString(inlineSVGImages(o.DataText("text/html")))
+		b.WriteString(inlineSVGImages(r.gatherOnce(o.DataText("text/html"))))
 	case o.DataText("image/svg+xml") != "":
 		b.WriteString("<figure class=\"nudge-figure\">" + inlineSVG(o.DataText("image/svg+xml"), "") + "</figure>")
 	case firstImage(o) != "":

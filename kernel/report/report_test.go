@@ -107,3 +107,31 @@ func TestSections(t *testing.T) {
 		t.Error("no page break between sections in print")
 	}
 }
+
+// TestScriptOnce: a script element marked data-nudge-once is written once,
+// at the end of the body, however many outputs carry it; two different ones
+// are both kept, in the order first met; a script not marked stays where it
+// is, in each output.
+func TestScriptOnce(t *testing.T) {
+	a := `<script data-nudge-once="a">var a = 1;</script>`
+	a2 := `<script data-nudge-once="a">var a = 2;</script>`
+	plain := `<script>var p = 0;</script>`
+	out := func(h string) *notebook.Output {
+		return &notebook.Output{Type: "display_data", Data: map[string]any{"text/html": h}}
+	}
+	nb := notebook.New()
+	nb.Cells = []*notebook.Cell{
+		{Type: "code", Source: "x", ExecutionCount: intp(1), Outputs: []*notebook.Output{out(`<div id="one"></div>` + a + plain)}},
+		{Type: "code", Source: "y", ExecutionCount: intp(2), Outputs: []*notebook.Output{out(`<div id="two"></div>` + a), out(`<div id="three"></div>` + a2 + plain)}},
+	}
+	r := write(t, nb)
+	if strings.Count(r, a) != 1 || strings.Count(r, a2) != 1 || strings.Count(r, plain) != 2 {
+		t.Errorf("copies: %d of a, %d of a2, %d of the plain script; want 1, 1, 2", strings.Count(r, a), strings.Count(r, a2), strings.Count(r, plain))
+	}
+	if i, j, k := strings.Index(r, `<div id="three">`), strings.Index(r, a), strings.Index(r, a2); !(i < j && j < k && k < strings.Index(r, "</body>")) {
+		t.Errorf("the scripts are not after every output, in order: %d %d %d", i, j, k)
+	}
+	if !strings.Contains(r, `<div id="one"></div>`+plain) {
+		t.Error("the plain script moved")
+	}
+}

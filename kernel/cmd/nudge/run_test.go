@@ -14,6 +14,7 @@ import (
 	"testing"
 
 	"github.com/nudge-dev/nudge/kernel/notebook"
+	"github.com/nudge-dev/nudge/kernel/render"
 )
 
 // copyNotebooks copies the repository's notebooks and the files they read
@@ -584,5 +585,55 @@ func TestRunOtherLanguage(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(dir, "py.html")); err == nil {
 		t.Error("a report was written")
+	}
+}
+
+// TestRunReportScriptOnce: a report of two what-if panels carries the
+// panels' evaluator once, after both panels (where it sets up each), while
+// each panel in the notebook keeps its own copy, so that one cell's HTML
+// works on its own. The browser test (test_5_two_panels_in_a_report) moves
+// the sliders of both in a real browser.
+func TestRunReportScriptOnce(t *testing.T) {
+	dir := copyNotebooks(t)
+	model, err := os.ReadFile(filepath.Join(dir, "housing.nudge"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := filepath.Join(dir, "two-panels.nudge")
+	if err := os.WriteFile(src, append(model, "\nexplore unit_cost top=3\nexplore unit_cost top=5\n"...), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	rep := filepath.Join(t.TempDir(), "two.html")
+	if code, out, errs := runNudge([]string{"run", "--html", rep, "-o", rep + ".ipynb", src}, ""); code != 0 {
+		t.Fatalf("exit %d\n%s\n%s", code, out, errs)
+	}
+	b, err := os.ReadFile(rep)
+	if err != nil {
+		t.Fatal(err)
+	}
+	h := string(b)
+	if n := strings.Count(h, render.ExploreScript); n != 1 {
+		t.Errorf("the report holds %d copies of the panels' script, want 1", n)
+	}
+	if n := strings.Count(h, `class="nudge-explore-data"`); n != 2 {
+		t.Errorf("the report holds %d panels' data, want 2", n)
+	}
+	if last, s := strings.LastIndex(h, `class="nudge-explore-data"`), strings.Index(h, render.ExploreScript); s < last {
+		t.Error("the panels' script comes before the last panel: it would not set that panel up")
+	}
+	nb := readNotebook(t, rep+".ipynb")
+	panels := 0
+	for _, c := range nb.Cells {
+		for _, o := range c.Outputs {
+			if strings.Contains(o.DataText("text/html"), `class="nudge-explore-data"`) {
+				panels++
+				if !strings.Contains(o.DataText("text/html"), render.ExploreScript) {
+					t.Error("a panel in the notebook lacks its own script")
+				}
+			}
+		}
+	}
+	if panels != 2 {
+		t.Errorf("%d panels in the notebook, want 2", panels)
 	}
 }

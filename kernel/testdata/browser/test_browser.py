@@ -419,6 +419,40 @@ class BrowserTest(unittest.TestCase):
         self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
         self.open_from_disk(html, "the report of nudge run", "report-panel.png")
 
+    def test_5_two_panels_in_a_report(self):
+        """A report of nudge run with two what-if panels added (and any the
+        demo notebook holds) carries the panels' script once (at the end of
+        the page), and every panel works."""
+        src = self.notebook_with_panel("two-panels.ipynb", 3)
+        with open(src) as f:
+            nb = json.load(f)
+        nb["cells"].append({"cell_type": "code", "execution_count": None, "id": "test-panel-2", "metadata": {},
+                            "outputs": [], "source": "explore %s top=5" % OUTPUT})
+        with open(src, "w") as f:
+            json.dump(nb, f)
+        html = os.path.join(OUT, "report-two-panels.html")
+        r = subprocess.run([NUDGE, "run", "--html", html, "-o", os.path.join(self.tmp, "two-panels-out.ipynb"), src],
+                           env=self.env, capture_output=True, text=True, timeout=GUARD)
+        self.assertEqual(r.returncode, 0, r.stdout + r.stderr)
+        with open(html) as f:
+            page = f.read()
+        # The script's first line, once in the page; the data of the two
+        # panels added, and of any the demo notebook holds.
+        self.assertEqual(page.count("nudge what-if panel: an evaluator"), 1, "copies of the panels' script")
+        panels = page.count('class="nudge-explore-data"')
+        self.assertGreaterEqual(panels, 2, "panels")
+        d = self.driver
+        d.get("file://" + html)
+        wait_for("every panel's sliders",
+                 lambda: self.js("const all = document.querySelectorAll('div.nudge-explore');"
+                                 " return all.length == arguments[0] && Array.from(all).every(p => p.querySelector('.nudge-explore-live'))",
+                                 panels))
+        n = 0
+        for k, panel in enumerate(d.find_elements(By.CSS_SELECTOR, "div.nudge-explore")):
+            n += self.check_panel(panel, "panel %d of the two-panel report" % (k + 1))
+        d.save_screenshot(os.path.join(OUT, "report-two-panels.png"))
+        print("\n  two-panel report: %d positions of the sliders compared with nudge exec --json" % n, file=sys.stderr)
+
     def test_4_saved_notebook_trust(self):
         """A saved notebook opened again is not trusted: the panel shows its
         table and the note on trust; once trusted, its sliders."""
