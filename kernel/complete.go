@@ -104,7 +104,7 @@ func lexemes(s string) []lexeme {
 // candidates lists what may stand after before, the line up to the word
 // being completed.
 func (h *Handler) candidates(code, before string) []string {
-	toks := lexemes(before)
+	toks := h.scans.lexemes(before)
 	names := h.names(code)
 	last := syntax.NEWLINE
 	if len(toks) > 0 {
@@ -183,7 +183,7 @@ func (h *Handler) commandCandidates(toks []lexeme, before string, names names) (
 	}
 	// After a whole command: its options not yet given (and a sweep's
 	// second axis).
-	_, stmts, err := syntax.Parse("", []byte(before))
+	stmts, err := h.scans.parse(before)
 	if err != nil || len(stmts) != 1 {
 		return nil, false
 	}
@@ -224,7 +224,7 @@ func (h *Handler) names(code string) names {
 		}
 	}
 	n.scenarios = m.ScenarioNames()
-	_, stmts, _ := syntax.Parse("", []byte(code))
+	stmts, _ := h.scans.parse(code)
 	for _, st := range stmts {
 		switch st := st.(type) {
 		case *syntax.InputStmt:

@@ -138,3 +138,32 @@ var binaryOperators = map[syntax.Token]bool{
 	syntax.EQL: true, syntax.NEQ: true, syntax.LSS: true, syntax.LEQ: true, syntax.GTR: true, syntax.GEQ: true,
 	syntax.AND: true, syntax.OR: true,
 }
+
+// TestConsoleScansBounded: the requests a console makes about one text
+// (is_complete, complete at each Tab, inspect) scan it a bounded number of
+// times, counted in bytes given to the scanner and parser (scanCache.scanned),
+// not in time: a megabyte line of stray characters is tokenized once for
+// is_complete, parsed once for is_complete and the names completion offers,
+// and the line before the cursor lexed once (and parsed once more where it is
+// a command), however many requests name it.
+func TestConsoleScansBounded(t *testing.T) {
+	const n = 1 << 20
+	for _, unit := range []string{"@", "(", `"`, "+", "é", "1_ ", "x = (\n", "sweep total over rate 40..80 n=3 "} {
+		h := NewHandler(New())
+		run(t, h.in, shopModel)
+		code := strings.Repeat(unit, n/len(unit))
+		h.scans.scanned = 0
+		for range 3 {
+			h.IsComplete(code)
+			h.Complete(code, len(code))
+			h.Inspect(code, len(code), 0)
+			h.Inspect(code, len(code)/2, 0)
+		}
+		// Incomplete, Parse and the lexemes of the line before the cursor
+		// (the whole text, one line or the last), and the parse of that
+		// line as a command: at most 4 times the text.
+		if got := h.scans.scanned; got > 4*len(code) {
+			t.Errorf("%q × %d: %d bytes scanned by 3 rounds of requests, want at most %d", unit, n/len(unit), got, 4*len(code))
+		}
+	}
+}

@@ -13,7 +13,6 @@ import (
 	"time"
 
 	"github.com/nudge-dev/nudge/kernel/jupyter"
-	"github.com/nudge-dev/nudge/sens/syntax"
 )
 
 // Serve runs the Jupyter kernel on the connection file until the client shuts
@@ -80,6 +79,9 @@ type Handler struct {
 	// onProgress, when set, receives every progress report instead of the
 	// notebook's progress lines (the headless runner's terminal bar).
 	onProgress func(label string, done, total int)
+	// scans keeps what the last text of is_complete, complete and inspect
+	// requests gave when scanned and parsed.
+	scans scanCache
 }
 
 // NewHandler returns a jupyter.Handler running cells in in.
@@ -119,10 +121,10 @@ func (h *Handler) IsComplete(code string) (string, string) {
 	if strings.TrimSpace(code) == "" {
 		return "complete", ""
 	}
-	if syntax.Incomplete(code) {
+	if h.scans.incomplete(code) {
 		return "incomplete", "    "
 	}
-	if _, _, err := syntax.Parse("", []byte(code)); err != nil {
+	if _, err := h.scans.parse(code); err != nil {
 		return "invalid", ""
 	}
 	return "complete", ""

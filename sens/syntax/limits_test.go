@@ -237,3 +237,32 @@ func TestLongMessagesCut(t *testing.T) {
 		}
 	}
 }
+
+// A line of a megabyte of stray characters costs no message per character:
+// the scanner formats an error only where it keeps it (the first of a line),
+// so scanning it allocates a bounded number of times, counted by
+// testing.AllocsPerRun (not timed).
+func TestStrayCharactersFormatNoMessages(t *testing.T) {
+	for _, c := range []string{"@", "$", "?", "`", "1_ ", "1_2_ ", "2kg "} {
+		src := []byte(strings.Repeat(c, (1<<20)/len(c)))
+		allocs := testing.AllocsPerRun(1, func() {
+			var errs ErrorList
+			var s Scanner
+			s.Init(NewFile("m", src), &errs)
+			for {
+				if tok, _, _ := s.Scan(); tok == EOF {
+					break
+				}
+			}
+		})
+		// The literals of tokens longer than a byte ("1_", "2") are
+		// allocated, one a token: count the tokens.
+		tokens := 0
+		if len(c) > 1 {
+			tokens = 2 * (1 << 20) / len(c)
+		}
+		if allocs > float64(tokens)+64 {
+			t.Errorf("%q × %d: %.0f allocations, want at most %d", c, (1<<20)/len(c), allocs, tokens+64)
+		}
+	}
+}

@@ -34,8 +34,14 @@ func (s *Scanner) Init(f *File, errs *ErrorList) {
 	}
 }
 
+// dropped reports whether an error at off would be dropped (another error
+// is on its line, or maxErrors lines have one): its message is then not
+// formatted, so a line of a million stray characters costs no message per
+// character.
+func (s *Scanner) dropped(off int) bool { return off < s.errEnd || s.errLines >= maxErrors }
+
 func (s *Scanner) error(off int, msg string) {
-	if off < s.errEnd || s.errLines >= maxErrors {
+	if s.dropped(off) {
 		return
 	}
 	s.errLines++
@@ -201,7 +207,7 @@ func (s *Scanner) Scan() (tok Token, pos Pos, lit string) {
 	lit = string(s.src[start:s.off])
 	if r == utf8.RuneError && w <= 1 {
 		s.error(start, "invalid UTF-8 encoding")
-	} else {
+	} else if !s.dropped(start) {
 		s.error(start, errorf("unexpected character %q", r))
 	}
 	return ILLEGAL, pos, lit
@@ -235,7 +241,9 @@ func (s *Scanner) number(start int) (Token, Pos, string) {
 	}
 	lit := string(s.src[start:s.off])
 	if strings.HasSuffix(lit, "_") || strings.Contains(lit, "__") || strings.Contains(lit, "_.") || strings.Contains(lit, "._") {
-		s.error(start, errorf("malformed number %s: '_' must separate digits", lit))
+		if !s.dropped(start) {
+			s.error(start, errorf("malformed number %s: '_' must separate digits", lit))
+		}
 	}
 	// A letter glued to a number (12kg) is a common slip: say how to write a unit.
 	if r, _ := s.peekRune(s.off); isLetter(r) {
@@ -247,8 +255,10 @@ func (s *Scanner) number(start int) (Token, Pos, string) {
 			}
 			end += w
 		}
-		word := string(s.src[s.off:end])
-		s.error(s.off, errorf("unexpected %q after number %s (write a unit in brackets: %s [%s])", word, lit, lit, word))
+		if !s.dropped(s.off) {
+			word := string(s.src[s.off:end])
+			s.error(s.off, errorf("unexpected %q after number %s (write a unit in brackets: %s [%s])", word, lit, lit, word))
+		}
 		s.off = end
 	}
 	return NUMBER, pos, lit

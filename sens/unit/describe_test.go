@@ -1,6 +1,10 @@
 package unit
 
-import "testing"
+import (
+	"runtime"
+	"strings"
+	"testing"
+)
 
 func TestDescribe(t *testing.T) {
 	for _, tc := range []struct{ in, want string }{
@@ -27,5 +31,27 @@ func TestDescribe(t *testing.T) {
 	}
 	if _, err := Describe("bogus"); err == nil {
 		t.Error("Describe(bogus) gave no error")
+	}
+}
+
+// An unknown name of a megabyte (a line of letters under a console's
+// cursor, which inspect describes as a unit) costs no edit distance per
+// unit: the distance is at least the difference of the lengths, so no unit
+// is near it. Counted in bytes allocated (runtime.MemStats.TotalAlloc), not
+// timed: each edit distance computed copies the name as runes.
+func TestSuggestLongNameBounded(t *testing.T) {
+	for _, name := range []string{strings.Repeat("a", 1<<20), strings.Repeat("é", 1<<19)} {
+		var before, after runtime.MemStats
+		runtime.ReadMemStats(&before)
+		_, err := Describe(name)
+		runtime.ReadMemStats(&after)
+		if err == nil {
+			t.Fatal("a megabyte of letters is a unit")
+		}
+		// A few copies of the name (lower case, the error's quote) are
+		// linear; an edit distance a unit would be hundreds.
+		if got := after.TotalAlloc - before.TotalAlloc; got > 32*uint64(len(name)) {
+			t.Errorf("%d bytes of %q: %d bytes allocated, want at most %d", len(name), name[:2], got, 32*len(name))
+		}
 	}
 }

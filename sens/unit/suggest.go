@@ -75,6 +75,12 @@ func suggest(name string) []string {
 	}
 	best := limit + 1
 	consider := func(word, sym string) {
+		// The distance is at least the difference of the lengths: a
+		// name much longer than every unit (a line of a megabyte) costs
+		// nothing per unit.
+		if m := utf8.RuneCountInString(word); n-m > best || m-n > best {
+			return
+		}
 		d := editDistance(name, word)
 		switch {
 		case d < best:
