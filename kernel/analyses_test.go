@@ -406,3 +406,22 @@ func TestSweepCommandDip(t *testing.T) {
 		t.Errorf("crossings %v, want [1.2 1.7]", cr)
 	}
 }
+
+// A 2-D sweep's chart draws the contour the analysis placed and verified,
+// and marks its jumps: y steps from 1 to 1e9 at x = 2 (the model's
+// condition), so each of the 4 rows passes the target 5 by a jump there.
+func TestSweep2DChartMarksJumps(t *testing.T) {
+	in := New()
+	run(t, in, "input x = 1 (0..3)\ninput w = 1 (0..3)\ny = if(x < 2, 1, 1e9) + 0*w\n")
+	s := run(t, in, "sweep y over x 0..3 and w 0..3 n=4 target=5")
+	r := s.results[0]
+	if n := len(object(t, r)["contour_jumps"].([]any)); n != 4 {
+		t.Fatalf("%d contour jumps, want 4", n)
+	}
+	if svg := r.SVG(); !strings.Contains(svg, ">jumps past the target<") {
+		t.Errorf("the chart's legend does not name the jumps (%d bytes of SVG)", len(svg))
+	}
+	if h := r.HTML(); !strings.Contains(h, "Crosses mark 4 of its points where the output jumps past the target") {
+		t.Error("the chart's description does not say where the jumps are")
+	}
+}

@@ -644,3 +644,70 @@ func TestScatter(t *testing.T) {
 		t.Errorf("ordinals %s", got)
 	}
 }
+
+// The contour a caller gives (KnownLines) is drawn as given, not
+// interpolated from the grid: for z = x² + y² on a grid of step 1, the level
+// 4 is the circle of radius 2 (common practice), which interpolation along
+// grid edges misses by up to 0.1; the given points on the circle are drawn,
+// and each jump is marked.
+func TestHeatGridKnownContour(t *testing.T) {
+	h := &HeatMap{}
+	for v := 0.0; v <= 3; v++ {
+		h.X = append(h.X, v)
+		h.Y = append(h.Y, v)
+	}
+	for _, y := range h.Y {
+		row := make([]float64, len(h.X))
+		for i, x := range h.X {
+			row[i] = x*x + y*y
+		}
+		h.Z = append(h.Z, row)
+	}
+	var line [][2]float64
+	for k := 0; k <= 8; k++ {
+		a := math.Pi / 2 * float64(k) / 8
+		line = append(line, [2]float64{2 * math.Cos(a), 2 * math.Sin(a)})
+	}
+	hg := NewHeatGrid(h.Grid(), newRamp(0, 20))
+	hg.Target = 4
+	hg.KnownLines, hg.Lines = true, [][][2]float64{line}
+	p := plot.New()
+	p.Add(hg)
+	p.HideAxes()
+	p.X.Padding, p.Y.Padding = 0, 0
+	rec := &recorder.Canvas{}
+	c := draw.NewCanvas(rec, 100, 100)
+	p.Draw(c)
+	dc := p.DataCanvas(c)
+	toData := func(pt vg.Point) (x, y float64) {
+		x = p.X.Min + float64((pt.X-dc.Min.X)/(dc.Max.X-dc.Min.X))*(p.X.Max-p.X.Min)
+		y = p.Y.Min + float64((pt.Y-dc.Min.Y)/(dc.Max.Y-dc.Min.Y))*(p.Y.Max-p.Y.Min)
+		return
+	}
+	var strokes, points int
+	var width vg.Length
+	for _, a := range rec.Actions {
+		if w, ok := a.(*recorder.SetLineWidth); ok {
+			width = w.Width
+		}
+		s, ok := a.(*recorder.Stroke)
+		if !ok || width <= 0 {
+			continue
+		}
+		strokes++
+		for _, comp := range s.Path {
+			if comp.Type != vg.MoveComp && comp.Type != vg.LineComp {
+				continue
+			}
+			points++
+			x, y := toData(comp.Pos)
+			// The drawing's own rounding: points of a 100-point canvas.
+			if r := math.Hypot(x, y); !scalar.EqualWithinAbs(r, 2, 1e-6) {
+				t.Errorf("contour point (%v, %v) at radius %v, want 2", x, y, r)
+			}
+		}
+	}
+	if strokes != 2 || points != 2*len(line) { // halo and line
+		t.Errorf("%d strokes of %d points, want 2 of %d", strokes, points, 2*len(line))
+	}
+}

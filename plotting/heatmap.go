@@ -35,6 +35,16 @@ type HeatMap struct {
 	BaselineX, BaselineY float64
 	// Target, when not nil, is an output level drawn as a contour.
 	Target *float64
+	// KnownContour, when true, says that Contour holds the contour at
+	// Target as the analysis placed it (its points on grid edges refined and
+	// verified on the model): it is drawn as given instead of a contour
+	// interpolated from the grid, so the chart shows what the text and the
+	// JSON list. Each line is a list of (x, y) points. Jumps are points of
+	// it where the output jumps past the target (a step or a pole) rather
+	// than equalling it: each is marked with a cross.
+	KnownContour bool
+	Contour      [][][2]float64
+	Jumps        [][2]float64
 }
 
 var _ Chart = (*HeatMap)(nil)
@@ -182,6 +192,9 @@ func (h *HeatMap) frame() *frame {
 		t := *h.Target
 		if h.targetInRange() {
 			f.legend = append(f.legend, legendEntry{label: "target " + unit.Format(t, u), thumb: contourThumb()})
+			if h.KnownContour && len(h.Jumps) > 0 {
+				f.legend = append(f.legend, legendEntry{label: "jumps past the target", thumb: glyphThumb(jumpGlyph())})
+			}
 		} else if h.targetReached() {
 			f.notes = append(f.notes, fmt.Sprintf("The target %s is reached only where %s is level at it, so no contour line is drawn.",
 				unit.Format(t, u), orDefault(h.Output, "the output")))
@@ -192,6 +205,12 @@ func (h *HeatMap) frame() *frame {
 		}
 	}
 	return f
+}
+
+// jumpGlyph marks a point of a contour where the output jumps past the
+// target rather than equalling it.
+func jumpGlyph() draw.GlyphStyle {
+	return draw.GlyphStyle{Color: colInk, Radius: 3.6, Shape: draw.CrossGlyph{}}
 }
 
 func contourThumb() func(c draw.Canvas) {
@@ -260,6 +279,19 @@ func (h *HeatMap) draw(c draw.Canvas) {
 	}
 	if h.baselineInside() {
 		hg.BaselineX, hg.BaselineY = h.BaselineX/sx, h.BaselineY/sy
+	}
+	if h.KnownContour {
+		hg.KnownLines = true
+		for _, l := range h.Contour {
+			sl := make([][2]float64, len(l))
+			for k, q := range l {
+				sl[k] = [2]float64{q[0] / sx, q[1] / sy}
+			}
+			hg.Lines = append(hg.Lines, sl)
+		}
+		for _, q := range h.Jumps {
+			hg.Jumps = append(hg.Jumps, [2]float64{q[0] / sx, q[1] / sy})
+		}
 	}
 	p.Add(hg)
 	p.X.Padding, p.Y.Padding = 0, 0
@@ -380,6 +412,9 @@ func (h *HeatMap) caption() string {
 	if h.Target != nil {
 		if h.targetInRange() {
 			fmt.Fprintf(&b, "The black contour is where the output equals the target %s. ", unit.Format(*h.Target, u))
+			if h.KnownContour && len(h.Jumps) > 0 {
+				fmt.Fprintf(&b, "Crosses mark %d of its points where the output jumps past the target (a step or a pole) without equalling it. ", len(h.Jumps))
+			}
 		} else if h.targetReached() {
 			fmt.Fprintf(&b, "The output reaches the target %s only where it is level at it. ", unit.Format(*h.Target, u))
 		} else {
@@ -391,8 +426,9 @@ func (h *HeatMap) caption() string {
 
 // HeatGrid draws a 2-D sweep with gonum/plot's HeatMap (rasterised, so
 // the SVG stays small) and, when Target lies inside the colour map's range,
-// a Contour at Target drawn over a white halo so that it shows on light and
-// dark cells alike. The baseline point is marked unless NaN.
+// the contour at Target drawn over a white halo so that it shows on light and
+// dark cells alike: Lines as given when KnownLines, else gonum/plot's Contour
+// interpolated from the grid. The baseline point is marked unless NaN.
 type HeatGrid struct {
 	Grid     plotter.GridXYZ
 	ColorMap palette.ColorMap
@@ -402,6 +438,12 @@ type HeatGrid struct {
 	Target float64
 	// BaselineX and BaselineY mark the baseline point; NaN for none.
 	BaselineX, BaselineY float64
+	// KnownLines, when true, says that Lines is the contour at Target to
+	// draw, as (x, y) points, instead of one interpolated from the grid;
+	// Jumps are points of it marked with a cross (see HeatMap).
+	KnownLines bool
+	Lines      [][][2]float64
+	Jumps      [][2]float64
 }
 
 var (
@@ -440,7 +482,24 @@ func (hg *HeatGrid) Plot(c draw.Canvas, p *plot.Plot) {
 			lo, hi = math.Min(lo, hg.Grid.Z(i, j)), math.Max(hi, hg.Grid.Z(i, j))
 		}
 	}
-	if !math.IsNaN(hg.Target) && lo < hg.Target && hg.Target < hi {
+	if !math.IsNaN(hg.Target) && lo < hg.Target && hg.Target < hi && hg.KnownLines {
+		trX, trY := p.Transforms(&c)
+		for _, sty := range []draw.LineStyle{lineStyle(colHalo, widthHalo), contourStyle()} {
+			for _, l := range hg.Lines {
+				if len(l) < 2 {
+					continue
+				}
+				pts := make([]vg.Point, len(l))
+				for k, q := range l {
+					pts[k] = vg.Point{X: trX(q[0]), Y: trY(q[1])}
+				}
+				c.StrokeLines(sty, c.ClipLinesXY(pts)...)
+			}
+		}
+		for _, q := range hg.Jumps {
+			drawHaloGlyph(c, jumpGlyph(), vg.Point{X: trX(q[0]), Y: trY(q[1])})
+		}
+	} else if !math.IsNaN(hg.Target) && lo < hg.Target && hg.Target < hi {
 		ct := plotter.NewContour(hg.Grid, []float64{hg.Target}, nil)
 		ct.LineStyles = []draw.LineStyle{lineStyle(colHalo, widthHalo)}
 		ct.Plot(c, p)

@@ -161,6 +161,21 @@ func Sweep2D(s *sens.Sweep2DResult, o *Options) *Result {
 	}
 	ch := &plotting.HeatMap{Output: s.Output, Unit: s.Unit, XName: ax.Name, XUnit: ax.Unit, YName: ay.Name, YUnit: ay.Unit,
 		X: ax.Values, Y: ay.Values, BaselineX: ax.Baseline, BaselineY: ay.Baseline, Target: s.Target}
+	if s.Target != nil {
+		// The contour as the analysis placed and verified it, with its
+		// jumps marked: the chart shows what the text and the JSON list.
+		ch.KnownContour = true
+		for _, l := range s.Contour {
+			pl := make([][2]float64, len(l))
+			for k, q := range l {
+				pl[k] = [2]float64{q.X, q.Y}
+			}
+			ch.Contour = append(ch.Contour, pl)
+		}
+		for _, q := range s.ContourJumps {
+			ch.Jumps = append(ch.Jumps, [2]float64{q.X, q.Y})
+		}
+	}
 	for rr := range ay.Values {
 		row := make([]float64, nx)
 		for c := range row {
