@@ -56,6 +56,17 @@ type Cones struct {
 	// dirty is set when an operation the output needs hides a non-finite
 	// value at the base (in a branch not taken; see hides): see Eval.
 	dirty bool
+	// The compiled cones of a tape without loop nodes (conecode.go).
+	lastCode   coneCode
+	lastCodeOK bool
+	recs       []crec  // a record a node
+	multi      []int32 // the users of nodes with more than one
+	frames     []coneFrame
+	dirs       []int8 // a register's direction, while compiling
+	sw         *coneSweep
+	// The nodes of the cones evaluated so far, and the cones (a point's
+	// in a sweep): their average size chooses between sweeps and runs.
+	coneNodes, coneRuns int
 }
 
 // ErrNoCones is the error of Cones for a tape whose operations cones do
@@ -87,6 +98,20 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	p := t.p
 	c.needed = p.reach(i)
 	c.dirty = !c.cleanBase()
+	c.mono = make([]int8, p.nIn)
+	if !vec {
+		// The compiled cones and sweeps build what they need on their
+		// first use (conecode.go, conesweep.go); the node-by-node cones
+		// (Memo, Step) too (initUsers).
+		return c, nil
+	}
+	c.initUsers()
+	return c, nil
+}
+
+// initUsers builds what the node-by-node cones need (cone, coneOf):
+// the users of each node and the search's buffers.
+func (c *Cones) initUsers() {
 	n := len(c.needed)
 	// Users, in compressed rows: count, then fill.
 	c.ustart = make([]int32, n+2)
@@ -101,17 +126,9 @@ func (t *Tape) Cones(x []float64, i int) (*Cones, error) {
 	})
 	c.ustart = c.ustart[:n+1]
 	c.seen = make([]uint32, n)
-	if !vec {
-		c.scratch = make([]int32, 3*len(p.ops))
-		for k := range c.scratch {
-			c.scratch[k] = -1
-		}
-	}
 	c.dir = make([]int8, n)
 	c.bits = make([]uint64, (n+63)/64)
 	c.work = slices.Clone(c.vals)
-	c.mono = make([]int8, p.nIn)
-	return c, nil
 }
 
 // edges calls f(k, a) for each operand a of each node k the output needs,
@@ -195,6 +212,9 @@ func (c *Cones) cone(inputs []int32) []int32 {
 // coneOf returns the cone of input i (and j, when j >= 0), the last one
 // asked for again without a search, with c.seen marking it.
 func (c *Cones) coneOf(i, j int) []int32 {
+	if c.ustart == nil {
+		c.initUsers()
+	}
 	key := [2]int32{int32(i), int32(j)}
 	if c.lastOK && c.last == key {
 		c.stamp++
@@ -230,7 +250,7 @@ func (c *Cones) coneOf(i, j int) []int32 {
 	if c.memo != nil {
 		return c.remember(key)
 	}
-	if j < 0 {
+	if j < 0 && c.vec { // else compileCone proves it
 		if c.mono[i] == 0 {
 			c.mono[i] = 1
 			if c.monotone(i, c.lastCone) {
@@ -251,7 +271,13 @@ func (c *Cones) plan(i, j int) *plan {
 	if j >= 0 {
 		inputs = append(inputs, int32(j))
 	}
-	nodes := c.coneOf(i, j)
+	nodes := c.tapeOrder(i, j)
+	if c.scratch == nil {
+		c.scratch = make([]int32, 3*len(c.t.p.ops))
+		for k := range c.scratch {
+			c.scratch[k] = -1
+		}
+	}
 	pl := c.t.newPlan(planSrc{nodes: nodes, inputs: inputs, value: func(k int32) float64 { return c.vals[k] }},
 		c.t.p.outs[c.out], c.scratch)
 	if c.planInstrs+len(pl.code) > coneCache {
@@ -265,7 +291,12 @@ func (c *Cones) plan(i, j int) *plan {
 
 // Size returns the number of operations in the cone of input i (and input
 // j, when j >= 0): the work of one point, in tape nodes.
-func (c *Cones) Size(i, j int) int { return len(c.coneOf(i, j)) }
+func (c *Cones) Size(i, j int) int {
+	if !c.vec {
+		return len(c.code(i, j).code)
+	}
+	return len(c.coneOf(i, j))
+}
 
 // Monotone reports whether the output is proven monotone in input i alone
 // (the others at the base), rising or falling over the whole line, from
@@ -290,8 +321,12 @@ func (c *Cones) Size(i, j int) int { return len(c.coneOf(i, j)) }
 // at the model's structure and the base, not at sampled values, so no
 // shape between samples can fool it.
 func (c *Cones) Monotone(i int) bool {
-	if c.mono[i] == 0 {
+	switch {
+	case c.mono[i] != 0:
+	case c.vec || c.memo != nil: // under Memo, coneOf proves nothing
 		c.coneOf(i, -1)
+	default:
+		c.code(i, -1)
 	}
 	return c.mono[i] == 2
 }
@@ -379,49 +414,15 @@ func (c *Cones) d(k int32) int8 {
 // operation of three), and whether op keeps the output affine in the
 // cone's input.
 func (c *Cones) opDir(op Op, a, b, z int32) (r int8, affine bool) {
-	in, d := c.in, c.d
-	switch {
-	case op == OpAdd || op == OpSub || op == OpNeg:
-		affine = true
-	case op == OpMul && !(in(a) && in(b)):
-		affine = true
-	case op == OpDiv && !in(b):
-		affine = true
-	case op == OpIf && !in(a):
-		affine = true
+	ina, inb := c.in(a), c.in(b)
+	var va, vb float64
+	if !ina && (op == OpMul || op == OpIf) {
+		va = c.vals[a]
 	}
-	r = dirUnknown
-	switch op {
-	case OpAdd, OpMax, OpMin:
-		r = dirBoth(d(a), d(b))
-	case OpSub:
-		r = dirBoth(d(a), dirNeg(d(b)))
-	case OpNeg, OpAcos:
-		r = dirNeg(d(a))
-	case OpExp, OpLn, OpLog10, OpSqrt, OpAtan, OpAsin, OpFloor, OpCeil, OpRound:
-		r = d(a)
-	case OpMul:
-		switch {
-		case in(a) && in(b):
-		case in(a):
-			r = dirTimes(d(a), c.vals[b])
-		default:
-			r = dirTimes(d(b), c.vals[a])
-		}
-	case OpDiv:
-		if !in(b) {
-			r = dirTimes(d(a), c.vals[b])
-		}
-	case OpIf:
-		if !in(a) {
-			if c.vals[a] != 0 {
-				r = d(b)
-			} else {
-				r = d(z)
-			}
-		}
+	if !inb && (op == OpMul || op == OpDiv) {
+		vb = c.vals[b]
 	}
-	return r, affine
+	return opDirection(op, ina, inb, c.in(z), c.d(a), c.d(b), c.d(z), va, vb)
 }
 
 // Eval writes into dst the output at n points: the base with input i set
@@ -442,8 +443,8 @@ func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n 
 	if c.vec {
 		return c.evalVec(dst, i, vi, j, vj, n)
 	}
-	if n <= scalarPoints {
-		return c.evalScalar(dst, i, vi, j, vj, n)
+	if n <= codePoints {
+		return c.evalCode(dst, i, vi, j, vj, n)
 	}
 	pl := c.plan(i, j)
 	w := planWidth(pl.nreg)
@@ -484,45 +485,10 @@ func (c *Cones) Eval(dst []float64, i int, vi []float64, j int, vj []float64, n 
 	return nil
 }
 
-// scalarPoints is the number of points up to which Eval runs a cone node
-// by node over the base values instead of compiling a plan for it.
-const scalarPoints = 4
-
-// evalScalar is Eval for a few points: the cone's nodes are run in tape
-// order over a copy of the base values, one point after another, and
-// restored after each.
-func (c *Cones) evalScalar(dst []float64, i int, vi []float64, j int, vj []float64, n int) error {
-	nodes := c.coneOf(i, j)
-	p := c.t.p
-	v := c.work
-	out := p.outs[c.out]
-	for s := 0; s < n; s++ {
-		v[i] = vi[s]
-		if j >= 0 {
-			v[j] = vj[s]
-		}
-		bad := false
-		for _, k := range nodes {
-			if p.step(v, k) {
-				bad = true
-			}
-		}
-		dst[s] = v[out]
-		for _, k := range nodes {
-			v[k] = c.vals[k]
-		}
-		v[i] = c.vals[i]
-		if j >= 0 {
-			v[j] = c.vals[j]
-		}
-		if bad || !finite(dst[s]) {
-			if err := c.reference(dst, i, vi, j, vj, s, 1); err != nil {
-				return err
-			}
-		}
-	}
-	return nil
-}
+// codePoints is the number of points up to which Eval runs a cone's
+// compiled code point by point (evalCode) instead of compiling a batched
+// plan for it.
+const codePoints = 4
 
 // reference evaluates points base..base+m-1 by the tape's scalar pass, to
 // find the error a block's test flagged, and returns it, or nil when the

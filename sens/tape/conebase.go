@@ -65,6 +65,7 @@ func (c *Cones) Rebase(x []float64) error {
 	// reductions.
 	clear(c.mono)
 	clear(c.plans)
+	c.lastCodeOK = false // its gathered operands are base values (conecode.go)
 	c.planInstrs = 0
 	v := &c.vc
 	clear(v.trees)
@@ -244,6 +245,7 @@ func (c *Cones) Step(i int, v float64) (float64, error) {
 	}
 	clear(c.mono)
 	clear(c.plans)
+	c.lastCodeOK = false
 	c.planInstrs = 0
 	return y, nil
 }
