@@ -50,7 +50,7 @@ const (
 // coneBatch is the number of points a batch evaluates through cones: a
 // sweep reads the tape once a batch, so a batch holds the ends of many
 // inputs (16,384 points take about 10 ms on a tape of 340,000 nodes).
-const coneBatch = 1 << 14
+const coneBatch = 1 << 16
 
 func newBatcher(f Function, base []float64, s *Settings) *batcher {
 	dim := len(base)

@@ -9,7 +9,8 @@ import (
 // The tornado of the scale model's total (tapebench.ScaleModel, the model of
 // `nudge bench scale`) against one forward evaluation of the total,
 // interleaved: the ratio is the tornado's cost in whole-tape forward
-// evaluations. 100,000 lines, or NUDGE_SCALE_LINES:
+// evaluations, by time (ratio) and by the process's CPU time (cpu-ratio),
+// each to be multiplied by 50. 100,000 lines, or NUDGE_SCALE_LINES:
 //
 //	go test ./sens/ -run '^$' -bench ScaleTornado -benchtime=3x
 func benchmarkScaleTornado(b *testing.B, ifs bool) {
@@ -43,7 +44,7 @@ func benchmarkScaleTornado(b *testing.B, ifs bool) {
 		}
 		return nil
 	}
-	tapebench.Pair(b, 1, 1, "tornado", "forward50", tornado, forward)
+	cpuPair(b, 1, "tornado", "forward50", tornado, forward)
 	b.ReportMetric(float64(res.Evaluations), "points")
 }
 

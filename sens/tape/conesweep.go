@@ -8,13 +8,15 @@ import (
 
 // A sweep evaluates many points near the base in one pass over the tape,
 // for a batch that changes many inputs (a tornado's ends: two points for
-// every input). Each node holds the list of the points whose cone it is
-// in, with its value at each, sorted by point; a node's list is the merge
-// of its operands' lists, and an operand without an entry for a point
-// takes its base value. So each point costs exactly its cone's operations,
-// as Cones.Eval, but the tape is read in order, once a batch, and the
-// lists are read and written in order, instead of each point's cone
-// being searched for and visited node by node over the whole tape.
+// every input). Each node holds the list of the runs of points (points in
+// a row that change the same inputs) whose cone it is in, with its value
+// at each of their points, sorted by run; a node's list is the merge of
+// its operands' lists, and an operand without an entry for a run takes
+// its base value. So each point costs exactly its cone's operations, as
+// Cones.Eval, but the tape is read in order, once a batch, the lists are
+// read and written in order, and the points of a run are computed
+// together, instead of each run's cone being searched for and visited
+// node by node over the whole tape.
 //
 // The values are those of Eval to the last bit (the same operations on
 // the same operands). A point whose cone saw a non-finite operand at a
@@ -23,36 +25,43 @@ import (
 // input the sweep also proves monotonicity (Monotone) on the way, from
 // the same directions compileCone uses.
 
-// sweepEntry is a point's value at a node.
+// sweepEntry is a run's values at a node: vals[off:off+w], w the number of
+// the run's points.
 type sweepEntry struct {
-	v  float64
-	id int32 // the point
-	f  uint8 // swBad | swRep | swAffine
-	d  int8  // direction in the point's input (swRep entries only)
+	off int32
+	id  int32 // the run
+	f   uint8 // swBad | swRep | swAffine
+	d   int8  // direction in the run's input (swRep entries only)
 }
 
 const (
-	swBad    = 1 << iota // a guard saw a non-finite operand
-	swRep                // the point decides the monotonicity of its input
+	swBad    = 1 << iota // a guard saw a non-finite operand at a point of the run
+	swRep                // the run decides the monotonicity of its input
 	swAffine             // swRep: every operation so far keeps the output affine
 )
 
 // coneSweep is the state of the sweeps of a Cones, allocated on the first.
 type coneSweep struct {
-	span   [][2]int32 // a node's list: arena[span[k][0]:span[k][1]], when has
-	has    []uint64   // a bit a node: it has a list in this sweep
-	last   []int32    // the last node that reads each node (needed ones)
-	arena  []sweepEntry
-	spare  []sweepEntry
-	owners []int32 // the nodes with lists, in arena order
-	keep   []int32
-	count  []int32 // points an input, while building the inputs' lists
+	span   []sweepSpan // a node's list, when has
+	has    []uint64    // a bit a node: it has a list in this sweep
+	last   []int32     // the last node that reads each node (needed ones)
+	ents   []sweepEntry
+	vals   []float64
+	owners []int32 // the nodes with lists, in the arena's order
+	count  []int32 // runs an input, while building the inputs' lists
 	at     []int32
+	runAt  []int32 // the first point of each run, and one past the last run's
 }
 
-// sweepArena is the number of entries above which a sweep drops the lists
-// no node will read again. A variable, for the tests.
-var sweepArena = 1 << 20
+// sweepSpan is a node's list: entries ents[e0:e1], whose values are
+// vals[v0:v1].
+type sweepSpan struct{ e0, e1, v0, v1 int32 }
+
+// sweepArena is the number of values a sweep writes, past the inputs'
+// lists, before it drops the lists no node will read again (compact): a
+// megabyte, so that the lists it reads are mostly still in the cache. A
+// variable, for the tests.
+var sweepArena = 1 << 17
 
 // EvalPoints sweeps when its runs of points (points in a row that change
 // the same inputs) would visit more than 1/sweepCost as many nodes, by
@@ -129,7 +138,7 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 	sw := c.sw
 	if sw == nil {
 		sw = &coneSweep{
-			span:  make([][2]int32, n),
+			span:  make([]sweepSpan, n),
 			has:   make([]uint64, (n+63)/64),
 			last:  make([]int32, n),
 			count: make([]int32, p.nIn),
@@ -153,57 +162,97 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			sw.has[k>>6] = 0
 		}
 		sw.owners = sw.owners[:0]
-		sw.arena = sw.arena[:0]
+		sw.ents, sw.vals = sw.ents[:0], sw.vals[:0]
 	}()
 
-	// The inputs' lists, by a counting sort of the points' inputs. The
-	// first point of one input whose monotonicity is not known yet
-	// decides it.
+	// The runs.
+	runAt := sw.runAt[:0]
+	for s := range dst {
+		if s == 0 || is[s] != is[s-1] || js[s] != js[s-1] {
+			runAt = append(runAt, int32(s))
+		}
+	}
+	runAt = append(runAt, int32(len(dst)))
+	sw.runAt = runAt
+	runs := len(runAt) - 1
+
+	// The inputs' lists, by a counting sort of the runs' inputs. The
+	// first run of one input whose monotonicity is not known yet decides
+	// it.
 	count, at := sw.count, sw.at
 	clear(count)
-	for s := range dst {
-		if is[s] >= 0 {
-			c.coneRuns++
+	for r := range runs {
+		s := runAt[r]
+		i, j := is[s], js[s]
+		if i >= 0 {
+			c.coneRuns += int(runAt[r+1] - s)
 		}
-		if i := is[s]; i >= 0 && int(i) < n {
+		if i >= 0 && int(i) < n {
 			count[i]++
-		} else if i >= 0 && js[s] < 0 {
+		} else if i >= 0 && j < 0 {
 			c.mono[i] = 2 // the output does not read it
 		}
-		if j := js[s]; j >= 0 && int(j) < n {
+		if j >= 0 && int(j) < n {
 			count[j]++
 		}
 	}
+	// Entries first, values after: the values of input i's list are set
+	// run by run below, in the order of its entries.
 	total := int32(0)
 	for i, m := range count {
 		if m == 0 {
 			continue
 		}
 		at[i] = total
-		sw.span[i] = [2]int32{total, total + m}
+		sw.span[i] = sweepSpan{e0: total, e1: total + m}
 		sw.has[i>>6] |= 1 << (i & 63)
 		sw.owners = append(sw.owners, int32(i))
 		total += m
 	}
-	arena := slices.Grow(sw.arena[:0], int(total))[:total]
-	for s := range dst {
+	// Room for the cones' values, as far as their average size so far
+	// tells, up to sweepArena.
+	avg := coneGuess
+	if c.coneRuns > 0 {
+		avg = max(1, c.coneNodes/c.coneRuns)
+	}
+	room := min(sweepArena, 2*len(dst)*avg)
+	ents := slices.Grow(sw.ents[:0], int(total)+room/2)[:total]
+	vals := slices.Grow(sw.vals[:0], 2*len(dst)+room)
+	for r := range runs {
+		s := runAt[r]
 		if i := is[s]; i >= 0 && int(i) < n {
-			e := sweepEntry{v: vi[s], id: int32(s)}
+			en := sweepEntry{id: int32(r)}
 			if js[s] < 0 && c.mono[i] == 0 {
-				c.mono[i] = 3 // decided by this point, below
-				e.f, e.d = swRep|swAffine, 1
+				c.mono[i] = 3 // decided by this run, below
+				en.f, en.d = swRep|swAffine, 1
 			}
-			arena[at[i]] = e
+			ents[at[i]] = en
 			at[i]++
 		}
 		if j := js[s]; j >= 0 && int(j) < n {
-			arena[at[j]] = sweepEntry{v: vj[s], id: int32(s)}
+			ents[at[j]] = sweepEntry{id: int32(r)}
 			at[j]++
 		}
 	}
+	// The values, list by list.
+	for _, i := range sw.owners {
+		sp := &sw.span[i]
+		sp.v0 = int32(len(vals))
+		for q := sp.e0; q < sp.e1; q++ {
+			en := &ents[q]
+			s, e := runAt[en.id], runAt[en.id+1]
+			en.off = int32(len(vals))
+			if is[s] == i {
+				vals = append(vals, vi[s:e]...)
+			} else {
+				vals = append(vals, vj[s:e]...)
+			}
+		}
+		sp.v1 = int32(len(vals))
+	}
 
 	// The operations, in tape order.
-	vals := c.vals
+	base := c.vals
 	for k := int32(p.start); k <= out; k++ {
 		op := p.ops[k]
 		if !c.needed[k] || op == opArg {
@@ -215,53 +264,55 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			z = p.a[k+1]
 		}
 		hasA := sw.has[a>>6]>>(a&63)&1 != 0
-		hasB := sw.has[b>>6]>>(b&63)&1 != 0
-		hasZ := sw.has[z>>6]>>(z&63)&1 != 0
+		hasB := sw.has[b>>6]>>(b&63)&1 != 0 && b != a
+		hasZ := sw.has[z>>6]>>(z&63)&1 != 0 && z != a && z != b
 		if !hasA && !hasB && !hasZ {
 			continue
 		}
 		// Each operand's list, empty where it has none or repeats one
 		// before it (its value is then that operand's).
-		var sa, sb, sz [2]int32
-		if hasA {
-			sa = sw.span[a]
-		}
-		if hasB && b != a {
-			sb = sw.span[b]
-		}
-		if hasZ && z != a && z != b {
-			sz = sw.span[z]
-		}
-		m := int(sa[1] - sa[0] + sb[1] - sb[0] + sz[1] - sz[0])
-		if len(arena)+m > cap(arena) && len(arena) >= sweepArena {
-			arena = sw.compact(arena, k, m)
-			sa, sb, sz = sw.span[a], sw.span[b], sw.span[z]
-			if !hasA {
-				sa = [2]int32{}
+		span := func() (sa, sb, sz sweepSpan) {
+			if hasA {
+				sa = sw.span[a]
 			}
-			if !hasB || b == a {
-				sb = [2]int32{}
+			if hasB {
+				sb = sw.span[b]
 			}
-			if !hasZ || z == a || z == b {
-				sz = [2]int32{}
+			if hasZ {
+				sz = sw.span[z]
 			}
+			return
 		}
-		arena = slices.Grow(arena, m)
-		start := int32(len(arena))
+		sa, sb, sz := span()
+		m := int(sa.e1 - sa.e0 + sb.e1 - sb.e0 + sz.e1 - sz.e0)
+		mv := int(sa.v1 - sa.v0 + sb.v1 - sb.v0 + sz.v1 - sz.v0)
+		if len(ents)+m > cap(ents) || len(vals)+mv > cap(vals) {
+			sw.ents, sw.vals = ents, vals
+			sw.compact(k)
+			ents, vals = sw.ents, sw.vals
+			sa, sb, sz = span()
+			// Room for twice what is alive, so that compacting stays cheap.
+			ents = slices.Grow(ents, max(m, len(ents)))
+			vals = slices.Grow(vals, max(mv, len(vals)))
+		}
+		sp := sweepSpan{e0: int32(len(ents)), v0: int32(len(vals))}
+		sc := sweepCtx{ents: ents, vals: vals, runAt: runAt, op: op}
 		switch {
 		case op.Arity() == 3:
-			arena = sweep3(arena, op, sa, sb, sz, a, b, z, vals)
+			sc.three(sa, sb, sz, a, b, z, base)
 		case b == a:
-			arena = sweep1(arena, op, sa, vals[a])
+			sc.one(sa)
 		default:
-			arena = sweep2(arena, op, sa, sb, vals[a], vals[b])
+			sc.two(sa, sb, base[a], base[b])
 		}
-		sw.span[k] = [2]int32{start, int32(len(arena))}
-		c.coneNodes += len(arena) - int(start)
+		ents, vals = sc.ents, sc.vals
+		sp.e1, sp.v1 = int32(len(ents)), int32(len(vals))
+		sw.span[k] = sp
 		sw.has[k>>6] |= 1 << (k & 63)
 		sw.owners = append(sw.owners, k)
+		c.coneNodes += int(sp.v1 - sp.v0)
 	}
-	sw.arena = arena
+	sw.ents, sw.vals = ents, vals
 
 	// The output at each point, and the points the scalar pass must check.
 	for s := range dst {
@@ -269,25 +320,28 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 	}
 	var list []sweepEntry
 	if sw.has[out>>6]>>(out&63)&1 != 0 {
-		list = arena[sw.span[out][0]:sw.span[out][1]]
+		list = ents[sw.span[out].e0:sw.span[out].e1]
 	}
-	for _, e := range list {
-		dst[e.id] = e.v
-		if e.f&swBad != 0 {
-			dst[e.id] = math.NaN() // for the scalar pass, below
+	for _, en := range list {
+		s, e := runAt[en.id], runAt[en.id+1]
+		copy(dst[s:e], vals[en.off:])
+		if en.f&swBad != 0 {
+			for q := s; q < e; q++ {
+				dst[q] = math.NaN() // for the scalar pass, below
+			}
 		}
-		if e.f&swRep != 0 {
-			i := is[e.id]
+		if en.f&swRep != 0 {
+			i := is[s]
 			c.mono[i] = 1
-			if e.f&swAffine != 0 || e.d != dirUnknown {
+			if en.f&swAffine != 0 || en.d != dirUnknown {
 				c.mono[i] = 2
 			}
 		}
 	}
-	// A point of one input whose cone does not reach the output leaves
-	// it unchanged: monotone.
-	for s := range dst {
-		if i := is[s]; i >= 0 && c.mono[i] == 3 {
+	// A run of one input whose cone does not reach the output leaves it
+	// unchanged: monotone.
+	for r := range runs {
+		if i := is[runAt[r]]; i >= 0 && c.mono[i] == 3 {
 			c.mono[i] = 2
 		}
 	}
@@ -305,36 +359,331 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 	return nil
 }
 
-// compact drops from the arena the lists that no node from k on reads,
-// and returns the new arena, with room for m entries and at least
-// sweepArena more. The arena and the spare buffer trade places, so that
-// a sweep whose lists alive stay few allocates no more.
-func (sw *coneSweep) compact(arena []sweepEntry, k int32, m int) []sweepEntry {
-	live := 0
-	for _, q := range sw.owners {
-		if sw.last[q] >= k {
-			live += int(sw.span[q][1] - sw.span[q][0])
-		}
-	}
-	if need := live + m + max(live, sweepArena); cap(sw.spare) < need {
-		sw.spare = make([]sweepEntry, 0, need)
-	}
-	next := sw.spare[:0]
-	keep := sw.keep[:0]
+// compact drops the lists that no node from k on reads, moving the others
+// down in place (their order in the arenas is that of owners).
+func (sw *coneSweep) compact(k int32) {
+	ents, vals := sw.ents, sw.vals
+	e, v := int32(0), int32(0)
+	keep := sw.owners[:0]
 	for _, q := range sw.owners {
 		if sw.last[q] < k {
 			sw.has[q>>6] &^= 1 << (q & 63)
 			continue
 		}
-		s := sw.span[q]
-		sw.span[q] = [2]int32{int32(len(next)), int32(len(next)) + s[1] - s[0]}
-		next = append(next, arena[s[0]:s[1]]...)
+		sp := sw.span[q]
+		shift := v - sp.v0
+		e0 := e
+		for t := sp.e0; t < sp.e1; t++ {
+			en := ents[t]
+			en.off += shift
+			ents[e] = en
+			e++
+		}
+		v += int32(copy(vals[v:], vals[sp.v0:sp.v1]))
+		sw.span[q] = sweepSpan{e0: e0, e1: e, v0: sp.v0 + shift, v1: v}
 		keep = append(keep, q)
 	}
-	sw.spare = arena[:0]
-	sw.keep = sw.owners[:0]
 	sw.owners = keep
-	return next
+	sw.ents, sw.vals = ents[:e], vals[:v]
+}
+
+// sweepCtx appends a node's list to the arenas.
+type sweepCtx struct {
+	ents  []sweepEntry
+	vals  []float64
+	runAt []int32
+	op    Op
+}
+
+// lanes appends the values of a new entry of run id and returns them.
+func (sc *sweepCtx) lanes(id int32) (int32, []float64) {
+	w := int(sc.runAt[id+1] - sc.runAt[id])
+	off := len(sc.vals)
+	sc.vals = sc.vals[:off+w]
+	return int32(off), sc.vals[off : off+w : off+w]
+}
+
+// rep sets the direction of entry e, of a run that decides monotonicity,
+// from its operands' entries (nil outside the cone) and the base values x0
+// and y0 of a and b.
+func rep(e *sweepEntry, op Op, ea, eb, ez *sweepEntry, x0, y0 float64) {
+	d := func(e *sweepEntry) int8 {
+		if e != nil {
+			return e.d
+		}
+		return 0
+	}
+	aff := true
+	for _, o := range [3]*sweepEntry{ea, eb, ez} {
+		if o != nil && o.f&swAffine == 0 {
+			aff = false
+		}
+	}
+	dir, opAff := opDirection(op, ea != nil, eb != nil, ez != nil, d(ea), d(eb), d(ez), x0, y0)
+	e.d = dir
+	if !aff || !opAff {
+		e.f &^= swAffine
+	}
+}
+
+// one appends the list of op(x) over the list sa of x (or of op(x, x)).
+func (sc *sweepCtx) one(sa sweepSpan) {
+	op := sc.op
+	guard := opMetas[op].guard
+	for q := sa.e0; q < sa.e1; q++ {
+		ea := sc.ents[q]
+		e := sweepEntry{id: ea.id, f: ea.f}
+		var v []float64
+		e.off, v = sc.lanes(ea.id)
+		x := sc.vals[ea.off : int(ea.off)+len(v)]
+		if op == OpNeg {
+			for l := range v {
+				v[l] = -x[l]
+			}
+		} else {
+			bad := false
+			for l := range v {
+				v[l] = evalOp(op, x[l], x[l], 0)
+				bad = bad || !finite(x[l])
+			}
+			if guard && bad {
+				e.f |= swBad
+			}
+		}
+		if e.f&swRep != 0 {
+			rep(&e, op, &ea, &ea, &ea, 0, 0)
+		}
+		sc.ents = append(sc.ents, e)
+	}
+}
+
+// two appends the list of op(x, y) over the lists sa of x and sb of y,
+// whose base values are x0 and y0.
+func (sc *sweepCtx) two(sa, sb sweepSpan, x0, y0 float64) {
+	op := sc.op
+	pa, pb := sa.e0, sb.e0
+	for pa < sa.e1 || pb < sb.e1 {
+		var ea, eb *sweepEntry
+		switch {
+		case pb == sb.e1 || pa < sa.e1 && sc.ents[pa].id < sc.ents[pb].id:
+			ea = &sc.ents[pa]
+			pa++
+		case pa == sa.e1 || sc.ents[pb].id < sc.ents[pa].id:
+			eb = &sc.ents[pb]
+			pb++
+		default:
+			ea, eb = &sc.ents[pa], &sc.ents[pb]
+			pa++
+			pb++
+		}
+		var e sweepEntry
+		var x, y []float64
+		if ea != nil {
+			e.id, e.f = ea.id, ea.f
+		}
+		if eb != nil {
+			e.id = eb.id
+			e.f |= eb.f
+		}
+		var v []float64
+		e.off, v = sc.lanes(e.id)
+		if ea != nil {
+			x = sc.vals[ea.off : int(ea.off)+len(v)]
+		}
+		if eb != nil {
+			y = sc.vals[eb.off : int(eb.off)+len(v)]
+		}
+		if op == OpAdd && x != nil && y != nil {
+			y = y[:len(x)]
+			for l := range x {
+				v[l] = x[l] + y[l]
+			}
+		} else if lanes2(op, v, x, y, x0, y0) {
+			e.f |= swBad
+		}
+		if e.f&swRep != 0 {
+			if op == OpAdd {
+				// rep, for the commonest operation.
+				var da, db int8
+				aff := true
+				if ea != nil {
+					da, aff = ea.d, ea.f&swAffine != 0
+				}
+				if eb != nil {
+					db, aff = eb.d, aff && eb.f&swAffine != 0
+				}
+				e.d = dirBoth(da, db)
+				if !aff {
+					e.f &^= swAffine
+				}
+			} else {
+				rep(&e, op, ea, eb, ea, x0, y0)
+			}
+		}
+		sc.ents = append(sc.ents, e)
+	}
+}
+
+// lanes2 sets v[l] = op(x[l], y[l]), x[l] being x0 where x is nil and y[l]
+// y0 where y is nil, and reports whether a guard saw a non-finite operand
+// (as tapeProg.step).
+func lanes2(op Op, v, x, y []float64, x0, y0 float64) bool {
+	switch {
+	case x != nil && y != nil:
+		x, y = x[:len(v)], y[:len(v)]
+		switch op {
+		case OpAdd:
+			for l := range v {
+				v[l] = x[l] + y[l]
+			}
+		case OpSub:
+			for l := range v {
+				v[l] = x[l] - y[l]
+			}
+		case OpMul:
+			for l := range v {
+				v[l] = x[l] * y[l]
+			}
+		default:
+			bad := false
+			for l := range v {
+				var b bool
+				v[l], b = stepOp(op, x[l], y[l])
+				bad = bad || b
+			}
+			return bad
+		}
+	case x != nil:
+		x = x[:len(v)]
+		switch op {
+		case OpAdd:
+			for l := range v {
+				v[l] = x[l] + y0
+			}
+		case OpSub:
+			for l := range v {
+				v[l] = x[l] - y0
+			}
+		case OpMul:
+			for l := range v {
+				v[l] = x[l] * y0
+			}
+		default:
+			bad := false
+			for l := range v {
+				var b bool
+				v[l], b = stepOp(op, x[l], y0)
+				bad = bad || b
+			}
+			return bad
+		}
+	default:
+		y = y[:len(v)]
+		switch op {
+		case OpAdd:
+			for l := range v {
+				v[l] = x0 + y[l]
+			}
+		case OpSub:
+			for l := range v {
+				v[l] = x0 - y[l]
+			}
+		case OpMul:
+			for l := range v {
+				v[l] = x0 * y[l]
+			}
+		default:
+			bad := false
+			for l := range v {
+				var b bool
+				v[l], b = stepOp(op, x0, y[l])
+				bad = bad || b
+			}
+			return bad
+		}
+	}
+	return false
+}
+
+// stepOp is op(x, y) of an operation of two operands other than + - *,
+// and whether a guard saw a non-finite operand, as tapeProg.step.
+func stepOp(op Op, x, y float64) (float64, bool) {
+	if op == OpDiv {
+		return x / y, !finite(y)
+	}
+	return evalOp(op, x, y, 0), opMetas[op].guard && !(finite(x) && finite(y))
+}
+
+// three appends the list of op(x, y, z) over operands a, b and z, whose
+// lists are sa, sb and sz (empty for an operand that repeats one before
+// it).
+func (sc *sweepCtx) three(sa, sb, sz sweepSpan, a, b, z int32, base []float64) {
+	const none = math.MaxInt32
+	op := sc.op
+	x0, y0, z0 := base[a], base[b], base[z]
+	guard := opMetas[op].guard
+	pa, pb, pz := sa.e0, sb.e0, sz.e0
+	for pa < sa.e1 || pb < sb.e1 || pz < sz.e1 {
+		id := int32(none)
+		if pa < sa.e1 {
+			id = sc.ents[pa].id
+		}
+		if pb < sb.e1 {
+			id = min(id, sc.ents[pb].id)
+		}
+		if pz < sz.e1 {
+			id = min(id, sc.ents[pz].id)
+		}
+		var ea, eb, ez *sweepEntry
+		if pa < sa.e1 && sc.ents[pa].id == id {
+			ea = &sc.ents[pa]
+			pa++
+		}
+		if pb < sb.e1 && sc.ents[pb].id == id {
+			eb = &sc.ents[pb]
+			pb++
+		}
+		if pz < sz.e1 && sc.ents[pz].id == id {
+			ez = &sc.ents[pz]
+			pz++
+		}
+		// An operand repeated takes the value of the one before.
+		if b == a {
+			eb = ea
+		}
+		if z == a {
+			ez = ea
+		} else if z == b {
+			ez = eb
+		}
+		e := sweepEntry{id: id}
+		for _, o := range [3]*sweepEntry{ea, eb, ez} {
+			if o != nil {
+				e.f |= o.f
+			}
+		}
+		var v []float64
+		e.off, v = sc.lanes(id)
+		lane := func(o *sweepEntry, v0 float64, l int) float64 {
+			if o != nil {
+				return sc.vals[int(o.off)+l]
+			}
+			return v0
+		}
+		bad := false
+		for l := range v {
+			x, y, zv := lane(ea, x0, l), lane(eb, y0, l), lane(ez, z0, l)
+			v[l] = evalOp(op, x, y, zv)
+			bad = bad || !(finite(x) && finite(y) && finite(zv))
+		}
+		if guard && bad {
+			e.f |= swBad
+		}
+		if e.f&swRep != 0 {
+			rep(&e, op, ea, eb, ez, x0, y0)
+		}
+		sc.ents = append(sc.ents, e)
+	}
 }
 
 // point evaluates one point by the tape's scalar pass.
@@ -357,174 +706,4 @@ func (c *Cones) point(i int, vi float64, j int, vj float64) (float64, error) {
 		x[j] = c.base[j]
 	}
 	return y, err
-}
-
-// sweep1 appends to arena the list of a node op(x) whose operand's list
-// is arena[sa[0]:sa[1]].
-func sweep1(arena []sweepEntry, op Op, sa [2]int32, x0 float64) []sweepEntry {
-	guard := opMetas[op].guard
-	for q := sa[0]; q < sa[1]; q++ {
-		ea := &arena[q]
-		x := ea.v
-		e := sweepEntry{id: ea.id, f: ea.f}
-		switch op {
-		case OpNeg:
-			e.v = -x
-		default:
-			e.v = evalOp(op, x, x, 0)
-			if guard && !finite(x) {
-				e.f |= swBad
-			}
-		}
-		if e.f&swRep != 0 {
-			var aff bool
-			e.d, aff = opDirection(op, true, true, true, ea.d, ea.d, ea.d, x, x)
-			if !aff {
-				e.f &^= swAffine
-			}
-		}
-		arena = append(arena, e)
-	}
-	return arena
-}
-
-// sweep2 appends to arena the list of a node op(x, y) whose operands'
-// lists are arena[sa[0]:sa[1]] and arena[sb[0]:sb[1]], and whose values
-// at the base are x0 and y0.
-func sweep2(arena []sweepEntry, op Op, sa, sb [2]int32, x0, y0 float64) []sweepEntry {
-	guard := opMetas[op].guard
-	pa, pb := sa[0], sb[0]
-	for pa < sa[1] || pb < sb[1] {
-		var ea, eb *sweepEntry
-		switch {
-		case pb == sb[1] || pa < sa[1] && arena[pa].id < arena[pb].id:
-			ea = &arena[pa]
-			pa++
-		case pa == sa[1] || arena[pb].id < arena[pa].id:
-			eb = &arena[pb]
-			pb++
-		default:
-			ea, eb = &arena[pa], &arena[pb]
-			pa++
-			pb++
-		}
-		x, y := x0, y0
-		var e sweepEntry
-		if ea != nil {
-			x, e.id, e.f = ea.v, ea.id, ea.f
-		}
-		if eb != nil {
-			y, e.id = eb.v, eb.id
-			e.f |= eb.f
-		}
-		switch op {
-		case OpAdd:
-			e.v = x + y
-		case OpSub:
-			e.v = x - y
-		case OpMul:
-			e.v = x * y
-		case OpDiv:
-			e.v = x / y
-			if !finite(y) {
-				e.f |= swBad
-			}
-		default:
-			e.v = evalOp(op, x, y, 0)
-			if guard && !(finite(x) && finite(y)) {
-				e.f |= swBad
-			}
-		}
-		if e.f&swRep != 0 {
-			var da, db int8
-			aff := true
-			if ea != nil {
-				da, aff = ea.d, ea.f&swAffine != 0
-			}
-			if eb != nil {
-				db, aff = eb.d, aff && eb.f&swAffine != 0
-			}
-			dir, opAff := opDirection(op, ea != nil, eb != nil, ea != nil, da, db, da, x, y)
-			e.d = dir
-			if !aff || !opAff {
-				e.f &^= swAffine
-			}
-		}
-		arena = append(arena, e)
-	}
-	return arena
-}
-
-// sweep3 appends to arena the list of a node op(x, y, z) whose operands
-// are nodes a, b and z: sa, sb and sz are their lists, empty for an
-// operand that repeats one before it.
-func sweep3(arena []sweepEntry, op Op, sa, sb, sz [2]int32, a, b, z int32, vals []float64) []sweepEntry {
-	const none = math.MaxInt32
-	x0, y0, z0 := vals[a], vals[b], vals[z]
-	guard := opMetas[op].guard
-	for sa[0] < sa[1] || sb[0] < sb[1] || sz[0] < sz[1] {
-		id := int32(none)
-		if sa[0] < sa[1] {
-			id = arena[sa[0]].id
-		}
-		if sb[0] < sb[1] {
-			id = min(id, arena[sb[0]].id)
-		}
-		if sz[0] < sz[1] {
-			id = min(id, arena[sz[0]].id)
-		}
-		x, y, zv := x0, y0, z0
-		var ea, eb, ez *sweepEntry
-		if sa[0] < sa[1] && arena[sa[0]].id == id {
-			ea = &arena[sa[0]]
-			x = ea.v
-			sa[0]++
-		}
-		if sb[0] < sb[1] && arena[sb[0]].id == id {
-			eb = &arena[sb[0]]
-			y = eb.v
-			sb[0]++
-		}
-		if sz[0] < sz[1] && arena[sz[0]].id == id {
-			ez = &arena[sz[0]]
-			zv = ez.v
-			sz[0]++
-		}
-		// An operand repeated takes the value of the one before.
-		if b == a {
-			y, eb = x, ea
-		}
-		if z == a {
-			zv, ez = x, ea
-		} else if z == b {
-			zv, ez = y, eb
-		}
-		e := sweepEntry{id: id}
-		aff := true
-		for _, o := range [3]*sweepEntry{ea, eb, ez} {
-			if o != nil {
-				e.f |= o.f
-				aff = aff && o.f&swAffine != 0
-			}
-		}
-		e.v = evalOp(op, x, y, zv)
-		if guard && !(finite(x) && finite(y) && finite(zv)) {
-			e.f |= swBad
-		}
-		if e.f&swRep != 0 {
-			d := func(e *sweepEntry) int8 {
-				if e != nil {
-					return e.d
-				}
-				return 0
-			}
-			dir, opAff := opDirection(op, ea != nil, eb != nil, ez != nil, d(ea), d(eb), d(ez), x, y)
-			e.d = dir
-			if !aff || !opAff {
-				e.f &^= swAffine
-			}
-		}
-		arena = append(arena, e)
-	}
-	return arena
 }

@@ -51,7 +51,7 @@ func TestEvalPointsAgreesWithTape(t *testing.T) {
 		// few entries.
 		sweepArena = 1 << 20
 		if f%2 == 0 {
-			sweepArena = 4
+			sweepArena = 16
 		}
 		for _, sweep := range []bool{true, false} {
 			c, err := tp.Cones(x0, 0)
