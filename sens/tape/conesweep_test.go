@@ -145,7 +145,7 @@ func TestMonotoneCompiledAndSwept(t *testing.T) {
 			if got := c1.Monotone(i); got != want {
 				t.Errorf("formula %d, input %d: compiled monotone %v, want %v", f, i, got, want)
 			}
-			if c2.mono[i] == 0 {
+			if c2.mono[i] == 0 && !c2.dirty { // a dirty base is not swept
 				t.Errorf("formula %d, input %d: the sweep left monotonicity unknown", f, i)
 			}
 			if got := c2.Monotone(i); got != want {
@@ -160,5 +160,51 @@ func TestMonotoneCompiledAndSwept(t *testing.T) {
 	}
 	if yes < 1000 || no < 1000 {
 		t.Errorf("%d monotone, %d not: the test covers too little", yes, no)
+	}
+}
+
+// TestCodeAfterRebaseAndStep checks that a compiled cone does not outlive
+// its base: after Rebase and after Step (conebase.go), the points of an
+// input evaluated just before are evaluated around the new base, to the
+// last bit of the reference pass, on random formulas of a tape without
+// loop nodes.
+func TestCodeAfterRebaseAndStep(t *testing.T) {
+	const nIn = 3
+	g := &rgen{rng: rand.New(rand.NewPCG(17, 29)), nIn: nIn}
+	tested := 0
+	for f := 0; f < 1000; f++ {
+		tp := g.expr(4).tape(nIn, int32(f))
+		x0 := []float64{0.7, -1.3, 2.1}
+		x1 := []float64{1.9, 0.4, -0.6}
+		c, err := tp.Cones(x0, 0)
+		if err != nil {
+			continue
+		}
+		if _, err := tp.Clone().Eval(x1, 0); err != nil {
+			continue
+		}
+		vi := []float64{0.25, -2.5}
+		out := make([]float64, 2)
+		c.Eval(out, 0, vi, -1, nil, 2) // compiles input 0's cone around x0
+		if err := c.Rebase(x1); err != nil {
+			t.Fatalf("formula %d: %v", f, err)
+		}
+		pts := [][]float64{{vi[0], x1[1], x1[2]}, {vi[1], x1[1], x1[2]}}
+		want, bad, wantErr := evalRef(tp.Clone(), pts, 0)
+		if d := agree(out, c.Eval(out, 0, vi, -1, nil, 2), want, bad, wantErr); d != "" {
+			t.Errorf("formula %d, after Rebase: %s", f, d)
+		}
+		tested++
+		if _, err := c.Step(1, 1.1); err != nil {
+			continue
+		}
+		pts = [][]float64{{vi[0], 1.1, x1[2]}, {vi[1], 1.1, x1[2]}}
+		want, bad, wantErr = evalRef(tp.Clone(), pts, 0)
+		if d := agree(out, c.Eval(out, 0, vi, -1, nil, 2), want, bad, wantErr); d != "" {
+			t.Errorf("formula %d, after Step: %s", f, d)
+		}
+	}
+	if tested < 300 {
+		t.Errorf("%d formulas tested: too few", tested)
 	}
 }
