@@ -424,6 +424,14 @@ func (t *Tape) reverseBlock(m, out int) {
 					ga[s] += g / xs[s]
 				}
 			}
+		case OpAbs: // as reverseNodes: nothing passes at 0, not even an infinite adjoint
+			for s, g := range gk {
+				if x := xs[s]; x > 0 {
+					ga[s] += g
+				} else if x < 0 {
+					ga[s] -= g
+				}
+			}
 		case OpMin:
 			for s, g := range gk {
 				if xs[s] <= ys[s] {
