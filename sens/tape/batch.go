@@ -166,9 +166,10 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 	bs := p.b[:stop]
 	nIn, start := int32(p.nIn), int32(p.start)
 	isConst := func(s int32) bool { return s >= nIn && s < start }
-	// computed: a value that may be non-finite (anything but a
-	// constant).
-	computed := func(s int32) bool { return !isConst(s) }
+	// computed: a value that may be non-finite (anything but a finite
+	// constant: the Builder takes Const(±Inf) and Const(NaN), and a guard
+	// operation must report them as Eval does).
+	computed := func(s int32) bool { return !isConst(s) || !finite(t.vals[s]) }
 	for k := p.start; k < stop; k++ {
 		op := ops[k]
 		if op == opArg {

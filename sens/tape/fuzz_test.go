@@ -547,3 +547,26 @@ func TestGradientBatchAbsAtZero(t *testing.T) {
 		t.Errorf("gradients %v at %v: want 0 at 0, 1/(2·2) at 4, -1/(2·3) at -9", grads, xs)
 	}
 }
+
+// x / +Inf: the Builder takes an infinite constant, and a guard operation
+// (division) with a non-finite operand is a domain error for Eval and
+// Gradient (op.go); the node-major block pass of GradientBatch skipped the
+// test of constant operands and returned 0 (found by FuzzEvalPaths).
+func TestGradientBatchInfiniteConstant(t *testing.T) {
+	for _, c := range []float64{math.Inf(1), math.Inf(-1), math.NaN()} {
+		b := NewBuilder()
+		x := b.Input()
+		b.SetPos(3)
+		tp := b.Tape(b.Binary(OpDiv, x, b.Const(c)))
+		xs := []float64{0, 1, 2, 3, 4, 5, 6, 7, 8, 9}
+		_, want := tp.Gradient([]float64{0}, xs[:1], 0)
+		if want == nil {
+			t.Fatalf("x / %v: Gradient reports no error", c)
+		}
+		out, grads := make([]float64, len(xs)), make([]float64, len(xs))
+		err := tp.GradientBatch(out, grads, xs, len(xs), 0)
+		if errKey(err) != withSample(want, 0) {
+			t.Errorf("x / %v: GradientBatch reports %s, Gradient %s", c, errKey(err), withSample(want, 0))
+		}
+	}
+}
