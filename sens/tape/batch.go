@@ -264,7 +264,7 @@ func (t *Tape) runBlock(m, stop int) (bad bool) {
 				}
 			}
 			vecOp(op, o, xs, ys, zs)
-			if opMetas[op].guard && (computed(a) && !allFinite(xs) || op != OpPowConst && computed(b) && !allFinite(ys)) {
+			if opMetas[op].guard && (computed(a) && !allFinite(xs) || computed(b) && !allFinite(ys)) {
 				bad = true
 			}
 		}

@@ -456,7 +456,7 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 				}
 			}
 			test(a, 1)
-			if ar >= 2 && op != OpPowConst {
+			if ar >= 2 { // x^c: an infinite c too, as Eval
 				test(b, 2)
 			}
 			if ar == 3 {
