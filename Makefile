@@ -17,7 +17,8 @@ build:
 # Every test: Go tests, the race detector on the concurrent packages, a short
 # fuzz run of each parser (the CSV and notebook readers too), of the compiler,
 # of the interpreter on whole cells and of the kernel's wire reader (frames,
-# handshake, messages), the Jupyter conformance suite, every notebook
+# handshake, messages) and of the evaluation passes against each other
+# (FuzzEvalPaths), the Jupyter conformance suite, every notebook
 # executed through nbconvert, JupyterLab's rendermime registry on the
 # kernel's bundles, and a real browser on the classic Notebook and on the
 # what-if panel. The Debian packages they need are installed first when
@@ -46,6 +47,7 @@ fuzz:
 	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=10s ./kernel/jupyter/
 	go test -run='^$$' -fuzz='^FuzzReadTable$$' -fuzztime=10s ./sens/
 	go test -run='^$$' -fuzz='^FuzzRead$$' -fuzztime=10s ./kernel/notebook/
+	go test -run='^$$' -fuzz='^FuzzEvalPaths$$' -fuzztime=15s ./sens/tape/
 
 $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)
