@@ -616,3 +616,52 @@ func TestEvalPathsPowInfiniteExponent(t *testing.T) {
 		checkEvalPaths(t, tp, xs, len(xs))
 	}
 }
+
+// Gradient of an output that is a dot product of direct inputs, on a tape
+// where a guard operation before it that the output does not need sees a
+// value that is not finite (y / acos(y) at y = 2): the search that clears that operation of blame used the
+// adjoint buffer as scratch after the dot had stored its amounts, and the
+// pass then ran the dot again from the search's marks, doubling the
+// gradient (-10 for -5) and, for a dot of a computed vector, reading marks
+// as adjoints (found by FuzzEvalPaths). The reference is the same
+// computation of scalar operations (SetLoopMin).
+func TestGradientDotAfterNonFiniteNode(t *testing.T) {
+	build := func(loopMin int, computed bool) *Tape {
+		b := NewBuilder()
+		b.SetLoopMin(loopMin)
+		y := b.Input()
+		v := b.VecInput(10)
+		w := b.VecInput(10)
+		b.SetPos(1)
+		a := b.Binary(OpDiv, y, b.Unary(OpAcos, y)) // a guard that sees NaN
+		cs := make([]float64, 10)
+		for i := range cs {
+			cs[i] = -5 + float64(i)/4
+		}
+		u := b.VecConst(cs)
+		if computed {
+			u = b.Map(OpExp, w)
+		}
+		d := b.Dot(u, v)
+		return b.Tape(b.Binary(OpAdd, b.Sum(v), a), d)
+	}
+	for _, computed := range []bool{false, true} {
+		tp, ref := build(2, computed), build(1<<30, computed)
+		x := make([]float64, 21)
+		x[0] = 2 // acos(2) is not finite
+		for i := 1; i < 21; i++ {
+			x[i] = float64(i) / 8
+		}
+		got, want := make([]float64, 21), make([]float64, 21)
+		fg, eg := tp.Gradient(got, x, 1)
+		fw, ew := ref.Gradient(want, x, 1)
+		if eg != nil || ew != nil || fg != fw {
+			t.Fatalf("computed %v: Gradient %v, %v; scalar build %v, %v", computed, fg, eg, fw, ew)
+		}
+		for j := range got {
+			if !closeGrad(got[j], want[j]) {
+				t.Errorf("computed %v: ∂/∂x%d is %v, scalar build %v", computed, j, got[j], want[j])
+			}
+		}
+	}
+}

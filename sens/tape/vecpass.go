@@ -748,6 +748,12 @@ func (t *Tape) gradientDot(dst, x []float64, i int) (f float64, ok bool, err err
 			return math.NaN(), true, err
 		}
 		t.xin = x // the values are on the tape too; the pass reads either
+		// The search used t.adj as scratch: the adjoints are cleared and
+		// the dot's amounts stored again, in a new pass.
+		p.clearShared(t.adj, end)
+		ls.begin(p, dst, x)
+		setx, sety = ls.fresh(p, li, 0), ls.fresh(p, li, 1)
+		v[out] = dotGrad(xs, ys, ax, ay, 1, setx, sety)
 	}
 	sure := finite(v[out]) // see loopReverseFast
 	ls.sure(p, li, 0, setx, sure)
