@@ -137,6 +137,23 @@ func (p *tapeProg) findSpans() {
 // vector operand i is such a map, just before them and read by nothing
 // else (chain[l] = i+1): when the sum runs their pass, every element of
 // that operand has one adjoint too, and they run its pass in turn.
+// readsTwice reports whether an operand of map l other than i reads a slot
+// of the vector operand i (m + m, m + m[3]): that vector's elements then
+// get more than one adjoint each.
+func (l *loop) readsTwice(i int) bool {
+	lo, hi := l.arg[i], l.arg[i]+l.n
+	for j := range int(l.op.Arity()) {
+		n := int32(1)
+		if l.step[j] != 0 {
+			n = l.n
+		}
+		if j != i && l.arg[j] < hi && l.arg[j]+n > lo {
+			return true
+		}
+	}
+	return false
+}
+
 func (p *tapeProg) findFuse() {
 	type cand struct {
 		lo, hi, li int32 // the map's slots, its reader's loop
@@ -164,7 +181,7 @@ func (p *tapeProg) findFuse() {
 		case l.kind == loopMap && fusable(l) && !(l.op == OpMul && l.step[0]+l.step[1] == 2):
 			// A map whose vector operands get one adjoint each.
 			for i := range 2 {
-				if _, ok := before(i); ok && l.step[i] == 1 {
+				if _, ok := before(i); ok && l.step[i] == 1 && !l.readsTwice(i) {
 					cands = append(cands, cand{l.arg[i], int32(k), p.a[k], int8(i)})
 					break
 				}
