@@ -131,202 +131,1003 @@ func cmpIndex(op Op) int {
 // when one of them is not finite. o may be one of x, y and z: a lane reads
 // its operands before it writes.
 func runFused(k kind, o, x, y, z []float64) (chk float64) {
-	x, y, z = x[:len(o)], y[:len(o)], z[:len(o)]
+	o = o[:len(o):len(o)]
+	x, y, z = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]
 	switch k {
 	case kFAddAddL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = t + d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = t + d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = t + d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = t + d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = t + d
 		}
 	case kFAddAddR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = d + t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = d + t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = d + t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = d + t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = d + t
 		}
 	case kFAddSubL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = t - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = t - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = t - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = t - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = t - d
 		}
 	case kFAddSubR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = d - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = d - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = d - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = d - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = d - t
 		}
 	case kFAddMulL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = t * d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = t * d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = t * d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = t * d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = t * d
 		}
 	case kFAddMulR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = d * t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = d * t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = d * t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = d * t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = d * t
 		}
 	case kFAddDivL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = t / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = t / d
 			chk += d - d
 		}
 	case kFAddDivR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[0] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[1] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[2] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u + w)
+				o4[3] = d / t
+				chk += t - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
 			o[s] = d / t
 			chk += t - t
 		}
 	case kFSubAddL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = t + d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = t + d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = t + d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = t + d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = t + d
 		}
 	case kFSubAddR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = d + t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = d + t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = d + t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = d + t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = d + t
 		}
 	case kFSubSubL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = t - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = t - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = t - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = t - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = t - d
 		}
 	case kFSubSubR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = d - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = d - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = d - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = d - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = d - t
 		}
 	case kFSubMulL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = t * d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = t * d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = t * d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = t * d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = t * d
 		}
 	case kFSubMulR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = d * t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = d * t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = d * t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = d * t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = d * t
 		}
 	case kFSubDivL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = t / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = t / d
 			chk += d - d
 		}
 	case kFSubDivR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[0] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[1] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[2] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u - w)
+				o4[3] = d / t
+				chk += t - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
 			o[s] = d / t
 			chk += t - t
 		}
 	case kFMulAddL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = t + d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = t + d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = t + d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = t + d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = t + d
 		}
 	case kFMulAddR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = d + t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = d + t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = d + t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = d + t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = d + t
 		}
 	case kFMulSubL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = t - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = t - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = t - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = t - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = t - d
 		}
 	case kFMulSubR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = d - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = d - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = d - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = d - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = d - t
 		}
 	case kFMulMulL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = t * d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = t * d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = t * d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = t * d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = t * d
 		}
 	case kFMulMulR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = d * t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = d * t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = d * t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = d * t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = d * t
 		}
 	case kFMulDivL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = t / d
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = t / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = t / d
 			chk += d - d
 		}
 	case kFMulDivR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[0] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[1] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[2] = d / t
+				chk += t - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u * w)
+				o4[3] = d / t
+				chk += t - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
 			o[s] = d / t
 			chk += t - t
 		}
 	case kFDivAddL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = t + d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = t + d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = t + d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = t + d
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = t + d
 			chk += w - w
 		}
 	case kFDivAddR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = d + t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = d + t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = d + t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = d + t
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = d + t
 			chk += w - w
 		}
 	case kFDivSubL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = t - d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = t - d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = t - d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = t - d
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = t - d
 			chk += w - w
 		}
 	case kFDivSubR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = d - t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = d - t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = d - t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = d - t
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = d - t
 			chk += w - w
 		}
 	case kFDivMulL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = t * d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = t * d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = t * d
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = t * d
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = t * d
 			chk += w - w
 		}
 	case kFDivMulR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = d * t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = d * t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = d * t
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = d * t
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = d * t
 			chk += w - w
 		}
 	case kFDivDivL:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = t / d
+				chk += w - w
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = t / d
+				chk += w - w
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = t / d
+				chk += w - w
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = t / d
+				chk += w - w
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = t / d
@@ -334,7 +1135,39 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFDivDivR:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[0] = d / t
+				chk += w - w
+				chk += t - t
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[1] = d / t
+				chk += w - w
+				chk += t - t
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[2] = d / t
+				chk += w - w
+				chk += t - t
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
+				t := float64(u / w)
+				o4[3] = d / t
+				chk += w - w
+				chk += t - t
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
 			o[s] = d / t

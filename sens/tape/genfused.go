@@ -93,28 +93,30 @@ func main() {
 	p("// runFused runs a fused instruction over a block: o = (x op1 y) op2 z or\n")
 	p("// z op2 (x op1 y). It returns the sum of d - d over the divisors: NaN\n// when one of them is not finite. o may be one of x, y and z: a lane reads\n// its operands before it writes.\n")
 	p("func runFused(k kind, o, x, y, z []float64) (chk float64) {\n")
-	p("\tx, y, z = x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+	p("\to = o[:len(o):len(o)]\n\tx, y, z = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]\n\tswitch k {\n")
 	for _, o1 := range ops {
 		for _, o2 := range ops {
 			for _, side := range []string{"L", "R"} {
-				p("\tcase kF%s%s%s:\n\t\tfor s := range o {\n", o1.name, o2.name, side)
-				p("\t\t\tu, w, d := x[s], y[s], z[s] // first: o may be x, y or z\n")
-				p("\t\t\tt := float64(u %s w)\n", o1.sym)
+				p("\tcase kF%s%s%s:\n", o1.name, o2.name, side)
+				var lane strings.Builder
+				l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
+				l("u, w, d := x[s], y[s], z[s] // first: o may be x, y or z\n")
+				l("t := float64(u %s w)\n", o1.sym)
 				if side == "L" {
-					p("\t\t\to[s] = t %s d\n", o2.sym)
+					l("o[s] = t %s d\n", o2.sym)
 				} else {
-					p("\t\t\to[s] = d %s t\n", o2.sym)
+					l("o[s] = d %s t\n", o2.sym)
 				}
 				if o1.sym == "/" {
-					p("\t\t\tchk += w - w\n")
+					l("chk += w - w\n")
 				}
 				if o2.sym == "/" && side == "L" {
-					p("\t\t\tchk += d - d\n")
+					l("chk += d - d\n")
 				}
 				if o2.sym == "/" && side == "R" {
-					p("\t\t\tchk += t - t\n")
+					l("chk += t - t\n")
 				}
-				p("\t\t}\n")
+				p("%s", laneLoop([]string{"o", "x", "y", "z"}, lane.String()))
 			}
 		}
 	}
@@ -269,9 +271,17 @@ func genPlanTriples() {
 				p("// over the divisors v: NaN when one is not finite. o may be one of the\n// operands: a lane reads them before it writes.\n")
 				p("func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {\n")
 			}
-			p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n")
-			if keep {
-				p("\tr1, r2 = r1[:len(o)], r2[:len(o)]\n")
+			if vec {
+				p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n")
+				if keep {
+					p("\tr1, r2 = r1[:len(o)], r2[:len(o)]\n")
+				}
+			} else {
+				// Capacities of len(o): the four-lane steps need no bounds checks.
+				p("\to = o[:len(o):len(o)]\n\tx, y, z, w = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)], w[:len(o):len(o)]\n")
+				if keep {
+					p("\tr1, r2 = r1[:len(o):len(o)], r2[:len(o):len(o)]\n")
+				}
 			}
 			p("\tswitch k {\n")
 			for i1, o1 := range ops {
@@ -323,19 +333,23 @@ func genPlanTriples() {
 								for _, v := range divs {
 									p("\t\t\tchk = chk.Add(%s.Sub(%s))\n", v, v)
 								}
+								p("\t\t}\n")
 							} else {
-								p("\t\tfor s := range o {\n")
-								p("\t\t\ta, b, c, d := x[s], y[s], z[s], w[s]\n")
-								p("\t\t\tt1 := float64(a %s b)\n\t\t\tt2 := float64(%s %s %s)\n", o1.sym, x2, o2.sym, y2)
-								p("\t\t\to[s] = %s %s %s\n", x3, o3.sym, y3)
+								var lane strings.Builder
+								l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
+								l("a, b, c, d := x[s], y[s], z[s], w[s]\n")
+								l("t1 := float64(a %s b)\nt2 := float64(%s %s %s)\n", o1.sym, x2, o2.sym, y2)
+								l("o[s] = %s %s %s\n", x3, o3.sym, y3)
+								rows := []string{"o", "x", "y", "z", "w"}
 								if keep {
-									p("\t\t\tr1[s], r2[s] = t1, t2\n")
+									l("r1[s], r2[s] = t1, t2\n")
+									rows = append(rows, "r1", "r2")
 								}
 								for _, v := range divs {
-									p("\t\t\tchk += %s - %s\n", v, v)
+									l("chk += %s - %s\n", v, v)
 								}
+								p("%s", laneLoop(rows, lane.String()))
 							}
-							p("\t\t}\n")
 						}
 					}
 				}
@@ -880,4 +894,30 @@ func forSeqs(f func(off int, seq []int)) {
 			f(off, seq)
 		}
 	}
+}
+
+// laneLoop returns a pure-Go loop over the lanes of o that runs body, one
+// lane's code indexing the rows (o among them, each of capacity len(o)) by
+// [s]: four lanes a step through arrays of four, which needs no bounds
+// checks and a quarter of the loop's own instructions, then one lane a
+// step for the rest. The lanes still run one after the other, each
+// reading its operands before it writes: o may be one of the operands.
+func laneLoop(rows []string, body string) string {
+	var b strings.Builder
+	var names, convs []string
+	for _, r := range rows {
+		names = append(names, r+"4")
+		convs = append(convs, "(*[4]float64)("+r+"[s:s+4])")
+	}
+	b.WriteString("s := 0\nfor ; s < len(o)-3; s += 4 {\n")
+	b.WriteString(strings.Join(names, ", ") + " := " + strings.Join(convs, ", ") + "\n")
+	for j := range 4 {
+		lane := body
+		for _, r := range rows {
+			lane = strings.ReplaceAll(lane, r+"[s]", fmt.Sprintf("%s4[%d]", r, j))
+		}
+		b.WriteString("{\n" + lane + "}\n")
+	}
+	b.WriteString("}\nfor ; s < len(o); s++ {\n" + body + "}\n")
+	return b.String()
 }

@@ -9,136 +9,673 @@ import "math"
 // over the divisors v: NaN when one is not finite. o may be one of the
 // operands: a lane reads them before it writes.
 func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
-	x, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]
+	o = o[:len(o):len(o)]
+	x, y, z, w = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)], w[:len(o):len(o)]
 	switch k {
 	case kFusedEnd + 0: // + + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 1: // + + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 2: // + + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 3: // + + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 4: // + + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 5: // + + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 6: // + + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 7: // + + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 8: // + + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 9: // + + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 10: // + + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 11: // + + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 12: // + + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 13: // + + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 14: // + + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 15: // + + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 16: // + + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 17: // + + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 18: // + + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -146,7 +683,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 19: // + + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -154,7 +723,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 20: // + + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -162,7 +763,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 21: // + + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -170,7 +803,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 22: // + + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -178,7 +843,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 23: // + + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -186,133 +883,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 24: // + - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 25: // + - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 26: // + - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 27: // + - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 28: // + - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 29: // + - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 30: // + - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 31: // + - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 32: // + - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 33: // + - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 34: // + - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 35: // + - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 36: // + - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 37: // + - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 38: // + - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 39: // + - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 40: // + - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 41: // + - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 42: // + - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -320,7 +1553,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 43: // + - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -328,7 +1593,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 44: // + - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -336,7 +1633,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 45: // + - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -344,7 +1673,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 46: // + - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -352,7 +1713,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 47: // + - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -360,133 +1753,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 48: // + * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 49: // + * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 50: // + * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 51: // + * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 52: // + * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 53: // + * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 54: // + * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 55: // + * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 56: // + * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 57: // + * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 58: // + * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 59: // + * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 60: // + * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 61: // + * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 62: // + * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 63: // + * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 64: // + * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 65: // + * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 66: // + * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -494,7 +2423,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 67: // + * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -502,7 +2463,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 68: // + * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -510,7 +2503,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 69: // + * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -518,7 +2543,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 70: // + * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -526,7 +2583,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 71: // + * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -534,7 +2623,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 72: // + / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -542,7 +2663,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 73: // + / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -550,7 +2703,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 74: // + / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -558,7 +2743,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 75: // + / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -566,7 +2783,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 76: // + / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -574,7 +2823,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 77: // + / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -582,7 +2863,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 78: // + / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -590,7 +2903,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 79: // + / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -598,7 +2943,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 80: // + / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -606,7 +2983,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 81: // + / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -614,7 +3023,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 82: // + / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -622,7 +3063,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 83: // + / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -630,7 +3103,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 84: // + / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -638,7 +3143,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 85: // + / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -646,7 +3183,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 86: // + / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -654,7 +3223,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 87: // + / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -662,7 +3263,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 88: // + / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -670,7 +3303,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 89: // + / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -678,7 +3343,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 90: // + / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -687,7 +3388,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 91: // + / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -696,7 +3433,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 92: // + / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -705,7 +3478,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 93: // + / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -714,7 +3523,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 94: // + / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -723,7 +3568,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 95: // + / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -732,133 +3613,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 96: // - + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 97: // - + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 98: // - + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 99: // - + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 100: // - + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 101: // - + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 102: // - + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 103: // - + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 104: // - + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 105: // - + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 106: // - + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 107: // - + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 108: // - + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 109: // - + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 110: // - + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 111: // - + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 112: // - + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 113: // - + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 114: // - + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -866,7 +4283,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 115: // - + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -874,7 +4323,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 116: // - + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -882,7 +4363,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 117: // - + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -890,7 +4403,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 118: // - + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -898,7 +4443,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 119: // - + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -906,133 +4483,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 120: // - - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 121: // - - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 122: // - - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 123: // - - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 124: // - - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 125: // - - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 126: // - - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 127: // - - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 128: // - - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 129: // - - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 130: // - - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 131: // - - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 132: // - - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 133: // - - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 134: // - - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 135: // - - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 136: // - - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 137: // - - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 138: // - - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -1040,7 +5153,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 139: // - - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -1048,7 +5193,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 140: // - - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -1056,7 +5233,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 141: // - - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -1064,7 +5273,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 142: // - - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -1072,7 +5313,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 143: // - - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -1080,133 +5353,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 144: // - * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 145: // - * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 146: // - * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 147: // - * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 148: // - * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 149: // - * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 150: // - * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 151: // - * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 152: // - * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 153: // - * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 154: // - * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 155: // - * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 156: // - * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 157: // - * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 158: // - * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 159: // - * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 160: // - * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 161: // - * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 162: // - * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -1214,7 +6023,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 163: // - * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -1222,7 +6063,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 164: // - * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -1230,7 +6103,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 165: // - * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -1238,7 +6143,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 166: // - * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -1246,7 +6183,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 167: // - * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -1254,7 +6223,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 168: // - / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1262,7 +6263,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 169: // - / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1270,7 +6303,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 170: // - / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1278,7 +6343,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 171: // - / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1286,7 +6383,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 172: // - / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1294,7 +6423,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 173: // - / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1302,7 +6463,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 174: // - / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1310,7 +6503,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 175: // - / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1318,7 +6543,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 176: // - / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1326,7 +6583,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 177: // - / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1334,7 +6623,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 178: // - / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1342,7 +6663,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 179: // - / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1350,7 +6703,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 180: // - / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1358,7 +6743,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 181: // - / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1366,7 +6783,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 182: // - / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1374,7 +6823,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 183: // - / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1382,7 +6863,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 184: // - / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1390,7 +6903,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 185: // - / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1398,7 +6943,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 186: // - / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1407,7 +6988,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 187: // - / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -1416,7 +7033,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 188: // - / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1425,7 +7078,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 189: // - / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -1434,7 +7123,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 190: // - / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1443,7 +7168,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 191: // - / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -1452,133 +7213,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 192: // * + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 193: // * + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 194: // * + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 195: // * + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 196: // * + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 197: // * + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 198: // * + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 199: // * + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 200: // * + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 201: // * + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 202: // * + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 203: // * + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 204: // * + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 205: // * + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 206: // * + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 207: // * + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 208: // * + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 209: // * + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 210: // * + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -1586,7 +7883,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 211: // * + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -1594,7 +7923,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 212: // * + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -1602,7 +7963,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 213: // * + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -1610,7 +8003,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 214: // * + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -1618,7 +8043,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 215: // * + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -1626,133 +8083,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 216: // * - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 217: // * - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 218: // * - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 219: // * - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 220: // * - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 221: // * - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 222: // * - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 223: // * - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 224: // * - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 225: // * - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 226: // * - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 227: // * - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 228: // * - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 229: // * - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 230: // * - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 231: // * - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 232: // * - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 233: // * - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 234: // * - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -1760,7 +8753,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 235: // * - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -1768,7 +8793,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 236: // * - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -1776,7 +8833,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 237: // * - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -1784,7 +8873,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 238: // * - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -1792,7 +8913,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 239: // * - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -1800,133 +8953,669 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 240: // * * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 241: // * * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 242: // * * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
 			o[s] = t2 + d
 		}
 	case kFusedEnd + 243: // * * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
 			o[s] = d + t2
 		}
 	case kFusedEnd + 244: // * * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
 			o[s] = t1 + t2
 		}
 	case kFusedEnd + 245: // * * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
 			o[s] = t2 + t1
 		}
 	case kFusedEnd + 246: // * * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 247: // * * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 248: // * * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
 			o[s] = t2 - d
 		}
 	case kFusedEnd + 249: // * * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
 			o[s] = d - t2
 		}
 	case kFusedEnd + 250: // * * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
 			o[s] = t1 - t2
 		}
 	case kFusedEnd + 251: // * * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
 			o[s] = t2 - t1
 		}
 	case kFusedEnd + 252: // * * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 253: // * * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 254: // * * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
 			o[s] = t2 * d
 		}
 	case kFusedEnd + 255: // * * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
 			o[s] = d * t2
 		}
 	case kFusedEnd + 256: // * * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
 			o[s] = t1 * t2
 		}
 	case kFusedEnd + 257: // * * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 258: // * * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -1934,7 +9623,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 259: // * * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -1942,7 +9663,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 260: // * * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -1950,7 +9703,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 261: // * * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -1958,7 +9743,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 262: // * * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -1966,7 +9783,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 263: // * * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -1974,7 +9823,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 264: // * / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -1982,7 +9863,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 265: // * / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -1990,7 +9903,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 266: // * / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -1998,7 +9943,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 267: // * / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2006,7 +9983,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 268: // * / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2014,7 +10023,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 269: // * / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2022,7 +10063,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 270: // * / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -2030,7 +10103,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 271: // * / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -2038,7 +10143,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 272: // * / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2046,7 +10183,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 273: // * / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2054,7 +10223,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 274: // * / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2062,7 +10263,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 275: // * / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2070,7 +10303,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 276: // * / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -2078,7 +10343,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 277: // * / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -2086,7 +10383,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 278: // * / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2094,7 +10423,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 279: // * / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2102,7 +10463,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 280: // * / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2110,7 +10503,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 281: // * / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2118,7 +10543,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 282: // * / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -2127,7 +10588,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 283: // * / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -2136,7 +10633,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 284: // * / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2145,7 +10678,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 285: // * / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -2154,7 +10723,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 286: // * / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2163,7 +10768,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 287: // * / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -2172,7 +10813,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 288: // / + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2180,7 +10853,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 289: // / + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2188,7 +10893,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 290: // / + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2196,7 +10933,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 291: // / + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2204,7 +10973,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 292: // / + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2212,7 +11013,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 293: // / + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2220,7 +11053,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 294: // / + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2228,7 +11093,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 295: // / + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2236,7 +11133,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 296: // / + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2244,7 +11173,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 297: // / + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2252,7 +11213,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 298: // / + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2260,7 +11253,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 299: // / + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2268,7 +11293,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 300: // / + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2276,7 +11333,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 301: // / + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2284,7 +11373,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 302: // / + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2292,7 +11413,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 303: // / + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2300,7 +11453,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 304: // / + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2308,7 +11493,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 305: // / + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2316,7 +11533,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 306: // / + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2325,7 +11578,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 307: // / + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -2334,7 +11623,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 308: // / + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2343,7 +11668,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 309: // / + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -2352,7 +11713,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 310: // / + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2361,7 +11758,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 311: // / + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -2370,7 +11803,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 312: // / - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2378,7 +11843,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 313: // / - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2386,7 +11883,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 314: // / - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2394,7 +11923,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 315: // / - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2402,7 +11963,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 316: // / - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2410,7 +12003,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 317: // / - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2418,7 +12043,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 318: // / - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2426,7 +12083,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 319: // / - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2434,7 +12123,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 320: // / - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2442,7 +12163,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 321: // / - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2450,7 +12203,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 322: // / - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2458,7 +12243,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 323: // / - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2466,7 +12283,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 324: // / - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2474,7 +12323,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 325: // / - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2482,7 +12363,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 326: // / - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2490,7 +12403,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 327: // / - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2498,7 +12443,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 328: // / - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2506,7 +12483,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 329: // / - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2514,7 +12523,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 330: // / - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2523,7 +12568,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 331: // / - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -2532,7 +12613,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 332: // / - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2541,7 +12658,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 333: // / - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -2550,7 +12703,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 334: // / - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2559,7 +12748,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 335: // / - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -2568,7 +12793,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 336: // / * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2576,7 +12833,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 337: // / * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2584,7 +12873,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 338: // / * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2592,7 +12913,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 339: // / * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2600,7 +12953,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 340: // / * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2608,7 +12993,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 341: // / * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2616,7 +13033,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 342: // / * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2624,7 +13073,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 343: // / * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2632,7 +13113,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 344: // / * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2640,7 +13153,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 345: // / * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2648,7 +13193,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 346: // / * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2656,7 +13233,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 347: // / * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2664,7 +13273,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 348: // / * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2672,7 +13313,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 349: // / * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2680,7 +13353,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 350: // / * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2688,7 +13393,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 351: // / * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2696,7 +13433,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 352: // / * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2704,7 +13473,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 353: // / * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2712,7 +13513,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 354: // / * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2721,7 +13558,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 355: // / * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -2730,7 +13603,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 356: // / * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2739,7 +13648,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 357: // / * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -2748,7 +13693,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 358: // / * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2757,7 +13738,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 359: // / * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -2766,7 +13783,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 360: // / / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2775,7 +13828,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 361: // / / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2784,7 +13873,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 362: // / / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2793,7 +13918,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 363: // / / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2802,7 +13963,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 364: // / / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2811,7 +14008,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 365: // / / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2820,7 +14053,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 366: // / / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2829,7 +14098,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 367: // / / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2838,7 +14143,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 368: // / / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2847,7 +14188,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 369: // / / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2856,7 +14233,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 370: // / / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2865,7 +14278,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 371: // / / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2874,7 +14323,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 372: // / / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2883,7 +14368,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 373: // / / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2892,7 +14413,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 374: // / / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2901,7 +14458,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 375: // / / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2910,7 +14503,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 376: // / / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2919,7 +14548,43 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 377: // / / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2928,7 +14593,47 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 378: // / / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2938,7 +14643,47 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 379: // / / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -2948,7 +14693,47 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 380: // / / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2958,7 +14743,47 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 381: // / / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -2968,7 +14793,47 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 382: // / / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2978,7 +14843,47 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 383: // / / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -2995,11 +14900,44 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 // t2 to r2 (kinds kTripleKeep + the triple's index; a value with no
 // other use goes to a row that nothing reads).
 func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
-	x, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]
-	r1, r2 = r1[:len(o)], r2[:len(o)]
+	o = o[:len(o):len(o)]
+	x, y, z, w = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)], w[:len(o):len(o)]
+	r1, r2 = r1[:len(o):len(o)], r2[:len(o):len(o)]
 	switch k {
 	case kTripleKeep + 0: // + + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3007,7 +14945,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 1: // + + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3015,7 +14985,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 2: // + + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3023,7 +15025,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 3: // + + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3031,7 +15065,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 4: // + + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3039,7 +15105,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 5: // + + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3047,7 +15145,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 6: // + + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3055,7 +15185,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 7: // + + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3063,7 +15225,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 8: // + + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3071,7 +15265,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 9: // + + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3079,7 +15305,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 10: // + + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3087,7 +15345,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 11: // + + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3095,7 +15385,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 12: // + + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3103,7 +15425,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 13: // + + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3111,7 +15465,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 14: // + + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3119,7 +15505,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 15: // + + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3127,7 +15545,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 16: // + + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3135,7 +15585,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 17: // + + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3143,7 +15625,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 18: // + + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3152,7 +15670,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 19: // + + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 + c)
@@ -3161,7 +15715,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 20: // + + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3170,7 +15760,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 21: // + + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + t1)
@@ -3179,7 +15805,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 22: // + + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3188,7 +15850,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 23: // + + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c + d)
@@ -3197,7 +15895,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 24: // + - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3205,7 +15935,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 25: // + - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3213,7 +15975,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 26: // + - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3221,7 +16015,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 27: // + - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3229,7 +16055,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 28: // + - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3237,7 +16095,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 29: // + - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3245,7 +16135,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 30: // + - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3253,7 +16175,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 31: // + - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3261,7 +16215,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 32: // + - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3269,7 +16255,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 33: // + - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3277,7 +16295,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 34: // + - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3285,7 +16335,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 35: // + - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3293,7 +16375,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 36: // + - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3301,7 +16415,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 37: // + - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3309,7 +16455,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 38: // + - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3317,7 +16495,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 39: // + - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3325,7 +16535,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 40: // + - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3333,7 +16575,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 41: // + - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3341,7 +16615,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 42: // + - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3350,7 +16660,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 43: // + - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 - c)
@@ -3359,7 +16705,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 44: // + - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3368,7 +16750,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 45: // + - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - t1)
@@ -3377,7 +16795,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 46: // + - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3386,7 +16840,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 47: // + - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c - d)
@@ -3395,7 +16885,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 48: // + * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3403,7 +16925,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 49: // + * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3411,7 +16965,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 50: // + * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3419,7 +17005,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 51: // + * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3427,7 +17045,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 52: // + * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3435,7 +17085,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 53: // + * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3443,7 +17125,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 54: // + * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3451,7 +17165,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 55: // + * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3459,7 +17205,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 56: // + * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3467,7 +17245,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 57: // + * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3475,7 +17285,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 58: // + * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3483,7 +17325,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 59: // + * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3491,7 +17365,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 60: // + * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3499,7 +17405,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 61: // + * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3507,7 +17445,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 62: // + * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3515,7 +17485,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 63: // + * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3523,7 +17525,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 64: // + * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3531,7 +17565,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 65: // + * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3539,7 +17605,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 66: // + * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3548,7 +17650,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 67: // + * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 * c)
@@ -3557,7 +17695,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 68: // + * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3566,7 +17740,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 69: // + * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * t1)
@@ -3575,7 +17785,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 70: // + * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3584,7 +17830,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 71: // + * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c * d)
@@ -3593,7 +17875,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 72: // + / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3602,7 +17920,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 73: // + / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3611,7 +17965,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 74: // + / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3620,7 +18010,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 75: // + / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3629,7 +18055,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 76: // + / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3638,7 +18100,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 77: // + / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3647,7 +18145,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 78: // + / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3656,7 +18190,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 79: // + / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3665,7 +18235,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 80: // + / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3674,7 +18280,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 81: // + / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3683,7 +18325,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 82: // + / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3692,7 +18370,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 83: // + / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3701,7 +18415,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 84: // + / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3710,7 +18460,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 85: // + / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3719,7 +18505,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 86: // + / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3728,7 +18550,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 87: // + / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3737,7 +18595,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 88: // + / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3746,7 +18640,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 89: // + / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3755,7 +18685,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 90: // + / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3765,7 +18735,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 91: // + / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(t1 / c)
@@ -3775,7 +18785,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 92: // + / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3785,7 +18835,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 93: // + / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / t1)
@@ -3795,7 +18885,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 94: // + / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3805,7 +18935,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 95: // + / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a + b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
 			t2 := float64(c / d)
@@ -3815,7 +18985,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 96: // - + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3823,7 +19025,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 97: // - + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3831,7 +19065,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 98: // - + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3839,7 +19105,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 99: // - + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3847,7 +19145,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 100: // - + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -3855,7 +19185,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 101: // - + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -3863,7 +19225,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 102: // - + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3871,7 +19265,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 103: // - + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3879,7 +19305,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 104: // - + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3887,7 +19345,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 105: // - + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3895,7 +19385,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 106: // - + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -3903,7 +19425,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 107: // - + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -3911,7 +19465,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 108: // - + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3919,7 +19505,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 109: // - + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3927,7 +19545,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 110: // - + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3935,7 +19585,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 111: // - + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3943,7 +19625,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 112: // - + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -3951,7 +19665,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 113: // - + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -3959,7 +19705,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 114: // - + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3968,7 +19750,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 115: // - + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 + c)
@@ -3977,7 +19795,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 116: // - + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3986,7 +19840,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 117: // - + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + t1)
@@ -3995,7 +19885,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 118: // - + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -4004,7 +19930,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 119: // - + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c + d)
@@ -4013,7 +19975,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 120: // - - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4021,7 +20015,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 121: // - - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4029,7 +20055,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 122: // - - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4037,7 +20095,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 123: // - - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4045,7 +20135,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 124: // - - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4053,7 +20175,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 125: // - - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4061,7 +20215,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 126: // - - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4069,7 +20255,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 127: // - - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4077,7 +20295,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 128: // - - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4085,7 +20335,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 129: // - - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4093,7 +20375,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 130: // - - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4101,7 +20415,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 131: // - - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4109,7 +20455,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 132: // - - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4117,7 +20495,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 133: // - - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4125,7 +20535,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 134: // - - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4133,7 +20575,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 135: // - - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4141,7 +20615,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 136: // - - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4149,7 +20655,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 137: // - - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4157,7 +20695,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 138: // - - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4166,7 +20740,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 139: // - - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 - c)
@@ -4175,7 +20785,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 140: // - - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4184,7 +20830,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 141: // - - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - t1)
@@ -4193,7 +20875,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 142: // - - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4202,7 +20920,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 143: // - - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c - d)
@@ -4211,7 +20965,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 144: // - * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4219,7 +21005,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 145: // - * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4227,7 +21045,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 146: // - * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4235,7 +21085,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 147: // - * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4243,7 +21125,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 148: // - * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4251,7 +21165,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 149: // - * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4259,7 +21205,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 150: // - * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4267,7 +21245,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 151: // - * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4275,7 +21285,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 152: // - * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4283,7 +21325,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 153: // - * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4291,7 +21365,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 154: // - * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4299,7 +21405,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 155: // - * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4307,7 +21445,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 156: // - * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4315,7 +21485,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 157: // - * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4323,7 +21525,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 158: // - * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4331,7 +21565,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 159: // - * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4339,7 +21605,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 160: // - * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4347,7 +21645,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 161: // - * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4355,7 +21685,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 162: // - * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4364,7 +21730,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 163: // - * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 * c)
@@ -4373,7 +21775,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 164: // - * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4382,7 +21820,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 165: // - * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * t1)
@@ -4391,7 +21865,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 166: // - * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4400,7 +21910,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 167: // - * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c * d)
@@ -4409,7 +21955,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 168: // - / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4418,7 +22000,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 169: // - / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4427,7 +22045,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 170: // - / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4436,7 +22090,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 171: // - / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4445,7 +22135,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 172: // - / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4454,7 +22180,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 173: // - / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4463,7 +22225,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 174: // - / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4472,7 +22270,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 175: // - / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4481,7 +22315,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 176: // - / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4490,7 +22360,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 177: // - / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4499,7 +22405,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 178: // - / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4508,7 +22450,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 179: // - / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4517,7 +22495,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 180: // - / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4526,7 +22540,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 181: // - / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4535,7 +22585,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 182: // - / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4544,7 +22630,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 183: // - / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4553,7 +22675,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 184: // - / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4562,7 +22720,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 185: // - / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4571,7 +22765,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 186: // - / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4581,7 +22815,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 187: // - / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(t1 / c)
@@ -4591,7 +22865,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 188: // - / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4601,7 +22915,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 189: // - / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / t1)
@@ -4611,7 +22965,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 190: // - / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4621,7 +23015,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 191: // - / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a - b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
 			t2 := float64(c / d)
@@ -4631,7 +23065,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 192: // * + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4639,7 +23105,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 193: // * + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4647,7 +23145,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 194: // * + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4655,7 +23185,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 195: // * + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4663,7 +23225,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 196: // * + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4671,7 +23265,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 197: // * + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4679,7 +23305,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 198: // * + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4687,7 +23345,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 199: // * + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4695,7 +23385,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 200: // * + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4703,7 +23425,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 201: // * + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4711,7 +23465,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 202: // * + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4719,7 +23505,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 203: // * + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4727,7 +23545,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 204: // * + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4735,7 +23585,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 205: // * + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4743,7 +23625,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 206: // * + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4751,7 +23665,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 207: // * + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4759,7 +23705,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 208: // * + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4767,7 +23745,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 209: // * + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4775,7 +23785,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 210: // * + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4784,7 +23830,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 211: // * + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 + c)
@@ -4793,7 +23875,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 212: // * + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4802,7 +23920,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 213: // * + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + t1)
@@ -4811,7 +23965,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 214: // * + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4820,7 +24010,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 215: // * + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c + d)
@@ -4829,7 +24055,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 216: // * - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4837,7 +24095,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 217: // * - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4845,7 +24135,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 218: // * - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -4853,7 +24175,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 219: // * - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -4861,7 +24215,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 220: // * - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -4869,7 +24255,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 221: // * - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -4877,7 +24295,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 222: // * - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4885,7 +24335,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 223: // * - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4893,7 +24375,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 224: // * - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -4901,7 +24415,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 225: // * - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -4909,7 +24455,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 226: // * - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -4917,7 +24495,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 227: // * - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -4925,7 +24535,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 228: // * - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4933,7 +24575,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 229: // * - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4941,7 +24615,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 230: // * - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -4949,7 +24655,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 231: // * - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -4957,7 +24695,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 232: // * - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -4965,7 +24735,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 233: // * - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -4973,7 +24775,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 234: // * - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4982,7 +24820,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 235: // * - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 - c)
@@ -4991,7 +24865,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 236: // * - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -5000,7 +24910,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 237: // * - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - t1)
@@ -5009,7 +24955,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 238: // * - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -5018,7 +25000,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 239: // * - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c - d)
@@ -5027,7 +25045,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 240: // * * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5035,7 +25085,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 241: // * * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5043,7 +25125,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 242: // * * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5051,7 +25165,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 243: // * * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5059,7 +25205,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 244: // * * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5067,7 +25245,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 245: // * * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5075,7 +25285,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 246: // * * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5083,7 +25325,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 247: // * * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5091,7 +25365,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 248: // * * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5099,7 +25405,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 249: // * * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5107,7 +25445,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 250: // * * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5115,7 +25485,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 251: // * * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5123,7 +25525,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 252: // * * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5131,7 +25565,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 253: // * * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5139,7 +25605,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 254: // * * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5147,7 +25645,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 255: // * * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5155,7 +25685,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 256: // * * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5163,7 +25725,39 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 257: // * * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5171,7 +25765,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 258: // * * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5180,7 +25810,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 259: // * * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 * c)
@@ -5189,7 +25855,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 260: // * * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5198,7 +25900,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 261: // * * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * t1)
@@ -5207,7 +25945,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 262: // * * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5216,7 +25990,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 263: // * * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c * d)
@@ -5225,7 +26035,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 264: // * / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5234,7 +26080,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 265: // * / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5243,7 +26125,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 266: // * / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5252,7 +26170,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 267: // * / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5261,7 +26215,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 268: // * / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5270,7 +26260,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 269: // * / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5279,7 +26305,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 270: // * / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5288,7 +26350,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 271: // * / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5297,7 +26395,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 272: // * / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5306,7 +26440,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 273: // * / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5315,7 +26485,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 274: // * / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5324,7 +26530,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 275: // * / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5333,7 +26575,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 276: // * / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5342,7 +26620,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 277: // * / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5351,7 +26665,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 278: // * / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5360,7 +26710,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 279: // * / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5369,7 +26755,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 280: // * / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5378,7 +26800,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 281: // * / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5387,7 +26845,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 282: // * / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5397,7 +26895,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 283: // * / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(t1 / c)
@@ -5407,7 +26945,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 284: // * / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5417,7 +26995,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 285: // * / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / t1)
@@ -5427,7 +27045,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 286: // * / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5437,7 +27095,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 287: // * / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a * b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
 			t2 := float64(c / d)
@@ -5447,7 +27145,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 288: // / + + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5456,7 +27190,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 289: // / + + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5465,7 +27235,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 290: // / + + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5474,7 +27280,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 291: // / + + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5483,7 +27325,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 292: // / + + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5492,7 +27370,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 293: // / + + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5501,7 +27415,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 294: // / + - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5510,7 +27460,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 295: // / + - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5519,7 +27505,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 296: // / + - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5528,7 +27550,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 297: // / + - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5537,7 +27595,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 298: // / + - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5546,7 +27640,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 299: // / + - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5555,7 +27685,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 300: // / + * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5564,7 +27730,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 301: // / + * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5573,7 +27775,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 302: // / + * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5582,7 +27820,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 303: // / + * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5591,7 +27865,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 304: // / + * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5600,7 +27910,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 305: // / + * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5609,7 +27955,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 306: // / + / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5619,7 +28005,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 307: // / + / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 + c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 + c)
@@ -5629,7 +28055,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 308: // / + / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5639,7 +28105,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 309: // / + / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + t1)
@@ -5649,7 +28155,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 310: // / + / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5659,7 +28205,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 311: // / + / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c + d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c + d)
@@ -5669,7 +28255,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 312: // / - + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5678,7 +28300,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 313: // / - + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5687,7 +28345,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 314: // / - + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5696,7 +28390,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 315: // / - + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5705,7 +28435,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 316: // / - + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5714,7 +28480,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 317: // / - + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5723,7 +28525,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 318: // / - - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5732,7 +28570,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 319: // / - - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5741,7 +28615,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 320: // / - - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5750,7 +28660,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 321: // / - - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5759,7 +28705,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 322: // / - - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5768,7 +28750,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 323: // / - - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5777,7 +28795,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 324: // / - * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5786,7 +28840,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 325: // / - * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5795,7 +28885,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 326: // / - * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5804,7 +28930,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 327: // / - * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5813,7 +28975,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 328: // / - * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5822,7 +29020,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 329: // / - * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5831,7 +29065,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 330: // / - / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5841,7 +29115,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 331: // / - / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 - c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 - c)
@@ -5851,7 +29165,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 332: // / - / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5861,7 +29215,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 333: // / - / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - t1)
@@ -5871,7 +29265,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 334: // / - / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5881,7 +29315,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 335: // / - / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c - d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c - d)
@@ -5891,7 +29365,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 336: // / * + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -5900,7 +29410,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 337: // / * + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -5909,7 +29455,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 338: // / * + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -5918,7 +29500,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 339: // / * + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -5927,7 +29545,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 340: // / * + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -5936,7 +29590,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 341: // / * + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -5945,7 +29635,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 342: // / * - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -5954,7 +29680,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 343: // / * - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -5963,7 +29725,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 344: // / * - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -5972,7 +29770,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 345: // / * - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -5981,7 +29815,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 346: // / * - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -5990,7 +29860,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 347: // / * - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -5999,7 +29905,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 348: // / * * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -6008,7 +29950,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 349: // / * * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -6017,7 +29995,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 350: // / * * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -6026,7 +30040,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 351: // / * * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -6035,7 +30085,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 352: // / * * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -6044,7 +30130,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 353: // / * * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -6053,7 +30175,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 354: // / * / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -6063,7 +30225,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 355: // / * / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 * c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 * c)
@@ -6073,7 +30275,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 356: // / * / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -6083,7 +30325,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 357: // / * / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * t1)
@@ -6093,7 +30375,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 358: // / * / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -6103,7 +30425,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 359: // / * / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c * d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c * d)
@@ -6113,7 +30475,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 360: // / / + LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6123,7 +30525,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 361: // / / + LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6133,7 +30575,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 362: // / / + RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 + d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 + d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 + d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 + d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6143,7 +30625,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 363: // / / + RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6153,7 +30675,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 364: // / / + TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 + t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 + t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 + t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 + t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6163,7 +30725,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 365: // / / + TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 + t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 + t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 + t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 + t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6173,7 +30775,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 366: // / / - LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6183,7 +30825,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 367: // / / - LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6193,7 +30875,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 368: // / / - RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 - d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 - d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 - d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 - d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6203,7 +30925,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 369: // / / - RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6213,7 +30975,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 370: // / / - TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 - t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 - t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 - t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 - t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6223,7 +31025,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 371: // / / - TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 - t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 - t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 - t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 - t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6233,7 +31075,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 372: // / / * LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6243,7 +31125,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 373: // / / * LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6253,7 +31175,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 374: // / / * RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 * d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 * d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 * d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 * d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6263,7 +31225,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 375: // / / * RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6273,7 +31275,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 376: // / / * TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 * t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 * t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 * t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 * t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6283,7 +31325,47 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 377: // / / * TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 * t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 * t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 * t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 * t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6293,7 +31375,51 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 378: // / / / LL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6304,7 +31430,51 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 379: // / / / LR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(t1 / c)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += c - c
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(t1 / c)
@@ -6315,7 +31485,51 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 380: // / / / RL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = t2 / d
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = t2 / d
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = t2 / d
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = t2 / d
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6326,7 +31540,51 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 381: // / / / RR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[0] = d / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[1] = d / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[2] = d / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / t1)
+				o4[3] = d / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += t1 - t1
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / t1)
@@ -6337,7 +31595,51 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 382: // / / / TL
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t1 / t2
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t1 / t2
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t1 / t2
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t1 / t2
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t2 - t2
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
@@ -6348,7 +31650,51 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 383: // / / / TR
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
+			{
+				a, b, c, d := x4[0], y4[0], z4[0], w4[0]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[0] = t2 / t1
+				r14[0], r24[0] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[1] = t2 / t1
+				r14[1], r24[1] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[2] = t2 / t1
+				r14[2], r24[2] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+			{
+				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
+				t1 := float64(a / b)
+				t2 := float64(c / d)
+				o4[3] = t2 / t1
+				r14[3], r24[3] = t1, t2
+				chk += b - b
+				chk += d - d
+				chk += t1 - t1
+			}
+		}
+		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
 			t2 := float64(c / d)
