@@ -368,7 +368,11 @@ func genPlanTriples() {
 			p("// returns the sum of v - v over the divisors v, as runFused. t and o may\n// be operand rows: a lane reads its operands before it writes.\n")
 			p("func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {\n")
 		}
-		p("\tt, x, y, z = t[:len(o)], x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+		if vec {
+			p("\tt, x, y, z = t[:len(o)], x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+		} else {
+			p("\to = o[:len(o):len(o)]\n\tt, x, y, z = t[:len(o):len(o)], x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]\n\tswitch k {\n")
+		}
 		n := 0
 		for _, o1 := range ops {
 			for _, o2 := range ops {
@@ -398,21 +402,23 @@ func genPlanTriples() {
 						for _, v := range div {
 							p("\t\t\tchk = chk.Add(%s.Sub(%s))\n", v, v)
 						}
+						p("\t\t}\n")
 					} else {
-						p("\t\tfor s := range o {\n")
-						p("\t\t\tu, w, d := x[s], y[s], z[s]\n")
-						p("\t\t\tr := float64(u %s w)\n", o1.sym)
+						var lane strings.Builder
+						l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
+						l("u, w, d := x[s], y[s], z[s]\n")
+						l("r := float64(u %s w)\n", o1.sym)
 						if side == "L" {
-							p("\t\t\tv := r %s d\n", o2.sym)
+							l("v := r %s d\n", o2.sym)
 						} else {
-							p("\t\t\tv := d %s r\n", o2.sym)
+							l("v := d %s r\n", o2.sym)
 						}
-						p("\t\t\tt[s] = r\n\t\t\to[s] = v\n")
+						l("t[s] = r\no[s] = v\n")
 						for _, v := range div {
-							p("\t\t\tchk += %s - %s\n", v, v)
+							l("chk += %s - %s\n", v, v)
 						}
+						p("%s", laneLoop([]string{"o", "t", "x", "y", "z"}, lane.String()))
 					}
-					p("\t\t}\n")
 				}
 			}
 		}
@@ -434,7 +440,11 @@ func genPlanTriples() {
 			p("// and returns the sum of v - v over the divisor and the operands of\n// max and min, as runFused.\n")
 			p("func runPost(k kind, o, x, y, z []float64) (chk float64) {\n")
 		}
-		p("\tx, y, z = x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+		if vec {
+			p("\tx, y, z = x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
+		} else {
+			p("\to = o[:len(o):len(o)]\n\tx, y, z = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]\n\tswitch k {\n")
+		}
 		type form struct{ scalar, vector, cmp string }
 		forms := []form{
 			{"o[s] = math.Ceil(t)", "st(t.Ceil(), o[s:s+4])", ""},
@@ -460,20 +470,22 @@ func genPlanTriples() {
 					} else {
 						p("\t\t\t_ = d\n")
 					}
+					p("\t\t}\n")
 				} else {
-					p("\t\tfor s := range o {\n")
-					p("\t\t\tu, w, d := x[s], y[s], z[s]\n")
-					p("\t\t\tt := float64(u %s w)\n\t\t\t%s\n", o1.sym, f.scalar)
+					var lane strings.Builder
+					l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
+					l("u, w, d := x[s], y[s], z[s]\n")
+					l("t := float64(u %s w)\n%s\n", o1.sym, f.scalar)
 					if o1.sym == "/" {
-						p("\t\t\tchk += w - w\n")
+						l("chk += w - w\n")
 					}
 					if f.cmp != "" {
-						p("\t\t\tchk += t - t + (d - d)\n")
+						l("chk += t - t + (d - d)\n")
 					} else {
-						p("\t\t\t_ = d\n")
+						l("_ = d\n")
 					}
+					p("%s", laneLoop([]string{"o", "x", "y", "z"}, lane.String()))
 				}
-				p("\t\t}\n")
 			}
 		}
 		p("\t}\n\treturn chk\n}\n\n")
@@ -487,7 +499,11 @@ func genPlanTriples() {
 			p("// and z and w too if all (else they are constant rows, finite). o may be\n// one of the operands: a lane reads them before it writes.\n")
 			p("func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {\n")
 		}
-		p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n\tswitch op {\n")
+		if vec {
+			p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n\tswitch op {\n")
+		} else {
+			p("\to = o[:len(o):len(o)]\n\tx, y, z, w = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)], w[:len(o):len(o)]\n\tswitch op {\n")
+		}
 		vecCmp := map[string]string{"Lt": "Less", "Le": "LessEqual", "Gt": "Greater", "Ge": "GreaterEqual", "Eq": "Equal", "Ne": "NotEqual"}
 		for _, c := range cmps {
 			p("\tcase Op%s:\n", c.name)
@@ -503,11 +519,12 @@ func genPlanTriples() {
 					} else {
 						p("\t\t} else {\n")
 					}
-					p("\t\tfor s := range o {\n")
-					p("\t\t\ta, b, t, e := x[s], y[s], z[s], w[s]\n")
-					p("\t\t\tif a %s b {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = e\n\t\t\t}\n", c.sym)
-					p("\t\t\tif %s != 0 { // a branch, not a running sum\n\t\t\t\tbad = true\n\t\t\t}\n", test)
-					p("\t\t}\n")
+					var lane strings.Builder
+					l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
+					l("a, b, t, e := x[s], y[s], z[s], w[s]\n")
+					l("if a %s b {\no[s] = t\n} else {\no[s] = e\n}\n", c.sym)
+					l("if %s != 0 { // a branch, not a running sum\nbad = true\n}\n", test)
+					p("%s", laneLoop([]string{"o", "x", "y", "z", "w"}, lane.String()))
 				}
 			}
 			p("\t\t}\n")

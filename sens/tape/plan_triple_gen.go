@@ -31713,10 +31713,43 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 // returns the sum of v - v over the divisors v, as runFused. t and o may
 // be operand rows: a lane reads its operands before it writes.
 func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
-	t, x, y, z = t[:len(o)], x[:len(o)], y[:len(o)], z[:len(o)]
+	o = o[:len(o):len(o)]
+	t, x, y, z = t[:len(o):len(o)], x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]
 	switch k {
 	case kKeep + 0: // + + L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := r + d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := r + d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := r + d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := r + d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := r + d
@@ -31724,7 +31757,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 1: // + + R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := d + r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := d + r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := d + r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := d + r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := d + r
@@ -31732,7 +31797,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 2: // + - L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := r - d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := r - d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := r - d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := r - d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := r - d
@@ -31740,7 +31837,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 3: // + - R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := d - r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := d - r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := d - r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := d - r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := d - r
@@ -31748,7 +31877,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 4: // + * L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := r * d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := r * d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := r * d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := r * d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := r * d
@@ -31756,7 +31917,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 5: // + * R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := d * r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := d * r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := d * r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := d * r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := d * r
@@ -31764,7 +31957,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 6: // + / L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := r / d
+				t4[0] = r
+				o4[0] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := r / d
+				t4[1] = r
+				o4[1] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := r / d
+				t4[2] = r
+				o4[2] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := r / d
+				t4[3] = r
+				o4[3] = v
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := r / d
@@ -31773,7 +32002,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 7: // + / R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u + w)
+				v := d / r
+				t4[0] = r
+				o4[0] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u + w)
+				v := d / r
+				t4[1] = r
+				o4[1] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u + w)
+				v := d / r
+				t4[2] = r
+				o4[2] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u + w)
+				v := d / r
+				t4[3] = r
+				o4[3] = v
+				chk += r - r
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
 			v := d / r
@@ -31782,7 +32047,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += r - r
 		}
 	case kKeep + 8: // - + L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := r + d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := r + d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := r + d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := r + d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := r + d
@@ -31790,7 +32087,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 9: // - + R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := d + r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := d + r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := d + r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := d + r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := d + r
@@ -31798,7 +32127,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 10: // - - L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := r - d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := r - d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := r - d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := r - d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := r - d
@@ -31806,7 +32167,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 11: // - - R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := d - r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := d - r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := d - r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := d - r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := d - r
@@ -31814,7 +32207,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 12: // - * L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := r * d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := r * d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := r * d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := r * d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := r * d
@@ -31822,7 +32247,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 13: // - * R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := d * r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := d * r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := d * r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := d * r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := d * r
@@ -31830,7 +32287,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 14: // - / L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := r / d
+				t4[0] = r
+				o4[0] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := r / d
+				t4[1] = r
+				o4[1] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := r / d
+				t4[2] = r
+				o4[2] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := r / d
+				t4[3] = r
+				o4[3] = v
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := r / d
@@ -31839,7 +32332,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 15: // - / R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u - w)
+				v := d / r
+				t4[0] = r
+				o4[0] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u - w)
+				v := d / r
+				t4[1] = r
+				o4[1] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u - w)
+				v := d / r
+				t4[2] = r
+				o4[2] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u - w)
+				v := d / r
+				t4[3] = r
+				o4[3] = v
+				chk += r - r
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
 			v := d / r
@@ -31848,7 +32377,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += r - r
 		}
 	case kKeep + 16: // * + L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := r + d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := r + d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := r + d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := r + d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := r + d
@@ -31856,7 +32417,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 17: // * + R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := d + r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := d + r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := d + r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := d + r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := d + r
@@ -31864,7 +32457,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 18: // * - L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := r - d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := r - d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := r - d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := r - d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := r - d
@@ -31872,7 +32497,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 19: // * - R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := d - r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := d - r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := d - r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := d - r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := d - r
@@ -31880,7 +32537,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 20: // * * L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := r * d
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := r * d
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := r * d
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := r * d
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := r * d
@@ -31888,7 +32577,39 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 21: // * * R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := d * r
+				t4[0] = r
+				o4[0] = v
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := d * r
+				t4[1] = r
+				o4[1] = v
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := d * r
+				t4[2] = r
+				o4[2] = v
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := d * r
+				t4[3] = r
+				o4[3] = v
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := d * r
@@ -31896,7 +32617,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 22: // * / L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := r / d
+				t4[0] = r
+				o4[0] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := r / d
+				t4[1] = r
+				o4[1] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := r / d
+				t4[2] = r
+				o4[2] = v
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := r / d
+				t4[3] = r
+				o4[3] = v
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := r / d
@@ -31905,7 +32662,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 23: // * / R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u * w)
+				v := d / r
+				t4[0] = r
+				o4[0] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u * w)
+				v := d / r
+				t4[1] = r
+				o4[1] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u * w)
+				v := d / r
+				t4[2] = r
+				o4[2] = v
+				chk += r - r
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u * w)
+				v := d / r
+				t4[3] = r
+				o4[3] = v
+				chk += r - r
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
 			v := d / r
@@ -31914,7 +32707,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += r - r
 		}
 	case kKeep + 24: // / + L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := r + d
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := r + d
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := r + d
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := r + d
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := r + d
@@ -31923,7 +32752,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 25: // / + R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := d + r
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := d + r
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := d + r
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := d + r
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := d + r
@@ -31932,7 +32797,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 26: // / - L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := r - d
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := r - d
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := r - d
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := r - d
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := r - d
@@ -31941,7 +32842,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 27: // / - R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := d - r
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := d - r
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := d - r
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := d - r
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := d - r
@@ -31950,7 +32887,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 28: // / * L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := r * d
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := r * d
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := r * d
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := r * d
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := r * d
@@ -31959,7 +32932,43 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 29: // / * R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := d * r
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := d * r
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := d * r
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := d * r
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := d * r
@@ -31968,7 +32977,47 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 30: // / / L
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := r / d
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+				chk += d - d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := r / d
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+				chk += d - d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := r / d
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+				chk += d - d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := r / d
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+				chk += d - d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := r / d
@@ -31978,7 +33027,47 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 31: // / / R
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				r := float64(u / w)
+				v := d / r
+				t4[0] = r
+				o4[0] = v
+				chk += w - w
+				chk += r - r
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				r := float64(u / w)
+				v := d / r
+				t4[1] = r
+				o4[1] = v
+				chk += w - w
+				chk += r - r
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				r := float64(u / w)
+				v := d / r
+				t4[2] = r
+				o4[2] = v
+				chk += w - w
+				chk += r - r
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				r := float64(u / w)
+				v := d / r
+				t4[3] = r
+				o4[3] = v
+				chk += w - w
+				chk += r - r
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
 			v := d / r
@@ -31997,31 +33086,160 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 // and returns the sum of v - v over the divisor and the operands of
 // max and min, as runFused.
 func runPost(k kind, o, x, y, z []float64) (chk float64) {
-	x, y, z = x[:len(o)], y[:len(o)], z[:len(o)]
+	o = o[:len(o):len(o)]
+	x, y, z = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]
 	switch k {
 	case kPost + 0:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				o4[0] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				o4[1] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				o4[2] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				o4[3] = math.Ceil(t)
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			o[s] = math.Ceil(t)
 			_ = d
 		}
 	case kPost + 1:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				o4[0] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				o4[1] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				o4[2] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				o4[3] = math.Floor(t)
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			o[s] = math.Floor(t)
 			_ = d
 		}
 	case kPost + 2:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				o4[0] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				o4[1] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				o4[2] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				o4[3] = -t
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			o[s] = -t
 			_ = d
 		}
 	case kPost + 3:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				if t >= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				if t >= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				if t >= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				if t >= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			if t >= d {
@@ -32032,7 +33250,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 4:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				if d >= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				if d >= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				if d >= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				if d >= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			if d >= t {
@@ -32043,7 +33305,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 5:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				if t <= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				if t <= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				if t <= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				if t <= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			if t <= d {
@@ -32054,7 +33360,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 6:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u + w)
+				if d <= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u + w)
+				if d <= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u + w)
+				if d <= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u + w)
+				if d <= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u + w)
 			if d <= t {
@@ -32065,28 +33415,156 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 8:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				o4[0] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				o4[1] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				o4[2] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				o4[3] = math.Ceil(t)
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			o[s] = math.Ceil(t)
 			_ = d
 		}
 	case kPost + 9:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				o4[0] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				o4[1] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				o4[2] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				o4[3] = math.Floor(t)
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			o[s] = math.Floor(t)
 			_ = d
 		}
 	case kPost + 10:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				o4[0] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				o4[1] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				o4[2] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				o4[3] = -t
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			o[s] = -t
 			_ = d
 		}
 	case kPost + 11:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				if t >= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				if t >= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				if t >= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				if t >= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			if t >= d {
@@ -32097,7 +33575,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 12:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				if d >= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				if d >= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				if d >= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				if d >= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			if d >= t {
@@ -32108,7 +33630,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 13:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				if t <= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				if t <= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				if t <= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				if t <= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			if t <= d {
@@ -32119,7 +33685,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 14:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u - w)
+				if d <= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u - w)
+				if d <= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u - w)
+				if d <= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u - w)
+				if d <= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u - w)
 			if d <= t {
@@ -32130,28 +33740,156 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 16:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				o4[0] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				o4[1] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				o4[2] = math.Ceil(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				o4[3] = math.Ceil(t)
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			o[s] = math.Ceil(t)
 			_ = d
 		}
 	case kPost + 17:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				o4[0] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				o4[1] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				o4[2] = math.Floor(t)
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				o4[3] = math.Floor(t)
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			o[s] = math.Floor(t)
 			_ = d
 		}
 	case kPost + 18:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				o4[0] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				o4[1] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				o4[2] = -t
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				o4[3] = -t
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			o[s] = -t
 			_ = d
 		}
 	case kPost + 19:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				if t >= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				if t >= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				if t >= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				if t >= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			if t >= d {
@@ -32162,7 +33900,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 20:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				if d >= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				if d >= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				if d >= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				if d >= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			if d >= t {
@@ -32173,7 +33955,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 21:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				if t <= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				if t <= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				if t <= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				if t <= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			if t <= d {
@@ -32184,7 +34010,51 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 22:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u * w)
+				if d <= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u * w)
+				if d <= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u * w)
+				if d <= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u * w)
+				if d <= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u * w)
 			if d <= t {
@@ -32195,7 +34065,39 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 24:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				o4[0] = math.Ceil(t)
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				o4[1] = math.Ceil(t)
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				o4[2] = math.Ceil(t)
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				o4[3] = math.Ceil(t)
+				chk += w - w
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			o[s] = math.Ceil(t)
@@ -32203,7 +34105,39 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 25:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				o4[0] = math.Floor(t)
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				o4[1] = math.Floor(t)
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				o4[2] = math.Floor(t)
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				o4[3] = math.Floor(t)
+				chk += w - w
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			o[s] = math.Floor(t)
@@ -32211,7 +34145,39 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 26:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				o4[0] = -t
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				o4[1] = -t
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				o4[2] = -t
+				chk += w - w
+				_ = d
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				o4[3] = -t
+				chk += w - w
+				_ = d
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			o[s] = -t
@@ -32219,7 +34185,55 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 27:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				if t >= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				if t >= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				if t >= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				if t >= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			if t >= d {
@@ -32231,7 +34245,55 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 28:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				if d >= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				if d >= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				if d >= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				if d >= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			if d >= t {
@@ -32243,7 +34305,55 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 29:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				if t <= d {
+					o4[0] = t
+				} else {
+					o4[0] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				if t <= d {
+					o4[1] = t
+				} else {
+					o4[1] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				if t <= d {
+					o4[2] = t
+				} else {
+					o4[2] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				if t <= d {
+					o4[3] = t
+				} else {
+					o4[3] = d
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			if t <= d {
@@ -32255,7 +34365,55 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t + (d - d)
 		}
 	case kPost + 30:
-		for s := range o {
+		s := 0
+		for ; s < len(o)-3; s += 4 {
+			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+			{
+				u, w, d := x4[0], y4[0], z4[0]
+				t := float64(u / w)
+				if d <= t {
+					o4[0] = d
+				} else {
+					o4[0] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[1], y4[1], z4[1]
+				t := float64(u / w)
+				if d <= t {
+					o4[1] = d
+				} else {
+					o4[1] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[2], y4[2], z4[2]
+				t := float64(u / w)
+				if d <= t {
+					o4[2] = d
+				} else {
+					o4[2] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+			{
+				u, w, d := x4[3], y4[3], z4[3]
+				t := float64(u / w)
+				if d <= t {
+					o4[3] = d
+				} else {
+					o4[3] = t
+				}
+				chk += w - w
+				chk += t - t + (d - d)
+			}
+		}
+		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
 			if d <= t {
@@ -32275,11 +34433,60 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 // and z and w too if all (else they are constant rows, finite). o may be
 // one of the operands: a lane reads them before it writes.
 func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
-	x, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]
+	o = o[:len(o):len(o)]
+	x, y, z, w = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)], w[:len(o):len(o)]
 	switch op {
 	case OpLt:
 		if all {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a < b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a < b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a < b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a < b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a < b {
 					o[s] = t
@@ -32291,7 +34498,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 				}
 			}
 		} else {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a < b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a < b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a < b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a < b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a < b {
 					o[s] = t
@@ -32305,7 +34560,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 		}
 	case OpLe:
 		if all {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a <= b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a <= b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a <= b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a <= b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a <= b {
 					o[s] = t
@@ -32317,7 +34620,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 				}
 			}
 		} else {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a <= b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a <= b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a <= b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a <= b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a <= b {
 					o[s] = t
@@ -32331,7 +34682,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 		}
 	case OpGt:
 		if all {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a > b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a > b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a > b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a > b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a > b {
 					o[s] = t
@@ -32343,7 +34742,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 				}
 			}
 		} else {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a > b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a > b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a > b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a > b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a > b {
 					o[s] = t
@@ -32357,7 +34804,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 		}
 	case OpGe:
 		if all {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a >= b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a >= b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a >= b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a >= b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a >= b {
 					o[s] = t
@@ -32369,7 +34864,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 				}
 			}
 		} else {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a >= b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a >= b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a >= b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a >= b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a >= b {
 					o[s] = t
@@ -32383,7 +34926,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 		}
 	case OpEq:
 		if all {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a == b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a == b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a == b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a == b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a == b {
 					o[s] = t
@@ -32395,7 +34986,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 				}
 			}
 		} else {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a == b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a == b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a == b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a == b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a == b {
 					o[s] = t
@@ -32409,7 +35048,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 		}
 	case OpNe:
 		if all {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a != b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a != b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a != b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a != b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a != b {
 					o[s] = t
@@ -32421,7 +35108,55 @@ func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
 				}
 			}
 		} else {
-			for s := range o {
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
+				{
+					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					if a != b {
+						o4[0] = t
+					} else {
+						o4[0] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					if a != b {
+						o4[1] = t
+					} else {
+						o4[1] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					if a != b {
+						o4[2] = t
+					} else {
+						o4[2] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+				{
+					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					if a != b {
+						o4[3] = t
+					} else {
+						o4[3] = e
+					}
+					if a-a+(b-b) != 0 { // a branch, not a running sum
+						bad = true
+					}
+				}
+			}
+			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
 				if a != b {
 					o[s] = t
