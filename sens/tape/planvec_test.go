@@ -172,10 +172,12 @@ func randomPlanModel(seed uint64) (*tape.Tape, []float64) {
 // and trees, keeping intermediate values with other uses; pairs that keep
 // their first result; one followed by ceil,
 // floor, negation, max or min), on all combinations of operand values that overflow, divide
-// by zero or are not finite, in blocks of four equal lanes (one vector):
-// the batched pass, with and without vector kernels, reports a domain
-// error exactly where Eval does and otherwise gives Eval's value to the
-// last bit.
+// by zero or are not finite, in blocks of seven lanes (one vector or one
+// four-lane step of pure Go, and three lanes one at a time) holding
+// different combinations: the batched pass, with and without vector
+// kernels, reports a domain error exactly where Eval does (formula
+// position, message and sample) and otherwise gives Eval's value in every
+// lane to the last bit.
 func TestPlanFusedKernels(t *testing.T) {
 	ops := []tape.Op{tape.OpAdd, tape.OpSub, tape.OpMul, tape.OpDiv}
 	vals := []float64{1e308, 0, 2, -3, math.Inf(1), math.Copysign(0, -1)}
@@ -255,7 +257,9 @@ func TestPlanFusedKernels(t *testing.T) {
 			return bin(b, o2, c, bin(b, o1, a, x))
 		},
 	}
-	const n = 4
+	// Seven lanes: a vector or four pure-Go lanes a step, then three
+	// lanes one at a time, each checked.
+	const n = 7
 	cols := make([][]float64, 4)
 	for j := range cols {
 		cols[j] = make([]float64, n)
@@ -277,23 +281,42 @@ func TestPlanFusedKernels(t *testing.T) {
 					b.SetPos(10)
 					tp := b.Tape(sh(b, o1, o2, o3, in[0], in[1], in[2], in[3]))
 					x := make([]float64, 4)
+					var want [n]float64
 					for code := range len(vals) * len(vals) * len(vals) * len(vals) {
-						for j, c := 0, code; j < 4; j, c = j+1, c/len(vals) {
-							x[j] = vals[c%len(vals)]
-							for s := range n {
+						// Lane 0 holds the combination, lane s each value
+						// moved s(j+1) places on: lanes differ, so that a
+						// kernel reading another lane's operand fails.
+						var werr error
+						bad := -1
+						for s := range n {
+							for j, c := 0, code; j < 4; j, c = j+1, c/len(vals) {
+								x[j] = vals[(c%len(vals)+s*(j+1))%len(vals)]
 								cols[j][s] = x[j]
 							}
+							var err error
+							want[s], err = tp.Eval(x, 0)
+							if err != nil && bad < 0 {
+								bad, werr = s, err
+							}
 						}
-						want, werr := tp.Eval(x, 0)
 						for _, on := range []bool{false, true} {
 							was := tape.SetVectorKernels(on)
 							err := tp.ForwardColumns(out, cols, n, 0)
 							tape.SetVectorKernels(was)
 							if (err == nil) != (werr == nil) {
-								t.Fatalf("%s %v %v %v at %v, vector %v: batched %v, Eval %v", name, o1, o2, o3, x, on, err, werr)
+								t.Fatalf("%s %v %v %v, code %d, vector %v: batched %v, Eval %v", name, o1, o2, o3, code, on, err, werr)
 							}
-							if err == nil && math.Float64bits(out[0]) != math.Float64bits(want) {
-								t.Fatalf("%s %v %v %v at %v, vector %v: batched %v, Eval %v", name, o1, o2, o3, x, on, out[0], want)
+							if err != nil {
+								var de, we *tape.DomainError
+								if !errors.As(err, &de) || !errors.As(werr, &we) || de.Sample != bad || de.Msg != we.Msg || de.Pos != we.Pos {
+									t.Fatalf("%s %v %v %v, code %d, vector %v: batched %v, Eval %v in sample %d", name, o1, o2, o3, code, on, err, werr, bad)
+								}
+								continue
+							}
+							for s := range n {
+								if math.Float64bits(out[s]) != math.Float64bits(want[s]) {
+									t.Fatalf("%s %v %v %v, code %d, vector %v, lane %d: batched %v, Eval %v", name, o1, o2, o3, code, on, s, out[s], want[s])
+								}
 							}
 						}
 					}
