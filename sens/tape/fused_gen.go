@@ -315,6 +315,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			o[s] = d * t
 		}
 	case kFAddDivL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -322,27 +323,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[0] = t / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[1] = t / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[2] = t / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[3] = t / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
@@ -350,6 +352,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFAddDivR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -357,27 +360,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[0] = d / t
-				chk += t - t
+				c0 += t - t
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[1] = d / t
-				chk += t - t
+				c1 += t - t
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[2] = d / t
-				chk += t - t
+				c2 += t - t
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u + w)
 				o4[3] = d / t
-				chk += t - t
+				c3 += t - t
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u + w)
@@ -565,6 +569,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			o[s] = d * t
 		}
 	case kFSubDivL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -572,27 +577,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[0] = t / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[1] = t / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[2] = t / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[3] = t / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
@@ -600,6 +606,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFSubDivR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -607,27 +614,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[0] = d / t
-				chk += t - t
+				c0 += t - t
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[1] = d / t
-				chk += t - t
+				c1 += t - t
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[2] = d / t
-				chk += t - t
+				c2 += t - t
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u - w)
 				o4[3] = d / t
-				chk += t - t
+				c3 += t - t
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u - w)
@@ -815,6 +823,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			o[s] = d * t
 		}
 	case kFMulDivL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -822,27 +831,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[0] = t / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[1] = t / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[2] = t / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[3] = t / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
@@ -850,6 +860,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFMulDivR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -857,27 +868,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[0] = d / t
-				chk += t - t
+				c0 += t - t
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[1] = d / t
-				chk += t - t
+				c1 += t - t
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[2] = d / t
-				chk += t - t
+				c2 += t - t
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u * w)
 				o4[3] = d / t
-				chk += t - t
+				c3 += t - t
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u * w)
@@ -885,6 +897,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += t - t
 		}
 	case kFDivAddL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -892,27 +905,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = t + d
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = t + d
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = t + d
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = t + d
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -920,6 +934,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kFDivAddR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -927,27 +942,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = d + t
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = d + t
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = d + t
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = d + t
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -955,6 +971,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kFDivSubL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -962,27 +979,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = t - d
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = t - d
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = t - d
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = t - d
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -990,6 +1008,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kFDivSubR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -997,27 +1016,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = d - t
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = d - t
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = d - t
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = d - t
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -1025,6 +1045,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kFDivMulL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -1032,27 +1053,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = t * d
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = t * d
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = t * d
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = t * d
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -1060,6 +1082,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kFDivMulR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -1067,27 +1090,28 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = d * t
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = d * t
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = d * t
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = d * t
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -1095,6 +1119,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kFDivDivL:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -1102,31 +1127,32 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = t / d
-				chk += w - w
-				chk += d - d
+				c0 += w - w
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = t / d
-				chk += w - w
-				chk += d - d
+				c1 += w - w
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = t / d
-				chk += w - w
-				chk += d - d
+				c2 += w - w
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = t / d
-				chk += w - w
-				chk += d - d
+				c3 += w - w
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)
@@ -1135,6 +1161,7 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFDivDivR:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -1142,31 +1169,32 @@ func runFused(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[0] = d / t
-				chk += w - w
-				chk += t - t
+				c0 += w - w
+				c0 += t - t
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[1] = d / t
-				chk += w - w
-				chk += t - t
+				c1 += w - w
+				c1 += t - t
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[2] = d / t
-				chk += w - w
-				chk += t - t
+				c2 += w - w
+				c2 += t - t
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3] // first: o may be x, y or z
 				t := float64(u / w)
 				o4[3] = d / t
-				chk += w - w
-				chk += t - t
+				c3 += w - w
+				c3 += t - t
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s] // first: o may be x, y or z
 			t := float64(u / w)

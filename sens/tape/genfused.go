@@ -437,8 +437,8 @@ func genPlanTriples() {
 			p("// runPost runs a + - * / and the ceil, floor, negation, max or min of\n")
 			p("// its result t (with z) that follows it (kinds kPost + 8*op1 + form:\n")
 			p("// ceil(t), floor(t), -t, max(t, z), max(z, t), min(t, z), min(z, t)),\n")
-			p("// and returns the sum of v - v over the divisor and the operands of\n// max and min, as runFused.\n")
-			p("func runPost(k kind, o, x, y, z []float64) (chk float64) {\n")
+			p("// and returns the sum of v - v over the divisor and the operands of\n// max and min (z only if all), as runFused.\n")
+			p("func runPost(k kind, o, x, y, z []float64, all bool) (chk float64) {\n")
 		}
 		if vec {
 			p("\tx, y, z = x[:len(o)], y[:len(o)], z[:len(o)]\n\tswitch k {\n")
@@ -450,10 +450,11 @@ func genPlanTriples() {
 			{"o[s] = math.Ceil(t)", "st(t.Ceil(), o[s:s+4])", ""},
 			{"o[s] = math.Floor(t)", "st(t.Floor(), o[s:s+4])", ""},
 			{"o[s] = -t", "st(t.Mul(neg), o[s:s+4])", ""},
-			{"if t >= d {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = d\n\t\t\t}", "st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])", "m"},
-			{"if d >= t {\n\t\t\t\to[s] = d\n\t\t\t} else {\n\t\t\t\to[s] = t\n\t\t\t}", "st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])", "m"},
-			{"if t <= d {\n\t\t\t\to[s] = t\n\t\t\t} else {\n\t\t\t\to[s] = d\n\t\t\t}", "st(t.Merge(d, t.LessEqual(d)), o[s:s+4])", "m"},
-			{"if d <= t {\n\t\t\t\to[s] = d\n\t\t\t} else {\n\t\t\t\to[s] = t\n\t\t\t}", "st(d.Merge(t, d.LessEqual(t)), o[s:s+4])", "m"},
+			// One store a lane, of a value chosen by a branch.
+			{"v := d\nif t >= d {\nv = t\n}\no[s] = v", "st(t.Merge(d, t.GreaterEqual(d)), o[s:s+4])", "m"},
+			{"v := t\nif d >= t {\nv = d\n}\no[s] = v", "st(d.Merge(t, d.GreaterEqual(t)), o[s:s+4])", "m"},
+			{"v := d\nif t <= d {\nv = t\n}\no[s] = v", "st(t.Merge(d, t.LessEqual(d)), o[s:s+4])", "m"},
+			{"v := t\nif d <= t {\nv = d\n}\no[s] = v", "st(d.Merge(t, d.LessEqual(t)), o[s:s+4])", "m"},
 		}
 		for i1, o1 := range ops {
 			for fi, f := range forms {
@@ -472,19 +473,28 @@ func genPlanTriples() {
 					}
 					p("\t\t}\n")
 				} else {
-					var lane strings.Builder
-					l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
-					l("u, w, d := x[s], y[s], z[s]\n")
-					l("t := float64(u %s w)\n%s\n", o1.sym, f.scalar)
-					if o1.sym == "/" {
-						l("chk += w - w\n")
+					lane := func(test string) string {
+						var lane strings.Builder
+						l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
+						l("u, w, d := x[s], y[s], z[s]\n")
+						l("t := float64(u %s w)\n%s\n", o1.sym, f.scalar)
+						if o1.sym == "/" {
+							l("chk += w - w\n")
+						}
+						if test != "" {
+							l("chk += %s\n", test)
+						} else {
+							l("_ = d\n")
+						}
+						return laneLoop([]string{"o", "x", "y", "z"}, lane.String())
 					}
 					if f.cmp != "" {
-						l("chk += t - t + (d - d)\n")
+						// z is tested where it is computed (all): a
+						// constant row is finite.
+						p("if all {\n%s} else {\n%s}\n", lane("t - t + (d - d)"), lane("t - t"))
 					} else {
-						l("_ = d\n")
+						p("%s", lane(""))
 					}
-					p("%s", laneLoop([]string{"o", "x", "y", "z"}, lane.String()))
 				}
 			}
 		}
@@ -498,6 +508,7 @@ func genPlanTriples() {
 			p("// comparison), and reports whether an operand is not finite: x and y,\n")
 			p("// and z and w too if all (else they are constant rows, finite). o may be\n// one of the operands: a lane reads them before it writes.\n")
 			p("func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {\n")
+			p("\tvar chk float64 // v - v summed over the tested operands\n")
 		}
 		if vec {
 			p("\tx, y, z, w = x[:len(o)], y[:len(o)], z[:len(o)], w[:len(o)]\n\tswitch op {\n")
@@ -522,8 +533,8 @@ func genPlanTriples() {
 					var lane strings.Builder
 					l := func(format string, args ...any) { fmt.Fprintf(&lane, format, args...) }
 					l("a, b, t, e := x[s], y[s], z[s], w[s]\n")
-					l("if a %s b {\no[s] = t\n} else {\no[s] = e\n}\n", c.sym)
-					l("if %s != 0 { // a branch, not a running sum\nbad = true\n}\n", test)
+					l("v := e\nif a %s b {\nv = t\n}\no[s] = v\n", c.sym)
+					l("chk += %s\n", test)
 					p("%s", laneLoop([]string{"o", "x", "y", "z", "w"}, lane.String()))
 				}
 			}
@@ -532,7 +543,7 @@ func genPlanTriples() {
 		if vec {
 			p("\t}\n\treturn chk\n}\n")
 		} else {
-			p("\t}\n\treturn bad\n}\n")
+			p("\t}\n\treturn chk != 0\n}\n")
 		}
 		src, err := format.Source(b.Bytes())
 		if err != nil {
@@ -919,12 +930,19 @@ func forSeqs(f func(off int, seq []int)) {
 // checks and a quarter of the loop's own instructions, then one lane a
 // step for the rest. The lanes still run one after the other, each
 // reading its operands before it writes: o may be one of the operands.
+// The finite tests' sums (chk += v - v) go to a sum a lane of the four, so
+// that no chain of additions (one a lane, a few cycles each) holds the
+// loop back: a sum of zeros and NaNs is NaN in any order.
 func laneLoop(rows []string, body string) string {
 	var b strings.Builder
 	var names, convs []string
 	for _, r := range rows {
 		names = append(names, r+"4")
 		convs = append(convs, "(*[4]float64)("+r+"[s:s+4])")
+	}
+	sums := strings.Contains(body, "chk +=")
+	if sums {
+		b.WriteString("var c0, c1, c2, c3 float64\n")
 	}
 	b.WriteString("s := 0\nfor ; s < len(o)-3; s += 4 {\n")
 	b.WriteString(strings.Join(names, ", ") + " := " + strings.Join(convs, ", ") + "\n")
@@ -933,8 +951,13 @@ func laneLoop(rows []string, body string) string {
 		for _, r := range rows {
 			lane = strings.ReplaceAll(lane, r+"[s]", fmt.Sprintf("%s4[%d]", r, j))
 		}
+		lane = strings.ReplaceAll(lane, "chk +=", fmt.Sprintf("c%d +=", j))
 		b.WriteString("{\n" + lane + "}\n")
 	}
-	b.WriteString("}\nfor ; s < len(o); s++ {\n" + body + "}\n")
+	b.WriteString("}\n")
+	if sums {
+		b.WriteString("chk += c0 + c1 + (c2 + c3)\n")
+	}
+	b.WriteString("for ; s < len(o); s++ {\n" + body + "}\n")
 	return b.String()
 }

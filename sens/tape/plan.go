@@ -320,6 +320,9 @@ func (t *Tape) newPlan(src planSrc, out int32, scratch []int32) *plan {
 					z = a // unused: any row
 				}
 				in := instr{k: kPost + kind(fusedIndex(op)*8+form), op: op2, a: operand(a), b: operand(b), c: operand(z)}
+				if form >= 3 && isReg(z) {
+					in.check = 4 // max or min's other operand is computed: tested too
+				}
 				for _, v := range []int32{a, b, z} {
 					if !isReg(v) && !finite(src.value(v)) {
 						pl.alwaysBad = true

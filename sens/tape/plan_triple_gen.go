@@ -643,6 +643,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 18: // + + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -651,30 +652,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -683,6 +685,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 19: // + + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -691,30 +694,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -723,6 +727,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 20: // + + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -731,30 +736,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -763,6 +769,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 21: // + + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -771,30 +778,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c + t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -803,6 +811,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 22: // + + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -811,30 +820,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -843,6 +853,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 23: // + + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -851,30 +862,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -1513,6 +1525,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 42: // + - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -1521,30 +1534,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -1553,6 +1567,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 43: // + - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -1561,30 +1576,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -1593,6 +1609,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 44: // + - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -1601,30 +1618,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -1633,6 +1651,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 45: // + - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -1641,30 +1660,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c - t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -1673,6 +1693,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 46: // + - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -1681,30 +1702,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -1713,6 +1735,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 47: // + - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -1721,30 +1744,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2383,6 +2407,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 66: // + * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2391,30 +2416,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2423,6 +2449,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 67: // + * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2431,30 +2458,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2463,6 +2491,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 68: // + * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2471,30 +2500,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2503,6 +2533,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 69: // + * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2511,30 +2542,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c * t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2543,6 +2575,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 70: // + * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2551,30 +2584,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2583,6 +2617,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 71: // + * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2591,30 +2626,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2623,6 +2659,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 72: // + / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2631,30 +2668,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2663,6 +2701,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 73: // + / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2671,30 +2710,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2703,6 +2743,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 74: // + / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2711,30 +2752,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2743,6 +2785,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 75: // + / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2751,30 +2794,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = d + t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = d + t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = d + t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = d + t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2783,6 +2827,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 76: // + / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2791,30 +2836,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2823,6 +2869,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 77: // + / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2831,30 +2878,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2863,6 +2911,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 78: // + / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2871,30 +2920,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2903,6 +2953,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 79: // + / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2911,30 +2962,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2943,6 +2995,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 80: // + / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2951,30 +3004,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -2983,6 +3037,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 81: // + / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -2991,30 +3046,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = d - t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = d - t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = d - t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = d - t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3023,6 +3079,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 82: // + / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3031,30 +3088,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3063,6 +3121,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 83: // + / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3071,30 +3130,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3103,6 +3163,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 84: // + / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3111,30 +3172,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3143,6 +3205,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 85: // + / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3151,30 +3214,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3183,6 +3247,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 86: // + / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3191,30 +3256,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3223,6 +3289,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 87: // + / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3231,30 +3298,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = d * t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = d * t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = d * t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = d * t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3263,6 +3331,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 88: // + / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3271,30 +3340,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3303,6 +3373,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 89: // + / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3311,30 +3382,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3343,6 +3415,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 90: // + / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3351,34 +3424,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
-				chk += c - c
-				chk += d - d
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
-				chk += c - c
-				chk += d - d
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
-				chk += c - c
-				chk += d - d
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
-				chk += c - c
-				chk += d - d
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3388,6 +3462,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 91: // + / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3396,34 +3471,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3433,6 +3509,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 92: // + / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3441,34 +3518,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3478,6 +3556,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 93: // + / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3486,34 +3565,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[0] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[1] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[2] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / t1)
 				o4[3] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3523,6 +3603,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 94: // + / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3531,34 +3612,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -3568,6 +3650,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 95: // + / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -3576,34 +3659,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a + b)
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -4243,6 +4327,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 114: // - + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -4251,30 +4336,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -4283,6 +4369,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 115: // - + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -4291,30 +4378,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -4323,6 +4411,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 116: // - + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -4331,30 +4420,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -4363,6 +4453,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 117: // - + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -4371,30 +4462,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c + t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -4403,6 +4495,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 118: // - + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -4411,30 +4504,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -4443,6 +4537,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 119: // - + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -4451,30 +4546,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5113,6 +5209,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 138: // - - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5121,30 +5218,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5153,6 +5251,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 139: // - - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5161,30 +5260,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5193,6 +5293,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 140: // - - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5201,30 +5302,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5233,6 +5335,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 141: // - - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5241,30 +5344,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c - t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5273,6 +5377,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 142: // - - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5281,30 +5386,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5313,6 +5419,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 143: // - - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5321,30 +5428,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -5983,6 +6091,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 162: // - * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -5991,30 +6100,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6023,6 +6133,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 163: // - * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6031,30 +6142,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6063,6 +6175,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 164: // - * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6071,30 +6184,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6103,6 +6217,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 165: // - * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6111,30 +6226,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c * t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6143,6 +6259,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 166: // - * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6151,30 +6268,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6183,6 +6301,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 167: // - * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6191,30 +6310,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6223,6 +6343,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 168: // - / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6231,30 +6352,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6263,6 +6385,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 169: // - / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6271,30 +6394,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6303,6 +6427,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 170: // - / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6311,30 +6436,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6343,6 +6469,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 171: // - / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6351,30 +6478,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = d + t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = d + t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = d + t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = d + t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6383,6 +6511,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 172: // - / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6391,30 +6520,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6423,6 +6553,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 173: // - / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6431,30 +6562,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6463,6 +6595,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 174: // - / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6471,30 +6604,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6503,6 +6637,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 175: // - / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6511,30 +6646,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6543,6 +6679,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 176: // - / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6551,30 +6688,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6583,6 +6721,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 177: // - / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6591,30 +6730,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = d - t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = d - t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = d - t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = d - t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6623,6 +6763,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 178: // - / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6631,30 +6772,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6663,6 +6805,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 179: // - / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6671,30 +6814,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6703,6 +6847,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 180: // - / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6711,30 +6856,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6743,6 +6889,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 181: // - / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6751,30 +6898,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6783,6 +6931,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 182: // - / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6791,30 +6940,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6823,6 +6973,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 183: // - / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6831,30 +6982,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = d * t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = d * t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = d * t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = d * t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6863,6 +7015,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 184: // - / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6871,30 +7024,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6903,6 +7057,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 185: // - / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6911,30 +7066,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6943,6 +7099,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 186: // - / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6951,34 +7108,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
-				chk += c - c
-				chk += d - d
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
-				chk += c - c
-				chk += d - d
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
-				chk += c - c
-				chk += d - d
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
-				chk += c - c
-				chk += d - d
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -6988,6 +7146,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 187: // - / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -6996,34 +7155,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -7033,6 +7193,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 188: // - / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7041,34 +7202,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -7078,6 +7240,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 189: // - / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7086,34 +7249,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[0] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[1] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[2] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / t1)
 				o4[3] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -7123,6 +7287,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 190: // - / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7131,34 +7296,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -7168,6 +7334,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 191: // - / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7176,34 +7343,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a - b)
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -7843,6 +8011,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 210: // * + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7851,30 +8020,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -7883,6 +8053,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 211: // * + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7891,30 +8062,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -7923,6 +8095,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 212: // * + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7931,30 +8104,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -7963,6 +8137,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 213: // * + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -7971,30 +8146,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c + t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8003,6 +8179,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 214: // * + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8011,30 +8188,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8043,6 +8221,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 215: // * + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8051,30 +8230,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8713,6 +8893,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 234: // * - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8721,30 +8902,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8753,6 +8935,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 235: // * - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8761,30 +8944,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8793,6 +8977,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 236: // * - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8801,30 +8986,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8833,6 +9019,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 237: // * - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8841,30 +9028,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c - t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8873,6 +9061,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 238: // * - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8881,30 +9070,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -8913,6 +9103,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 239: // * - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -8921,30 +9112,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9583,6 +9775,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			o[s] = t2 * t1
 		}
 	case kFusedEnd + 258: // * * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9591,30 +9784,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9623,6 +9817,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 259: // * * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9631,30 +9826,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9663,6 +9859,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 260: // * * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9671,30 +9868,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9703,6 +9901,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 261: // * * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9711,30 +9910,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[0] = d / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[1] = d / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[2] = d / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c * t1)
 				o4[3] = d / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9743,6 +9943,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 262: // * * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9751,30 +9952,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9783,6 +9985,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 263: // * * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9791,30 +9994,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9823,6 +10027,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 264: // * / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9831,30 +10036,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9863,6 +10069,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 265: // * / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9871,30 +10078,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9903,6 +10111,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 266: // * / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9911,30 +10120,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9943,6 +10153,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 267: // * / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9951,30 +10162,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = d + t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = d + t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = d + t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = d + t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -9983,6 +10195,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 268: // * / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -9991,30 +10204,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10023,6 +10237,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 269: // * / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10031,30 +10246,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10063,6 +10279,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 270: // * / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10071,30 +10288,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10103,6 +10321,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 271: // * / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10111,30 +10330,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10143,6 +10363,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 272: // * / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10151,30 +10372,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10183,6 +10405,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 273: // * / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10191,30 +10414,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = d - t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = d - t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = d - t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = d - t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10223,6 +10447,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 274: // * / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10231,30 +10456,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10263,6 +10489,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 275: // * / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10271,30 +10498,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10303,6 +10531,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 276: // * / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10311,30 +10540,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10343,6 +10573,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 277: // * / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10351,30 +10582,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10383,6 +10615,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 278: // * / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10391,30 +10624,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10423,6 +10657,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 279: // * / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10431,30 +10666,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = d * t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = d * t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = d * t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = d * t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10463,6 +10699,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 280: // * / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10471,30 +10708,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10503,6 +10741,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 281: // * / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10511,30 +10750,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10543,6 +10783,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 282: // * / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10551,34 +10792,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
-				chk += c - c
-				chk += d - d
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
-				chk += c - c
-				chk += d - d
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
-				chk += c - c
-				chk += d - d
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
-				chk += c - c
-				chk += d - d
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10588,6 +10830,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 283: // * / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10596,34 +10839,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
-				chk += c - c
-				chk += t2 - t2
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10633,6 +10877,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 284: // * / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10641,34 +10886,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
-				chk += t1 - t1
-				chk += d - d
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10678,6 +10924,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 285: // * / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10686,34 +10933,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[0] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[1] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[2] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / t1)
 				o4[3] = d / t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10723,6 +10971,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 286: // * / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10731,34 +10980,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
-				chk += d - d
-				chk += t2 - t2
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10768,6 +11018,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 287: // * / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10776,34 +11027,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a * b)
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
-				chk += d - d
-				chk += t1 - t1
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -10813,6 +11065,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 288: // / + + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10821,30 +11074,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 + d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 + d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 + d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 + d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -10853,6 +11107,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 289: // / + + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10861,30 +11116,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = d + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = d + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = d + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = d + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -10893,6 +11149,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 290: // / + + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10901,30 +11158,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = t2 + d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = t2 + d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = t2 + d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = t2 + d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -10933,6 +11191,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 291: // / + + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10941,30 +11200,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = d + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = d + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = d + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = d + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -10973,6 +11233,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 292: // / + + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -10981,30 +11242,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t1 + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t1 + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t1 + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t1 + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11013,6 +11275,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 293: // / + + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11021,30 +11284,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t2 + t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t2 + t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t2 + t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t2 + t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11053,6 +11317,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 294: // / + - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11061,30 +11326,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 - d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 - d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 - d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 - d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11093,6 +11359,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 295: // / + - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11101,30 +11368,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = d - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = d - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = d - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = d - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11133,6 +11401,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 296: // / + - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11141,30 +11410,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = t2 - d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = t2 - d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = t2 - d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = t2 - d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11173,6 +11443,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 297: // / + - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11181,30 +11452,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = d - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = d - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = d - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = d - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11213,6 +11485,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 298: // / + - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11221,30 +11494,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t1 - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t1 - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t1 - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t1 - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11253,6 +11527,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 299: // / + - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11261,30 +11536,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t2 - t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t2 - t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t2 - t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t2 - t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11293,6 +11569,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 300: // / + * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11301,30 +11578,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 * d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 * d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 * d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 * d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11333,6 +11611,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 301: // / + * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11341,30 +11620,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = d * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = d * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = d * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = d * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11373,6 +11653,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 302: // / + * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11381,30 +11662,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = t2 * d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = t2 * d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = t2 * d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = t2 * d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11413,6 +11695,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 303: // / + * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11421,30 +11704,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = d * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = d * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = d * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = d * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11453,6 +11737,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 304: // / + * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11461,30 +11746,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t1 * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t1 * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t1 * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t1 * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11493,6 +11779,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 305: // / + * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11501,30 +11788,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t2 * t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t2 * t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t2 * t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t2 * t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11533,6 +11821,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 306: // / + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11541,34 +11830,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11578,6 +11868,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 307: // / + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11586,34 +11877,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11623,6 +11915,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 308: // / + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11631,34 +11924,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11668,6 +11962,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 309: // / + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11676,34 +11971,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + t1)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11713,6 +12009,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 310: // / + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11721,34 +12018,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11758,6 +12056,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 311: // / + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11766,34 +12065,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11803,6 +12103,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 312: // / - + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11811,30 +12112,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 + d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 + d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 + d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 + d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11843,6 +12145,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 313: // / - + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11851,30 +12154,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = d + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = d + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = d + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = d + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11883,6 +12187,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 314: // / - + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11891,30 +12196,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = t2 + d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = t2 + d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = t2 + d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = t2 + d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11923,6 +12229,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 315: // / - + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11931,30 +12238,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = d + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = d + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = d + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = d + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -11963,6 +12271,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 316: // / - + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -11971,30 +12280,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t1 + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t1 + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t1 + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t1 + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12003,6 +12313,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 317: // / - + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12011,30 +12322,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t2 + t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t2 + t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t2 + t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t2 + t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12043,6 +12355,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 318: // / - - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12051,30 +12364,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 - d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 - d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 - d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 - d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12083,6 +12397,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 319: // / - - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12091,30 +12406,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = d - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = d - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = d - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = d - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12123,6 +12439,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 320: // / - - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12131,30 +12448,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = t2 - d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = t2 - d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = t2 - d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = t2 - d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12163,6 +12481,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 321: // / - - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12171,30 +12490,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = d - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = d - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = d - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = d - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12203,6 +12523,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 322: // / - - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12211,30 +12532,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t1 - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t1 - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t1 - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t1 - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12243,6 +12565,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 323: // / - - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12251,30 +12574,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t2 - t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t2 - t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t2 - t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t2 - t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12283,6 +12607,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 324: // / - * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12291,30 +12616,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 * d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 * d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 * d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 * d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12323,6 +12649,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 325: // / - * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12331,30 +12658,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = d * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = d * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = d * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = d * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12363,6 +12691,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 326: // / - * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12371,30 +12700,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = t2 * d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = t2 * d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = t2 * d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = t2 * d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12403,6 +12733,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 327: // / - * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12411,30 +12742,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = d * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = d * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = d * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = d * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12443,6 +12775,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 328: // / - * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12451,30 +12784,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t1 * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t1 * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t1 * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t1 * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12483,6 +12817,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 329: // / - * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12491,30 +12826,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t2 * t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t2 * t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t2 * t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t2 * t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12523,6 +12859,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 330: // / - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12531,34 +12868,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12568,6 +12906,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 331: // / - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12576,34 +12915,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12613,6 +12953,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 332: // / - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12621,34 +12962,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12658,6 +13000,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 333: // / - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12666,34 +13009,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - t1)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12703,6 +13047,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 334: // / - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12711,34 +13056,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12748,6 +13094,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 335: // / - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12756,34 +13103,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12793,6 +13141,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 336: // / * + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12801,30 +13150,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 + d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 + d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 + d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 + d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12833,6 +13183,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 337: // / * + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12841,30 +13192,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = d + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = d + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = d + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = d + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12873,6 +13225,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 338: // / * + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12881,30 +13234,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = t2 + d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = t2 + d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = t2 + d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = t2 + d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12913,6 +13267,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 339: // / * + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12921,30 +13276,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = d + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = d + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = d + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = d + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12953,6 +13309,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 340: // / * + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -12961,30 +13318,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t1 + t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t1 + t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t1 + t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t1 + t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -12993,6 +13351,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 341: // / * + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13001,30 +13360,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t2 + t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t2 + t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t2 + t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t2 + t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13033,6 +13393,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 342: // / * - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13041,30 +13402,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 - d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 - d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 - d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 - d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13073,6 +13435,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 343: // / * - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13081,30 +13444,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = d - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = d - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = d - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = d - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13113,6 +13477,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 344: // / * - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13121,30 +13486,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = t2 - d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = t2 - d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = t2 - d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = t2 - d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13153,6 +13519,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 345: // / * - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13161,30 +13528,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = d - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = d - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = d - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = d - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13193,6 +13561,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 346: // / * - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13201,30 +13570,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t1 - t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t1 - t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t1 - t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t1 - t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13233,6 +13603,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 347: // / * - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13241,30 +13612,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t2 - t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t2 - t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t2 - t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t2 - t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13273,6 +13645,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 348: // / * * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13281,30 +13654,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 * d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 * d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 * d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 * d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13313,6 +13687,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 349: // / * * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13321,30 +13696,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = d * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = d * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = d * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = d * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13353,6 +13729,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 350: // / * * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13361,30 +13738,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = t2 * d
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = t2 * d
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = t2 * d
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = t2 * d
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13393,6 +13771,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 351: // / * * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13401,30 +13780,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = d * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = d * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = d * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = d * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13433,6 +13813,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 352: // / * * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13441,30 +13822,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t1 * t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t1 * t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t1 * t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t1 * t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13473,6 +13855,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 353: // / * * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13481,30 +13864,31 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t2 * t1
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t2 * t1
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t2 * t1
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t2 * t1
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13513,6 +13897,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kFusedEnd + 354: // / * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13521,34 +13906,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13558,6 +13944,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 355: // / * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13566,34 +13953,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13603,6 +13991,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 356: // / * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13611,34 +14000,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13648,6 +14038,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 357: // / * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13656,34 +14047,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * t1)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13693,6 +14085,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 358: // / * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13701,34 +14094,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13738,6 +14132,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 359: // / * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13746,34 +14141,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13783,6 +14179,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 360: // / / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13791,34 +14188,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13828,6 +14226,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 361: // / / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13836,34 +14235,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13873,6 +14273,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 362: // / / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13881,34 +14282,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13918,6 +14320,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 363: // / / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13926,34 +14329,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = d + t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = d + t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = d + t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = d + t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -13963,6 +14367,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 364: // / / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -13971,34 +14376,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14008,6 +14414,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 365: // / / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14016,34 +14423,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14053,6 +14461,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 366: // / / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14061,34 +14470,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14098,6 +14508,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 367: // / / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14106,34 +14517,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14143,6 +14555,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 368: // / / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14151,34 +14564,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14188,6 +14602,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 369: // / / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14196,34 +14611,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = d - t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = d - t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = d - t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = d - t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14233,6 +14649,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 370: // / / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14241,34 +14658,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14278,6 +14696,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 371: // / / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14286,34 +14705,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14323,6 +14743,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 372: // / / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14331,34 +14752,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14368,6 +14790,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 373: // / / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14376,34 +14799,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14413,6 +14837,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kFusedEnd + 374: // / / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14421,34 +14846,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14458,6 +14884,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 375: // / / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14466,34 +14893,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = d * t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = d * t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = d * t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = d * t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14503,6 +14931,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kFusedEnd + 376: // / / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14511,34 +14940,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14548,6 +14978,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 377: // / / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14556,34 +14987,35 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14593,6 +15025,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 378: // / / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14601,38 +15034,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c0 += b - b
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c1 += b - b
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c2 += b - b
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c3 += b - b
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14643,6 +15077,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 379: // / / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14651,38 +15086,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c0 += b - b
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c1 += b - b
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c2 += b - b
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c3 += b - b
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14693,6 +15129,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 380: // / / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14701,38 +15138,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c0 += b - b
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c1 += b - b
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c2 += b - b
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c3 += b - b
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14743,6 +15181,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kFusedEnd + 381: // / / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14751,38 +15190,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[0] = d / t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[1] = d / t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[2] = d / t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / t1)
 				o4[3] = d / t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14793,6 +15233,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 382: // / / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14801,38 +15242,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c0 += b - b
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c1 += b - b
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c2 += b - b
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c3 += b - b
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -14843,6 +15285,7 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kFusedEnd + 383: // / / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
@@ -14851,38 +15294,39 @@ func runTriple(k kind, o, x, y, z, w []float64) (chk float64) {
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c0 += b - b
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c1 += b - b
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c2 += b - b
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
 				t1 := float64(a / b)
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c3 += b - b
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -15625,6 +16069,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 18: // + + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -15634,7 +16079,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -15642,7 +16087,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -15650,7 +16095,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -15658,9 +16103,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -15670,6 +16116,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 19: // + + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -15679,7 +16126,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -15687,7 +16134,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -15695,7 +16142,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -15703,9 +16150,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -15715,6 +16163,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 20: // + + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -15724,7 +16173,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -15732,7 +16181,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -15740,7 +16189,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -15748,9 +16197,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -15760,6 +16210,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 21: // + + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -15769,7 +16220,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -15777,7 +16228,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -15785,7 +16236,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -15793,9 +16244,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -15805,6 +16257,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 22: // + + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -15814,7 +16267,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -15822,7 +16275,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -15830,7 +16283,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -15838,9 +16291,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -15850,6 +16304,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 23: // + + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -15859,7 +16314,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -15867,7 +16322,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -15875,7 +16330,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -15883,9 +16338,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -16615,6 +17071,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 42: // + - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -16624,7 +17081,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -16632,7 +17089,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -16640,7 +17097,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -16648,9 +17105,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -16660,6 +17118,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 43: // + - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -16669,7 +17128,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -16677,7 +17136,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -16685,7 +17144,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -16693,9 +17152,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -16705,6 +17165,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 44: // + - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -16714,7 +17175,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -16722,7 +17183,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -16730,7 +17191,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -16738,9 +17199,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -16750,6 +17212,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 45: // + - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -16759,7 +17222,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -16767,7 +17230,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -16775,7 +17238,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -16783,9 +17246,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -16795,6 +17259,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 46: // + - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -16804,7 +17269,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -16812,7 +17277,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -16820,7 +17285,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -16828,9 +17293,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -16840,6 +17306,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 47: // + - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -16849,7 +17316,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -16857,7 +17324,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -16865,7 +17332,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -16873,9 +17340,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17605,6 +18073,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 66: // + * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17614,7 +18083,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17622,7 +18091,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17630,7 +18099,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17638,9 +18107,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17650,6 +18120,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 67: // + * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17659,7 +18130,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17667,7 +18138,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17675,7 +18146,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17683,9 +18154,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17695,6 +18167,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 68: // + * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17704,7 +18177,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17712,7 +18185,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17720,7 +18193,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17728,9 +18201,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17740,6 +18214,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 69: // + * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17749,7 +18224,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17757,7 +18232,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17765,7 +18240,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17773,9 +18248,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17785,6 +18261,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 70: // + * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17794,7 +18271,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17802,7 +18279,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17810,7 +18287,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17818,9 +18295,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17830,6 +18308,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 71: // + * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17839,7 +18318,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17847,7 +18326,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17855,7 +18334,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17863,9 +18342,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17875,6 +18355,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 72: // + / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17884,7 +18365,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17892,7 +18373,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17900,7 +18381,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17908,9 +18389,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17920,6 +18402,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 73: // + / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17929,7 +18412,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17937,7 +18420,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17945,7 +18428,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17953,9 +18436,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -17965,6 +18449,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 74: // + / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -17974,7 +18459,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -17982,7 +18467,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -17990,7 +18475,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -17998,9 +18483,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18010,6 +18496,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 75: // + / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18019,7 +18506,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18027,7 +18514,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18035,7 +18522,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18043,9 +18530,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18055,6 +18543,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 76: // + / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18064,7 +18553,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18072,7 +18561,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18080,7 +18569,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18088,9 +18577,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18100,6 +18590,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 77: // + / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18109,7 +18600,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18117,7 +18608,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18125,7 +18616,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18133,9 +18624,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18145,6 +18637,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 78: // + / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18154,7 +18647,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18162,7 +18655,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18170,7 +18663,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18178,9 +18671,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18190,6 +18684,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 79: // + / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18199,7 +18694,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18207,7 +18702,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18215,7 +18710,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18223,9 +18718,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18235,6 +18731,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 80: // + / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18244,7 +18741,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18252,7 +18749,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18260,7 +18757,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18268,9 +18765,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18280,6 +18778,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 81: // + / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18289,7 +18788,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18297,7 +18796,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18305,7 +18804,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18313,9 +18812,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18325,6 +18825,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 82: // + / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18334,7 +18835,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18342,7 +18843,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18350,7 +18851,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18358,9 +18859,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18370,6 +18872,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 83: // + / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18379,7 +18882,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18387,7 +18890,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18395,7 +18898,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18403,9 +18906,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18415,6 +18919,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 84: // + / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18424,7 +18929,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18432,7 +18937,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18440,7 +18945,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18448,9 +18953,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18460,6 +18966,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 85: // + / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18469,7 +18976,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18477,7 +18984,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18485,7 +18992,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18493,9 +19000,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18505,6 +19013,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 86: // + / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18514,7 +19023,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18522,7 +19031,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18530,7 +19039,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18538,9 +19047,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18550,6 +19060,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 87: // + / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18559,7 +19070,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18567,7 +19078,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18575,7 +19086,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18583,9 +19094,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18595,6 +19107,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 88: // + / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18604,7 +19117,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18612,7 +19125,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18620,7 +19133,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18628,9 +19141,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18640,6 +19154,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 89: // + / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18649,7 +19164,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18657,7 +19172,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18665,7 +19180,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18673,9 +19188,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18685,6 +19201,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 90: // + / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18694,8 +19211,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
-				chk += d - d
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18703,8 +19220,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
-				chk += d - d
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18712,8 +19229,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
-				chk += d - d
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18721,10 +19238,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
-				chk += d - d
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18735,6 +19253,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 91: // + / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18744,8 +19263,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18753,8 +19272,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18762,8 +19281,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18771,10 +19290,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18785,6 +19305,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 92: // + / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18794,8 +19315,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18803,8 +19324,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18812,8 +19333,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18821,10 +19342,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18835,6 +19357,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 93: // + / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18844,8 +19367,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18853,8 +19376,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18862,8 +19385,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18871,10 +19394,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18885,6 +19409,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 94: // + / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18894,8 +19419,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18903,8 +19428,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18912,8 +19437,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18921,10 +19446,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -18935,6 +19461,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 95: // + / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -18944,8 +19471,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -18953,8 +19480,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -18962,8 +19489,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -18971,10 +19498,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a + b)
@@ -19705,6 +20233,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 114: // - + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -19714,7 +20243,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -19722,7 +20251,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -19730,7 +20259,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -19738,9 +20267,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -19750,6 +20280,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 115: // - + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -19759,7 +20290,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -19767,7 +20298,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -19775,7 +20306,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -19783,9 +20314,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -19795,6 +20327,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 116: // - + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -19804,7 +20337,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -19812,7 +20345,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -19820,7 +20353,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -19828,9 +20361,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -19840,6 +20374,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 117: // - + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -19849,7 +20384,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -19857,7 +20392,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -19865,7 +20400,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -19873,9 +20408,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -19885,6 +20421,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 118: // - + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -19894,7 +20431,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -19902,7 +20439,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -19910,7 +20447,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -19918,9 +20455,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -19930,6 +20468,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 119: // - + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -19939,7 +20478,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -19947,7 +20486,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -19955,7 +20494,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -19963,9 +20502,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -20695,6 +21235,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 138: // - - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -20704,7 +21245,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -20712,7 +21253,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -20720,7 +21261,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -20728,9 +21269,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -20740,6 +21282,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 139: // - - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -20749,7 +21292,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -20757,7 +21300,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -20765,7 +21308,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -20773,9 +21316,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -20785,6 +21329,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 140: // - - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -20794,7 +21339,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -20802,7 +21347,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -20810,7 +21355,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -20818,9 +21363,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -20830,6 +21376,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 141: // - - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -20839,7 +21386,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -20847,7 +21394,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -20855,7 +21402,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -20863,9 +21410,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -20875,6 +21423,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 142: // - - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -20884,7 +21433,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -20892,7 +21441,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -20900,7 +21449,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -20908,9 +21457,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -20920,6 +21470,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 143: // - - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -20929,7 +21480,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -20937,7 +21488,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -20945,7 +21496,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -20953,9 +21504,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21685,6 +22237,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 162: // - * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21694,7 +22247,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21702,7 +22255,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21710,7 +22263,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21718,9 +22271,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21730,6 +22284,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 163: // - * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21739,7 +22294,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21747,7 +22302,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21755,7 +22310,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21763,9 +22318,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21775,6 +22331,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 164: // - * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21784,7 +22341,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21792,7 +22349,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21800,7 +22357,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21808,9 +22365,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21820,6 +22378,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 165: // - * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21829,7 +22388,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21837,7 +22396,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21845,7 +22404,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21853,9 +22412,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21865,6 +22425,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 166: // - * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21874,7 +22435,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21882,7 +22443,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21890,7 +22451,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21898,9 +22459,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21910,6 +22472,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 167: // - * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21919,7 +22482,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21927,7 +22490,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21935,7 +22498,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21943,9 +22506,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -21955,6 +22519,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 168: // - / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -21964,7 +22529,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -21972,7 +22537,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -21980,7 +22545,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -21988,9 +22553,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22000,6 +22566,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 169: // - / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22009,7 +22576,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22017,7 +22584,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22025,7 +22592,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22033,9 +22600,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22045,6 +22613,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 170: // - / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22054,7 +22623,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22062,7 +22631,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22070,7 +22639,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22078,9 +22647,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22090,6 +22660,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 171: // - / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22099,7 +22670,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22107,7 +22678,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22115,7 +22686,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22123,9 +22694,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22135,6 +22707,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 172: // - / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22144,7 +22717,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22152,7 +22725,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22160,7 +22733,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22168,9 +22741,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22180,6 +22754,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 173: // - / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22189,7 +22764,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22197,7 +22772,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22205,7 +22780,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22213,9 +22788,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22225,6 +22801,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 174: // - / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22234,7 +22811,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22242,7 +22819,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22250,7 +22827,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22258,9 +22835,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22270,6 +22848,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 175: // - / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22279,7 +22858,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22287,7 +22866,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22295,7 +22874,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22303,9 +22882,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22315,6 +22895,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 176: // - / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22324,7 +22905,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22332,7 +22913,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22340,7 +22921,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22348,9 +22929,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22360,6 +22942,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 177: // - / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22369,7 +22952,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22377,7 +22960,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22385,7 +22968,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22393,9 +22976,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22405,6 +22989,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 178: // - / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22414,7 +22999,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22422,7 +23007,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22430,7 +23015,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22438,9 +23023,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22450,6 +23036,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 179: // - / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22459,7 +23046,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22467,7 +23054,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22475,7 +23062,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22483,9 +23070,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22495,6 +23083,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 180: // - / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22504,7 +23093,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22512,7 +23101,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22520,7 +23109,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22528,9 +23117,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22540,6 +23130,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 181: // - / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22549,7 +23140,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22557,7 +23148,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22565,7 +23156,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22573,9 +23164,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22585,6 +23177,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 182: // - / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22594,7 +23187,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22602,7 +23195,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22610,7 +23203,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22618,9 +23211,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22630,6 +23224,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 183: // - / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22639,7 +23234,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22647,7 +23242,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22655,7 +23250,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22663,9 +23258,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22675,6 +23271,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 184: // - / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22684,7 +23281,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22692,7 +23289,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22700,7 +23297,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22708,9 +23305,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22720,6 +23318,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 185: // - / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22729,7 +23328,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22737,7 +23336,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22745,7 +23344,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22753,9 +23352,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22765,6 +23365,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 186: // - / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22774,8 +23375,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
-				chk += d - d
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22783,8 +23384,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
-				chk += d - d
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22792,8 +23393,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
-				chk += d - d
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22801,10 +23402,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
-				chk += d - d
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22815,6 +23417,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 187: // - / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22824,8 +23427,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22833,8 +23436,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22842,8 +23445,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22851,10 +23454,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22865,6 +23469,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 188: // - / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22874,8 +23479,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22883,8 +23488,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22892,8 +23497,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22901,10 +23506,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22915,6 +23521,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 189: // - / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22924,8 +23531,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22933,8 +23540,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22942,8 +23549,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -22951,10 +23558,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -22965,6 +23573,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 190: // - / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -22974,8 +23583,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -22983,8 +23592,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -22992,8 +23601,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23001,10 +23610,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -23015,6 +23625,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 191: // - / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -23024,8 +23635,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -23033,8 +23644,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -23042,8 +23653,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23051,10 +23662,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a - b)
@@ -23785,6 +24397,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 210: // * + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -23794,7 +24407,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -23802,7 +24415,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -23810,7 +24423,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23818,9 +24431,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -23830,6 +24444,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 211: // * + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -23839,7 +24454,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -23847,7 +24462,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -23855,7 +24470,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23863,9 +24478,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -23875,6 +24491,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 212: // * + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -23884,7 +24501,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -23892,7 +24509,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -23900,7 +24517,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23908,9 +24525,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -23920,6 +24538,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 213: // * + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -23929,7 +24548,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -23937,7 +24556,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -23945,7 +24564,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23953,9 +24572,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -23965,6 +24585,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 214: // * + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -23974,7 +24595,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -23982,7 +24603,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -23990,7 +24611,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -23998,9 +24619,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -24010,6 +24632,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 215: // * + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -24019,7 +24642,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -24027,7 +24650,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -24035,7 +24658,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -24043,9 +24666,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -24775,6 +25399,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 234: // * - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -24784,7 +25409,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -24792,7 +25417,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -24800,7 +25425,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -24808,9 +25433,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -24820,6 +25446,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 235: // * - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -24829,7 +25456,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -24837,7 +25464,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -24845,7 +25472,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -24853,9 +25480,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -24865,6 +25493,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 236: // * - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -24874,7 +25503,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -24882,7 +25511,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -24890,7 +25519,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -24898,9 +25527,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -24910,6 +25540,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 237: // * - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -24919,7 +25550,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -24927,7 +25558,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -24935,7 +25566,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -24943,9 +25574,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -24955,6 +25587,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 238: // * - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -24964,7 +25597,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -24972,7 +25605,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -24980,7 +25613,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -24988,9 +25621,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25000,6 +25634,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 239: // * - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25009,7 +25644,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -25017,7 +25652,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -25025,7 +25660,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -25033,9 +25668,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25765,6 +26401,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			r1[s], r2[s] = t1, t2
 		}
 	case kTripleKeep + 258: // * * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25774,7 +26411,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -25782,7 +26419,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -25790,7 +26427,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -25798,9 +26435,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25810,6 +26448,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 259: // * * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25819,7 +26458,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -25827,7 +26466,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -25835,7 +26474,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -25843,9 +26482,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25855,6 +26495,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 260: // * * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25864,7 +26505,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -25872,7 +26513,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -25880,7 +26521,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -25888,9 +26529,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25900,6 +26542,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 261: // * * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25909,7 +26552,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -25917,7 +26560,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -25925,7 +26568,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -25933,9 +26576,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25945,6 +26589,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 262: // * * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25954,7 +26599,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += t2 - t2
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -25962,7 +26607,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += t2 - t2
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -25970,7 +26615,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += t2 - t2
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -25978,9 +26623,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += t2 - t2
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -25990,6 +26636,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 263: // * * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -25999,7 +26646,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26007,7 +26654,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26015,7 +26662,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26023,9 +26670,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26035,6 +26683,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 264: // * / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26044,7 +26693,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26052,7 +26701,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26060,7 +26709,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26068,9 +26717,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26080,6 +26730,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 265: // * / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26089,7 +26740,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26097,7 +26748,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26105,7 +26756,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26113,9 +26764,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26125,6 +26777,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 266: // * / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26134,7 +26787,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26142,7 +26795,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26150,7 +26803,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26158,9 +26811,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26170,6 +26824,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 267: // * / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26179,7 +26834,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26187,7 +26842,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26195,7 +26850,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26203,9 +26858,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26215,6 +26871,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 268: // * / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26224,7 +26881,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26232,7 +26889,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26240,7 +26897,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26248,9 +26905,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26260,6 +26918,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 269: // * / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26269,7 +26928,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26277,7 +26936,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26285,7 +26944,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26293,9 +26952,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26305,6 +26965,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 270: // * / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26314,7 +26975,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26322,7 +26983,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26330,7 +26991,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26338,9 +26999,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26350,6 +27012,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 271: // * / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26359,7 +27022,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26367,7 +27030,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26375,7 +27038,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26383,9 +27046,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26395,6 +27059,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 272: // * / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26404,7 +27069,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26412,7 +27077,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26420,7 +27085,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26428,9 +27093,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26440,6 +27106,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 273: // * / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26449,7 +27116,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26457,7 +27124,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26465,7 +27132,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26473,9 +27140,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26485,6 +27153,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 274: // * / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26494,7 +27163,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26502,7 +27171,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26510,7 +27179,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26518,9 +27187,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26530,6 +27200,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 275: // * / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26539,7 +27210,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26547,7 +27218,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26555,7 +27226,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26563,9 +27234,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26575,6 +27247,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 276: // * / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26584,7 +27257,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26592,7 +27265,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26600,7 +27273,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26608,9 +27281,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26620,6 +27294,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 277: // * / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26629,7 +27304,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26637,7 +27312,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26645,7 +27320,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26653,9 +27328,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26665,6 +27341,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 278: // * / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26674,7 +27351,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26682,7 +27359,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26690,7 +27367,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26698,9 +27375,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26710,6 +27388,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 279: // * / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26719,7 +27398,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26727,7 +27406,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26735,7 +27414,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26743,9 +27422,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26755,6 +27435,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 280: // * / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26764,7 +27445,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26772,7 +27453,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26780,7 +27461,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26788,9 +27469,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26800,6 +27482,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 281: // * / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26809,7 +27492,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26817,7 +27500,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26825,7 +27508,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26833,9 +27516,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26845,6 +27529,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 282: // * / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26854,8 +27539,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += c - c
-				chk += d - d
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26863,8 +27548,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += c - c
-				chk += d - d
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26872,8 +27557,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += c - c
-				chk += d - d
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26881,10 +27566,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += c - c
-				chk += d - d
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26895,6 +27581,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 283: // * / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26904,8 +27591,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26913,8 +27600,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26922,8 +27609,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26931,10 +27618,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += c - c
-				chk += t2 - t2
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26945,6 +27633,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 284: // * / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -26954,8 +27643,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -26963,8 +27652,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -26972,8 +27661,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -26981,10 +27670,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
-				chk += d - d
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -26995,6 +27685,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 285: // * / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27004,8 +27695,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27013,8 +27704,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27022,8 +27713,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27031,10 +27722,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -27045,6 +27737,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 286: // * / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27054,8 +27747,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27063,8 +27756,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27072,8 +27765,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27081,10 +27774,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += d - d
-				chk += t2 - t2
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -27095,6 +27789,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 287: // * / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27104,8 +27799,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27113,8 +27808,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27122,8 +27817,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27131,10 +27826,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += d - d
-				chk += t1 - t1
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a * b)
@@ -27145,6 +27841,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 288: // / + + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27154,7 +27851,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27162,7 +27859,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27170,7 +27867,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27178,9 +27875,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27190,6 +27888,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 289: // / + + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27199,7 +27898,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27207,7 +27906,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27215,7 +27914,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27223,9 +27922,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27235,6 +27935,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 290: // / + + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27244,7 +27945,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27252,7 +27953,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27260,7 +27961,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27268,9 +27969,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27280,6 +27982,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 291: // / + + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27289,7 +27992,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27297,7 +28000,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27305,7 +28008,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27313,9 +28016,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27325,6 +28029,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 292: // / + + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27334,7 +28039,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27342,7 +28047,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27350,7 +28055,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27358,9 +28063,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27370,6 +28076,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 293: // / + + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27379,7 +28086,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27387,7 +28094,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27395,7 +28102,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27403,9 +28110,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27415,6 +28123,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 294: // / + - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27424,7 +28133,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27432,7 +28141,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27440,7 +28149,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27448,9 +28157,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27460,6 +28170,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 295: // / + - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27469,7 +28180,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27477,7 +28188,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27485,7 +28196,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27493,9 +28204,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27505,6 +28217,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 296: // / + - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27514,7 +28227,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27522,7 +28235,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27530,7 +28243,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27538,9 +28251,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27550,6 +28264,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 297: // / + - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27559,7 +28274,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27567,7 +28282,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27575,7 +28290,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27583,9 +28298,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27595,6 +28311,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 298: // / + - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27604,7 +28321,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27612,7 +28329,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27620,7 +28337,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27628,9 +28345,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27640,6 +28358,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 299: // / + - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27649,7 +28368,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27657,7 +28376,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27665,7 +28384,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27673,9 +28392,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27685,6 +28405,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 300: // / + * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27694,7 +28415,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27702,7 +28423,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27710,7 +28431,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27718,9 +28439,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27730,6 +28452,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 301: // / + * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27739,7 +28462,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27747,7 +28470,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27755,7 +28478,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27763,9 +28486,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27775,6 +28499,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 302: // / + * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27784,7 +28509,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27792,7 +28517,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27800,7 +28525,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27808,9 +28533,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27820,6 +28546,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 303: // / + * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27829,7 +28556,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27837,7 +28564,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27845,7 +28572,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27853,9 +28580,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27865,6 +28593,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 304: // / + * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27874,7 +28603,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27882,7 +28611,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27890,7 +28619,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27898,9 +28627,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27910,6 +28640,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 305: // / + * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27919,7 +28650,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27927,7 +28658,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27935,7 +28666,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27943,9 +28674,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -27955,6 +28687,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 306: // / + / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -27964,8 +28697,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -27973,8 +28706,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -27982,8 +28715,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -27991,10 +28724,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28005,6 +28739,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 307: // / + / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28014,8 +28749,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28023,8 +28758,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28032,8 +28767,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28041,10 +28776,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 + c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28055,6 +28791,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 308: // / + / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28064,8 +28801,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28073,8 +28810,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28082,8 +28819,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28091,10 +28828,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28105,6 +28843,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 309: // / + / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28114,8 +28853,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28123,8 +28862,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28132,8 +28871,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28141,10 +28880,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28155,6 +28895,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 310: // / + / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28164,8 +28905,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28173,8 +28914,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28182,8 +28923,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28191,10 +28932,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28205,6 +28947,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 311: // / + / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28214,8 +28957,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28223,8 +28966,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28232,8 +28975,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28241,10 +28984,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c + d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28255,6 +28999,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 312: // / - + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28264,7 +29009,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28272,7 +29017,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28280,7 +29025,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28288,9 +29033,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28300,6 +29046,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 313: // / - + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28309,7 +29056,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28317,7 +29064,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28325,7 +29072,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28333,9 +29080,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28345,6 +29093,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 314: // / - + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28354,7 +29103,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28362,7 +29111,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28370,7 +29119,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28378,9 +29127,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28390,6 +29140,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 315: // / - + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28399,7 +29150,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28407,7 +29158,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28415,7 +29166,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28423,9 +29174,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28435,6 +29187,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 316: // / - + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28444,7 +29197,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28452,7 +29205,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28460,7 +29213,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28468,9 +29221,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28480,6 +29234,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 317: // / - + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28489,7 +29244,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28497,7 +29252,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28505,7 +29260,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28513,9 +29268,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28525,6 +29281,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 318: // / - - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28534,7 +29291,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28542,7 +29299,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28550,7 +29307,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28558,9 +29315,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28570,6 +29328,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 319: // / - - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28579,7 +29338,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28587,7 +29346,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28595,7 +29354,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28603,9 +29362,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28615,6 +29375,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 320: // / - - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28624,7 +29385,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28632,7 +29393,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28640,7 +29401,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28648,9 +29409,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28660,6 +29422,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 321: // / - - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28669,7 +29432,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28677,7 +29440,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28685,7 +29448,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28693,9 +29456,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28705,6 +29469,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 322: // / - - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28714,7 +29479,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28722,7 +29487,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28730,7 +29495,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28738,9 +29503,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28750,6 +29516,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 323: // / - - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28759,7 +29526,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28767,7 +29534,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28775,7 +29542,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28783,9 +29550,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28795,6 +29563,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 324: // / - * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28804,7 +29573,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28812,7 +29581,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28820,7 +29589,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28828,9 +29597,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28840,6 +29610,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 325: // / - * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28849,7 +29620,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28857,7 +29628,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28865,7 +29636,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28873,9 +29644,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28885,6 +29657,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 326: // / - * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28894,7 +29667,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28902,7 +29675,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28910,7 +29683,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28918,9 +29691,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28930,6 +29704,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 327: // / - * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28939,7 +29714,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28947,7 +29722,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -28955,7 +29730,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -28963,9 +29738,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -28975,6 +29751,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 328: // / - * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -28984,7 +29761,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -28992,7 +29769,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29000,7 +29777,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29008,9 +29785,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29020,6 +29798,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 329: // / - * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29029,7 +29808,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29037,7 +29816,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29045,7 +29824,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29053,9 +29832,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29065,6 +29845,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 330: // / - / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29074,8 +29855,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29083,8 +29864,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29092,8 +29873,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29101,10 +29882,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29115,6 +29897,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 331: // / - / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29124,8 +29907,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29133,8 +29916,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29142,8 +29925,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29151,10 +29934,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 - c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29165,6 +29949,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 332: // / - / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29174,8 +29959,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29183,8 +29968,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29192,8 +29977,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29201,10 +29986,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29215,6 +30001,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 333: // / - / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29224,8 +30011,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29233,8 +30020,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29242,8 +30029,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29251,10 +30038,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29265,6 +30053,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 334: // / - / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29274,8 +30063,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29283,8 +30072,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29292,8 +30081,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29301,10 +30090,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29315,6 +30105,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 335: // / - / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29324,8 +30115,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29333,8 +30124,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29342,8 +30133,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29351,10 +30142,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c - d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29365,6 +30157,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 336: // / * + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29374,7 +30167,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29382,7 +30175,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29390,7 +30183,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29398,9 +30191,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29410,6 +30204,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 337: // / * + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29419,7 +30214,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29427,7 +30222,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29435,7 +30230,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29443,9 +30238,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29455,6 +30251,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 338: // / * + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29464,7 +30261,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29472,7 +30269,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29480,7 +30277,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29488,9 +30285,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29500,6 +30298,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 339: // / * + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29509,7 +30308,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29517,7 +30316,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29525,7 +30324,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29533,9 +30332,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29545,6 +30345,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 340: // / * + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29554,7 +30355,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29562,7 +30363,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29570,7 +30371,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29578,9 +30379,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29590,6 +30392,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 341: // / * + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29599,7 +30402,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29607,7 +30410,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29615,7 +30418,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29623,9 +30426,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29635,6 +30439,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 342: // / * - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29644,7 +30449,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29652,7 +30457,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29660,7 +30465,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29668,9 +30473,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29680,6 +30486,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 343: // / * - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29689,7 +30496,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29697,7 +30504,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29705,7 +30512,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29713,9 +30520,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29725,6 +30533,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 344: // / * - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29734,7 +30543,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29742,7 +30551,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29750,7 +30559,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29758,9 +30567,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29770,6 +30580,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 345: // / * - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29779,7 +30590,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29787,7 +30598,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29795,7 +30606,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29803,9 +30614,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29815,6 +30627,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 346: // / * - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29824,7 +30637,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29832,7 +30645,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29840,7 +30653,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29848,9 +30661,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29860,6 +30674,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 347: // / * - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29869,7 +30684,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29877,7 +30692,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29885,7 +30700,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29893,9 +30708,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29905,6 +30721,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 348: // / * * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29914,7 +30731,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29922,7 +30739,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29930,7 +30747,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29938,9 +30755,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29950,6 +30768,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 349: // / * * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -29959,7 +30778,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -29967,7 +30786,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -29975,7 +30794,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -29983,9 +30802,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -29995,6 +30815,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 350: // / * * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30004,7 +30825,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30012,7 +30833,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30020,7 +30841,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30028,9 +30849,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30040,6 +30862,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 351: // / * * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30049,7 +30872,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30057,7 +30880,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30065,7 +30888,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30073,9 +30896,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30085,6 +30909,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 352: // / * * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30094,7 +30919,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30102,7 +30927,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30110,7 +30935,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30118,9 +30943,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30130,6 +30956,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 353: // / * * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30139,7 +30966,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
+				c0 += b - b
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30147,7 +30974,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
+				c1 += b - b
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30155,7 +30982,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
+				c2 += b - b
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30163,9 +30990,10 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
+				c3 += b - b
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30175,6 +31003,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += b - b
 		}
 	case kTripleKeep + 354: // / * / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30184,8 +31013,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30193,8 +31022,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30202,8 +31031,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30211,10 +31040,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30225,6 +31055,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 355: // / * / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30234,8 +31065,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30243,8 +31074,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30252,8 +31083,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30261,10 +31092,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 * c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30275,6 +31107,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 356: // / * / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30284,8 +31117,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30293,8 +31126,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30302,8 +31135,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30311,10 +31144,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30325,6 +31159,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 357: // / * / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30334,8 +31169,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30343,8 +31178,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30352,8 +31187,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30361,10 +31196,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30375,6 +31211,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 358: // / * / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30384,8 +31221,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30393,8 +31230,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30402,8 +31239,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30411,10 +31248,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30425,6 +31263,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 359: // / * / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30434,8 +31273,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30443,8 +31282,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30452,8 +31291,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30461,10 +31300,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c * d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30475,6 +31315,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 360: // / / + LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30484,8 +31325,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30493,8 +31334,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30502,8 +31343,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30511,10 +31352,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30525,6 +31367,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 361: // / / + LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30534,8 +31377,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30543,8 +31386,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30552,8 +31395,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30561,10 +31404,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30575,6 +31419,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 362: // / / + RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30584,8 +31429,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 + d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30593,8 +31438,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 + d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30602,8 +31447,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 + d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30611,10 +31456,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 + d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30625,6 +31471,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 363: // / / + RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30634,8 +31481,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30643,8 +31490,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30652,8 +31499,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30661,10 +31508,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30675,6 +31523,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 364: // / / + TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30684,8 +31533,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 + t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30693,8 +31542,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 + t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30702,8 +31551,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 + t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30711,10 +31560,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 + t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30725,6 +31575,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 365: // / / + TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30734,8 +31585,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 + t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30743,8 +31594,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 + t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30752,8 +31603,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 + t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30761,10 +31612,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 + t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30775,6 +31627,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 366: // / / - LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30784,8 +31637,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30793,8 +31646,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30802,8 +31655,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30811,10 +31664,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30825,6 +31679,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 367: // / / - LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30834,8 +31689,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30843,8 +31698,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30852,8 +31707,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30861,10 +31716,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30875,6 +31731,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 368: // / / - RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30884,8 +31741,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 - d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30893,8 +31750,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 - d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30902,8 +31759,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 - d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30911,10 +31768,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 - d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30925,6 +31783,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 369: // / / - RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30934,8 +31793,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30943,8 +31802,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -30952,8 +31811,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -30961,10 +31820,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -30975,6 +31835,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 370: // / / - TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -30984,8 +31845,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 - t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -30993,8 +31854,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 - t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31002,8 +31863,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 - t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31011,10 +31872,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 - t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31025,6 +31887,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 371: // / / - TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31034,8 +31897,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 - t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31043,8 +31906,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 - t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31052,8 +31915,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 - t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31061,10 +31924,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 - t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31075,6 +31939,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 372: // / / * LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31084,8 +31949,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31093,8 +31958,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31102,8 +31967,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31111,10 +31976,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31125,6 +31991,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 373: // / / * LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31134,8 +32001,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
+				c0 += b - b
+				c0 += c - c
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31143,8 +32010,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
+				c1 += b - b
+				c1 += c - c
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31152,8 +32019,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
+				c2 += b - b
+				c2 += c - c
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31161,10 +32028,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
+				c3 += b - b
+				c3 += c - c
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31175,6 +32043,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += c - c
 		}
 	case kTripleKeep + 374: // / / * RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31184,8 +32053,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 * d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31193,8 +32062,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 * d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31202,8 +32071,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 * d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31211,10 +32080,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 * d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31225,6 +32095,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 375: // / / * RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31234,8 +32105,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c0 += b - b
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31243,8 +32114,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c1 += b - b
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31252,8 +32123,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c2 += b - b
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31261,10 +32132,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
+				c3 += b - b
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31275,6 +32147,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t1 - t1
 		}
 	case kTripleKeep + 376: // / / * TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31284,8 +32157,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 * t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31293,8 +32166,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 * t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31302,8 +32175,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 * t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31311,10 +32184,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 * t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31325,6 +32199,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 377: // / / * TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31334,8 +32209,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 * t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
+				c0 += b - b
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31343,8 +32218,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 * t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
+				c1 += b - b
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31352,8 +32227,8 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 * t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
+				c2 += b - b
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31361,10 +32236,11 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 * t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
+				c3 += b - b
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31375,6 +32251,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 378: // / / / LL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31384,9 +32261,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c0 += b - b
+				c0 += c - c
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31394,9 +32271,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c1 += b - b
+				c1 += c - c
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31404,9 +32281,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c2 += b - b
+				c2 += c - c
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31414,11 +32291,12 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += d - d
+				c3 += b - b
+				c3 += c - c
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31430,6 +32308,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 379: // / / / LR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31439,9 +32318,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c0 += b - b
+				c0 += c - c
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31449,9 +32328,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c1 += b - b
+				c1 += c - c
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31459,9 +32338,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c2 += b - b
+				c2 += c - c
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31469,11 +32348,12 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(t1 / c)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += c - c
-				chk += t2 - t2
+				c3 += b - b
+				c3 += c - c
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31485,6 +32365,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 380: // / / / RL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31494,9 +32375,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = t2 / d
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c0 += b - b
+				c0 += t1 - t1
+				c0 += d - d
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31504,9 +32385,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = t2 / d
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c1 += b - b
+				c1 += t1 - t1
+				c1 += d - d
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31514,9 +32395,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = t2 / d
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c2 += b - b
+				c2 += t1 - t1
+				c2 += d - d
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31524,11 +32405,12 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = t2 / d
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += d - d
+				c3 += b - b
+				c3 += t1 - t1
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31540,6 +32422,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += d - d
 		}
 	case kTripleKeep + 381: // / / / RR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31549,9 +32432,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[0] = d / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c0 += b - b
+				c0 += t1 - t1
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31559,9 +32442,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[1] = d / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c1 += b - b
+				c1 += t1 - t1
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31569,9 +32452,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[2] = d / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c2 += b - b
+				c2 += t1 - t1
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31579,11 +32462,12 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / t1)
 				o4[3] = d / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += t1 - t1
-				chk += t2 - t2
+				c3 += b - b
+				c3 += t1 - t1
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31595,6 +32479,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 382: // / / / TL
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31604,9 +32489,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t1 / t2
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c0 += b - b
+				c0 += d - d
+				c0 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31614,9 +32499,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t1 / t2
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c1 += b - b
+				c1 += d - d
+				c1 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31624,9 +32509,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t1 / t2
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c2 += b - b
+				c2 += d - d
+				c2 += t2 - t2
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31634,11 +32519,12 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t1 / t2
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t2 - t2
+				c3 += b - b
+				c3 += d - d
+				c3 += t2 - t2
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31650,6 +32536,7 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 			chk += t2 - t2
 		}
 	case kTripleKeep + 383: // / / / TR
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4, w4, r14, r24 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4]), (*[4]float64)(r1[s:s+4]), (*[4]float64)(r2[s:s+4])
@@ -31659,9 +32546,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[0] = t2 / t1
 				r14[0], r24[0] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c0 += b - b
+				c0 += d - d
+				c0 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[1], y4[1], z4[1], w4[1]
@@ -31669,9 +32556,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[1] = t2 / t1
 				r14[1], r24[1] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c1 += b - b
+				c1 += d - d
+				c1 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[2], y4[2], z4[2], w4[2]
@@ -31679,9 +32566,9 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[2] = t2 / t1
 				r14[2], r24[2] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c2 += b - b
+				c2 += d - d
+				c2 += t1 - t1
 			}
 			{
 				a, b, c, d := x4[3], y4[3], z4[3], w4[3]
@@ -31689,11 +32576,12 @@ func runTripleKeep(k kind, o, r1, r2, x, y, z, w []float64) (chk float64) {
 				t2 := float64(c / d)
 				o4[3] = t2 / t1
 				r14[3], r24[3] = t1, t2
-				chk += b - b
-				chk += d - d
-				chk += t1 - t1
+				c3 += b - b
+				c3 += d - d
+				c3 += t1 - t1
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			a, b, c, d := x[s], y[s], z[s], w[s]
 			t1 := float64(a / b)
@@ -31957,6 +32845,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 6: // + / L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -31966,7 +32855,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[0] = r
 				o4[0] = v
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -31974,7 +32863,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[1] = r
 				o4[1] = v
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -31982,7 +32871,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[2] = r
 				o4[2] = v
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -31990,9 +32879,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[3] = r
 				o4[3] = v
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
@@ -32002,6 +32892,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 7: // + / R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32011,7 +32902,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[0] = r
 				o4[0] = v
-				chk += r - r
+				c0 += r - r
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32019,7 +32910,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[1] = r
 				o4[1] = v
-				chk += r - r
+				c1 += r - r
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32027,7 +32918,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[2] = r
 				o4[2] = v
-				chk += r - r
+				c2 += r - r
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32035,9 +32926,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[3] = r
 				o4[3] = v
-				chk += r - r
+				c3 += r - r
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u + w)
@@ -32287,6 +33179,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 14: // - / L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32296,7 +33189,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[0] = r
 				o4[0] = v
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32304,7 +33197,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[1] = r
 				o4[1] = v
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32312,7 +33205,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[2] = r
 				o4[2] = v
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32320,9 +33213,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[3] = r
 				o4[3] = v
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
@@ -32332,6 +33226,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 15: // - / R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32341,7 +33236,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[0] = r
 				o4[0] = v
-				chk += r - r
+				c0 += r - r
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32349,7 +33244,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[1] = r
 				o4[1] = v
-				chk += r - r
+				c1 += r - r
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32357,7 +33252,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[2] = r
 				o4[2] = v
-				chk += r - r
+				c2 += r - r
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32365,9 +33260,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[3] = r
 				o4[3] = v
-				chk += r - r
+				c3 += r - r
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u - w)
@@ -32617,6 +33513,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			o[s] = v
 		}
 	case kKeep + 22: // * / L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32626,7 +33523,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[0] = r
 				o4[0] = v
-				chk += d - d
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32634,7 +33531,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[1] = r
 				o4[1] = v
-				chk += d - d
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32642,7 +33539,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[2] = r
 				o4[2] = v
-				chk += d - d
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32650,9 +33547,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[3] = r
 				o4[3] = v
-				chk += d - d
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
@@ -32662,6 +33560,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 23: // * / R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32671,7 +33570,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[0] = r
 				o4[0] = v
-				chk += r - r
+				c0 += r - r
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32679,7 +33578,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[1] = r
 				o4[1] = v
-				chk += r - r
+				c1 += r - r
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32687,7 +33586,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[2] = r
 				o4[2] = v
-				chk += r - r
+				c2 += r - r
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32695,9 +33594,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[3] = r
 				o4[3] = v
-				chk += r - r
+				c3 += r - r
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u * w)
@@ -32707,6 +33607,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += r - r
 		}
 	case kKeep + 24: // / + L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32716,7 +33617,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r + d
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32724,7 +33625,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r + d
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32732,7 +33633,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r + d
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32740,9 +33641,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r + d
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -32752,6 +33654,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 25: // / + R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32761,7 +33664,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d + r
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32769,7 +33672,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d + r
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32777,7 +33680,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d + r
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32785,9 +33688,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d + r
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -32797,6 +33701,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 26: // / - L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32806,7 +33711,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r - d
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32814,7 +33719,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r - d
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32822,7 +33727,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r - d
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32830,9 +33735,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r - d
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -32842,6 +33748,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 27: // / - R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32851,7 +33758,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d - r
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32859,7 +33766,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d - r
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32867,7 +33774,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d - r
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32875,9 +33782,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d - r
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -32887,6 +33795,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 28: // / * L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32896,7 +33805,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r * d
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32904,7 +33813,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r * d
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32912,7 +33821,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r * d
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32920,9 +33829,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r * d
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -32932,6 +33842,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 29: // / * R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32941,7 +33852,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d * r
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
+				c0 += w - w
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32949,7 +33860,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d * r
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
+				c1 += w - w
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -32957,7 +33868,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d * r
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
+				c2 += w - w
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -32965,9 +33876,10 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d * r
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
+				c3 += w - w
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -32977,6 +33889,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += w - w
 		}
 	case kKeep + 30: // / / L
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -32986,8 +33899,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
-				chk += d - d
+				c0 += w - w
+				c0 += d - d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -32995,8 +33908,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
-				chk += d - d
+				c1 += w - w
+				c1 += d - d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -33004,8 +33917,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
-				chk += d - d
+				c2 += w - w
+				c2 += d - d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -33013,10 +33926,11 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := r / d
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
-				chk += d - d
+				c3 += w - w
+				c3 += d - d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -33027,6 +33941,7 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 			chk += d - d
 		}
 	case kKeep + 31: // / / R
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, t4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(t[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -33036,8 +33951,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[0] = r
 				o4[0] = v
-				chk += w - w
-				chk += r - r
+				c0 += w - w
+				c0 += r - r
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
@@ -33045,8 +33960,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[1] = r
 				o4[1] = v
-				chk += w - w
-				chk += r - r
+				c1 += w - w
+				c1 += r - r
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
@@ -33054,8 +33969,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[2] = r
 				o4[2] = v
-				chk += w - w
-				chk += r - r
+				c2 += w - w
+				c2 += r - r
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
@@ -33063,10 +33978,11 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 				v := d / r
 				t4[3] = r
 				o4[3] = v
-				chk += w - w
-				chk += r - r
+				c3 += w - w
+				c3 += r - r
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			r := float64(u / w)
@@ -33084,8 +34000,8 @@ func runKeep(k kind, o, t, x, y, z []float64) (chk float64) {
 // its result t (with z) that follows it (kinds kPost + 8*op1 + form:
 // ceil(t), floor(t), -t, max(t, z), max(z, t), min(t, z), min(z, t)),
 // and returns the sum of v - v over the divisor and the operands of
-// max and min, as runFused.
-func runPost(k kind, o, x, y, z []float64) (chk float64) {
+// max and min (z only if all), as runFused.
+func runPost(k kind, o, x, y, z []float64, all bool) (chk float64) {
 	o = o[:len(o):len(o)]
 	x, y, z = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)]
 	switch k {
@@ -33195,224 +34111,468 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 3:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u + w)
-				if t >= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u + w)
-				if t >= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u + w)
-				if t >= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u + w)
-				if t >= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u + w)
-			if t >= d {
-				o[s] = t
-			} else {
-				o[s] = d
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 4:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u + w)
-				if d >= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u + w)
-				if d >= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u + w)
-				if d >= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u + w)
-				if d >= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u + w)
-			if d >= t {
-				o[s] = d
-			} else {
-				o[s] = t
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 5:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u + w)
-				if t <= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u + w)
-				if t <= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u + w)
-				if t <= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u + w)
-				if t <= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u + w)
-			if t <= d {
-				o[s] = t
-			} else {
-				o[s] = d
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 6:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u + w)
-				if d <= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u + w)
-				if d <= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u + w)
-				if d <= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u + w)
-				if d <= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u + w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u + w)
-			if d <= t {
-				o[s] = d
-			} else {
-				o[s] = t
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u + w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 8:
 		s := 0
@@ -33520,224 +34680,468 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 11:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u - w)
-				if t >= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u - w)
-				if t >= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u - w)
-				if t >= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u - w)
-				if t >= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u - w)
-			if t >= d {
-				o[s] = t
-			} else {
-				o[s] = d
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 12:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u - w)
-				if d >= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u - w)
-				if d >= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u - w)
-				if d >= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u - w)
-				if d >= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u - w)
-			if d >= t {
-				o[s] = d
-			} else {
-				o[s] = t
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 13:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u - w)
-				if t <= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u - w)
-				if t <= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u - w)
-				if t <= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u - w)
-				if t <= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u - w)
-			if t <= d {
-				o[s] = t
-			} else {
-				o[s] = d
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 14:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u - w)
-				if d <= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u - w)
-				if d <= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u - w)
-				if d <= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u - w)
-				if d <= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u - w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u - w)
-			if d <= t {
-				o[s] = d
-			} else {
-				o[s] = t
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u - w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 16:
 		s := 0
@@ -33845,226 +35249,471 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 19:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u * w)
-				if t >= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u * w)
-				if t >= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u * w)
-				if t >= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u * w)
-				if t >= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u * w)
-			if t >= d {
-				o[s] = t
-			} else {
-				o[s] = d
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 20:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u * w)
-				if d >= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u * w)
-				if d >= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u * w)
-				if d >= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u * w)
-				if d >= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u * w)
-			if d >= t {
-				o[s] = d
-			} else {
-				o[s] = t
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 21:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u * w)
-				if t <= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u * w)
-				if t <= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u * w)
-				if t <= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u * w)
-				if t <= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u * w)
-			if t <= d {
-				o[s] = t
-			} else {
-				o[s] = d
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 22:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u * w)
-				if d <= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u * w)
-				if d <= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u * w)
-				if d <= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += t - t
 				}
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u * w)
-				if d <= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += t - t
 				}
-				chk += t - t + (d - d)
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u * w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += t - t
+				}
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u * w)
-			if d <= t {
-				o[s] = d
-			} else {
-				o[s] = t
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u * w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
+				chk += t - t
 			}
-			chk += t - t + (d - d)
 		}
 	case kPost + 24:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -34072,31 +35721,32 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0]
 				t := float64(u / w)
 				o4[0] = math.Ceil(t)
-				chk += w - w
+				c0 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
 				t := float64(u / w)
 				o4[1] = math.Ceil(t)
-				chk += w - w
+				c1 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
 				t := float64(u / w)
 				o4[2] = math.Ceil(t)
-				chk += w - w
+				c2 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
 				t := float64(u / w)
 				o4[3] = math.Ceil(t)
-				chk += w - w
+				c3 += w - w
 				_ = d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
@@ -34105,6 +35755,7 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 25:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -34112,31 +35763,32 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0]
 				t := float64(u / w)
 				o4[0] = math.Floor(t)
-				chk += w - w
+				c0 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
 				t := float64(u / w)
 				o4[1] = math.Floor(t)
-				chk += w - w
+				c1 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
 				t := float64(u / w)
 				o4[2] = math.Floor(t)
-				chk += w - w
+				c2 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
 				t := float64(u / w)
 				o4[3] = math.Floor(t)
-				chk += w - w
+				c3 += w - w
 				_ = d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
@@ -34145,6 +35797,7 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 26:
+		var c0, c1, c2, c3 float64
 		s := 0
 		for ; s < len(o)-3; s += 4 {
 			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
@@ -34152,31 +35805,32 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 				u, w, d := x4[0], y4[0], z4[0]
 				t := float64(u / w)
 				o4[0] = -t
-				chk += w - w
+				c0 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[1], y4[1], z4[1]
 				t := float64(u / w)
 				o4[1] = -t
-				chk += w - w
+				c1 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[2], y4[2], z4[2]
 				t := float64(u / w)
 				o4[2] = -t
-				chk += w - w
+				c2 += w - w
 				_ = d
 			}
 			{
 				u, w, d := x4[3], y4[3], z4[3]
 				t := float64(u / w)
 				o4[3] = -t
-				chk += w - w
+				c3 += w - w
 				_ = d
 			}
 		}
+		chk += c0 + c1 + (c2 + c3)
 		for ; s < len(o); s++ {
 			u, w, d := x[s], y[s], z[s]
 			t := float64(u / w)
@@ -34185,244 +35839,508 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 			_ = d
 		}
 	case kPost + 27:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u / w)
-				if t >= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
 				chk += w - w
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u / w)
-				if t >= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u / w)
-				if t >= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u / w)
-				if t >= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t
 				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := d
+					if t >= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := d
+				if t >= d {
+					v = t
+				}
+				o[s] = v
 				chk += w - w
-				chk += t - t + (d - d)
+				chk += t - t
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u / w)
-			if t >= d {
-				o[s] = t
-			} else {
-				o[s] = d
-			}
-			chk += w - w
-			chk += t - t + (d - d)
 		}
 	case kPost + 28:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u / w)
-				if d >= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
 				chk += w - w
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u / w)
-				if d >= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u / w)
-				if d >= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u / w)
-				if d >= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t
 				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := t
+					if d >= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := t
+				if d >= t {
+					v = d
+				}
+				o[s] = v
 				chk += w - w
-				chk += t - t + (d - d)
+				chk += t - t
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u / w)
-			if d >= t {
-				o[s] = d
-			} else {
-				o[s] = t
-			}
-			chk += w - w
-			chk += t - t + (d - d)
 		}
 	case kPost + 29:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u / w)
-				if t <= d {
-					o4[0] = t
-				} else {
-					o4[0] = d
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
 				chk += w - w
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u / w)
-				if t <= d {
-					o4[1] = t
-				} else {
-					o4[1] = d
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u / w)
-				if t <= d {
-					o4[2] = t
-				} else {
-					o4[2] = d
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u / w)
-				if t <= d {
-					o4[3] = t
-				} else {
-					o4[3] = d
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t
 				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := d
+					if t <= d {
+						v = t
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := d
+				if t <= d {
+					v = t
+				}
+				o[s] = v
 				chk += w - w
-				chk += t - t + (d - d)
+				chk += t - t
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u / w)
-			if t <= d {
-				o[s] = t
-			} else {
-				o[s] = d
-			}
-			chk += w - w
-			chk += t - t + (d - d)
 		}
 	case kPost + 30:
-		s := 0
-		for ; s < len(o)-3; s += 4 {
-			o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
-			{
-				u, w, d := x4[0], y4[0], z4[0]
-				t := float64(u / w)
-				if d <= t {
-					o4[0] = d
-				} else {
-					o4[0] = t
+		if all {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t + (d - d)
 				}
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t + (d - d)
+				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t + (d - d)
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
 				chk += w - w
 				chk += t - t + (d - d)
 			}
-			{
-				u, w, d := x4[1], y4[1], z4[1]
-				t := float64(u / w)
-				if d <= t {
-					o4[1] = d
-				} else {
-					o4[1] = t
+		} else {
+			var c0, c1, c2, c3 float64
+			s := 0
+			for ; s < len(o)-3; s += 4 {
+				o4, x4, y4, z4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4])
+				{
+					u, w, d := x4[0], y4[0], z4[0]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[0] = v
+					c0 += w - w
+					c0 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[2], y4[2], z4[2]
-				t := float64(u / w)
-				if d <= t {
-					o4[2] = d
-				} else {
-					o4[2] = t
+				{
+					u, w, d := x4[1], y4[1], z4[1]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[1] = v
+					c1 += w - w
+					c1 += t - t
 				}
-				chk += w - w
-				chk += t - t + (d - d)
-			}
-			{
-				u, w, d := x4[3], y4[3], z4[3]
-				t := float64(u / w)
-				if d <= t {
-					o4[3] = d
-				} else {
-					o4[3] = t
+				{
+					u, w, d := x4[2], y4[2], z4[2]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[2] = v
+					c2 += w - w
+					c2 += t - t
 				}
+				{
+					u, w, d := x4[3], y4[3], z4[3]
+					t := float64(u / w)
+					v := t
+					if d <= t {
+						v = d
+					}
+					o4[3] = v
+					c3 += w - w
+					c3 += t - t
+				}
+			}
+			chk += c0 + c1 + (c2 + c3)
+			for ; s < len(o); s++ {
+				u, w, d := x[s], y[s], z[s]
+				t := float64(u / w)
+				v := t
+				if d <= t {
+					v = d
+				}
+				o[s] = v
 				chk += w - w
-				chk += t - t + (d - d)
+				chk += t - t
 			}
-		}
-		for ; s < len(o); s++ {
-			u, w, d := x[s], y[s], z[s]
-			t := float64(u / w)
-			if d <= t {
-				o[s] = d
-			} else {
-				o[s] = t
-			}
-			chk += w - w
-			chk += t - t + (d - d)
 		}
 	}
 	return chk
@@ -34433,741 +36351,646 @@ func runPost(k kind, o, x, y, z []float64) (chk float64) {
 // and z and w too if all (else they are constant rows, finite). o may be
 // one of the operands: a lane reads them before it writes.
 func runCmpIf(op Op, o, x, y, z, w []float64, all bool) (bad bool) {
+	var chk float64 // v - v summed over the tested operands
 	o = o[:len(o):len(o)]
 	x, y, z, w = x[:len(o):len(o)], y[:len(o):len(o)], z[:len(o):len(o)], w[:len(o):len(o)]
 	switch op {
 	case OpLt:
 		if all {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a < b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a < b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a < b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a < b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b) + (t - t) + (e - e)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a < b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b) + (t - t) + (e - e)
 			}
 		} else {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a < b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a < b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a < b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a < b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a < b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b)
 			}
 		}
 	case OpLe:
 		if all {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a <= b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a <= b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a <= b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a <= b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b) + (t - t) + (e - e)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a <= b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b) + (t - t) + (e - e)
 			}
 		} else {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a <= b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a <= b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a <= b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a <= b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a <= b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b)
 			}
 		}
 	case OpGt:
 		if all {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a > b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a > b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a > b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a > b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b) + (t - t) + (e - e)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a > b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b) + (t - t) + (e - e)
 			}
 		} else {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a > b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a > b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a > b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a > b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a > b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b)
 			}
 		}
 	case OpGe:
 		if all {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a >= b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a >= b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a >= b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a >= b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b) + (t - t) + (e - e)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a >= b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b) + (t - t) + (e - e)
 			}
 		} else {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a >= b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a >= b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a >= b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a >= b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a >= b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b)
 			}
 		}
 	case OpEq:
 		if all {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a == b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a == b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a == b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a == b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b) + (t - t) + (e - e)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a == b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b) + (t - t) + (e - e)
 			}
 		} else {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a == b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a == b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a == b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a == b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a == b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b)
 			}
 		}
 	case OpNe:
 		if all {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a != b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a != b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a != b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b) + (t - t) + (e - e)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a != b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b) + (t - t) + (e - e)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a != b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b)+(t-t)+(e-e) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b) + (t - t) + (e - e)
 			}
 		} else {
+			var c0, c1, c2, c3 float64
 			s := 0
 			for ; s < len(o)-3; s += 4 {
 				o4, x4, y4, z4, w4 := (*[4]float64)(o[s:s+4]), (*[4]float64)(x[s:s+4]), (*[4]float64)(y[s:s+4]), (*[4]float64)(z[s:s+4]), (*[4]float64)(w[s:s+4])
 				{
 					a, b, t, e := x4[0], y4[0], z4[0], w4[0]
+					v := e
 					if a != b {
-						o4[0] = t
-					} else {
-						o4[0] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[0] = v
+					c0 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[1], y4[1], z4[1], w4[1]
+					v := e
 					if a != b {
-						o4[1] = t
-					} else {
-						o4[1] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[1] = v
+					c1 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[2], y4[2], z4[2], w4[2]
+					v := e
 					if a != b {
-						o4[2] = t
-					} else {
-						o4[2] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[2] = v
+					c2 += a - a + (b - b)
 				}
 				{
 					a, b, t, e := x4[3], y4[3], z4[3], w4[3]
+					v := e
 					if a != b {
-						o4[3] = t
-					} else {
-						o4[3] = e
+						v = t
 					}
-					if a-a+(b-b) != 0 { // a branch, not a running sum
-						bad = true
-					}
+					o4[3] = v
+					c3 += a - a + (b - b)
 				}
 			}
+			chk += c0 + c1 + (c2 + c3)
 			for ; s < len(o); s++ {
 				a, b, t, e := x[s], y[s], z[s], w[s]
+				v := e
 				if a != b {
-					o[s] = t
-				} else {
-					o[s] = e
+					v = t
 				}
-				if a-a+(b-b) != 0 { // a branch, not a running sum
-					bad = true
-				}
+				o[s] = v
+				chk += a - a + (b - b)
 			}
 		}
 	}
-	return bad
+	return chk != 0
 }

@@ -238,7 +238,7 @@ func (e *planExec) runLanes(lo, m int) (bad bool) {
 			if in.k >= kTripleKeep {
 				chk += runTripleKeep(in.k, o, rows[in.e][lo:], rows[in.f][lo:], rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:])
 			} else if in.k >= kPost {
-				chk += runPost(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:])
+				chk += runPost(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], in.check != 0)
 			} else if in.k >= kFusedEnd {
 				chk += runTriple(in.k, o, rows[in.a][lo:], rows[in.b][lo:], rows[in.c][lo:], rows[in.d][lo:])
 			} else if in.k >= kFused {

@@ -174,7 +174,7 @@ func randomPlanModel(seed uint64) (*tape.Tape, []float64) {
 // floor, negation, max or min), on all combinations of operand values that overflow, divide
 // by zero or are not finite, in blocks of seven lanes (one vector or one
 // four-lane step of pure Go, and three lanes one at a time) holding
-// different combinations: the batched pass, with and without vector
+// different values: the batched pass, with and without vector
 // kernels, reports a domain error exactly where Eval does (formula
 // position, message and sample) and otherwise gives Eval's value in every
 // lane to the last bit.
@@ -284,13 +284,15 @@ func TestPlanFusedKernels(t *testing.T) {
 					var want [n]float64
 					for code := range len(vals) * len(vals) * len(vals) * len(vals) {
 						// Lane 0 holds the combination, lane s each value
-						// moved s(j+1) places on: lanes differ, so that a
-						// kernel reading another lane's operand fails.
+						// times 1 - s/16: lanes differ, so that a kernel
+						// reading another lane's operand fails, and hold
+						// their zeros and infinities in the same places,
+						// so that one lane's test does not cover another's.
 						var werr error
 						bad := -1
 						for s := range n {
 							for j, c := 0, code; j < 4; j, c = j+1, c/len(vals) {
-								x[j] = vals[(c%len(vals)+s*(j+1))%len(vals)]
+								x[j] = vals[c%len(vals)] * (1 - float64(s)/16)
 								cols[j][s] = x[j]
 							}
 							var err error
