@@ -47,6 +47,8 @@ type coneSweep struct {
 	last   []int32     // the last node that reads each node (needed ones)
 	ents   []sweepEntry
 	vals   []float64
+	entBuf []sweepEntry // the whole arrays under ents and vals (regrow)
+	valBuf []float64
 	owners []int32 // the nodes with lists, in the arena's order
 	count  []int32 // runs an input, while building the inputs' lists
 	at     []int32
@@ -228,8 +230,8 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		avg = max(1, c.coneNodes/c.coneRuns)
 	}
 	room := min(sweepArena, 2*len(dst)*avg)
-	ents := slices.Grow(sw.ents[:0], int(total)+room/2)[:total]
-	vals := slices.Grow(sw.vals[:0], 2*len(dst)+room)
+	ents := regrow(&sw.entBuf, sw.entBuf[:0], int(total)+room/2)[:total]
+	vals := regrow(&sw.valBuf, sw.valBuf[:0], 2*len(dst)+room)
 	for r := range runs {
 		s := runAt[r]
 		if i := is[s]; i >= 0 && int(i) < n {
@@ -304,8 +306,8 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			ents, vals = sw.ents, sw.vals
 			sa, sb, sz = span()
 			// Room for twice what is alive, so that compacting stays cheap.
-			ents = slices.Grow(ents, max(m, len(ents)))
-			vals = slices.Grow(vals, max(mv, len(vals)))
+			ents = regrow(&sw.entBuf, ents, max(m, len(ents)))
+			vals = regrow(&sw.valBuf, vals, max(mv, len(vals)))
 		}
 		sp := sweepSpan{e0: int32(len(ents)), v0: int32(len(vals))}
 		sc := sweepCtx{ents: ents, vals: vals, runAt: runAt, op: op}
@@ -371,6 +373,24 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		dst[s] = y
 	}
 	return nil
+}
+
+// regrow returns s with room for extra more elements, its capacity cut
+// there so that the sweep compacts when it is full. buf holds the whole
+// array under s, which doubles when too small: growing it to just twice
+// what is alive at every compaction, as the sections' lists grow, would
+// allocate and copy the arena over and over.
+func regrow[T any](buf *[]T, s []T, extra int) []T {
+	n := len(s)
+	lim := n + extra
+	b := *buf
+	if lim <= cap(b) && (n == 0 || &b[:n][0] == &s[0]) {
+		return b[:n:lim]
+	}
+	nb := make([]T, n, max(lim, 2*cap(b)))
+	copy(nb, s)
+	*buf = nb[:0]
+	return nb[:n:lim]
 }
 
 // compact drops the lists that no node from k on reads, moving the others
