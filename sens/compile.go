@@ -8,6 +8,7 @@ import (
 	"slices"
 	"sort"
 	"strings"
+	"sync"
 	"sync/atomic"
 
 	"github.com/nudge-dev/nudge/sens/syntax"
@@ -299,21 +300,35 @@ type compiler struct {
 	prog  *Program
 
 	decls map[string]*Decl
+	list  []*Decl // the declarations by Decl.idx (Model.list)
 	// ents holds, by Decl.idx, each declared name's state and value; the
 	// extra formula, when its name is not declared, has the last one. A
-	// reference costs one lookup of its name (in decls).
-	ents    []entry
-	stack   []string
-	curFile *syntax.File
-	cur     string      // formula being compiled
-	rates   *unit.Rates // exchange rates every unit is expressed under
-	what    string      // the constant being evaluated, for messages
+	// reference costs two slice indexes (declIdx, then ents) once its
+	// name's number is resolved.
+	ents []entry
+	// res resolves the names of a file by number (syntax.Ident.ID; see
+	// declIdx); resFile and resIDs are the last file's.
+	res     map[*syntax.File][]int32
+	resFile *syntax.File
+	resIDs  []int32
+	// numbered: the formula being compiled was parsed from its file (its
+	// name stands at its position in the file's text, numbered), so that
+	// its names' numbers mean the file's names; else declIdx looks names
+	// up by their text.
+	numbered bool
+	stack    []string
+	curFile  *syntax.File
+	cur      string      // formula being compiled
+	rates    *unit.Rates // exchange rates every unit is expressed under
+	what     string      // the constant being evaluated, for messages
 
 	units map[unit.Unit]*unit.Unit // interned display units (see intern)
 	// sumSpine and sumTerms are longSum's buffers, used as stacks.
 	sumSpine []*syntax.BinaryExpr
 	sumTerms []val
-	fblock   []Formula // formulas not yet used (newFormula)
+	fblock   []Formula   // formulas not yet used (newFormula)
+	iblock   []Input     // inputs not yet used (newInput)
+	outs     []tape.Slot // the slots of Program.Formulas, the tape's outputs
 	// unitMemo holds the units parsed (parseUnit), by their text, under the
 	// rates unitMemoRates.
 	unitMemo      map[string]unit.Unit
@@ -348,7 +363,7 @@ func newCompiler(m *Model, extra *extraFormula) *compiler {
 	n := len(m.decls) + 1
 	c := &compiler{
 		m: m, extra: extra,
-		decls: m.decls, ents: make([]entry, n),
+		decls: m.decls, list: m.list, ents: make([]entry, n),
 		prog: &Program{index: makeNameIndex(n), pos: posTable{pos: make([]int32, 0, 4*n), runs: make([]posRun, 0, n)}},
 	}
 	c.b = newVBuilder(c, 4*n)
@@ -371,17 +386,15 @@ func (c *compiler) setPos(f *syntax.File, pos syntax.Pos) {
 func (c *compiler) run() (*Program, error) {
 	p := c.prog
 	// Names that clash with built-ins.
-	byIdx := make([]*Decl, len(c.m.order))
+	byIdx := c.list
 	nIn, nFm := 0, 1
-	for i, name := range c.m.order {
-		d := c.decls[name]
-		byIdx[i] = d
+	for _, d := range byIdx {
 		if d.Input != nil {
 			nIn++
 		} else {
 			nFm++
 		}
-		if isBuiltinName(name) {
+		if name := d.Name; isBuiltinName(name) {
 			id := d.Name
 			pos := d.Pos()
 			c.errs = append(c.errs, syntax.ErrorAt(d.File, pos, fmt.Sprintf("%s is a built-in name: choose another name", id)))
@@ -417,14 +430,10 @@ func (c *compiler) run() (*Program, error) {
 		c.undefinedHints()
 		return nil, c.errs
 	}
-	outs := make([]tape.Slot, len(p.Formulas))
-	for i, f := range p.Formulas {
-		outs[i] = c.entry(f.Name).v.slot
-	}
 	// The names' entries are not read again: the collector may take them
 	// back while the tape is built, the largest allocation of the compile.
 	c.ents = nil
-	p.tape = c.b.Tape(outs...)
+	p.tape = c.b.Tape(c.outs...)
 	c.finishVectors()
 	c.warns.Sort()
 	p.Warnings = c.warns
@@ -432,11 +441,20 @@ func (c *compiler) run() (*Program, error) {
 }
 
 func isBuiltinName(name string) bool {
-	if name == "pi" {
-		return true
-	}
-	return lookupFunc(name) != nil || lookupVecFunc(name) != nil
+	return builtinNames()[name]
 }
+
+// builtinNames is the set of built-in names: pi and the functions.
+var builtinNames = sync.OnceValue(func() map[string]bool {
+	m := map[string]bool{"pi": true}
+	for _, f := range Functions {
+		m[f.Name] = true
+	}
+	for _, f := range VectorFunctions {
+		m[f.Name] = true
+	}
+	return m
+})
 
 // compileInput checks an input declaration and adds its slot to the tape.
 func (c *compiler) compileInput(d *Decl) {
@@ -445,7 +463,8 @@ func (c *compiler) compileInput(d *Decl) {
 	}
 	s, f := d.Input, d.File
 	c.cur = d.Name
-	in := &Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: c.intern(unit.One()), file: f}
+	in := c.newInput()
+	*in = Input{Name: d.Name, Pos: f.Position(s.Name.Pos()), index: len(c.prog.Inputs), u: c.intern(unit.One()), file: f}
 	c.prog.Inputs = append(c.prog.Inputs, in)
 	c.prog.setName(d.Name, in.index)
 	e := &c.ents[d.idx]
@@ -641,8 +660,8 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 	}
 	e.st = visiting
 	c.stack = append(c.stack, name)
-	saveFile, saveCur := c.curFile, c.cur
-	c.curFile, c.cur = f, name
+	saveFile, saveCur, saveNumbered := c.curFile, c.cur, c.numbered
+	c.curFile, c.cur, c.numbered = f, name, parsedFrom(f, s.Name)
 
 	nerrs := len(c.errs)
 	v := c.expr(f, s.Value, false)
@@ -683,13 +702,26 @@ func (c *compiler) formulaAt(e *entry, name string, f *syntax.File, s *syntax.Fo
 		fm.sc = v.scale()
 		c.prog.Formulas = append(c.prog.Formulas, fm)
 		c.prog.setName(name, -1-fm.out)
+		c.outs = append(c.outs, v.slot)
 		v.hint = fm.u
 	}
 	e.setVal(v)
 	e.st = done
 	c.stack = c.stack[:len(c.stack)-1]
-	c.curFile, c.cur = saveFile, saveCur
+	c.curFile, c.cur, c.numbered = saveFile, saveCur, saveNumbered
 	return v
+}
+
+// parsedFrom reports whether id, the name of a statement, is numbered and
+// stands at its position in f's text: whether the statement was parsed
+// from f, whose numbers its names' are. (A statement declared with a file
+// it was not parsed from is compiled by its names' text.)
+func parsedFrom(f *syntax.File, id *syntax.Ident) bool {
+	if id.ID <= 0 || int(id.ID) > f.NameCount() {
+		return false
+	}
+	off := f.Offset(id.NamePos)
+	return off >= 0 && off+len(id.Name) <= len(f.Src) && string(f.Src[off:off+len(id.Name)]) == id.Name
 }
 
 // newFormula returns a new Formula, taken from blocks of formulaBlock: one
@@ -701,6 +733,16 @@ func (c *compiler) newFormula() *Formula {
 	fm := &c.fblock[0]
 	c.fblock = c.fblock[1:]
 	return fm
+}
+
+// newInput returns a new Input, taken from blocks as newFormula's.
+func (c *compiler) newInput() *Input {
+	if len(c.iblock) == 0 {
+		c.iblock = make([]Input, min(formulaBlock, len(c.ents)))
+	}
+	in := &c.iblock[0]
+	c.iblock = c.iblock[1:]
+	return in
 }
 
 // formulaBlock is the most formulas newFormula allocates at once (a
@@ -794,6 +836,22 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 	if c.cycleRefs[x] {
 		return val{bad: true} // reported by formulaOrder
 	}
+	if i := c.declIdx(f, x); i >= 0 && !constCtx {
+		// A declared input or formula: what the long way below does for
+		// it, without looking its name up.
+		e := &c.ents[i]
+		if e.st == done && !e.v.bad {
+			return e.v
+		}
+		d := c.list[i]
+		if d.Input != nil {
+			return e.v
+		}
+		if v := c.formulaAt(e, x.Name, d.File, d.Formula, x); !v.bad {
+			return v
+		}
+		return val{bad: true}
+	}
 	if x.Name == "pi" {
 		return val{slot: c.b.Const(math.Pi), konst: true, c: math.Pi}
 	}
@@ -826,6 +884,61 @@ func (c *compiler) ident(f *syntax.File, x *syntax.Ident, constCtx bool) val {
 		return val{bad: true}
 	}
 	return v
+}
+
+// declIdx returns the index (Decl.idx) of the input or formula that x, a
+// name of file f, refers to, or -1 when x is anything else: pi, an element
+// or a column, a table or periods, a name not declared, a name not
+// numbered by the parser (ident then takes the long way). A name's number
+// is resolved once a file, by its text, and after that by slice index.
+func (c *compiler) declIdx(f *syntax.File, x *syntax.Ident) int32 {
+	if x.ID <= 0 || !c.numbered {
+		return -1
+	}
+	if f != c.resFile {
+		ids, ok := c.res[f]
+		if !ok {
+			ids = make([]int32, f.NameCount()+1)
+			if c.res == nil {
+				c.res = map[*syntax.File][]int32{}
+			}
+			c.res[f] = ids
+		}
+		c.resFile, c.resIDs = f, ids
+	}
+	if int(x.ID) >= len(c.resIDs) {
+		return -1
+	}
+	r := c.resIDs[x.ID] // 0: not resolved yet; -1: the long way; else Decl.idx+1
+	if r == 0 {
+		if ids := c.m.byID[f]; int(x.ID) < len(ids) && ids[x.ID] != 0 && c.list[ids[x.ID]-1].Name == x.Name {
+			// A name its own file declares: the declaration's index is
+			// known, without a lookup (and its name, one string with
+			// x's, compares by pointer).
+			r = c.resolveDecl(x.Name, c.list[ids[x.ID]-1])
+		} else {
+			r = c.resolve(x.Name)
+		}
+		c.resIDs[x.ID] = r
+	}
+	return r - 1
+}
+
+// resolve returns declIdx's entry for a name: Decl.idx+1 for a declared
+// input or formula, else -1.
+func (c *compiler) resolve(name string) int32 {
+	if name == "pi" || strings.IndexByte(name, '[') >= 0 || strings.IndexByte(name, '.') >= 0 {
+		return -1
+	}
+	return c.resolveDecl(name, c.decls[name])
+}
+
+// resolveDecl is resolve with name's declaration d (nil when there is none).
+func (c *compiler) resolveDecl(name string, d *Decl) int32 {
+	if d == nil || d.Input == nil && d.Formula == nil || name == "pi" || strings.IndexByte(name, '[') >= 0 || strings.IndexByte(name, '.') >= 0 {
+		return -1
+	}
+	return d.idx + 1
 }
 
 // undefined reports x as undefined; the "did you mean" is added to the

@@ -141,3 +141,30 @@ func BenchmarkScaleCompile(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkScaleRatio parses and compiles the scale model (without if)
+// one after the other in each round, for the ratio compile / parse from
+// rounds that the machine's load affects alike (ratio: of the times;
+// cpu-ratio: of the process's CPU time, the collector's included):
+//
+//	go test ./sens/ -run '^$' -bench 'ScaleRatio$' -benchtime=5x
+func BenchmarkScaleRatio(b *testing.B) {
+	src := tapebench.ScaleModel(scaleLines(b), false, 1)
+	f, stmts, err := syntax.Parse("bid", src)
+	if err != nil {
+		b.Fatal(err)
+	}
+	compile := func() error {
+		m := NewModel()
+		for _, s := range stmts {
+			m.Define(f, s)
+		}
+		_, err := m.Compile()
+		return err
+	}
+	parse := func() error {
+		_, _, err := syntax.Parse("bid", src)
+		return err
+	}
+	cpuPair(b, 1, "compile", "parse", compile, parse)
+}

@@ -36,11 +36,12 @@ func (c *compiler) formulaOrder() []*Decl {
 	push := func(d *Decl) {
 		mark[d.idx] = open
 		start := len(refs)
-		refs = c.formulaRefs(refs, d.Formula.Value)
+		c.numbered = parsedFrom(d.File, d.Formula.Name)
+		refs = c.formulaRefs(refs, d.File, d.Formula.Value)
+		c.numbered = false
 		stack = append(stack, frame{d: d, refs: refs[start:len(refs):len(refs)]})
 	}
-	for _, root := range c.m.order {
-		d := c.decls[root]
+	for _, d := range c.list {
 		if d.Formula == nil || mark[d.idx] != unseen {
 			continue
 		}
@@ -86,17 +87,30 @@ type formulaRef struct {
 	d  *Decl
 }
 
-// formulaRefs appends to refs the references in x to formulas of the
-// model, left to right.
-func (c *compiler) formulaRefs(refs []formulaRef, x syntax.Expr) []formulaRef {
-	syntax.Walk(x, func(e syntax.Expr) bool {
-		if id, ok := e.(*syntax.Ident); ok {
-			if d := c.decls[refBase(id.Name)]; d != nil && d.Formula != nil {
-				refs = append(refs, formulaRef{id, d})
+// formulaRefs appends to refs the references in x, an expression of file
+// f, to formulas of the model, left to right (in the order of syntax.Walk).
+func (c *compiler) formulaRefs(refs []formulaRef, f *syntax.File, x syntax.Expr) []formulaRef {
+	switch x := x.(type) {
+	case *syntax.Ident:
+		if i := c.declIdx(f, x); i >= 0 {
+			if d := c.list[i]; d.Formula != nil {
+				refs = append(refs, formulaRef{x, d})
 			}
+		} else if d := c.decls[refBase(x.Name)]; d != nil && d.Formula != nil {
+			refs = append(refs, formulaRef{x, d})
 		}
-		return true
-	})
+	case *syntax.ParenExpr:
+		refs = c.formulaRefs(refs, f, x.X)
+	case *syntax.UnaryExpr:
+		refs = c.formulaRefs(refs, f, x.X)
+	case *syntax.BinaryExpr:
+		refs = c.formulaRefs(refs, f, x.X)
+		refs = c.formulaRefs(refs, f, x.Y)
+	case *syntax.CallExpr:
+		for _, a := range x.Args {
+			refs = c.formulaRefs(refs, f, a)
+		}
+	}
 	return refs
 }
 

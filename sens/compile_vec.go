@@ -141,6 +141,9 @@ func (b *vbuilder) domainOf(s tape.Slot) *domain {
 
 // lift builds op over args as a map when an argument is a vector.
 func (b *vbuilder) lift(op tape.Op, args ...tape.Slot) (tape.Slot, bool) {
+	if len(b.c.vec.doms) == 0 {
+		return 0, false // no vectors: domainOf is nil for every slot
+	}
 	var dom *domain
 	for _, a := range args {
 		d := b.domainOf(a)

@@ -18,8 +18,21 @@ import (
 // replaces the earlier declaration. A Model is not safe for concurrent use; a
 // compiled Program is read-only and may be shared.
 type Model struct {
-	decls     map[string]*Decl
-	order     []string // names in the order first declared
+	decls  map[string]*Decl
+	order  []string // names in the order first declared
+	list   []*Decl  // the declarations by Decl.idx: list[i] declares order[i]
+	dblock []Decl   // Decls not yet used (Define): one allocation a block
+	// byID gives, for a file declarations came from, the index (Decl.idx)
+	// plus one of each name it declared, by the name's number in the file
+	// (syntax.Ident.ID): the compiler resolves a reference to a name its
+	// own file declares without looking the name up (compiler.declIdx).
+	// A name keeps its index when it is declared again, from any file.
+	byID map[*syntax.File][]int32
+	// single is the file every declaration so far came from, each with a
+	// numbered name; nil when none did or there were more files. Then a
+	// name byID does not know is new, and its declaration costs one
+	// insertion in decls instead of a lookup and an insertion.
+	single    *syntax.File
 	scenarios map[string]*Scenario
 	scenOrder []string
 	corrs     []*CorrDecl              // rank correlations, in the order declared
@@ -76,7 +89,20 @@ func NewModel() *Model {
 // declared by DefineTable, which reads its file). It reports whether a
 // declaration of that name existed before.
 func (m *Model) Define(f *syntax.File, s syntax.Stmt) (replaced bool) {
-	d := &Decl{File: f}
+	if len(m.dblock) == 0 {
+		m.dblock = make([]Decl, declBlock)
+	}
+	d := &m.dblock[0]
+	m.dblock = m.dblock[1:]
+	d.File = f
+	if len(m.order) == 0 && f.NameCount() > declBlock {
+		// A new model declared from a large file: room for its names at
+		// once (a file declares fewer names than it numbers), so that the
+		// map does not grow a step at a time.
+		n := f.NameCount()
+		m.decls = make(map[string]*Decl, n)
+		m.order, m.list = make([]string, 0, n), make([]*Decl, 0, n)
+	}
 	switch s := s.(type) {
 	case *syntax.InputStmt:
 		d.Name, d.Input = s.Name.Name, s
@@ -90,18 +116,85 @@ func (m *Model) Define(f *syntax.File, s syntax.Stmt) (replaced bool) {
 	return m.define(d)
 }
 
+// declBlock is how many Decls Define allocates at once.
+const declBlock = 64
+
 // define adds or replaces the declaration d.
 func (m *Model) define(d *Decl) bool {
-	old, replaced := m.decls[d.Name]
-	if replaced {
-		d.idx = old.idx
-	} else {
-		d.idx = int32(len(m.order))
-		m.order = append(m.order, d.Name)
+	id := d.nameID()
+	ids := m.idsOf(d.File, id)
+	switch {
+	case id == 0:
+		m.single = nil
+	case len(m.order) == 0:
+		m.single = d.File
+	case d.File != m.single:
+		m.single = nil
 	}
-	m.decls[d.Name] = d
+	replaced := false
+	if m.single != nil && ids[id] == 0 {
+		// New, by the numbers: one insertion, which tells if it was not.
+		n := len(m.decls)
+		m.decls[d.Name] = d
+		if len(m.decls) > n {
+			d.idx = int32(len(m.order))
+			m.order = append(m.order, d.Name)
+			m.list = append(m.list, d)
+		} else {
+			// Declared under another number: a name from another parse.
+			// Trust the numbers no more.
+			d.idx, replaced, m.single = int32(slices.Index(m.order, d.Name)), true, nil
+			m.list[d.idx] = d
+		}
+	} else {
+		old, ok := m.decls[d.Name]
+		if replaced = ok; replaced {
+			d.idx = old.idx
+			m.list[d.idx] = d
+		} else {
+			d.idx = int32(len(m.order))
+			m.order = append(m.order, d.Name)
+			m.list = append(m.list, d)
+		}
+		m.decls[d.Name] = d
+	}
+	if id != 0 {
+		ids[id] = d.idx + 1
+	}
 	m.prog, m.progErr = nil, nil
 	return replaced
+}
+
+// nameID returns the number of d's name in its file (syntax.Ident.ID).
+func (d *Decl) nameID() int32 {
+	var id *syntax.Ident
+	switch {
+	case d.Input != nil:
+		id = d.Input.Name
+	case d.Formula != nil:
+		id = d.Formula.Name
+	case d.Periods != nil:
+		id = d.Periods.Name
+	case d.TableStmt != nil:
+		id = d.TableStmt.Name
+	}
+	if id == nil || id.Name != d.Name || d.File == nil || int(id.ID) > d.File.NameCount() {
+		return 0
+	}
+	return id.ID
+}
+
+// idsOf returns f's byID, made for the names f numbers when id > 0.
+func (m *Model) idsOf(f *syntax.File, id int32) []int32 {
+	ids := m.byID[f]
+	if ids == nil && id > 0 {
+		ids = make([]int32, f.NameCount()+1)
+		if m.byID == nil {
+			m.byID = map[*syntax.File][]int32{}
+		}
+		m.byID[f] = ids
+	}
+	return ids
 }
 
 // ValueResult is the value of an input, a formula or an expression at the
@@ -370,6 +463,7 @@ func (m *Model) Clone() *Model {
 	c := &Model{
 		decls:     make(map[string]*Decl, len(m.decls)),
 		order:     slices.Clone(m.order),
+		list:      slices.Clone(m.list),
 		scenarios: make(map[string]*Scenario, len(m.scenarios)),
 		scenOrder: slices.Clone(m.scenOrder),
 		corrs:     slices.Clone(m.corrs),

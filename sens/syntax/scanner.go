@@ -23,6 +23,8 @@ type Scanner struct {
 	// cost an error, and a search for its column, per character.
 	errEnd   int // errors before this offset (the end of the last error's line) are dropped
 	errLines int // lines with an error reported
+
+	id int32 // a name scanned last while the file's names are numbered: minus its length (name)
 }
 
 // Init prepares s to scan f, reporting errors into errs.
@@ -66,9 +68,26 @@ func (s *Scanner) peekRune(off int) (rune, int) {
 func isLetter(r rune) bool { return r == '_' || unicode.IsLetter(r) }
 func isDigit(r rune) bool  { return '0' <= r && r <= '9' }
 
+// name returns the name or keyword at src[start:s.off]. While the file's
+// names are numbered (Parse), a name comes without its text and with s.id
+// set to minus its length: the parser numbers the names of the whole file
+// in one pass after scanning it (parser.numberNames).
+func (s *Scanner) name(start int, pos Pos) (Token, Pos, string) {
+	if s.file.names == nil {
+		lit := string(s.src[start:s.off])
+		return Lookup(lit), pos, lit
+	}
+	if tok, ok := keywords[string(s.src[start:s.off])]; ok {
+		return tok, pos, string(s.src[start:s.off])
+	}
+	s.id = -int32(s.off - start)
+	return IDENT, pos, ""
+}
+
 // Scan returns the next token, its position and its literal text (for IDENT,
 // NUMBER, STRING, UNIT and COMMENT; for STRING the unquoted value).
 func (s *Scanner) Scan() (tok Token, pos Pos, lit string) {
+	s.id = 0
 	// Skip blanks.
 	for s.off < len(s.src) {
 		c := s.src[s.off]
@@ -110,8 +129,7 @@ func (s *Scanner) Scan() (tok Token, pos Pos, lit string) {
 			}
 			s.off += w
 		}
-		lit = string(s.src[start:s.off])
-		return Lookup(lit), pos, lit
+		return s.name(start, pos)
 	case isDigit(r) || (r == '.' && s.off+1 < len(s.src) && isDigit(rune(s.src[s.off+1]))):
 		return s.number(start)
 	}

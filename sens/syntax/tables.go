@@ -78,8 +78,8 @@ func (p *parser) parseRef() *Ident {
 		if key == "" {
 			p.error(p.pos, "expected a key between the brackets: "+id.Name+"[KEY] (or leave a space before a unit: "+id.Name+" [UNIT])")
 		}
-		id.Rbrack = p.pos + Pos(len(p.lit)) + 1
-		id.Name += "[" + key + "]"
+		id.brack = int32(p.pos + Pos(len(p.lit)) + 1 - id.NamePos)
+		id.ID, id.Name = p.file.intern(id.Name + "[" + key + "]")
 		p.next()
 	}
 	return id
@@ -93,6 +93,9 @@ func (p *parser) parseOver(name *Ident) *Ident {
 	text := strings.TrimSpace(p.lit)
 	lead := len(p.lit) - len(strings.TrimLeft(p.lit, " \t"))
 	id := &Ident{NamePos: p.pos + 1 + Pos(lead), Name: text}
+	if isName(text) {
+		id.ID, id.Name = p.file.intern(text)
+	}
 	if text == "" || !isName(text) {
 		p.error(p.pos, "expected the name of a table or periods in the brackets: input "+name.Name+"[year] = ... (a unit follows the value: input "+name.Name+" = 5 ["+text+"])")
 	}

@@ -53,6 +53,55 @@ type File struct {
 	Name  string
 	Src   []byte
 	lines []int // byte offset of the start of each line
+
+	// While the file is parsed, names numbers its names (Ident.ID): a
+	// name written many times is one string, and a reference carries a
+	// number that the compiler resolves by slice index instead of by
+	// hashing the name. The table is dropped when the parse ends;
+	// nameCount stays.
+	names     *nameTable
+	nameCount int32
+}
+
+// NameCount returns how many distinct names the parse of f numbered:
+// Ident.ID runs from 1 to NameCount.
+func (f *File) NameCount() int {
+	if f == nil {
+		return 0
+	}
+	return int(f.nameCount)
+}
+
+// startNames opens f's table of names for a parse; hint is the expected
+// count.
+func (f *File) startNames(hint int) {
+	if f.nameCount != 0 {
+		// Parsed before (Parse makes a new File, so never yet): leave
+		// the names unnumbered, so that a name keeps one number a file.
+		return
+	}
+	f.names = newNameTable(hint, 0)
+}
+
+// endNames drops f's table of names, keeping their count.
+func (f *File) endNames() {
+	if f.names != nil {
+		f.nameCount = f.names.count
+	}
+	f.names = nil
+}
+
+// intern returns name's number in f (from 1), numbering it when it is new,
+// and the one string f keeps for it; 0 and name when no parse is open.
+func (f *File) intern(name string) (int32, string) {
+	if f.names == nil {
+		return 0, name
+	}
+	id, s := f.names.lookup([]byte(name))
+	if id == 0 {
+		id, s = f.names.add([]byte(name))
+	}
+	return id, s
 }
 
 // NewFile returns a File for src. Name is used in positions ("cell 3", "plant.nudge").
