@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sync"
+	"time"
 
 	"github.com/nudge-dev/nudge/sens/tape"
 )
@@ -34,6 +35,7 @@ type batcher struct {
 	rows   []float64
 	movers []mover // evalPoints: one a goroutine
 	chunk  int
+	next   int // the size of the next batch through cones (see batchTime)
 	s      *Settings
 	cones  coneSet // nil when f has none, or its baseline fails
 
@@ -53,6 +55,16 @@ const (
 // scale model: 49,999 points, about 0.2 s).
 const coneBatch = 1 << 16
 
+// batchTime is the time a batch through cones aims at: the batches start
+// at maxBatch points and grow (fourfold while one takes less than a quarter
+// of this, twofold while less than this) up to
+// coneBatch, and halve when one takes more than twice it, so that progress
+// reports and checks for cancellation come a few times a second on a
+// model whose cones are costly, while a cheap model's points still reach
+// the long batches that a sweep of the tape needs. Only the batches' sizes
+// depend on the time: the values are those of Eval whatever they are.
+const batchTime = 100 * time.Millisecond
+
 func newBatcher(f Function, base []float64, s *Settings) *batcher {
 	dim := len(base)
 	chunk := maxBatch
@@ -69,6 +81,7 @@ func newBatcher(f Function, base []float64, s *Settings) *batcher {
 		if cs, err := c.cones(base); err == nil {
 			b.cones = cs
 			b.chunk = coneBatch
+			b.next = maxBatch
 		}
 	}
 	return b
@@ -83,15 +96,20 @@ func (b *batcher) eval(dst []float64, pts []point) error {
 			return fmt.Errorf("stopped: %w", err)
 		}
 		n := min(b.chunk, len(pts)-start)
-		if b.done == 0 {
-			// A first batch of the usual size: the first progress report,
-			// and a cancellation on it, come early whatever the chunk.
-			n = min(n, maxBatch)
-		}
 		var err error
 		switch {
 		case b.cones != nil:
+			n = min(b.next, len(pts)-start)
+			began := time.Now()
 			err = b.evalCones(dst[start:start+n], pts[start:start+n])
+			switch took := time.Since(began); {
+			case took < batchTime/4:
+				b.next = min(4*b.next, b.chunk)
+			case took < batchTime:
+				b.next = min(2*b.next, b.chunk)
+			case took > 2*batchTime:
+				b.next = max(b.next/2, maxBatch)
+			}
 		case b.dim >= pointwiseDim:
 			err = b.evalPoints(dst[start:start+n], pts[start:start+n])
 		default:
