@@ -944,6 +944,49 @@ func (b *limitedBuilder) full() bool {
 	return b.cut
 }
 
+// PrintedAt reports whether String(x) followed by suffix is the start of
+// src, and if so its length, comparing as String would print and building
+// no string: a compiler keeps a formula's text as a span of its source when
+// it is one.
+func PrintedAt(x Expr, suffix string, src []byte) (int, bool) {
+	m := sourceMatcher{src: src}
+	writeExprTo(&m, x)
+	m.WriteString(suffix)
+	return m.n, !m.bad
+}
+
+// sourceMatcher is an exprWriter that compares what is written with src,
+// stopping at the first difference.
+type sourceMatcher struct {
+	src []byte
+	n   int
+	bad bool
+}
+
+func (m *sourceMatcher) WriteString(s string) (int, error) {
+	if !m.bad {
+		if len(s) > len(m.src)-m.n || string(m.src[m.n:m.n+len(s)]) != s {
+			m.bad = true
+		} else {
+			m.n += len(s)
+		}
+	}
+	return len(s), nil
+}
+
+func (m *sourceMatcher) WriteByte(c byte) error {
+	if !m.bad {
+		if m.n < len(m.src) && m.src[m.n] == c {
+			m.n++
+		} else {
+			m.bad = true
+		}
+	}
+	return nil
+}
+
+func (m *sourceMatcher) full() bool { return m.bad }
+
 func writeExprTo(b exprWriter, x Expr) {
 	if b.full() {
 		return
