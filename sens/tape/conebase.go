@@ -169,42 +169,7 @@ func (c *Cones) Step(i int, v float64) (float64, error) {
 	nodes := c.coneOf(i, -1)
 	w := c.work
 	w[i] = v
-	bad := false
-	red := 0
-	group, gred := int32(-1), vred{}
-	for _, k := range nodes {
-		op := p.ops[k]
-		if op != opLoop && op != opLane {
-			if p.step(w, k) {
-				bad = true
-			}
-			continue
-		}
-		h := k
-		if op == opLane {
-			h = p.a[k]
-		}
-		l := &p.loops[p.a[h]]
-		switch l.kind {
-		case loopMap:
-			if c.mapElem(l, w, k, k-h) {
-				bad = true
-			}
-		case loopGather:
-			w[k] = w[l.arg[0]+l.idx[k-h]]
-		case loopGroup:
-			if h != group {
-				group, gred = h, c.vc.reds[red]
-				red++
-			}
-			c.groupSum(l, w, h, k, k-h, gred)
-		default:
-			if c.reduce(l, w, k, c.vc.reds[red]) {
-				bad = true
-			}
-			red++
-		}
-	}
+	bad := c.runVec(w, nodes)
 	y := w[p.outs[c.out]]
 	if bad || !finite(y) {
 		// Put the base back, as evalVec does, and evaluate whole.

@@ -341,6 +341,48 @@ func (c *Cones) groupSum(l *loop, v []float64, h, k, g int32, red vred) {
 	v[k] = t.root()
 }
 
+// runVec evaluates nodes, a cone of a tape with loop nodes in tape order,
+// over the values v, and says whether an operation met a non-finite value.
+func (c *Cones) runVec(v []float64, nodes []int32) (bad bool) {
+	p := c.t.p
+	red := 0
+	group, gred := int32(-1), vred{}
+	for _, k := range nodes {
+		op := p.ops[k]
+		if op != opLoop && op != opLane {
+			if p.step(v, k) {
+				bad = true
+			}
+			continue
+		}
+		h := k
+		if op == opLane {
+			h = p.a[k]
+		}
+		l := &p.loops[p.a[h]]
+		switch l.kind {
+		case loopMap:
+			if c.mapElem(l, v, k, k-h) {
+				bad = true
+			}
+		case loopGather:
+			v[k] = v[l.arg[0]+l.idx[k-h]]
+		case loopGroup:
+			if h != group {
+				group, gred = h, c.vc.reds[red]
+				red++
+			}
+			c.groupSum(l, v, h, k, k-h, gred)
+		default:
+			if c.reduce(l, v, k, c.vc.reds[red]) {
+				bad = true
+			}
+			red++
+		}
+	}
+	return bad
+}
+
 // evalVec is Eval on a tape with loop nodes: each point by the cone of
 // its inputs over a copy of the base values, restored after it.
 func (c *Cones) evalVec(dst []float64, i int, vi []float64, j int, vj []float64, n int) error {
@@ -353,42 +395,7 @@ func (c *Cones) evalVec(dst []float64, i int, vi []float64, j int, vj []float64,
 		if j >= 0 {
 			v[j] = vj[s]
 		}
-		bad := false
-		red := 0
-		group, gred := int32(-1), vred{}
-		for _, k := range nodes {
-			op := p.ops[k]
-			if op != opLoop && op != opLane {
-				if p.step(v, k) {
-					bad = true
-				}
-				continue
-			}
-			h := k
-			if op == opLane {
-				h = p.a[k]
-			}
-			l := &p.loops[p.a[h]]
-			switch l.kind {
-			case loopMap:
-				if c.mapElem(l, v, k, k-h) {
-					bad = true
-				}
-			case loopGather:
-				v[k] = v[l.arg[0]+l.idx[k-h]]
-			case loopGroup:
-				if h != group {
-					group, gred = h, c.vc.reds[red]
-					red++
-				}
-				c.groupSum(l, v, h, k, k-h, gred)
-			default:
-				if c.reduce(l, v, k, c.vc.reds[red]) {
-					bad = true
-				}
-				red++
-			}
-		}
+		bad := c.runVec(v, nodes)
 		dst[s] = v[out]
 		for _, k := range nodes {
 			v[k] = c.vals[k]
