@@ -293,19 +293,7 @@ func TestHeatGridContourOnLevelSet(t *testing.T) {
 	const target = 7.3
 	hg := NewHeatGrid(h.Grid(), newRamp(0, 20))
 	hg.Target = target
-	p := plot.New()
-	p.Add(hg)
-	p.HideAxes()
-	p.X.Padding, p.Y.Padding = 0, 0
-	rec := &recorder.Canvas{}
-	c := draw.NewCanvas(rec, 100, 100)
-	p.Draw(c)
-	dc := p.DataCanvas(c)
-	toData := func(pt vg.Point) (x, y float64) {
-		x = p.X.Min + float64((pt.X-dc.Min.X)/(dc.Max.X-dc.Min.X))*(p.X.Max-p.X.Min)
-		y = p.Y.Min + float64((pt.Y-dc.Min.Y)/(dc.Max.Y-dc.Min.Y))*(p.Y.Max-p.Y.Min)
-		return
-	}
+	rec, toData := drawHeatGrid(hg)
 	var strokes int
 	var width vg.Length
 	for _, a := range rec.Actions {
@@ -671,19 +659,7 @@ func TestHeatGridKnownContour(t *testing.T) {
 	hg := NewHeatGrid(h.Grid(), newRamp(0, 20))
 	hg.Target = 4
 	hg.KnownLines, hg.Lines = true, [][][2]float64{line}
-	p := plot.New()
-	p.Add(hg)
-	p.HideAxes()
-	p.X.Padding, p.Y.Padding = 0, 0
-	rec := &recorder.Canvas{}
-	c := draw.NewCanvas(rec, 100, 100)
-	p.Draw(c)
-	dc := p.DataCanvas(c)
-	toData := func(pt vg.Point) (x, y float64) {
-		x = p.X.Min + float64((pt.X-dc.Min.X)/(dc.Max.X-dc.Min.X))*(p.X.Max-p.X.Min)
-		y = p.Y.Min + float64((pt.Y-dc.Min.Y)/(dc.Max.Y-dc.Min.Y))*(p.Y.Max-p.Y.Min)
-		return
-	}
+	rec, toData := drawHeatGrid(hg)
 	var strokes, points int
 	var width vg.Length
 	for _, a := range rec.Actions {
@@ -709,5 +685,24 @@ func TestHeatGridKnownContour(t *testing.T) {
 	}
 	if strokes != 2 || points != 2*len(line) { // halo and line
 		t.Errorf("%d strokes of %d points, want 2 of %d", strokes, points, 2*len(line))
+	}
+}
+
+// drawHeatGrid draws hg alone, without axes or padding, on a 100 × 100
+// recording canvas, and returns the recording with the map from a point
+// of the canvas back to the data's coordinates.
+func drawHeatGrid(hg *HeatGrid) (*recorder.Canvas, func(vg.Point) (x, y float64)) {
+	p := plot.New()
+	p.Add(hg)
+	p.HideAxes()
+	p.X.Padding, p.Y.Padding = 0, 0
+	rec := &recorder.Canvas{}
+	c := draw.NewCanvas(rec, 100, 100)
+	p.Draw(c)
+	dc := p.DataCanvas(c)
+	return rec, func(pt vg.Point) (x, y float64) {
+		x = p.X.Min + float64((pt.X-dc.Min.X)/(dc.Max.X-dc.Min.X))*(p.X.Max-p.X.Min)
+		y = p.Y.Min + float64((pt.Y-dc.Min.Y)/(dc.Max.Y-dc.Min.Y))*(p.Y.Max-p.Y.Min)
+		return
 	}
 }

@@ -108,12 +108,7 @@ func BenchmarkSobolConesVsWhole(b *testing.B) {
 	p := benchProblem(t, x)
 	const n = 8192
 	run := func(on bool) func() error {
-		return func() error {
-			defer func(old bool) { useRadial = old }(useRadial)
-			useRadial = on
-			_, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1})
-			return err
-		}
+		return withRadial(on, func() error { _, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1}); return err })
 	}
 	cpuPair(b, float64(n*(len(x)+2)), "cones", "whole", run(true), run(false))
 }
@@ -305,12 +300,7 @@ func BenchmarkSobolLinesConesVsWhole(b *testing.B) {
 	}
 	const n = 256
 	run := func(on bool) func() error {
-		return func() error {
-			defer func(old bool) { useRadial = old }(useRadial)
-			useRadial = on
-			_, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1})
-			return err
-		}
+		return withRadial(on, func() error { _, err := Sobol(p, &SobolSettings{N: n, Seed: 1, Workers: 1}); return err })
 	}
 	cpuPair(b, float64(n*(len(p.Inputs)+2)), "cones", "whole", run(true), run(false))
 }
@@ -344,12 +334,7 @@ func BenchmarkMorrisConesVsWhole(b *testing.B) {
 			p := benchProblem(t, x)
 			const r = 400
 			run := func(on bool) func() error {
-				return func() error {
-					defer func(old bool) { useRadial = old }(useRadial)
-					useRadial = on
-					_, err := Morris(p, &MorrisSettings{R: r, Seed: 1, Workers: 1})
-					return err
-				}
+				return withRadial(on, func() error { _, err := Morris(p, &MorrisSettings{R: r, Seed: 1, Workers: 1}); return err })
 			}
 			cpuPair(b, float64(r*(k+1)), "cones", "whole", run(true), run(false))
 		})
@@ -369,12 +354,17 @@ func BenchmarkMorrisLinesConesVsWhole(b *testing.B) {
 	}
 	const r = 20
 	run := func(on bool) func() error {
-		return func() error {
-			defer func(old bool) { useRadial = old }(useRadial)
-			useRadial = on
-			_, err := Morris(p, &MorrisSettings{R: r, Seed: 1, Workers: 1})
-			return err
-		}
+		return withRadial(on, func() error { _, err := Morris(p, &MorrisSettings{R: r, Seed: 1, Workers: 1}); return err })
 	}
 	cpuPair(b, float64(r*(len(p.Inputs)+1)), "cones", "whole", run(true), run(false))
+}
+
+// withRadial returns f run with the lane cones of Sobol and Morris on or
+// off (useRadial), the setting restored after each call.
+func withRadial(on bool, f func() error) func() error {
+	return func() error {
+		defer func(old bool) { useRadial = old }(useRadial)
+		useRadial = on
+		return f()
+	}
 }
