@@ -162,25 +162,7 @@ func main() {
 					if o1.sym == "/" {
 						conds = append(conds, "!finite(b)")
 					}
-					var x2, y2, x3, y3 string
-					switch sh {
-					case "LL", "LR":
-						x2, y2 = "float64(t1)", "c"
-					case "RL", "RR":
-						x2, y2 = "c", "float64(t1)"
-					default:
-						x2, y2 = "c", "d"
-					}
-					switch sh {
-					case "LL", "RL":
-						x3, y3 = "float64(t2)", "d"
-					case "LR", "RR":
-						x3, y3 = "d", "float64(t2)"
-					case "TL":
-						x3, y3 = "float64(t1)", "float64(t2)"
-					default:
-						x3, y3 = "float64(t2)", "float64(t1)"
-					}
+					x2, y2, x3, y3 := tripleOperands(sh, "float64(t1)", "float64(t2)")
 					p("\t\t\tt2 := %s %s %s\n\t\t\tv[in.n+1] = t2\n", x2, o2.sym, y2)
 					p("\t\t\tv[in.n+2] = %s %s %s\n", x3, o3.sym, y3)
 					if o2.sym == "/" {
@@ -293,25 +275,7 @@ func genPlanTriples() {
 								base = "kTripleKeep"
 							}
 							p("\tcase %s + %d: // %s %s %s %s\n", base, ((i1*4+i2)*4+i3)*len(shapes)+si, o1.sym, o2.sym, o3.sym, sh)
-							var x2, y2, x3, y3 string
-							switch sh {
-							case "LL", "LR":
-								x2, y2 = "t1", "c"
-							case "RL", "RR":
-								x2, y2 = "c", "t1"
-							default:
-								x2, y2 = "c", "d"
-							}
-							switch sh {
-							case "LL", "RL":
-								x3, y3 = "t2", "d"
-							case "LR", "RR":
-								x3, y3 = "d", "t2"
-							case "TL":
-								x3, y3 = "t1", "t2"
-							default:
-								x3, y3 = "t2", "t1"
-							}
+							x2, y2, x3, y3 := tripleOperands(sh, "t1", "t2")
 							var divs []string
 							if o1.sym == "/" {
 								divs = append(divs, "b")
@@ -960,4 +924,31 @@ func laneLoop(rows []string, body string) string {
 	}
 	b.WriteString("for ; s < len(o); s++ {\n" + body + "}\n")
 	return b.String()
+}
+
+// tripleOperands returns the operands of a triple's second and third
+// operations for its shape sh, given how the code names the first two
+// results (t1, t2): the second reads t1 on the side its shape's first
+// letter gives (a T shape reads the operands c and d), the third reads t2
+// on the side of the second letter (a T shape reads t1 and t2).
+func tripleOperands(sh, t1, t2 string) (x2, y2, x3, y3 string) {
+	switch sh {
+	case "LL", "LR":
+		x2, y2 = t1, "c"
+	case "RL", "RR":
+		x2, y2 = "c", t1
+	default:
+		x2, y2 = "c", "d"
+	}
+	switch sh {
+	case "LL", "RL":
+		x3, y3 = t2, "d"
+	case "LR", "RR":
+		x3, y3 = "d", t2
+	case "TL":
+		x3, y3 = t1, t2
+	default:
+		x3, y3 = t2, t1
+	}
+	return
 }
