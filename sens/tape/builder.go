@@ -212,18 +212,22 @@ func (b *Builder) Binary(op Op, x, y Slot) Slot {
 	cx, xc := b.IsConst(x)
 	cy, yc := b.IsConst(y)
 	switch op {
+	// The identities below hold to the bit under IEEE 754, signed zeros
+	// included: x + (−0) = x, but (−0) + (+0) = +0, so x + (+0) is kept;
+	// x − (+0) = x, but (−0) − (−0) = +0; (−0) − y = −y, but
+	// (+0) − (+0) = +0 where −(+0) = −0.
 	case OpAdd:
 		if xc && !yc { // constant on the right
 			x, y, cx, cy, xc, yc = y, x, cy, cx, yc, xc
 		}
-		if yc && !xc && cy == 0 {
+		if yc && !xc && cy == 0 && math.Signbit(cy) {
 			return x
 		}
 	case OpSub:
-		if yc && !xc && cy == 0 {
+		if yc && !xc && cy == 0 && !math.Signbit(cy) {
 			return x
 		}
-		if xc && !yc && cx == 0 && !math.Signbit(cx) {
+		if xc && !yc && cx == 0 && math.Signbit(cx) {
 			return b.Unary(OpNeg, y)
 		}
 	case OpMul:

@@ -659,7 +659,7 @@ func tapeBatchAgrees(t *testing.T, tp *Tape, x []float64, f int) {
 func TestTapeBuilderSimplifies(t *testing.T) {
 	b := NewBuilder()
 	x := b.Input()
-	one, zero := b.Const(1), b.Const(0)
+	one, zero, negZero := b.Const(1), b.Const(0), b.Const(math.Copysign(0, -1))
 	for _, tc := range []struct {
 		name string
 		got  Slot
@@ -667,8 +667,8 @@ func TestTapeBuilderSimplifies(t *testing.T) {
 	}{
 		{"x*1", b.Binary(OpMul, x, one), x},
 		{"1*x", b.Binary(OpMul, one, x), x},
-		{"x+0", b.Binary(OpAdd, x, zero), x},
-		{"0+x", b.Binary(OpAdd, zero, x), x},
+		{"x+(-0)", b.Binary(OpAdd, x, negZero), x},
+		{"(-0)+x", b.Binary(OpAdd, negZero, x), x},
 		{"x-0", b.Binary(OpSub, x, zero), x},
 		{"x/1", b.Binary(OpDiv, x, one), x},
 		{"x^1", b.Binary(OpPow, x, one), x},
@@ -684,6 +684,26 @@ func TestTapeBuilderSimplifies(t *testing.T) {
 	}
 	if s := b.Binary(OpMul, x, zero); s == zero {
 		t.Error("x*0 folded to 0; it must stay to report a non-finite x")
+	}
+	// Signed zeros (IEEE 754): (−0) + (+0) = +0 and (+0) − (+0) = +0, so
+	// x + 0, 0 + x and x − (−0) must stay, or a map built of loop nodes
+	// and the same map built of scalar operations differ in the sign of
+	// a zero (found by FuzzEvalPaths); (−0) − x is −x to the bit.
+	for _, tc := range []struct {
+		name string
+		got  Slot
+	}{
+		{"x+0", b.Binary(OpAdd, x, zero)},
+		{"0+x", b.Binary(OpAdd, zero, x)},
+		{"x-(-0)", b.Binary(OpSub, x, negZero)},
+		{"0-x", b.Binary(OpSub, zero, x)},
+	} {
+		if tc.got == x || b.nodes[tc.got].op == OpNeg {
+			t.Errorf("%s folded; it is not exact at a zero x", tc.name)
+		}
+	}
+	if s := b.Binary(OpSub, negZero, x); b.nodes[s].op != OpNeg {
+		t.Errorf("(-0)-x is %v, want OpNeg", b.nodes[s].op)
 	}
 	if s := b.Binary(OpPow, x, b.Const(2)); b.nodes[s].op != OpSquare {
 		t.Errorf("x^2 is %v, want OpSquare", b.nodes[s].op)
@@ -1024,6 +1044,24 @@ func TestConstantBits(t *testing.T) {
 	for i, v := range finite {
 		if got := tp.Output(i); math.Float64bits(got) != math.Float64bits(v) {
 			t.Errorf("1 * %v = %#x on the tape, want %#x", v, math.Float64bits(got), math.Float64bits(v))
+		}
+	}
+}
+
+// The builder's identities keep the sign of a zero: x + 0 at x = −0 and
+// 0 − x at x = +0 are +0 (IEEE 754 round to nearest), as evaluated.
+func TestTapeBuilderSignedZero(t *testing.T) {
+	b := NewBuilder()
+	x := b.Input()
+	tp := b.Tape(b.Binary(OpAdd, x, b.Const(0)), b.Binary(OpSub, b.Const(0), x),
+		b.Binary(OpSub, x, b.Const(math.Copysign(0, -1))))
+	for i, in := range []float64{math.Copysign(0, -1), 0, math.Copysign(0, -1)} {
+		v, err := tp.Eval([]float64{in}, i)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Float64bits(v) != 0 {
+			t.Errorf("output %d at x = %v: %v, want +0", i, in, v)
 		}
 	}
 }
