@@ -1161,6 +1161,9 @@ func (p *tapeProg) mapReverse(l *loop, v, vx, vy, adj, ax, ay []float64, k int) 
 	x, y := int(l.arg[0]), int(l.arg[1])
 	sx, sy := l.step[0], l.step[1]
 	konst := func(s int) bool { return s >= p.nIn && s < p.start }
+	if !broadcastApart(l) {
+		return false // the element-by-element loop, in its order
+	}
 	gk := adj[k : k+n]
 	switch {
 	case l.op == OpMul && sx == 1 && sy == 1:
@@ -1209,6 +1212,29 @@ func (p *tapeProg) mapReverse(l *loop, v, vx, vy, adj, ax, ay []float64, k int) 
 		}
 	default:
 		return false
+	}
+	return true
+}
+
+// broadcastApart reports whether map l's scalar operand, if it has one
+// beside a vector, lies outside that vector's slots. A scalar that is an
+// element of the vector it multiplies or is added to (v * v[3]) gets two
+// amounts from each element's pass; the loops of mapReverse and
+// fusedMapReverse, which add one operand's amounts over all elements and
+// then the other's (holding the scalar's in a register), would lose one of
+// them or add them in another order than the pass element by element.
+func broadcastApart(l *loop) bool {
+	n := l.n
+	for i := range l.op.Arity() {
+		if l.step[i] != 0 {
+			continue
+		}
+		s := l.arg[i]
+		for j := range l.op.Arity() {
+			if l.step[j] == 1 && s >= l.arg[j] && s < l.arg[j]+n {
+				return false
+			}
+		}
 	}
 	return true
 }

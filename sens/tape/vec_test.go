@@ -459,3 +459,58 @@ func BenchmarkLoopMin(b *testing.B) {
 		}
 	}
 }
+
+// A map of a vector and one of its own elements as the scalar (v * v[3],
+// v + v[3], v − v[3]) read through a dot product, whose adjoint differs
+// element by element, and through a sum, whose adjoint is one for all:
+// the reverse pass of a map by a scalar held the scalar's adjoint in a
+// register while it added the vector's, so the element's own amount was
+// lost (∂/∂v3 of Σ w_j v_j v_3 came out 43.125 instead of 46.375), and the
+// sum's pass added the amounts in another order than GradientBatch (found
+// by FuzzEvalPaths). The reference is the same computation built of
+// scalar operations (SetLoopMin), and the derivative by hand: ∂/∂v3 of
+// Σ_j w_j v_j v_3 is Σ_j w_j v_j + w_3 v_3 (calculus).
+func TestMapByOwnElement(t *testing.T) {
+	build := func(loopMin int, op Op, dot bool) *Tape {
+		b := NewBuilder()
+		b.SetLoopMin(loopMin)
+		v := b.VecInput(9)
+		w := b.VecInput(9)
+		m := b.Map(op, v, b.Elem(v, 3))
+		if dot {
+			return b.Tape(b.Dot(m, w))
+		}
+		return b.Tape(b.Binary(OpAdd, b.Sum(m), b.Elem(w, 0)))
+	}
+	x := make([]float64, 18)
+	for i := range x {
+		x[i] = float64(i+1)/4 + 1e-3*float64(i*i)
+	}
+	for _, op := range []Op{OpMul, OpAdd, OpSub} {
+		for _, dot := range []bool{true, false} {
+			tp, ref := build(2, op, dot), build(1<<30, op, dot)
+			got, want, batch := make([]float64, 18), make([]float64, 18), make([]float64, 18)
+			fg, eg := tp.Gradient(got, x, 0)
+			fw, ew := ref.Gradient(want, x, 0)
+			out := make([]float64, 1)
+			eb := tp.GradientBatch(out, batch, x, 1, 0)
+			if eg != nil || ew != nil || eb != nil || fg != fw || out[0] != fw {
+				t.Fatalf("%v dot %v: %v %v, %v %v, batch %v %v", op, dot, fg, eg, fw, ew, out[0], eb)
+			}
+			for j := range got {
+				if !closeGrad(got[j], want[j]) || !sameBits(got[j], batch[j]) {
+					t.Errorf("%v dot %v: ∂/∂x%d %v, scalar build %v, GradientBatch %v", op, dot, j, got[j], want[j], batch[j])
+				}
+			}
+			if op == OpMul && dot {
+				h := x[3] * x[9+3]
+				for j := range 9 {
+					h += x[j] * x[9+j]
+				}
+				if math.Abs(got[3]-h) > 1e-12*h {
+					t.Errorf("∂/∂v3 of Σ w_j v_j v_3 is %v, by hand %v", got[3], h)
+				}
+			}
+		}
+	}
+}

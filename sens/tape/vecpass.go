@@ -243,7 +243,7 @@ func (p *tapeProg) findFuse() {
 // minus a vector or a scalar.
 func fusable(m *loop) bool {
 	sx, sy := m.step[0], m.step[1]
-	if sx == 1 && sy == 1 && !disjoint(int(m.arg[0]), int(m.arg[1]), int(m.n)) {
+	if sx == 1 && sy == 1 && !disjoint(int(m.arg[0]), int(m.arg[1]), int(m.n)) || !broadcastApart(m) {
 		return false
 	}
 	switch m.op {
