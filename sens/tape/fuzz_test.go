@@ -509,6 +509,9 @@ func checkSameAs(t *testing.T, tp, ref *Tape, x []float64, n int) {
 			xs := x[s*nIn : (s+1)*nIn]
 			fg, eg := tp.Gradient(got, xs, i)
 			fw, ew := ref.Gradient(want, xs, i)
+			if eg != nil && ew == nil && cancelledInfinity(eg, ref, xs, i) {
+				continue
+			}
 			if eg != nil || ew != nil {
 				var dg, dw *DomainError
 				if !errors.As(eg, &dg) || !errors.As(ew, &dw) || dg.Reverse != dw.Reverse {
@@ -535,6 +538,28 @@ func checkSameAs(t *testing.T, tp, ref *Tape, x []float64, n int) {
 			}
 		}
 	}
+}
+
+// cancelledInfinity reports whether err, an error of the reverse pass of
+// the build with loop nodes, meets an infinite local derivative whose
+// adjoint is exactly 0 in the scalar build ref: the scalar build shares a
+// scalar operation with an equal element of a map made before it
+// (acos(x) and the map acos(v) at v's element x), so amounts of opposite
+// sign meet at one node and cancel, and the pass skips the node, where
+// the loop build sends each amount through its own node and reports the
+// derivative. The partial is then ∞ · 0, which either answer may stand
+// for; the absolute terms (absGradient) of the scalar build are infinite.
+func cancelledInfinity(err error, ref *Tape, x []float64, i int) bool {
+	var de *DomainError
+	if !errors.As(err, &de) || !de.Reverse {
+		return false
+	}
+	for _, a := range absGradient(ref, x, i) {
+		if math.IsInf(a, 1) {
+			return true
+		}
+	}
+	return false
 }
 
 // absGradient returns, for each input of ref (a tape without loop nodes),
