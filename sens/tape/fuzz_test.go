@@ -559,7 +559,7 @@ func cancelledInfinity(err error, ref *Tape, x []float64, i int) bool {
 		return false
 	}
 	for _, a := range absGradient(ref, x, i) {
-		if math.IsInf(a, 1) {
+		if !finite(a) { // +Inf, or NaN from an infinite amount times a zero derivative
 			return true
 		}
 	}
