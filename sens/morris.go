@@ -127,6 +127,7 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 		pcg   rand.PCG
 		level []int
 		order []int
+		x     []float64 // the trajectory's point
 		rows  []float64
 		y     []float64
 		walk  walkSet // nil: every point evaluated whole
@@ -134,7 +135,7 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 	}
 	workers := make([]*worker, min(workerCount(s.Workers), r))
 	for w := range workers {
-		workers[w] = &worker{f: p.F.Clone(), level: make([]int, k), order: make([]int, k),
+		workers[w] = &worker{f: p.F.Clone(), level: make([]int, k), order: make([]int, k), x: make([]float64, k),
 			rows: make([]float64, m*k), y: make([]float64, m+1)}
 		workers[w].walk = newWalk(workers[w].f)
 	}
@@ -148,7 +149,7 @@ func Morris(p *Problem, s *MorrisSettings) (*MorrisResult, error) {
 			wk.order[i] = i
 		}
 		rnd.Shuffle(k, func(a, b int) { wk.order[a], wk.order[b] = wk.order[b], wk.order[a] })
-		x := make([]float64, k)
+		x := wk.x
 		for i := range k {
 			x[i] = value(i, wk.level[i])
 		}

@@ -83,6 +83,44 @@ func (t *Tape) forwardBlocks(out, x []float64, n, i int) error {
 	return nil
 }
 
+// columnBlocks is ForwardColumns by the node-major block pass (see
+// forwardBlocks): each block's input rows are copied from the columns, and
+// a tape too long for a useful block runs sample by sample through Value
+// over a row of the tape's own (xrow), so that nothing is allocated per
+// call.
+func (t *Tape) columnBlocks(out []float64, cols [][]float64, n, i int) error {
+	t.ensureBatch(false)
+	if t.bw < minBlock {
+		if len(t.xrow) != t.p.nIn {
+			t.xrow = make([]float64, t.p.nIn)
+		}
+		x := t.xrow
+		for s := range n {
+			for j, c := range cols {
+				x[j] = c[s]
+			}
+			f, err := t.eval(x, i, true)
+			if err != nil {
+				err.(*DomainError).Sample = s
+				return err
+			}
+			out[s] = f
+		}
+		return nil
+	}
+	w := t.bw
+	for base := 0; base < n; base += w {
+		m := min(w, n-base)
+		for j, c := range cols {
+			copy(t.bvals[j*w:j*w+m], c[base:base+m])
+		}
+		if err := t.blockOutput(out, i, base, m); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // bySample runs a batch sample by sample, through Eval or, with grad,
 // Gradient: the way of a tape too long for a useful block.
 func (t *Tape) bySample(out, grads, x []float64, n, i int, grad bool) error {
@@ -107,9 +145,16 @@ func (t *Tape) bySample(out, grads, x []float64, n, i int, grad bool) error {
 // forwardBlock runs the forward pass for output i over the block of m
 // samples that starts at sample base, and stores the outputs in out.
 func (t *Tape) forwardBlock(out, x []float64, i, base, m int) error {
+	t.loadBlock(x, base, m)
+	return t.blockOutput(out, i, base, m)
+}
+
+// blockOutput runs the forward pass for output i over the block of m
+// samples that starts at sample base, whose inputs are loaded, and stores
+// the outputs in out.
+func (t *Tape) blockOutput(out []float64, i, base, m int) error {
 	p, w := t.p, t.bw
 	o := int(p.outs[i])
-	t.loadBlock(x, base, m)
 	bad := t.runBlock(m, p.end(i))
 	orow := t.bvals[o*w : o*w+m]
 	copy(out[base:base+m], orow)

@@ -124,13 +124,7 @@ func (t *Tape) ForwardColumns(out []float64, cols [][]float64, n, i int) error {
 		panic("tape: ForwardColumns output shorter than n")
 	}
 	if !t.p.plannable() {
-		x := make([]float64, n*nIn)
-		for j, c := range cols {
-			for s := 0; s < n; s++ {
-				x[s*nIn+j] = c[s]
-			}
-		}
-		return t.forwardBlocks(out[:n], x, n, i)
+		return t.columnBlocks(out[:n], cols, n, i)
 	}
 	ps := t.planFor(i)
 	e := ps.e

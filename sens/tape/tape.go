@@ -73,6 +73,7 @@ type Tape struct {
 	bvals []float64
 	badj  []float64
 	bsum  []float64 // the partial sums of a sum loop over a block (vec.go)
+	xrow  []float64 // one sample's inputs, for ForwardColumns sample by sample
 
 	ps *planState // the batched forward pass's plan and rows
 
