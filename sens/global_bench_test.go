@@ -131,6 +131,43 @@ func BenchmarkSimulateLargeVsBatch(b *testing.B) {
 	cpuPair(b, n, "simulate", "batch", sim, plainBatch(t, x, n))
 }
 
+// Simulate on the bid's total over 200 line items (403 inputs), 2,000
+// samples on one worker, against the batched forward pass of the model over
+// as many samples given as rows (EvalBatch, as plainBatch), in chunks of
+// Simulate's size.
+//
+//	go test ./sens/ -run '^$' -bench SimulateLinesVsBatch -benchtime=10x -benchmem
+func BenchmarkSimulateLinesVsBatch(b *testing.B) {
+	prog, _ := loadBid(b, 200, lineItemModel)
+	p, err := prog.Problem("total")
+	if err != nil {
+		b.Fatal(err)
+	}
+	const n = 2000
+	k := len(p.Inputs)
+	m := chunkRows(k)
+	f := p.F.Clone()
+	rng := rand.New(rand.NewPCG(1, 2))
+	xs := make([]float64, m*k)
+	for s := range m {
+		for i, in := range p.Inputs {
+			xs[s*k+i] = in.Low + (in.High-in.Low)*rng.Float64()
+		}
+	}
+	out := make([]float64, m)
+	batch := func() error {
+		for done := 0; done < n; done += m {
+			c := min(m, n-done)
+			if err := f.EvalBatch(out[:c], xs[:c*k], c); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+	sim := func() error { _, err := Simulate(p, &SimulationSettings{N: n, Seed: 1, Workers: 1}); return err }
+	cpuPair(b, n, "simulate", "batch", sim, batch)
+}
+
 // Simulate on one worker against two: the parallel speed-up (ratio, which
 // needs two idle cores to show), and the work the second worker adds
 // (cpu-ratio, one worker's CPU time over two's: 1 when splitting the

@@ -181,6 +181,15 @@ func (bn *Bench) CurvedTornadoVsForward(b tapebench.B) {
 	}, bn.forwardBatch)
 }
 
+// SimulateVsForward times a simulation of the roll-up, 40 samples of its
+// 200,000 inputs, against one batched forward evaluation.
+func (bn *Bench) SimulateVsForward(b tapebench.B) {
+	tapebench.Pair(b, 1, 1, "simulate", "forward", func() error {
+		_, err := sens.Simulate(bn.Total, &sens.SimulationSettings{N: 40, Seed: 1, Workers: 1})
+		return err
+	}, bn.forwardBatch)
+}
+
 // SpiderVsForward times a spider plot of the roll-up against one batched
 // forward evaluation.
 func (bn *Bench) SpiderVsForward(b tapebench.B) {
