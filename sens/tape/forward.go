@@ -103,13 +103,16 @@ func (t *Tape) exec(i, stop int) bool {
 // operand into a NaN or Inf result, so one that matters either reaches
 // an output (checked afterwards) or meets a guard, which tests its
 // operands. Only then does check search for where it arose.
-func (t *Tape) run(stop int) (bad bool) {
+func (t *Tape) run(stop int) (bad bool) { return t.runFrom(t.p.start, stop) }
+
+// runFrom is run over the nodes [from, stop).
+func (t *Tape) runFrom(from, stop int) (bad bool) {
 	p := t.p
 	v := t.vals
 	ops := p.ops[:stop]
 	as := p.a[:stop]
 	bs := p.b[:stop]
-	k := p.start
+	k := from
 	for k < len(ops) {
 		// The cheap operations run in this inner loop, which makes no
 		// calls, so its state need not be saved around them; the others

@@ -201,6 +201,14 @@ func (t *Tape) Gradient(dst, x []float64, i int) (float64, error) {
 	if f, ok, err := t.gradientDot(dst, x, i); ok {
 		return f, err
 	}
+	if f, ok, err := t.gradientChain(dst, x, i); ok {
+		return f, err
+	}
+	return t.gradientNodes(dst, x, i)
+}
+
+// gradientNodes is Gradient by Value and the reverse pass.
+func (t *Tape) gradientNodes(dst, x []float64, i int) (float64, error) {
 	f, err := t.Value(x, i)
 	if err != nil {
 		return f, err

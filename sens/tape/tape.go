@@ -27,10 +27,13 @@ type tapeProg struct {
 	// for a span that overlaps another. fuse[l] is set for a sum loop l
 	// whose operand is a map that only it reads and that comes just before
 	// it, whose reverse pass it runs with its own adjoint.
-	spans    []span
-	dspan    [][3]int32
-	fuse     []bool
-	chain    []int8
+	spans []span
+	dspan [][3]int32
+	fuse  []bool
+	chain []int8
+	// dots[i], for output i, is a dot product whose adjoint a chain of
+	// scalar operations fixes before its value is known (vecpass.go).
+	dots     []dotChain
 	cache    planCache // plans of the batched passes, by output
 	planOnce sync.Once
 	canPlan  bool       // see plannable

@@ -968,6 +968,9 @@ func (p *tapeProg) loopReverse(v, adj, dst []float64, k int, ls *loopPass) int {
 	x, y := int(l.arg[0]), int(l.arg[1])
 	vx, vy, vz := v, v, v
 	if ls != nil {
+		if k == ls.done {
+			return k // gradientChain stored its amounts (vecpass.go)
+		}
 		if lo, ok := p.loopReverseFast(v, adj, dst, k, li, ls); ok {
 			return lo
 		}

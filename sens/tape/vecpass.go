@@ -30,6 +30,7 @@ type span struct {
 // loopPass is a Tape's state in a reverse pass through loop nodes.
 type loopPass struct {
 	xin  []float64 // the inputs in place, or nil when all are on the tape
+	done int       // a loop node whose reverse pass has run already, or 0
 	seen []uint32  // per span: the pass that last wrote it
 	pass uint32
 	// proven, per span written in this pass: its adjoints are finite, as
@@ -75,6 +76,7 @@ func (p *tapeProg) findSpans() {
 	if p.direct == nil {
 		return
 	}
+	defer p.findDots()
 	p.dspan = make([][3]int32, len(p.loops))
 	at := map[[2]int32]int32{}
 	for li := range p.loops {
@@ -683,14 +685,26 @@ func (p *tapeProg) mapReverseFast(l *loop, v, adj, dst []float64, k int, li int3
 // stores them, with setx and sety, as scaleInto does): the forward and the
 // reverse pass of a dot product whose adjoint a is known before its value,
 // in one pass over its operands. dx and dy are one run or disjoint.
-func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety bool) float64 {
+//
+// With check, it also reports whether every amount it stored (with setx or
+// sety) is finite, which an adjoint above 1 in size does not ensure;
+// without, it reports true.
+func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety, check bool) (float64, bool) {
 	n := len(xs)
 	ys, dx, dy = ys[:n], dx[:n], dy[:n]
+	fin := true
+	scale := func(d, s []float64, set bool) {
+		if check && set {
+			fin = scaleFinite(d, s, a) && fin
+		} else {
+			scaleInto(d, s, a, set)
+		}
+	}
 	if n <= sumBlock {
 		s := sumLeaf(xs, ys)
-		scaleInto(dx, ys, a, setx)
-		scaleInto(dy, xs, a, sety)
-		return s
+		scale(dx, ys, setx)
+		scale(dy, xs, sety)
+		return s, fin
 	}
 	var st [64]float64
 	var ht [64]uint8
@@ -698,6 +712,11 @@ func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety bool) float64 {
 	for lo := 0; lo < n; lo += sumBlock {
 		hi := min(lo+sumBlock, n)
 		switch {
+		case hi-lo == sumBlock && setx && sety && check:
+			var ok bool
+			st[sp], ok = dotStoreFinite((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]),
+				(*[sumBlock]float64)(dx[lo:]), (*[sumBlock]float64)(dy[lo:]), a)
+			fin = ok && fin
 		case hi-lo == sumBlock && setx && sety:
 			st[sp] = dotStore((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]),
 				(*[sumBlock]float64)(dx[lo:]), (*[sumBlock]float64)(dy[lo:]), a)
@@ -707,8 +726,8 @@ func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety bool) float64 {
 			st[sp] = sumLeaf(xs[lo:hi], ys[lo:hi])
 		}
 		if hi-lo < sumBlock || !setx || !sety {
-			scaleInto(dx[lo:hi], ys[lo:hi], a, setx)
-			scaleInto(dy[lo:hi], xs[lo:hi], a, sety)
+			scale(dx[lo:hi], ys[lo:hi], setx)
+			scale(dy[lo:hi], xs[lo:hi], sety)
 		}
 		ht[sp] = 0
 		sp++
@@ -722,7 +741,7 @@ func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety bool) float64 {
 		st[sp-2] += st[sp-1]
 		sp--
 	}
-	return st[0]
+	return st[0], fin
 }
 
 // gradientDot is Gradient for an output that is a dot product whose
@@ -758,7 +777,7 @@ func (t *Tape) gradientDot(dst, x []float64, i int) (f float64, ok bool, err err
 	ax, ay := p.adjOf(t.adj, dst, xa)[xa:xa+n], p.adjOf(t.adj, dst, ya)[ya:ya+n]
 	setx := ls.fresh(p, li, 0)
 	sety := ls.fresh(p, li, 1) // false when the same span as x: x's amounts are stored first
-	v[out] = dotGrad(xs, ys, ax, ay, 1, setx, sety)
+	v[out], _ = dotGrad(xs, ys, ax, ay, 1, setx, sety, false)
 	if bad || !finite(v[out]) {
 		t.loadInputs(x)
 		if err := t.check(bad, p.outs[i:i+1], t.vals, 1, 0, -1); err != nil {
@@ -770,7 +789,7 @@ func (t *Tape) gradientDot(dst, x []float64, i int) (f float64, ok bool, err err
 		p.clearShared(t.adj, end)
 		ls.begin(p, dst, x)
 		setx, sety = ls.fresh(p, li, 0), ls.fresh(p, li, 1)
-		v[out] = dotGrad(xs, ys, ax, ay, 1, setx, sety)
+		v[out], _ = dotGrad(xs, ys, ax, ay, 1, setx, sety, false)
 	}
 	sure := finite(v[out]) // see loopReverseFast
 	ls.sure(p, li, 0, setx, sure)
@@ -807,4 +826,275 @@ func dotStore(x, y, dx, dy *[sumBlock]float64, a float64) float64 {
 		dy[j], dy[j+1], dy[j+2], dy[j+3] = float64(a*x0)+0, float64(a*x1)+0, float64(a*x2)+0, float64(a*x3)+0
 	}
 	return (s0 + s1) + (s2 + s3)
+}
+
+// dotStoreFinite is dotStore, which also reports whether every amount it
+// stored is finite (v - v is 0 for a finite v and NaN otherwise, and a NaN
+// survives a sum, as in allFinite).
+func dotStoreFinite(x, y, dx, dy *[sumBlock]float64, a float64) (float64, bool) {
+	s0, s1 := float64(x[0]*y[0]), float64(x[1]*y[1])
+	s2, s3 := float64(x[2]*y[2]), float64(x[3]*y[3])
+	var c0, c1, c2, c3 float64
+	for j := 0; j < sumLanes; j++ {
+		r, q := float64(a*y[j])+0, float64(a*x[j])+0
+		dx[j], dy[j] = r, q
+		c0 += (r - r) + (q - q)
+	}
+	for j := sumLanes; j < sumBlock; j += 4 {
+		x0, x1, x2, x3 := x[j], x[j+1], x[j+2], x[j+3]
+		y0, y1, y2, y3 := y[j], y[j+1], y[j+2], y[j+3]
+		s0 += float64(x0 * y0)
+		s1 += float64(x1 * y1)
+		s2 += float64(x2 * y2)
+		s3 += float64(x3 * y3)
+		r0, r1, r2, r3 := float64(a*y0)+0, float64(a*y1)+0, float64(a*y2)+0, float64(a*y3)+0
+		q0, q1, q2, q3 := float64(a*x0)+0, float64(a*x1)+0, float64(a*x2)+0, float64(a*x3)+0
+		dx[j], dx[j+1], dx[j+2], dx[j+3] = r0, r1, r2, r3
+		dy[j], dy[j+1], dy[j+2], dy[j+3] = q0, q1, q2, q3
+		c0 += (r0 - r0) + (q0 - q0)
+		c1 += (r1 - r1) + (q1 - q1)
+		c2 += (r2 - r2) + (q2 - q2)
+		c3 += (r3 - r3) + (q3 - q3)
+	}
+	return (s0 + s1) + (s2 + s3), c0+c1+c2+c3 == 0
+}
+
+// A dot product inside a formula.
+//
+// A roll-up is seldom the output itself: total * (1 + markup), k * Σ q c.
+// Its adjoint then comes from the operations after it, known in the
+// reverse pass only after a forward pass has read its operands once. But
+// when those operations are a chain of + - * / and negation from the dot
+// product to the output, each node of it the one use of the one before and
+// the dot product on a side whose local derivative does not depend on it
+// (either side of a sum, difference or product, a quotient's numerator),
+// its adjoint depends only on values it does not reach, the operands off
+// the chain. Gradient then evaluates every other node first, computes the
+// adjoint as the reverse pass would (from 1 at the output, each link adds
+// g·v, g/v or ±g to its operand's cleared adjoint; a link whose adjoint
+// is 0 passes nothing back), runs the dot product's forward and reverse in
+// one pass over its operands (dotGrad), then the chain, and the reverse
+// pass of the rest, which skips the dot product (loopPass.done). The dot
+// product's operands must be read by it alone, so that no other loop node
+// adds to their adjoints: in the reverse pass those would come first.
+
+// dotLink is a node of such a chain and its operand (0 or 1) on the way to
+// the dot product.
+type dotLink struct {
+	k    int32
+	side uint8
+}
+
+// dotChain is the dot product at dot and the chain from it to an output,
+// in evaluation order; dot is 0 when the output has none.
+type dotChain struct {
+	dot   int32
+	links []dotLink
+}
+
+// findDots finds the dot product and chain of each output that has them.
+func (p *tapeProg) findDots() {
+	n := len(p.ops)
+	uses := make([]uint8, n) // reads of each slot, and outputs, up to 255
+	use := func(s int32) {
+		if uses[s] < 255 {
+			uses[s]++
+		}
+	}
+	for k := p.start; k < n; k++ {
+		switch op := p.ops[k]; {
+		case op == opLane:
+		case op == opLoop:
+			p.loops[p.a[k]].operands(func(first, m int32) {
+				for s := first; s < first+m; s++ {
+					use(s)
+				}
+			})
+		case op == opArg || op.Arity() == 1:
+			use(p.a[k])
+		default:
+			use(p.a[k])
+			use(p.b[k])
+		}
+	}
+	for _, o := range p.outs {
+		use(o)
+	}
+	for i, o := range p.outs {
+		if o < int32(p.start) || p.ops[o] == opLoop || p.ops[o] == opLane {
+			continue
+		}
+		if c, ok := p.chainTo(o, uses, 0); ok {
+			if p.dots == nil {
+				p.dots = make([]dotChain, len(p.outs))
+			}
+			p.dots[i] = c
+		}
+	}
+}
+
+// maxDotChain bounds the links of a chain.
+const maxDotChain = 64
+
+// chainTo returns the chain from a dot product to node k, whose operand
+// on the way to it is its only use, and k itself the last link.
+func (p *tapeProg) chainTo(k int32, uses []uint8, depth int) (dotChain, bool) {
+	if depth >= maxDotChain {
+		return dotChain{}, false
+	}
+	op := p.ops[k]
+	for side := range 2 {
+		var s int32
+		switch {
+		case op == OpNeg && side == 0, op == OpDiv && side == 0:
+			s = p.a[k]
+		case (op == OpAdd || op == OpSub || op == OpMul) && p.a[k] != p.b[k]:
+			s = p.a[k]
+			if side == 1 {
+				s = p.b[k]
+			}
+		default:
+			continue
+		}
+		if s < int32(p.start) || uses[s] != 1 {
+			continue
+		}
+		var c dotChain
+		ok := false
+		switch p.ops[s] {
+		case opLoop:
+			c, ok = dotChain{dot: s}, p.dotAlone(s, uses)
+		case OpAdd, OpSub, OpMul, OpDiv, OpNeg:
+			c, ok = p.chainTo(s, uses, depth+1)
+		}
+		if ok {
+			c.links = append(c.links, dotLink{k, uint8(side)})
+			return c, true
+		}
+	}
+	return dotChain{}, false
+}
+
+// dotAlone reports whether the loop node at k is a dot product of
+// disjoint runs (or one run twice) that no other node reads.
+func (p *tapeProg) dotAlone(k int32, uses []uint8) bool {
+	l := &p.loops[p.a[k]]
+	n := l.n
+	x, y := l.arg[0], l.arg[1]
+	if l.kind != loopDot || !disjoint(int(x), int(y), int(n)) {
+		return false
+	}
+	per := uint8(1)
+	if x == y {
+		per = 2
+	}
+	for j := range n {
+		if uses[x+j] != per || uses[y+j] != per {
+			return false
+		}
+	}
+	return true
+}
+
+// gradientChain is Gradient for an output with a dot product and chain
+// (findDots); ok is false, and nothing done, for another output. On a
+// domain error the output's pass runs again as usual, which reports it;
+// dst may have been written.
+func (t *Tape) gradientChain(dst, x []float64, i int) (f float64, ok bool, err error) {
+	p := t.p
+	if p.dots == nil || p.dots[i].dot == 0 {
+		return 0, false, nil
+	}
+	c := &p.dots[i]
+	if len(dst) != p.nIn {
+		t.reverse(dst, i, false) // panics with the message
+	}
+	out, dk := int(p.outs[i]), int(c.dot)
+	li := p.a[dk]
+	l := &p.loops[li]
+	n, xa, ya := int(l.n), int(l.arg[0]), int(l.arg[1])
+	t.loadShared(x)
+	// Every node but the dot product and the chain, in order: none of
+	// them reads those.
+	bad := t.runFrom(p.start, dk)
+	from := dk + p.loopWidth(dk)
+	for _, ln := range c.links {
+		if t.runFrom(from, int(ln.k)) {
+			bad = true
+		}
+		from = int(ln.k) + 1
+	}
+	end := out + 1
+	v, g := t.vals[:end], t.adj[:end]
+	// The dot product's adjoint, as reverseNodes computes it.
+	a := 1.0
+	for j := len(c.links) - 1; j >= 0 && a != 0; j-- {
+		k, side := int(c.links[j].k), c.links[j].side
+		var d float64 // the operand's adjoint, cleared
+		switch p.ops[k] {
+		case OpAdd:
+			d += a
+		case OpSub:
+			if side == 0 {
+				d += a
+			} else {
+				d -= a
+			}
+		case OpMul:
+			o := p.b[k]
+			if side == 1 {
+				o = p.a[k]
+			}
+			d += a * v[o]
+		case OpDiv:
+			d += a / v[p.b[k]]
+		case OpNeg:
+			d -= a
+		}
+		a = d
+	}
+	p.clearShared(t.adj, end)
+	ls := &t.lp
+	ls.begin(p, dst, x)
+	xs, ys := p.srcOf(v, x, xa)[xa:xa+n], p.srcOf(v, x, ya)[ya:ya+n]
+	if a == 0 {
+		// Nothing passes back: the spans stay unwritten, and finish
+		// clears them.
+		v[dk] = sumOrdered(xs, ys)
+	} else {
+		ax, ay := p.adjOf(t.adj, dst, xa)[xa:xa+n], p.adjOf(t.adj, dst, ya)[ya:ya+n]
+		setx := ls.fresh(p, li, 0)
+		sety := ls.fresh(p, li, 1) // false when the same span as x
+		// A finite dot product has finite factors, which an adjoint of at
+		// most 1 in size keeps finite (see loopReverseFast); above 1 the
+		// stores are tested as they are made.
+		small := math.Abs(a) <= 1
+		var fin bool
+		v[dk], fin = dotGrad(xs, ys, ax, ay, a, setx, sety, !small)
+		sure := fin && finite(v[dk])
+		ls.sure(p, li, 0, setx, sure)
+		ls.sure(p, li, 1, sety, sure)
+	}
+	for _, ln := range c.links {
+		if p.step(v, ln.k) {
+			bad = true
+		}
+	}
+	if bad || !finite(v[out]) {
+		f, err := t.gradientNodes(dst, x, i)
+		return f, true, err
+	}
+	ls.done = dk
+	g[out] = 1
+	p.reverseNodes(g, v, t.adj, dst, out, false, ls)
+	ls.done = 0
+	ls.finish(p, dst)
+	t.adjUsed = true
+	p.inputAdjoints(dst, g)
+	f = v[out]
+	if !ls.allFinite(p, dst) {
+		t.reverse(dst, i, true) // every value and adjoint, for reverseError
+		return f, true, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
+	}
+	return f, true, nil
 }
