@@ -713,10 +713,10 @@ func dotGrad(xs, ys, dx, dy []float64, a float64, setx, sety, check bool) (float
 		hi := min(lo+sumBlock, n)
 		switch {
 		case hi-lo == sumBlock && setx && sety && check:
-			var ok bool
-			st[sp], ok = dotStoreFinite((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]),
+			st[sp] = dotStore((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]),
 				(*[sumBlock]float64)(dx[lo:]), (*[sumBlock]float64)(dy[lo:]), a)
-			fin = ok && fin
+			// Tested while the block is in the first-level cache.
+			fin = blockFinite((*[sumBlock]float64)(dx[lo:]), (*[sumBlock]float64)(dy[lo:])) && fin
 		case hi-lo == sumBlock && setx && sety:
 			st[sp] = dotStore((*[sumBlock]float64)(xs[lo:]), (*[sumBlock]float64)(ys[lo:]),
 				(*[sumBlock]float64)(dx[lo:]), (*[sumBlock]float64)(dy[lo:]), a)
@@ -828,35 +828,17 @@ func dotStore(x, y, dx, dy *[sumBlock]float64, a float64) float64 {
 	return (s0 + s1) + (s2 + s3)
 }
 
-// dotStoreFinite is dotStore, which also reports whether every amount it
-// stored is finite (v - v is 0 for a finite v and NaN otherwise, and a NaN
-// survives a sum, as in allFinite).
-func dotStoreFinite(x, y, dx, dy *[sumBlock]float64, a float64) (float64, bool) {
-	s0, s1 := float64(x[0]*y[0]), float64(x[1]*y[1])
-	s2, s3 := float64(x[2]*y[2]), float64(x[3]*y[3])
+// blockFinite reports whether every element of x and y is finite (see
+// allFinite).
+func blockFinite(x, y *[sumBlock]float64) bool {
 	var c0, c1, c2, c3 float64
-	for j := 0; j < sumLanes; j++ {
-		r, q := float64(a*y[j])+0, float64(a*x[j])+0
-		dx[j], dy[j] = r, q
-		c0 += (r - r) + (q - q)
+	for j := 0; j < sumBlock; j += 4 {
+		c0 += (x[j] - x[j]) + (y[j] - y[j])
+		c1 += (x[j+1] - x[j+1]) + (y[j+1] - y[j+1])
+		c2 += (x[j+2] - x[j+2]) + (y[j+2] - y[j+2])
+		c3 += (x[j+3] - x[j+3]) + (y[j+3] - y[j+3])
 	}
-	for j := sumLanes; j < sumBlock; j += 4 {
-		x0, x1, x2, x3 := x[j], x[j+1], x[j+2], x[j+3]
-		y0, y1, y2, y3 := y[j], y[j+1], y[j+2], y[j+3]
-		s0 += float64(x0 * y0)
-		s1 += float64(x1 * y1)
-		s2 += float64(x2 * y2)
-		s3 += float64(x3 * y3)
-		r0, r1, r2, r3 := float64(a*y0)+0, float64(a*y1)+0, float64(a*y2)+0, float64(a*y3)+0
-		q0, q1, q2, q3 := float64(a*x0)+0, float64(a*x1)+0, float64(a*x2)+0, float64(a*x3)+0
-		dx[j], dx[j+1], dx[j+2], dx[j+3] = r0, r1, r2, r3
-		dy[j], dy[j+1], dy[j+2], dy[j+3] = q0, q1, q2, q3
-		c0 += (r0 - r0) + (q0 - q0)
-		c1 += (r1 - r1) + (q1 - q1)
-		c2 += (r2 - r2) + (q2 - q2)
-		c3 += (r3 - r3) + (q3 - q3)
-	}
-	return (s0 + s1) + (s2 + s3), c0+c1+c2+c3 == 0
+	return c0+c1+c2+c3 == 0
 }
 
 // A dot product inside a formula.

@@ -42,6 +42,14 @@ func BenchmarkRollUpDotTimesScalar(b *testing.B) {
 	})
 }
 
+// Σ q c (1 + m), a markup on the roll-up, its factor built after it.
+func BenchmarkRollUpDotTimesMarkup(b *testing.B) {
+	benchRollUp(b, 2, func(bl *tape.Builder, v []tape.Slot, k tape.Slot) tape.Slot {
+		d := bl.Dot(v[0], v[1])
+		return bl.Binary(tape.OpMul, d, bl.Binary(tape.OpAdd, bl.Const(1), k))
+	})
+}
+
 // Σ q c k, a markup on every line.
 func BenchmarkRollUpProductByScalar(b *testing.B) {
 	benchRollUp(b, 2, func(bl *tape.Builder, v []tape.Slot, k tape.Slot) tape.Slot {
