@@ -36,6 +36,10 @@ total = sum(qty * unit_cost)
 // so that a tornado samples inside every quantity's range.
 const Curved = "curved = total + sum((qty - 5) * (qty - 5)) * 1 [$]\n"
 
+// Marked is a formula added to Model for MarkupGradientVsForward: the
+// roll-up inside a formula, a markup on it.
+const Marked = "input markup = 0.12 (0.08..0.15)\nmarked = total * (1 + markup)\n"
+
 // Bench is the loaded benchmark: the table's bytes, the compiled roll-up,
 // the baseline, and the same numbers as plain slices for the Go loop.
 type Bench struct {
@@ -49,6 +53,8 @@ type Bench struct {
 
 	Total *sens.Problem // the problem of total
 	curve *sens.Problem // of curved, compiled on first use (it would weigh on the other benchmarks' garbage collection)
+	mark  *sens.Fn      // marked, compiled on first use
+	mx    []float64     // its baseline
 	out   []float64
 }
 
@@ -188,6 +194,24 @@ func (bn *Bench) SimulateVsForward(b tapebench.B) {
 		_, err := sens.Simulate(bn.Total, &sens.SimulationSettings{N: 40, Seed: 1, Workers: 1})
 		return err
 	}, bn.forwardBatch)
+}
+
+// MarkupGradientVsForward times the gradient of the roll-up with a markup
+// on it (a dot product inside a formula) against its forward evaluation.
+func (bn *Bench) MarkupGradientVsForward(b tapebench.B) {
+	if bn.mark == nil {
+		pm, err := bn.loadModel(Model + Marked)
+		if err == nil {
+			bn.mark, err = pm.Fn("marked")
+		}
+		if err != nil {
+			b.Fatal(err)
+		}
+		bn.mx = pm.Baseline()
+	}
+	g := make([]float64, len(bn.mx))
+	tapebench.Pair(b, 4, 1, "gradient", "forward", func() error { _, err := bn.mark.Gradient(g, bn.mx); return err },
+		func() error { _, err := bn.mark.Eval(bn.mx); return err })
 }
 
 // SpiderVsForward times a spider plot of the roll-up against one batched

@@ -33,6 +33,9 @@ func BenchmarkTornadoVsForward(b *testing.B)  { get(b).TornadoVsForward(b) }
 func BenchmarkCurvedTornado(b *testing.B)     { get(b).CurvedTornadoVsForward(b) }
 func BenchmarkSpiderVsForward(b *testing.B)   { get(b).SpiderVsForward(b) }
 func BenchmarkSimulateVsForward(b *testing.B) { get(b).SimulateVsForward(b) }
+func BenchmarkMarkupGradientVsForward(b *testing.B) {
+	get(b).MarkupGradientVsForward(b)
+}
 
 // The benchmark's model on a small table: the tape agrees with the Go loop
 // (New checks it) and every line's partial derivative is the other factor.

@@ -86,6 +86,37 @@ func TestDotChainAgrees(t *testing.T) {
 	}
 }
 
+// The dot product and the links of its chain may be outputs themselves
+// (a program's tape holds every formula): the gradient of one output
+// sends nothing back from another.
+func TestDotChainOutputs(t *testing.T) {
+	for _, n := range []int{9, 200} {
+		b := NewBuilder()
+		q, c := b.VecInput(n), b.VecInput(n)
+		k, m := b.Input(), b.Input()
+		d := b.Dot(q, c)
+		dk := b.Binary(OpMul, d, k)
+		tp := b.Tape(d, dk, b.Binary(OpAdd, dk, m), b.Binary(OpMul, d, m))
+		for i := range 4 { // d read twice: by d·k and d·m
+			if tp.p.dots != nil && tp.p.dots[i].dot != 0 {
+				t.Errorf("n=%d output %d: one pass with the dot product read twice", n, i)
+			}
+		}
+		one := b.Tape(d, dk, b.Binary(OpAdd, dk, m))
+		for i, want := range []bool{false, true, true} {
+			if got := one.p.dots != nil && one.p.dots[i].dot != 0; got != want {
+				t.Errorf("n=%d, d read once, output %d: one pass %v, want %v", n, i, got, want)
+			}
+		}
+		x := make([]float64, 2*n+2)
+		for j := range x {
+			x[j] = 0.25 + float64((j*13)%29)/3
+		}
+		inPlaceAgrees(t, fmt.Sprintf("n=%d outputs", n), tp, x)
+		inPlaceAgrees(t, fmt.Sprintf("n=%d outputs, d read once", n), one, x)
+	}
+}
+
 // Errors through the one pass are those of the passes over the tape's
 // buffers: a forward domain error off the chain or on it, an output that
 // overflows, and adjoints that overflow only in the gradient, which an

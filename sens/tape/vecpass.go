@@ -877,7 +877,9 @@ type dotChain struct {
 // findDots finds the dot product and chain of each output that has them.
 func (p *tapeProg) findDots() {
 	n := len(p.ops)
-	uses := make([]uint8, n) // reads of each slot, and outputs, up to 255
+	// The reads of each slot by nodes, up to 255. Being an output is not
+	// a use: the gradient of one output sends nothing back from another.
+	uses := make([]uint8, n)
 	use := func(s int32) {
 		if uses[s] < 255 {
 			uses[s]++
@@ -898,9 +900,6 @@ func (p *tapeProg) findDots() {
 			use(p.a[k])
 			use(p.b[k])
 		}
-	}
-	for _, o := range p.outs {
-		use(o)
 	}
 	for i, o := range p.outs {
 		if o < int32(p.start) || p.ops[o] == opLoop || p.ops[o] == opLane {
