@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 )
 
 // A sweep evaluates many points near the base in one pass over the tape,
@@ -50,10 +51,27 @@ type coneSweep struct {
 	entBuf []sweepEntry // the whole arrays under ents and vals (regrow)
 	valBuf []float64
 	owners []int32 // the nodes with lists, in the arena's order
-	count  []int32 // runs an input, while building the inputs' lists
-	at     []int32
-	runAt  []int32 // the first point of each run, and one past the last run's
+	// owners[:nOld] and the arenas up to oldE and oldV outlived the last
+	// compaction, which left fullV values after the last full one.
+	nOld              int
+	oldE, oldV, fullV int32
+	count             []int32 // runs an input, while building the inputs' lists
+	at                []int32
+	runAt             []int32      // the first point of each run, and one past the last run's
+	dense             []sweepDense // the dense nodes' arrays (conedense.go)
+	free              []int32      // the slots of dense not in use
+	dnodes            []int32      // the nodes that were dense in this sweep
 }
+
+// sweepBufs is what a sweep leaves in sweepPool for the next: its arenas
+// (entBuf, valBuf) and dense arrays.
+type sweepBufs struct {
+	ents  []sweepEntry
+	vals  []float64
+	dense []sweepDense
+}
+
+var sweepPool sync.Pool
 
 // sweepSpan is a node's list: entries ents[e0:e1], whose values are
 // vals[v0:v1].
@@ -172,12 +190,28 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		sw.last[out] = math.MaxInt32
 		c.sw = sw
 	}
+	// The arenas and dense arrays of the last sweeps (of any Cones: a
+	// tornado or a spider makes Cones of its own), instead of new ones
+	// grown from nothing, allocated and cleared, each time.
+	if bufs, ok := sweepPool.Get().(*sweepBufs); ok {
+		sw.entBuf, sw.valBuf, sw.dense = bufs.ents, bufs.vals, bufs.dense
+		sw.free = sw.free[:0]
+		for s := range sw.dense {
+			sw.free = append(sw.free, int32(len(sw.dense)-1-s))
+		}
+	}
 	defer func() {
 		for _, k := range sw.owners {
 			sw.has[k>>6] = 0
 		}
-		sw.owners = sw.owners[:0]
-		sw.ents, sw.vals = sw.ents[:0], sw.vals[:0]
+		for _, k := range sw.dnodes {
+			sw.has[k>>6] = 0
+		}
+		sw.owners, sw.dnodes = sw.owners[:0], sw.dnodes[:0]
+		sw.nOld, sw.oldE, sw.oldV, sw.fullV = 0, 0, 0, 0
+		sweepPool.Put(&sweepBufs{ents: sw.entBuf[:0], vals: sw.valBuf[:0], dense: sw.dense})
+		sw.entBuf, sw.valBuf, sw.dense, sw.free = nil, nil, nil, sw.free[:0]
+		sw.ents, sw.vals = nil, nil
 	}()
 
 	// The runs.
@@ -299,8 +333,63 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			return
 		}
 		sa, sb, sz := span()
+		// (A dense operand's span holds nothing of the arena.)
 		m := int(sa.e1 - sa.e0 + sb.e1 - sb.e0 + sz.e1 - sz.e0)
 		mv := int(sa.v1 - sa.v0 + sb.v1 - sb.v0 + sz.v1 - sz.v0)
+		dA, dB, dZ := hasA && sa.isDense(), hasB && sb.isDense(), hasZ && sz.isDense()
+		if op == OpAdd && b != a && (dA || dB || denseShare > 0 && mv*denseShare >= len(dst)) {
+			// A dense sum (conedense.go): in the array of an operand
+			// read last here, else in a free one.
+			o := int32(-1)
+			switch {
+			case dA && sw.last[a] == k:
+				o = sa.slot()
+			case dB && sw.last[b] == k:
+				o = sb.slot()
+			default:
+				o = sw.newSlot(len(dst), runs)
+			}
+			if o >= 0 {
+				od := sw.slotFor(o, len(dst), runs)
+				x0, y0 := base[a], base[b]
+				switch {
+				case dA && dB:
+					od.pts = addDD(od, &sw.dense[sa.slot()], &sw.dense[sb.slot()], runAt)
+				case dA:
+					ad := &sw.dense[sa.slot()]
+					od.pts = ad.pts + addDS(od, ad, ents, vals, sb, runAt, y0, false)
+				case dB:
+					bd := &sw.dense[sb.slot()]
+					od.pts = bd.pts + addDS(od, bd, ents, vals, sa, runAt, x0, true)
+				default:
+					od.pts = addSS(od, ents, vals, sa, sb, runAt, x0, y0, base[k])
+				}
+				if dA || dB {
+					baseOut(od, runAt, x0+y0, base[k])
+				}
+				if dA && sa.slot() != o && sw.last[a] == k {
+					sw.release(sa.slot())
+				}
+				if dB && sb.slot() != o && sw.last[b] == k {
+					sw.release(sb.slot())
+				}
+				sw.span[k] = denseSpan(o)
+				sw.has[k>>6] |= 1 << (k & 63)
+				sw.dnodes = append(sw.dnodes, k)
+				c.coneNodes += od.pts
+				continue
+			}
+		}
+		// Any other operation reads a dense operand as a list: room for
+		// it, and for it again in the node's list.
+		if dA || dB || dZ {
+			for _, q := range [3]int32{a, b, z} {
+				if sw.has[q>>6]>>(q&63)&1 != 0 && sw.span[q].isDense() {
+					em, ev := sw.sparseSize(q)
+					m, mv = m+2*em, mv+2*ev
+				}
+			}
+		}
 		if len(ents)+m > cap(ents) || len(vals)+mv > cap(vals) {
 			sw.ents, sw.vals = ents, vals
 			sw.compact(k)
@@ -309,6 +398,14 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			// Room for twice what is alive, so that compacting stays cheap.
 			ents = regrow(&sw.entBuf, ents, max(m, len(ents)))
 			vals = regrow(&sw.valBuf, vals, max(mv, len(vals)))
+		}
+		if dA || dB || dZ {
+			for _, q := range [3]int32{a, b, z} {
+				if sw.has[q>>6]>>(q&63)&1 != 0 && sw.span[q].isDense() {
+					ents, vals = sw.sparsify(q, ents, vals, runAt)
+				}
+			}
+			sa, sb, sz = span()
 		}
 		sp := sweepSpan{e0: int32(len(ents)), v0: int32(len(vals))}
 		sc := sweepCtx{ents: ents, vals: vals, runAt: runAt, op: op}
@@ -335,23 +432,34 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 	for s := range dst {
 		dst[s] = c.y0
 	}
-	var list []sweepEntry
-	if sw.has[out>>6]>>(out&63)&1 != 0 {
-		list = ents[sw.span[out].e0:sw.span[out].e1]
-	}
-	for _, en := range list {
-		s, e := runAt[en.id], runAt[en.id+1]
-		copy(dst[s:e], vals[en.off:])
-		if en.f&swBad != 0 {
+	outRun := func(s, e int32, v []float64, f uint8, d int8) {
+		copy(dst[s:e], v)
+		if f&swBad != 0 {
 			for q := s; q < e; q++ {
 				dst[q] = math.NaN() // for the scalar pass, below
 			}
 		}
-		if en.f&swRep != 0 {
+		if f&swRep != 0 {
 			i := is[s]
 			c.mono[i] = 1
-			if en.f&swAffine != 0 || en.d != dirUnknown {
+			if f&swAffine != 0 || d != dirUnknown {
 				c.mono[i] = 2
+			}
+		}
+	}
+	if sw.has[out>>6]>>(out&63)&1 != 0 {
+		if sp := sw.span[out]; sp.isDense() {
+			od := &sw.dense[sp.slot()]
+			for r, fl := range od.fl {
+				if fl&swIn != 0 {
+					s, e := runAt[r], runAt[r+1]
+					outRun(s, e, od.v[s:e], fl.f(), fl.d())
+				}
+			}
+		} else {
+			for _, en := range ents[sp.e0:sp.e1] {
+				s, e := runAt[en.id], runAt[en.id+1]
+				outRun(s, e, vals[en.off:], en.f, en.d)
 			}
 		}
 	}
@@ -396,11 +504,23 @@ func regrow[T any](buf *[]T, s []T, extra int) []T {
 
 // compact drops the lists that no node from k on reads, moving the others
 // down in place (their order in the arenas is that of owners).
+//
+// The lists that outlived a compaction (owners[:nOld], the arenas up to
+// oldE and oldV) are left where they are, dead or alive, until they take
+// twice the room they did after the last full compaction: compacting
+// only the lists written since, most of them dead by then, each value
+// is copied about once, where copying everything alive each time copied
+// the long-lived lists (the inputs', the line items' waiting for their
+// sum) at every compaction, as many values as the sweep wrote.
 func (sw *coneSweep) compact(k int32) {
 	ents, vals := sw.ents, sw.vals
-	e, v := int32(0), int32(0)
-	keep := sw.owners[:0]
-	for _, q := range sw.owners {
+	full := sw.oldV > 2*sw.fullV
+	from, e, v := sw.nOld, sw.oldE, sw.oldV
+	if full {
+		from, e, v = 0, 0, 0
+	}
+	keep := sw.owners[:from]
+	for _, q := range sw.owners[from:] {
 		if sw.last[q] < k {
 			sw.has[q>>6] &^= 1 << (q & 63)
 			continue
@@ -420,6 +540,10 @@ func (sw *coneSweep) compact(k int32) {
 	}
 	sw.owners = keep
 	sw.ents, sw.vals = ents[:e], vals[:v]
+	sw.nOld, sw.oldE, sw.oldV = len(keep), e, v
+	if full {
+		sw.fullV = v
+	}
 }
 
 // sweepCtx appends a node's list to the arenas.
