@@ -51,16 +51,21 @@ type coneSweep struct {
 	entBuf []sweepEntry // the whole arrays under ents and vals (regrow)
 	valBuf []float64
 	owners []int32 // the nodes with lists, in the arena's order
+	count  []int32 // runs an input, while building the inputs' lists
+	at     []int32
+	runAt  []int32      // the first point of each run, and one past the last run's
+	dense  []sweepDense // the dense nodes' arrays (conedense.go)
+	free   []int32      // the slots of dense not in use
+	dnodes []int32      // the nodes that were dense in this sweep
+
 	// owners[:nOld] and the arenas up to oldE and oldV outlived the last
 	// compaction, which left fullV values after the last full one.
 	nOld              int
 	oldE, oldV, fullV int32
-	count             []int32 // runs an input, while building the inputs' lists
-	at                []int32
-	runAt             []int32      // the first point of each run, and one past the last run's
-	dense             []sweepDense // the dense nodes' arrays (conedense.go)
-	free              []int32      // the slots of dense not in use
-	dnodes            []int32      // the nodes that were dense in this sweep
+
+	// The dense nodes made, and read as lists, all sweeps together (for
+	// the tests).
+	denseMade, sparsified int
 }
 
 // sweepBufs is what a sweep leaves in sweepPool for the next: its arenas
@@ -376,6 +381,7 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 				sw.span[k] = denseSpan(o)
 				sw.has[k>>6] |= 1 << (k & 63)
 				sw.dnodes = append(sw.dnodes, k)
+				sw.denseMade++
 				c.coneNodes += od.pts
 				continue
 			}
@@ -403,6 +409,7 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			for _, q := range [3]int32{a, b, z} {
 				if sw.has[q>>6]>>(q&63)&1 != 0 && sw.span[q].isDense() {
 					ents, vals = sw.sparsify(q, ents, vals, runAt)
+					sw.sparsified++
 				}
 			}
 			sa, sb, sz = span()
