@@ -69,11 +69,17 @@ type coneSweep struct {
 }
 
 // sweepBufs is what a sweep leaves in sweepPool for the next: its arenas
-// (entBuf, valBuf) and dense arrays.
+// (entBuf, valBuf), dense arrays, spans and bits (has: all clear), and
+// last, which is that of output lastOut of program lastOf.
 type sweepBufs struct {
-	ents  []sweepEntry
-	vals  []float64
-	dense []sweepDense
+	ents    []sweepEntry
+	vals    []float64
+	dense   []sweepDense
+	span    []sweepSpan
+	has     []uint64
+	last    []int32
+	lastOf  *tapeProg
+	lastOut int32
 }
 
 var sweepPool sync.Pool
@@ -175,36 +181,50 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 	n := len(c.needed)
 	sw := c.sw
 	if sw == nil {
-		sw = &coneSweep{
-			span:  make([]sweepSpan, n),
-			has:   make([]uint64, (n+63)/64),
-			last:  make([]int32, n),
-			count: make([]int32, p.nIn),
-			at:    make([]int32, p.nIn),
+		sw = &coneSweep{count: make([]int32, p.nIn), at: make([]int32, p.nIn)}
+		c.sw = sw
+	}
+	// The arrays of the last sweeps (of any Cones: a tornado or a spider
+	// makes Cones of its own), instead of new ones allocated and cleared
+	// each time, the arenas grown from nothing: the arenas, the dense
+	// arrays, the nodes' spans and bits, and their last readers, still
+	// valid for the same output of the same program.
+	bufs, _ := sweepPool.Get().(*sweepBufs)
+	if bufs == nil {
+		bufs = &sweepBufs{}
+	}
+	sw.entBuf, sw.valBuf, sw.dense = bufs.ents, bufs.vals, bufs.dense
+	sw.free = sw.free[:0]
+	for s := range sw.dense {
+		sw.free = append(sw.free, int32(len(sw.dense)-1-s))
+	}
+	if cap(bufs.span) < n {
+		bufs.span = make([]sweepSpan, n)
+	}
+	if cap(bufs.has) < (n+63)/64 {
+		bufs.has = make([]uint64, (n+63)/64) // clear between sweeps
+	}
+	sw.span, sw.has = bufs.span[:n], bufs.has[:(n+63)/64]
+	if bufs.lastOf != p || bufs.lastOut != out || cap(bufs.last) < n {
+		if cap(bufs.last) < n {
+			bufs.last = make([]int32, n)
 		}
+		last := bufs.last[:n]
+		clear(last)
 		for k := p.start; k < n; k++ {
 			if op := p.ops[k]; !c.needed[k] || op == opArg {
 				continue
 			}
-			sw.last[p.a[k]] = int32(k)
-			sw.last[p.b[k]] = int32(k)
+			last[p.a[k]] = int32(k)
+			last[p.b[k]] = int32(k)
 			if p.ops[k].Arity() == 3 {
-				sw.last[p.a[k+1]] = int32(k)
+				last[p.a[k+1]] = int32(k)
 			}
 		}
-		sw.last[out] = math.MaxInt32
-		c.sw = sw
+		last[out] = math.MaxInt32
+		bufs.lastOf, bufs.lastOut = p, out
 	}
-	// The arenas and dense arrays of the last sweeps (of any Cones: a
-	// tornado or a spider makes Cones of its own), instead of new ones
-	// grown from nothing, allocated and cleared, each time.
-	if bufs, ok := sweepPool.Get().(*sweepBufs); ok {
-		sw.entBuf, sw.valBuf, sw.dense = bufs.ents, bufs.vals, bufs.dense
-		sw.free = sw.free[:0]
-		for s := range sw.dense {
-			sw.free = append(sw.free, int32(len(sw.dense)-1-s))
-		}
-	}
+	sw.last = bufs.last[:n]
 	defer func() {
 		for _, k := range sw.owners {
 			sw.has[k>>6] = 0
@@ -214,9 +234,11 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		}
 		sw.owners, sw.dnodes = sw.owners[:0], sw.dnodes[:0]
 		sw.nOld, sw.oldE, sw.oldV, sw.fullV = 0, 0, 0, 0
-		sweepPool.Put(&sweepBufs{ents: sw.entBuf[:0], vals: sw.valBuf[:0], dense: sw.dense})
+		bufs.ents, bufs.vals, bufs.dense = sw.entBuf[:0], sw.valBuf[:0], sw.dense
+		sweepPool.Put(bufs)
 		sw.entBuf, sw.valBuf, sw.dense, sw.free = nil, nil, nil, sw.free[:0]
 		sw.ents, sw.vals = nil, nil
+		sw.span, sw.has, sw.last = nil, nil, nil
 	}()
 
 	// The runs.
