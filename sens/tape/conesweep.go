@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"sync"
 )
 
 // A sweep evaluates many points near the base in one pass over the tape,
@@ -68,7 +67,7 @@ type coneSweep struct {
 	denseMade, sparsified int
 }
 
-// sweepBufs is what a sweep leaves in sweepPool for the next: its arenas
+// sweepBufs is what a sweep leaves in its program for the next: its arenas
 // (entBuf, valBuf), dense arrays, spans and bits (has: all clear), and
 // last, which is that of output lastOut of program lastOf.
 type sweepBufs struct {
@@ -81,8 +80,6 @@ type sweepBufs struct {
 	lastOf  *tapeProg
 	lastOut int32
 }
-
-var sweepPool sync.Pool
 
 // sweepSpan is a node's list: entries ents[e0:e1], whose values are
 // vals[v0:v1].
@@ -184,12 +181,14 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		sw = &coneSweep{count: make([]int32, p.nIn), at: make([]int32, p.nIn)}
 		c.sw = sw
 	}
-	// The arrays of the last sweeps (of any Cones: a tornado or a spider
-	// makes Cones of its own), instead of new ones allocated and cleared
-	// each time, the arenas grown from nothing: the arenas, the dense
-	// arrays, the nodes' spans and bits, and their last readers, still
-	// valid for the same output of the same program.
-	bufs, _ := sweepPool.Get().(*sweepBufs)
+	// The arrays of the last sweep of the program (of any Cones: a
+	// tornado or a spider makes Cones of its own), instead of new ones
+	// allocated and cleared each time, the arenas grown from nothing: the
+	// arenas, the dense arrays, the nodes' spans and bits, and their last
+	// readers, still valid for the same output. (Not a sync.Pool, which
+	// each garbage collection empties: a tornado's allocations start
+	// one or two.)
+	bufs := p.sweeps.Swap(nil)
 	if bufs == nil {
 		bufs = &sweepBufs{}
 	}
@@ -235,7 +234,7 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		sw.owners, sw.dnodes = sw.owners[:0], sw.dnodes[:0]
 		sw.nOld, sw.oldE, sw.oldV, sw.fullV = 0, 0, 0, 0
 		bufs.ents, bufs.vals, bufs.dense = sw.entBuf[:0], sw.valBuf[:0], sw.dense
-		sweepPool.Put(bufs)
+		p.sweeps.Store(bufs)
 		sw.entBuf, sw.valBuf, sw.dense, sw.free = nil, nil, nil, sw.free[:0]
 		sw.ents, sw.vals = nil, nil
 		sw.span, sw.has, sw.last = nil, nil, nil

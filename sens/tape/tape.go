@@ -1,6 +1,9 @@
 package tape
 
-import "sync"
+import (
+	"sync"
+	"sync/atomic"
+)
 
 // tapeProg is the immutable program of a Tape, shared by its clones.
 //
@@ -39,6 +42,9 @@ type tapeProg struct {
 	canPlan  bool       // see plannable
 	sc       scalarCode // the scalar pass's code
 	rc       revChain   // the kinds of the long tape's reverse pass (reverse.go)
+	// sweeps holds the arrays of the last sweep of a Cones of this
+	// program (conesweep.go), for the next, whichever Cones makes it.
+	sweeps atomic.Pointer[sweepBufs]
 }
 
 // Tape is a compiled computation: a flat list of operations in
