@@ -77,6 +77,10 @@ type sweepDense struct {
 // 1/denseShare of the batch's points (0: never). A variable, for the tests.
 var denseShare = 4
 
+// denseRuns is the fewest runs of a batch with dense nodes: a small batch
+// gains nothing by them. A variable, for the tests.
+var denseRuns = 256
+
 // denseBudget bounds the values of the dense arrays alive at once: 16 MB,
 // so at most denseBudget/points arrays (denseSlots). A variable, for the
 // tests.

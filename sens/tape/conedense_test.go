@@ -60,8 +60,10 @@ func TestEvalPointsDense(t *testing.T) {
 	const nIn = 6
 	g := &rgen{rng: rand.New(rand.NewPCG(13, 65)), nIn: nIn}
 	rng := rand.New(rand.NewPCG(17, 3))
-	defer func(c, a, d, b int) { sweepCost, sweepArena, denseShare, denseBudget = c, a, d, b }(sweepCost, sweepArena, denseShare, denseBudget)
-	sweepCost = 1 << 30
+	defer func(c, a, d, b, r int) {
+		sweepCost, sweepArena, denseShare, denseBudget, denseRuns = c, a, d, b, r
+	}(sweepCost, sweepArena, denseShare, denseBudget, denseRuns)
+	sweepCost, denseRuns = 1<<30, 0
 	var failing, made, sparsified, mono int
 	for f := 0; f < 1500; f++ {
 		tp := denseSum(g, 4+rng.IntN(16)).tape(nIn, int32(f))

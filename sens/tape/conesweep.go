@@ -363,7 +363,7 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 		m := int(sa.e1 - sa.e0 + sb.e1 - sb.e0 + sz.e1 - sz.e0)
 		mv := int(sa.v1 - sa.v0 + sb.v1 - sb.v0 + sz.v1 - sz.v0)
 		dA, dB, dZ := hasA && sa.isDense(), hasB && sb.isDense(), hasZ && sz.isDense()
-		if op == OpAdd && b != a && (dA || dB || denseShare > 0 && mv*denseShare >= len(dst)) {
+		if op == OpAdd && b != a && (dA || dB || denseShare > 0 && runs >= denseRuns && mv*denseShare >= len(dst)) {
 			// A dense sum (conedense.go): in the array of an operand
 			// read last here, else in a free one.
 			o := int32(-1)
