@@ -444,6 +444,8 @@ func (c *Cones) sweep(dst []float64, is []int32, vi []float64, js []int32, vj []
 			sc.one(sa)
 		case op == OpAdd:
 			sc.add(sa, sb, base[a], base[b])
+		case op == OpMul:
+			sc.mul(sa, sb, base[a], base[b])
 		default:
 			sc.two(sa, sb, base[a], base[b])
 		}
@@ -793,6 +795,64 @@ func (sc *sweepCtx) add(sa, sb sweepSpan, x0, y0 float64) {
 		e := sweepEntry{off: off, id: eb.id, f: eb.f}
 		if e.f&swRep != 0 {
 			e.d = dirBoth(0, eb.d)
+		}
+		ents = append(ents, e)
+	}
+	sc.ents, sc.vals = ents, vals
+}
+
+// mul is two for OpMul (the line items' products), as add is for OpAdd:
+// the same products, and the direction of rep inline (opDirection: the
+// direction times the other operand's base value where one operand is in
+// the cone, unknown and not affine where both are).
+func (sc *sweepCtx) mul(sa, sb sweepSpan, x0, y0 float64) {
+	ents, vals, runAt := sc.ents, sc.vals, sc.runAt
+	pa, pb := sa.e0, sb.e0
+	for pa < sa.e1 || pb < sb.e1 {
+		var e sweepEntry
+		off := int32(len(vals))
+		switch {
+		case pb == sb.e1 || pa < sa.e1 && ents[pa].id < ents[pb].id:
+			ea := ents[pa]
+			pa++
+			w := runAt[ea.id+1] - runAt[ea.id]
+			vals = vals[:off+w]
+			v, x := vals[off:off+w], vals[ea.off:ea.off+w]
+			for l := range v {
+				v[l] = x[l] * y0
+			}
+			e = sweepEntry{off: off, id: ea.id, f: ea.f}
+			if e.f&swRep != 0 {
+				e.d = dirTimes(ea.d, y0)
+			}
+		case pa == sa.e1 || ents[pb].id < ents[pa].id:
+			eb := ents[pb]
+			pb++
+			w := runAt[eb.id+1] - runAt[eb.id]
+			vals = vals[:off+w]
+			v, y := vals[off:off+w], vals[eb.off:eb.off+w]
+			for l := range v {
+				v[l] = x0 * y[l]
+			}
+			e = sweepEntry{off: off, id: eb.id, f: eb.f}
+			if e.f&swRep != 0 {
+				e.d = dirTimes(eb.d, x0)
+			}
+		default:
+			ea, eb := ents[pa], ents[pb]
+			pa++
+			pb++
+			w := runAt[ea.id+1] - runAt[ea.id]
+			vals = vals[:off+w]
+			v, x, y := vals[off:off+w], vals[ea.off:ea.off+w], vals[eb.off:eb.off+w]
+			for l := range v {
+				v[l] = x[l] * y[l]
+			}
+			e = sweepEntry{off: off, id: ea.id, f: ea.f | eb.f}
+			if e.f&swRep != 0 {
+				e.d = dirUnknown
+				e.f &^= swAffine
+			}
 		}
 		ents = append(ents, e)
 	}
