@@ -3,6 +3,7 @@ package tape
 import (
 	"fmt"
 	"math"
+	"runtime"
 )
 
 // Slot names a value under construction in a Builder: an input, a
@@ -361,6 +362,17 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 	// back while the tape is made; a Builder used again refills it.
 	b.cse = cseTable{}
 	nb := len(b.nodes)
+	if nb >= gcBeforeTape {
+		// The garbage of the build (the table just released, a caller's
+		// working set such as the compiler's names' entries) is taken
+		// back now, so that the tape, the largest allocation, reuses its
+		// memory instead of growing the heap to the collector's next
+		// goal: at 10^6 formula lines (3.4 million nodes) the peak RSS of
+		// parse and compile fell from 1.42–1.47 to 1.36–1.37 million KB,
+		// for a compile / parse ratio of 2.23–2.80 instead of 2.35–2.53
+		// (quiet machine, runs alternated).
+		runtime.GC()
+	}
 	live := make([]bool, nb)
 	for _, o := range outputs {
 		b.checkSlot(o)
@@ -453,3 +465,10 @@ func (b *Builder) Tape(outputs ...Slot) *Tape {
 	p.findSpans()
 	return &Tape{p: p, vals: vals, adj: make([]float64, n)}
 }
+
+// gcBeforeTape is the number of builder nodes from which Tape runs the
+// collector before it allocates the tape: 2^21 (about 600,000 formula
+// lines); below it the collection's cost is a larger part of the build
+// and the peak far from any limit, and the collector's pacing is left
+// alone.
+const gcBeforeTape = 1 << 21
