@@ -3,7 +3,6 @@ package tape
 import (
 	"math"
 	"math/rand/v2"
-	"slices"
 	"testing"
 )
 
@@ -71,27 +70,7 @@ func TestEvalPointsDense(t *testing.T) {
 		for i := range x0 {
 			x0[i] = math.Round((rng.Float64()*6-3)*100) / 100
 		}
-		var is, js []int32
-		var vi, vj []float64
-		var pts [][]float64
-		for range 2 + rng.IntN(30) {
-			i := int32(rng.IntN(nIn+1)) - 1
-			j := int32(-1)
-			if i >= 0 && rng.IntN(4) == 0 {
-				j = (i + 1 + int32(rng.IntN(nIn-1))) % nIn
-			}
-			for range 1 + rng.IntN(3) {
-				x := slices.Clone(x0)
-				a, b := math.Round((rng.Float64()*12-6)*100)/100, math.Round((rng.Float64()*12-6)*100)/100
-				if i >= 0 {
-					x[i] = a
-				}
-				if j >= 0 {
-					x[j] = b
-				}
-				is, js, vi, vj, pts = append(is, i), append(js, j), append(vi, a), append(vj, b), append(pts, x)
-			}
-		}
+		is, js, vi, vj, pts := randomRuns(rng, x0, 2+rng.IntN(30), 4, 3)
 		want, bad, wantErr := evalRef(tp, pts, 0)
 		if bad >= 0 {
 			failing++

@@ -25,27 +25,7 @@ func TestEvalPointsAgreesWithTape(t *testing.T) {
 			x0[i] = math.Round((rng.Float64()*6-3)*100) / 100
 		}
 		// Runs of points, as the one-at-a-time analyses make them.
-		var is, js []int32
-		var vi, vj []float64
-		var pts [][]float64
-		for range 24 {
-			i := int32(rng.IntN(nIn+1)) - 1
-			j := int32(-1)
-			if i >= 0 && rng.IntN(3) == 0 {
-				j = (i + 1 + int32(rng.IntN(nIn-1))) % nIn
-			}
-			for range 1 + rng.IntN(4) {
-				x := slices.Clone(x0)
-				a, b := math.Round((rng.Float64()*12-6)*100)/100, math.Round((rng.Float64()*12-6)*100)/100
-				if i >= 0 {
-					x[i] = a
-				}
-				if j >= 0 {
-					x[j] = b
-				}
-				is, js, vi, vj, pts = append(is, i), append(js, j), append(vi, a), append(vj, b), append(pts, x)
-			}
-		}
+		is, js, vi, vj, pts := randomRuns(rng, x0, 24, 3, 4)
 		want, bad, wantErr := evalRef(tp, pts, 0)
 		// Every other batch drops lists no node reads again after every
 		// few entries.
@@ -207,4 +187,31 @@ func TestCodeAfterRebaseAndStep(t *testing.T) {
 	if tested < 300 {
 		t.Errorf("%d formulas tested: too few", tested)
 	}
+}
+
+// randomRuns makes runs of points near x0 (runs of them; input j set
+// beside input i in one run of jOneIn; up to maxRun points a run), as the
+// one-at-a-time analyses make them: the arguments of EvalPoints, and each
+// point whole for the reference pass.
+func randomRuns(rng *rand.Rand, x0 []float64, runs, jOneIn, maxRun int) (is, js []int32, vi, vj []float64, pts [][]float64) {
+	nIn := len(x0)
+	for range runs {
+		i := int32(rng.IntN(nIn+1)) - 1
+		j := int32(-1)
+		if i >= 0 && rng.IntN(jOneIn) == 0 {
+			j = (i + 1 + int32(rng.IntN(nIn-1))) % int32(nIn)
+		}
+		for range 1 + rng.IntN(maxRun) {
+			x := slices.Clone(x0)
+			a, b := math.Round((rng.Float64()*12-6)*100)/100, math.Round((rng.Float64()*12-6)*100)/100
+			if i >= 0 {
+				x[i] = a
+			}
+			if j >= 0 {
+				x[j] = b
+			}
+			is, js, vi, vj, pts = append(is, i), append(js, j), append(vi, a), append(vj, b), append(pts, x)
+		}
+	}
+	return is, js, vi, vj, pts
 }

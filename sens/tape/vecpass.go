@@ -795,15 +795,7 @@ func (t *Tape) gradientDot(dst, x []float64, i int) (f float64, ok bool, err err
 	ls.sure(p, li, 0, setx, sure)
 	ls.sure(p, li, 1, sety, sure)
 	p.reverseNodes(g, v, t.adj, dst, out, false, ls) // g[out] is 0: the output is done
-	ls.finish(p, dst)
-	t.adjUsed = true
-	p.inputAdjoints(dst, g)
-	f = v[out]
-	if !ls.allFinite(p, dst) {
-		t.reverse(dst, i, true) // every value and adjoint, for reverseError
-		return f, true, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
-	}
-	return f, true, nil
+	return t.finishOnePass(ls, dst, g, v, i, out)
 }
 
 // dotStore is dotFull of a block, which also stores a*y[j] + 0 in dx[j] and
@@ -1069,10 +1061,20 @@ func (t *Tape) gradientChain(dst, x []float64, i int) (f float64, ok bool, err e
 	g[out] = 1
 	p.reverseNodes(g, v, t.adj, dst, out, false, ls)
 	ls.done = 0
+	return t.finishOnePass(ls, dst, g, v, i, out)
+}
+
+// finishOnePass ends a gradient of output i whose reverse pass has run
+// with the loop pass ls (gradientDot, gradientChain): the direct inputs'
+// adjoints finished in dst, the others copied there from g, and the
+// output's value v[out] returned, or the error of the pass as Gradient
+// reports it when an adjoint is not finite.
+func (t *Tape) finishOnePass(ls *loopPass, dst, g, v []float64, i, out int) (float64, bool, error) {
+	p := t.p
 	ls.finish(p, dst)
 	t.adjUsed = true
 	p.inputAdjoints(dst, g)
-	f = v[out]
+	f := v[out]
 	if !ls.allFinite(p, dst) {
 		t.reverse(dst, i, true) // every value and adjoint, for reverseError
 		return f, true, t.reverseError(i, t.vals, t.adj, 1, 0, -1)
