@@ -37,17 +37,20 @@ gotest:
 race:
 	go test -count=1 -race ./kernel/... ./sens/... ./plotting/
 
+# Fuzz budgets are counts of executions, not durations: a duration's deadline
+# can race the workers and fail with "context deadline exceeded" and no
+# failing input under load (a known race in Go's fuzzing coordinator, Go 1.26).
 fuzz:
-	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=15s ./sens/syntax/
-	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=10s ./sens/unit/
-	go test -run='^$$' -fuzz='^FuzzCompile$$' -fuzztime=15s ./sens/
-	go test -run='^$$' -fuzz='^FuzzExecute$$' -fuzztime=15s ./kernel/
-	go test -run='^$$' -fuzz='^FuzzReadMsg$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
-	go test -run='^$$' -fuzz='^FuzzHandshake$$' -fuzztime=10s ./kernel/jupyter/internal/zsock/
-	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=10s ./kernel/jupyter/
-	go test -run='^$$' -fuzz='^FuzzReadTable$$' -fuzztime=10s ./sens/
-	go test -run='^$$' -fuzz='^FuzzRead$$' -fuzztime=10s ./kernel/notebook/
-	go test -run='^$$' -fuzz='^FuzzEvalPaths$$' -fuzztime=15s ./sens/tape/
+	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=250000x ./sens/syntax/
+	go test -run='^$$' -fuzz='^FuzzParse$$' -fuzztime=500000x ./sens/unit/
+	go test -run='^$$' -fuzz='^FuzzCompile$$' -fuzztime=150000x ./sens/
+	go test -run='^$$' -fuzz='^FuzzExecute$$' -fuzztime=60000x ./kernel/
+	go test -run='^$$' -fuzz='^FuzzReadMsg$$' -fuzztime=500000x ./kernel/jupyter/internal/zsock/
+	go test -run='^$$' -fuzz='^FuzzHandshake$$' -fuzztime=400000x ./kernel/jupyter/internal/zsock/
+	go test -run='^$$' -fuzz='^FuzzParseMessage$$' -fuzztime=500000x ./kernel/jupyter/
+	go test -run='^$$' -fuzz='^FuzzReadTable$$' -fuzztime=200000x ./sens/
+	go test -run='^$$' -fuzz='^FuzzRead$$' -fuzztime=100000x ./kernel/notebook/
+	go test -run='^$$' -fuzz='^FuzzEvalPaths$$' -fuzztime=50000x ./sens/tape/
 
 $(JP)/share/jupyter/kernels/nudge/kernel.json: build
 	rm -rf $(JP) && $(BIN) install --prefix $(JP)
