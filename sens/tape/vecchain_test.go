@@ -157,11 +157,7 @@ func TestDotChainErrors(t *testing.T) {
 		if tp.p.dots == nil {
 			t.Errorf("%s: no one pass", m.name)
 		}
-		x := make([]float64, 2*n+1)
-		for j := range x {
-			x[j] = 1 + float64(j%13)
-		}
-		x[2*n] = 2.5
+		x := rollUpPoint(n, 2.5)
 		m.set(x)
 		inPlaceAgrees(t, m.name, tp, x)
 		_, err := tp.Gradient(make([]float64, len(x)), x, 0)

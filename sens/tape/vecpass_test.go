@@ -218,11 +218,7 @@ func TestInPlaceErrors(t *testing.T) {
 		b := NewBuilder()
 		q, c, k := b.VecInput(n), b.VecInput(n), b.Input()
 		tp := b.Tape(m.out(b, q, c, k))
-		x := make([]float64, 2*n+1)
-		for j := range x {
-			x[j] = 1 + float64(j%13)
-		}
-		x[2*n] = 0.5
+		x := rollUpPoint(n, 0.5)
 		m.set(x)
 		inPlaceAgrees(t, m.name, tp, x)
 		_, err := tp.Gradient(make([]float64, len(x)), x, 0)
@@ -281,4 +277,15 @@ func TestInPlaceShapes(t *testing.T) {
 	if tp := b.Tape(outs[9]); tp.p.fuse != nil {
 		t.Error("a map read twice is fused into one of its readers")
 	}
+}
+
+// rollUpPoint is the point of the roll-up error tests: q and c (n elements
+// each) of 1 to 13, and k.
+func rollUpPoint(n int, k float64) []float64 {
+	x := make([]float64, 2*n+1)
+	for j := range x {
+		x[j] = 1 + float64(j%13)
+	}
+	x[2*n] = k
+	return x
 }
